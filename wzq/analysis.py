@@ -1,0 +1,483 @@
+"""``analyse(plan) -> Result``: the engine's one entry point.
+
+Steps, all pure and vectorised:
+
+1. a time grid: every demand interval boundary, every hour, every closure
+   start and end (so demand, capacity and the day/night term are constant on
+   each interval);
+2. capacity per interval from the site and the closure in force
+   (:mod:`wzq.capacity`), a user override winning over every model;
+3. the exact deterministic queue with the capacity drop (:mod:`wzq.queueing`);
+4. queue length by shockwave analysis (:mod:`wzq.shockwave`) on the chosen
+   fundamental diagram (:mod:`wzq.flow`);
+5. delay: queueing delay (area between the cumulative curves) plus the extra
+   travel time through the work zone at its lower free-flow speed;
+6. per-hour table, checks against the thresholds, summary and warnings.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass, field
+from functools import cached_property
+
+import numpy as np
+import pandas as pd
+
+from wzq import capacity as cap
+from wzq.flow import FundamentalDiagram, make_diagram
+from wzq.plan import Closure, Plan, Site
+from wzq.queueing import QueueRun, solve, waits
+from wzq.shockwave import stored_density
+from wzq.units import FOOT, HOUR, MILE, MPH, per_mile_to_per_m
+
+#: HCM 7th ed. default jam density, pc/mi/ln (ch. 25; range 150-270).
+JAM_DENSITY_PC_MI_LN = 190.0
+#: Default free-flow speed above the speed limit, mi/h (HCM 7th ed. ch. 12).
+FFS_ABOVE_LIMIT_MPH = 5.0
+#: Consecutive hours of demand above capacity that earn a warning
+#: (common practice, no source).
+LONG_OVERLOAD_HOURS = 6
+
+
+@dataclass(frozen=True)
+class SiteModel:
+    """Values derived once from the site: speeds, factors, diagram."""
+
+    ffs: float  # m/s
+    heavy_factor: float
+    driver_factor: float
+    base_pc_h_ln: float
+    jam_density: float  # veh/m/ln
+    diagram: FundamentalDiagram
+
+    @property
+    def base_veh_h_ln(self) -> float:
+        return self.base_pc_h_ln * self.heavy_factor * self.driver_factor
+
+
+def site_model(site: Site, diagram: str = "triangular") -> SiteModel:
+    """Free-flow speed, heavy-vehicle and driver factors, base capacity and diagram."""
+    ffs = site.free_flow_speed
+    if ffs is None:
+        ffs = site.speed_limit + FFS_ABOVE_LIMIT_MPH * MPH
+    f_hv = cap.heavy_vehicle_factor(site.heavy_vehicle_share, cap.pce_trucks(site.terrain))
+    f_p = cap.driver_population_factor(site.driver_population)
+    base = site.base_capacity_pc_h_ln or cap.basic_freeway_capacity(ffs / MPH)
+    k_j = site.jam_density
+    if k_j is None:
+        k_j = per_mile_to_per_m(JAM_DENSITY_PC_MI_LN) * f_hv
+    c_ln = base * f_hv * f_p / HOUR  # veh/s/ln
+    if diagram == "triangular":
+        fd = make_diagram("triangular", free_speed=ffs, jam_density=k_j, capacity=c_ln)
+    elif diagram == "greenshields":
+        fd = make_diagram("greenshields", free_speed=ffs, jam_density=k_j)
+    else:
+        fd = make_diagram(
+            "capped-greenshields",
+            free_speed=ffs,
+            jam_density=k_j,
+            speed_cap=min(site.work_zone_speed_limit, ffs),
+        )
+    return SiteModel(ffs, f_hv, f_p, base, k_j, fd)
+
+
+def closure_capacity(
+    site: Site, model: SiteModel, closure: Closure | None, night: bool
+) -> cap.CapacityPair:
+    """Pre-breakdown and queue-discharge capacity (veh/h, all open lanes)."""
+    common = dict(
+        n_normal=site.lanes,
+        ffs_mph=model.ffs / MPH,
+        heavy_share=site.heavy_vehicle_share,
+        terrain=site.terrain,
+        driver_population=site.driver_population,
+        rural=site.area_type == "rural",
+        lateral_ft=site.lateral_clearance / FOOT,
+        night=night,
+        alpha_wz_pct=site.capacity_drop_pct_work_zone,
+        alpha_open_pct=site.capacity_drop_pct_open,
+        work_intensity_pc_h_ln=site.work_intensity_pc_h_ln,
+        ramp_adjustment_pc_h_ln=site.ramp_adjustment_pc_h_ln,
+        base_capacity_pc_h_ln=site.base_capacity_pc_h_ln,
+    )
+    open_road = cap.section_capacity(method="open", n_open=site.lanes, soft_barrier=False, **common)
+    if closure is None:
+        return open_road
+    pair = cap.section_capacity(
+        method=site.capacity_method,
+        n_open=site.lanes - closure.lanes_closed,
+        soft_barrier=closure.barrier == "soft",
+        override_veh_h_ln=closure.capacity_override_veh_h_ln,
+        **common,
+    )
+    if closure.capacity_override_veh_h_ln is not None:
+        return pair  # the user's value wins over every model
+    # a closure never gives more than the open road (e.g. a shoulder closure
+    # behind a hard barrier, whose HCM discharge rate can exceed the open road's)
+    return cap.CapacityPair(
+        min(pair.prebreakdown_veh_h, open_road.prebreakdown_veh_h),
+        min(pair.discharge_veh_h, open_road.discharge_veh_h),
+    )
+
+
+def work_zone_speed(site: Site, model: SiteModel, closure: Closure, night: bool) -> float:
+    """Free-flow speed through the work zone (m/s).
+
+    HCM 6th/7th ed. ch. 10 work-zone free-flow speed equation for the ``hcm7``
+    method; for ``hcm2000`` the work-zone speed limit + 5 mi/h (the HCM's
+    default free-flow speed rule applied to the work-zone limit; common
+    practice), never above the normal free-flow speed.
+    """
+    ffs_mph = model.ffs / MPH
+    if site.capacity_method == "hcm7":
+        n_open = site.lanes - closure.lanes_closed
+        v = cap.work_zone_free_flow_speed(
+            speed_limit_ratio=site.speed_limit / site.work_zone_speed_limit,
+            wz_speed_limit_mph=site.work_zone_speed_limit / MPH,
+            lcsi=cap.lane_closure_severity_index(site.lanes, n_open),
+            soft_barrier=closure.barrier == "soft",
+            night=night,
+            ramp_density_per_mi=site.ramp_density * MILE,
+            ffs_cap_mph=ffs_mph,
+        )
+    else:
+        v = min(ffs_mph, site.work_zone_speed_limit / MPH + FFS_ABOVE_LIMIT_MPH)
+    return max(v, 1.0) * MPH
+
+
+@dataclass(frozen=True)
+class Run:
+    """The engine's arrays on the time grid (``m`` intervals, ``m+1`` boundaries).
+
+    Times are seconds from the start of the demand; flows veh/h; queue in
+    vehicles; lengths metres; delays vehicle-seconds.
+    """
+
+    plan: Plan
+    model: SiteModel
+    t: np.ndarray
+    closure: np.ndarray  # index into plan.closures, -1 when open
+    lanes_open: np.ndarray
+    demand_veh_h: np.ndarray
+    prebreakdown_veh_h: np.ndarray
+    discharge_veh_h: np.ndarray
+    queue: QueueRun
+    length_start: np.ndarray
+    length_end: np.ndarray
+    work_zone_delay: np.ndarray
+
+    @property
+    def duration(self) -> np.ndarray:
+        return np.diff(self.t)
+
+    def clock(self, seconds: np.ndarray | float) -> pd.DatetimeIndex:
+        return pd.Timestamp(self.plan.demand.start) + pd.to_timedelta(seconds, unit="s")
+
+
+def _grid(plan: Plan) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Boundaries (s), closure index and demand index of each interval."""
+    d = plan.demand
+    n = len(d.flows_veh_h)
+    total = n * d.interval_s
+    parts = [np.arange(n + 1, dtype=float) * d.interval_s]
+    if d.interval_s != HOUR:
+        parts.append(np.arange(0.0, total + 1, HOUR))
+    starts = np.array([(c.start - d.start).total_seconds() for c in plan.closures], dtype=float)
+    ends = np.array([(c.end - d.start).total_seconds() for c in plan.closures], dtype=float)
+    if len(starts):
+        parts += [starts, ends]
+    t = np.unique(np.concatenate(parts)) if len(parts) > 1 else parts[0]
+    mid = 0.5 * (t[:-1] + t[1:])
+    demand_index = np.minimum((mid // d.interval_s).astype(np.int64), n - 1)
+    closure_index = np.full(len(mid), -1, dtype=np.int64)
+    if len(starts):
+        order = np.argsort(starts)
+        j = np.searchsorted(starts[order], mid, side="right") - 1
+        ok = j >= 0
+        cand = order[np.maximum(j, 0)]
+        inside = ok & (mid < ends[cand])
+        closure_index = np.where(inside, cand, -1)
+    return t, closure_index, demand_index
+
+
+def queue_state_discharge(run: QueueRun, discharge: np.ndarray) -> np.ndarray:
+    """The discharge flow that sets the queued state's density on each interval.
+
+    Within one busy period (from the instant a queue forms until it clears) the
+    queued vehicles keep the density of the most restrictive discharge since
+    the queue formed: when the closure ends and capacity returns, vehicles
+    already queued do not spread out at once, so the single-state length must
+    not jump. This is the conservative reading of the single-state relation;
+    the true extent after a change of state follows the waves.
+    """
+    busy = run.busy > 0
+    if not busy.any():
+        return discharge
+    new = busy & (run.queue[:-1] == 0)
+    group = np.cumsum(new | ~busy)
+    offset = float(discharge.max()) + 1.0
+    shifted = np.where(busy, discharge, 0.0) - offset * group
+    running = np.minimum.accumulate(shifted) + offset * group
+    return np.where(busy, running, discharge)
+
+
+def evaluate(plan: Plan) -> Run:
+    """The engine's core: capacity, queue, lengths and delays as arrays."""
+    site = plan.site
+    model = site_model(site, plan.options.diagram)
+    t, ci, di = _grid(plan)
+    dur = np.diff(t)
+    lam = plan.demand.flows_veh_h[di]
+    start_hour = plan.demand.start.hour
+    hour_of_day = ((start_hour * HOUR + t[:-1]) // HOUR).astype(np.int64) % 24
+    clock_night = (hour_of_day >= 19) | (hour_of_day < 6)
+    pre = np.empty(len(dur))
+    qdr = np.empty(len(dur))
+    extra = np.zeros(len(dur))  # extra seconds per vehicle through the work zone
+    lanes_open = np.full(len(dur), site.lanes, dtype=np.int64)
+    keys = np.where(clock_night, 1, 0) + 2 * (ci + 1)
+    for key in np.unique(keys):
+        sel = keys == key
+        idx = int(key) // 2 - 1
+        closure = plan.closures[idx] if idx >= 0 else None
+        night = bool(key % 2) if closure is None or closure.night is None else closure.night
+        pair = closure_capacity(site, model, closure, night)
+        pre[sel] = pair.prebreakdown_veh_h
+        qdr[sel] = pair.discharge_veh_h
+        if closure is not None:
+            lanes_open[sel] = site.lanes - closure.lanes_closed
+            v_wz = work_zone_speed(site, model, closure, night)
+            length = site.work_zone_length
+            extra[sel] = max(length / v_wz - length / model.ffs, 0.0)
+    if not plan.options.capacity_drop:
+        qdr = pre.copy()
+    run = solve(dur, lam / HOUR, pre / HOUR, qdr / HOUR)
+    stored = stored_density(model.diagram, lam, queue_state_discharge(run, qdr), site.lanes)
+    length_start = run.queue[:-1] / stored
+    length_end = run.queue[1:] / stored
+    wz_delay = run.departures * extra
+    return Run(
+        plan, model, t, ci, lanes_open, lam, pre, qdr, run, length_start, length_end, wz_delay
+    )
+
+
+@dataclass(frozen=True)
+class Summary:
+    """Headline figures of a run (SI; times as local clock)."""
+
+    max_queue_length_m: float
+    max_queue_length_at: dt.datetime | None
+    max_queue_veh: float
+    max_queue_veh_at: dt.datetime | None
+    total_delay_veh_h: float
+    queue_delay_veh_h: float
+    work_zone_delay_veh_h: float
+    vehicles_affected: float
+    max_average_delay_min: float
+    max_queue_wait_min: float
+    last_queue_clears: dt.datetime | None
+    queue_at_end_veh: float
+    hours_failing: tuple[dt.datetime, ...]
+    total_cost: float | None = None
+
+
+@dataclass
+class Result:
+    """What :func:`analyse` returns: arrays, per-hour table, summary, warnings."""
+
+    run: Run
+    warnings: list[str] = field(default_factory=list)
+
+    @property
+    def plan(self) -> Plan:
+        return self.run.plan
+
+    @cached_property
+    def intervals(self) -> pd.DataFrame:
+        """One row per interval of the exact solution (for cumulative-curve charts)."""
+        r = self.run
+        q = r.queue
+        return pd.DataFrame(
+            {
+                "start": r.clock(r.t[:-1]),
+                "end": r.clock(r.t[1:]),
+                "lanes_open": r.lanes_open,
+                "demand_veh_h": r.demand_veh_h,
+                "capacity_veh_h": r.prebreakdown_veh_h,
+                "discharge_veh_h": r.discharge_veh_h,
+                "queue_start_veh": q.queue[:-1],
+                "queue_end_veh": q.queue[1:],
+                "queue_length_start_m": r.length_start,
+                "queue_length_end_m": r.length_end,
+                "arrivals_cum_veh": q.arrivals_cum[1:],
+                "departures_cum_veh": q.departures_cum[1:],
+                "delay_veh_h": (q.delay + r.work_zone_delay) / HOUR,
+            }
+        )
+
+    @cached_property
+    def hourly(self) -> pd.DataFrame:
+        """The tidy per-hour table every writer reuses (units in column names)."""
+        return hourly_table(self.run)
+
+    @cached_property
+    def summary(self) -> Summary:
+        return summarise(self.run, self.hourly)
+
+
+def hourly_table(r: Run) -> pd.DataFrame:
+    """Per-hour demand, capacity, queue, length, delay and threshold checks."""
+    q = r.queue
+    dur = r.duration
+    n_hours = round(r.t[-1] / HOUR)
+    bounds = np.arange(n_hours + 1) * HOUR
+    first = np.searchsorted(r.t, bounds[:-1])
+    last_b = np.searchsorted(r.t, bounds[1:])
+
+    def total(x: np.ndarray) -> np.ndarray:
+        return np.add.reduceat(x, first)
+
+    arrivals = total(q.arrivals)
+    departures = total(q.departures)
+    capacity = total(r.prebreakdown_veh_h * dur) / HOUR
+    discharge = total(r.discharge_veh_h * dur) / HOUR
+    qmax = np.maximum.reduceat(np.maximum(q.queue[:-1], q.queue[1:]), first)
+    lmax = np.maximum.reduceat(np.maximum(r.length_start, r.length_end), first)
+    queue_delay = total(q.delay) / HOUR
+    wz_delay = total(r.work_zone_delay) / HOUR
+    delay = queue_delay + wz_delay
+    with np.errstate(divide="ignore", invalid="ignore"):
+        avg = np.where(arrivals > 0, delay * 60.0 / arrivals, 0.0)
+        dc = np.where(capacity > 0, arrivals / capacity, np.nan)
+    cand, w = waits(q)
+    hour_of = np.clip((cand // HOUR).astype(np.int64), 0, n_hours - 1)
+    wfirst = np.searchsorted(hour_of, np.arange(n_hours))
+    max_wait = np.maximum.reduceat(w, wfirst) / 60.0
+    closed = np.maximum.reduceat((r.closure >= 0).astype(np.int8), first).astype(bool)
+    df = pd.DataFrame(
+        {
+            "hour_start": r.clock(bounds[:-1]),
+            "lanes_open": np.minimum.reduceat(r.lanes_open, first),
+            "closure": closed,
+            "demand_veh_h": arrivals,
+            "capacity_veh_h": capacity,
+            "discharge_veh_h": discharge,
+            "demand_capacity": dc,
+            "arrivals_veh": arrivals,
+            "departures_veh": departures,
+            "queue_end_veh": q.queue[last_b],
+            "queue_max_veh": qmax,
+            "queue_length_max_m": lmax,
+            "queue_delay_veh_h": queue_delay,
+            "work_zone_delay_veh_h": wz_delay,
+            "delay_veh_h": delay,
+            "average_delay_min": avg,
+            "max_queue_wait_min": max_wait,
+        }
+    )
+    th = r.plan.thresholds
+    checks = []
+    if th.max_queue_length is not None:
+        df["queue_ok"] = lmax <= th.max_queue_length + 1e-9
+        checks.append(("queue_ok", "queue length"))
+    if th.max_average_delay is not None:
+        df["delay_ok"] = avg * 60.0 <= th.max_average_delay + 1e-9
+        checks.append(("delay_ok", "delay"))
+    if th.max_demand_capacity is not None:
+        df["demand_capacity_ok"] = ~closed | (dc <= th.max_demand_capacity + 1e-12)
+        checks.append(("demand_capacity_ok", "demand/capacity"))
+    failing = (
+        [
+            ", ".join(label for col, label in checks if not row[col])
+            for row in df[[c for c, _ in checks]].to_dict("records")
+        ]
+        if checks
+        else [""] * n_hours
+    )
+    df["status"] = ["ok" if not f else f"over limit: {f}" for f in failing]
+    return df
+
+
+def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
+    """Maximum queue and when, totals, last clearance, failing hours."""
+    q = r.queue
+    lengths = np.concatenate((r.length_start, r.length_end))
+    times = np.concatenate((r.t[:-1], r.t[1:]))
+    i = int(np.argmax(lengths)) if len(lengths) else 0
+    lmax = float(lengths[i]) if len(lengths) else 0.0
+    j = int(np.argmax(q.queue))
+    clears = q.clear_times()
+    last_clear = None
+    if len(clears) and q.queue[-1] == 0:
+        last_clear = _clock(r, float(clears.max()))
+    failing = tuple(
+        ts.to_pydatetime()
+        for ts, s in zip(hourly["hour_start"], hourly["status"], strict=True)
+        if s != "ok"
+    )
+    qd = float(q.delay.sum()) / HOUR
+    wd = float(r.work_zone_delay.sum()) / HOUR
+    return Summary(
+        max_queue_length_m=lmax,
+        max_queue_length_at=_clock(r, times[i]) if lmax > 0 else None,
+        max_queue_veh=float(q.queue[j]),
+        max_queue_veh_at=_clock(r, r.t[j]) if q.queue[j] > 0 else None,
+        total_delay_veh_h=qd + wd,
+        queue_delay_veh_h=qd,
+        work_zone_delay_veh_h=wd,
+        vehicles_affected=float((q.arrival_rate * q.busy).sum()),
+        max_average_delay_min=float(hourly["average_delay_min"].max()),
+        max_queue_wait_min=float(hourly["max_queue_wait_min"].max()),
+        last_queue_clears=last_clear,
+        queue_at_end_veh=float(q.queue[-1]),
+        hours_failing=failing,
+    )
+
+
+def _clock(r: Run, seconds: float) -> dt.datetime:
+    return r.plan.demand.start + dt.timedelta(seconds=round(float(seconds), 3))
+
+
+def _warnings(r: Run) -> list[str]:
+    out: list[str] = []
+    site = r.plan.site
+    open_cap = r.model.base_veh_h_ln * site.lanes
+    over_road = r.demand_veh_h > open_cap * (1 + 1e-9)
+    if over_road.any():
+        first = _clock(r, r.t[:-1][over_road][0])
+        out.append(
+            f"demand exceeds the open road's own capacity ({open_cap:,.0f} veh/h) from "
+            f"{first:%Y-%m-%d %H:%M}; part of that queue is not caused by the closure"
+        )
+    over = r.demand_veh_h > r.prebreakdown_veh_h
+    if over.any():
+        dur = r.duration
+        run_len = 0.0
+        longest = 0.0
+        for o, d in zip(over, dur, strict=True):
+            run_len = run_len + d if o else 0.0
+            longest = max(longest, run_len)
+        if longest >= LONG_OVERLOAD_HOURS * HOUR:
+            out.append(
+                f"demand is above capacity for {longest / HOUR:.1f} hours in a row; "
+                "deterministic queueing is least reliable for such long overloads"
+            )
+    if r.queue.queue[-1] > 0:
+        out.append(
+            f"a queue of {r.queue.queue[-1]:,.0f} vehicles still stands at the end of the "
+            "demand data; extend the demand to see it clear"
+        )
+    for i, c in enumerate(r.plan.closures):
+        if site.lanes - c.lanes_closed == 1 and site.terrain != "level":
+            out.append(
+                f"closure {i + 1} leaves one lane open on {site.terrain} terrain; the HCM "
+                "work-zone model advises caution for one open lane on upgrades"
+            )
+    return out
+
+
+def analyse(plan: Plan) -> Result:
+    """Analyse a plan: capacity, exact queue, queue length and delay, hour by hour."""
+    run = evaluate(plan)
+    return Result(run, _warnings(run))

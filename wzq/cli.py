@@ -1,0 +1,193 @@
+"""The ``wzq`` command.
+
+Exit status: 0 done, 2 the input needs fixing (every problem is listed, one per
+line, with where it is), 1 an unexpected failure (please report it).
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from collections.abc import Callable, Sequence
+from importlib import resources
+from pathlib import Path
+
+import pandas as pd
+
+import wzq
+from wzq.analysis import Result
+from wzq.plan import Plan, PlanError
+from wzq.planio import load_plan
+from wzq.tables import hourly_display, summary_lines
+
+EXIT_OK = 0
+EXIT_FAILURE = 1
+EXIT_INPUT = 2
+
+DEMO_PLAN = "kestrel_ridge_weeknight.json"
+
+DESCRIPTION = """\
+Work-zone queue calculator. For a lane-closure plan (site, hourly demand,
+closure schedule) it computes work-zone capacity from the Highway Capacity
+Manual, the exact deterministic queue carried from hour to hour, the physical
+queue length by shockwave analysis, and the delay, hour by hour, and checks
+each hour against the agency's limits.
+
+Start with `wzq demo` to see an invented example analysed.
+"""
+
+EPILOG = f"""\
+exit status: 0 done, 2 the input needs fixing, 1 unexpected failure.
+
+{wzq.CAUTION}
+"""
+
+
+def demo_plan() -> Plan:
+    """The shipped invented example (a weeknight closure on a fictional parkway)."""
+    ref = resources.files("wzq") / "data" / DEMO_PLAN
+    with resources.as_file(ref) as path:
+        return load_plan(path)
+
+
+def load_any(path: Path) -> Plan:
+    """A plan from a JSON file (workbooks are read by :mod:`wzq.workbook`)."""
+    if not path.exists():
+        raise PlanError(f"no such file; check the path: {path}", where=str(path))
+    if path.suffix.lower() == ".json":
+        return load_plan(path)
+    from wzq.workbook.reader import read_plan  # imported late: openpyxl is slow to import
+
+    return read_plan(path)
+
+
+def print_result(result: Result, *, all_hours: bool = False, out=None) -> None:
+    """A readable report of a result on the terminal."""
+    out = out or sys.stdout
+    plan = result.plan
+    title = plan.meta.title or plan.site.name or "Lane-closure plan"
+    print(title, file=out)
+    if plan.site.name and plan.meta.title:
+        print(f"{plan.site.name}, {plan.site.direction}".rstrip(", "), file=out)
+    print("", file=out)
+    width = max(len(k) for k, _ in summary_lines(result))
+    for label, text in summary_lines(result):
+        print(f"  {label:<{width}}  {text}", file=out)
+    print("", file=out)
+    table = hourly_display(result)
+    h = result.hourly
+    if not all_hours:
+        keep = h["closure"] | (h["queue_max_veh"] > 0) | (h["status"] != "ok")
+        hidden = int((~keep).sum())
+        table = table[keep.to_numpy()]
+    else:
+        hidden = 0
+    with pd.option_context(
+        "display.width", 250, "display.max_columns", 40, "display.max_rows", 100_000
+    ):
+        print(table.to_string(index=False), file=out)
+    if hidden:
+        print(
+            f"\n  ({hidden} open-road hours without a queue not shown; --all-hours shows them)",
+            file=out,
+        )
+    for w in result.warnings:
+        print(f"\nwarning: {w}", file=out)
+    print(f"\n{wzq.CAUTION}", file=out)
+
+
+def cmd_demo(args: argparse.Namespace) -> int:
+    result = wzq.analyse(demo_plan())
+    print_result(result, all_hours=args.all_hours)
+    return EXIT_OK
+
+
+def cmd_show(args: argparse.Namespace) -> int:
+    plan = load_any(Path(args.path))
+    print_result(wzq.analyse(plan), all_hours=args.all_hours)
+    return EXIT_OK
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="wzq",
+        description=DESCRIPTION,
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument("--version", action="version", version=f"wzq {wzq.__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+
+    p = sub.add_parser(
+        "demo",
+        help="analyse the shipped invented example and print the hourly table",
+        description="Analyse the shipped invented example (a two-night closure on the "
+        "fictional Kestrel Ridge Parkway) and print the summary and hourly table.",
+    )
+    p.add_argument(
+        "--all-hours",
+        action="store_true",
+        help="show every hour, not only closure hours and hours with a queue",
+    )
+    p.set_defaults(func=cmd_demo)
+
+    p = sub.add_parser(
+        "show",
+        help="analyse a plan (JSON or workbook) and print the result, writing nothing",
+        description="Analyse a plan and print the summary and the hourly table. "
+        "Nothing is written.",
+    )
+    p.add_argument("path", help="a .json plan or a .xlsx/.xlsm workbook")
+    p.add_argument("--all-hours", action="store_true", help="show every hour")
+    p.set_defaults(func=cmd_show)
+    for register in EXTRA_COMMANDS:
+        register(sub)
+    return parser
+
+
+#: Modules that add sub-commands (each appends a ``register(sub)`` function to
+#: :data:`EXTRA_COMMANDS` when imported); a module not yet present is skipped.
+EXTRA_MODULES = (
+    "wzq.workbook.commands",
+    "wzq.windows_cli",
+    "wzq.report_cli",
+    "wzq.batch_cli",
+    "wzq.lwr_cli",
+)
+#: Other modules add their sub-commands here (workbook, batch, report ...).
+EXTRA_COMMANDS: list[Callable[[argparse._SubParsersAction], None]] = []
+
+
+def _load_extras() -> None:
+    for name in EXTRA_MODULES:
+        try:
+            __import__(name)
+        except ModuleNotFoundError as e:
+            if e.name != name:
+                raise
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    _load_extras()
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "func", None):
+        parser.print_help()
+        return EXIT_INPUT
+    try:
+        return int(args.func(args))
+    except PlanError as e:
+        for p in e.problems:
+            print(f"wzq: {p}", file=sys.stderr)
+        n = len(e.problems)
+        print(
+            f"wzq: {n} problem{'s' if n != 1 else ''} to fix; nothing was written", file=sys.stderr
+        )
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("wzq: interrupted; nothing was written", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,98 @@
+"""Display tables: the per-hour table in the plan's own units, rounded as shown.
+
+The workbook writer, the printed report, the command line and the bulk
+summary all show these same numbers, so the rounding lives here once.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass
+
+import pandas as pd
+
+from wzq import units as u
+from wzq.analysis import Result
+
+
+@dataclass(frozen=True)
+class Column:
+    """One displayed column: header, source column, scale, decimals."""
+
+    header: str
+    source: str
+    decimals: int
+    scale: float = 1.0
+
+
+def hourly_columns(system: u.UnitSystem) -> list[Column]:
+    """The permit table's columns, in the unit system of the plan."""
+    long_name, long_m = u.LONG_LENGTH[system]
+    return [
+        Column("Lanes open", "lanes_open", 0),
+        Column("Demand (veh/h)", "demand_veh_h", 0),
+        Column("Capacity (veh/h)", "capacity_veh_h", 0),
+        Column("Demand / capacity", "demand_capacity", 2),
+        Column("Queue at end of hour (veh)", "queue_end_veh", 0),
+        Column("Longest queue (veh)", "queue_max_veh", 0),
+        Column(f"Longest queue ({long_name})", "queue_length_max_m", 2, 1.0 / long_m),
+        Column("Delay (veh-h)", "delay_veh_h", 1),
+        Column("Average delay (min/veh)", "average_delay_min", 1),
+        Column("Longest wait in queue (min)", "max_queue_wait_min", 1),
+    ]
+
+
+def hour_label(t: dt.datetime | pd.Timestamp) -> str:
+    """``Mon 2027-05-03 21:00``."""
+    return pd.Timestamp(t).strftime("%a %Y-%m-%d %H:%M")
+
+
+def rounded(value: float, decimals: int) -> float | int:
+    """Round half away from zero as a person would (not banker's rounding)."""
+    if pd.isna(value):
+        return value
+    q = 10**decimals
+    x = abs(float(value)) * q + 0.5 + 1e-9
+    r = int(x) / q
+    r = r if value >= 0 else -r
+    return int(r) if decimals == 0 else r
+
+
+def hourly_display(result: Result) -> pd.DataFrame:
+    """The per-hour table with display headers, plan units and display rounding."""
+    system = result.plan.site.unit_system
+    h = result.hourly
+    out = pd.DataFrame({"Hour": [hour_label(t) for t in h["hour_start"]]})
+    for col in hourly_columns(system):
+        out[col.header] = [rounded(v * col.scale, col.decimals) for v in h[col.source]]
+    out["Status"] = h["status"].to_numpy()
+    return out
+
+
+def summary_lines(result: Result) -> list[tuple[str, str]]:
+    """Headline figures as (label, text) pairs in the plan's units."""
+    s = result.summary
+    system = result.plan.site.unit_system
+    long_name, long_m = u.LONG_LENGTH[system]
+    when = lambda t: "-" if t is None else hour_label(t)[:-5] + f"{t:%H:%M}"  # noqa: E731
+    lines = [
+        (
+            "Longest queue",
+            f"{s.max_queue_length_m / long_m:,.2f} {long_name} "
+            f"({s.max_queue_veh:,.0f} veh), at {when(s.max_queue_length_at)}",
+        ),
+        (
+            "Total delay",
+            f"{s.total_delay_veh_h:,.1f} veh-h "
+            f"(queue {s.queue_delay_veh_h:,.1f}, work zone {s.work_zone_delay_veh_h:,.1f})",
+        ),
+        ("Highest hourly average delay", f"{s.max_average_delay_min:,.1f} min/veh"),
+        ("Vehicles that met a queue", f"{s.vehicles_affected:,.0f}"),
+        ("Last queue clears", when(s.last_queue_clears)),
+        ("Hours over a limit", str(len(s.hours_failing))),
+    ]
+    if s.total_cost is not None:
+        lines.insert(
+            2, ("Road-user delay cost", f"{s.total_cost:,.0f} {result.plan.costs.currency}")
+        )
+    return lines
