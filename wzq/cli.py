@@ -149,6 +149,7 @@ def build_parser() -> argparse.ArgumentParser:
 #: :data:`EXTRA_COMMANDS` when imported); a module not yet present is skipped.
 EXTRA_MODULES = (
     "wzq.workbook.commands",
+    "wzq.workbook.run",
     "wzq.windows_cli",
     "wzq.report_cli",
     "wzq.batch_cli",

@@ -281,7 +281,7 @@ def _greenshields_roots(
     """
     q_max = GREENSHIELDS_CAPACITY_FACTOR * free_speed * jam_density
     s = np.sqrt(np.maximum(0.0, 1.0 - q / q_max))
-    free = 2.01 * q / (free_speed * (1.0 + s))
+    free = 2.0 * q / (free_speed * (1.0 + s))
     congested = GREENSHIELDS_CRITICAL_FRACTION * jam_density * (1.0 + s)
     return free, congested
 
@@ -473,7 +473,7 @@ class CappedGreenshields(FundamentalDiagram):
         """``v_f k_j/4`` when ``u' >= v_f/2``, else ``u' k_b`` (veh/s/ln)."""
         if self.kink_density <= GREENSHIELDS_CRITICAL_FRACTION * self.jam_density:
             return GREENSHIELDS_CAPACITY_FACTOR * self.free_speed * self.jam_density
-        return self.effective_cap * self.kink_density
+        return GREENSHIELDS_CAPACITY_FACTOR * self.free_speed * self.jam_density
 
     def _flow(self, k: FloatArray) -> FloatArray:
         return k * self._speed(k)
