@@ -250,6 +250,8 @@ def test_capped_at_or_above_free_speed_is_plain_greenshields() -> None:
     k = np.linspace(0.0, 0.12, 49)
     for cap in (24.0, 30.0):
         d = CappedGreenshields(free_speed=24.0, jam_density=0.12, speed_cap=cap)
+        assert d.kink_density == 0.0
+        assert d.effective_cap == 24.0
         np.testing.assert_allclose(d.flow(k), GS.flow(k), rtol=1e-12, atol=1e-15)
         np.testing.assert_allclose(d.wave_speed(k), GS.wave_speed(k), rtol=1e-12, atol=1e-12)
         np.testing.assert_allclose(d.speed(k), GS.speed(k), rtol=1e-12, atol=1e-12)

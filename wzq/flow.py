@@ -473,7 +473,7 @@ class CappedGreenshields(FundamentalDiagram):
         """``v_f k_j/4`` when ``u' >= v_f/2``, else ``u' k_b`` (veh/s/ln)."""
         if self.kink_density <= GREENSHIELDS_CRITICAL_FRACTION * self.jam_density:
             return GREENSHIELDS_CAPACITY_FACTOR * self.free_speed * self.jam_density
-        return GREENSHIELDS_CAPACITY_FACTOR * self.free_speed * self.jam_density
+        return self.effective_cap * self.kink_density
 
     def _flow(self, k: FloatArray) -> FloatArray:
         return k * self._speed(k)
