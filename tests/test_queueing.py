@@ -1,0 +1,187 @@
+"""Exact deterministic queueing against the closed-form D/D/1 results.
+
+Source of the closed forms: the deterministic queueing analysis of the
+traffic-engineering textbooks (e.g. Mannering & Washburn, *Principles of
+Highway Engineering and Traffic Analysis*, chapter on queueing models; May,
+*Traffic Flow Fundamentals*, 1990, ch. 11 — from memory): for constant demand
+lambda above a reduced capacity mu_r for a time T, followed by capacity mu,
+the maximum queue is (lambda - mu_r) T, it clears after t_c = Q / (mu - lambda),
+the total delay is Q (T + t_c) / 2 and lambda (T + t_c) vehicles meet the queue.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from wzq.queueing import queue_at_boundaries, solve, waits
+
+H = 3600.0
+
+
+def hours(*xs: float) -> np.ndarray:
+    return np.array(xs, dtype=float) * H
+
+
+def per_h(*xs: float) -> np.ndarray:
+    return np.array(xs, dtype=float) / H
+
+
+def test_single_reduction_closed_form() -> None:
+    # textbook D/D/1: lambda 3000, mu_r 2000 for T = 2 h, then mu 4000 veh/h
+    lam, mu_r, mu, T = 3000.0, 2000.0, 4000.0, 2.0
+    run = solve(hours(T, 4.0), per_h(lam, lam), per_h(mu_r, mu))
+    q_max = (lam - mu_r) * T
+    t_c = q_max / (mu - lam)
+    assert run.queue[1] == pytest.approx(q_max)
+    assert run.queue[2] == 0.0
+    assert run.clear_times() / H == pytest.approx([T + t_c])
+    assert run.total_delay / H == pytest.approx(q_max * (T + t_c) / 2)
+    assert (run.arrival_rate * run.busy).sum() == pytest.approx(lam * (T + t_c))
+
+
+def test_two_reductions_of_different_severity() -> None:
+    # two successive reduced-capacity periods: mu1 2500 for 1 h, mu2 2000 for 2 h,
+    # then 4000; queue 500 after 1 h, 500 + 2 x 1000 = 2500 after 3 h,
+    # clears 2500 / 1000 = 2.5 h later. Delay: trapezoids 0.5*500*1 +
+    # 0.5*(500+2500)*2 + 0.5*2500*2.5 (hand arithmetic, same textbook model).
+    run = solve(hours(1, 2, 5), per_h(3000, 3000, 3000), per_h(2500, 2000, 4000))
+    assert run.queue == pytest.approx([0, 500, 2500, 0])
+    assert run.clear_times() / H == pytest.approx([3 + 2.5])
+    assert run.total_delay / H == pytest.approx(0.5 * 500 + 0.5 * 3000 * 2 + 0.5 * 2500 * 2.5)
+
+
+def test_queue_clears_inside_an_interval_at_the_exact_instant() -> None:
+    # 1000 vehicles queued at t=0 discharge at 1800 - 1000 = 800 veh/h net:
+    # clear at 1.25 h, inside a 3-hour interval; delay 0.5 * 1000 * 1.25
+    run = solve(hours(3), per_h(1000), per_h(1800), q0=1000.0)
+    assert run.clear_times() / H == pytest.approx([1.25])
+    assert run.busy[0] / H == pytest.approx(1.25)
+    assert run.total_delay / H == pytest.approx(625.0)
+    assert run.departures[0] == pytest.approx(3000 + 1000)
+
+
+def test_fifo_wait_is_the_horizontal_distance_between_the_curves() -> None:
+    # lambda 3000 over mu_r 2000 for 2 h then 4000: a vehicle arriving at t
+    # (t <= 4/3 h) leaves at 1.5 t (wait 0.5 t); after, at 2 + (3000 t - 4000)/4000.
+    # The longest wait is at t = 4/3 h: 2/3 h (hand arithmetic on the textbook curves).
+    run = solve(hours(2, 4), per_h(3000, 3000), per_h(2000, 4000))
+    t, w = waits(run)
+    assert w.max() / H == pytest.approx(2 / 3)
+    assert t[np.argmax(w)] / H == pytest.approx(4 / 3)
+
+
+def test_capacity_drop_queue_starts_only_above_prebreakdown() -> None:
+    # HCM 7th ed. ch. 10: before breakdown up to the pre-breakdown capacity,
+    # after it the queue discharge rate. pre 2000, discharge 1900 veh/h.
+    pre, qdr = np.full(5, 2000.0), np.full(5, 1900.0)
+    # 1950 veh/h alone never breaks down (below 2000) ...
+    q = queue_at_boundaries(hours(1, 1, 1, 1, 1), per_h(1950, 1950, 1950, 1950, 1950),
+                            per_h(*pre), per_h(*qdr))  # fmt: skip
+    assert np.all(q == 0)
+    # ... but after a breakdown at 2100, the queue keeps growing at 1950 - 1900
+    q = queue_at_boundaries(hours(1, 1, 1, 1, 1), per_h(2100, 1950, 1950, 1800, 1000),
+                            per_h(*pre), per_h(*qdr))  # fmt: skip
+    assert q == pytest.approx([0, 200, 250, 300, 200, 0])
+
+
+def test_capacity_drop_hysteresis_over_several_runs() -> None:
+    # alternating: a run of 1950 with no queue stays empty; a breakdown later
+    # turns the next 1950 run into growth. Hand arithmetic with the same rule.
+    lam = [1950, 1950, 2100, 1950, 1000, 1950, 2050, 1950, 1950, 500]
+    q = queue_at_boundaries(np.full(10, H), per_h(*lam), np.full(10, 2000 / H),
+                            np.full(10, 1900 / H))  # fmt: skip
+    expect = [0, 0, 0, 200, 250, 0, 0, 150, 200, 250, 0]
+    assert q == pytest.approx(expect)
+
+
+rates = st.floats(min_value=0.0, max_value=6000.0, allow_nan=False)
+
+
+@st.composite
+def schedules(draw):
+    n = draw(st.integers(min_value=1, max_value=12))
+    dur = np.array(draw(st.lists(st.floats(0.05, 3.0), min_size=n, max_size=n))) * H
+    lam = np.array(draw(st.lists(rates, min_size=n, max_size=n))) / H
+    pre = np.array(draw(st.lists(st.floats(500.0, 6000.0), min_size=n, max_size=n))) / H
+    drop = np.array(draw(st.lists(st.floats(0.0, 0.2), min_size=n, max_size=n)))
+    q0 = draw(st.floats(0.0, 500.0))
+    return dur, lam, pre, pre * (1 - drop), q0
+
+
+@settings(max_examples=300, deadline=None)
+@given(schedules())
+def test_properties_conservation_and_nonnegative(s) -> None:
+    dur, lam, pre, qdr, q0 = s
+    run = solve(dur, lam, pre, qdr, q0=q0)
+    # vehicles are conserved: arrived (incl. the initial queue) = served + still queued
+    assert q0 + run.arrivals.sum() == pytest.approx(run.departures.sum() + run.queue[-1])
+    assert np.all(run.queue >= 0)
+    assert np.all(run.delay >= -1e-9)
+    # departures never exceed the discharge rate while queued, nor arrivals + queue
+    assert np.all(run.departures <= np.maximum(pre, qdr) * dur + run.queue[:-1] + 1e-6)
+
+
+@settings(max_examples=300, deadline=None)
+@given(schedules())
+def test_property_no_queue_when_demand_within_capacity(s) -> None:
+    dur, lam, pre, qdr, _ = s
+    lam = np.minimum(lam, pre)
+    run = solve(dur, lam, pre, qdr)
+    assert np.all(run.queue == 0)
+    assert run.total_delay == 0
+
+
+@settings(max_examples=300, deadline=None)
+@given(schedules(), st.floats(0.3, 1.0))
+def test_property_lower_capacity_never_shortens_queue_or_delay(s, f) -> None:
+    dur, lam, pre, qdr, q0 = s
+    a = solve(dur, lam, pre, qdr, q0=q0)
+    b = solve(dur, lam, pre * f, qdr * f, q0=q0)
+    assert np.all(b.queue >= a.queue - 1e-6)
+    assert b.total_delay >= a.total_delay - 1e-6
+
+
+@settings(max_examples=300, deadline=None)
+@given(schedules(), st.integers(2, 5))
+def test_property_splitting_intervals_changes_nothing(s, k) -> None:
+    dur, lam, pre, qdr, q0 = s
+    a = solve(dur, lam, pre, qdr, q0=q0)
+    b = solve(np.repeat(dur / k, k), np.repeat(lam, k), np.repeat(pre, k), np.repeat(qdr, k),
+              q0=q0)  # fmt: skip
+    assert b.queue[::k] == pytest.approx(a.queue, abs=1e-6)
+    assert b.total_delay == pytest.approx(a.total_delay, rel=1e-9, abs=1e-6)
+    assert b.busy.sum() == pytest.approx(a.busy.sum(), abs=1e-6)
+
+
+def minute_loop(dur, lam, pre, qdr, q0=0.0, step=1.0):
+    """A plain fixed-step loop, the obvious way to do it, for comparison only."""
+    q, delay = q0, 0.0
+    out = [q]
+    for d, a, p, m in zip(dur, lam, pre, qdr, strict=True):
+        n = round(d / step)
+        for _ in range(n):
+            rate = m if q > 0 else p
+            served = min(q + a * step, rate * step)
+            q_new = q + a * step - served
+            if q > 0 and q_new <= 0 and a * step > 0:
+                q_new = 0.0
+            delay += 0.5 * (q + q_new) * step
+            q = q_new
+        out.append(q)
+    return np.array(out), delay
+
+
+@settings(max_examples=40, deadline=None)
+@given(schedules())
+def test_agrees_with_a_one_second_loop(s) -> None:
+    dur, lam, pre, qdr, q0 = s
+    dur = np.round(dur / 60) * 60 + 60  # whole minutes for the loop
+    run = solve(dur, lam, pre, qdr, q0=q0)
+    q, delay = minute_loop(dur, lam, pre, qdr, q0, step=1.0)
+    # a 1-s step loses at most one step's worth of flow per interval change
+    tol = 1.0 * max(pre.max(), lam.max()) * (len(dur) + 1)
+    assert q == pytest.approx(run.queue, abs=tol)
+    assert delay == pytest.approx(run.total_delay, rel=0.02, abs=tol * dur.sum())
