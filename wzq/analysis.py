@@ -175,28 +175,37 @@ class Run:
         return pd.Timestamp(self.plan.demand.start) + pd.to_timedelta(seconds, unit="s")
 
 
+def _offsets(plan: Plan) -> tuple[np.ndarray, np.ndarray]:
+    """Closure starts and ends in seconds from the start of the demand."""
+    if not plan.closures:
+        return np.empty(0), np.empty(0)
+    origin = np.datetime64(plan.demand.start, "us")
+    both = np.array([(c.start, c.end) for c in plan.closures], dtype="datetime64[us]")
+    sec = (both - origin).astype(np.float64) / 1e6
+    return sec[:, 0], sec[:, 1]
+
+
 def _grid(plan: Plan) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Boundaries (s), closure index and demand index of each interval."""
     d = plan.demand
     n = len(d.flows_veh_h)
-    total = n * d.interval_s
-    parts = [np.arange(n + 1, dtype=float) * d.interval_s]
-    if d.interval_s != HOUR:
-        parts.append(np.arange(0.0, total + 1, HOUR))
-    starts = np.array([(c.start - d.start).total_seconds() for c in plan.closures], dtype=float)
-    ends = np.array([(c.end - d.start).total_seconds() for c in plan.closures], dtype=float)
-    if len(starts):
-        parts += [starts, ends]
-    t = np.unique(np.concatenate(parts)) if len(parts) > 1 else parts[0]
+    step = float(d.interval_s)
+    starts, ends = _offsets(plan)
+    t = np.arange(n + 1, dtype=float) * step
+    aligned = step == HOUR and bool(
+        np.all(np.mod(starts, step) == 0) and np.all(np.mod(ends, step) == 0)
+    )
+    if not aligned:
+        parts = [t, np.arange(0.0, n * step + 1, HOUR), starts, ends]
+        t = np.unique(np.concatenate(parts))
     mid = 0.5 * (t[:-1] + t[1:])
-    demand_index = np.minimum((mid // d.interval_s).astype(np.int64), n - 1)
+    demand_index = np.minimum((mid // step).astype(np.int64), n - 1)
     closure_index = np.full(len(mid), -1, dtype=np.int64)
     if len(starts):
-        order = np.argsort(starts)
+        order = np.argsort(starts, kind="stable")
         j = np.searchsorted(starts[order], mid, side="right") - 1
-        ok = j >= 0
         cand = order[np.maximum(j, 0)]
-        inside = ok & (mid < ends[cand])
+        inside = (j >= 0) & (mid < ends[cand])
         closure_index = np.where(inside, cand, -1)
     return t, closure_index, demand_index
 
@@ -232,24 +241,36 @@ def evaluate(plan: Plan) -> Run:
     start_hour = plan.demand.start.hour
     hour_of_day = ((start_hour * HOUR + t[:-1]) // HOUR).astype(np.int64) % 24
     clock_night = (hour_of_day >= 19) | (hour_of_day < 6)
-    pre = np.empty(len(dur))
-    qdr = np.empty(len(dur))
-    extra = np.zeros(len(dur))  # extra seconds per vehicle through the work zone
-    lanes_open = np.full(len(dur), site.lanes, dtype=np.int64)
+    # one capacity computation per distinct configuration, not per interval
     keys = np.where(clock_night, 1, 0) + 2 * (ci + 1)
-    for key in np.unique(keys):
-        sel = keys == key
-        idx = int(key) // 2 - 1
+    uniq, inv = np.unique(keys, return_inverse=True)
+    n_u = len(uniq)
+    pre_u, qdr_u, extra_u = np.empty(n_u), np.empty(n_u), np.zeros(n_u)
+    lanes_u = np.full(n_u, site.lanes, dtype=np.int64)
+    cache: dict[tuple, tuple[float, float, float]] = {}
+    for j, key in enumerate(uniq.tolist()):
+        idx = key // 2 - 1
         closure = plan.closures[idx] if idx >= 0 else None
         night = bool(key % 2) if closure is None or closure.night is None else closure.night
-        pair = closure_capacity(site, model, closure, night)
-        pre[sel] = pair.prebreakdown_veh_h
-        qdr[sel] = pair.discharge_veh_h
+        config = (
+            None
+            if closure is None
+            else (closure.lanes_closed, closure.barrier, closure.capacity_override_veh_h_ln)
+        )
+        hit = cache.get((config, night))
+        if hit is None:
+            pair = closure_capacity(site, model, closure, night)
+            extra = 0.0
+            if closure is not None:
+                v_wz = work_zone_speed(site, model, closure, night)
+                length = site.work_zone_length
+                extra = max(length / v_wz - length / model.ffs, 0.0)
+            hit = (pair.prebreakdown_veh_h, pair.discharge_veh_h, extra)
+            cache[(config, night)] = hit
+        pre_u[j], qdr_u[j], extra_u[j] = hit
         if closure is not None:
-            lanes_open[sel] = site.lanes - closure.lanes_closed
-            v_wz = work_zone_speed(site, model, closure, night)
-            length = site.work_zone_length
-            extra[sel] = max(length / v_wz - length / model.ffs, 0.0)
+            lanes_u[j] = site.lanes - closure.lanes_closed
+    pre, qdr, extra, lanes_open = pre_u[inv], qdr_u[inv], extra_u[inv], lanes_u[inv]
     if not plan.options.capacity_drop:
         qdr = pre.copy()
     run = solve(dur, lam / HOUR, pre / HOUR, qdr / HOUR)
