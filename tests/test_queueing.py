@@ -107,7 +107,7 @@ def schedules(draw):
     lam = np.array(draw(st.lists(rates, min_size=n, max_size=n))) / H
     pre = np.array(draw(st.lists(st.floats(500.0, 6000.0), min_size=n, max_size=n))) / H
     drop = np.array(draw(st.lists(st.floats(0.0, 0.2), min_size=n, max_size=n)))
-    q0 = draw(st.floats(0.0, 500.0))
+    q0 = draw(st.one_of(st.just(0.0), st.floats(1.0, 500.0)))
     return dur, lam, pre, pre * (1 - drop), q0
 
 

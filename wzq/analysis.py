@@ -355,69 +355,62 @@ def hourly_table(r: Run) -> pd.DataFrame:
     bounds = np.arange(n_hours + 1) * HOUR
     first = np.searchsorted(r.t, bounds[:-1])
     last_b = np.searchsorted(r.t, bounds[1:])
+    add = np.add.reduceat
+    top = np.maximum.reduceat
 
-    def total(x: np.ndarray) -> np.ndarray:
-        return np.add.reduceat(x, first)
-
-    arrivals = total(q.arrivals)
-    departures = total(q.departures)
-    capacity = total(r.prebreakdown_veh_h * dur) / HOUR
-    discharge = total(r.discharge_veh_h * dur) / HOUR
-    qmax = np.maximum.reduceat(np.maximum(q.queue[:-1], q.queue[1:]), first)
-    lmax = np.maximum.reduceat(np.maximum(r.length_start, r.length_end), first)
-    queue_delay = total(q.delay) / HOUR
-    wz_delay = total(r.work_zone_delay) / HOUR
+    arrivals = add(q.arrivals, first)
+    capacity = add(r.prebreakdown_veh_h * dur, first) / HOUR
+    queue_delay = add(q.delay, first) / HOUR
+    wz_delay = add(r.work_zone_delay, first) / HOUR
     delay = queue_delay + wz_delay
+    lmax = top(np.maximum(r.length_start, r.length_end), first)
+    closed = top((r.closure >= 0).view(np.int8), first).astype(bool)
     with np.errstate(divide="ignore", invalid="ignore"):
-        avg = np.where(arrivals > 0, delay * 60.0 / arrivals, 0.0)
-        dc = np.where(capacity > 0, arrivals / capacity, np.nan)
-    cand, w = waits(q)
-    hour_of = np.clip((cand // HOUR).astype(np.int64), 0, n_hours - 1)
-    wfirst = np.searchsorted(hour_of, np.arange(n_hours))
-    max_wait = np.maximum.reduceat(w, wfirst) / 60.0
-    closed = np.maximum.reduceat((r.closure >= 0).astype(np.int8), first).astype(bool)
-    df = pd.DataFrame(
-        {
-            "hour_start": r.clock(bounds[:-1]),
-            "lanes_open": np.minimum.reduceat(r.lanes_open, first),
-            "closure": closed,
-            "demand_veh_h": arrivals,
-            "capacity_veh_h": capacity,
-            "discharge_veh_h": discharge,
-            "demand_capacity": dc,
-            "arrivals_veh": arrivals,
-            "departures_veh": departures,
-            "queue_end_veh": q.queue[last_b],
-            "queue_max_veh": qmax,
-            "queue_length_max_m": lmax,
-            "queue_delay_veh_h": queue_delay,
-            "work_zone_delay_veh_h": wz_delay,
-            "delay_veh_h": delay,
-            "average_delay_min": avg,
-            "max_queue_wait_min": max_wait,
-        }
-    )
+        avg = np.where(arrivals > 0, delay * 60.0 / np.where(arrivals > 0, arrivals, 1.0), 0.0)
+        dc = np.where(capacity > 0, arrivals / np.where(capacity > 0, capacity, 1.0), np.nan)
+    max_wait = np.zeros(n_hours)
+    if q.busy.any():
+        cand, w = waits(q)
+        hour_of = np.clip((cand // HOUR).astype(np.int64), 0, n_hours - 1)
+        np.maximum.at(max_wait, hour_of, w / 60.0)
+    cols: dict[str, object] = {
+        "hour_start": r.clock(bounds[:-1]),
+        "lanes_open": np.minimum.reduceat(r.lanes_open, first),
+        "closure": closed,
+        "demand_veh_h": arrivals,
+        "capacity_veh_h": capacity,
+        "discharge_veh_h": add(r.discharge_veh_h * dur, first) / HOUR,
+        "demand_capacity": dc,
+        "arrivals_veh": arrivals,
+        "departures_veh": add(q.departures, first),
+        "queue_end_veh": q.queue[last_b],
+        "queue_max_veh": top(np.maximum(q.queue[:-1], q.queue[1:]), first),
+        "queue_length_max_m": lmax,
+        "queue_delay_veh_h": queue_delay,
+        "work_zone_delay_veh_h": wz_delay,
+        "delay_veh_h": delay,
+        "average_delay_min": avg,
+        "max_queue_wait_min": max_wait,
+    }
     th = r.plan.thresholds
-    checks = []
+    checks: list[tuple[str, str, np.ndarray]] = []
     if th.max_queue_length is not None:
-        df["queue_ok"] = lmax <= th.max_queue_length + 1e-9
-        checks.append(("queue_ok", "queue length"))
+        checks.append(("queue_ok", "queue length", lmax <= th.max_queue_length + 1e-9))
     if th.max_average_delay is not None:
-        df["delay_ok"] = avg * 60.0 <= th.max_average_delay + 1e-9
-        checks.append(("delay_ok", "delay"))
+        checks.append(("delay_ok", "delay", avg * 60.0 <= th.max_average_delay + 1e-9))
     if th.max_demand_capacity is not None:
-        df["demand_capacity_ok"] = ~closed | (dc <= th.max_demand_capacity + 1e-12)
-        checks.append(("demand_capacity_ok", "demand/capacity"))
-    failing = (
-        [
-            ", ".join(label for col, label in checks if not row[col])
-            for row in df[[c for c, _ in checks]].to_dict("records")
-        ]
-        if checks
-        else [""] * n_hours
-    )
-    df["status"] = ["ok" if not f else f"over limit: {f}" for f in failing]
-    return df
+        ok = ~closed | (dc <= th.max_demand_capacity + 1e-12)
+        checks.append(("demand_capacity_ok", "demand/capacity", ok))
+    code = np.zeros(n_hours, dtype=np.int64)
+    for bit, (name, _, ok) in enumerate(checks):
+        cols[name] = ok
+        code |= (~ok).astype(np.int64) << bit
+    labels = []
+    for c in range(1 << len(checks)):
+        failed = [label for bit, (_, label, _) in enumerate(checks) if c >> bit & 1]
+        labels.append("over limit: " + ", ".join(failed) if failed else "ok")
+    cols["status"] = np.array(labels, dtype=object)[code]
+    return pd.DataFrame(cols)
 
 
 def summarise(r: Run, hourly: pd.DataFrame) -> Summary:

@@ -184,7 +184,12 @@ def waits(run: QueueRun) -> tuple[np.ndarray, np.ndarray]:
     its maximum over any period is found among these candidates.
     """
     a, d, t = run.arrivals_cum, run.departures_cum, run.t
-    cand = np.concatenate((t, _inverse(a, t, d)))
+    busy = np.flatnonzero(run.busy > 0)
+    if len(busy) == 0:
+        return t.copy(), np.zeros_like(t)
+    # outside busy intervals the wait is zero: only their boundaries matter
+    ends = np.unique(np.concatenate((busy, busy + 1)))
+    cand = np.concatenate((t[ends], _inverse(a, t, d[ends])))
     cand.sort()
     level = np.interp(cand, t, a)
     w = _inverse(d, t, level) - cand
