@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import datetime as dt
 from dataclasses import dataclass, field
-from functools import cached_property
+from functools import cached_property, lru_cache
 
 import numpy as np
 import pandas as pd
@@ -56,6 +56,7 @@ class SiteModel:
         return self.base_pc_h_ln * self.heavy_factor * self.driver_factor
 
 
+@lru_cache(maxsize=256)
 def site_model(site: Site, diagram: str = "triangular") -> SiteModel:
     """Free-flow speed, heavy-vehicle and driver factors, base capacity and diagram."""
     ffs = site.free_flow_speed
@@ -146,6 +147,33 @@ def work_zone_speed(site: Site, model: SiteModel, closure: Closure, night: bool)
     return max(v, 1.0) * MPH
 
 
+def _config(closure: Closure) -> tuple:
+    return (closure.lanes_closed, closure.barrier, closure.capacity_override_veh_h_ln)
+
+
+@lru_cache(maxsize=4096)
+def configuration(
+    site: Site, diagram: str, config: tuple | None, night: bool
+) -> tuple[float, float, float]:
+    """Pre-breakdown capacity, discharge rate (veh/h) and extra seconds per vehicle.
+
+    ``config`` is ``(lanes_closed, barrier, capacity_override_veh_h_ln)`` or
+    ``None`` for the open road. Cached: plans and window searches meet the
+    same few configurations again and again.
+    """
+    model = site_model(site, diagram)
+    if config is None:
+        pair = closure_capacity(site, model, None, night)
+        return pair.prebreakdown_veh_h, pair.discharge_veh_h, 0.0
+    lanes_closed, barrier, override = config
+    closure = Closure(dt.datetime.min, dt.datetime.max, lanes_closed, barrier, night, override)
+    pair = closure_capacity(site, model, closure, night)
+    v_wz = work_zone_speed(site, model, closure, night)
+    length = site.work_zone_length
+    extra = max(length / v_wz - length / model.ffs, 0.0)
+    return pair.prebreakdown_veh_h, pair.discharge_veh_h, extra
+
+
 @dataclass(frozen=True)
 class Run:
     """The engine's arrays on the time grid (``m`` intervals, ``m+1`` boundaries).
@@ -179,10 +207,11 @@ def _offsets(plan: Plan) -> tuple[np.ndarray, np.ndarray]:
     """Closure starts and ends in seconds from the start of the demand."""
     if not plan.closures:
         return np.empty(0), np.empty(0)
-    origin = np.datetime64(plan.demand.start, "us")
-    both = np.array([(c.start, c.end) for c in plan.closures], dtype="datetime64[us]")
-    sec = (both - origin).astype(np.float64) / 1e6
-    return sec[:, 0], sec[:, 1]
+    origin = plan.demand.start
+    n = len(plan.closures)
+    starts = np.fromiter(((c.start - origin).total_seconds() for c in plan.closures), float, n)
+    ends = np.fromiter(((c.end - origin).total_seconds() for c in plan.closures), float, n)
+    return starts, ends
 
 
 def _grid(plan: Plan) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -242,32 +271,27 @@ def evaluate(plan: Plan) -> Run:
     hour_of_day = ((start_hour * HOUR + t[:-1]) // HOUR).astype(np.int64) % 24
     clock_night = (hour_of_day >= 19) | (hour_of_day < 6)
     # one capacity computation per distinct configuration, not per interval
-    keys = np.where(clock_night, 1, 0) + 2 * (ci + 1)
+    configs: dict[tuple, int] = {}
+    examples: list[Closure] = []
+    conf_of = np.empty(len(plan.closures) + 1, dtype=np.int64)
+    conf_of[-1] = -1  # open road (closure index -1)
+    for i, c in enumerate(plan.closures):
+        key = (c.lanes_closed, c.barrier, c.capacity_override_veh_h_ln, c.night)
+        if key not in configs:
+            configs[key] = len(examples)
+            examples.append(c)
+        conf_of[i] = configs[key]
+    keys = np.where(clock_night, 1, 0) + 2 * (conf_of[ci] + 1)
     uniq, inv = np.unique(keys, return_inverse=True)
     n_u = len(uniq)
     pre_u, qdr_u, extra_u = np.empty(n_u), np.empty(n_u), np.zeros(n_u)
     lanes_u = np.full(n_u, site.lanes, dtype=np.int64)
-    cache: dict[tuple, tuple[float, float, float]] = {}
     for j, key in enumerate(uniq.tolist()):
         idx = key // 2 - 1
-        closure = plan.closures[idx] if idx >= 0 else None
+        closure = examples[idx] if idx >= 0 else None
         night = bool(key % 2) if closure is None or closure.night is None else closure.night
-        config = (
-            None
-            if closure is None
-            else (closure.lanes_closed, closure.barrier, closure.capacity_override_veh_h_ln)
-        )
-        hit = cache.get((config, night))
-        if hit is None:
-            pair = closure_capacity(site, model, closure, night)
-            extra = 0.0
-            if closure is not None:
-                v_wz = work_zone_speed(site, model, closure, night)
-                length = site.work_zone_length
-                extra = max(length / v_wz - length / model.ffs, 0.0)
-            hit = (pair.prebreakdown_veh_h, pair.discharge_veh_h, extra)
-            cache[(config, night)] = hit
-        pre_u[j], qdr_u[j], extra_u[j] = hit
+        config = None if closure is None else _config(closure)
+        pre_u[j], qdr_u[j], extra_u[j] = configuration(site, plan.options.diagram, config, night)
         if closure is not None:
             lanes_u[j] = site.lanes - closure.lanes_closed
     pre, qdr, extra, lanes_open = pre_u[inv], qdr_u[inv], extra_u[inv], lanes_u[inv]
@@ -466,12 +490,10 @@ def _warnings(r: Run) -> list[str]:
         )
     over = r.demand_veh_h > r.prebreakdown_veh_h
     if over.any():
-        dur = r.duration
-        run_len = 0.0
-        longest = 0.0
-        for o, d in zip(over, dur, strict=True):
-            run_len = run_len + d if o else 0.0
-            longest = max(longest, run_len)
+        # longest stretch of consecutive overloaded intervals, in seconds
+        elapsed = np.concatenate(([0.0], np.cumsum(np.where(over, r.duration, 0.0))))
+        reset = np.maximum.accumulate(np.where(np.concatenate(([True], ~over)), elapsed, 0.0))
+        longest = float((elapsed - reset).max())
         if longest >= LONG_OVERLOAD_HOURS * HOUR:
             out.append(
                 f"demand is above capacity for {longest / HOUR:.1f} hours in a row; "
