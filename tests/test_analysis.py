@@ -81,7 +81,7 @@ def test_queue_length_by_shockwave_relation_hand_worked() -> None:
         3000.0,
         8,
         [Closure(at(1), at(3), 1, capacity_override_veh_h_ln=1000.0)],
-        options=Options(capacity_drop=False),
+        options=Options(capacity_drop=False, queue_length_method="shockwave"),
     )
     r = analyse(plan)
     k_a = 1000 / 70
@@ -90,6 +90,52 @@ def test_queue_length_by_shockwave_relation_hand_worked() -> None:
     length_mi = 2000 / (3 * (k_q - k_a))
     assert r.summary.max_queue_length_m / MILE == pytest.approx(length_mi, rel=1e-9)
     assert length_mi == pytest.approx(5.03, abs=0.01)  # the hand number itself
+
+
+def test_default_queue_length_follows_the_waves_hand_worked() -> None:
+    # Shockwave analysis of the traffic-flow textbooks (e.g. Mannering & Washburn
+    # ch. 5; May 1990 ch. 6 — from memory) on the triangular diagram (Newell
+    # 1993): v_f 70 mi/h, c 2400 veh/h/ln, k_j 190 veh/mi/ln, 3 lanes.
+    # Closure 01:00-03:00 at a user capacity of 2000 veh/h (no drop inside it);
+    # afterwards the open road discharges at 7200 x 0.93 (HCM 7 % drop).
+    plan = flat_plan(3000.0, 8, [Closure(at(1), at(3), 1, capacity_override_veh_h_ln=1000.0)])
+    r = analyse(plan)
+    assert r.run.length_method == "newell"
+    v_f, c, k_j = 70.0, 2400.0, 190.0
+    w = c / (k_j - c / v_f)  # backward wave speed, mi/h
+    q_a, k_a = 1000.0, 1000.0 / v_f  # arriving state
+    q_q = 2000.0 / 3
+    k_q = k_j - q_q / w  # queued state in the closure
+    q_r = 7200 * 0.93 / 3
+    k_r = k_j - q_r / w  # discharge state after the closure
+    u_back = (q_q - q_a) / (k_q - k_a)  # back of queue, negative = upstream
+    u_rec = (q_r - q_q) / (k_r - k_q)  # recovery wave from the front (= -w)
+    assert u_rec == pytest.approx(-w)
+    # the recovery wave leaves the bottleneck at 03:00 and meets the back:
+    t_meet = (3 * -u_rec - 1 * -u_back) / (-u_rec + u_back)
+    d_max = -u_back * (t_meet - 1)
+    # then the shock between the arriving and discharge states runs downstream
+    u_final = (q_r - q_a) / (k_r - k_a)
+    t_gone = t_meet + d_max / u_final
+    s = r.summary
+    assert s.max_queue_length_m / MILE == pytest.approx(d_max, rel=1e-9)
+    assert abs((s.max_queue_length_at - at(t_meet)).total_seconds()) < 0.01
+    assert abs((s.last_queue_clears - at(t_gone)).total_seconds()) < 0.01
+    assert d_max == pytest.approx(6.015, abs=0.001)  # the hand number itself
+    # per hour: 02:00 ends at the single-state length; 03:00 holds the peak
+    h = r.hourly
+    assert h.loc[2, "queue_length_max_m"] / MILE == pytest.approx(-u_back * 2, rel=1e-9)
+    assert h.loc[3, "queue_length_max_m"] / MILE == pytest.approx(d_max, rel=1e-9)
+    # delay is the area between the same cumulative curves either way
+    single = analyse(
+        flat_plan(
+            3000.0,
+            8,
+            [Closure(at(1), at(3), 1, capacity_override_veh_h_ln=1000.0)],
+            options=Options(queue_length_method="shockwave"),
+        )
+    )
+    assert single.summary.total_delay_veh_h == pytest.approx(s.total_delay_veh_h, rel=1e-12)
 
 
 def test_hcm_work_zone_capacity_in_the_plan() -> None:

@@ -25,7 +25,8 @@ import numpy as np
 import pandas as pd
 
 from wzq import capacity as cap
-from wzq.flow import FundamentalDiagram, make_diagram
+from wzq import newell
+from wzq.flow import FundamentalDiagram, Triangular, make_diagram
 from wzq.plan import Closure, Plan, Site
 from wzq.queueing import QueueRun, solve, waits
 from wzq.shockwave import stored_density
@@ -194,6 +195,12 @@ class Run:
     length_start: np.ndarray
     length_end: np.ndarray
     work_zone_delay: np.ndarray
+    back_of_queue: newell.NewellQueue | None = None
+
+    @property
+    def length_method(self) -> str:
+        """``"newell"`` or ``"shockwave"``: how queue lengths were found."""
+        return "shockwave" if self.back_of_queue is None else "newell"
 
     @property
     def duration(self) -> np.ndarray:
@@ -298,12 +305,17 @@ def evaluate(plan: Plan) -> Run:
     if not plan.options.capacity_drop:
         qdr = pre.copy()
     run = solve(dur, lam / HOUR, pre / HOUR, qdr / HOUR)
-    stored = stored_density(model.diagram, lam, queue_state_discharge(run, qdr), site.lanes)
-    length_start = run.queue[:-1] / stored
-    length_end = run.queue[1:] / stored
+    nq = None
+    if plan.options.queue_length_method == "newell" and isinstance(model.diagram, Triangular):
+        nq = newell.from_queue(run, model.diagram, site.lanes)
+        length_start, length_end = nq.at_boundaries[:-1], nq.at_boundaries[1:]
+    else:
+        stored = stored_density(model.diagram, lam, queue_state_discharge(run, qdr), site.lanes)
+        length_start = run.queue[:-1] / stored
+        length_end = run.queue[1:] / stored
     wz_delay = run.departures * extra
     return Run(
-        plan, model, t, ci, lanes_open, lam, pre, qdr, run, length_start, length_end, wz_delay
+        plan, model, t, ci, lanes_open, lam, pre, qdr, run, length_start, length_end, wz_delay, nq
     )
 
 
@@ -387,7 +399,10 @@ def hourly_table(r: Run) -> pd.DataFrame:
     queue_delay = add(q.delay, first) / HOUR
     wz_delay = add(r.work_zone_delay, first) / HOUR
     delay = queue_delay + wz_delay
-    lmax = top(np.maximum(r.length_start, r.length_end), first)
+    if r.back_of_queue is not None:
+        lmax = r.back_of_queue.hourly_max_m  # exact, peaks inside intervals included
+    else:
+        lmax = top(np.maximum(r.length_start, r.length_end), first)
     closed = top((r.closure >= 0).view(np.int8), first).astype(bool)
     with np.errstate(divide="ignore", invalid="ignore"):
         avg = np.where(arrivals > 0, delay * 60.0 / np.where(arrivals > 0, arrivals, 1.0), 0.0)
@@ -440,10 +455,14 @@ def hourly_table(r: Run) -> pd.DataFrame:
 def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
     """Maximum queue and when, totals, last clearance, failing hours."""
     q = r.queue
-    lengths = np.concatenate((r.length_start, r.length_end))
-    times = np.concatenate((r.t[:-1], r.t[1:]))
-    i = int(np.argmax(lengths)) if len(lengths) else 0
-    lmax = float(lengths[i]) if len(lengths) else 0.0
+    if r.back_of_queue is not None:
+        ext = r.back_of_queue.extent
+        lmax, lmax_at = ext.max_m, ext.at_s
+    else:
+        lengths = np.concatenate((r.length_start, r.length_end))
+        times = np.concatenate((r.t[:-1], r.t[1:]))
+        i = int(np.argmax(lengths))
+        lmax, lmax_at = float(lengths[i]), float(times[i])
     j = int(np.argmax(q.queue))
     clears = q.clear_times()
     last_clear = None
@@ -458,7 +477,7 @@ def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
     wd = float(r.work_zone_delay.sum()) / HOUR
     return Summary(
         max_queue_length_m=lmax,
-        max_queue_length_at=_clock(r, times[i]) if lmax > 0 else None,
+        max_queue_length_at=_clock(r, lmax_at) if lmax > 0 and lmax_at is not None else None,
         max_queue_veh=float(q.queue[j]),
         max_queue_veh_at=_clock(r, r.t[j]) if q.queue[j] > 0 else None,
         total_delay_veh_h=qd + wd,
@@ -503,6 +522,11 @@ def _warnings(r: Run) -> list[str]:
         out.append(
             f"a queue of {r.queue.queue[-1]:,.0f} vehicles still stands at the end of the "
             "demand data; extend the demand to see it clear"
+        )
+    if r.back_of_queue is not None and r.back_of_queue.capacity_limited:
+        out.append(
+            "arrivals or discharge exceeded the approach road's capacity; the traffic it "
+            "could not admit is held beyond the upstream end and not counted in the length"
         )
     for i, c in enumerate(r.plan.closures):
         if site.lanes - c.lanes_closed == 1 and site.terrain != "level":

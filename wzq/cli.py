@@ -185,6 +185,9 @@ def main(argv: Sequence[str] | None = None) -> int:
             f"wzq: {n} problem{'s' if n != 1 else ''} to fix; nothing was written", file=sys.stderr
         )
         return EXIT_INPUT
+    except BrokenPipeError:  # e.g. `wzq demo | head`: the reader left, nothing to report
+        sys.stderr.close()
+        return EXIT_OK
     except KeyboardInterrupt:
         print("wzq: interrupted; nothing was written", file=sys.stderr)
         return 130

@@ -25,7 +25,7 @@ Barrier = Literal["hard", "soft"]
 DriverPopulation = Literal["commuter", "familiar", "balanced", "unfamiliar"]
 CapacityMethod = Literal["hcm7", "hcm2000"]
 Diagram = Literal["triangular", "greenshields", "capped-greenshields"]
-QueueLengthMethod = Literal["shockwave"]
+QueueLengthMethod = Literal["newell", "shockwave"]
 
 TERRAINS: tuple[str, ...] = ("level", "rolling")
 AREA_TYPES: tuple[str, ...] = ("urban", "rural")
@@ -33,7 +33,7 @@ BARRIERS: tuple[str, ...] = ("hard", "soft")
 DRIVER_POPULATIONS: tuple[str, ...] = ("commuter", "familiar", "balanced", "unfamiliar")
 CAPACITY_METHODS: tuple[str, ...] = ("hcm7", "hcm2000")
 DIAGRAMS: tuple[str, ...] = ("triangular", "greenshields", "capped-greenshields")
-QUEUE_LENGTH_METHODS: tuple[str, ...] = ("shockwave",)
+QUEUE_LENGTH_METHODS: tuple[str, ...] = ("newell", "shockwave")
 
 #: Hours counted as night-time for the HCM work-zone day/night term when a
 #: closure does not say (19:00 to 06:00; common practice, no source).
@@ -169,12 +169,17 @@ class Options:
 
     ``capacity_drop``: pre-breakdown capacity until a queue forms, queue
     discharge rate while it lasts (on by default). ``diagram``: fundamental
-    diagram used to turn queued vehicles into a length.
+    diagram used to turn queued vehicles into a length. ``queue_length_method``:
+    ``"newell"`` (default) follows the waves by Newell's simplified
+    kinematic-wave method, exact for the triangular diagram; ``"shockwave"`` is
+    the simpler single-state relation. With a non-triangular diagram the
+    single-state relation is used, because Newell's construction needs the
+    linear congested branch of the triangular diagram.
     """
 
     capacity_drop: bool = True
     diagram: Diagram = "triangular"
-    queue_length_method: QueueLengthMethod = "shockwave"
+    queue_length_method: QueueLengthMethod = "newell"
 
 
 @dataclass(frozen=True)

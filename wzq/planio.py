@@ -274,7 +274,7 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan") -> Plan:
     options = Options(
         capacity_drop=bool(o.get("capacity_drop", True)),
         diagram=o.get("diagram", "triangular"),
-        queue_length_method=o.get("queue_length_method", "shockwave"),
+        queue_length_method=o.get("queue_length_method", "newell"),
     )
     m = data.get("meta") or {}
     r.unknown(m, {"title", "project", "route", "prepared_by", "checked_by", "notes"}, "meta")

@@ -78,8 +78,11 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
     lines = [
         (
             "Longest queue",
-            f"{s.max_queue_length_m / long_m:,.2f} {long_name} "
-            f"({s.max_queue_veh:,.0f} veh), at {when(s.max_queue_length_at)}",
+            f"{s.max_queue_length_m / long_m:,.2f} {long_name}, at {when(s.max_queue_length_at)}",
+        ),
+        (
+            "Most vehicles queued",
+            f"{s.max_queue_veh:,.0f} veh, at {when(s.max_queue_veh_at)}",
         ),
         (
             "Total delay",
