@@ -194,4 +194,8 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 
 if __name__ == "__main__":
-    sys.exit(main())
+    # run through the package module so that sub-commands registered by other
+    # modules land in the same EXTRA_COMMANDS list
+    from wzq.cli import main as _main
+
+    sys.exit(_main())
