@@ -1,0 +1,1090 @@
+"""Read and validate a plan workbook made from the wzq template.
+
+Inputs are found through workbook-scoped defined names (one per value cell) and
+Excel tables (:mod:`wzq.workbook.layout`), never through fixed cell addresses,
+so a user may insert rows, restyle and add sheets of their own; the output
+sheets and any other sheet are ignored.
+
+Every problem is collected and raised at once as :class:`wzq.plan.PlanError`,
+each :class:`~wzq.plan.Problem` naming the sheet and cell (``Site!B8``) and what
+to do. The workbook is only read, never changed.
+
+Values are in the workbook's unit system and converted to SI with
+:mod:`wzq.units`. A formula in an input cell is read through its saved
+(cached) result, taken with python-calamine only when a formula is met.
+Demand "from AADT" is expanded here into hourly demand,
+``AADT x (1 + g)^(year of first day - count year) x direction share x hour share``:
+the design-hour relation DDHV = AADT x K x D of the Highway Capacity Manual (from
+memory; chapter not checked) applied to every hour, with K the hour's share of the
+AADT (weekday or weekend column) and compound growth to the work year.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import re
+import warnings
+import zipfile
+from dataclasses import dataclass
+from itertools import pairwise
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+from openpyxl import load_workbook
+from openpyxl.cell.cell import ERROR_CODES
+from openpyxl.utils import get_column_letter, range_boundaries
+from openpyxl.utils.datetime import from_excel, to_excel
+from openpyxl.utils.exceptions import InvalidFileException
+from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.formula import ArrayFormula, DataTableFormula
+from openpyxl.worksheet.worksheet import Worksheet
+
+from wzq import units as u
+from wzq.plan import (
+    Closure,
+    Costs,
+    Demand,
+    Meta,
+    Options,
+    Plan,
+    PlanError,
+    Problem,
+    Site,
+    Thresholds,
+)
+from wzq.workbook import layout as L
+from wzq.workbook.safety import inspect_file
+
+#: File suffixes read as workbooks.
+WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
+#: Hourly demand above this per lane in normal operation is taken for a typing or
+#: unit mistake (e.g. a two-way count or a daily total) (common practice, no source).
+MAX_DEMAND_VEH_H_LN = 3000.0
+DAY = 86_400  # seconds
+
+_MISSING = object()  # a value that could not be read (its problem is already recorded)
+_ISO_DATE = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})$")
+_ISO_DATETIME = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})[ T](\d{1,2}):(\d{2})$")
+_CLOCK = re.compile(r"^(\d{1,2}):(\d{2})(?::(\d{2}))?$")
+
+#: Where the plan's own field names (``wzq.plan.validate``) live in the workbook.
+_PLAN_KEYS: dict[str, str] = {
+    "site.lanes": "site_lanes",
+    "site.speed_limit": "site_speed_limit",
+    "site.work_zone_speed_limit": "site_work_zone_speed_limit",
+    "site.free_flow_speed": "site_free_flow_speed",
+    "site.work_zone_length": "site_work_zone_length",
+    "site.heavy_vehicle_share": "site_heavy_vehicle_percent",
+    "site.lateral_clearance": "site_lateral_clearance",
+    "site.jam_density": "site_jam_density",
+    "site.base_capacity_pc_h_ln": "site_base_capacity",
+    "site.capacity_drop_pct": "site_capacity_drop_work_zone",
+    "site.work_intensity_pc_h_ln": "site_work_intensity",
+    "site.ramp_density": "site_ramp_density",
+    "site.terrain": "site_terrain",
+    "site.area_type": "site_area_type",
+    "site.driver_population": "site_driver_population",
+    "site.capacity_method": "site_capacity_method",
+    "options.diagram": "opt_diagram",
+    "options.queue_length_method": "opt_queue_length_method",
+    "thresholds.max_queue_length": "limit_queue_length",
+    "thresholds.max_average_delay": "limit_average_delay",
+    "thresholds.max_demand_capacity": "limit_demand_capacity",
+    "costs.car_value_per_person_h": "cost_car_value",
+    "costs.car_occupancy": "cost_car_occupancy",
+    "costs.truck_value_per_veh_h": "cost_truck_value",
+    "costs.truck_share": "cost_truck_percent",
+}
+
+
+#: Table columns checked like named values (blank handling, type, range).
+_FLOW = L.Field("demand", "Demand", "number", "veh/h", bounds=(0.0, float("inf")))
+_SHARES = {h: L.Field(h, h, "number", "%", bounds=(0.0, 100.0)) for h in L.SHARE_COLUMNS[1:]}
+_LANES_CLOSED = L.Field(
+    "lanes_closed", "Lanes closed", "int", bounds=(0, 7), note="0 is a shoulder closure"
+)
+_BARRIER = L.Field("barrier", "Barrier", "choice", choices=L.BARRIER_WORDS)
+_NIGHT = L.Field("night", "Night work", "choice", blank=None, choices=L.NIGHT_WORDS)
+_OVERRIDE = L.Field(
+    "override", "Capacity override", "number", "veh/h/ln", blank=None, bounds=(100.0, 3000.0)
+)
+_NOTE = L.Field("note", "Note", "text", blank="")
+
+
+def cell_ref(sheet: str, row: int, col: int) -> str:
+    """``Site!B8``; a sheet name with spaces or punctuation is quoted as in a formula."""
+    name = sheet if re.fullmatch(r"[A-Za-z_][A-Za-z0-9_.]*", sheet) else f"'{sheet}'"
+    return f"{name}!{get_column_letter(col)}{row}"
+
+
+def _blank(v: Any) -> bool:
+    return v is None or (isinstance(v, str) and not v.strip())
+
+
+def _norm(text: str) -> str:
+    return " ".join(str(text).split()).casefold()
+
+
+def _fmt(x: float) -> str:
+    return f"{x:,.6g}" if abs(x) < 1e6 else f"{x:,.0f}"
+
+
+def _show(v: Any) -> str:
+    """A cell value as the user would recognise it in a message."""
+    if isinstance(v, str):
+        return f"'{v.strip()}'"
+    if isinstance(v, dt.datetime):
+        return v.strftime("%Y-%m-%d %H:%M")
+    if isinstance(v, float):
+        return _fmt(v)
+    return str(v)
+
+
+def _when(t: dt.datetime) -> str:
+    return t.strftime("%a %Y-%m-%d %H:%M")
+
+
+@dataclass(frozen=True)
+class _Clock:
+    """A time of day typed in a cell: seconds after midnight (86400 is 24:00)."""
+
+    seconds: int
+
+
+@dataclass
+class _Table:
+    name: str
+    ws: Worksheet
+    header_row: int
+    first_row: int  # first data row
+    last_row: int  # last data row
+    end_row: int  # last row of the table (its totals row, if it has one)
+    min_col: int
+    max_col: int
+    columns: dict[str, int]  # normalised header -> column number
+
+    def col(self, header: str) -> int:
+        return self.columns[_norm(header)]
+
+
+@dataclass
+class _Row:
+    """One non-blank table row: its sheet row and raw values by header."""
+
+    row: int
+    values: dict[str, Any]
+
+
+def read_plan(path: str | Path) -> Plan:
+    """Read and validate the plan in a workbook file (``.xlsx`` or ``.xlsm``).
+
+    Raises :class:`PlanError` listing every problem, each with sheet and cell.
+    The file is only read.
+    """
+    path = Path(path)
+    wb = load_book(path)
+    return read_plan_from_book(wb, path.name, path)
+
+
+def load_book(path: Path) -> Workbook:
+    """Open a workbook for reading, turning every way it can fail into a :class:`PlanError`.
+
+    The file is first inspected without parsing (:func:`wzq.workbook.safety.inspect_file`:
+    empty, not a workbook, old ``.xls``, encrypted, zip bombs, XML entities).
+    """
+    where = path.name
+    if path.suffix.lower() not in WORKBOOK_SUFFIXES and not path.is_dir():
+        raise PlanError(
+            f"'{path.suffix}' files are not read; save the workbook as .xlsx or .xlsm", where=where
+        )
+    inspect_file(path)
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # openpyxl warns about extensions it drops on read
+            return load_workbook(path, keep_vba=path.suffix.lower() == ".xlsm")
+    except (zipfile.BadZipFile, InvalidFileException, KeyError, ValueError, TypeError) as e:
+        raise PlanError(
+            "cannot read this file as a workbook "
+            f"({type(e).__name__}); is it an .xlsx/.xlsm saved by a spreadsheet program, "
+            "not password-protected? Save it again as .xlsx or .xlsm",
+            where=where,
+        ) from None
+    except OSError as e:
+        raise PlanError(
+            f"cannot open the file ({e.strerror or e}); close it or check the path", where=where
+        ) from None
+
+
+def read_plan_from_book(wb: Workbook, source: str, path: Path | None = None) -> Plan:
+    """Read and validate the plan in an already loaded openpyxl workbook.
+
+    ``source`` names the workbook in messages about the file as a whole;
+    ``path`` is the file it was loaded from, needed only to read the saved
+    result of a formula typed in an input cell (loaded lazily, once).
+    """
+    return _BookReader(wb, source, path).plan()
+
+
+class _BookReader:
+    """Pulls typed values out of the workbook, collecting every problem."""
+
+    def __init__(self, wb: Workbook, source: str, path: Path | None) -> None:
+        self.wb = wb
+        self.source = source
+        self.path = path
+        self.epoch = wb.epoch
+        self.problems: list[Problem] = []
+        self.system: str | None = None  # None: unknown (unit-dependent ranges not checked)
+        self.where_of: dict[str, str] = {}  # defined name -> cell
+        self._calamine: Any = None
+        self._cached_sheets: dict[str, list[list[Any]]] = {}
+        self._sheets = {ws.title: ws for ws in wb.worksheets}
+        self._missing_sheets: set[str] = set()
+        self._demand_rows: list[str] = []  # cell of each demand interval, in plan order
+        self._closure_rows: list[str] = []  # cell of each closure, in plan order
+
+    # -- recording --------------------------------------------------------------------------
+
+    def bad(self, where: str, message: str) -> Any:
+        self.problems.append(Problem(where, message))
+        return _MISSING
+
+    # -- cells ------------------------------------------------------------------------------
+
+    def raw(self, ws: Worksheet, row: int, col: int) -> Any:
+        """The value in a cell, a formula replaced by its saved result.
+
+        Reads ``ws._cells`` directly: ``ws.cell()`` would add empty cells to the
+        workbook, which the writer then saves.
+        """
+        cell = ws._cells.get((row, col))
+        if cell is None:
+            return None
+        v = cell.value
+        where = cell_ref(ws.title, row, col)
+        if cell.data_type == "f" or isinstance(v, ArrayFormula | DataTableFormula):
+            v = self.cached(ws.title, row, col, where)
+            if v is _MISSING:
+                return v
+        elif cell.data_type == "e":
+            return self.error_value(where, v)
+        if isinstance(v, str) and v.strip() in ERROR_CODES:
+            return self.error_value(where, v)
+        return v
+
+    def error_value(self, where: str, v: Any) -> Any:
+        error = str(v).strip()
+        return self.bad(where, f"shows the error {error}; fix the formula or type the value")
+
+    def cached(self, sheet: str, row: int, col: int, where: str) -> Any:
+        """The saved result of the formula in a cell (python-calamine, loaded on first use)."""
+        no_value = (
+            "holds a formula with no saved result; open and save the workbook in your "
+            "spreadsheet program, or type the value"
+        )
+        if self.path is None:
+            return self.bad(where, no_value)
+        if sheet not in self._cached_sheets:
+            try:
+                if self._calamine is None:
+                    from python_calamine import CalamineWorkbook
+
+                    self._calamine = CalamineWorkbook.from_path(str(self.path))
+                sh = self._calamine.get_sheet_by_name(sheet)
+                # from A1, so that list positions are cell positions
+                self._cached_sheets[sheet] = sh.to_python(skip_empty_area=False)
+            except Exception:  # calamine raises its own error types; any failure = no value
+                return self.bad(where, no_value)
+        rows = self._cached_sheets[sheet]
+        i, j = row - 1, col - 1
+        v = rows[i][j] if 0 <= i < len(rows) and 0 <= j < len(rows[i]) else ""
+        if v == "" or v is None:
+            return self.bad(where, no_value)
+        if isinstance(v, str) and v.strip() in ERROR_CODES:
+            return self.error_value(where, v)
+        return v
+
+    # -- defined names ----------------------------------------------------------------------
+
+    def locate(self, field: L.Field) -> tuple[Worksheet, int, int] | None:
+        """The cell a defined name points at, or ``None`` (problem recorded)."""
+        name = field.name
+        home = L.FIELD_SHEET.get(name, "workbook")
+        dn = self.wb.defined_names.get(name)
+        if dn is None:
+            for ws in self.wb.worksheets:
+                if ws.title not in L.OUTPUT_SHEETS and name in ws.defined_names:
+                    dn = ws.defined_names[name]
+                    break
+        try:
+            dests = [] if dn is None else list(dn.destinations)
+        except Exception:  # openpyxl cannot parse the reference
+            dests = []
+        broken = dn is None or not dests or "#REF!" in str(dn.value)
+        if broken and home not in self._sheets:
+            if home not in self._missing_sheets:
+                self._missing_sheets.add(home)
+                self.bad(
+                    f"{home} (sheet)",
+                    f"the input sheet '{home}' is missing (deleted, or its inputs moved "
+                    "without their names); copy your inputs into a fresh workbook from `wzq new`",
+                )
+            return None
+        if dn is None:
+            self.bad(
+                f"{home} (name {name})",
+                f"the defined name {name} ({field.label}) is missing; restore it in the Name "
+                "Manager pointing at its value cell, or copy your inputs into a fresh workbook "
+                "from `wzq new`",
+            )
+            return None
+        if broken:
+            self.bad(
+                f"{home} (name {name})",
+                f"the defined name {name} ({field.label}) points nowhere (its cell was "
+                "deleted); point it at the value cell again in the Name Manager",
+            )
+            return None
+        sheet, coord = dests[0]
+        ws = self._sheets.get(sheet)
+        if ws is None:
+            self.bad(
+                f"{home} (name {name})",
+                f"the defined name {name} points at a sheet '{sheet}' that does not exist; "
+                "point it at the value cell again in the Name Manager",
+            )
+            return None
+        if sheet in L.OUTPUT_SHEETS:
+            self.bad(
+                f"{home} (name {name})",
+                f"the defined name {name} points into the output sheet '{sheet}', which wzq "
+                "replaces on every run; point it at the input cell",
+            )
+            return None
+        min_col, min_row, _, _ = range_boundaries(coord.replace("$", ""))
+        self.where_of[name] = cell_ref(sheet, min_row, min_col)
+        return ws, min_row, min_col
+
+    def field(self, field: L.Field) -> Any:
+        """The typed value of a named input cell (``_MISSING`` after a problem)."""
+        loc = self.locate(field)
+        if loc is None:
+            return _MISSING
+        ws, row, col = loc
+        where = cell_ref(ws.title, row, col)
+        return self.convert(self.raw(ws, row, col), field, where)
+
+    # -- conversions ------------------------------------------------------------------------
+
+    def convert(self, v: Any, field: L.Field, where: str) -> Any:
+        if v is _MISSING:
+            return v
+        if _blank(v):
+            if field.required:
+                return self.bad(where, f"{field.label} is blank; {self._fill_hint(field)}")
+            return field.blank
+        kind = field.kind
+        if kind == "text":
+            return self.text(v)
+        if kind == "choice":
+            return self.choice(v, field.choices, field.label, where)
+        if kind == "date":
+            return self.date(v, field.label, where)
+        x = self.number(v, field.label, where)
+        if x is _MISSING:
+            return x
+        if kind == "int" and x != int(x):
+            return self.bad(where, f"{field.label} must be a whole number, got {_fmt(x)}")
+        if not self.in_range(x, field, where):
+            return _MISSING
+        return int(x) if kind == "int" else x
+
+    def _fill_hint(self, field: L.Field) -> str:
+        if field.kind == "choice":
+            return "pick one from the dropdown list"
+        if field.kind == "date":
+            return "type a date, e.g. 2027-05-03"
+        if field.kind == "text":
+            return "type it"
+        unit = field.unit_text(self.system or "us")
+        return f"type a number ({unit})" if unit else "type a number"
+
+    def text(self, v: Any) -> str:
+        if isinstance(v, float) and v.is_integer():
+            return str(int(v))
+        if isinstance(v, dt.datetime):
+            return v.isoformat(sep=" ", timespec="minutes")
+        return str(v).strip()
+
+    def number(self, v: Any, label: str, where: str) -> Any:
+        if isinstance(v, bool):
+            return self.bad(where, f"{label} holds {str(v).upper()}, not a number; type a number")
+        if isinstance(v, int | float):
+            x = float(v)
+            if not np.isfinite(x):
+                return self.bad(where, f"{label} is not a finite number; type a number")
+            return x
+        if isinstance(v, dt.datetime | dt.date | dt.time | dt.timedelta):
+            return self.bad(
+                where,
+                f"{label} holds a date or time ({_show(v)}), not a number; set the cell's "
+                "format to General or Number and type the number",
+            )
+        try:
+            float(str(v).replace(",", ""))
+            what = "is stored as text"
+        except ValueError:
+            what = "is text, not a number"
+        return self.bad(
+            where, f"{label}: {_show(v)} {what}; type only the number, without its unit"
+        )
+
+    def in_range(self, x: float, field: L.Field, where: str) -> bool:
+        if field.unit in L.UNIT_KINDS and self.system is None:
+            return True
+        system = self.system or "us"
+        limits = field.limits(system)
+        if limits is None:
+            return True
+        lo, hi = limits
+        unit = field.unit_text(system)
+        unit_s = f" {unit}" if unit and unit not in ("year", "ratio") else ""
+        too_low = x <= lo if field.open_lo else x < lo
+        too_high = x >= hi if field.open_hi else x > hi
+        if not (too_low or too_high):
+            return True
+        if x < 0 <= lo:
+            what = f"cannot be negative (got {_fmt(x)})"
+        else:
+            lo_s = f"above {_fmt(lo)}" if field.open_lo else f"{_fmt(lo)}"
+            hi_s = f"below {_fmt(hi)}" if field.open_hi else f"{_fmt(hi)}"
+            what = f"must be {lo_s} to {hi_s}{unit_s} (got {_fmt(x)})"
+        check = "check the value and its unit" if field.unit in L.UNIT_KINDS else "check the value"
+        self.bad(where, f"{field.label} {what}; {check}")
+        return False
+
+    def choice(self, v: Any, choices: L.Choices, label: str, where: str) -> Any:
+        if isinstance(v, bool):
+            v = "yes" if v else "no"
+        key = _norm(v) if isinstance(v, str) else _norm(self.text(v))
+        for word, value in choices:
+            if key == _norm(word) or (isinstance(value, str) and key == _norm(value)):
+                return value
+        words = ", ".join(f"'{w}'" for w, _ in choices)
+        return self.bad(
+            where, f"{label}: {_show(v)} is not in the list; pick one of {words} from the dropdown"
+        )
+
+    def date(self, v: Any, label: str, where: str) -> Any:
+        if isinstance(v, dt.datetime):
+            if v.time() != dt.time():
+                return self.bad(
+                    where, f"{label} holds a time of day ({_show(v)}); type only the date"
+                )
+            return v.date()
+        if isinstance(v, dt.date):
+            return v
+        if isinstance(v, int | float) and not isinstance(v, bool) and v >= 2:
+            return self.date(from_excel(v, self.epoch), label, where)
+        if isinstance(v, str):
+            m = _ISO_DATE.match(v.strip())
+            if m:
+                try:
+                    return dt.date.fromisoformat(_pad_iso(m.group(1)))
+                except ValueError:
+                    pass
+        return self.bad(where, f"{label}: {_show(v)} is not a date; type a date, e.g. 2027-05-03")
+
+    def clock(self, v: Any, label: str, where: str, *, allow_24: bool) -> Any:
+        """A time of day (:class:`_Clock`) or a full date-time (``datetime``)."""
+        seconds: float | None = None
+        if isinstance(v, dt.datetime):
+            serial = to_excel(v, self.epoch)
+            if serial >= 2:
+                return v
+            seconds = serial * DAY  # hours past midnight (e.g. 24:00 stored as 1.0)
+        elif isinstance(v, dt.time):
+            seconds = v.hour * 3600 + v.minute * 60 + v.second
+        elif isinstance(v, dt.timedelta):  # a cell formatted as elapsed time, e.g. [hh]:mm
+            if v.total_seconds() >= 2 * DAY:
+                return from_excel(v.total_seconds() / DAY, self.epoch)  # a date-time serial
+            seconds = v.total_seconds()
+        elif isinstance(v, int | float) and not isinstance(v, bool):
+            if v >= 2:
+                return from_excel(v, self.epoch)  # an Excel date-time serial
+            if v >= 0:
+                seconds = v * DAY
+        elif isinstance(v, str):
+            text = v.strip()
+            m = _CLOCK.match(text)
+            md = _ISO_DATETIME.match(text)
+            if m and int(m.group(2)) < 60 and int(m.group(3) or 0) < 60:
+                seconds = int(m.group(1)) * 3600 + int(m.group(2)) * 60 + int(m.group(3) or 0)
+            elif md:
+                try:
+                    day = dt.date.fromisoformat(_pad_iso(md.group(1)))
+                    hh, mm = int(md.group(2)), int(md.group(3))
+                    if mm < 60 and (hh < 24 or (hh == 24 and mm == 0)):
+                        return dt.datetime.combine(day, dt.time()) + dt.timedelta(
+                            hours=hh, minutes=mm
+                        )
+                except ValueError:
+                    pass
+        if seconds is None:
+            return self.bad(
+                where, f"{label}: {_show(v)} is not a time; type a time like 21:00 (24-hour clock)"
+            )
+        s = round(seconds)
+        if s < DAY or (allow_24 and s == DAY):
+            return _Clock(s)
+        hint = "use 24:00 for midnight at the end of the day" if allow_24 else "use 00:00-23:59"
+        return self.bad(where, f"{label}: {_show(v)} is past 24:00; {hint}")
+
+    # -- tables -----------------------------------------------------------------------------
+
+    def table(self, name: str) -> _Table | None:
+        home = L.TABLE_SHEET[name]
+        for ws in self.wb.worksheets:
+            if ws.title in L.OUTPUT_SHEETS:
+                continue
+            for tname in ws.tables:
+                if tname.casefold() == name.casefold():
+                    return self._table_parts(name, ws, ws.tables[tname])
+        self.bad(
+            f"{home} (table {name})",
+            f"the table {name} is missing; it was deleted or renamed. Restore its name "
+            "(Table Design > Table Name) or copy your rows into a fresh workbook from `wzq new`",
+        )
+        return None
+
+    def _table_parts(self, name: str, ws: Worksheet, t: Any) -> _Table | None:
+        min_col, min_row, max_col, max_row = range_boundaries(t.ref)
+        header_rows = 1 if t.headerRowCount is None else int(t.headerRowCount)
+        totals = int(t.totalsRowCount or 0)
+        if header_rows < 1:
+            self.bad(
+                cell_ref(ws.title, min_row, min_col),
+                f"the table {name} has its header row switched off; switch it on again "
+                "(Table Design > Header Row)",
+            )
+            return None
+        header_row = min_row
+        columns: dict[str, int] = {}
+        for k, tc in enumerate(t.tableColumns):
+            columns.setdefault(_norm(tc.name), min_col + k)
+        if not t.tableColumns:  # a table written without column records: read the header row
+            for col in range(min_col, max_col + 1):
+                v = self.raw(ws, header_row, col)
+                if isinstance(v, str):
+                    columns.setdefault(_norm(v), col)
+        missing = [h for h in L.TABLE_COLUMNS[name] if _norm(h) not in columns]
+        if missing:
+            have = ", ".join(f"'{h}'" for h in L.TABLE_COLUMNS[name])
+            for h in missing:
+                self.bad(
+                    cell_ref(ws.title, header_row, min_col),
+                    f"the table {name} has no column '{h}'; restore its header "
+                    f"(the columns are {have})",
+                )
+            return None
+        return _Table(
+            name,
+            ws,
+            header_row,
+            min_row + header_rows,
+            max_row - totals,
+            max_row,
+            min_col,
+            max_col,
+            columns,
+        )
+
+    def rows(self, t: _Table) -> list[_Row]:
+        """The table's non-blank rows (blank rows are skipped) and a check below it."""
+        out = []
+        headers = L.TABLE_COLUMNS[t.name]
+        for r in range(t.first_row, t.last_row + 1):
+            values = {h: self.raw(t.ws, r, t.col(h)) for h in headers}
+            if all(_blank(v) for v in values.values()):
+                continue
+            out.append(_Row(r, values))
+        below = t.end_row + 1
+        for col in range(t.min_col, t.max_col + 1):
+            cell = t.ws._cells.get((below, col))
+            if cell is not None and not _blank(cell.value):
+                self.bad(
+                    cell_ref(t.ws.title, below, col),
+                    f"this value sits just below the table {t.name} and is not read; extend "
+                    "the table over it (drag the handle at the table's bottom-right corner)",
+                )
+                break
+        return out
+
+    def where(self, t: _Table, row: int, header: str) -> str:
+        return cell_ref(t.ws.title, row, t.col(header))
+
+    # -- the plan ---------------------------------------------------------------------------
+
+    def plan(self) -> Plan:
+        ours = {t.casefold() for t in L.TABLE_COLUMNS}
+        if not any(self.wb.defined_names.get(f.name) is not None for f in L.ALL_FIELDS) and not any(
+            t.casefold() in ours for ws in self.wb.worksheets for t in ws.tables
+        ):
+            raise PlanError(
+                "this workbook has none of the wzq input names or tables; start from a "
+                "workbook made by `wzq new` and copy your inputs into it",
+                where=self.source,
+            )
+        system = self.field(L.UNIT_SYSTEM)
+        self.system = None if system is _MISSING else system
+        site_fields = (f for s in L.SITE_SECTIONS for f in s.fields)
+        values = {
+            f.name: self.field(f)
+            for f in (*L.META_FIELDS, *site_fields, *L.THRESHOLD_FIELDS, *L.OPTION_FIELDS)
+        }
+        self.check_speeds(values)
+        costs = self.costs()
+        demand = self.demand(values.get("site_lanes"))
+        closures = self.closures(values.get("site_lanes"), demand)
+        if self.problems:
+            raise PlanError(self.problems)
+        plan_kw = self.assemble(values, costs, demand, closures)
+        try:
+            return Plan(**plan_kw)
+        except PlanError as e:
+            mapped = [Problem(self.map_key(p.where), p.message) for p in e.problems]
+            raise PlanError(mapped) from None
+
+    def check_speeds(self, v: dict[str, Any]) -> None:
+        limit, wz = v.get("site_speed_limit"), v.get("site_work_zone_speed_limit")
+        if isinstance(limit, float) and isinstance(wz, float) and wz > limit:
+            self.bad(
+                self.where_of["site_work_zone_speed_limit"],
+                f"the work-zone speed limit ({_fmt(wz)}) is above the speed limit "
+                f"({_fmt(limit)}); check both",
+            )
+
+    def costs(self) -> Any:
+        """Road-user costs; ``None`` when the three main values are all blank."""
+        locs = {f.name: self.locate(f) for f in L.COST_FIELDS}
+        main = {n: _MISSING if locs[n] is None else self.raw(*locs[n]) for n in L.COST_MAIN}
+        if any(v is _MISSING for v in main.values()):
+            return _MISSING
+        if all(_blank(v) for v in main.values()):
+            return None  # no road-user costs
+        got: dict[str, Any] = {}
+        for f in L.COST_FIELDS:
+            loc = locs[f.name]
+            if loc is None:
+                got[f.name] = _MISSING
+                continue
+            v = main[f.name] if f.name in main else self.raw(*loc)
+            where = cell_ref(loc[0].title, loc[1], loc[2])
+            if v is not _MISSING and _blank(v) and f.required:
+                got[f.name] = self.bad(
+                    where,
+                    f"{f.label} is blank; road-user costs need it once a value of time or the "
+                    "occupancy is given (leave those three blank to skip costs)",
+                )
+            else:
+                got[f.name] = self.convert(v, f, where)
+        if any(v is _MISSING for v in got.values()):
+            return _MISSING
+        tp = got["cost_truck_percent"]
+        return Costs(
+            car_value_per_person_h=got["cost_car_value"],
+            car_occupancy=got["cost_car_occupancy"],
+            truck_value_per_veh_h=got["cost_truck_value"],
+            truck_share=None if tp is None else tp / 100.0,
+            currency=got["cost_currency"],
+            dollar_year=got["cost_dollar_year"],
+        )
+
+    # -- demand -----------------------------------------------------------------------------
+
+    def demand(self, lanes: Any) -> Demand | None:
+        mode = self.field(L.DEMAND_MODE)
+        if mode is _MISSING:
+            return None
+        if mode == L.AADT:
+            return self.demand_from_aadt()
+        return self.demand_from_counts(lanes)
+
+    def demand_from_counts(self, lanes: Any) -> Demand | None:
+        t = self.table(L.DEMAND_TABLE)
+        if t is None:
+            return None
+        c_date, c_time, c_flow = L.DEMAND_COLUMNS
+        entries: list[tuple[dt.datetime, float, int]] = []
+        ok = True
+        for r in self.rows(t):
+            start = self.moment(t, r, c_date, c_time, "Start time")
+            where = self.where(t, r.row, c_flow)
+            x = self.convert(r.values[c_flow], _FLOW, where)
+            if x is not _MISSING and isinstance(lanes, int) and x > MAX_DEMAND_VEH_H_LN * lanes:
+                x = self.bad(
+                    where,
+                    f"Demand {_fmt(x)} veh/h is more than {MAX_DEMAND_VEH_H_LN:,.0f} veh/h per "
+                    f"lane on {lanes} lanes; enter hourly flow in this direction only (not a "
+                    "two-way count or a daily total)",
+                )
+            if start is _MISSING or x is _MISSING:
+                ok = False
+                continue
+            entries.append((start, x, r.row))
+        if not entries:
+            if ok:
+                self.bad(
+                    cell_ref(t.ws.title, t.first_row, t.min_col),
+                    f"the table {t.name} has no demand rows; type the hourly counts or set "
+                    "'Demand is given as' to 'from AADT'",
+                )
+            return None
+        return self.demand_grid(t, entries) if ok else None
+
+    def moment(self, t: _Table, r: _Row, c_date: str, c_time: str, label: str) -> Any:
+        """Date + time of day in a table row as one datetime."""
+        d_where, t_where = self.where(t, r.row, c_date), self.where(t, r.row, c_time)
+        dv, tv = r.values[c_date], r.values[c_time]
+        if dv is _MISSING or tv is _MISSING:
+            return _MISSING
+        if _blank(tv) and isinstance(dv, dt.datetime) and dv.time() != dt.time():
+            return dv  # a full date-time typed in the Date column
+        clock = (
+            self.bad(t_where, f"{label} is blank; type a time like 07:00")
+            if _blank(tv)
+            else self.clock(tv, label, t_where, allow_24=False)
+        )
+        if isinstance(clock, dt.datetime):
+            if _blank(dv):
+                return clock
+            day = self.date(dv, "Date", d_where)
+            if day is not _MISSING and day != clock.date():
+                return self.bad(
+                    t_where,
+                    f"{label} holds the date {clock:%Y-%m-%d} but Date is {day:%Y-%m-%d}; "
+                    "make them agree",
+                )
+            return clock
+        day = (
+            self.bad(d_where, "Date is blank; type the date, e.g. 2027-05-03")
+            if _blank(dv)
+            else self.date(dv, "Date", d_where)
+        )
+        if day is _MISSING or clock is _MISSING:
+            return _MISSING
+        return dt.datetime.combine(day, dt.time()) + dt.timedelta(seconds=clock.seconds)
+
+    def demand_grid(self, t: _Table, entries: list[tuple[dt.datetime, float, int]]) -> Any:
+        """Check the rows form one regular grid from the hour to the hour; build the demand."""
+        c_time = L.DEMAND_COLUMNS[1]
+        entries.sort(key=lambda e: e[0])
+        before = len(self.problems)
+        seen: dict[dt.datetime, int] = {}
+        unique = []
+        for when, flow, row in entries:
+            if when in seen:
+                self.bad(
+                    self.where(t, row, c_time),
+                    f"the start time {_when(when)} is also in row {seen[when]}; "
+                    "remove one of the two rows",
+                )
+                continue
+            seen[when] = row
+            unique.append((when, flow, row))
+        times = [e[0] for e in unique]
+        steps = [(b - a).total_seconds() for a, b in pairwise(times)]
+        interval = int(min(steps)) if steps else 3600
+        if steps and (interval % 60 or 3600 % interval):
+            self.bad(
+                self.where(t, unique[1][2], c_time),
+                f"rows are {_fmt(interval / 60)} minutes apart; use hourly or 15-minute rows "
+                "(any whole number of minutes that divides an hour)",
+            )
+            return None
+        for (a, _, ra), (b, _, rb), step in zip(unique, unique[1:], steps, strict=False):
+            if step == interval:
+                continue
+            if step % interval == 0:
+                self.bad(
+                    self.where(t, rb, c_time),
+                    f"no demand from {_when(a + dt.timedelta(seconds=interval))} to "
+                    f"{_when(b)} (between rows {ra} and {rb}); add the missing rows",
+                )
+            else:
+                self.bad(
+                    self.where(t, rb, c_time),
+                    f"rows {ra} and {rb} are {_fmt(step / 60)} minutes apart but other rows "
+                    f"are {_fmt(interval / 60)} minutes apart; use one interval throughout",
+                )
+        first, last = unique[0], unique[-1]
+        if first[0].minute or first[0].second:
+            self.bad(
+                self.where(t, first[2], c_time),
+                f"the demand must start on the hour, but the earliest row starts at "
+                f"{first[0]:%H:%M}; add rows back to {first[0]:%H}:00",
+            )
+        end = last[0] + dt.timedelta(seconds=interval)
+        if end.minute or end.second:
+            self.bad(
+                self.where(t, last[2], c_time),
+                f"the demand must cover whole hours, but it ends at {end:%H:%M}; add rows up "
+                "to the next full hour",
+            )
+        if len(self.problems) > before:
+            return None
+        self._demand_rows = [self.where(t, row, L.DEMAND_COLUMNS[2]) for _, _, row in unique]
+        return Demand(first[0], interval, np.array([e[1] for e in unique]))
+
+    def demand_from_aadt(self) -> Demand | None:
+        v = {f.name: self.field(f) for f in L.AADT_FIELDS}
+        shares = self.hourly_shares()
+        if any(x is _MISSING for x in v.values()) or shares is None:
+            return None
+        first: dt.date = v["aadt_first_day"]
+        growth = (1.0 + v["aadt_growth_percent"] / 100.0) ** (first.year - v["aadt_count_year"])
+        daily = v["aadt_value"] * growth * v["aadt_direction_percent"] / 100.0
+        weekday, weekend = shares
+        flows = []
+        for k in range(v["aadt_days"]):
+            day = first + dt.timedelta(days=k)
+            flows.extend(daily * s / 100.0 for s in (weekend if day.weekday() >= 5 else weekday))
+        self._demand_rows = [self.where_of["aadt_value"]] * len(flows)
+        return Demand(dt.datetime.combine(first, dt.time()), 3600, np.array(flows))
+
+    def hourly_shares(self) -> tuple[list[float], list[float]] | None:
+        t = self.table(L.SHARE_TABLE)
+        if t is None:
+            return None
+        c_hour, c_wd, c_we = L.SHARE_COLUMNS
+        by_hour: dict[int, tuple[float, float]] = {}
+        ok = True
+        for r in self.rows(t):
+            hw = self.where(t, r.row, c_hour)
+            h = r.values[c_hour]
+            if isinstance(h, int | float) and not isinstance(h, bool) and h >= 1:
+                hour: Any = (
+                    int(h)
+                    if h == int(h) and h < 24
+                    else self.bad(
+                        hw, f"Hour {_fmt(h)} is not an hour of the day; use 0-23 or 00:00-23:00"
+                    )
+                )
+            elif _blank(h):
+                hour = self.bad(hw, "Hour is blank; type the hour the share starts, e.g. 07:00")
+            else:
+                c = self.clock(h, "Hour", hw, allow_24=False)
+                if isinstance(c, dt.datetime):
+                    c = self.bad(hw, "Hour holds a date; type only the hour, e.g. 07:00")
+                if c is not _MISSING and c.seconds % 3600:
+                    c = self.bad(hw, "Hour must be a whole hour, e.g. 07:00")
+                hour = _MISSING if c is _MISSING else c.seconds // 3600
+            pair = [
+                self.convert(r.values[col], _SHARES[col], self.where(t, r.row, col))
+                for col in (c_wd, c_we)
+            ]
+            if hour is _MISSING or _MISSING in pair:
+                ok = False
+                continue
+            if hour in by_hour:
+                self.bad(hw, f"hour {hour:02d}:00 appears twice; keep one row per hour")
+                ok = False
+                continue
+            by_hour[hour] = (pair[0], pair[1])
+        if not ok:
+            return None
+        missing = [h for h in range(24) if h not in by_hour]
+        if missing:
+            self.bad(
+                cell_ref(t.ws.title, t.header_row, t.col(c_hour)),
+                f"{t.name} has no share for hour(s) "
+                f"{', '.join(f'{h:02d}:00' for h in missing)}; give all 24 hours",
+            )
+            return None
+        weekday = [by_hour[h][0] for h in range(24)]
+        weekend = [by_hour[h][1] for h in range(24)]
+        for col, values in ((c_wd, weekday), (c_we, weekend)):
+            total = sum(values)
+            if abs(total - 100.0) > L.SHARE_SUM_TOLERANCE:
+                self.bad(
+                    cell_ref(t.ws.title, t.header_row, t.col(col)),
+                    f"the column '{col}' sums to {total:.1f} %, not 100 %; correct the shares",
+                )
+                ok = False
+        return (weekday, weekend) if ok else None
+
+    # -- closures ---------------------------------------------------------------------------
+
+    def closures(self, lanes: Any, demand: Demand | None) -> list[Closure] | None:
+        t = self.table(L.CLOSURE_TABLE)
+        if t is None:
+            return None
+        c_date, c_from, c_to, c_lanes, c_barrier, c_night, c_override, c_note = L.CLOSURE_COLUMNS
+        found: list[tuple[Closure, int]] = []
+        ok = True
+        for r in self.rows(t):
+            w = lambda h, r=r: self.where(t, r.row, h)  # noqa: E731
+            start = self.moment(t, r, c_date, c_from, "From")
+            end = self.closure_end(r.values[c_to], start, w(c_to))
+            n = self.convert(r.values[c_lanes], _LANES_CLOSED, w(c_lanes))
+            if n is not _MISSING and isinstance(lanes, int) and n >= lanes:
+                what = (
+                    f"all {lanes} lanes closed"
+                    if n == lanes
+                    else f"{n} lanes closed but the road has {lanes}"
+                )
+                n = self.bad(
+                    w(c_lanes),
+                    f"{what}; at least one lane must stay open (a full closure needs a detour "
+                    "plan, not this analysis)",
+                )
+            barrier = self.convert(r.values[c_barrier], _BARRIER, w(c_barrier))
+            night = self.convert(r.values[c_night], _NIGHT, w(c_night))
+            override = self.convert(r.values[c_override], _OVERRIDE, w(c_override))
+            note = self.convert(r.values[c_note], _NOTE, w(c_note))
+            parts = (start, end, n, barrier, night, override, note)
+            if any(p is _MISSING for p in parts):
+                ok = False
+                continue
+            closure = Closure(
+                start=start,
+                end=end,
+                lanes_closed=n,
+                barrier=barrier,
+                night=night,
+                capacity_override_veh_h_ln=override,
+                note=note,
+            )
+            if demand is not None and (closure.start < demand.start or closure.end > demand.end):
+                self.bad(
+                    w(c_date),
+                    f"the closure {_when(closure.start)} to {_when(closure.end)} lies outside "
+                    f"the demand period {_when(demand.start)} to {_when(demand.end)}; extend "
+                    "the demand or move the closure",
+                )
+            found.append((closure, r.row))
+        found.sort(key=lambda e: e[0].start)
+        latest: tuple[Closure, int] | None = None  # the earlier closure that ends last
+        for b, rb in found:
+            if latest is not None and b.start < latest[0].end:
+                a, ra = latest
+                self.bad(
+                    self.where(t, rb, c_from),
+                    f"this closure ({_when(b.start)} to {_when(b.end)}) overlaps the one in row "
+                    f"{ra} ({_when(a.start)} to {_when(a.end)}); one closure at a time: merge "
+                    "them or move one",
+                )
+                ok = False
+            if latest is None or b.end > latest[0].end:
+                latest = (b, rb)
+        self._closure_rows = [self.where(t, row, c_date) for _, row in found]
+        return [c for c, _ in found] if ok else None
+
+    def closure_end(self, v: Any, start: Any, where: str) -> Any:
+        """End of a closure from ``To``: next day if at or before ``From``; 24:00 is midnight."""
+        if v is _MISSING:
+            return v
+        if _blank(v):
+            return self.bad(where, "To is blank; type the end time, e.g. 05:00")
+        c = self.clock(v, "To", where, allow_24=True)
+        if c is _MISSING or start is _MISSING:
+            return _MISSING
+        if isinstance(c, dt.datetime):
+            if c <= start:
+                return self.bad(
+                    where,
+                    f"the closure ends ({_when(c)}) before it starts ({_when(start)}); check "
+                    "the date and time in To",
+                )
+            return c
+        day = dt.datetime.combine(start.date(), dt.time())
+        end = day + dt.timedelta(seconds=c.seconds)
+        if end <= start:
+            end += dt.timedelta(days=1)
+        return end
+
+    # -- assembling -------------------------------------------------------------------------
+
+    def assemble(
+        self,
+        v: dict[str, Any],
+        costs: Costs | None,
+        demand: Demand | None,
+        closures: list[Closure] | None,
+    ) -> dict[str, Any]:
+        system = self.system
+        assert system is not None and demand is not None and closures is not None
+        spd = lambda x: None if x is None else u.speed_to_mps(x, system)  # noqa: E731
+        jam = v["site_jam_density"]
+        site = Site(
+            lanes=v["site_lanes"],
+            speed_limit=spd(v["site_speed_limit"]),
+            work_zone_speed_limit=spd(v["site_work_zone_speed_limit"]),
+            work_zone_length=u.long_length_to_m(v["site_work_zone_length"], system),
+            free_flow_speed=spd(v["site_free_flow_speed"]),
+            heavy_vehicle_share=v["site_heavy_vehicle_percent"] / 100.0,
+            terrain=v["site_terrain"],
+            area_type=v["site_area_type"],
+            lateral_clearance=u.short_length_to_m(v["site_lateral_clearance"], system),
+            driver_population=v["site_driver_population"],
+            jam_density=None if jam is None else u.density_to_per_m(jam, system),
+            ramp_density=v["site_ramp_density"] / u.LONG_LENGTH[system][1],
+            capacity_method=v["site_capacity_method"],
+            base_capacity_pc_h_ln=v["site_base_capacity"],
+            capacity_drop_pct_work_zone=v["site_capacity_drop_work_zone"],
+            capacity_drop_pct_open=v["site_capacity_drop_open"],
+            work_intensity_pc_h_ln=v["site_work_intensity"],
+            ramp_adjustment_pc_h_ln=v["site_ramp_adjustment"],
+            name=v["site_name"],
+            direction=v["site_direction"],
+            unit_system=system,
+        )
+        q, d = v["limit_queue_length"], v["limit_average_delay"]
+        thresholds = Thresholds(
+            max_queue_length=None if q is None else u.long_length_to_m(q, system),
+            max_average_delay=None if d is None else d * u.MINUTE,
+            max_demand_capacity=v["limit_demand_capacity"],
+        )
+        options = Options(
+            capacity_drop=v["opt_capacity_drop"],
+            diagram=v["opt_diagram"],
+            queue_length_method=v["opt_queue_length_method"],
+        )
+        meta = Meta(
+            title=v["meta_title"],
+            project=v["meta_project"],
+            route=v["meta_route"],
+            prepared_by=v["meta_prepared_by"],
+            checked_by=v["meta_checked_by"],
+            notes=v["meta_notes"],
+        )
+        return dict(
+            site=site,
+            demand=demand,
+            closures=tuple(closures),
+            thresholds=thresholds,
+            costs=costs,
+            options=options,
+            meta=meta,
+        )
+
+    def map_key(self, key: str) -> str:
+        """A ``wzq.plan.validate`` location (``closures[2].barrier``) as a sheet cell."""
+        if key in _PLAN_KEYS and _PLAN_KEYS[key] in self.where_of:
+            return self.where_of[_PLAN_KEYS[key]]
+        m = re.fullmatch(r"(closures|demand)\[(\d+)\](?:\..*)?", key)
+        if m:
+            cells = self._closure_rows if m.group(1) == "closures" else self._demand_rows
+            i = int(m.group(2))
+            if i < len(cells):
+                return cells[i]
+        if key.startswith("demand") and self._demand_rows:
+            return self._demand_rows[0]
+        return f"{self.source}: {key}"
+
+
+def _pad_iso(text: str) -> str:
+    """``2027-5-3`` -> ``2027-05-03``."""
+    y, m, d = text.split("-")
+    return f"{y}-{int(m):02d}-{int(d):02d}"
