@@ -253,9 +253,10 @@ class FundamentalDiagram(ABC):
         Non-decreasing in ``k``.
         """
         kk = self._densities(k)
-        return _result(
-            np.clip(self._flow(np.minimum(kk, self.critical_density)), 0.0, self.capacity)
-        )
+        # capacity exactly from the critical density on, so that rounding in the
+        # two branches can never make the function dip by one unit in the last place
+        flow = np.clip(self._flow(np.minimum(kk, self.critical_density)), 0.0, self.capacity)
+        return _result(np.where(kk >= self.critical_density, self.capacity, flow))
 
     def supply(self, k: npt.ArrayLike) -> FloatOrArray:
         """Receiving function ``Q(max(k, k_c))`` in veh/s/ln.
@@ -265,9 +266,8 @@ class FundamentalDiagram(ABC):
         1996). Non-increasing in ``k``.
         """
         kk = self._densities(k)
-        return _result(
-            np.clip(self._flow(np.maximum(kk, self.critical_density)), 0.0, self.capacity)
-        )
+        flow = np.clip(self._flow(np.maximum(kk, self.critical_density)), 0.0, self.capacity)
+        return _result(np.where(kk <= self.critical_density, self.capacity, flow))
 
 
 def _greenshields_roots(
