@@ -16,9 +16,14 @@ from wzq.planio import load_plan
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 
 
-def test_demo_prints_the_hourly_table(capsys: pytest.CaptureFixture[str]) -> None:
+def test_demo_prints_the_hourly_table(
+    capsys: pytest.CaptureFixture[str], tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    monkeypatch.chdir(tmp_path)
     assert main(["demo"]) == 0
     out = capsys.readouterr().out
+    written = list(tmp_path.glob("*.xlsx"))
+    assert len(written) == 1 and written[0].name in out
     result = wzq.analyse(load_plan(EXAMPLES / "kestrel_ridge_weeknight.json"))
     s = result.summary
     assert f"{s.max_queue_length_m / 1609.344:,.2f} mi" in out

@@ -99,6 +99,11 @@ def print_result(result: Result, *, all_hours: bool = False, out=None) -> None:
 def cmd_demo(args: argparse.Namespace) -> int:
     result = wzq.analyse(demo_plan())
     print_result(result, all_hours=args.all_hours)
+    if not args.no_workbook:
+        from wzq.workbook.run import write_demo_workbook
+
+        path = write_demo_workbook(args.path)
+        print(f"\nwrote the example workbook with its results: {path}")
     return EXIT_OK
 
 
@@ -122,13 +127,22 @@ def build_parser() -> argparse.ArgumentParser:
         "demo",
         help="analyse the shipped invented example and print the hourly table",
         description="Analyse the shipped invented example (a two-night closure on the "
-        "fictional Kestrel Ridge Parkway) and print the summary and hourly table.",
+        "fictional Kestrel Ridge Parkway), print the summary and hourly table, and write "
+        "the filled example workbook with its results (never over an existing file).",
+    )
+    p.add_argument(
+        "path",
+        nargs="?",
+        default=".",
+        metavar="PATH",
+        help="folder or .xlsx file for the example workbook (default: the current folder)",
     )
     p.add_argument(
         "--all-hours",
         action="store_true",
         help="show every hour, not only closure hours and hours with a queue",
     )
+    p.add_argument("--no-workbook", action="store_true", help="print only; write no workbook")
     p.set_defaults(func=cmd_demo)
 
     p = sub.add_parser(

@@ -1,0 +1,38 @@
+"""Rebuild the example workbooks from the JSON plans beside this script.
+
+Each plan (an invented scenario) is typed into a fresh template and analysed,
+so the workbook holds the inputs, the results, the charts and the permit
+table:
+
+- ``kestrel_ridge_weeknight.xlsx``: two night closures on the fictional
+  Kestrel Ridge Parkway (one lane, then two of three lanes);
+- ``fenwick_downs_weekend.xlsx``: a Saturday daytime closure on the fictional
+  Fenwick Downs Motorway that builds a long queue.
+
+    python examples/build_examples.py
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+from wzq.planio import load_plan
+from wzq.workbook.run import write_filled_workbook
+
+HERE = Path(__file__).resolve().parent
+PLANS = ("kestrel_ridge_weeknight", "fenwick_downs_weekend")
+
+
+def main() -> int:
+    for name in PLANS:
+        target = HERE / f"{name}.xlsx"
+        target.unlink(missing_ok=True)
+        result = write_filled_workbook(load_plan(HERE / f"{name}.json"), target)
+        failing = len(result.summary.hours_failing)
+        print(f"wrote {target.name}: {len(result.hourly)} hours, {failing} over a limit")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
