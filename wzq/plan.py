@@ -180,6 +180,7 @@ class Options:
     capacity_drop: bool = True
     diagram: Diagram = "triangular"
     queue_length_method: QueueLengthMethod = "newell"
+    space_time: bool = False  # add the LWR space-time picture to the outputs
 
 
 @dataclass(frozen=True)

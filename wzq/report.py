@@ -836,6 +836,30 @@ def charts_section(
     ]
 
 
+def space_time_section(
+    result: Result, st: Styles, width: float, height: float, vector: bool
+) -> list[Flowable]:
+    """The LWR space-time check, when the plan asks for it (options.space_time)."""
+    from wzq.lwr import simulate
+    from wzq.spacetime import space_time_figure
+
+    sim = simulate(result)
+    fig = space_time_figure(sim, caution=False)
+    w_in, h_in = fig.get_size_inches()
+    scale = min(1.0, (height - 80) / (h_in * 72 * width / (w_in * 72)))
+    caption = (
+        "Figure 4. Space-time check: a kinematic-wave (LWR) simulation of the approach by "
+        "Godunov's scheme in its cell-transmission form, shaded by speed, with the back of "
+        "the queue it gives (solid) and the engine's queue length (dashed)."
+    )
+    notes = [Paragraph(text(w), st.small) for w in sim.warnings]
+    return [
+        Paragraph("Space-time check", st.h1),
+        KeepTogether([_chart(fig, width * scale, vector), Paragraph(caption, st.caption)]),
+        *notes,
+    ]
+
+
 def method_section(result: Result, st: Styles, width: float) -> list[Flowable]:
     """What the engine did, naming the published sources it follows."""
     plan = result.plan
@@ -1053,6 +1077,8 @@ def build_report(
     story += [PageBreak(), *inputs_section(result, st, width)]
     story += [PageBreak(), *hourly_section(result, st, width)]
     story += [PageBreak(), *charts_section(result, st, width, height, vector)]
+    if plan.options.space_time:
+        story += [PageBreak(), *space_time_section(result, st, width, height, vector)]
     story += [PageBreak(), *method_section(result, st, width)]
     try:
         doc.build(story, canvasmaker=NumberedCanvas)

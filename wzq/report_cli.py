@@ -6,6 +6,7 @@ Importing this module adds the command to :data:`wzq.cli.EXTRA_COMMANDS`.
 from __future__ import annotations
 
 import argparse
+import dataclasses
 from pathlib import Path
 
 import wzq
@@ -49,6 +50,10 @@ def output_path(source: Path, output: str | None) -> Path:
 def cmd_report(args: argparse.Namespace) -> int:
     source = Path(args.path)
     plan = load_any(source)
+    if args.space_time is not None:
+        plan = dataclasses.replace(
+            plan, options=dataclasses.replace(plan.options, space_time=args.space_time)
+        )
     out = output_path(source, args.output)
     result = wzq.analyse(plan)
     try:
@@ -89,6 +94,13 @@ def register(sub: argparse._SubParsersAction) -> None:
         choices=tuple(PAPERS),
         default="letter",
         help="paper size, used in landscape (default: letter)",
+    )
+    p.add_argument(
+        "--space-time",
+        action=argparse.BooleanOptionalAction,
+        default=None,
+        help="add (or leave out) the space-time check, an LWR simulation of the approach "
+        "(default: as the plan says)",
     )
     p.set_defaults(func=cmd_report)
 

@@ -367,7 +367,23 @@ SITE_SECTIONS: tuple[Section, ...] = (
             ),
         ),
     ),
+    Section(
+        "Checks",
+        (
+            Field(
+                "site_space_time",
+                "Space-time picture (LWR simulation)",
+                "choice",
+                template="no",
+                choices=YES_NO_WORDS,
+                note="yes: simulate the approach and add a distance-time picture to Charts",
+            ),
+        ),
+    ),
 )
+#: Names a workbook made by an older template may lack; the reader then uses the
+#: template value instead of reporting a problem.
+OPTIONAL_NAMES: frozenset[str] = frozenset({"site_space_time"})
 
 # Limits sheet --------------------------------------------------------------------------------
 

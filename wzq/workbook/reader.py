@@ -368,6 +368,8 @@ class _BookReader:
 
     def field(self, field: L.Field) -> Any:
         """The typed value of a named input cell (``_MISSING`` after a problem)."""
+        if field.name in L.OPTIONAL_NAMES and self.wb.defined_names.get(field.name) is None:
+            return self.convert(field.template, field, field.name)
         loc = self.locate(field)
         if loc is None:
             return _MISSING
@@ -1050,6 +1052,7 @@ class _BookReader:
             capacity_drop=v["opt_capacity_drop"],
             diagram=v["opt_diagram"],
             queue_length_method=v["opt_queue_length_method"],
+            space_time=v["site_space_time"],
         )
         meta = Meta(
             title=v["meta_title"],

@@ -125,14 +125,19 @@ def _check_keepable(src: Path, target: Path) -> None:
 
 
 def run_workbook(
-    path: str | Path, out: str | Path | None = None, *, run_time: str | None = None
+    path: str | Path,
+    out: str | Path | None = None,
+    *,
+    run_time: str | None = None,
+    space_time: bool | None = None,
 ) -> Result:
     """Analyse the plan in workbook ``path`` and write the results into it (or into ``out``).
 
     Raises :class:`PlanError` (every problem, with sheet and cell) before
     anything is written; the input file is never changed unless it is the
     target, and then only by one atomic replace. ``run_time`` (UTC, ISO 8601)
-    defaults to now.
+    defaults to now. ``space_time`` adds the LWR space-time picture to the
+    Charts sheet (``None``: as the workbook's Site sheet says).
     """
     src = Path(path)
     target = Path(out) if out is not None else src
@@ -145,6 +150,10 @@ def run_workbook(
     plan = read_plan_from_book(book, src.name, src)
     result = wzq.analyse(plan)
     write_results(book, result, source=src.name, run_time=run_time)
+    if plan.options.space_time if space_time is None else space_time:
+        from wzq.workbook.pictures import add_space_time
+
+        result.warnings.extend(add_space_time(book, result))
     save_atomic(book, target)
     return result
 
@@ -193,6 +202,7 @@ _TYPED: dict[tuple[str, str], tuple[str, layout.Choices | None]] = {
     ("options", "capacity_drop"): ("opt_capacity_drop", layout.YES_NO_WORDS),
     ("options", "diagram"): ("opt_diagram", layout.DIAGRAM_WORDS),
     ("options", "queue_length_method"): ("opt_queue_length_method", layout.QUEUE_METHOD_WORDS),
+    ("options", "space_time"): ("site_space_time", layout.YES_NO_WORDS),
 }
 
 
@@ -342,7 +352,7 @@ def write_demo_workbook(path: str | Path = ".") -> Path:
 def cmd_run(args: argparse.Namespace) -> int:
     """``wzq run PATH [-o OUT]``."""
     target = Path(args.output) if args.output else Path(args.path)
-    result = run_workbook(args.path, args.output)
+    result = run_workbook(args.path, args.output, space_time=args.space_time)
     print(f"wrote the results to {target}")
     width = max(len(k) for k, _ in summary_lines(result))
     for label, text in summary_lines(result):
@@ -374,6 +384,13 @@ def register(sub: argparse._SubParsersAction) -> None:
         metavar="OUT",
         help="write the workbook with its results to OUT and leave PATH as it is "
         "(same file type as PATH)",
+    )
+    p.add_argument(
+        "--space-time",
+        action=argparse.BooleanOptionalAction,
+        default=None,
+        help="add (or leave out) the space-time picture of an LWR simulation of the "
+        "approach on the Charts sheet (default: as the Site sheet says)",
     )
     p.set_defaults(func=cmd_run)
 
