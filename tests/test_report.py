@@ -237,7 +237,9 @@ def test_open_road_metric_report(open_metric) -> None:
     assert "OVER" not in table and "No agency limits were entered" in flat(table)
     assert len(table_rows(texts, 10)) == 12  # 48 quarter-hours = 12 hours
     assert "no queue forms" in flat(" ".join(texts)).lower()
-    assert "Road-user delay cost" not in texts[0]
+    # no costs entered: priced at the published defaults (wzq.costs.DEFAULT_COSTS);
+    # an open road with no queue and no closure costs nothing
+    assert "Road-user delay cost 0 USD (2017 prices)" in flat(texts[0])
 
 
 def test_demand_column_is_the_plans_input(one_day) -> None:
@@ -520,7 +522,9 @@ def test_textbook_plan_report_numbers() -> None:
     assert ends == [1000, 2000, 1000, 0, 0, 0]
     assert "4,000.0 veh-h" in texts[0]
     assert "HCM 2000, Chapter 22" in flat(texts[-1])
-    assert "FHWA-HOP-12-005" not in flat(texts[-1])  # no costs entered
+    # no costs entered: priced at the published defaults (wzq.costs.DEFAULT_COSTS)
+    assert "FHWA-HOP-12-005" in flat(texts[-1])
+    assert "published defaults" in flat(texts[-1])
 
 
 # --- files and the command line -----------------------------------------------------------------

@@ -25,6 +25,7 @@ import numpy as np
 import pandas as pd
 
 from wzq import capacity as cap
+from wzq import costs as road_user_costs
 from wzq import newell
 from wzq.flow import FundamentalDiagram, Triangular, make_diagram
 from wzq.plan import Closure, Plan, Site
@@ -430,6 +431,7 @@ def hourly_table(r: Run) -> pd.DataFrame:
         "delay_veh_h": delay,
         "average_delay_min": avg,
         "max_queue_wait_min": max_wait,
+        "road_user_cost": road_user_costs.plan_delay_cost(r.plan, delay),
     }
     th = r.plan.thresholds
     checks: list[tuple[str, str, np.ndarray]] = []
@@ -489,6 +491,7 @@ def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
         last_queue_clears=last_clear,
         queue_at_end_veh=float(q.queue[-1]),
         hours_failing=failing,
+        total_cost=float(road_user_costs.plan_delay_cost(r.plan, qd + wd)),
     )
 
 

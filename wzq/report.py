@@ -944,8 +944,15 @@ def method_section(result: Result, st: Styles, width: float) -> list[Flowable]:
         p.append(
             "<b>Road-user cost.</b> Delay cost by the method of FHWA, Work Zone Road User "
             "Costs: Concepts and Applications (FHWA-HOP-12-005, 2011): delay vehicle-hours "
-            "times the value of time of each vehicle class, with the values entered for this "
-            "plan. Vehicle operating, crash and emission costs are not included."
+            "times the value of time of each vehicle class, "
+            + (
+                "with the values entered for this plan. "
+                if result.plan.costs is not None
+                else "with wzq's published defaults (Texas A&amp;M Transportation Institute "
+                "memo to TxDOT, 2018, in 2017 dollars), as no values were entered; update them "
+                "to the agency's current values. "
+            )
+            + "Vehicle operating, crash and emission costs are not included."
         )
     p.append(
         "<b>Limits.</b> Each hour is checked against the agency limits entered: the longest "

@@ -11,6 +11,7 @@ from dataclasses import dataclass
 
 import pandas as pd
 
+from wzq import costs as road_user_costs
 from wzq import units as u
 from wzq.analysis import Result
 
@@ -95,7 +96,9 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
         ("Hours over a limit", str(len(s.hours_failing))),
     ]
     if s.total_cost is not None:
+        c = road_user_costs.plan_costs(result.plan)
         lines.insert(
-            2, ("Road-user delay cost", f"{s.total_cost:,.0f} {result.plan.costs.currency}")
+            3,
+            ("Road-user delay cost", f"{s.total_cost:,.0f} {c.currency} ({c.dollar_year} prices)"),
         )
     return lines

@@ -31,7 +31,8 @@ SUMMARY = "Summary"
 CHARTS = "Charts"
 PERMIT_TABLE = "Permit table"
 RUN_LOG = "Run log"
-OUTPUT_SHEETS: tuple[str, ...] = (RESULTS, SUMMARY, CHARTS, PERMIT_TABLE, RUN_LOG)
+WINDOWS = "Closure windows"
+OUTPUT_SHEETS: tuple[str, ...] = (RESULTS, SUMMARY, CHARTS, PERMIT_TABLE, WINDOWS, RUN_LOG)
 
 #: File names of the committed templates in ``workbook_templates/``.
 TEMPLATE_STEM = "closure_plan"

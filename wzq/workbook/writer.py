@@ -703,6 +703,15 @@ def write_run_log(
 # --- the whole write-back ---------------------------------------------------------------
 
 
+def _windows_sheet(book: Workbook, result: Result) -> None:
+    """The allowable closure hours of each configuration on this plan's demand."""
+    from wzq.windows import plan_windows
+    from wzq.workbook.windows_sheet import write_windows_sheet
+
+    # replaces the empty sheet made by _replace_sheets, at the same position
+    write_windows_sheet(book, plan_windows(result.plan), result.plan)
+
+
 def utc_now() -> str:
     """The current time in UTC, ISO 8601 to the second (``2027-05-03T21:00:00Z``)."""
     return dt.datetime.now(dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
@@ -739,5 +748,6 @@ def write_results(
     write_charts(out[CHARTS], result, refs[RESULTS])
     refs[PERMIT] = write_permit_sheet(out[PERMIT], result, stamp)
     write_run_log(out[RUN_LOG], result, source=source, fingerprint=fingerprint, run_time=run_time)
+    _windows_sheet(book, result)
     _select(book, sheets[SUMMARY])
     return refs

@@ -1,0 +1,535 @@
+"""Tests for wzq.windows (allowable closure windows) and the ``wzq windows`` command.
+
+Hand-checkable profiles whose windows are known in closed form, then generated
+profiles on which every reported window is checked with ``wzq.analyse()``.
+Every check against something outside the project names its source beside it.
+
+The hand site: two lanes, free-flow speed 25 m/s, jam density 0.125 veh/m/ln,
+base capacity 2,000 pc/h/ln with no heavy vehicles and no capacity drop, so
+the open road carries 4,000 veh/h; the closure's capacity is set by a
+capacity override (1,500 veh/h on the one open lane), so every number below
+follows from the deterministic queue and the triangular diagram by hand.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import io
+import json
+from contextlib import redirect_stderr, redirect_stdout
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import openpyxl
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+import wzq
+from wzq import windows as W
+from wzq.cli import demo_plan, main
+from wzq.plan import Closure, Demand, Options, Plan, PlanError, Site, Thresholds
+from wzq.planio import plan_to_dict
+from wzq.workbook.windows_sheet import SHEET, write_windows_sheet
+
+START = dt.datetime(2027, 5, 3)  # a Monday (invented dates)
+V_F = 25.0  # m/s
+K_J = 0.125  # veh/m/ln
+C_LN = 2000.0  # veh/h/ln (no heavy vehicles, commuters)
+OPEN = 2 * C_LN  # veh/h, open road, no capacity drop
+CLOSED = 1500.0  # veh/h, capacity override on the one open lane
+
+
+def hand_site(base: float = C_LN, **kw) -> Site:
+    values = dict(
+        lanes=2,
+        speed_limit=V_F,
+        work_zone_speed_limit=V_F,
+        work_zone_length=0.0,
+        free_flow_speed=V_F,
+        heavy_vehicle_share=0.0,
+        jam_density=K_J,
+        base_capacity_pc_h_ln=base,
+        capacity_drop_pct_open=0.0,
+        name="Kestrel Ridge Parkway (fictional)",
+        direction="northbound",
+    )
+    values.update(kw)
+    return Site(**values)
+
+
+HAND_CONFIG = W.Configuration(1, capacity_override_veh_h_ln=CLOSED)
+#: The single-state shockwave relation: the queue is longest when the closure ends.
+SINGLE_STATE = Options(queue_length_method="shockwave")
+
+
+def hourly(flows: list[float], start: dt.datetime = START) -> Demand:
+    return Demand(start, 3600, np.array(flows, dtype=float))
+
+
+def stored_per_m(arrival_veh_h: float, discharge_veh_h: float, lanes: int = 2) -> float:
+    """Vehicles per metre of queue on the triangular diagram, by hand.
+
+    Triangular diagram (Newell 1993): free branch k = q / v_f, congested branch
+    k = k_j - q / w with w = c / (k_j - c / v_f); queue length L = N / (n (k_Q - k_A))
+    (REFERENCES.md, "Physical queue from the point-queue count").
+    """
+    c = C_LN / 3600.0
+    w = c / (K_J - c / V_F)
+    k_a = arrival_veh_h / lanes / 3600.0 / V_F
+    k_q = K_J - discharge_veh_h / lanes / 3600.0 / w
+    return lanes * (k_q - k_a)
+
+
+def windows_of(
+    site: Site, demand: Demand, limits: Thresholds, options: Options = SINGLE_STATE, **kw
+) -> W.WindowSet:
+    result = W.find_windows(site, demand, limits, [HAND_CONFIG], options=options, **kw)
+    assert len(result.sets) == 1
+    return result.sets[0]
+
+
+def expected_matrix(n: int, rule) -> np.ndarray:
+    m = np.zeros((n, n + 1), dtype=bool)
+    for s in range(n):
+        for e in range(s + 1, n + 1):
+            m[s, e] = rule(s, e)
+    return m
+
+
+# ---------------------------------------------------------------------------------------------
+# Closed-form profiles
+# ---------------------------------------------------------------------------------------------
+
+
+def test_constant_demand_below_closure_capacity_is_always_allowed() -> None:
+    # 1,200 veh/h < 1,500 veh/h: no queue ever forms (D/D/1 textbook result), so every
+    # closure passes any queue limit.
+    ws = windows_of(hand_site(), hourly([1200.0] * 24), Thresholds(max_queue_length=100.0))
+    assert ws.allowed.sum() == 24 * 25 // 2
+    assert ws.maximal() == [(0, 24)]
+    flags = ws.hour_flags()
+    assert flags["whole"].all() and not flags["part"].any()
+    assert len(ws.starts_for(24 * 3600.0)) == 1
+
+
+def test_constant_demand_above_closure_capacity_allowed_while_queue_is_short() -> None:
+    # Demand 1,800 on a closure of 1,500 veh/h: the queue grows by 300 veh/h (D/D/1,
+    # standard textbook result) and is longest when the closure ends; the open road
+    # (4,000 veh/h) then clears it. With the limit set to the length of 3.5 h of growth,
+    # every closure of up to 3 h passes and every longer one fails.
+    per_m = stored_per_m(1800.0, CLOSED)
+    limit = 3.5 * 300.0 / per_m
+    assert limit == pytest.approx(6866.5, abs=0.1)  # hand arithmetic of the values above
+    ws = windows_of(hand_site(), hourly([1800.0] * 24), Thresholds(max_queue_length=limit))
+    assert np.array_equal(ws.allowed, expected_matrix(24, lambda s, e: e - s <= 3))
+    assert ws.maximal() == [(s, s + 3) for s in range(22)]
+    assert [e - s for s, e in ws.longest(3)] == [3, 3, 3]
+    assert [s for s, _ in ws.starts_for(3 * 3600.0)] == list(range(22))
+    assert ws.starts_for(2.5 * 3600.0) == ws.starts_for(3 * 3600.0)  # rounded up to the grid
+    assert ws.starts_for(4 * 3600.0) == []
+    assert ws.hour_flags()["whole"].all()
+
+
+def test_newell_queue_keeps_growing_after_the_closure_ends() -> None:
+    # Same demand and closure, Newell's kinematic-wave method (the default) and a 7 % drop
+    # on the open road, so the queue discharges in a congested state. When the closure
+    # ends, a recovery wave leaves the front at -w (both states on the congested branch
+    # of the triangular diagram) while the back still moves upstream at the shock speed
+    # u = (q_Q - q_A) / (k_Q - k_A) < 0; they meet when L_T + |u| t = w t, so the longest
+    # queue is L_T w / (w - |u|), after the closure (Newell 1993; Lighthill & Whitham
+    # 1955 for the shock speed; hand arithmetic).
+    site = hand_site(capacity_drop_pct_open=7.0)
+    c = C_LN / 3600.0
+    w = c / (K_J - c / V_F)
+    k_a, q_a = 900.0 / 3600.0 / V_F, 900.0 / 3600.0
+    q_q = CLOSED / 2 / 3600.0
+    k_q = K_J - q_q / w
+    u = (q_q - q_a) / (k_q - k_a)
+    per_hour = 300.0 / stored_per_m(1800.0, CLOSED) * w / (w + u)
+    assert per_hour == pytest.approx(2181.8, abs=0.1)  # hand arithmetic
+    demand = hourly([1800.0] * 24)
+    newell = windows_of(site, demand, Thresholds(max_queue_length=3.5 * per_hour), Options())
+    assert np.array_equal(newell.allowed, expected_matrix(24, lambda s, e: e - s <= 3))
+    # 6,000 m: the single-state queue of a 3-hour closure (5,886 m at its end) fits, the
+    # Newell queue (6,545 m, 20 min after the end) does not -- unless the closure ends
+    # with the data, where the growth after it is not seen
+    limit = Thresholds(max_queue_length=6000.0)
+    single = windows_of(site, demand, limit)
+    assert np.array_equal(single.allowed, expected_matrix(24, lambda s, e: e - s <= 3))
+    waves = windows_of(site, demand, limit, Options())
+    expected = expected_matrix(24, lambda s, e: e - s <= 2 or (e == 24 and e - s == 3))
+    assert np.array_equal(waves.allowed, expected)
+
+
+def test_daily_peak_allows_the_night_hours_only() -> None:
+    # 1,000 veh/h at night, 2,500 veh/h from 07:00 to 19:00. One closed peak hour stores
+    # 1,000 vehicles, far beyond a 1 km limit; the night never queues (D/D/1).
+    flows = [1000.0] * 7 + [2500.0] * 12 + [1000.0] * 5
+    per_m = stored_per_m(2500.0, CLOSED)
+    assert 1000.0 / per_m > 1000.0  # one peak hour closed is longer than the limit
+    result = W.find_windows(
+        hand_site(), hourly(flows), Thresholds(max_queue_length=1000.0), [HAND_CONFIG]
+    )  # default options: Newell's method, the same verdict here (no night queue at all)
+    ws = result.sets[0]
+    assert ws.maximal() == [(0, 7), (19, 24)]
+    flags = ws.hour_flags()
+    assert flags["whole"].tolist() == [h < 7 or h >= 19 for h in range(24)]
+    table = W.windows_table(result, symbols=True)
+    assert "".join(table.loc[0, list(W.HOUR_COLUMNS)]) == "#######............#####"
+
+
+def test_closure_may_run_past_midnight() -> None:
+    day = [1000.0] * 7 + [2500.0] * 12 + [1000.0] * 5
+    ws = windows_of(hand_site(), hourly(day * 2), Thresholds(max_queue_length=1000.0))
+    assert ws.maximal() == [(0, 7), (19, 31), (43, 48)]
+    assert [(s, e) for s, e in ws.longest(1)] == [(19, 31)]
+    assert ws.clock(31) == dt.datetime(2027, 5, 4, 7)
+
+
+def test_queue_left_behind_counts_against_the_hour_after_the_closure() -> None:
+    # Open road 2,000 veh/h (1,000 pc/h/ln), closure 1,500, demand 1,800. A 1-hour closure
+    # leaves 300 vehicles that clear at 200 veh/h in 1.5 h (D/D/1 textbook results).
+    # Average delay: closure hour 0.5*300*1/1800 h = 5.0 min; the hour after
+    # (300+100)/2/1800 h = 6.67 min; the next 0.5*100*0.5/1800 h = 0.83 min.
+    site = hand_site(base=1000.0)
+    demand = hourly([1800.0] * 24)
+    strict = windows_of(site, demand, Thresholds(max_average_delay=6 * 60.0))
+    # only a closure that ends with the data escapes the hour after it
+    assert np.argwhere(strict.allowed).tolist() == [[23, 24]]
+    loose = windows_of(site, demand, Thresholds(max_average_delay=7 * 60.0))
+    assert np.array_equal(loose.allowed, expected_matrix(24, lambda s, e: e - s == 1))
+    # total delay Q (T + t_c) / 2 = 300 * (1 + 1.5) / 2 = 375 veh-h (D/D/1 textbook result)
+    assert loose.added_delay_veh_h(5, 6) == pytest.approx(375.0, rel=1e-9)
+    w = loose.window(5, 6)
+    # priced at the default car value, 28.69 $/veh-h of 2017 (TTI memo to TxDOT, March
+    # 2018; no trucks on this site)
+    assert w.road_user_cost == pytest.approx(375.0 * 28.69, rel=1e-9)
+    assert w.hours == 1.0
+
+
+def test_quarter_hours_and_demand_capacity_in_closure_hours_only() -> None:
+    # 15-minute demand: 1,000 veh/h, 1,400 veh/h from 08:00 to 16:00; limit d/c 0.9 in
+    # closure hours (no queue: 1,400 < 1,500). An hour's d/c is its arrivals over its
+    # capacity, so with k quarters of a peak hour closed it is
+    # 1400 / (k/4*1500 + (1-k/4)*4000) <= 0.9 for k <= 3 (hand arithmetic), while
+    # off-peak hours pass even when fully closed (1000/1500 = 0.67).
+    flows = [1000.0] * 32 + [1400.0] * 32 + [1000.0] * 32
+    demand = Demand(START, 900, np.array(flows))
+    ws = windows_of(hand_site(), demand, Thresholds(max_demand_capacity=0.9))
+
+    def rule(s: int, e: int) -> bool:
+        return all(len(set(range(s, e)) & set(range(4 * h, 4 * h + 4))) <= 3 for h in range(8, 16))
+
+    assert np.array_equal(ws.allowed, expected_matrix(96, rule))
+    assert ws.longest(2) == [(0, 35), (61, 96)]  # to 08:45 and from 15:15
+    assert ws.clock(35) == dt.datetime(2027, 5, 3, 8, 45)
+    assert ws.clock(61) == dt.datetime(2027, 5, 3, 15, 15)
+    assert (33, 39) in ws.maximal()  # 08:15 to 09:45: three quarters of each peak hour
+    flags = ws.hour_flags()
+    assert flags["whole"].tolist() == [h < 8 or h >= 16 for h in range(24)]
+    assert flags["part"].tolist() == [8 <= h < 16 for h in range(24)]
+    rows = W.day_rows(ws)
+    assert "".join(W.SYMBOLS[s] for s in rows[0][1]) == "########++++++++########"
+
+
+def test_open_road_over_the_limit_allows_no_window_and_says_why() -> None:
+    # demand 4,500 veh/h for one hour on a 4,000 veh/h open road
+    flows = [1000.0] * 10 + [4500.0] + [1000.0] * 13
+    result = W.find_windows(
+        hand_site(),
+        hourly(flows),
+        Thresholds(max_queue_length=500.0),
+        [HAND_CONFIG],
+        options=SINGLE_STATE,
+    )
+    ws = result.sets[0]
+    # 500 vehicles stored in hour 10 still stand at 11:00 (D/D/1), longer than 500 m
+    assert ws.open_road_failing == (dt.datetime(2027, 5, 3, 10), dt.datetime(2027, 5, 3, 11))
+    # windows after the failing hour would still see it fail
+    assert not ws.allowed.any()
+    assert any("all lanes open" in note for note in result.notes)
+
+
+def test_demand_above_the_approach_capacity_is_searched_in_full() -> None:
+    # 4,500 veh/h on an approach of 2 x 2,000 veh/h: Newell's method (the default) holds
+    # the excess back beyond the approach, so every candidate is run in full
+    flows = [1000.0] * 4 + [4500.0] + [1000.0] * 3
+    limits = Thresholds(max_queue_length=3000.0)
+    fast = W.find_windows(hand_site(), hourly(flows), limits, [HAND_CONFIG])
+    assert any("run in full" in note for note in fast.notes)
+    slow = W.find_windows(hand_site(), hourly(flows), limits, [HAND_CONFIG], exhaustive=True)
+    assert np.array_equal(fast.sets[0].allowed, slow.sets[0].allowed)
+    assert fast.sets[0].allowed.any()
+
+
+def test_no_limits_allows_everything_with_a_note() -> None:
+    result = W.find_windows(hand_site(), hourly([3000.0] * 6), Thresholds(), [HAND_CONFIG])
+    assert result.sets[0].allowed.sum() == 21
+    assert any("no limits" in note for note in result.notes)
+
+
+def test_fast_search_equals_exhaustive_search_on_the_demo_plan() -> None:
+    full = demo_plan()
+    d = full.demand  # the first 36 hours of the shipped invented demo
+    plan = replace(full, demand=Demand(d.start, d.interval_s, d.flows_veh_h[:36]), closures=())
+    fast = W.plan_windows(plan)
+    slow = W.plan_windows(plan, exhaustive=True)
+    for a, b in zip(fast.sets, slow.sets, strict=True):
+        assert np.array_equal(a.allowed, b.allowed)
+        assert a.allowed.any()
+
+
+def test_typical_days_average_whole_days() -> None:
+    # Mon..Sun of invented counts, plus a partial day that must be ignored
+    flows = []
+    for d in range(7):
+        flows += [100.0 * (d + 1)] * 24
+    flows += [9999.0] * 5
+    days = W.typical_days(hourly(flows))
+    names = [d.name for d in days]
+    assert names == ["weekday (average of 5 days)", "weekend (average of 2 days)"]
+    # weekday mean of 100..500 is 300, weekend mean of 600, 700 is 650; laid out twice
+    assert days[0].demand.flows_veh_h.tolist() == [300.0] * 48
+    assert days[1].demand.flows_veh_h.tolist() == [650.0] * 48
+    assert days[1].demand.start == dt.datetime(2027, 5, 8)
+    assert days[0].stop_start == 24 and days[0].fold
+    with pytest.raises(PlanError, match="no whole day"):
+        W.typical_days(hourly([1000.0] * 20))
+
+
+def test_typical_search_reports_starts_on_the_first_day() -> None:
+    day = [1000.0] * 7 + [2500.0] * 12 + [1000.0] * 5
+    result = W.find_windows(
+        hand_site(),
+        W.typical_days(hourly(day * 2)),
+        Thresholds(max_queue_length=1000.0),
+        [HAND_CONFIG],
+        options=SINGLE_STATE,
+    )
+    ws = result.sets[0]
+    assert ws.maximal() == [(0, 7), (19, 31)]
+    rows = W.day_rows(ws)
+    assert len(rows) == 1
+    assert "".join(W.SYMBOLS[s] for s in rows[0][1]) == "#######............#####"
+
+
+def test_bad_inputs_say_where_and_what_to_do() -> None:
+    with pytest.raises(PlanError) as e:
+        W.find_windows(hand_site(), hourly([1000.0] * 4), Thresholds(), [2])
+    assert "configurations[0]" in str(e.value) and "use 1 to 1" in str(e.value)
+    with pytest.raises(PlanError, match="not on the hour"):
+        W.find_windows(hand_site(), Demand(START, 900, np.ones(5)), Thresholds(), [1])
+    with pytest.raises(PlanError, match=r"demand\[1\]"):
+        W.find_windows(hand_site(), hourly([1.0, -5.0]), Thresholds(), [1])
+
+
+# ---------------------------------------------------------------------------------------------
+# Generated profiles: every reported window passes analyse(), and is maximal
+# ---------------------------------------------------------------------------------------------
+
+
+@st.composite
+def cases(draw, max_hours: int = 30):
+    lanes = draw(st.integers(2, 4))
+    per_hour = draw(st.sampled_from([1, 1, 2, 4]))
+    hours = draw(st.integers(4, max(4, min(max_hours, 48 // per_hour))))
+    start_hour = draw(st.integers(0, 23))
+    level = draw(st.integers(600, 2300))
+    n = hours * per_hour
+    # a smooth random profile with a peak somewhere, plus noise (veh/h)
+    peak_at = draw(st.integers(0, n - 1))
+    peak = draw(st.floats(0.0, 1.2))
+    width = draw(st.integers(1, max(1, n // 2)))
+    noise = draw(st.lists(st.floats(0.7, 1.3), min_size=n, max_size=n))
+    x = np.arange(n)
+    shape = 0.35 + peak * np.exp(-0.5 * ((x - peak_at) / width) ** 2)
+    flows = np.round(level * lanes * shape * np.array(noise))
+    site = Site(
+        lanes=lanes,
+        speed_limit=draw(st.sampled_from([55, 65, 70])) * 0.44704,
+        work_zone_speed_limit=draw(st.sampled_from([45, 55])) * 0.44704,
+        work_zone_length=draw(st.sampled_from([0.0, 800.0, 2500.0])),
+        heavy_vehicle_share=draw(st.sampled_from([0.0, 0.05, 0.15])),
+        capacity_method=draw(st.sampled_from(["hcm7", "hcm7", "hcm2000"])),
+        area_type=draw(st.sampled_from(["urban", "rural"])),
+        capacity_drop_pct_open=draw(st.sampled_from([7.0, 7.0, 0.0])),
+    )
+    limits = Thresholds(
+        max_queue_length=draw(st.one_of(st.none(), st.floats(200.0, 6000.0))),
+        max_average_delay=draw(st.one_of(st.none(), st.floats(30.0, 1500.0))),
+        max_demand_capacity=draw(st.one_of(st.none(), st.floats(0.6, 1.1))),
+    )
+    if limits == Thresholds():
+        limits = Thresholds(max_queue_length=1500.0)
+    options = Options(
+        capacity_drop=draw(st.booleans()),
+        diagram=draw(st.sampled_from(["triangular", "triangular", "greenshields"])),
+        queue_length_method=draw(st.sampled_from(["newell", "newell", "shockwave"])),
+    )
+    config = W.Configuration(
+        draw(st.integers(1, lanes - 1)), draw(st.sampled_from(["soft", "hard"]))
+    )
+    demand = Demand(START + dt.timedelta(hours=start_hour), 3600 // per_hour, flows)
+    return site, demand, limits, options, config
+
+
+def _passes(site, demand, limits, options, config, s: int, e: int) -> bool:
+    step = dt.timedelta(seconds=demand.interval_s)
+    closure = Closure(
+        demand.start + s * step, demand.start + e * step, config.lanes_closed, config.barrier
+    )
+    result = wzq.analyse(Plan(site, demand, (closure,), limits, options=options))
+    return bool((result.hourly["status"] == "ok").all())
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(cases(), st.data())
+def test_reported_windows_pass_analyse_and_cannot_be_extended(case, data) -> None:
+    site, demand, limits, options, config = case
+    result = W.find_windows(site, demand, limits, [config], options=options)
+    ws = result.sets[0]
+    n = ws.n
+    windows = ws.maximal()
+    if len(windows) > 5:
+        windows = data.draw(st.permutations(windows))[:5]
+    for s, e in windows:
+        assert _passes(*case, s, e), (s, e)
+        assert s == 0 or not _passes(*case, s - 1, e), (s, e)
+        assert e == n or not _passes(*case, s, e + 1), (s, e)
+    # any candidate, allowed or not, gets the same verdict as analyse()
+    for _ in range(4):
+        s = data.draw(st.integers(0, n - 1))
+        e = data.draw(st.integers(s + 1, n))
+        assert bool(ws.allowed[s, e]) == _passes(*case, s, e), (s, e)
+
+
+@settings(max_examples=20, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(cases(max_hours=8))
+def test_fast_search_equals_exhaustive_search(case) -> None:
+    site, demand, limits, options, config = case
+    fast = W.find_windows(site, demand, limits, [config], options=options).sets[0]
+    slow = W.find_windows(site, demand, limits, [config], options=options, exhaustive=True)
+    assert np.array_equal(fast.allowed, slow.sets[0].allowed)
+
+
+# ---------------------------------------------------------------------------------------------
+# Tables, workbook sheet, command line
+# ---------------------------------------------------------------------------------------------
+
+
+def peak_plan(**kw) -> Plan:
+    """Two days of the daily-peak profile with an HCM 2000 closure of 1,600 veh/h."""
+    day = [1000.0] * 7 + [2500.0] * 12 + [1000.0] * 5
+    site = hand_site(capacity_method="hcm2000", name=kw.pop("name", "Kestrel Ridge Parkway"))
+    return Plan(site, hourly(day * 2), thresholds=Thresholds(max_queue_length=1000.0), **kw)
+
+
+def test_tables_for_the_report() -> None:
+    plan = peak_plan()
+    result = W.plan_windows(plan)
+    table = W.windows_table(result)
+    assert list(table.columns) == ["configuration", "day", *W.HOUR_COLUMNS]
+    assert table["day"].tolist() == ["Mon 2027-05-03", "Tue 2027-05-04"]
+    assert table.loc[0, "06"] and not table.loc[0, "07"] and table.loc[0, "19"]
+    counts = W.days_allowed_by_hour(result)
+    assert counts["1 of 2 lanes closed"].tolist() == [2] * 7 + [0] * 12 + [2] * 5
+    longest = W.longest_windows(result, top=2)
+    assert longest["hours"].tolist() == [12.0, 7.0]
+    assert longest["start"].tolist()[0] == dt.datetime(2027, 5, 3, 19)
+    # night closures on 1,000 veh/h below 1,600 veh/h add no queue and, with a zero-length
+    # work zone, no delay
+    assert longest["added_delay_veh_h"].abs().max() < 1e-9
+    starts = W.feasible_starts(result, 8.0)
+    assert [t.hour for t in starts["start"]] == [19, 20, 21, 22, 23]  # Tue 19:00 + 8 h > data
+    assert (starts["end"] - starts["start"]).eq(dt.timedelta(hours=8)).all()
+
+
+def test_windows_sheet_is_written_and_replaced(tmp_path: Path) -> None:
+    plan = peak_plan(name='=HYPERLINK("x")')
+    result = W.plan_windows(plan)
+    wb = openpyxl.Workbook()
+    wb.active.title = "Mine"
+    wb["Mine"]["A1"] = "keep me"
+    wb.create_sheet("After")
+    write_windows_sheet(wb, result, plan, duration_h=8)
+    write_windows_sheet(wb, result, plan, duration_h=8)  # replaced, not added twice
+    assert wb.sheetnames == ["Mine", "After", SHEET]
+    path = tmp_path / "book.xlsx"
+    wb.save(path)
+    book = openpyxl.load_workbook(path)
+    assert book["Mine"]["A1"].value == "keep me"
+    ws = book[SHEET]
+    values = [[c.value for c in row] for row in ws.iter_rows()]
+    flat = [v for row in values for v in row if v is not None]
+    assert wzq.CAUTION in flat
+    # the user's site name stays text, never a formula
+    cell = next(
+        c for row in ws.iter_rows() for c in row if c.value == '=HYPERLINK("x"), northbound'
+    )
+    assert cell.data_type == "s"
+    header = next(i for i, row in enumerate(values) if row[:3] == ["Configuration", "Day", "00"])
+    first_day = values[header + 1]
+    assert first_day[:2] == ["1 of 2 lanes closed", "Mon 2027-05-03"]
+    assert first_day[2:] == ["yes"] * 7 + ["no"] * 12 + ["yes"] * 5
+    assert len(ws._charts) == 1
+
+
+def _write_plan(path: Path, plan: Plan) -> Path:
+    path.write_text(json.dumps(plan_to_dict(plan), indent=2), encoding="utf-8")
+    return path
+
+
+def run_cli(*args: str) -> tuple[int, str, str]:
+    out, err = io.StringIO(), io.StringIO()
+    with redirect_stdout(out), redirect_stderr(err):
+        code = main(list(args))
+    return code, out.getvalue(), err.getvalue()
+
+
+def test_cli_prints_chart_longest_windows_and_starts(tmp_path: Path) -> None:
+    path = _write_plan(tmp_path / "plan.json", peak_plan())
+    code, out, err = run_cli("windows", str(path), "--duration", "8")
+    assert code == 0, err
+    assert "1 of 2 lanes closed" in out
+    assert "  Mon 2027-05-03  #######............#####" in out
+    assert "Mon 2027-05-03 19:00 to Tue 2027-05-04 07:00" in out
+    assert "Mon 2027-05-03: 19:00 20:00 21:00 22:00 23:00" in out
+    assert wzq.CAUTION in out
+
+
+def test_cli_typical_and_days(tmp_path: Path) -> None:
+    path = _write_plan(tmp_path / "plan.json", peak_plan())
+    code, out, _ = run_cli("windows", str(path), "--days", "2027-05-04")
+    assert code == 0
+    assert "Tue 2027-05-04  #######" in out and "Mon 2027-05-03  #" not in out
+    code, out, _ = run_cli("windows", str(path), "--typical")
+    assert code == 0
+    assert "weekday (average of 2 days)  #######............#####" in out
+
+
+@pytest.mark.parametrize(
+    ("args", "where"),
+    [
+        (["--lanes-closed", "x"], "--lanes-closed"),
+        (["--lanes-closed", "2"], "--lanes-closed"),
+        (["--duration", "0"], "--duration"),
+        (["--days", "May 4"], "--days"),
+        (["--typical", "--days", "2027-05-04"], "--days"),
+    ],
+)
+def test_cli_bad_input_exits_2_and_leaves_the_file_alone(
+    tmp_path: Path, args: list[str], where: str
+) -> None:
+    path = _write_plan(tmp_path / "plan.json", peak_plan())
+    before = path.read_bytes()
+    code, _, err = run_cli("windows", str(path), *args)
+    assert code == 2
+    assert where in err and "Traceback" not in err
+    assert path.read_bytes() == before
+
+
+def test_cli_missing_file_exits_2(tmp_path: Path) -> None:
+    code, _, err = run_cli("windows", str(tmp_path / "nope.json"))
+    assert code == 2 and "no such file" in err
