@@ -31,7 +31,7 @@ from pypdf import PdfReader
 import wzq
 from wzq import report_charts as rc
 from wzq.cli import main
-from wzq.planio import plan_from_dict
+from wzq.planio import load_plan, plan_from_dict
 from wzq.report import build_report, svg_available, write_report
 from wzq.tables import hourly_columns, hourly_display
 
@@ -622,3 +622,16 @@ def test_cli_refuses_to_overwrite_plan_or_non_pdf(tmp_path, capsys, target) -> N
     assert "-o" in err and "Traceback" not in err
     assert plan.read_bytes() == before
     assert sorted(p.name for p in tmp_path.iterdir()) == ["plan.json"]
+
+
+def test_allowable_closure_hours_section_matches_the_windows_search() -> None:
+    # the report's windows page shows wzq.windows' own answer for this plan
+    from wzq.windows import longest_windows, plan_windows
+
+    plan = load_plan(EXAMPLE)
+    result = wzq.analyse(plan)
+    texts = pages_text(build_report(result, generated=DAY, vector=False))
+    page = next(t for t in texts if "Allowable closure hours" in t)
+    best = longest_windows(plan_windows(plan), top=3).iloc[0]
+    assert f"{best['start']:%a %Y-%m-%d %H:%M}" in page
+    assert f"{best['added_delay_veh_h']:,.1f}" in page

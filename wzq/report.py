@@ -515,10 +515,10 @@ def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
             else "not checked",
         ),
     ]
-    c = plan.costs
-    if c is None:
-        cost_rows = [("Road-user cost", "no values of time given; no cost computed")]
-    else:
+    from wzq.costs import plan_costs
+
+    c = plan_costs(plan)
+    if c is not None:
         share = s.heavy_vehicle_share if c.truck_share is None else c.truck_share
         cost_rows = [
             (
@@ -530,6 +530,8 @@ def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
             ("Truck share", f"{share * 100:,.1f} %" + (" (site)" if c.truck_share is None else "")),
             ("Dollar year", f"{c.dollar_year}"),
         ]
+        if plan.costs is None:
+            cost_rows.append(("Source", "published defaults (none entered); update them"))
     o = plan.options
     option_rows = [
         ("Capacity drop", "on" if o.capacity_drop else "off"),
@@ -836,6 +838,86 @@ def charts_section(
     ]
 
 
+#: Characters of the hours chart: allowed the whole hour, part of it, not at all.
+WINDOW_MARKS = {"#": "yes", "+": "part", ".": "-"}
+
+
+def windows_section(result: Result, st: Styles, width: float) -> list[Flowable]:
+    """Allowable closure hours of each configuration on this plan's demand (wzq.windows)."""
+    from wzq.windows import longest_windows, plan_windows, windows_table
+
+    found = plan_windows(result.plan)
+    table = windows_table(found, symbols=True)
+    hours = [f"{h:02d}" for h in range(24)]
+    head = ["Configuration", "Day", *hours]
+    data: list[list[object]] = [[Paragraph(text(h), st.head) for h in head]]
+    style = [
+        ("FONT", (0, 0), (-1, -1), FONT, 6.5),
+        ("ALIGN", (2, 0), (-1, -1), "CENTER"),
+        ("GRID", (2, 1), (-1, -1), 0.3, GRID),
+        ("LINEBELOW", (0, 0), (-1, 0), 0.9, colors.black),
+        ("TOPPADDING", (0, 0), (-1, -1), 1),
+        ("BOTTOMPADDING", (0, 0), (-1, -1), 1),
+        ("LEFTPADDING", (0, 0), (-1, -1), 2),
+        ("RIGHTPADDING", (0, 0), (-1, -1), 2),
+    ]
+    for i, row in enumerate(table.to_dict("records"), start=1):
+        marks = [str(row[h]) for h in hours]
+        data.append(
+            [text(row["configuration"]), text(row["day"])] + [WINDOW_MARKS.get(m, m) for m in marks]
+        )
+        for j, m in enumerate(marks):
+            if m == "#":
+                style.append(("BACKGROUND", (2 + j, i), (2 + j, i), colors.Color(0.75, 0.75, 0.75)))
+            elif m == "+":
+                style.append(("BACKGROUND", (2 + j, i), (2 + j, i), colors.Color(0.9, 0.9, 0.9)))
+    first = 120.0
+    second = 80.0
+    each = (width - first - second) / 24
+    hours_table = LongTable(
+        data, colWidths=[first, second] + [each] * 24, repeatRows=1, hAlign="LEFT"
+    )
+    hours_table.setStyle(TableStyle(style))
+    long = longest_windows(found, top=3)
+    from wzq.costs import plan_costs
+
+    currency = text(plan_costs(result.plan).currency)
+    system_rows = [
+        ["Configuration", "From", "To", "Hours", "Added delay (veh-h)", f"Cost ({currency})"]
+    ]
+    for r in long.to_dict("records"):
+        system_rows.append(
+            [
+                text(r["configuration"]),
+                f"{r['start']:%a %Y-%m-%d %H:%M}",
+                f"{r['end']:%a %Y-%m-%d %H:%M}",
+                number(r["hours"], 1),
+                number(r["added_delay_veh_h"], 1),
+                number(r["road_user_cost"], 0),
+            ]
+        )
+    widths = [150.0, 120.0, 120.0, 50.0, 100.0, 90.0]
+    longest = _grid_table(system_rows, widths, header=True)
+    note = (
+        "Hours in which a lane closure of each configuration may be in place on this plan's "
+        "demand, with every hour of the whole run, the queue left behind included, within the "
+        "agency limits (yes: the whole hour, part: part of it, -: not at all); the closure "
+        "schedule entered in the plan is not used here. The longest allowable windows follow, "
+        "with the delay they add and its cost to road users."
+    )
+    notes = [Paragraph(text(n), st.small) for n in found.notes] if hasattr(found, "notes") else []
+    return [
+        Paragraph("Allowable closure hours", st.h1),
+        Paragraph(note, st.small),
+        Spacer(1, 4),
+        hours_table,
+        Spacer(1, 8),
+        Paragraph("Longest allowable windows", st.h2),
+        longest,
+        *notes,
+    ]
+
+
 def space_time_section(
     result: Result, st: Styles, width: float, height: float, vector: bool
 ) -> list[Flowable]:
@@ -1084,6 +1166,7 @@ def build_report(
     story += [PageBreak(), *inputs_section(result, st, width)]
     story += [PageBreak(), *hourly_section(result, st, width)]
     story += [PageBreak(), *charts_section(result, st, width, height, vector)]
+    story += [PageBreak(), *windows_section(result, st, width)]
     if plan.options.space_time:
         story += [PageBreak(), *space_time_section(result, st, width, height, vector)]
     story += [PageBreak(), *method_section(result, st, width)]
