@@ -268,6 +268,21 @@ def queue_state_discharge(run: QueueRun, discharge: np.ndarray) -> np.ndarray:
     return np.where(busy, running, discharge)
 
 
+def _no_queue(t: np.ndarray) -> newell.NewellQueue:
+    """Newell's result when no queue ever forms: the back of the queue stays at zero."""
+    n_hours = max(round((t[-1] - t[0]) / HOUR), 1)
+    return newell.NewellQueue(
+        times=t[[0, -1]],
+        distance=np.zeros(2),
+        at_boundaries=np.zeros(len(t)),
+        hour_bounds=t[0] + np.arange(n_hours + 1) * HOUR,
+        hourly_max_m=np.zeros(n_hours),
+        extent=newell.Extent(0.0, None, None),
+        dissolved_s=np.empty(0),
+        capacity_limited=False,
+    )
+
+
 def evaluate(plan: Plan) -> Run:
     """The engine's core: capacity, queue, lengths and delays as arrays."""
     site = plan.site
@@ -308,7 +323,7 @@ def evaluate(plan: Plan) -> Run:
     run = solve(dur, lam / HOUR, pre / HOUR, qdr / HOUR)
     nq = None
     if plan.options.queue_length_method == "newell" and isinstance(model.diagram, Triangular):
-        nq = newell.from_queue(run, model.diagram, site.lanes)
+        nq = newell.from_queue(run, model.diagram, site.lanes) if run.busy.any() else _no_queue(t)
         length_start, length_end = nq.at_boundaries[:-1], nq.at_boundaries[1:]
     else:
         stored = stored_density(model.diagram, lam, queue_state_discharge(run, qdr), site.lanes)
