@@ -60,8 +60,9 @@ INSTRUCTIONS: tuple[str, ...] = (
     + " are written by wzq and replaced on every run.",
 )
 MACRO_INSTRUCTION = (
-    "7. The Recalculate button runs the analysis from the spreadsheet (needs Python with wzq "
-    "and the xlwings add-in)."
+    "7. The Recalculate button analyses the open workbook, unsaved edits included (needs "
+    "desktop Excel with macros enabled, Python with wzq, and NAME.py beside the workbook: "
+    "`wzq link NAME.xlsm` writes it)."
 )
 
 
