@@ -147,21 +147,26 @@ def test_file_level_errors_exit_2_and_write_nothing(filled, tmp_path, capsys):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["junk.xlsx", "plan.xlsx"]
 
 
-def test_content_that_cannot_be_kept_is_never_written_over(filled, tmp_path, capsys):
+def test_content_that_cannot_be_kept_goes_to_a_copy(filled, tmp_path, capsys):
     """A workbook holding parts openpyxl drops on save (here an embedded object) is
-    not written back into; the results go to a copy when asked with -o."""
+    not written back into: the results go to a copy beside it (or to -o when asked)."""
     src = tmp_path / "embedded.xlsx"
     src.write_bytes(filled["fenwick"].read_bytes())
     with zipfile.ZipFile(src, "a") as z:
         z.writestr("xl/embeddings/oleObject1.bin", b"\0" * 64)
     before = _digest(src)
-    (line,) = _user_error(["run", str(src)], capsys)
-    assert "wzq cannot keep" in line and "-o embedded-results.xlsx" in line
+    assert cli.main(["run", str(src)]) == 0
+    out = capsys.readouterr().out
+    copy = tmp_path / "embedded (wzq results).xlsx"
+    assert "warning: embedded.xlsx holds content wzq cannot keep" in out
+    assert f"wrote the results to {copy}" in out
     assert _digest(src) == before
-    out = tmp_path / "embedded-results.xlsx"
-    assert cli.main(["run", str(src), "-o", str(out)]) == 0
+    n = len(layout.OUTPUT_SHEETS)
+    assert openpyxl.load_workbook(copy).sheetnames[-n:] == list(layout.OUTPUT_SHEETS)
+    other = tmp_path / "embedded-results.xlsx"
+    assert cli.main(["run", str(src), "-o", str(other)]) == 0
     assert _digest(src) == before
-    assert openpyxl.load_workbook(out).sheetnames[-len(layout.OUTPUT_SHEETS) :] == list(layout.OUTPUT_SHEETS)
+    assert openpyxl.load_workbook(other).sheetnames[-n:] == list(layout.OUTPUT_SHEETS)
 
 
 def test_a_users_own_results_sheet_is_refused(filled, tmp_path, capsys):

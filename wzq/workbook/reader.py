@@ -22,20 +22,20 @@ AADT (weekday or weekend column) and compound growth to the work year.
 from __future__ import annotations
 
 import datetime as dt
+import io
 import re
 import warnings
-import zipfile
 from dataclasses import dataclass
 from itertools import pairwise
 from pathlib import Path
 from typing import Any
 
 import numpy as np
+from defusedxml import DefusedXmlException
 from openpyxl import load_workbook
 from openpyxl.cell.cell import ERROR_CODES
 from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.utils.datetime import from_excel, to_excel
-from openpyxl.utils.exceptions import InvalidFileException
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.formula import ArrayFormula, DataTableFormula
 from openpyxl.worksheet.worksheet import Worksheet
@@ -54,7 +54,7 @@ from wzq.plan import (
     Thresholds,
 )
 from wzq.workbook import layout as L
-from wzq.workbook.safety import inspect_file
+from wzq.workbook.safety import read_checked
 
 #: File suffixes read as workbooks.
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
@@ -62,6 +62,11 @@ WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
 #: unit mistake (e.g. a two-way count or a daily total) (common practice, no source).
 MAX_DEMAND_VEH_H_LN = 3000.0
 DAY = 86_400  # seconds
+#: The last date-time serial a spreadsheet holds (9999-12-31 23:59:59, 1900 date system).
+MAX_SERIAL = 2_958_465.99999
+#: Years a closure plan's dates may fall in; anything else is a typing mistake, and it
+#: keeps date arithmetic far from the ends of the calendar (common practice, no source).
+FIRST_YEAR, LAST_YEAR = 1900, 2199
 
 _MISSING = object()  # a value that could not be read (its problem is already recorded)
 _ISO_DATE = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})$")
@@ -180,59 +185,109 @@ def read_plan(path: str | Path) -> Plan:
     """Read and validate the plan in a workbook file (``.xlsx`` or ``.xlsm``).
 
     Raises :class:`PlanError` listing every problem, each with sheet and cell.
-    The file is only read.
+    The file is only read, and only once: the bytes that were inspected are the
+    bytes that are parsed.
     """
     path = Path(path)
-    wb = load_book(path)
-    return read_plan_from_book(wb, path.name, path)
+    data = read_workbook_bytes(path)
+    wb = book_from_bytes(data, path)
+    return read_plan_from_book(wb, path.name, path, data=data)
+
+
+def read_workbook_bytes(path: Path) -> bytes:
+    """The file's bytes after the pre-parse checks (:func:`wzq.workbook.safety.read_checked`:
+    empty, not a workbook, old ``.xls``, encrypted, zip bombs, cell limit, XML entities)."""
+    if path.suffix.lower() not in WORKBOOK_SUFFIXES and not path.is_dir():
+        raise PlanError(
+            f"'{path.suffix}' files are not read; save the workbook as .xlsx or .xlsm",
+            where=path.name,
+        )
+    data, _ = read_checked(path)
+    return data
+
+
+def book_from_bytes(data: bytes, path: Path, **options: Any) -> Workbook:
+    """Parse checked workbook bytes with openpyxl; every way it can fail is a :class:`PlanError`.
+
+    ``options`` go to :func:`openpyxl.load_workbook` (``keep_vba`` defaults to
+    whether ``path`` is an ``.xlsm``).
+    """
+    options.setdefault("keep_vba", path.suffix.lower() == ".xlsm")
+    where = path.name
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # openpyxl warns about extensions it drops on read
+            return load_workbook(io.BytesIO(data), **options)
+    except DefusedXmlException:
+        raise PlanError(
+            "a part of this workbook declares XML entities, which workbooks never need; refused",
+            where=where,
+        ) from None
+    except MemoryError:
+        raise PlanError(
+            "this workbook needs more memory to open than this computer has; it is far larger "
+            "than a closure plan needs",
+            where=where,
+        ) from None
+    except Exception as e:  # openpyxl raises many types on damaged XML; none may escape
+        if _caused_by(e, DefusedXmlException):  # openpyxl wraps the sheet parser's refusal
+            raise PlanError(
+                "a part of this workbook declares XML entities, which workbooks never need; "
+                "refused",
+                where=where,
+            ) from None
+        raise PlanError(
+            "cannot read this file as a workbook "
+            f"({type(e).__name__}); is it an .xlsx/.xlsm saved by a spreadsheet program? "
+            "Open it in your spreadsheet program and save it again as .xlsx or .xlsm",
+            where=where,
+        ) from None
+
+
+def _caused_by(error: BaseException, kind: type[BaseException]) -> bool:
+    seen: set[int] = set()
+    e: BaseException | None = error
+    while e is not None and id(e) not in seen:
+        if isinstance(e, kind):
+            return True
+        seen.add(id(e))
+        e = e.__cause__ or e.__context__
+    return False
 
 
 def load_book(path: Path) -> Workbook:
     """Open a workbook for reading, turning every way it can fail into a :class:`PlanError`.
 
-    The file is first inspected without parsing (:func:`wzq.workbook.safety.inspect_file`:
+    The file is first inspected without parsing (:func:`wzq.workbook.safety.read_checked`:
     empty, not a workbook, old ``.xls``, encrypted, zip bombs, XML entities).
     """
-    where = path.name
-    if path.suffix.lower() not in WORKBOOK_SUFFIXES and not path.is_dir():
-        raise PlanError(
-            f"'{path.suffix}' files are not read; save the workbook as .xlsx or .xlsm", where=where
-        )
-    inspect_file(path)
-    try:
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")  # openpyxl warns about extensions it drops on read
-            return load_workbook(path, keep_vba=path.suffix.lower() == ".xlsm")
-    except (zipfile.BadZipFile, InvalidFileException, KeyError, ValueError, TypeError) as e:
-        raise PlanError(
-            "cannot read this file as a workbook "
-            f"({type(e).__name__}); is it an .xlsx/.xlsm saved by a spreadsheet program, "
-            "not password-protected? Save it again as .xlsx or .xlsm",
-            where=where,
-        ) from None
-    except OSError as e:
-        raise PlanError(
-            f"cannot open the file ({e.strerror or e}); close it or check the path", where=where
-        ) from None
+    path = Path(path)
+    return book_from_bytes(read_workbook_bytes(path), path)
 
 
-def read_plan_from_book(wb: Workbook, source: str, path: Path | None = None) -> Plan:
+def read_plan_from_book(
+    wb: Workbook, source: str, path: Path | None = None, *, data: bytes | None = None
+) -> Plan:
     """Read and validate the plan in an already loaded openpyxl workbook.
 
     ``source`` names the workbook in messages about the file as a whole;
-    ``path`` is the file it was loaded from, needed only to read the saved
-    result of a formula typed in an input cell (loaded lazily, once).
+    ``data`` (the file's bytes) or else ``path`` (the file) is needed only to
+    read the saved result of a formula typed in an input cell (loaded lazily,
+    once).
     """
-    return _BookReader(wb, source, path).plan()
+    return _BookReader(wb, source, path, data).plan()
 
 
 class _BookReader:
     """Pulls typed values out of the workbook, collecting every problem."""
 
-    def __init__(self, wb: Workbook, source: str, path: Path | None) -> None:
+    def __init__(
+        self, wb: Workbook, source: str, path: Path | None, data: bytes | None = None
+    ) -> None:
         self.wb = wb
         self.source = source
         self.path = path
+        self.data = data
         self.epoch = wb.epoch
         self.problems: list[Problem] = []
         self.system: str | None = None  # None: unknown (unit-dependent ranges not checked)
@@ -262,15 +317,16 @@ class _BookReader:
         if cell is None:
             return None
         v = cell.value
-        where = cell_ref(ws.title, row, col)
+        if v is None:
+            return None
         if cell.data_type == "f" or isinstance(v, ArrayFormula | DataTableFormula):
-            v = self.cached(ws.title, row, col, where)
+            v = self.cached(ws.title, row, col, cell_ref(ws.title, row, col))
             if v is _MISSING:
                 return v
         elif cell.data_type == "e":
-            return self.error_value(where, v)
+            return self.error_value(cell_ref(ws.title, row, col), v)
         if isinstance(v, str) and v.strip() in ERROR_CODES:
-            return self.error_value(where, v)
+            return self.error_value(cell_ref(ws.title, row, col), v)
         return v
 
     def error_value(self, where: str, v: Any) -> Any:
@@ -283,14 +339,18 @@ class _BookReader:
             "holds a formula with no saved result; open and save the workbook in your "
             "spreadsheet program, or type the value"
         )
-        if self.path is None:
+        if self.path is None and self.data is None:
             return self.bad(where, no_value)
         if sheet not in self._cached_sheets:
             try:
                 if self._calamine is None:
                     from python_calamine import CalamineWorkbook
 
-                    self._calamine = CalamineWorkbook.from_path(str(self.path))
+                    self._calamine = (
+                        CalamineWorkbook.from_filelike(io.BytesIO(self.data))
+                        if self.data is not None
+                        else CalamineWorkbook.from_path(str(self.path))
+                    )
                 sh = self._calamine.get_sheet_by_name(sheet)
                 # from A1, so that list positions are cell positions
                 self._cached_sheets[sheet] = sh.to_python(skip_empty_area=False)
@@ -362,7 +422,17 @@ class _BookReader:
                 "replaces on every run; point it at the input cell",
             )
             return None
-        min_col, min_row, _, _ = range_boundaries(coord.replace("$", ""))
+        try:
+            min_col, min_row, _, _ = range_boundaries(coord.replace("$", ""))
+        except (ValueError, TypeError):
+            min_col = min_row = None
+        if min_col is None or min_row is None:  # a whole row or column, or no cell at all
+            self.bad(
+                f"{home} (name {name})",
+                f"the defined name {name} ({field.label}) points at '{coord}', not at one "
+                "cell; point it at the value cell again in the Name Manager",
+            )
+            return None
         self.where_of[name] = cell_ref(sheet, min_row, min_col)
         return ws, min_row, min_col
 
@@ -479,6 +549,19 @@ class _BookReader:
         )
 
     def date(self, v: Any, label: str, where: str) -> Any:
+        """A date typed in a cell (a date cell, a serial number or ISO text), years 1900-2199."""
+        return self.in_years(self._date(v, label, where), label, where)
+
+    def in_years(self, d: Any, label: str, where: str) -> Any:
+        """``d`` unchanged when its year is plausible for a closure plan, else a problem."""
+        if isinstance(d, dt.date) and not FIRST_YEAR <= d.year <= LAST_YEAR:
+            return self.bad(
+                where,
+                f"{label}: the year {d.year} is outside {FIRST_YEAR}-{LAST_YEAR}; check the date",
+            )
+        return d
+
+    def _date(self, v: Any, label: str, where: str) -> Any:
         if isinstance(v, dt.datetime):
             if v.time() != dt.time():
                 return self.bad(
@@ -488,7 +571,8 @@ class _BookReader:
         if isinstance(v, dt.date):
             return v
         if isinstance(v, int | float) and not isinstance(v, bool) and v >= 2:
-            return self.date(from_excel(v, self.epoch), label, where)
+            when = self.serial(v, label, where)
+            return when if when is _MISSING else self._date(when, label, where)
         if isinstance(v, str):
             m = _ISO_DATE.match(v.strip())
             if m:
@@ -498,23 +582,41 @@ class _BookReader:
                     pass
         return self.bad(where, f"{label}: {_show(v)} is not a date; type a date, e.g. 2027-05-03")
 
+    def serial(self, x: float, label: str, where: str) -> Any:
+        """A spreadsheet date-time serial number as a ``datetime`` (``_MISSING`` past 9999)."""
+        if x <= MAX_SERIAL:
+            try:
+                return from_excel(x, self.epoch)
+            except (OverflowError, ValueError):
+                pass
+        return self.bad(
+            where,
+            f"{label}: {_fmt(x)} is past the last date a spreadsheet can hold (9999-12-31); "
+            "type a date and time, e.g. 2027-05-03 21:00",
+        )
+
     def clock(self, v: Any, label: str, where: str, *, allow_24: bool) -> Any:
-        """A time of day (:class:`_Clock`) or a full date-time (``datetime``)."""
+        """A time of day (:class:`_Clock`) or a full date-time (``datetime``, years 1900-2199)."""
+        return self.in_years(self._clock(v, label, where, allow_24=allow_24), label, where)
+
+    def _clock(self, v: Any, label: str, where: str, *, allow_24: bool) -> Any:
         seconds: float | None = None
         if isinstance(v, dt.datetime):
             serial = to_excel(v, self.epoch)
             if serial >= 2:
                 return v
-            seconds = serial * DAY  # hours past midnight (e.g. 24:00 stored as 1.0)
+            if serial >= 0:
+                seconds = serial * DAY  # hours past midnight (e.g. 24:00 stored as 1.0)
         elif isinstance(v, dt.time):
             seconds = v.hour * 3600 + v.minute * 60 + v.second
         elif isinstance(v, dt.timedelta):  # a cell formatted as elapsed time, e.g. [hh]:mm
             if v.total_seconds() >= 2 * DAY:
-                return from_excel(v.total_seconds() / DAY, self.epoch)  # a date-time serial
-            seconds = v.total_seconds()
+                return self.serial(v.total_seconds() / DAY, label, where)  # a date-time serial
+            if v.total_seconds() >= 0:
+                seconds = v.total_seconds()
         elif isinstance(v, int | float) and not isinstance(v, bool):
             if v >= 2:
-                return from_excel(v, self.epoch)  # an Excel date-time serial
+                return self.serial(v, label, where)  # an Excel date-time serial
             if v >= 0:
                 seconds = v * DAY
         elif isinstance(v, str):
@@ -561,7 +663,17 @@ class _BookReader:
         return None
 
     def _table_parts(self, name: str, ws: Worksheet, t: Any) -> _Table | None:
-        min_col, min_row, max_col, max_row = range_boundaries(t.ref)
+        try:
+            min_col, min_row, max_col, max_row = range_boundaries(str(t.ref))
+        except (ValueError, TypeError):
+            min_col = min_row = max_col = max_row = None
+        if min_col is None or min_row is None or max_col is None or max_row is None:
+            self.bad(
+                f"{ws.title} (table {name})",
+                f"the table {name} covers '{t.ref}', not a block of cells; recreate it from "
+                "a fresh workbook made by `wzq new`",
+            )
+            return None
         header_rows = 1 if t.headerRowCount is None else int(t.headerRowCount)
         totals = int(t.totalsRowCount or 0)
         if header_rows < 1:
@@ -606,7 +718,13 @@ class _BookReader:
         """The table's non-blank rows (blank rows are skipped) and a check below it."""
         out = []
         headers = L.TABLE_COLUMNS[t.name]
-        for r in range(t.first_row, t.last_row + 1):
+        cols = {t.col(h) for h in headers}
+        # only rows that hold a cell in one of the read columns: a table stretched to the
+        # sheet's last row costs no more than the cells in it
+        filled = sorted(
+            {r for (r, c) in t.ws._cells if t.first_row <= r <= t.last_row and c in cols}
+        )
+        for r in filled:
             values = {h: self.raw(t.ws, r, t.col(h)) for h in headers}
             if all(_blank(v) for v in values.values()):
                 continue
@@ -868,7 +986,7 @@ class _BookReader:
             if isinstance(h, int | float) and not isinstance(h, bool) and h >= 1:
                 hour: Any = (
                     int(h)
-                    if h == int(h) and h < 24
+                    if h < 24 and h == int(h)
                     else self.bad(
                         hw, f"Hour {_fmt(h)} is not an hour of the day; use 0-23 or 00:00-23:00"
                     )

@@ -15,16 +15,13 @@ from __future__ import annotations
 
 import argparse
 import datetime as dt
-import io
 import os
 import tempfile
-import warnings
-import zipfile
+from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Literal
 
-from openpyxl import load_workbook
 from openpyxl.utils import get_column_letter, range_boundaries
-from openpyxl.utils.exceptions import InvalidFileException
 from openpyxl.workbook.workbook import Workbook
 
 import wzq
@@ -34,14 +31,13 @@ from wzq.plan import Plan, PlanError, Problem
 from wzq.planio import plan_to_dict
 from wzq.tables import summary_lines
 from wzq.workbook import layout
-from wzq.workbook.reader import read_plan_from_book
-from wzq.workbook.safety import inspect_file
-from wzq.workbook.save import check_writable, lock_file, save_atomic
+from wzq.workbook.reader import book_from_bytes, read_plan_from_book
+from wzq.workbook.safety import PackageReport, read_checked
+from wzq.workbook.save import check_writable, lock_file, lock_files, save_atomic
 from wzq.workbook.writer import put_text, write_results
 
 #: Workbook types wzq reads and writes (an ``.xlsm`` keeps its VBA project).
 SUFFIXES = (".xlsx", ".xlsm")
-_LOAD_ERRORS = (zipfile.BadZipFile, InvalidFileException, KeyError, OSError, ValueError, TypeError)
 
 
 def _check_suffixes(src: Path, target: Path) -> None:
@@ -71,33 +67,19 @@ def _check_suffixes(src: Path, target: Path) -> None:
 def load_book(path: str | Path) -> Workbook:
     """Load a workbook for write-back: VBA kept for ``.xlsm``, rich text kept as typed.
 
-    The file is read into memory first, so no file handle stays open on the
-    input while the output replaces it (which Windows would refuse).
+    The file is read into memory once and inspected before it is parsed
+    (:func:`wzq.workbook.safety.read_checked`), so no file handle stays open on
+    the input while the output replaces it (which Windows would refuse).
     """
-    path = Path(path)
-    try:
-        data = path.read_bytes()
-    except OSError as e:
-        raise PlanError([Problem(str(path), f"cannot read the file ({e.strerror})")]) from None
-    try:
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")  # openpyxl warns about extensions it drops on read
-            return load_workbook(
-                io.BytesIO(data),
-                keep_vba=path.suffix.lower() == ".xlsm",
-                keep_links=True,
-                rich_text=True,
-            )
-    except _LOAD_ERRORS as e:
-        raise PlanError(
-            [
-                Problem(
-                    str(path),
-                    f"not a readable .xlsx/.xlsm workbook ({type(e).__name__}); "
-                    "open it in your spreadsheet program and save it again",
-                )
-            ]
-        ) from None
+    return _load(Path(path))[0]
+
+
+def _load(path: Path) -> tuple[Workbook, bytes, PackageReport]:
+    if not path.exists():
+        raise PlanError([Problem(str(path), "no such file; check the path")])
+    data, report = read_checked(path)
+    book = book_from_bytes(data, path, keep_links=True, rich_text=True)
+    return book, data, report
 
 
 def _same_file(a: Path, b: Path) -> bool:
@@ -107,21 +89,105 @@ def _same_file(a: Path, b: Path) -> bool:
         return False
 
 
-def _check_keepable(src: Path, target: Path) -> None:
-    """Refuse to write into a workbook holding parts that would be lost on save."""
-    report = inspect_file(src)
-    if report.unkept and _same_file(src, target):
-        parts = "; ".join(report.unkept[:5]) + ("; ..." if len(report.unkept) > 5 else "")
-        raise PlanError(
-            [
-                Problem(
-                    str(src),
-                    "holds content wzq cannot keep when it saves the workbook "
-                    f"({parts}); to leave it intact write the results to a copy: "
-                    f"wzq run {src.name} -o {src.stem}-results{src.suffix}",
-                )
-            ]
-        )
+#: How the copy is named when the workbook itself cannot be written back safely.
+COPY_LABEL = "wzq results"
+
+
+def copy_path(src: Path) -> Path:
+    """A free file name beside ``src`` for the results: ``plan (wzq results).xlsx``, then
+    ``plan (wzq results 2).xlsx`` ...; a name that exists (or has a lock file) is skipped."""
+    n = 1
+    while True:
+        label = COPY_LABEL if n == 1 else f"{COPY_LABEL} {n}"
+        candidate = src.with_name(f"{src.stem} ({label}){src.suffix}")
+        if not candidate.exists() and not any(p.exists() for p in lock_files(candidate)):
+            return candidate
+        n += 1
+
+
+def _unkept_text(unkept: list[str]) -> str:
+    return "; ".join(unkept[:5]) + (f"; and {len(unkept) - 5} more" if len(unkept) > 5 else "")
+
+
+@dataclass
+class RunOutcome:
+    """What :func:`run_to` did: the result, where it went, and why there if not asked."""
+
+    result: Result
+    target: Path
+    #: Said to the user (printed by ``wzq run`` and written in the Run log).
+    notes: list[str] = field(default_factory=list)
+    #: True when the results went to a copy because the workbook holds content
+    #: wzq cannot keep when it saves.
+    copied: bool = False
+
+
+def run_to(
+    path: str | Path,
+    out: str | Path | None = None,
+    *,
+    run_time: str | None = None,
+    space_time: bool | None = None,
+    unkept: Literal["copy", "refuse"] = "copy",
+) -> RunOutcome:
+    """Analyse the plan in workbook ``path`` and write the results into it (or into ``out``).
+
+    Raises :class:`PlanError` (every problem, with sheet and cell) before
+    anything is written; the input file is never changed unless it is the
+    target, and then only by one atomic replace. ``run_time`` (UTC, ISO 8601)
+    defaults to now. ``space_time`` adds the LWR space-time picture to the
+    Charts sheet (``None``: as the workbook's Site sheet says).
+
+    When the workbook holds content openpyxl cannot keep on save (drawn shapes,
+    sparklines, ...: :func:`wzq.workbook.safety.inspect_file`) and would be
+    written back into, it is left byte-identical and the results go to a copy
+    beside it (:func:`copy_path`), or, with ``unkept="refuse"``, nothing is
+    written and a :class:`PlanError` says so.
+    """
+    src = Path(path)
+    target = Path(out) if out is not None else src
+    _check_suffixes(src, target)
+    if not src.exists():
+        raise PlanError([Problem(str(src), "no such file; check the path")])
+    book, data, report = _load(src)
+    notes: list[str] = []
+    copied = False
+    if report.unkept:
+        parts = _unkept_text(report.unkept)
+        if not _same_file(src, target):
+            notes.append(
+                f"{src.name} holds content wzq cannot carry over ({parts}); {target.name} "
+                "does not have it, the original is unchanged"
+            )
+        elif unkept == "refuse":
+            raise PlanError(
+                [
+                    Problem(
+                        str(src),
+                        f"holds content wzq cannot keep when it saves the workbook ({parts}); "
+                        "to leave it intact write the results to a copy: "
+                        f"wzq run {src.name} -o {copy_path(src).name}",
+                    )
+                ]
+            )
+        else:
+            target = copy_path(src)
+            copied = True
+            notes.append(
+                f"{src.name} holds content wzq cannot keep when it saves the workbook "
+                f"({parts}), so it was left unchanged and the results were written to a "
+                f"copy: {target.name}"
+            )
+    check_writable(target)
+    plan = read_plan_from_book(book, src.name, src, data=data)
+    result = wzq.analyse(plan)
+    write_results(book, result, source=src.name, run_time=run_time, notes=notes)
+    if plan.options.space_time if space_time is None else space_time:
+        from wzq.workbook.pictures import add_space_time
+
+        result.warnings.extend(add_space_time(book, result))
+    save_atomic(book, target)
+    return RunOutcome(result, target, notes, copied)
 
 
 def run_workbook(
@@ -130,32 +196,10 @@ def run_workbook(
     *,
     run_time: str | None = None,
     space_time: bool | None = None,
+    unkept: Literal["copy", "refuse"] = "copy",
 ) -> Result:
-    """Analyse the plan in workbook ``path`` and write the results into it (or into ``out``).
-
-    Raises :class:`PlanError` (every problem, with sheet and cell) before
-    anything is written; the input file is never changed unless it is the
-    target, and then only by one atomic replace. ``run_time`` (UTC, ISO 8601)
-    defaults to now. ``space_time`` adds the LWR space-time picture to the
-    Charts sheet (``None``: as the workbook's Site sheet says).
-    """
-    src = Path(path)
-    target = Path(out) if out is not None else src
-    _check_suffixes(src, target)
-    if not src.exists():
-        raise PlanError([Problem(str(src), "no such file; check the path")])
-    _check_keepable(src, target)
-    check_writable(target)
-    book = load_book(src)
-    plan = read_plan_from_book(book, src.name, src)
-    result = wzq.analyse(plan)
-    write_results(book, result, source=src.name, run_time=run_time)
-    if plan.options.space_time if space_time is None else space_time:
-        from wzq.workbook.pictures import add_space_time
-
-        result.warnings.extend(add_space_time(book, result))
-    save_atomic(book, target)
-    return result
+    """:func:`run_to`, returning only the result."""
+    return run_to(path, out, run_time=run_time, space_time=space_time, unkept=unkept).result
 
 
 # --- the demo workbook ------------------------------------------------------------------
@@ -351,9 +395,11 @@ def write_demo_workbook(path: str | Path = ".") -> Path:
 
 def cmd_run(args: argparse.Namespace) -> int:
     """``wzq run PATH [-o OUT]``."""
-    target = Path(args.output) if args.output else Path(args.path)
-    result = run_workbook(args.path, args.output, space_time=args.space_time)
-    print(f"wrote the results to {target}")
+    outcome = run_to(args.path, args.output, space_time=args.space_time)
+    result = outcome.result
+    for note in outcome.notes:
+        print(f"warning: {note}")
+    print(f"wrote the results to {outcome.target}")
     width = max(len(k) for k, _ in summary_lines(result))
     for label, text in summary_lines(result):
         print(f"  {label:<{width}}  {text}")

@@ -2,22 +2,38 @@
 
 The workbook is written to a temporary file in the target's own folder, flushed
 to disk, and then moved over the target in one step (``os.replace``), so the
-target is either the old file or the complete new one. A target that Excel has
-open (its lock file ``~$name`` lies beside it), a read-only target and a folder
+target is either the old file or the complete new one, whenever the process
+stops (a crash, a kill, a power cut once the folder entry is on disk).
+
+The temporary file is hidden and named so that nobody takes it for a workbook:
+``.plan.xlsx.wzq-<process>-<random>.tmp``. One left behind by a process that
+was killed is removed by the next save to the same target.
+
+A target that a spreadsheet program has open (Excel's lock file ``~$name`` or
+LibreOffice's ``.~lock.name#`` lies beside it), a read-only target and a folder
 that cannot be written are refused up front with a :class:`PlanError` that says
-what to do.
+what to do; so is a save that fails half-way (a full disk, say), after which
+the target is as it was.
 """
 
 from __future__ import annotations
 
 import contextlib
+import errno
 import os
+import secrets
 import stat
-import tempfile
+import time
 from pathlib import Path
 from typing import Protocol
 
 from wzq.plan import PlanError, Problem
+
+#: How the temporary files of a save are named: ``.<target name>`` + this + ``<pid>-<hex>.tmp``.
+TEMP_MARK = ".wzq-"
+TEMP_SUFFIX = ".tmp"
+#: A temporary file older than this is stale even when its process number is in use again.
+STALE_AFTER_S = 3600.0
 
 
 class Saveable(Protocol):
@@ -27,23 +43,58 @@ class Saveable(Protocol):
 
 
 def lock_file(target: Path) -> Path:
-    """The lock file Excel (and LibreOffice in Excel mode) keeps beside an open workbook."""
+    """The lock file Excel keeps beside an open workbook (``~$`` + its name)."""
+    target = Path(target)
     return target.with_name("~$" + target.name)
 
 
-def check_writable(target: str | Path) -> None:
-    """Refuse a target that is open in Excel, read-only, or in a folder we cannot write."""
+def lock_files(target: Path) -> list[Path]:
+    """Lock files of spreadsheet programs that have ``target`` open: Excel's, LibreOffice's."""
     target = Path(target)
-    where = str(target)
-    if lock_file(target).exists():
+    return [lock_file(target), target.with_name(f".~lock.{target.name}#")]
+
+
+def real_target(target: str | Path) -> Path:
+    """The file a save really replaces: a symbolic link is followed, so the link stays."""
+    target = Path(target)
+    if target.is_symlink():
+        return Path(os.path.realpath(target))
+    return target
+
+
+def _check_not_open(target: Path, where: str) -> None:
+    """Refuse when a spreadsheet program has ``target`` open (its lock file is beside it)."""
+    excel, office = lock_files(target)
+    if excel.exists():
         raise PlanError(
             [
                 Problem(
                     where,
-                    f"{target.name} is open in Excel; close it or use -o OTHER{target.suffix}",
+                    f"{target.name} is open in Excel; close it or use -o OTHER{target.suffix} "
+                    f"(if Excel is not running, delete the leftover lock file {excel.name})",
                 )
             ]
         )
+    if office.exists():
+        raise PlanError(
+            [
+                Problem(
+                    where,
+                    f"{target.name} is open in LibreOffice; close it or use "
+                    f"-o OTHER{target.suffix} (if LibreOffice is not running, delete the "
+                    f"leftover lock file {office.name})",
+                )
+            ]
+        )
+
+
+def check_writable(target: str | Path) -> None:
+    """Refuse a target that is open in a spreadsheet program, read-only, or unwritable."""
+    target = Path(target)
+    where = str(target)
+    for shown in dict.fromkeys((target, real_target(target))):  # a link and its file
+        _check_not_open(shown, where)
+    target = real_target(target)
     folder = target.parent if str(target.parent) else Path(".")
     if not folder.is_dir():
         raise PlanError([Problem(where, f"the folder {folder} does not exist; create it first")])
@@ -66,37 +117,113 @@ def check_writable(target: str | Path) -> None:
         )
 
 
+def temp_name(target: Path) -> str:
+    """A fresh, obviously temporary file name for a save to ``target``."""
+    return f".{target.name}{TEMP_MARK}{os.getpid()}-{secrets.token_hex(4)}{TEMP_SUFFIX}"
+
+
+def stray_temp_files(target: str | Path) -> list[Path]:
+    """Temporary files of saves to ``target`` (any process), oldest first."""
+    target = real_target(target)
+    folder = target.parent if str(target.parent) else Path(".")
+    head = f".{target.name}{TEMP_MARK}"
+    try:
+        found = [
+            p for p in folder.iterdir() if p.name.startswith(head) and p.name.endswith(TEMP_SUFFIX)
+        ]
+    except OSError:
+        return []
+    return sorted(found, key=lambda p: p.stat().st_mtime if p.exists() else 0.0)
+
+
+def _alive(pid: int) -> bool:
+    if os.name != "posix":  # no safe way to ask without a handle; trust the age alone
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:  # a process of another user
+        return True
+    return True
+
+
+def clean_stray_temp_files(target: str | Path) -> list[Path]:
+    """Remove temporary files that killed saves to ``target`` left behind; returns them.
+
+    A file is removed when the process that wrote it is gone (POSIX) or it is
+    older than :data:`STALE_AFTER_S`; a save still running in another process
+    keeps its file.
+    """
+    removed = []
+    now = time.time()
+    head_len = len(f".{real_target(target).name}{TEMP_MARK}")
+    for p in stray_temp_files(target):
+        pid_text = p.name[head_len:].split("-", 1)[0]
+        try:
+            pid = int(pid_text)
+            age = now - p.stat().st_mtime
+        except (ValueError, OSError):
+            continue
+        if pid == os.getpid() or (_alive(pid) and age < STALE_AFTER_S):
+            continue
+        with contextlib.suppress(OSError):
+            p.unlink()
+            removed.append(p)
+    return removed
+
+
 def save_atomic(book: Saveable, target: str | Path) -> Path:
     """Save ``book`` to ``target`` through a temporary file and ``os.replace``.
 
     The temporary file sits in the target's folder (so the replace is a rename
-    on one file system) and carries the target's suffix. An existing target
-    keeps its permission bits. On any failure the temporary file is removed and
-    the target is untouched.
+    on one file system). An existing target keeps its permission bits (and,
+    where allowed, its owner); a symbolic link is followed and stays a link. On
+    any failure the temporary file is removed, the target is untouched and a
+    :class:`PlanError` says what happened.
     """
-    target = Path(target)
-    check_writable(target)
-    mode = stat.S_IMODE(target.stat().st_mode) if target.exists() else None
-    fd, tmp_name = tempfile.mkstemp(
-        prefix=".wzq-", suffix=target.suffix, dir=target.parent if str(target.parent) else "."
-    )
-    tmp = Path(tmp_name)
+    shown = Path(target)
+    check_writable(shown)
+    target = real_target(shown)
+    clean_stray_temp_files(target)
+    info = target.stat() if target.exists() else None
+    folder = target.parent if str(target.parent) else Path(".")
+    tmp = folder / temp_name(target)
     try:
+        fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0), 0o600)
         with os.fdopen(fd, "wb") as fh:
             book.save(fh)
             fh.flush()
             os.fsync(fh.fileno())
-        if mode is not None:
-            os.chmod(tmp, mode)
+        if info is not None:
+            os.chmod(tmp, stat.S_IMODE(info.st_mode))
+            if hasattr(os, "chown"):
+                with contextlib.suppress(OSError):
+                    os.chown(tmp, info.st_uid, info.st_gid)
         else:
             os.chmod(tmp, 0o666 & ~_umask())
         os.replace(tmp, target)
+    except OSError as e:
+        with contextlib.suppress(OSError):
+            tmp.unlink()
+        raise PlanError([Problem(str(shown), _save_failed(e, shown))]) from None
     except BaseException:
         with contextlib.suppress(OSError):
             tmp.unlink()
         raise
-    _fsync_folder(target.parent)
-    return target
+    _fsync_folder(folder)
+    return shown
+
+
+def _save_failed(e: OSError, target: Path) -> str:
+    why = e.strerror or str(e)
+    if e.errno in (errno.ENOSPC, getattr(errno, "EDQUOT", -1)):
+        hint = "free some space or write elsewhere with -o"
+    elif e.errno in (errno.EACCES, errno.EPERM, errno.EBUSY):
+        hint = f"close {target.name} in any program that has it open, or use -o"
+    else:
+        hint = "check the folder, or write elsewhere with -o"
+    return f"could not save ({why}); {target.name} is unchanged; {hint}"
 
 
 def _umask() -> int:

@@ -35,7 +35,7 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
-from openpyxl.cell.cell import Cell
+from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE, Cell
 from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
 from openpyxl.utils import get_column_letter
 from openpyxl.workbook.defined_name import DefinedName
@@ -117,12 +117,25 @@ def input_fingerprint(plan: Plan) -> str:
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
 
 
+#: The most characters a spreadsheet cell holds (Excel's documented limit); longer text
+#: makes Excel offer to repair the file, so it is cut with an ellipsis.
+CELL_TEXT_LIMIT = 32_767
+
+
+def cell_text(text: str) -> str:
+    """Text a cell can hold: characters XML cannot carry dropped, length capped."""
+    text = ILLEGAL_CHARACTERS_RE.sub("", text)
+    return text if len(text) <= CELL_TEXT_LIMIT else text[: CELL_TEXT_LIMIT - 1] + "…"
+
+
 def put_text(ws: Worksheet, row: int, col: int, text: Any) -> Cell:
     """Write a value; a string always as text, never as a formula (``=``, ``+``, ``-``, ``@``)."""
     cell = ws.cell(row=row, column=col)
-    cell.value = text
     if isinstance(text, str):
+        cell.value = cell_text(text)
         cell.data_type = "s"
+    else:
+        cell.value = text
     return cell
 
 
@@ -665,9 +678,16 @@ def write_summary_sheet(out: SheetWriter, result: Result) -> None:
 
 
 def write_run_log(
-    out: SheetWriter, result: Result, *, source: str, fingerprint: str, run_time: str
+    out: SheetWriter,
+    result: Result,
+    *,
+    source: str,
+    fingerprint: str,
+    run_time: str,
+    notes: Sequence[str] = (),
 ) -> None:
-    """Tool version, run time, source file, input fingerprint, warnings."""
+    """Tool version, run time, source file, input fingerprint, warnings, notes on the run
+    (e.g. that the results went to a copy of the workbook)."""
     ws = out.ws
     plan = result.plan
     d = plan.demand
@@ -693,6 +713,10 @@ def write_run_log(
         r += 1
     for warning in result.warnings:
         out.put(r, 2, warning)
+        r += 1
+    for note in notes:
+        out.put(r, 1, "Note", font=BOLD)
+        out.put(r, 2, note)
         r += 1
     r += 1
     out.caution(r, 2)
@@ -723,12 +747,13 @@ def write_results(
     *,
     source: str = "",
     run_time: str | None = None,
+    notes: Sequence[str] = (),
 ) -> dict[str, TableRef]:
     """Replace wzq's output sheets in ``book`` with the sheets for ``result``.
 
     Touches nothing else: no input cell, style, name or sheet of the user's.
-    ``run_time`` (UTC, ISO 8601) defaults to now. Returns where the Results and
-    Permit tables sit.
+    ``run_time`` (UTC, ISO 8601) defaults to now; ``notes`` go to the Run log.
+    Returns where the Results and Permit tables sit.
     """
     from wzq.workbook.charts import write_charts  # charts import the table layout from here
 
@@ -747,7 +772,14 @@ def write_results(
     write_summary_sheet(out[SUMMARY], result)
     write_charts(out[CHARTS], result, refs[RESULTS])
     refs[PERMIT] = write_permit_sheet(out[PERMIT], result, stamp)
-    write_run_log(out[RUN_LOG], result, source=source, fingerprint=fingerprint, run_time=run_time)
+    write_run_log(
+        out[RUN_LOG],
+        result,
+        source=source,
+        fingerprint=fingerprint,
+        run_time=run_time,
+        notes=notes,
+    )
     _windows_sheet(book, result)
     _select(book, sheets[SUMMARY])
     return refs
