@@ -287,5 +287,8 @@ def test_bad_plans_raise_plan_error_with_every_problem() -> None:
     assert "demand[1]" in text
     assert "ends before it starts" in text
     assert "all 2 lanes closed" in text
+    with pytest.raises(PlanError, match="whole hours"):
+        # 19 quarter-hours end in the middle of an hour
+        Plan(site(), Demand(T0, 900, np.full(19, 100.0)))
     assert "outside the demand period" in text
     assert len(e.value.problems) >= 5

@@ -272,6 +272,13 @@ def validate(plan: Plan) -> list[Problem]:
         out.append(Problem(f"demand[{bad}]", "demand must be a finite number of veh/h, 0 or more"))
     if d.start.minute or d.start.second or d.start.microsecond:
         out.append(Problem("demand.start", "demand must start on the hour"))
+    if d.interval_s > 0 and (len(d.flows_veh_h) * d.interval_s) % 3600:
+        out.append(
+            Problem(
+                "demand",
+                "demand must cover whole hours; add the missing intervals of the last hour",
+            )
+        )
 
     for i, c in enumerate(plan.closures):
         where = f"closures[{i}]"
