@@ -15,6 +15,7 @@ Run: python benchmarks/engine.py
 from __future__ import annotations
 
 import bisect
+import dataclasses
 import datetime as dt
 import time
 
@@ -106,6 +107,10 @@ def main() -> None:
     qmax_h, delay_h = minute_loop(plan)
     t_loop = best_of(lambda: minute_loop(plan), 1)
     t_core = best_of(lambda: analyse(plan), 20)
+    single = dataclasses.replace(
+        plan, options=dataclasses.replace(plan.options, queue_length_method="shockwave")
+    )
+    t_single = best_of(lambda: analyse(single), 20)
     t_full = best_of(lambda: analyse(plan).hourly, 10)
     h = analyse(plan).hourly
     print(
@@ -123,6 +128,10 @@ def main() -> None:
     )
     print(
         f"  wzq.analyse + per-hour table   {t_full * 1e3:10.3f} ms   {t_loop / t_full:8.0f}x faster"
+    )
+    print(
+        f"  wzq.analyse, single-state length {t_single * 1e3:8.3f} ms   "
+        f"{t_loop / t_single:8.0f}x faster"
     )
     print("  targets: >= 300x faster than the minute loop, < 5 ms for the year")
 
