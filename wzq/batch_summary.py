@@ -31,7 +31,6 @@ import io
 import json
 import math
 import os
-import re
 import tempfile
 from collections.abc import Iterable, Sequence
 from dataclasses import asdict, dataclass, field, fields
@@ -66,7 +65,6 @@ STAGE_WORDS: dict[str, str] = {
 #: First characters that make a spreadsheet read a CSV field as a formula
 #: (OWASP CSV Injection; OWASP ASVS 5.0 req. 1.2.10 adds the null character).
 CSV_FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r", "\0")
-_ILLEGAL_XML = re.compile(r"[\000-\010]|[\013-\014]|[\016-\037]")
 _CELL_LIMIT = 32_000  # spreadsheet cells hold at most 32,767 characters
 
 
@@ -347,21 +345,11 @@ def csv_rows(rows: Sequence[PlanRow]) -> list[list[Any]]:
     return out
 
 
-def sheet_text(value: str) -> str:
-    """Text a spreadsheet cell can hold: control characters dropped, length capped."""
-    text = _ILLEGAL_XML.sub("", value)
-    return text if len(text) <= _CELL_LIMIT else text[: _CELL_LIMIT - 1] + "…"
-
-
 def put(ws: Any, row: int, col: int, value: Any) -> Any:
-    """Write a value; a string always as text (``cell.data_type = "s"``), never a formula."""
-    cell = ws.cell(row=row, column=col)
-    if isinstance(value, str):
-        cell.value = sheet_text(value)
-        cell.data_type = "s"
-    else:
-        cell.value = value
-    return cell
+    """Write a value; a string always as text, never a formula (the writer's rule)."""
+    from wzq.workbook.writer import put_text
+
+    return put_text(ws, row, col, value)
 
 
 def _atomic_write(target: Path, write: Any, suffix: str) -> None:

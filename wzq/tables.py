@@ -14,6 +14,7 @@ import pandas as pd
 from wzq import costs as road_user_costs
 from wzq import units as u
 from wzq.analysis import Result
+from wzq.plan import Plan
 
 
 @dataclass(frozen=True)
@@ -102,3 +103,17 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
             ("Road-user delay cost", f"{s.total_cost:,.0f} {c.currency} ({c.dollar_year} prices)"),
         )
     return lines
+
+
+def limits_text(plan: Plan) -> str:
+    """The agency limits in the plan's units, one line (``none set`` when there are none)."""
+    th = plan.thresholds
+    long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
+    parts = []
+    if th.max_queue_length is not None:
+        parts.append(f"longest queue {th.max_queue_length / long_m:,.2f} {long_name}")
+    if th.max_average_delay is not None:
+        parts.append(f"average delay {th.max_average_delay / u.MINUTE:,.1f} min/veh")
+    if th.max_demand_capacity is not None:
+        parts.append(f"demand/capacity {th.max_demand_capacity:.2f} in closure hours")
+    return ", ".join(parts) if parts else "none set"

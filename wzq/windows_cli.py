@@ -19,6 +19,7 @@ from wzq import costs as rc
 from wzq import units as u
 from wzq.cli import EXIT_OK, EXTRA_COMMANDS, load_any
 from wzq.plan import NIGHT_END_HOUR, NIGHT_START_HOUR, Plan, PlanError, Problem
+from wzq.tables import limits_text
 from wzq.windows import (
     SYMBOLS,
     WindowSet,
@@ -73,20 +74,6 @@ def _days(text: str | None) -> set[dt.date] | None:
                 where="--days",
             ) from None
     return out
-
-
-def limits_text(plan: Plan) -> str:
-    """The limits in the plan's units, one line."""
-    th = plan.thresholds
-    long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
-    parts = []
-    if th.max_queue_length is not None:
-        parts.append(f"longest queue {th.max_queue_length / long_m:,.2f} {long_name}")
-    if th.max_average_delay is not None:
-        parts.append(f"average delay {th.max_average_delay / u.MINUTE:,.1f} min/veh")
-    if th.max_demand_capacity is not None:
-        parts.append(f"demand/capacity {th.max_demand_capacity:.2f} in closure hours")
-    return ", ".join(parts) if parts else "none set"
 
 
 def _when(t: dt.datetime) -> str:

@@ -28,8 +28,8 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 import wzq
 from wzq import costs as rc
-from wzq import units as u
 from wzq.plan import Plan
+from wzq.tables import limits_text
 from wzq.windows import (
     HOUR_COLUMNS,
     WindowsResult,
@@ -90,19 +90,6 @@ def _fresh_sheet(wb: Workbook) -> Worksheet:
         wb.remove(wb[SHEET])
         return wb.create_sheet(SHEET, index)
     return wb.create_sheet(SHEET)
-
-
-def _limits(plan: Plan) -> str:
-    th = plan.thresholds
-    long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
-    parts = []
-    if th.max_queue_length is not None:
-        parts.append(f"longest queue {th.max_queue_length / long_m:,.2f} {long_name}")
-    if th.max_average_delay is not None:
-        parts.append(f"average delay {th.max_average_delay / u.MINUTE:,.1f} min/veh")
-    if th.max_demand_capacity is not None:
-        parts.append(f"demand/capacity {th.max_demand_capacity:.2f} in closure hours")
-    return "Limits: " + (", ".join(parts) if parts else "none set")
 
 
 #: Windows tables: (heading, first column, last column) of each field; wide fields span
@@ -189,7 +176,7 @@ def write_windows_sheet(
     cell.font = CAUTION_FONT
     for col in range(1, n_cols + 1):
         ws.cell(row=4, column=col).fill = CAUTION_FILL
-    put_text(ws, 5, 1, _limits(plan))
+    put_text(ws, 5, 1, "Limits: " + limits_text(plan))
     put_text(
         ws,
         6,
