@@ -57,3 +57,14 @@ def test_report_adds_the_space_time_page() -> None:
     assert len(pages) == len(plain) + 1
     assert any("Space-time check" in p.extract_text() for p in pages)
     assert not any("Space-time check" in p.extract_text() for p in plain)
+
+
+def test_closure_windows_sheet_on_request(tmp_path: Path) -> None:
+    book = tmp_path / "plan.xlsx"
+    shutil.copy(EXAMPLES / "kestrel_ridge_weeknight.xlsx", book)
+    assert main(["run", str(book), "--no-windows"]) == 0
+    ws = openpyxl.load_workbook(book)["Closure windows"]
+    assert "were not computed" in ws["A1"].value and not ws._charts
+    assert main(["run", str(book), "--windows"]) == 0
+    ws = openpyxl.load_workbook(book)["Closure windows"]
+    assert len(ws._charts) == 1

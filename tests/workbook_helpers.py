@@ -134,6 +134,7 @@ def plan_values(plan: Plan) -> dict[str, Any]:
         "opt_diagram": L.word_for(L.DIAGRAM_WORDS, o.diagram),
         "opt_queue_length_method": L.word_for(L.QUEUE_METHOD_WORDS, o.queue_length_method),
         "site_space_time": L.word_for(L.YES_NO_WORDS, o.space_time),
+        "opt_closure_windows": L.word_for(L.YES_NO_WORDS, o.closure_windows),
         "demand_mode": L.word_for(L.DEMAND_MODE_WORDS, L.HOURLY),
     }
     c = plan.costs

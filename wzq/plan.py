@@ -181,6 +181,7 @@ class Options:
     diagram: Diagram = "triangular"
     queue_length_method: QueueLengthMethod = "newell"
     space_time: bool = False  # add the LWR space-time picture to the outputs
+    closure_windows: bool = False  # add the allowable closure hours to the workbook
 
 
 @dataclass(frozen=True)

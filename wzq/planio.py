@@ -270,12 +270,17 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan") -> Plan:
             dollar_year=int(r.number(c, "dollar_year", "costs", 2017)),
         )
     o = data.get("options") or {}
-    r.unknown(o, {"capacity_drop", "diagram", "queue_length_method", "space_time"}, "options")
+    r.unknown(
+        o,
+        {"capacity_drop", "diagram", "queue_length_method", "space_time", "closure_windows"},
+        "options",
+    )
     options = Options(
         capacity_drop=bool(o.get("capacity_drop", True)),
         diagram=o.get("diagram", "triangular"),
         queue_length_method=o.get("queue_length_method", "newell"),
         space_time=bool(o.get("space_time", False)),
+        closure_windows=bool(o.get("closure_windows", False)),
     )
     m = data.get("meta") or {}
     r.unknown(m, {"title", "project", "route", "prepared_by", "checked_by", "notes"}, "meta")
@@ -393,6 +398,7 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
             "diagram": plan.options.diagram,
             "queue_length_method": plan.options.queue_length_method,
             "space_time": plan.options.space_time,
+            "closure_windows": plan.options.closure_windows,
         },
     }
     if plan.costs is not None:

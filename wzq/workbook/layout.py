@@ -384,7 +384,7 @@ SITE_SECTIONS: tuple[Section, ...] = (
 )
 #: Names a workbook made by an older template may lack; the reader then uses the
 #: template value instead of reporting a problem.
-OPTIONAL_NAMES: frozenset[str] = frozenset({"site_space_time"})
+OPTIONAL_NAMES: frozenset[str] = frozenset({"site_space_time", "opt_closure_windows"})
 
 # Limits sheet --------------------------------------------------------------------------------
 
@@ -482,6 +482,14 @@ OPTION_FIELDS: tuple[Field, ...] = (
         template="Newell kinematic waves",
         choices=QUEUE_METHOD_WORDS,
         note="Newell needs the triangular diagram; with another, single shockwave is used",
+    ),
+    Field(
+        "opt_closure_windows",
+        "Closure windows sheet",
+        "choice",
+        template="yes",
+        choices=YES_NO_WORDS,
+        note="yes: when may each lane configuration be in place at all (takes longer)",
     ),
 )
 LIMITS_SECTIONS: tuple[Section, ...] = (

@@ -1171,6 +1171,7 @@ class _BookReader:
             diagram=v["opt_diagram"],
             queue_length_method=v["opt_queue_length_method"],
             space_time=v["site_space_time"],
+            closure_windows=v["opt_closure_windows"],
         )
         meta = Meta(
             title=v["meta_title"],

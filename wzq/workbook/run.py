@@ -129,6 +129,7 @@ def run_to(
     run_time: str | None = None,
     space_time: bool | None = None,
     unkept: Literal["copy", "refuse"] = "copy",
+    windows: bool | None = None,
 ) -> RunOutcome:
     """Analyse the plan in workbook ``path`` and write the results into it (or into ``out``).
 
@@ -181,7 +182,7 @@ def run_to(
     check_writable(target)
     plan = read_plan_from_book(book, src.name, src, data=data)
     result = wzq.analyse(plan)
-    write_results(book, result, source=src.name, run_time=run_time, notes=notes)
+    write_results(book, result, source=src.name, run_time=run_time, notes=notes, windows=windows)
     if plan.options.space_time if space_time is None else space_time:
         from wzq.workbook.pictures import add_space_time
 
@@ -197,9 +198,12 @@ def run_workbook(
     run_time: str | None = None,
     space_time: bool | None = None,
     unkept: Literal["copy", "refuse"] = "copy",
+    windows: bool | None = None,
 ) -> Result:
     """:func:`run_to`, returning only the result."""
-    return run_to(path, out, run_time=run_time, space_time=space_time, unkept=unkept).result
+    return run_to(
+        path, out, run_time=run_time, space_time=space_time, unkept=unkept, windows=windows
+    ).result
 
 
 # --- the demo workbook ------------------------------------------------------------------
@@ -247,6 +251,7 @@ _TYPED: dict[tuple[str, str], tuple[str, layout.Choices | None]] = {
     ("options", "diagram"): ("opt_diagram", layout.DIAGRAM_WORDS),
     ("options", "queue_length_method"): ("opt_queue_length_method", layout.QUEUE_METHOD_WORDS),
     ("options", "space_time"): ("site_space_time", layout.YES_NO_WORDS),
+    ("options", "closure_windows"): ("opt_closure_windows", layout.YES_NO_WORDS),
 }
 
 
@@ -395,7 +400,7 @@ def write_demo_workbook(path: str | Path = ".") -> Path:
 
 def cmd_run(args: argparse.Namespace) -> int:
     """``wzq run PATH [-o OUT]``."""
-    outcome = run_to(args.path, args.output, space_time=args.space_time)
+    outcome = run_to(args.path, args.output, space_time=args.space_time, windows=args.windows)
     result = outcome.result
     for note in outcome.notes:
         print(f"warning: {note}")
@@ -437,6 +442,13 @@ def register(sub: argparse._SubParsersAction) -> None:
         default=None,
         help="add (or leave out) the space-time picture of an LWR simulation of the "
         "approach on the Charts sheet (default: as the Site sheet says)",
+    )
+    p.add_argument(
+        "--windows",
+        action=argparse.BooleanOptionalAction,
+        default=None,
+        help="fill (or leave empty) the Closure windows sheet: when may each lane "
+        "configuration be in place at all (default: as the Limits sheet says)",
     )
     p.set_defaults(func=cmd_run)
 

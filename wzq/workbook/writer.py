@@ -727,8 +727,17 @@ def write_run_log(
 # --- the whole write-back ---------------------------------------------------------------
 
 
-def _windows_sheet(book: Workbook, result: Result) -> None:
+def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
     """The allowable closure hours of each configuration on this plan's demand."""
+    if not wanted:
+        put_text(
+            book[layout.WINDOWS],
+            1,
+            1,
+            "Allowable closure hours were not computed in this run: set 'Closure windows "
+            "sheet' to yes on the Limits sheet, or run `wzq run PLAN --windows`.",
+        )
+        return
     from wzq.windows import plan_windows
     from wzq.workbook.windows_sheet import write_windows_sheet
 
@@ -748,11 +757,13 @@ def write_results(
     source: str = "",
     run_time: str | None = None,
     notes: Sequence[str] = (),
+    windows: bool | None = None,
 ) -> dict[str, TableRef]:
     """Replace wzq's output sheets in ``book`` with the sheets for ``result``.
 
     Touches nothing else: no input cell, style, name or sheet of the user's.
-    ``run_time`` (UTC, ISO 8601) defaults to now; ``notes`` go to the Run log.
+    ``run_time`` (UTC, ISO 8601) defaults to now; ``notes`` go to the Run log;
+    ``windows`` fills the Closure windows sheet (``None``: as the plan's options say).
     Returns where the Results and Permit tables sit.
     """
     from wzq.workbook.charts import write_charts  # charts import the table layout from here
@@ -780,6 +791,8 @@ def write_results(
         run_time=run_time,
         notes=notes,
     )
-    _windows_sheet(book, result)
+    _windows_sheet(
+        book, result, result.plan.options.closure_windows if windows is None else windows
+    )
     _select(book, sheets[SUMMARY])
     return refs
