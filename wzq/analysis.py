@@ -28,7 +28,7 @@ from wzq import capacity as cap
 from wzq import costs as road_user_costs
 from wzq import newell
 from wzq.flow import FundamentalDiagram, Triangular, make_diagram
-from wzq.plan import Closure, Plan, Site
+from wzq.plan import Closure, Plan, Site, Thresholds
 from wzq.queueing import QueueRun, solve, waits
 from wzq.shockwave import stored_density
 from wzq.units import FOOT, HOUR, MILE, MPH, per_mile_to_per_m
@@ -399,6 +399,45 @@ class Result:
         return summarise(self.run, self.hourly)
 
 
+#: Slack on the limits, absorbing rounding of long sums (m, s, ratio).
+LENGTH_TOLERANCE_M = 1e-9
+DELAY_TOLERANCE_S = 1e-9
+RATIO_TOLERANCE = 1e-12
+
+
+def hour_checks(
+    th: Thresholds,
+    arrivals: np.ndarray,
+    capacity: np.ndarray,
+    lmax: np.ndarray,
+    delay_veh_h: np.ndarray,
+    closed: np.ndarray,
+) -> tuple[np.ndarray, np.ndarray, list[tuple[str, str, np.ndarray]]]:
+    """Average delay (min/veh), demand/capacity and each hour's checks against the limits.
+
+    Longest queue ``<=`` limit; average delay (queue plus work-zone travel delay
+    over the hour's arrivals) ``<=`` limit; demand/capacity ``<=`` limit in closure
+    hours only. The one rule for the per-hour table and the closure-window search.
+    Returns ``(average_delay_min, demand_capacity, [(column, label, ok), ...])``.
+    """
+    with np.errstate(divide="ignore", invalid="ignore"):
+        avg = np.where(
+            arrivals > 0, delay_veh_h * 60.0 / np.where(arrivals > 0, arrivals, 1.0), 0.0
+        )
+        dc = np.where(capacity > 0, arrivals / np.where(capacity > 0, capacity, 1.0), np.nan)
+    checks: list[tuple[str, str, np.ndarray]] = []
+    if th.max_queue_length is not None:
+        ok = lmax <= th.max_queue_length + LENGTH_TOLERANCE_M
+        checks.append(("queue_ok", "queue length", ok))
+    if th.max_average_delay is not None:
+        ok = avg * 60.0 <= th.max_average_delay + DELAY_TOLERANCE_S
+        checks.append(("delay_ok", "delay", ok))
+    if th.max_demand_capacity is not None:
+        ok = ~closed | (dc <= th.max_demand_capacity + RATIO_TOLERANCE)
+        checks.append(("demand_capacity_ok", "demand/capacity", ok))
+    return avg, dc, checks
+
+
 def hourly_table(r: Run) -> pd.DataFrame:
     """Per-hour demand, capacity, queue, length, delay and threshold checks."""
     q = r.queue
@@ -420,9 +459,7 @@ def hourly_table(r: Run) -> pd.DataFrame:
     else:
         lmax = top(np.maximum(r.length_start, r.length_end), first)
     closed = top((r.closure >= 0).view(np.int8), first).astype(bool)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        avg = np.where(arrivals > 0, delay * 60.0 / np.where(arrivals > 0, arrivals, 1.0), 0.0)
-        dc = np.where(capacity > 0, arrivals / np.where(capacity > 0, capacity, 1.0), np.nan)
+    avg, dc, checks = hour_checks(r.plan.thresholds, arrivals, capacity, lmax, delay, closed)
     max_wait = np.zeros(n_hours)
     if q.busy.any():
         cand, w = waits(q)
@@ -448,15 +485,6 @@ def hourly_table(r: Run) -> pd.DataFrame:
         "max_queue_wait_min": max_wait,
         "road_user_cost": road_user_costs.plan_delay_cost(r.plan, delay),
     }
-    th = r.plan.thresholds
-    checks: list[tuple[str, str, np.ndarray]] = []
-    if th.max_queue_length is not None:
-        checks.append(("queue_ok", "queue length", lmax <= th.max_queue_length + 1e-9))
-    if th.max_average_delay is not None:
-        checks.append(("delay_ok", "delay", avg * 60.0 <= th.max_average_delay + 1e-9))
-    if th.max_demand_capacity is not None:
-        ok = ~closed | (dc <= th.max_demand_capacity + 1e-12)
-        checks.append(("demand_capacity_ok", "demand/capacity", ok))
     code = np.zeros(n_hours, dtype=np.int64)
     for bit, (name, _, ok) in enumerate(checks):
         cols[name] = ok

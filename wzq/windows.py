@@ -64,7 +64,13 @@ import pandas as pd
 
 from wzq import costs as rc
 from wzq import newell
-from wzq.analysis import SiteModel, configuration, queue_state_discharge, site_model
+from wzq.analysis import (
+    SiteModel,
+    configuration,
+    hour_checks,
+    queue_state_discharge,
+    site_model,
+)
 from wzq.flow import Triangular
 from wzq.plan import (
     BARRIERS,
@@ -91,11 +97,6 @@ MAX_INTERVALS = 6 * 7 * 24 * 4
 #: Relative margin by which the jam-density screen of :func:`_evaluate` stays below
 #: any queue length a method can give (rounding).
 SCREEN_MARGIN = 1e-9
-
-#: Tolerances of the per-hour checks; the same as :func:`wzq.analysis.hourly_table`.
-LENGTH_TOLERANCE_M = 1e-9
-DELAY_TOLERANCE_S = 1e-9
-RATIO_TOLERANCE = 1e-12
 
 #: (model, lanes in normal operation, demand veh/h, discharge veh/h, queue run)
 #: -> the longest queue (m) within each interval of the run; never shorter than the
@@ -258,23 +259,10 @@ def _checks(
     delay_veh_h: np.ndarray,
     closed: np.ndarray,
 ) -> np.ndarray:
-    """The per-hour checks of :func:`wzq.analysis.hourly_table`, on arrays.
-
-    Queue length ``<=`` limit, average delay (queue plus work-zone travel delay
-    over arrivals) ``<=`` limit, demand/capacity ``<=`` limit in closure hours only.
-    """
-    with np.errstate(divide="ignore", invalid="ignore"):
-        avg = np.where(
-            arrivals > 0, delay_veh_h * 60.0 / np.where(arrivals > 0, arrivals, 1.0), 0.0
-        )
-        dc = np.where(capacity > 0, arrivals / np.where(capacity > 0, capacity, 1.0), np.nan)
+    """All of :func:`wzq.analysis.hour_checks` passed, hour by hour."""
     ok = np.ones(len(arrivals), dtype=bool)
-    if th.max_queue_length is not None:
-        ok &= lmax <= th.max_queue_length + LENGTH_TOLERANCE_M
-    if th.max_average_delay is not None:
-        ok &= avg * 60.0 <= th.max_average_delay + DELAY_TOLERANCE_S
-    if th.max_demand_capacity is not None:
-        ok &= ~closed | (dc <= th.max_demand_capacity + RATIO_TOLERANCE)
+    for _, _, passed in hour_checks(th, arrivals, capacity, lmax, delay_veh_h, closed)[2]:
+        ok &= passed
     return ok
 
 
