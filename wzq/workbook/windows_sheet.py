@@ -17,7 +17,6 @@ from __future__ import annotations
 from typing import Any
 
 import pandas as pd
-from openpyxl.cell.cell import Cell
 from openpyxl.chart import BarChart, Reference, Series
 from openpyxl.chart.data_source import StrRef
 from openpyxl.chart.series import SeriesLabel
@@ -39,6 +38,7 @@ from wzq.windows import (
     longest_windows,
 )
 from wzq.workbook import layout
+from wzq.workbook.writer import put_text
 
 SHEET = "Closure windows"
 
@@ -66,14 +66,6 @@ SECTION_FONT = Font(bold=True, size=12, color=_hex("section_text", "1F3A4D"))
 NOTE_FONT = Font(italic=True, color=_hex("note_text", "5F6B73"))
 CAUTION_FILL = PatternFill("solid", fgColor=_hex("caution_fill", "FBE3D6"))
 CAUTION_FONT = Font(bold=True, color=_hex("caution_text", "7A2E0E"))
-
-
-def put_text(ws: Worksheet, row: int, col: int, text: Any) -> Cell:
-    """Write ``text`` as text, never as a formula, whatever its first character."""
-    cell = ws.cell(row=row, column=col)
-    cell.value = "" if text is None else str(text)
-    cell.data_type = "s"
-    return cell
 
 
 def _header(ws: Worksheet, row: int, texts: list[str], first_col: int = 1) -> None:
