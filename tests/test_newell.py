@@ -528,3 +528,39 @@ def test_agrees_with_the_godunov_lwr_solver() -> None:
         assert gone == pytest.approx([9600.0], abs=dx / 6.0)  # one cell at the back's 6 m/s
         worst.append(err.max())
     assert worst[1] < 0.85 * worst[0]  # converges as the cells shrink
+
+
+# --------------------------------------------------------------------------- busy periods only
+
+
+def _full_construction(run, lanes=N_LANES):
+    """The construction over every knot of the run (no busy-period reduction)."""
+    t, a, d = newell.curves(run)
+    return newell._trajectory(t, a, d, lanes, V_F, W, K_J, "rate", busy_only=False)
+
+
+@pytest.mark.parametrize("seed", range(40))
+def test_busy_periods_alone_give_the_same_trajectory(seed: int) -> None:
+    # The trajectory depends only on the knots of the busy periods when every flow is
+    # below the approach capacity (module notes of wzq.newell): computed from those
+    # knots it must equal the construction over every knot, vertex for vertex. Random
+    # invented days: 24-96 intervals, quiet stretches between closures, capacity drop
+    # on or off (no drop means the open road discharges at n c: the full path).
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(24, 97))
+    dur = rng.choice([900.0, 1800.0, 3600.0], n)
+    closed = rng.random(n) < 0.3
+    pre = np.where(closed, 0.62, 1.2 if seed % 4 == 0 else 1.1)
+    drop = 0.0 if seed % 4 == 0 else rng.uniform(0.02, 0.1)
+    lam = rng.uniform(0.1, 1.0, n) * np.where(closed, 1.2, 1.0)
+    run = solve(dur, lam, pre, pre * (1 - drop))
+    nq = newell.from_queue(run, DIAGRAM, N_LANES)
+    times, dist, limited = _full_construction(run)
+    assert nq.capacity_limited == limited
+    assert nq.distance == pytest.approx(np.interp(nq.times, times, dist), rel=1e-12, abs=1e-9)
+    assert dist == pytest.approx(np.interp(times, nq.times, nq.distance), rel=1e-12, abs=1e-9)
+    t, a, d = newell.curves(run)
+    got_t, got_d = newell.trajectory(t, a, d, **APPROACH)
+    assert got_d == pytest.approx(np.interp(got_t, times, dist), rel=1e-12, abs=1e-9)
+    if seed % 4:
+        assert (run.queue == 0).sum() > 3  # quiet stretches were there to drop (setting)

@@ -185,3 +185,42 @@ def test_agrees_with_a_one_second_loop(s) -> None:
     tol = 1.0 * max(pre.max(), lam.max()) * (len(dur) + 1)
     assert q == pytest.approx(run.queue, abs=tol)
     assert delay == pytest.approx(run.total_delay, rel=0.02, abs=tol * dur.sum())
+
+
+def interval_loop(dur, lam, pre, qdr, q0=0.0):
+    """The capacity-drop rule applied one interval at a time, for comparison only.
+
+    No queue and demand within the pre-breakdown capacity: stays empty;
+    otherwise the queue changes at demand - discharge, never below zero.
+    """
+    q = q0
+    out = [q]
+    for d, a, p, m in zip(dur, lam, pre, qdr, strict=True):
+        if q > 0 or a > p:
+            q = max(0.0, q + (a - m) * d)
+        out.append(q)
+    return np.array(out)
+
+
+@st.composite
+def long_schedules(draw):
+    """Many intervals, with quiet stretches between busy ones (the year's shape)."""
+    n = draw(st.integers(min_value=20, max_value=200))
+    seed = draw(st.integers(0, 2**32 - 1))
+    rng = np.random.default_rng(seed)
+    dur = rng.uniform(0.25, 2.0, n) * H
+    pre = rng.choice([1600.0, 3600.0, 5400.0], n) / H
+    qdr = pre * rng.uniform(0.85, 1.0, n)
+    lam = rng.uniform(0.2, 1.15, n) * pre  # some above pre, some between qdr and pre
+    q0 = float(rng.choice([0.0, 0.0, 300.0]))
+    return dur, lam, pre, qdr, q0
+
+
+@settings(max_examples=200, deadline=None)
+@given(long_schedules())
+def test_queue_equals_the_rule_applied_interval_by_interval(s) -> None:
+    # the vectorised solution (bound, stretches, fixed point) against the
+    # capacity-drop rule (HCM 7th ed. ch. 10) stepped interval by interval
+    dur, lam, pre, qdr, q0 = s
+    q = queue_at_boundaries(dur, lam, pre, qdr, q0)
+    assert q == pytest.approx(interval_loop(dur, lam, pre, qdr, q0), abs=1e-6)

@@ -28,7 +28,7 @@ from wzq import capacity as cap
 from wzq import costs as road_user_costs
 from wzq import newell
 from wzq.flow import FundamentalDiagram, Triangular, make_diagram
-from wzq.plan import Closure, Plan, Site, Thresholds
+from wzq.plan import NIGHT_END_HOUR, NIGHT_START_HOUR, Closure, Plan, Site, Thresholds
 from wzq.queueing import QueueRun, solve, waits
 from wzq.shockwave import stored_density
 from wzq.units import FOOT, HOUR, MILE, MPH, per_mile_to_per_m
@@ -211,40 +211,77 @@ class Run:
         return pd.Timestamp(self.plan.demand.start) + pd.to_timedelta(seconds, unit="s")
 
 
-def _offsets(plan: Plan) -> tuple[np.ndarray, np.ndarray]:
-    """Closure starts and ends in seconds from the start of the demand."""
-    if not plan.closures:
-        return np.empty(0), np.empty(0)
+def _closure_table(plan: Plan) -> tuple[np.ndarray, np.ndarray, np.ndarray, list[Closure]]:
+    """The closures as arrays: starts and ends (s from the start of the
+    demand), the configuration number of each, and one example per configuration.
+
+    A configuration is what capacity depends on besides the clock: lanes
+    closed, barrier, capacity override and a day/night given by the user.
+    """
     origin = plan.demand.start
-    n = len(plan.closures)
-    starts = np.fromiter(((c.start - origin).total_seconds() for c in plan.closures), float, n)
-    ends = np.fromiter(((c.end - origin).total_seconds() for c in plan.closures), float, n)
-    return starts, ends
+    starts: list[float] = []
+    ends: list[float] = []
+    conf_of: list[int] = []
+    number: dict[tuple, int] = {}
+    examples: list[Closure] = []
+    for c in plan.closures:
+        starts.append((c.start - origin).total_seconds())
+        ends.append((c.end - origin).total_seconds())
+        key = (c.lanes_closed, c.barrier, c.capacity_override_veh_h_ln, c.night)
+        j = number.get(key)
+        if j is None:
+            j = number[key] = len(examples)
+            examples.append(c)
+        conf_of.append(j)
+    return (
+        np.array(starts, dtype=float),
+        np.array(ends, dtype=float),
+        np.array(conf_of, dtype=np.intp),
+        examples,
+    )
 
 
-def _grid(plan: Plan) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Boundaries (s), closure index and demand index of each interval."""
+def _grid(
+    plan: Plan, starts: np.ndarray, ends: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Boundaries (s), and per interval: hour (from the start of the demand),
+    closure index (-1 when open) and demand index.
+
+    Closures never overlap (:func:`wzq.plan.validate`), so in time order the
+    intervals alternate between open stretches and closures; the closure index
+    is each stretch's label repeated over its intervals.
+    """
     d = plan.demand
     n = len(d.flows_veh_h)
     step = float(d.interval_s)
-    starts, ends = _offsets(plan)
     t = np.arange(n + 1, dtype=float) * step
     aligned = step == HOUR and bool(
         np.all(np.mod(starts, step) == 0) and np.all(np.mod(ends, step) == 0)
     )
-    if not aligned:
+    if aligned:  # hourly demand, closures on the hour: the grid is the hours
+        demand_index = hour = np.arange(n, dtype=np.intp)
+        first = (starts / step).astype(np.intp)
+        stop = (ends / step).astype(np.intp)
+    else:
         parts = [t, np.arange(0.0, n * step + 1, HOUR), starts, ends]
         t = np.unique(np.concatenate(parts))
-    mid = 0.5 * (t[:-1] + t[1:])
-    demand_index = np.minimum((mid // step).astype(np.int64), n - 1)
-    closure_index = np.full(len(mid), -1, dtype=np.int64)
+        mid = 0.5 * (t[:-1] + t[1:])
+        demand_index = np.minimum(np.floor(mid / step).astype(np.intp), n - 1)
+        hour = np.floor(mid / HOUR).astype(np.intp)
+        first = np.searchsorted(mid, starts, side="left")
+        stop = np.searchsorted(mid, ends, side="left")
+    m = len(t) - 1
     if len(starts):
-        order = np.argsort(starts, kind="stable")
-        j = np.searchsorted(starts[order], mid, side="right") - 1
-        cand = order[np.maximum(j, 0)]
-        inside = (j >= 0) & (mid < ends[cand])
-        closure_index = np.where(inside, cand, -1)
-    return t, closure_index, demand_index
+        order = np.argsort(first, kind="stable")
+        edges = np.empty(2 * len(order) + 2, dtype=np.intp)
+        edges[0], edges[-1] = 0, m
+        edges[1:-1:2], edges[2:-1:2] = first[order], stop[order]
+        labels = np.full(2 * len(order) + 1, -1, dtype=np.intp)
+        labels[1::2] = order
+        closure_index = np.repeat(labels, np.diff(edges))
+    else:
+        closure_index = np.full(m, -1, dtype=np.intp)
+    return t, hour, closure_index, demand_index
 
 
 def queue_state_discharge(run: QueueRun, discharge: np.ndarray) -> np.ndarray:
@@ -287,40 +324,39 @@ def evaluate(plan: Plan) -> Run:
     """The engine's core: capacity, queue, lengths and delays as arrays."""
     site = plan.site
     model = site_model(site, plan.options.diagram)
-    t, ci, di = _grid(plan)
+    starts, ends, conf_of, examples = _closure_table(plan)
+    t, hour, ci, di = _grid(plan, starts, ends)
     dur = np.diff(t)
     lam = plan.demand.flows_veh_h[di]
-    start_hour = plan.demand.start.hour
-    hour_of_day = ((start_hour * HOUR + t[:-1]) // HOUR).astype(np.int64) % 24
-    clock_night = (hour_of_day >= 19) | (hour_of_day < 6)
-    # one capacity computation per distinct configuration, not per interval
-    configs: dict[tuple, int] = {}
-    examples: list[Closure] = []
-    conf_of = np.empty(len(plan.closures) + 1, dtype=np.int64)
-    conf_of[-1] = -1  # open road (closure index -1)
-    for i, c in enumerate(plan.closures):
-        key = (c.lanes_closed, c.barrier, c.capacity_override_veh_h_ln, c.night)
-        if key not in configs:
-            configs[key] = len(examples)
-            examples.append(c)
-        conf_of[i] = configs[key]
-    keys = np.where(clock_night, 1, 0) + 2 * (conf_of[ci] + 1)
-    uniq, inv = np.unique(keys, return_inverse=True)
-    n_u = len(uniq)
-    pre_u, qdr_u, extra_u = np.empty(n_u), np.empty(n_u), np.zeros(n_u)
+    # night by the clock (wzq.plan.is_night), one day's pattern repeated; the
+    # demand starts on the hour
+    clock = (plan.demand.start.hour + np.arange(24)) % 24
+    pattern = (clock >= NIGHT_START_HOUR) | (clock < NIGHT_END_HOUR)
+    clock_night = np.tile(pattern, int(hour[-1]) // 24 + 1)[hour]
+    # one capacity computation per distinct configuration and night flag, not
+    # per interval: key = 2 x (configuration + 1) + night, looked up in a table
+    conf = np.append(conf_of, -1)[ci] if len(conf_of) else np.full(len(ci), -1)
+    keys = clock_night.view(np.int8) + 2 * (conf + 1)
+    present = np.flatnonzero(np.bincount(keys, minlength=2 * len(examples) + 2))
+    n_u = len(present)
+    values = np.zeros((3, n_u))  # pre-breakdown, discharge, extra seconds per vehicle
     lanes_u = np.full(n_u, site.lanes, dtype=np.int64)
-    for j, key in enumerate(uniq.tolist()):
+    for j, key in enumerate(present.tolist()):
         idx = key // 2 - 1
         closure = examples[idx] if idx >= 0 else None
         night = bool(key % 2) if closure is None or closure.night is None else closure.night
         config = None if closure is None else _config(closure)
-        pre_u[j], qdr_u[j], extra_u[j] = configuration(site, plan.options.diagram, config, night)
+        values[:, j] = configuration(site, plan.options.diagram, config, night)
         if closure is not None:
             lanes_u[j] = site.lanes - closure.lanes_closed
-    pre, qdr, extra, lanes_open = pre_u[inv], qdr_u[inv], extra_u[inv], lanes_u[inv]
+    table = np.zeros(2 * len(examples) + 2, dtype=np.intp)
+    table[present] = np.arange(n_u)
+    inv = table[keys]
+    pre, qdr, extra = values[0].take(inv), values[1].take(inv), values[2].take(inv)
+    lanes_open = lanes_u.take(inv)
     if not plan.options.capacity_drop:
         qdr = pre.copy()
-    run = solve(dur, lam / HOUR, pre / HOUR, qdr / HOUR)
+    run = solve(dur, lam / HOUR, pre / HOUR, qdr / HOUR, t=t)
     nq = None
     if plan.options.queue_length_method == "newell" and isinstance(model.diagram, Triangular):
         nq = newell.from_queue(run, model.diagram, site.lanes) if run.busy.any() else _no_queue(t)
@@ -405,6 +441,11 @@ DELAY_TOLERANCE_S = 1e-9
 RATIO_TOLERANCE = 1e-12
 
 
+#: The per-hour pass/fail columns :func:`hour_checks` may add to the table.
+CHECK_COLUMNS = ("queue_ok", "delay_ok", "demand_capacity_ok")
+_QUEUE_OK, _DELAY_OK, _DEMAND_CAPACITY_OK = CHECK_COLUMNS
+
+
 def hour_checks(
     th: Thresholds,
     arrivals: np.ndarray,
@@ -428,14 +469,19 @@ def hour_checks(
     checks: list[tuple[str, str, np.ndarray]] = []
     if th.max_queue_length is not None:
         ok = lmax <= th.max_queue_length + LENGTH_TOLERANCE_M
-        checks.append(("queue_ok", "queue length", ok))
+        checks.append((_QUEUE_OK, "queue length", ok))
     if th.max_average_delay is not None:
         ok = avg * 60.0 <= th.max_average_delay + DELAY_TOLERANCE_S
-        checks.append(("delay_ok", "delay", ok))
+        checks.append((_DELAY_OK, "delay", ok))
     if th.max_demand_capacity is not None:
         ok = ~closed | (dc <= th.max_demand_capacity + RATIO_TOLERANCE)
-        checks.append(("demand_capacity_ok", "demand/capacity", ok))
+        checks.append((_DEMAND_CAPACITY_OK, "demand/capacity", ok))
     return avg, dc, checks
+
+
+def _per_hour_identity(values: np.ndarray, _first: None) -> np.ndarray:
+    """Per-hour sum, maximum or minimum when each interval is a whole hour."""
+    return values
 
 
 def hourly_table(r: Run) -> pd.DataFrame:
@@ -444,10 +490,13 @@ def hourly_table(r: Run) -> pd.DataFrame:
     dur = r.duration
     n_hours = round(r.t[-1] / HOUR)
     bounds = np.arange(n_hours + 1) * HOUR
-    first = np.searchsorted(r.t, bounds[:-1])
-    last_b = np.searchsorted(r.t, bounds[1:])
-    add = np.add.reduceat
-    top = np.maximum.reduceat
+    if len(r.t) == n_hours + 1:  # the grid is the hours: each interval is its hour
+        first = last_b = None
+        add = top = low = _per_hour_identity
+    else:
+        first = np.searchsorted(r.t, bounds[:-1])
+        last_b = np.searchsorted(r.t, bounds[1:])
+        add, top, low = np.add.reduceat, np.maximum.reduceat, np.minimum.reduceat
 
     arrivals = add(q.arrivals, first)
     capacity = add(r.prebreakdown_veh_h * dur, first) / HOUR
@@ -466,8 +515,8 @@ def hourly_table(r: Run) -> pd.DataFrame:
         hour_of = np.clip((cand // HOUR).astype(np.int64), 0, n_hours - 1)
         np.maximum.at(max_wait, hour_of, w / 60.0)
     cols: dict[str, object] = {
-        "hour_start": r.clock(bounds[:-1]),
-        "lanes_open": np.minimum.reduceat(r.lanes_open, first),
+        "hour_start": pd.date_range(r.plan.demand.start, periods=n_hours, freq="h"),
+        "lanes_open": low(r.lanes_open, first),
         "closure": closed,
         "demand_veh_h": arrivals,
         "capacity_veh_h": capacity,
@@ -475,7 +524,7 @@ def hourly_table(r: Run) -> pd.DataFrame:
         "demand_capacity": dc,
         "arrivals_veh": arrivals,
         "departures_veh": add(q.departures, first),
-        "queue_end_veh": q.queue[last_b],
+        "queue_end_veh": q.queue[1:] if last_b is None else q.queue[last_b],
         "queue_max_veh": top(np.maximum(q.queue[:-1], q.queue[1:]), first),
         "queue_length_max_m": lmax,
         "queue_delay_veh_h": queue_delay,
@@ -513,10 +562,12 @@ def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
     last_clear = None
     if len(clears) and q.queue[-1] == 0:
         last_clear = _clock(r, float(clears.max()))
-    failing = tuple(
-        ts.to_pydatetime()
-        for ts, s in zip(hourly["hour_start"], hourly["status"], strict=True)
-        if s != "ok"
+    over = np.zeros(len(hourly), dtype=bool)
+    for name in CHECK_COLUMNS:
+        if name in hourly:
+            over |= ~hourly[name].to_numpy(dtype=bool)
+    failing = (
+        tuple(pd.DatetimeIndex(hourly["hour_start"][over]).to_pydatetime()) if over.any() else ()
     )
     qd = float(q.delay.sum()) / HOUR
     wd = float(r.work_zone_delay.sum()) / HOUR
@@ -556,9 +607,8 @@ def _warnings(r: Run) -> list[str]:
     over = r.demand_veh_h > r.prebreakdown_veh_h
     if over.any():
         # longest stretch of consecutive overloaded intervals, in seconds
-        elapsed = np.concatenate(([0.0], np.cumsum(np.where(over, r.duration, 0.0))))
-        reset = np.maximum.accumulate(np.where(np.concatenate(([True], ~over)), elapsed, 0.0))
-        longest = float((elapsed - reset).max())
+        edges = np.flatnonzero(np.diff(over.view(np.int8), prepend=0, append=0))
+        longest = float((r.t[edges[1::2]] - r.t[edges[::2]]).max())
         if longest >= LONG_OVERLOAD_HOURS * HOUR:
             out.append(
                 f"demand is above capacity for {longest / HOUR:.1f} hours in a row; "
@@ -574,8 +624,8 @@ def _warnings(r: Run) -> list[str]:
             "arrivals or discharge exceeded the approach road's capacity; the traffic it "
             "could not admit is held beyond the upstream end and not counted in the length"
         )
-    for i, c in enumerate(r.plan.closures):
-        if site.lanes - c.lanes_closed == 1 and site.terrain != "level":
+    for i, c in enumerate(r.plan.closures if site.terrain != "level" else ()):
+        if site.lanes - c.lanes_closed == 1:
             out.append(
                 f"closure {i + 1} leaves one lane open on {site.terrain} terrain; the HCM "
                 "work-zone model advises caution for one open lane on upgrades"

@@ -184,10 +184,14 @@ def _check(
         raise ValueError("the times t must be strictly increasing")
     if not (np.all(np.isfinite(a)) and np.all(np.isfinite(d))):
         raise ValueError("cumulative counts must be finite")
+    _check_positive(speeds)
+    return t, a, d
+
+
+def _check_positive(speeds: tuple[float, ...]) -> None:
     for v in speeds:
         if not (np.isfinite(v) and v > 0):
             raise ValueError("lanes, speeds and jam density must be finite and above zero")
-    return t, a, d
 
 
 def _envelope(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -242,13 +246,15 @@ def _level_curves(
     v: float,
     w: float,
     after_end: AfterEnd,
+    strict: bool = False,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, bool]:
     """Knots and values of ``E(s) = n c s - D(s)`` and ``F(u) = n c u - A(u)``.
 
     ``E`` gets one knot before the first time (``D`` held there), ``F`` one far
     beyond the last time (``A`` extended), far enough that every trajectory
     point whose ``u`` reaches it lies after the last time. Both are replaced by
-    their running maxima (approach capacity; see the module notes).
+    their running maxima (approach capacity; see the module notes), unless
+    ``strict`` says every flow is below the approach capacity.
     """
     t0, t_end = float(t[0]), float(t[-1])
     s_neg = t0 - max(a[0] - d[0], 0.0) / nc - 1.0
@@ -263,6 +269,8 @@ def _level_curves(
     u_far = t_end + (w / v) * (t_end - s_neg) + 1.0
     u_knots = np.concatenate((t, [u_far]))
     f_vals = np.concatenate((nc * t - a, [nc * u_far - (a[-1] + rate * (u_far - t_end))]))
+    if strict:  # every flow below n c: both curves rise strictly, no envelope needed
+        return s_knots, e_vals, u_knots, f_vals, False
     s2, e2 = _envelope(s_knots, e_vals)
     u2, f2 = _envelope(u_knots, f_vals)
     limited = bool(
@@ -270,6 +278,84 @@ def _level_curves(
         or np.max(np.maximum.accumulate(f_vals) - f_vals) > _ENVELOPE_TOL_VEH
     )
     return s2, e2, u2, f2, limited
+
+
+def _below_capacity(t: np.ndarray, a: np.ndarray, d: np.ndarray, nc: float) -> bool:
+    """Every arrival and departure flow strictly below the approach capacity ``n c``."""
+    dt = np.diff(t)
+    return bool(np.max(np.diff(a) / dt) < nc and np.max(np.diff(d) / dt) < nc)
+
+
+def _busy_mask(queued: np.ndarray) -> np.ndarray:
+    """Knots in or bounding a busy period, and the first and last two knots."""
+    keep = queued.copy()
+    keep[1:] |= queued[:-1]
+    keep[:-1] |= queued[1:]
+    keep[:2] = True
+    keep[-2:] = True
+    return keep
+
+
+def _busy_knots(
+    t: np.ndarray, a: np.ndarray, d: np.ndarray, nc: float
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, bool]:
+    """The knots the trajectory depends on: those of the busy periods.
+
+    Where no queue stands (``A = D``) the two level curves coincide,
+    ``E(s) = F(s)``; when every arrival and departure flow is strictly below
+    the approach capacity ``n c`` both are strictly increasing, so every level
+    of a stretch with no queue maps to ``s = u`` (distance 0), and every level
+    of a busy period, which starts and ends with ``A = D``, maps to ``s`` and
+    ``u`` inside that busy period. The trajectory therefore needs only the
+    knots of the busy periods (and of their bounding instants); the stretches
+    between them are straight lines on which ``E = F`` exactly, giving the
+    same zero distance. The first and last two knots are kept for the
+    conventions at the ends. When a flow reaches ``n c`` (flat or falling
+    curves) every knot is kept. Returns the knots and whether the flows are
+    strictly below ``n c``.
+    """
+    if not _below_capacity(t, a, d, nc):
+        return t, a, d, False
+    if len(t) <= 6:
+        return t, a, d, True
+    keep = _busy_mask((a - d) > 0)
+    return t[keep], a[keep], d[keep], True
+
+
+def _queue_knots(queue: QueueRun, nc: float) -> tuple[np.ndarray, np.ndarray, np.ndarray, bool]:
+    """:func:`curves` restricted as in :func:`_busy_knots`, straight from a queue run.
+
+    The flows are the run's arrival rates and, while a queue stands, its
+    discharge rates, so the test against ``n c`` needs no differencing; the
+    clearing instants are added only inside the kept stretches.
+    """
+    k = queue.touched  # intervals with a queue at either end
+    strict = bool(queue.arrival_rate.max() < nc) and not bool(
+        len(k) and queue.discharge[k].max() >= nc
+    )
+    m = len(queue.t) - 1
+    if not strict or m <= 5:
+        t, a, d = curves(queue)
+        return t, a, d, strict
+    # boundaries in or bounding a busy period, and the first and last two
+    keep = np.zeros(m + 1, dtype=bool)
+    keep[[0, 1, m - 1, m]] = True
+    keep[k] = True
+    keep[k + 1] = True
+    idx = np.flatnonzero(keep)
+    t, a, d = queue.t[idx], queue.arrivals_cum[idx], queue.departures_cum[idx]
+    k = idx[:-1][np.diff(idx) == 1]  # kept intervals
+    dur = queue.t[k + 1] - queue.t[k]
+    clears = (queue.queue[k] > 0) & (queue.queue[k + 1] == 0) & (queue.busy[k] < dur)
+    if not clears.any():
+        return t, a, d, True
+    k = k[clears]
+    tc = queue.t[k] + queue.busy[k]
+    ac = queue.arrivals_cum[k] + queue.arrival_rate[k] * queue.busy[k]
+    inside = (tc > queue.t[k]) & (tc < queue.t[k + 1])
+    k, tc, ac = k[inside], tc[inside], ac[inside]
+    at = np.searchsorted(idx, k) + 1  # position after knot k in the kept knots
+    return np.insert(t, at, tc), np.insert(a, at, ac), np.insert(d, at, ac), True
 
 
 def _trajectory(
@@ -281,9 +367,17 @@ def _trajectory(
     w: float,
     k_j: float,
     after_end: AfterEnd,
+    *,
+    busy_only: bool = True,
+    strict: bool = False,
 ) -> tuple[np.ndarray, np.ndarray, bool]:
+    """The trajectory; ``busy_only`` drops the knots it does not depend on
+    (:func:`_busy_knots`), ``strict`` says the caller already knows every flow
+    is below the approach capacity."""
     nc = lanes * _lane_capacity(v, w, k_j)
-    s_k, e_v, u_k, f_v, limited = _level_curves(t, a, d, nc, v, w, after_end)
+    if busy_only:
+        t, a, d, strict = _busy_knots(t, a, d, nc)
+    s_k, e_v, u_k, f_v, limited = _level_curves(t, a, d, nc, v, w, after_end, strict)
     y_lo, y_hi = f_v[0], e_v[-1]
     levels = np.unique(np.concatenate((e_v, f_v, [y_lo, y_hi])))
     levels = levels[(levels >= y_lo) & (levels <= y_hi)]
@@ -471,7 +565,13 @@ def hourly_max(times: np.ndarray, distance: np.ndarray, hour_bounds: np.ndarray)
     times = np.asarray(times, dtype=float)
     distance = np.asarray(distance, dtype=float)
     b = np.asarray(hour_bounds, dtype=float)
-    at_b = np.interp(b, times, distance, left=0.0, right=0.0)
+    return _hourly_max(times, distance, b, np.interp(b, times, distance, left=0.0, right=0.0))
+
+
+def _hourly_max(
+    times: np.ndarray, distance: np.ndarray, b: np.ndarray, at_b: np.ndarray
+) -> np.ndarray:
+    """:func:`hourly_max` given the distances ``at_b`` at the bounds ``b``."""
     out = np.maximum(at_b[:-1], at_b[1:])
     k = np.searchsorted(b, times, side="right") - 1
     inside = (k >= 0) & (k < len(b) - 1)
@@ -499,18 +599,27 @@ def from_queue(
             "Newell's simplified kinematic-wave method needs the triangular diagram, "
             f"not {type(diagram).__name__}; use the single-state relation (wzq.shockwave)"
         )
-    t, a, d = curves(queue)
     v, w, k_j = diagram.free_speed, diagram.backward_wave_speed, diagram.jam_density
-    t, a, d = _check(t, a, d, (lanes, v, w, k_j))
-    times, dist, limited = _trajectory(t, a, d, lanes, v, w, k_j, after_end)
+    _check_positive((lanes, v, w, k_j))
+    t, a, d, strict = _queue_knots(queue, lanes * _lane_capacity(v, w, k_j))
+    t, a, d = _check(t, a, d, ())
+    times, dist, limited = _trajectory(
+        t, a, d, lanes, v, w, k_j, after_end, busy_only=False, strict=strict
+    )
     n_hours = max(round((t[-1] - t[0]) / HOUR), 1)
     bounds = t[0] + np.arange(n_hours + 1) * HOUR
+    at_boundaries = np.interp(queue.t, times, dist)
+    hourly = (
+        _hourly_max(times, dist, bounds, at_boundaries)
+        if np.array_equal(bounds, queue.t)  # the run's grid is the hours
+        else hourly_max(times, dist, bounds)
+    )
     return NewellQueue(
         times=times,
         distance=dist,
-        at_boundaries=np.interp(queue.t, times, dist),
+        at_boundaries=at_boundaries,
         hour_bounds=bounds,
-        hourly_max_m=hourly_max(times, dist, bounds),
+        hourly_max_m=hourly,
         extent=extent(times, dist),
         dissolved_s=dissolve_times(times, dist),
         capacity_limited=limited,

@@ -20,7 +20,7 @@ Units: any consistent set; :func:`solve` is called with seconds and veh/s.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -49,6 +49,9 @@ class QueueRun:
     departures: np.ndarray
     arrivals_cum: np.ndarray
     departures_cum: np.ndarray
+    #: indices of the intervals with a queue at either end (elsewhere nothing
+    #: waits: ``busy`` and ``delay`` are 0 and departures equal arrivals)
+    touched: np.ndarray = field(default_factory=lambda: np.empty(0, dtype=np.intp))
 
     @property
     def queued(self) -> np.ndarray:
@@ -82,14 +85,29 @@ def _lindley(net: np.ndarray, q0: float) -> np.ndarray:
     return q
 
 
-def _run_starts(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """First index and run id (per element, -1 outside) of the runs of True in ``mask``."""
-    m = mask.astype(np.int8)
-    edges = np.diff(np.concatenate(([0], m)))
-    starts = np.flatnonzero(edges == 1)
-    run_id = np.cumsum(edges == 1) - 1
-    run_id = np.where(mask, run_id, -1)
-    return starts, run_id
+def _fixed_point(net: np.ndarray, hyst: np.ndarray, breaks: np.ndarray, q0: float) -> np.ndarray:
+    """Queue at boundaries with the runs of ``hyst`` intervals switched on only when fed.
+
+    A run is a stretch of consecutive ``hyst`` intervals that does not cross a
+    ``breaks`` boundary (the start of a stretch that is known to begin empty).
+    Runs are switched on only when the queue entering them is not empty; the
+    loop only ever switches runs on, so it ends after at most as many passes as
+    there are runs (usually one or two).
+    """
+    if not hyst.any():
+        return _lindley(net, q0)
+    first = hyst.copy()
+    first[1:] &= ~hyst[:-1] | breaks[1:]
+    starts = np.flatnonzero(first)
+    run_id = np.cumsum(first) - 1
+    active = np.zeros(len(starts), dtype=bool)
+    while True:
+        eff = np.where(hyst & ~active[run_id], 0.0, net)
+        q = _lindley(eff, q0)
+        now = q[starts] > 0
+        if np.array_equal(now, active):
+            return q
+        active = now
 
 
 def queue_at_boundaries(
@@ -105,24 +123,31 @@ def queue_at_boundaries(
     capacity; once standing it changes at ``arrival - discharge``. An interval
     with ``discharge < arrival <= prebreakdown`` therefore keeps a standing
     queue growing but cannot start one (the hysteresis of the capacity drop).
-    Runs of such intervals are switched on only when the queue entering them is
-    not empty, found by a fixed point that only ever switches runs on (so it
-    ends after at most as many passes as there are such runs, usually one or
-    two).
+
+    Lindley's recursion is monotone in its increments, so the queue never
+    exceeds the one found with every such interval switched on; where that
+    bound is zero the queue is zero. The runs of such intervals are therefore
+    settled (a fixed point that switches a run on when the queue entering it is
+    not empty) only on the intervals the bound touches: stretches that each
+    begin and end with no queue, so they can be solved one after another.
     """
     net = (arrival_rate - discharge) * duration
-    hyst = (arrival_rate > discharge) & (arrival_rate <= prebreakdown)
+    hyst = (net > 0) & (arrival_rate <= prebreakdown)
     if not hyst.any():
         return _lindley(net, q0)
-    starts, run_id = _run_starts(hyst)
-    active = np.zeros(len(starts), dtype=bool)
-    while True:
-        eff = np.where(hyst & ~active[run_id], 0.0, net) if len(starts) else net
-        q = _lindley(eff, q0)
-        now = q[starts] > 0
-        if np.array_equal(now, active):
-            return q
-        active = now
+    bound = _lindley(net, q0)
+    touched = bound[:-1] > 0
+    touched |= bound[1:] > 0
+    k = np.flatnonzero(touched)
+    q = np.zeros(len(net) + 1)
+    if len(k) == 0:
+        return q
+    breaks = np.ones(len(k), dtype=bool)  # where a stretch (beginning with no queue) starts
+    breaks[1:] = np.diff(k) > 1
+    sub = _fixed_point(net[k], hyst[k], breaks, q0 if k[0] == 0 else 0.0)
+    q[k + 1] = sub[1:]
+    q[k[0]] = sub[0]
+    return q
 
 
 def solve(
@@ -131,49 +156,66 @@ def solve(
     prebreakdown: np.ndarray,
     discharge: np.ndarray | None = None,
     q0: float = 0.0,
+    *,
+    t: np.ndarray | None = None,
 ) -> QueueRun:
     """Solve the deterministic queue on intervals of given ``duration``.
 
     ``arrival_rate``, ``prebreakdown`` and ``discharge`` are rates per unit of
     time, constant on each interval (``discharge`` defaults to
-    ``prebreakdown``: no capacity drop). Returns a :class:`QueueRun`; the
-    total delay is the exact area between the cumulative curves.
+    ``prebreakdown``: no capacity drop). ``t``, the boundaries, may be given
+    when the caller has them (they must start at 0 and differ by
+    ``duration``); otherwise they are the cumulative durations. Returns a
+    :class:`QueueRun`; the total delay is the exact area between the
+    cumulative curves.
     """
     duration = np.asarray(duration, dtype=float)
     lam = np.asarray(arrival_rate, dtype=float)
     pre = np.asarray(prebreakdown, dtype=float)
     mu = pre if discharge is None else np.minimum(np.asarray(discharge, dtype=float), pre)
     q = queue_at_boundaries(duration, lam, pre, mu, q0)
-    qa, qb = q[:-1], q[1:]
-    # time a queue stands inside each interval
-    starts_busy = (qa == 0) & (qb > 0)
-    clears = (qa > 0) & (qb == 0)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t_clear = np.where(clears, qa / (mu - lam), 0.0)
-    t_clear = np.minimum(t_clear, duration)
-    busy = np.where((qa > 0) & (qb > 0) | starts_busy, duration, np.where(clears, t_clear, 0.0))
-    area = np.where(clears, 0.5 * qa * t_clear, 0.5 * (qa + qb) * duration)
+    # only the intervals with a queue at either end hold anyone up
+    k = np.flatnonzero((q[:-1] > 0) | (q[1:] > 0))
+    busy = np.zeros(len(duration))
+    area = np.zeros(len(duration))
+    if len(k):
+        qa, qb, dk = q[k], q[k + 1], duration[k]
+        # time a queue stands: all of the interval while the queue is not empty
+        # at its end, up to the exact clearing instant when it empties
+        bk = np.where(qb > 0, dk, 0.0)
+        c = qb == 0  # here qa > 0: the queue clears inside the interval
+        if c.any():
+            kc = k[c]
+            bk[c] = np.minimum(qa[c] / (mu[kc] - lam[kc]), dk[c])
+        busy[k] = bk
+        # area between the curves: a trapezoid over the busy time (a triangle
+        # when the queue clears, since it ends at zero)
+        area[k] = 0.5 * (qa + qb) * bk
     arrivals = lam * duration
-    departures = arrivals - (qb - qa)
-    t = np.empty(len(duration) + 1)
-    t[0] = 0.0
-    np.cumsum(duration, out=t[1:])
-    a_cum = np.empty_like(t)
+    departures = arrivals - np.diff(q)
+    if t is None:
+        t = np.empty(len(duration) + 1)
+        t[0] = 0.0
+        np.cumsum(duration, out=t[1:])
+    a_cum = np.empty(len(duration) + 1)
     a_cum[0] = q0
     np.cumsum(arrivals, out=a_cum[1:])
-    a_cum[1:] += q0
+    if q0:
+        a_cum[1:] += q0
     d_cum = a_cum - q
-    return QueueRun(t, lam, mu, q, busy, area, arrivals, departures, a_cum, d_cum)
+    return QueueRun(t, lam, mu, q, busy, area, arrivals, departures, a_cum, d_cum, k)
 
 
 def _inverse(cum: np.ndarray, t: np.ndarray, y: np.ndarray) -> np.ndarray:
     """Earliest time at which a non-decreasing piecewise-linear curve reaches ``y``."""
     j = np.searchsorted(cum, y, side="left")
-    j = np.clip(j, 1, len(cum) - 1)
+    j = np.minimum(np.maximum(j, 1), len(cum) - 1)
     c0, c1 = cum[j - 1], cum[j]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        frac = np.where(c1 > c0, (y - c0) / (c1 - c0), 1.0)
-    return t[j - 1] + np.clip(frac, 0.0, 1.0) * (t[j] - t[j - 1])
+    rise = c1 - c0
+    flat = rise <= 0
+    frac = (y - c0) / np.where(flat, 1.0, rise)
+    frac[flat] = 1.0
+    return t[j - 1] + np.minimum(np.maximum(frac, 0.0), 1.0) * (t[j] - t[j - 1])
 
 
 def waits(run: QueueRun) -> tuple[np.ndarray, np.ndarray]:
@@ -188,7 +230,10 @@ def waits(run: QueueRun) -> tuple[np.ndarray, np.ndarray]:
     if len(busy) == 0:
         return t.copy(), np.zeros_like(t)
     # outside busy intervals the wait is zero: only their boundaries matter
-    ends = np.unique(np.concatenate((busy, busy + 1)))
+    mark = np.zeros(len(t), dtype=bool)
+    mark[busy] = True
+    mark[busy + 1] = True
+    ends = np.flatnonzero(mark)
     cand = np.concatenate((t[ends], _inverse(a, t, d[ends])))
     cand.sort()
     level = np.interp(cand, t, a)
