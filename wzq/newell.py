@@ -62,6 +62,14 @@ Properties the construction relies on (and which the tests check):
   most ``d / v_f`` seconds). With the engine's default capacity drop the
   discharge state is strictly congested and this does not arise.
 
+Only the busy periods matter: where no queue stands ``A = D``, so ``E`` and
+``F`` coincide there, and with every flow below ``n c`` both rise strictly, so
+each level of a quiet stretch gives ``u = s`` (no queue) and each level of a
+busy period (which starts and ends with ``A = D``) gives ``s`` and ``u`` within
+it. The construction therefore runs on the knots of the busy periods alone
+(:func:`_busy_knots`, :func:`_queue_knots`), which for a year with a few busy
+nights is a small fraction of the data, and gives the same trajectory.
+
 Flows above the approach capacity ``n c`` cannot be carried by the approach.
 Newell's variational form then replaces ``F`` and ``E`` by their running
 maxima (the traffic the approach can admit, the excess waiting beyond its
