@@ -292,3 +292,59 @@ def test_bad_plans_raise_plan_error_with_every_problem() -> None:
         Plan(site(), Demand(T0, 900, np.full(19, 100.0)))
     assert "outside the demand period" in text
     assert len(e.value.problems) >= 5
+
+
+@pytest.mark.parametrize("seed", range(30))
+def test_each_interval_gets_the_capacity_of_the_closure_in_force(seed: int) -> None:
+    # The engine maps closures and the clock to intervals with array tricks; here the
+    # same mapping is done the plain way, one interval at a time: the closure whose
+    # [start, end) holds the interval's midpoint, night by the clock (wzq.plan.is_night:
+    # 19:00-06:00, common practice, no source) unless the closure says otherwise, and
+    # the capacity of that configuration (wzq.analysis.configuration, checked against
+    # the HCM in test_capacity.py). Random invented plans: hourly or 15-minute demand,
+    # closures starting and ending on any minute, some with an override or a given
+    # day/night.
+    from wzq.analysis import configuration, evaluate
+    from wzq.plan import is_night
+
+    rng = np.random.default_rng(seed)
+    step = int(rng.choice([900, 3600]))
+    hours = int(rng.integers(24, 73))
+    flows = rng.uniform(300.0, 4000.0, hours * 3600 // step)
+    closures, t = [], T0 + dt.timedelta(minutes=int(rng.integers(0, 300)))
+    while True:
+        start = t + dt.timedelta(minutes=int(rng.integers(0, 600)))
+        end = start + dt.timedelta(minutes=int(rng.integers(15, 600)))
+        if end > T0 + dt.timedelta(hours=hours):
+            break
+        closures.append(
+            Closure(
+                start,
+                end,
+                int(rng.integers(0, 3)),
+                barrier=str(rng.choice(["soft", "hard"])),
+                night=[None, None, True, False][int(rng.integers(0, 4))],
+                capacity_override_veh_h_ln=[None, None, 900.0][int(rng.integers(0, 3))],
+            )
+        )
+        t = end
+    plan = Plan(site(), Demand(T0, step, flows), tuple(closures))
+    run = evaluate(plan)
+    # every closure start and end and every hour is a boundary
+    bounds = {(c.start - T0).total_seconds() for c in closures}
+    bounds |= {(c.end - T0).total_seconds() for c in closures}
+    bounds |= {h * 3600.0 for h in range(hours + 1)}
+    assert bounds <= set(run.t.tolist())
+    for k in range(len(run.t) - 1):
+        mid = T0 + dt.timedelta(seconds=0.5 * (run.t[k] + run.t[k + 1]))
+        inside = [i for i, c in enumerate(closures) if c.start <= mid < c.end]
+        assert len(inside) <= 1
+        c = closures[inside[0]] if inside else None
+        night = is_night(mid) if c is None or c.night is None else c.night
+        config = None if c is None else (c.lanes_closed, c.barrier, c.capacity_override_veh_h_ln)
+        pre, qdr, _ = configuration(plan.site, "triangular", config, night)
+        assert run.closure[k] == (inside[0] if inside else -1)
+        assert run.prebreakdown_veh_h[k] == pre
+        assert run.discharge_veh_h[k] == qdr
+        assert run.lanes_open[k] == 3 - (c.lanes_closed if c else 0)
+        assert run.demand_veh_h[k] == flows[int((mid - T0).total_seconds() // step)]
