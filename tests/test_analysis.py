@@ -311,11 +311,12 @@ def test_each_interval_gets_the_capacity_of_the_closure_in_force(seed: int) -> N
     step = int(rng.choice([900, 3600]))
     hours = int(rng.integers(24, 73))
     flows = rng.uniform(300.0, 4000.0, hours * 3600 // step)
-    closures, t = [], T0 + dt.timedelta(minutes=int(rng.integers(0, 300)))
+    day0 = T0 + dt.timedelta(hours=int(rng.integers(0, 24)))  # demand starts at any hour
+    closures, t = [], day0 + dt.timedelta(minutes=int(rng.integers(0, 300)))
     while True:
         start = t + dt.timedelta(minutes=int(rng.integers(0, 600)))
         end = start + dt.timedelta(minutes=int(rng.integers(15, 600)))
-        if end > T0 + dt.timedelta(hours=hours):
+        if end > day0 + dt.timedelta(hours=hours):
             break
         closures.append(
             Closure(
@@ -328,15 +329,15 @@ def test_each_interval_gets_the_capacity_of_the_closure_in_force(seed: int) -> N
             )
         )
         t = end
-    plan = Plan(site(), Demand(T0, step, flows), tuple(closures))
+    plan = Plan(site(), Demand(day0, step, flows), tuple(closures))
     run = evaluate(plan)
     # every closure start and end and every hour is a boundary
-    bounds = {(c.start - T0).total_seconds() for c in closures}
-    bounds |= {(c.end - T0).total_seconds() for c in closures}
+    bounds = {(c.start - day0).total_seconds() for c in closures}
+    bounds |= {(c.end - day0).total_seconds() for c in closures}
     bounds |= {h * 3600.0 for h in range(hours + 1)}
     assert bounds <= set(run.t.tolist())
     for k in range(len(run.t) - 1):
-        mid = T0 + dt.timedelta(seconds=0.5 * (run.t[k] + run.t[k + 1]))
+        mid = day0 + dt.timedelta(seconds=0.5 * (run.t[k] + run.t[k + 1]))
         inside = [i for i, c in enumerate(closures) if c.start <= mid < c.end]
         assert len(inside) <= 1
         c = closures[inside[0]] if inside else None
@@ -347,4 +348,4 @@ def test_each_interval_gets_the_capacity_of_the_closure_in_force(seed: int) -> N
         assert run.prebreakdown_veh_h[k] == pre
         assert run.discharge_veh_h[k] == qdr
         assert run.lanes_open[k] == 3 - (c.lanes_closed if c else 0)
-        assert run.demand_veh_h[k] == flows[int((mid - T0).total_seconds() // step)]
+        assert run.demand_veh_h[k] == flows[int((mid - day0).total_seconds() // step)]
