@@ -366,6 +366,36 @@ def _queue_knots(queue: QueueRun, nc: float) -> tuple[np.ndarray, np.ndarray, np
     return np.insert(t, at, tc), np.insert(a, at, ac), np.insert(d, at, ac), True
 
 
+def _vertices(
+    e_v: np.ndarray,
+    s_k: np.ndarray,
+    f_v: np.ndarray,
+    u_k: np.ndarray,
+    levels: np.ndarray,
+    v: float,
+    w: float,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Trajectory vertices ``(t, d)`` of the levels when the curves may be flat."""
+    s_lo, s_hi = _inverse(e_v, s_k, levels)
+    u_lo, u_hi = _inverse(f_v, u_k, levels)
+    # Per level: (s_lo, u_lo) -> (s_hi, u_lo) -> (s_hi, u_hi). Both steps move
+    # forward in time; taking s first keeps the lower edge when both curves are
+    # flat at one level (both flows at capacity: g = 0 on a whole patch).
+    s = np.column_stack((s_lo, s_hi, s_hi)).ravel()
+    u = np.column_stack((u_lo, u_lo, u_hi)).ravel()
+    tt = (v * u + w * s) / (v + w)
+    dd = v * w * (u - s) / (v + w)
+    # A step along a flat stretch can run below d = 0 (flows at capacity with no queue
+    # at the bottleneck); the back is then max(edge, 0), kinked where the edge crosses 0.
+    cross = np.flatnonzero(((dd[:-1] > 0) & (dd[1:] < 0)) | ((dd[:-1] < 0) & (dd[1:] > 0)))
+    if len(cross):
+        frac = dd[cross] / (dd[cross] - dd[cross + 1])
+        tc = tt[cross] + frac * (tt[cross + 1] - tt[cross])
+        tt = np.insert(tt, cross + 1, tc)
+        dd = np.insert(dd, cross + 1, 0.0)
+    return tt, np.maximum(dd, 0.0)
+
+
 def _trajectory(
     t: np.ndarray,
     a: np.ndarray,
@@ -389,24 +419,15 @@ def _trajectory(
     y_lo, y_hi = f_v[0], e_v[-1]
     levels = np.unique(np.concatenate((e_v, f_v, [y_lo, y_hi])))
     levels = levels[(levels >= y_lo) & (levels <= y_hi)]
-    s_lo, s_hi = _inverse(e_v, s_k, levels)
-    u_lo, u_hi = _inverse(f_v, u_k, levels)
-    # Per level: (s_lo, u_lo) -> (s_hi, u_lo) -> (s_hi, u_hi). Both steps move
-    # forward in time; taking s first keeps the lower edge when both curves are
-    # flat at one level (both flows at capacity: g = 0 on a whole patch).
-    s = np.column_stack((s_lo, s_hi, s_hi)).ravel()
-    u = np.column_stack((u_lo, u_lo, u_hi)).ravel()
-    tt = (v * u + w * s) / (v + w)
-    dd = v * w * (u - s) / (v + w)
-    # A step along a flat stretch can run below d = 0 (flows at capacity with no queue
-    # at the bottleneck); the back is then max(edge, 0), kinked where the edge crosses 0.
-    cross = np.flatnonzero(((dd[:-1] > 0) & (dd[1:] < 0)) | ((dd[:-1] < 0) & (dd[1:] > 0)))
-    if len(cross):
-        frac = dd[cross] / (dd[cross] - dd[cross + 1])
-        tc = tt[cross] + frac * (tt[cross + 1] - tt[cross])
-        tt = np.insert(tt, cross + 1, tc)
-        dd = np.insert(dd, cross + 1, 0.0)
-    dd = np.maximum(dd, 0.0)
+    if strict:
+        # both curves rise strictly: one (s, u) per level, and u >= s since A >= D
+        # makes F <= E (flat patches, below, cannot occur)
+        s = np.interp(levels, e_v, s_k)
+        u = np.interp(levels, f_v, u_k)
+        tt = (v * u + w * s) / (v + w)
+        dd = np.maximum(v * w * (u - s) / (v + w), 0.0)
+    else:
+        tt, dd = _vertices(e_v, s_k, f_v, u_k, levels, v, w)
     last = np.diff(tt, append=np.inf) > 0  # one vertex per instant
     tt, dd = tt[last], dd[last]
     t0, t_end = float(t[0]), float(t[-1])
