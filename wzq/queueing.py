@@ -20,7 +20,8 @@ Units: any consistent set; :func:`solve` is called with seconds and veh/s.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -49,9 +50,12 @@ class QueueRun:
     departures: np.ndarray
     arrivals_cum: np.ndarray
     departures_cum: np.ndarray
-    #: indices of the intervals with a queue at either end (elsewhere nothing
-    #: waits: ``busy`` and ``delay`` are 0 and departures equal arrivals)
-    touched: np.ndarray = field(default_factory=lambda: np.empty(0, dtype=np.intp))
+
+    @cached_property
+    def touched(self) -> np.ndarray:
+        """Indices of the intervals with a queue at either end (elsewhere nothing
+        waits: ``busy`` and ``delay`` are 0 and departures equal arrivals)."""
+        return _touched(self.queue)
 
     @property
     def queued(self) -> np.ndarray:
@@ -66,6 +70,11 @@ class QueueRun:
         q0, q1 = self.queue[:-1], self.queue[1:]
         ends = (q0 > 0) & (q1 == 0)
         return self.t[:-1][ends] + self.busy[ends]
+
+
+def _touched(q: np.ndarray) -> np.ndarray:
+    """Indices of the intervals with a queue at either end, from the queue at boundaries."""
+    return np.flatnonzero((q[:-1] > 0) | (q[1:] > 0))
 
 
 def _lindley(net: np.ndarray, q0: float) -> np.ndarray:
@@ -175,7 +184,7 @@ def solve(
     mu = pre if discharge is None else np.minimum(np.asarray(discharge, dtype=float), pre)
     q = queue_at_boundaries(duration, lam, pre, mu, q0)
     # only the intervals with a queue at either end hold anyone up
-    k = np.flatnonzero((q[:-1] > 0) | (q[1:] > 0))
+    k = _touched(q)
     busy = np.zeros(len(duration))
     area = np.zeros(len(duration))
     if len(k):
@@ -203,7 +212,7 @@ def solve(
     if q0:
         a_cum[1:] += q0
     d_cum = a_cum - q
-    return QueueRun(t, lam, mu, q, busy, area, arrivals, departures, a_cum, d_cum, k)
+    return QueueRun(t, lam, mu, q, busy, area, arrivals, departures, a_cum, d_cum)
 
 
 def _inverse(cum: np.ndarray, t: np.ndarray, y: np.ndarray) -> np.ndarray:
