@@ -149,6 +149,17 @@ def work_zone_speed(site: Site, model: SiteModel, closure: Closure, night: bool)
     return max(v, 1.0) * MPH
 
 
+def night_by_clock(start_hour: int, hour: np.ndarray) -> np.ndarray:
+    """Night flag of each interval (:func:`wzq.plan.is_night`) from its hour index.
+
+    ``hour`` counts whole hours from the start of the demand, which starts on
+    the hour ``start_hour``; one day's pattern is repeated over the run.
+    """
+    clock = (start_hour + np.arange(24)) % 24
+    pattern = (clock >= NIGHT_START_HOUR) | (clock < NIGHT_END_HOUR)
+    return np.tile(pattern, int(hour[-1]) // 24 + 1)[hour]
+
+
 def _config(closure: Closure) -> tuple:
     return (closure.lanes_closed, closure.barrier, closure.capacity_override_veh_h_ln)
 
@@ -328,11 +339,7 @@ def evaluate(plan: Plan) -> Run:
     t, hour, ci, di = _grid(plan, starts, ends)
     dur = np.diff(t)
     lam = plan.demand.flows_veh_h[di]
-    # night by the clock (wzq.plan.is_night), one day's pattern repeated; the
-    # demand starts on the hour
-    clock = (plan.demand.start.hour + np.arange(24)) % 24
-    pattern = (clock >= NIGHT_START_HOUR) | (clock < NIGHT_END_HOUR)
-    clock_night = np.tile(pattern, int(hour[-1]) // 24 + 1)[hour]
+    clock_night = night_by_clock(plan.demand.start.hour, hour)
     # one capacity computation per distinct configuration and night flag, not
     # per interval: key = 2 x (configuration + 1) + night, looked up in a table
     conf = np.append(conf_of, -1)[ci] if len(conf_of) else np.full(len(ci), -1)

@@ -345,23 +345,11 @@ def _queue_knots(queue: QueueRun, nc: float) -> tuple[np.ndarray, np.ndarray, np
     if not strict or m <= 5:
         t, a, d = curves(queue)
         return t, a, d, strict
-    # boundaries in or bounding a busy period, and the first and last two
-    keep = np.zeros(m + 1, dtype=bool)
-    keep[[0, 1, m - 1, m]] = True
-    keep[k] = True
-    keep[k + 1] = True
-    idx = np.flatnonzero(keep)
+    idx = np.flatnonzero(_busy_mask(queue.queue > 0))
     t, a, d = queue.t[idx], queue.arrivals_cum[idx], queue.departures_cum[idx]
-    k = idx[:-1][np.diff(idx) == 1]  # kept intervals
-    dur = queue.t[k + 1] - queue.t[k]
-    clears = (queue.queue[k] > 0) & (queue.queue[k + 1] == 0) & (queue.busy[k] < dur)
-    if not clears.any():
+    k, tc, ac = _clearing_knots(queue, k)
+    if len(k) == 0:
         return t, a, d, True
-    k = k[clears]
-    tc = queue.t[k] + queue.busy[k]
-    ac = queue.arrivals_cum[k] + queue.arrival_rate[k] * queue.busy[k]
-    inside = (tc > queue.t[k]) & (tc < queue.t[k + 1])
-    k, tc, ac = k[inside], tc[inside], ac[inside]
     at = np.searchsorted(idx, k) + 1  # position after knot k in the kept knots
     return np.insert(t, at, tc), np.insert(a, at, ac), np.insert(d, at, ac), True
 
@@ -456,16 +444,21 @@ def curves(queue: QueueRun) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     between the returned knots is exact.
     """
     t, a, d = queue.t, queue.arrivals_cum, queue.departures_cum
-    dur = np.diff(t)
-    clears = (queue.queue[:-1] > 0) & (queue.queue[1:] == 0) & (queue.busy < dur)
-    if not clears.any():
+    k, tc, ac = _clearing_knots(queue, queue.touched)
+    if len(k) == 0:
         return t.copy(), a.copy(), d.copy()
-    k = np.flatnonzero(clears)
-    tc = t[k] + queue.busy[k]
-    ac = a[k] + queue.arrival_rate[k] * queue.busy[k]
-    keep = (tc > t[k]) & (tc < t[k + 1])
-    k, tc, ac = k[keep], tc[keep], ac[keep]
     return np.insert(t, k + 1, tc), np.insert(a, k + 1, ac), np.insert(d, k + 1, ac)
+
+
+def _clearing_knots(queue: QueueRun, k: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Of the intervals ``k``, those in which a queue clears strictly inside,
+    with the clearing instant and the count then (``A = D`` at that instant)."""
+    t = queue.t
+    k = k[(queue.queue[k] > 0) & (queue.queue[k + 1] == 0) & (queue.busy[k] < t[k + 1] - t[k])]
+    tc = t[k] + queue.busy[k]
+    ac = queue.arrivals_cum[k] + queue.arrival_rate[k] * queue.busy[k]
+    inside = (tc > t[k]) & (tc < t[k + 1])
+    return k[inside], tc[inside], ac[inside]
 
 
 def counts(

@@ -68,14 +68,13 @@ from wzq.analysis import (
     SiteModel,
     configuration,
     hour_checks,
+    night_by_clock,
     queue_state_discharge,
     site_model,
 )
 from wzq.flow import Triangular
 from wzq.plan import (
     BARRIERS,
-    NIGHT_END_HOUR,
-    NIGHT_START_HOUR,
     Barrier,
     Costs,
     Demand,
@@ -565,8 +564,7 @@ def _grid(
     step = demand.interval_s
     t = np.arange(n + 1, dtype=float) * step
     dur = np.diff(t)
-    hour_of_day = ((demand.start.hour * HOUR + t[:-1]) // HOUR).astype(np.int64) % 24
-    night = (hour_of_day >= NIGHT_START_HOUR) | (hour_of_day < NIGHT_END_HOUR)
+    night = night_by_clock(demand.start.hour, (t[:-1] // HOUR).astype(np.intp))
     config_key = (config.lanes_closed, config.barrier, config.capacity_override_veh_h_ln)
     arrays = {k: np.empty(n) for k in ("po", "qo", "pc", "qc", "x")}
     for flag in (False, True):
