@@ -384,6 +384,25 @@ def _passes(site, demand, limits, options, config, s: int, e: int) -> bool:
     return bool((result.hourly["status"] == "ok").all())
 
 
+def test_no_drop_discharge_at_approach_capacity_window_agrees_with_analyse() -> None:
+    # Found by the property test below: no capacity drop, so the open road discharges
+    # at exactly the approach's capacity n c (the case wzq.newell's notes single out),
+    # and the search's differenced curves put that flow a rounding error below n c.
+    # Every window it reports must still pass analyse and be maximal.
+    site = Site(lanes=2, speed_limit=55 * 0.44704, work_zone_speed_limit=45 * 0.44704,
+                work_zone_length=0.0, heavy_vehicle_share=0.05)  # fmt: skip
+    flows = [668, 671, 686, 740, 893, 1209, 1679, 2139, 2335, 2139, 1679, 1209,
+             893, 740, 686, 671, 668] + [667] * 7  # fmt: skip
+    demand = Demand(START, 3600, np.array(flows, dtype=float))
+    case = (site, demand, Thresholds(max_queue_length=1500.0), Options(capacity_drop=False),
+            W.Configuration(1, "hard"))  # fmt: skip
+    ws = W.find_windows(*case[:3], [case[4]], options=case[3]).sets[0]
+    for s, e in ws.maximal():
+        assert _passes(*case, s, e), (s, e)
+        assert s == 0 or not _passes(*case, s - 1, e), (s, e)
+        assert e == ws.n or not _passes(*case, s, e + 1), (s, e)
+
+
 @settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(cases(), st.data())
 def test_reported_windows_pass_analyse_and_cannot_be_extended(case, data) -> None:

@@ -288,10 +288,18 @@ def _level_curves(
     return s2, e2, u2, f2, limited
 
 
+#: Relative margin below the approach capacity a flow must keep for the level
+#: curves to count as rising strictly: a discharge equal to ``n c`` (no capacity
+#: drop on the open road) can come out a rounding error below it, and the curve
+#: is then flat for every purpose.
+_STRICT_MARGIN = 1e-9
+
+
 def _below_capacity(t: np.ndarray, a: np.ndarray, d: np.ndarray, nc: float) -> bool:
-    """Every arrival and departure flow strictly below the approach capacity ``n c``."""
+    """Every arrival and departure flow clearly below the approach capacity ``n c``."""
     dt = np.diff(t)
-    return bool(np.max(np.diff(a) / dt) < nc and np.max(np.diff(d) / dt) < nc)
+    top = nc * (1.0 - _STRICT_MARGIN)
+    return bool(np.max(np.diff(a) / dt) < top and np.max(np.diff(d) / dt) < top)
 
 
 def _busy_mask(queued: np.ndarray) -> np.ndarray:
@@ -338,8 +346,9 @@ def _queue_knots(queue: QueueRun, nc: float) -> tuple[np.ndarray, np.ndarray, np
     clearing instants are added only inside the kept stretches.
     """
     k = queue.touched  # intervals with a queue at either end
-    strict = bool(queue.arrival_rate.max() < nc) and not bool(
-        len(k) and queue.discharge[k].max() >= nc
+    top = nc * (1.0 - _STRICT_MARGIN)
+    strict = bool(queue.arrival_rate.max() < top) and not bool(
+        len(k) and queue.discharge[k].max() >= top
     )
     m = len(queue.t) - 1
     if not strict or m <= 5:
