@@ -85,9 +85,9 @@ def is_complete_result(path: Path, fingerprint: str) -> bool:
 def _run_forever(path: str, saving) -> None:  # the worker that gets killed
     real = run_module.save_atomic
 
-    def signalled(book, target):  # patched in the worker only: tells the test a save begins
+    def signalled(book, target, **kw):  # patched in the worker only: tells the test a save begins
         saving.set()
-        return real(book, target)
+        return real(book, target, **kw)
 
     run_module.save_atomic = signalled
     while True:
@@ -101,9 +101,9 @@ def _save_seconds(original: bytes, folder: Path) -> tuple[float, float]:
     marks: list[float] = []
     real = run_module.save_atomic
 
-    def timed(book, where):
+    def timed(book, where, **kw):
         marks.append(time.perf_counter())
-        out = real(book, where)
+        out = real(book, where, **kw)
         marks.append(time.perf_counter())
         return out
 
@@ -217,6 +217,7 @@ def test_a_read_only_workbook_is_not_written_to(original, fingerprint, tmp_path,
 def test_a_save_that_fails_half_way_leaves_the_workbook_and_no_temp_file(
     original, tmp_path, monkeypatch, capsys
 ):
+    """Issue 15, case 8: a failed save is one line and exit status 1 (not the input's fault)."""
     src = tmp_path / "plan.xlsx"
     src.write_bytes(original)
 
@@ -225,8 +226,13 @@ def test_a_save_that_fails_half_way_leaves_the_workbook_and_no_temp_file(
         raise OSError(errno.ENOSPC, "No space left on device")
 
     monkeypatch.setattr(openpyxl.Workbook, "save", disk_full)
-    err = _user_error(["run", str(src)], capsys)
-    assert "could not save (No space left on device); plan.xlsx is unchanged" in err
+    code = cli.main(["run", str(src)])
+    err = capsys.readouterr().err
+    assert code == cli.EXIT_FAILURE
+    assert err.splitlines() == [
+        f"wzq: {src}: could not save (No space left on device); plan.xlsx is unchanged; "
+        "free some space or write elsewhere with -o"
+    ]
     assert src.read_bytes() == original
     assert [p.name for p in tmp_path.iterdir()] == ["plan.xlsx"]
 

@@ -37,7 +37,6 @@ import sys
 import threading
 import time
 import uuid
-import zipfile
 from collections import Counter, deque
 from collections.abc import Callable, Iterable, Sequence
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
@@ -230,12 +229,20 @@ def _lost(task: Task, why: str) -> Outcome:
 
 
 def is_batch_summary(path: Path) -> bool:
-    """Whether a workbook is a wzq bulk summary (it has the hidden state sheet)."""
+    """Whether a workbook is a wzq bulk summary (it has the hidden state sheet).
+
+    The file passes the checks that need no unpacking first (size, parts, the
+    sizes and compression ratios its directory declares), and only a small
+    workbook part is read, so a zip bomb is never inflated here; a file that
+    fails them is no summary, and its worker refuses it with the reason.
+    """
+    from wzq.workbook.safety import read_part_checked
+
     try:
-        with zipfile.ZipFile(path) as z:
-            return f'name="{STATE_SHEET}"'.encode() in z.read("xl/workbook.xml")
-    except (OSError, KeyError, zipfile.BadZipFile):
+        part = read_part_checked(path, "xl/workbook.xml")
+    except PlanError:
         return False
+    return part is not None and f'name="{STATE_SHEET}"'.encode() in part
 
 
 def find_plans(

@@ -17,6 +17,7 @@ import wzq
 from wzq.batch import DEFAULT_RETRIES, DEFAULT_SUMMARY, BatchResult, Outcome, run_batch
 from wzq.cli import EXTRA_COMMANDS
 from wzq.plan import PlanError, Problem
+from wzq.printable import printable, unwrapped
 
 #: Paper sizes of the PDF report (the keys of :data:`wzq.report.PAPERS`, which is
 #: not imported here because the PDF library is slow to load).
@@ -118,21 +119,22 @@ def closing_summary(result: BatchResult, out: TextIO, err: TextIO) -> None:
         w = rows[0]
         at = "" if w.max_queue_at is None else f" at {w.max_queue_at:%a %Y-%m-%d %H:%M}"
         print(
-            f"worst: {w.file}, longest queue {w.max_queue_mi:.2f} mi / {w.max_queue_km:.2f} km"
+            f"worst: {printable(w.file)}, longest queue {w.max_queue_mi:.2f} mi / "
+            f"{w.max_queue_km:.2f} km"
             f"{at}, {w.hours_over_limit} hour{'s' if w.hours_over_limit != 1 else ''} over "
             "a limit",
             file=out,
         )
-    print(f"summary: {result.summary} (and {result.csv.name})", file=out)
+    print(f"summary: {printable(result.summary)} (and {printable(result.csv.name)})", file=out)
     for note in result.notes:
-        print(f"note: {note}", file=out)
+        print(f"note: {printable(note)}", file=out)
     other = [o for o in result.outcomes if o.analysed and o.issues]
     for o in [*bad, *other][:LISTED_PROBLEMS]:
         first = o.issues[0]
         more = len(o.issues) - 1
         tail = f" (+{more} more)" if more else ""
         where = first.where if first.where.startswith(o.file) else f"{o.file}: {first.where}"
-        print(f"wzq: {where}: {first.message}{tail}", file=err)
+        print(f"wzq: {printable(where)}: {printable(first.message)}{tail}", file=err)
     hidden = len(bad) + len(other) - LISTED_PROBLEMS
     if hidden > 0:
         print(f"wzq: ... and {hidden} more files; see the sheet Problems", file=err)
@@ -153,7 +155,7 @@ def cmd_batch(args: argparse.Namespace) -> int:
         raise PlanError([Problem("--workers", "the cluster decides the workers; drop --workers")])
     if args.retries < 0:
         raise PlanError([Problem("--retries", "give 0 or more retries")])
-    bar = _Bar(sys.stderr)
+    bar = _Bar(unwrapped(sys.stderr))  # the bar writes its own terminal codes
     try:
         result = run_batch(
             Path(args.folder),

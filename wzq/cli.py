@@ -18,6 +18,7 @@ import wzq
 from wzq.analysis import Result
 from wzq.plan import Plan, PlanError
 from wzq.planio import load_plan
+from wzq.printable import printable, safe_streams
 from wzq.tables import hourly_display, summary_lines
 
 EXIT_OK = 0
@@ -190,10 +191,14 @@ def main(argv: Sequence[str] | None = None) -> int:
         parser.print_help()
         return EXIT_INPUT
     try:
-        return int(args.func(args))
+        with safe_streams():  # text from files never acts on the terminal
+            return int(args.func(args))
     except PlanError as e:
         for p in e.problems:
-            print(f"wzq: {p}", file=sys.stderr)
+            print(f"wzq: {printable(p)}", file=sys.stderr)
+        status = getattr(e, "exit_status", EXIT_INPUT)  # a failed save is not the input's fault
+        if status != EXIT_INPUT:
+            return status
         n = len(e.problems)
         print(
             f"wzq: {n} problem{'s' if n != 1 else ''} to fix; nothing was written", file=sys.stderr

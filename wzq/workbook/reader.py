@@ -11,7 +11,8 @@ to do. The workbook is only read, never changed.
 
 Values are in the workbook's unit system and converted to SI with
 :mod:`wzq.units`. A formula in an input cell is read through its saved
-(cached) result, taken with python-calamine only when a formula is met.
+(cached) result, read from the package only when a formula is met
+(:mod:`wzq.workbook.saved_values`).
 Demand "from AADT" is expanded here into hourly demand,
 ``AADT x (1 + g)^(year of first day - count year) x direction share x hour share``:
 the design-hour relation DDHV = AADT x K x D of the Highway Capacity Manual (from
@@ -55,6 +56,7 @@ from wzq.plan import (
 )
 from wzq.workbook import layout as L
 from wzq.workbook.safety import read_checked
+from wzq.workbook.saved_values import SavedValues
 
 #: File suffixes read as workbooks.
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
@@ -292,8 +294,7 @@ class _BookReader:
         self.problems: list[Problem] = []
         self.system: str | None = None  # None: unknown (unit-dependent ranges not checked)
         self.where_of: dict[str, str] = {}  # defined name -> cell
-        self._calamine: Any = None
-        self._cached_sheets: dict[str, list[list[Any]]] = {}
+        self._saved: SavedValues | None = None  # saved formula results, read on first use
         self._sheets = {ws.title: ws for ws in wb.worksheets}
         self._missing_sheets: set[str] = set()
         self._demand_rows: list[str] = []  # cell of each demand interval, in plan order
@@ -334,31 +335,21 @@ class _BookReader:
         return self.bad(where, f"shows the error {error}; fix the formula or type the value")
 
     def cached(self, sheet: str, row: int, col: int, where: str) -> Any:
-        """The saved result of the formula in a cell (python-calamine, loaded on first use)."""
+        """The saved result of the formula in a cell (:mod:`wzq.workbook.saved_values`)."""
         no_value = (
             "holds a formula with no saved result; open and save the workbook in your "
             "spreadsheet program, or type the value"
         )
         if self.path is None and self.data is None:
             return self.bad(where, no_value)
-        if sheet not in self._cached_sheets:
-            try:
-                if self._calamine is None:
-                    from python_calamine import CalamineWorkbook
-
-                    self._calamine = (
-                        CalamineWorkbook.from_filelike(io.BytesIO(self.data))
-                        if self.data is not None
-                        else CalamineWorkbook.from_path(str(self.path))
-                    )
-                sh = self._calamine.get_sheet_by_name(sheet)
-                # from A1, so that list positions are cell positions
-                self._cached_sheets[sheet] = sh.to_python(skip_empty_area=False)
-            except Exception:  # calamine raises its own error types; any failure = no value
-                return self.bad(where, no_value)
-        rows = self._cached_sheets[sheet]
-        i, j = row - 1, col - 1
-        v = rows[i][j] if 0 <= i < len(rows) and 0 <= j < len(rows[i]) else ""
+        try:
+            if self._saved is None:
+                self._saved = SavedValues(self.data if self.data is not None else self.path)
+            cell = self._sheets[sheet]._cells.get((row, col)) if sheet in self._sheets else None
+            fmt = cell.number_format if cell is not None else "General"
+            v = self._saved.value(sheet, row, col, fmt, self.epoch)
+        except Exception:  # a damaged part, whatever the error type: no value
+            return self.bad(where, no_value)
         if v == "" or v is None:
             return self.bad(where, no_value)
         if isinstance(v, str) and v.strip() in ERROR_CODES:

@@ -31,9 +31,17 @@ from wzq.plan import Plan, PlanError, Problem
 from wzq.planio import plan_to_dict
 from wzq.tables import summary_lines
 from wzq.workbook import layout
+from wzq.workbook.kept import ContentLost, keeps_everything
 from wzq.workbook.reader import book_from_bytes, read_plan_from_book
 from wzq.workbook.safety import PackageReport, read_checked
-from wzq.workbook.save import check_writable, lock_file, lock_files, save_atomic
+from wzq.workbook.save import (
+    ChangedSinceRead,
+    FileState,
+    check_writable,
+    lock_file,
+    lock_files,
+    save_atomic,
+)
 from wzq.workbook.writer import put_text, write_results
 
 #: Workbook types wzq reads and writes (an ``.xlsm`` keeps its VBA project).
@@ -74,12 +82,13 @@ def load_book(path: str | Path) -> Workbook:
     return _load(Path(path))[0]
 
 
-def _load(path: Path) -> tuple[Workbook, bytes, PackageReport]:
+def _load(path: Path) -> tuple[Workbook, bytes, PackageReport, FileState]:
     if not path.exists():
         raise PlanError([Problem(str(path), "no such file; check the path")])
     data, report = read_checked(path)
+    state = FileState.of(path, data)  # to see, before replacing it, whether it changed since
     book = book_from_bytes(data, path, keep_links=True, rich_text=True)
-    return book, data, report
+    return book, data, report, state
 
 
 def _same_file(a: Path, b: Path) -> bool:
@@ -117,9 +126,27 @@ class RunOutcome:
     target: Path
     #: Said to the user (printed by ``wzq run`` and written in the Run log).
     notes: list[str] = field(default_factory=list)
-    #: True when the results went to a copy because the workbook holds content
-    #: wzq cannot keep when it saves.
+    #: True when the results went to a copy: the workbook holds content wzq cannot keep
+    #: when it saves, or it changed on disk while wzq ran.
     copied: bool = False
+
+
+def _kept_words(src: Path, parts: str) -> str:
+    return f"{src.name} holds content wzq cannot keep when it saves the workbook ({parts})"
+
+
+def _not_kept(src: Path, parts: str) -> PlanError:
+    """Refusing to write back (``unkept="refuse"``): what would be lost and what to do."""
+    return PlanError(
+        [
+            Problem(
+                str(src),
+                f"holds content wzq cannot keep when it saves the workbook ({parts}); "
+                "to leave it intact write the results to a copy: "
+                f"wzq run {src.name} -o {copy_path(src).name}",
+            )
+        ]
+    )
 
 
 def run_to(
@@ -139,56 +166,86 @@ def run_to(
     defaults to now. ``space_time`` adds the LWR space-time picture to the
     Charts sheet (``None``: as the workbook's Site sheet says).
 
-    When the workbook holds content openpyxl cannot keep on save (drawn shapes,
-    sparklines, ...: :func:`wzq.workbook.safety.inspect_file`) and would be
-    written back into, it is left byte-identical and the results go to a copy
-    beside it (:func:`copy_path`), or, with ``unkept="refuse"``, nothing is
-    written and a :class:`PlanError` says so.
+    Written back into ``path``, the workbook is left byte-identical and the
+    results go to a copy beside it (:func:`copy_path`) when it holds content
+    openpyxl cannot keep on save: known kinds (drawn shapes, sparklines, ...:
+    :func:`wzq.workbook.safety.inspect_file`) are seen before anything is
+    written, anything else by comparing the package before and after the save
+    (:mod:`wzq.workbook.kept`). So they do, and the user's version is kept,
+    when the file changed on disk while wzq ran. With ``unkept="refuse"``
+    nothing is written then and a :class:`PlanError` says why.
     """
     src = Path(path)
     target = Path(out) if out is not None else src
     _check_suffixes(src, target)
     if not src.exists():
         raise PlanError([Problem(str(src), "no such file; check the path")])
-    book, data, report = _load(src)
+    book, data, report, state = _load(src)
+    in_place = _same_file(src, target)
     notes: list[str] = []
-    copied = False
     if report.unkept:
         parts = _unkept_text(report.unkept)
-        if not _same_file(src, target):
+        if not in_place:
             notes.append(
                 f"{src.name} holds content wzq cannot carry over ({parts}); {target.name} "
                 "does not have it, the original is unchanged"
             )
         elif unkept == "refuse":
-            raise PlanError(
-                [
-                    Problem(
-                        str(src),
-                        f"holds content wzq cannot keep when it saves the workbook ({parts}); "
-                        "to leave it intact write the results to a copy: "
-                        f"wzq run {src.name} -o {copy_path(src).name}",
-                    )
-                ]
-            )
-        else:
-            target = copy_path(src)
-            copied = True
-            notes.append(
-                f"{src.name} holds content wzq cannot keep when it saves the workbook "
-                f"({parts}), so it was left unchanged and the results were written to a "
-                f"copy: {target.name}"
-            )
+            raise _not_kept(src, parts)
     check_writable(target)
     plan = read_plan_from_book(book, src.name, src, data=data)
     result = wzq.analyse(plan)
-    write_results(book, result, source=src.name, run_time=run_time, notes=notes, windows=windows)
-    if plan.options.space_time if space_time is None else space_time:
-        from wzq.workbook.pictures import add_space_time
+    picture = plan.options.space_time if space_time is None else space_time
+    extra: list[str] = []
 
-        result.warnings.extend(add_space_time(book, result))
-    save_atomic(book, target)
-    return RunOutcome(result, target, notes, copied)
+    def write(notes: list[str]) -> None:
+        write_results(
+            book, result, source=src.name, run_time=run_time, notes=notes, windows=windows
+        )
+        if picture:
+            from wzq.workbook.pictures import add_space_time
+
+            extra[:] = add_space_time(book, result)
+
+    def to_copy(why: str) -> RunOutcome:
+        copy = copy_path(src)
+        notes.append(
+            f"{why}, so it was left unchanged and the results were written to a copy: {copy.name}"
+        )
+        write(notes)
+        save_atomic(book, copy)
+        result.warnings.extend(extra)
+        return RunOutcome(result, copy, notes, True)
+
+    if in_place and report.unkept:  # known before writing: the copy at once
+        return to_copy(_kept_words(src, _unkept_text(report.unkept)))
+    write(notes)
+    if not in_place:
+        save_atomic(book, target)
+        result.warnings.extend(extra)
+        return RunOutcome(result, target, notes, False)
+    try:
+        save_atomic(
+            book,
+            target,
+            verify=keeps_everything(data, str(src), layout.OUTPUT_SHEETS),
+            expect=state,
+        )
+    except ContentLost as e:
+        if unkept == "refuse":
+            raise _not_kept(src, _unkept_text(e.lost)) from None
+        return to_copy(_kept_words(src, _unkept_text(e.lost)))
+    except ChangedSinceRead as e:
+        if unkept == "refuse":
+            raise PlanError(
+                [Problem(str(src), f"{e.problems[0].message}; run wzq again on your new version")]
+            ) from None
+        return to_copy(
+            f"{src.name} changed on disk while wzq ran (the results are for the version it "
+            "read; run wzq again for your new version)"
+        )
+    result.warnings.extend(extra)
+    return RunOutcome(result, target, notes, False)
 
 
 def run_workbook(

@@ -7,10 +7,19 @@ was inspected) refuses, with a clear message:
 
 - an empty file, a file that is not a workbook (not a zip package), an old
   binary ``.xls`` and an encrypted workbook (both are OLE compound files);
-- a package over the documented limits (:data:`LIMITS`): file size, number of
-  parts, total uncompressed size, compression ratio of any part (zip bombs),
-  and the number of cells across all sheets (counted by streaming every XML
-  part, never by parsing it);
+- a package over the documented limits (:data:`LIMITS`), checked as one
+  pre-parse budget (:class:`Budget`) that counts what the parsers will
+  allocate: file size, number of parts, total uncompressed size and the
+  compression ratio of any part (zip bombs), from the package's directory
+  before anything is inflated; then, streaming every XML part once in 1 MiB
+  pieces and never parsing it: the cells (``<c`` followed by any XML
+  whitespace, ``>`` or ``/``, under any namespace prefix), every merged range
+  and every hyperlink over a range by its area (openpyxl makes one cell object
+  for each cell they cover), every XML element (the parser makes an object for
+  each, and keeps some), the used range of each sheet (its ``<dimension>`` and
+  the farthest cell actually written: what a reader that builds a dense block,
+  like Excel's used range behind the Recalculate button, pays for), and the
+  bytes and strings of the shared-string table;
 - XML with a document type declaration (``<!DOCTYPE``/``<!ENTITY``) anywhere in
   any part: entity expansion attacks; workbook XML never needs one. XML in
   UTF-16/UTF-32 is refused too, since it would hide such a declaration (and
@@ -21,16 +30,19 @@ shared strings are defusedxml's (openpyxl switches to them when defusedxml is
 installed; :func:`require_defusedxml` refuses to go on when it did not), and
 its other parts are parsed with entity resolution switched off.
 
-It also lists the parts that openpyxl cannot keep when it saves (drawn shapes,
-text boxes, SmartArt, sparklines and other sheet extensions, slicers, pivot
-tables, form and ActiveX controls, embedded objects, threaded comments, data
-connections, chart styles made in Excel, pictures in EMF/WMF/SVG form) so that
-the writer puts the results in a copy rather than lose them.
+It also lists the parts that openpyxl is known not to keep when it saves (drawn
+shapes, text boxes, SmartArt, sparklines and other sheet extensions, slicers,
+pivot tables, form and ActiveX controls, embedded objects, threaded comments,
+data connections, chart styles made in Excel, pictures in EMF/WMF/SVG form, ...)
+so that the writer puts the results in a copy rather than lose them; the
+writer also compares the package before and after its save
+(:mod:`wzq.workbook.kept`) for anything this list does not know.
 """
 
 from __future__ import annotations
 
 import contextlib
+import html
 import io
 import re
 import struct
@@ -38,6 +50,8 @@ import zipfile
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import BinaryIO
+
+from openpyxl.utils.cell import column_index_from_string, get_column_letter
 
 from wzq.plan import PlanError, Problem
 
@@ -47,25 +61,57 @@ ZIP_MAGIC = b"PK\x03\x04"
 
 @dataclass(frozen=True)
 class Limits:
-    """Documented limits for a workbook the tool will open."""
+    """Documented limits for a workbook the tool will open.
+
+    The cell and element limits are set from what openpyxl pays for them
+    (measured, in a separate process, with ``benchmarks/hostile.py``): about
+    0.4 kB per cell and up to 0.4 kB per XML element it keeps, so a file at
+    either limit needs some 400-600 MB to open; a closure plan of a year of
+    15-minute demand with its results holds about 430,000 cells and 940,000
+    elements.
+    """
 
     max_file_bytes: int = 50 * 1024 * 1024
     max_parts: int = 5_000
     max_uncompressed_bytes: int = 300 * 1024 * 1024
     max_ratio: float = 200.0  # uncompressed / compressed, per part over 1 MiB
-    max_cells: int = 2_000_000
+    #: Cells across all sheets, merged ranges and hyperlinks over a range by their area.
+    max_cells: int = 1_000_000
+    #: XML elements across all parts.
+    max_elements: int = 1_500_000
+    #: Cells in the used ranges of all sheets (first to last used cell, as a block).
+    max_used_cells: int = 2_000_000
+    #: The shared-string table: its size and its number of strings.
+    max_shared_string_bytes: int = 32 * 1024 * 1024
+    max_shared_strings: int = 500_000
+    #: The longest single XML tag (spreadsheet programs write tags of a few kB at most).
+    max_tag_bytes: int = 1024 * 1024
 
 
 LIMITS = Limits()
 
 _CHUNK = 1 << 20
-_TAIL = 64  # bytes kept between chunks so that a marker split by a chunk edge is still seen
-_CELL = re.compile(rb"<(?:\w+:)?c[ >/]")
+_PREFIX = rb"(?:[\w.-]+:)?"  # any namespace prefix
+#: A cell element: ``<c`` then any XML whitespace, ``>`` or ``/`` (XML 1.0, production S).
+_CELL = re.compile(rb"<" + _PREFIX + rb"c[\s>/]")
+_SHARED_STRING = re.compile(rb"<" + _PREFIX + rb"si[\s>/]")
+_ATTRS = rb"((?:\s+[^\s=<>/]+\s*=\s*(?:\"[^\"]*\"|'[^']*'))*)\s*/?>"
+#: Elements whose ``ref`` openpyxl expands cell by cell, and the sheet's declared extent.
+_RANGE_TAG = re.compile(rb"<" + _PREFIX + rb"(mergeCell|hyperlink|dimension)" + _ATTRS)
+_REF_ATTR = re.compile(rb"(?:^|\s)ref\s*=\s*(?:\"([^\"]*)\"|'([^']*)')")
+#: Where a cell or a row says it is (``r="XFD1048576"``, ``r="30"``).
+_IN_CELL_OR_ROW = rb"<" + _PREFIX + rb"(?:c|row)\s(?:[^>\"']|\"[^\"]*\"|'[^']*')*?(?<=\s)r\s*=\s*"
+_R_ATTR = re.compile(_IN_CELL_OR_ROW + rb"[\"']\$?([A-Za-z]{0,3})\$?(\d{1,7})[\"']")
+_R_ATTR_ESCAPED = re.compile(_IN_CELL_OR_ROW + rb"(?:\"([^\"]*&#[^\"]*)\"|'([^']*&#[^']*)')")
+_A1 = re.compile(r"^\$?([A-Za-z]{1,3})\$?(\d{1,7})$")
+_COMPLETE_TAG = re.compile(rb"<[^<>\"']*(?:(?:\"[^\"]*\"|'[^']*')[^<>\"']*)*>")
+_ROOT = re.compile(rb"<(?![?!])" + _PREFIX + rb"([\w.-]+)")
 _DOCTYPE = re.compile(rb"<!(?:DOCTYPE|ENTITY)", re.IGNORECASE)
 _WIDE_MARKS = (b"\xff\xfe", b"\xfe\xff", b"\x00\x00\xfe\xff", b"\x00<", b"<\x00")
 _UTF8_BOM = b"\xef\xbb\xbf"
 _EOCD = b"PK\x05\x06"  # end of central directory record (zip APPNOTE 4.3.16)
 _EOCD_SEARCH = 22 + 65_535  # the record and the longest zip comment
+_MAX_ROW, _MAX_COL = 1_048_576, 16_384  # the last cell of a sheet, XFD1048576
 
 #: Drawing content openpyxl drops (it keeps charts and pictures only).
 _SHAPE = re.compile(rb"<(?:\w+:)?(?:sp|grpSp|cxnSp)[\s>/]|txBody|AlternateContent")
@@ -97,9 +143,20 @@ _UNKEPT_FOLDERS: tuple[tuple[str, str], ...] = (
     ("customxml/", "custom XML data"),
     ("xl/webextensions/", "add-in data"),
     ("xl/namedsheetviews/", "named sheet views"),
+    ("xl/featurepropertybag/", "checkboxes in cells"),
+    ("xl/metadata.xml", "dynamic-array formulas (they would become legacy array formulas)"),
+    ("docmetadata/", "a sensitivity label"),
 )
 _CHART_STYLE = re.compile(r"^xl/charts/(?:style|colors)\d*\.xml$")
 _UNKEPT_PICTURE = (".emf", ".wmf", ".svg")
+#: Sheet elements openpyxl drops, and what they are to the user.
+_SHEET_ELEMENTS: dict[str, str] = {
+    "legacyDrawingHF": "a picture in the header or footer",
+    "picture": "a sheet background picture",
+    "ignoredErrors": "error checks switched off for some cells",
+}
+_SHEET_NAMES = [n.encode() for n in _SHEET_ELEMENTS]
+_TAG_NAME = re.compile(rb"<" + _PREFIX + rb"([\w.-]+)")
 
 
 @dataclass
@@ -109,6 +166,10 @@ class PackageReport:
     parts: int = 0
     uncompressed_bytes: int = 0
     cells: int = 0
+    elements: int = 0
+    used_cells: int = 0
+    shared_strings: int = 0
+    shared_string_bytes: int = 0
     unkept: list[str] = field(default_factory=list)
 
 
@@ -143,11 +204,229 @@ def require_defusedxml() -> None:
         )
 
 
+# --- the budget ---------------------------------------------------------------------------
+
+
+def _unescape(raw: bytes) -> str:
+    """An attribute value as the XML parser hands it over (``&#88;`` is ``X``)."""
+    text = raw.decode("utf-8", "replace")
+    return html.unescape(text) if "&" in text else text
+
+
+def _box(ref: str) -> tuple[int, int, int, int] | None:
+    """(first row, first column, last row, last column) of ``A1`` or ``A1:B2``; None if bad."""
+    ends = []
+    for end in ref.strip().split(":"):
+        m = _A1.match(end.strip())
+        if m is None:
+            return None
+        ends.append((int(m.group(2)), column_index_from_string(m.group(1).upper())))
+    if len(ends) == 1:
+        ends *= 2
+    if len(ends) != 2:
+        return None
+    (r0, c0), (r1, c1) = ends
+    return min(r0, r1), min(c0, c1), max(r0, r1), max(c0, c1)
+
+
+def _area(box: tuple[int, int, int, int]) -> int:
+    r0, c0, r1, c1 = box
+    return (r1 - r0 + 1) * (c1 - c0 + 1)
+
+
+def _cell_name(row: int, col: int) -> str:
+    return f"{get_column_letter(col)}{row}"
+
+
 @dataclass
+class _Extent:
+    """The block of cells a sheet part uses: first and last row and column seen."""
+
+    r0: int = 0
+    c0: int = 0
+    r1: int = 0
+    c1: int = 0
+
+    def add(self, r0: int, c0: int, r1: int, c1: int) -> None:
+        """Rows ``r0``-``r1`` and columns ``c0``-``c1`` (0 when only rows are known)."""
+        self.r0 = min(self.r0, r0) if self.r1 else r0
+        self.r1 = max(self.r1, r1)
+        if c1:
+            self.c0 = min(self.c0, c0) if self.c1 else c0
+            self.c1 = max(self.c1, c1)
+
+    @property
+    def cells(self) -> int:
+        if not self.r1:
+            return 0
+        return (self.r1 - self.r0 + 1) * ((self.c1 - self.c0 + 1) if self.c1 else 1)
+
+    def text(self) -> str:
+        c0, c1 = max(self.c0, 1), max(self.c1, 1)
+        return f"{_cell_name(self.r0, c0)} to {_cell_name(self.r1, c1)}"
+
+
+class Budget:
+    """One pre-parse budget for a package: everything the parsers will allocate, counted.
+
+    Each ``charge_*`` adds to a count and raises :class:`PlanError` naming the
+    file, the part and what to do the moment a limit is passed, so that a file
+    far over a limit is refused after reading only as much as shows it.
+    """
+
+    def __init__(self, name: str, limits: Limits, sheet_names: dict[str, str]) -> None:
+        self.name = name
+        self.limits = limits
+        self.report = PackageReport()
+        self.sheet_names = sheet_names
+        self.extents: dict[str, _Extent] = {}
+
+    def where(self, part: str) -> str:
+        sheet = self.sheet_names.get(part)
+        return f"sheet '{sheet}' ({part})" if sheet else f"part {part}"
+
+    def refuse(self, message: str) -> PlanError:
+        return _refuse(self.name, message)
+
+    def charge_cells(self, n: int, part: str, why: str = "") -> None:
+        self.report.cells += n
+        if self.report.cells > self.limits.max_cells:
+            raise self.refuse(
+                f"the workbook holds over {self.limits.max_cells:,} cells{why}, over the limit "
+                "for a closure plan; delete what is not needed, or split the workbook"
+            )
+
+    def charge_range(self, tag: str, ref: str, part: str) -> None:
+        """A merged range or a hyperlink over a range: openpyxl makes every cell it covers."""
+        box = _box(ref)
+        if box is None:
+            return
+        self.extent(part).add(*box)
+        area = _area(box)
+        if area <= 1:
+            return
+        what = "merged range" if tag == "mergeCell" else "hyperlink over the range"
+        self.charge_cells(
+            area - 1,
+            part,
+            f" (the {what} {ref.strip()} in {self.where(part)} covers {area:,} cells; "
+            "unmerge it or make it smaller)",
+        )
+
+    def charge_elements(self, n: int, part: str) -> None:
+        self.report.elements += n
+        if self.report.elements > self.limits.max_elements:
+            raise self.refuse(
+                f"the workbook holds over {self.limits.max_elements:,} XML elements (the last "
+                f"counted in {part}), over the limit for a closure plan; it is damaged, "
+                "hostile or far larger than a plan needs"
+            )
+
+    def charge_shared_strings(self, n: int, size: int) -> None:
+        r = self.report
+        r.shared_strings += n
+        r.shared_string_bytes += size
+        if r.shared_strings > self.limits.max_shared_strings:
+            raise self.refuse(
+                f"the shared-string table holds over {self.limits.max_shared_strings:,} "
+                "different texts, over the limit for a closure plan"
+            )
+        if r.shared_string_bytes > self.limits.max_shared_string_bytes:
+            raise self.refuse(
+                f"the shared-string table is over "
+                f"{self.limits.max_shared_string_bytes / 2**20:.0f} MiB of text, over the "
+                "limit for a closure plan"
+            )
+
+    def extent(self, part: str) -> _Extent:
+        return self.extents.setdefault(part, _Extent())
+
+    def charge_used_range(self) -> None:
+        """The used ranges of all sheets, as blocks (checked when every part was read)."""
+        used = {p: e.cells for p, e in self.extents.items() if e.cells}
+        self.report.used_cells = sum(used.values())
+        if self.report.used_cells <= self.limits.max_used_cells:
+            return
+        part = max(used, key=lambda p: used[p])
+        e = self.extents[part]
+        raise self.refuse(
+            f"{self.where(part)} uses the cells {e.text()} ({used[part]:,} cells as a block; "
+            f"all sheets {self.report.used_cells:,}, over the limit of "
+            f"{self.limits.max_used_cells:,}); delete the stray cells far from your data "
+            f"(the last one is {_cell_name(e.r1, max(e.c1, 1))}) and save it again"
+        )
+
+
 class _PartScan:
-    cells: int = 0
-    kind: str = "xml"  # "xml", "binary", "doctype", "wide"
-    markers: set[str] = field(default_factory=set)
+    """Streams one XML part's bytes through the budget, one complete run of tags at a time."""
+
+    def __init__(self, budget: Budget, part: str, markers: re.Pattern | None) -> None:
+        self.budget = budget
+        self.part = part
+        self.markers_re = markers
+        self.markers: set[str] = set()
+        self.kind = "xml"  # "xml", "binary", "doctype", "wide"
+        self.root = ""
+        self.cells = 0
+        self.read = 0
+
+    def first(self, head: bytes) -> bool:
+        """Sort the part out from its first bytes; False when it is not XML to scan."""
+        self.kind = _part_kind(head)
+        if self.kind != "xml":
+            return False
+        m = _ROOT.search(head)
+        self.root = m.group(1).decode("ascii", "replace") if m else ""
+        return True
+
+    def feed(self, text: bytes) -> None:
+        """Count a piece of the part that holds only complete tags."""
+        b = self.budget
+        if _DOCTYPE.search(text):
+            self.kind = "doctype"
+            return
+        tags = text.count(b"<") - text.count(b"</") - text.count(b"<?") - text.count(b"<!")
+        b.charge_elements(tags, self.part)
+        cells = len(_CELL.findall(text))
+        if cells:
+            self.cells += cells
+            b.charge_cells(cells, self.part)
+        if self.root == "sst":
+            b.charge_shared_strings(len(_SHARED_STRING.findall(text)), len(text))
+        refs = _R_ATTR.findall(text)
+        if refs:
+            self._extent(refs)
+        for raw in _R_ATTR_ESCAPED.findall(text) if b"&#" in text else ():
+            box = _box(_unescape(raw[0] or raw[1]))
+            if box is not None:
+                b.extent(self.part).add(*box)
+        for tag, attrs in _RANGE_TAG.findall(text):
+            m = _REF_ATTR.search(attrs)
+            if m is None:
+                continue
+            ref = _unescape(m.group(1) if m.group(1) is not None else m.group(2))
+            if tag == b"dimension":
+                box = _box(ref)
+                if box is not None:
+                    b.extent(self.part).add(*box)
+            elif tag == b"mergeCell" or ":" in ref:
+                b.charge_range(tag.decode(), ref, self.part)
+        if self.markers_re is not None:
+            self.markers.update(_marker(m) for m in self.markers_re.findall(text))
+
+    def _extent(self, refs: list[tuple[bytes, bytes]]) -> None:
+        rows = [int(d) for _, d in refs]
+        letters = {c.upper() for c, _ in refs if c}
+        cols = [column_index_from_string(c.decode()) for c in letters]
+        self.budget.extent(self.part).add(
+            min(rows), min(cols, default=0), max(rows), max(cols, default=0)
+        )
+
+
+def _marker(found: bytes) -> str:
+    """A marker as found (a word, or ``<x:name `` for an element: its name)."""
+    m = _TAG_NAME.match(found)
+    return (m.group(1) if m else found).decode("ascii", "replace")
 
 
 def _part_kind(head: bytes) -> str:
@@ -158,38 +437,53 @@ def _part_kind(head: bytes) -> str:
     return "xml" if text.lstrip(b" \t\r\n").startswith(b"<") else "binary"
 
 
+def _complete_up_to(buf: bytes) -> int:
+    """How much of ``buf`` holds only complete tags (the rest waits for the next piece)."""
+    last = buf.rfind(b"<")
+    if last < 0 or _COMPLETE_TAG.match(buf, last):
+        return len(buf)
+    return last
+
+
 def _scan_part(
-    zf: zipfile.ZipFile, info: zipfile.ZipInfo, limit_left: int, markers: re.Pattern | None
+    zf: zipfile.ZipFile,
+    info: zipfile.ZipInfo,
+    budget: Budget,
+    limit_left: int,
+    markers: re.Pattern | None,
 ) -> _PartScan:
-    """Stream one part: count cells, spot declarations and the given markers.
+    """Stream one part through the budget: count, spot declarations and the given markers.
 
     Binary parts (pictures, the VBA project) are recognised from their first
     bytes and not scanned further. Raises :class:`OverflowError` when the part
     inflates past ``limit_left`` bytes (more than its declared size).
     """
-    scan = _PartScan()
-    tail = b""
-    read = 0
+    scan = _PartScan(budget, info.filename, markers)
+    carry = b""
     with zf.open(info) as f:
         while True:
             chunk = f.read(_CHUNK)
             if not chunk:
                 break
-            if read == 0:
-                scan.kind = _part_kind(chunk)
-                if scan.kind != "xml":
-                    return scan
-            read += len(chunk)
-            if read > limit_left:
-                raise OverflowError
-            buf = tail + chunk
-            scan.cells += len(_CELL.findall(buf)) - len(_CELL.findall(tail))
-            if _DOCTYPE.search(buf):
-                scan.kind = "doctype"
+            if scan.read == 0 and not scan.first(chunk):
                 return scan
-            if markers is not None:
-                scan.markers.update(m.decode("ascii", "replace") for m in markers.findall(buf))
-            tail = chunk[-_TAIL:]
+            scan.read += len(chunk)
+            if scan.read > limit_left:
+                raise OverflowError
+            buf = carry + chunk
+            cut = _complete_up_to(buf)
+            scan.feed(buf[:cut])
+            carry = buf[cut:]
+            if scan.kind == "doctype":
+                return scan
+            if len(carry) > budget.limits.max_tag_bytes:
+                raise budget.refuse(
+                    f"part {info.filename} holds an XML tag over "
+                    f"{budget.limits.max_tag_bytes / 2**20:.0f} MiB long, which spreadsheet "
+                    "programs never write; refused"
+                )
+    if carry:
+        scan.feed(carry)
     return scan
 
 
@@ -198,20 +492,32 @@ def _markers_for(name: str) -> re.Pattern | None:
     if low.startswith("xl/drawings/") and low.endswith(".xml"):
         return _SHAPE
     if low.startswith("xl/worksheets/") and low.endswith(".xml"):
-        return re.compile(b"|".join(re.escape(m) for m, _ in _SHEET_EXT))
+        return _SHEET_MARKERS
     return None
 
 
-def _unkept_from_scan(name: str, scan: _PartScan) -> str | None:
+_SHEET_MARKERS = re.compile(
+    rb"<"
+    + _PREFIX
+    + rb"(?:"
+    + b"|".join([*(m for m, _ in _SHEET_EXT), *_SHEET_NAMES])
+    + rb")[\s>/]"
+)
+
+
+def _unkept_from_scan(name: str, scan: _PartScan) -> list[str]:
     low = name.lower()
     if low.startswith("xl/drawings/") and scan.markers:
         if scan.markers <= {"AlternateContent"}:
-            return f"{name} (controls or other drawing content)"
-        return f"{name} (drawn shapes or text boxes)"
-    if low.startswith("xl/worksheets/") and "extLst" in scan.markers:
-        what = next(w for m, w in _SHEET_EXT if m.decode() in scan.markers)
-        return f"{name} ({what})"
-    return None
+            return [f"{name} (controls or other drawing content)"]
+        return [f"{name} (drawn shapes or text boxes)"]
+    out = []
+    if low.startswith("xl/worksheets/"):
+        if "extLst" in scan.markers:
+            what = next(w for m, w in _SHEET_EXT if m.decode() in scan.markers)
+            out.append(f"{name} ({what})")
+        out += [f"{name} ({what})" for el, what in _SHEET_ELEMENTS.items() if el in scan.markers]
+    return out
 
 
 def _unkept_by_name(name: str) -> str | None:
@@ -238,19 +544,21 @@ def _pillow() -> bool:
 
 
 def unkept_parts(names: list[str], zf: zipfile.ZipFile) -> list[str]:
-    """Parts openpyxl would drop on save (so results should go to a copy).
+    """Parts openpyxl is known to drop on save (so results should go to a copy).
 
     Reads drawing and sheet parts again; :func:`inspect_file` finds the same
     in the one pass it makes anyway.
     """
     out: list[str] = []
+    budget = Budget("", Limits(max_cells=2**62, max_elements=2**62), {})
     for name in names:
         why = _unkept_by_name(name)
-        if why is None and (markers := _markers_for(name)) is not None:
-            scan = _scan_part(zf, zf.getinfo(name), LIMITS.max_uncompressed_bytes, markers)
-            why = _unkept_from_scan(name, scan)
         if why is not None:
             out.append(why)
+        elif (markers := _markers_for(name)) is not None:
+            info = zf.getinfo(name)
+            scan = _scan_part(zf, info, budget, LIMITS.max_uncompressed_bytes, markers)
+            out += _unkept_from_scan(name, scan)
     return out
 
 
@@ -279,9 +587,9 @@ def _check_head(name: str, size: int, head: bytes, suffix: str, limits: Limits) 
         )
 
 
-def _inspect_zip(zf: zipfile.ZipFile, name: str, limits: Limits) -> PackageReport:
+def _check_directory(zf: zipfile.ZipFile, name: str, limits: Limits) -> PackageReport:
+    """The limits the zip's directory shows, before anything is inflated."""
     infos = zf.infolist()
-    names = [i.filename for i in infos]
     report = PackageReport(parts=len(infos))
     if report.parts > limits.max_parts:
         raise _refuse(
@@ -303,21 +611,78 @@ def _inspect_zip(zf: zipfile.ZipFile, name: str, limits: Limits) -> PackageRepor
                 f"part {i.filename} is compressed {ratio:.0f} to 1, a sign of a zip "
                 "bomb; the file is refused",
             )
-    if "xl/workbook.xml" not in names:
+    if "xl/workbook.xml" not in {i.filename for i in infos}:
         raise _refuse(name, "the package has no workbook part; it is not a spreadsheet")
+    return report
+
+
+#: Parts read to name the sheets in messages are read only up to this size.
+_SMALL_PART = 4 * 2**20
+
+
+def read_small_part(zf: zipfile.ZipFile, part: str, limit: int = _SMALL_PART) -> bytes | None:
+    """A part's bytes when its directory entry says it is at most ``limit`` (None otherwise).
+
+    Inflating stops at the declared size, so a part that claims to be small
+    cannot unpack to more.
+    """
+    try:
+        info = zf.getinfo(part)
+    except KeyError:
+        return None
+    if info.file_size > limit:
+        return None
+    with zf.open(info) as f:
+        return f.read(limit + 1)[:limit]
+
+
+_SHEET_ENTRY = re.compile(rb"<" + _PREFIX + rb"sheet\s[^>]*>")
+_ATTR = re.compile(rb"([\w:.-]+)\s*=\s*(?:\"([^\"]*)\"|'([^']*)')")
+_RELATIONSHIP = re.compile(rb"<" + _PREFIX + rb"Relationship\s[^>]*>")
+
+
+def _attributes(tag: bytes) -> dict[str, str]:
+    return {
+        k.decode("ascii", "replace").rsplit(":", 1)[-1]: _unescape(a if b is None else b)
+        for k, a, b in ((m.group(1), m.group(2), m.group(3)) for m in _ATTR.finditer(tag))
+    }
+
+
+def sheet_parts(zf: zipfile.ZipFile) -> dict[str, str]:
+    """Part name -> sheet name, from ``xl/workbook.xml`` and its relationships (best effort).
+
+    Used only to name sheets in messages; a package too odd to map gives ``{}``.
+    """
+    workbook = read_small_part(zf, "xl/workbook.xml")
+    rels = read_small_part(zf, "xl/_rels/workbook.xml.rels")
+    if workbook is None or rels is None:
+        return {}
+    targets = {}
+    for m in _RELATIONSHIP.finditer(rels):
+        a = _attributes(m.group(0))
+        target = a.get("Target", "")
+        part = target.lstrip("/") if target.startswith("/") else "xl/" + target
+        targets[a.get("Id", "")] = part
+    out = {}
+    for m in _SHEET_ENTRY.finditer(workbook):
+        a = _attributes(m.group(0))
+        if a.get("id") in targets and "name" in a:
+            out[targets[a["id"]]] = a["name"]
+    return out
+
+
+def _inspect_zip(zf: zipfile.ZipFile, name: str, limits: Limits) -> PackageReport:
+    directory = _check_directory(zf, name, limits)
+    budget = Budget(name, limits, {})
+    budget.sheet_names = sheet_parts(zf)
+    report = budget.report
+    report.parts, report.uncompressed_bytes = directory.parts, directory.uncompressed_bytes
     left = limits.max_uncompressed_bytes
-    for i in infos:
+    for i in zf.infolist():
         if i.is_dir():
             continue
-        scan = _scan_part(zf, i, left, _markers_for(i.filename))
+        scan = _scan_part(zf, i, budget, left, _markers_for(i.filename))
         left -= i.file_size
-        report.cells += scan.cells
-        if report.cells > limits.max_cells:
-            raise _refuse(
-                name,
-                f"the workbook holds over {limits.max_cells:,} cells, "
-                "over the limit for a closure plan",
-            )
         if scan.kind == "doctype":
             raise _refuse(
                 name,
@@ -330,9 +695,9 @@ def _inspect_zip(zf: zipfile.ZipFile, name: str, limits: Limits) -> PackageRepor
                 f"part {i.filename} is XML in UTF-16/UTF-32, which spreadsheet programs do "
                 "not write; open the file in your spreadsheet program and save it again",
             )
-        why = _unkept_by_name(i.filename) or _unkept_from_scan(i.filename, scan)
-        if why is not None:
-            report.unkept.append(why)
+        why = _unkept_by_name(i.filename)
+        report.unkept += [why] if why is not None else _unkept_from_scan(i.filename, scan)
+    budget.charge_used_range()
     return report
 
 
@@ -353,7 +718,9 @@ def _declared_entries(f: BinaryIO) -> int | None:
     return entries
 
 
-def _inspect(source: Path | io.BytesIO, name: str, limits: Limits) -> PackageReport:
+@contextlib.contextmanager
+def _open_package(source: Path | io.BytesIO, name: str, limits: Limits):
+    """The zip package, its part count checked first; every zip failure a :class:`PlanError`."""
     try:
         with source.open("rb") if isinstance(source, Path) else contextlib.nullcontext(source) as f:
             entries = _declared_entries(f)
@@ -364,7 +731,7 @@ def _inspect(source: Path | io.BytesIO, name: str, limits: Limits) -> PackageRep
                 )
             f.seek(0)
             with zipfile.ZipFile(f) as zf:
-                return _inspect_zip(zf, name, limits)
+                yield zf
     except PlanError:
         raise
     except OverflowError:
@@ -378,6 +745,11 @@ def _inspect(source: Path | io.BytesIO, name: str, limits: Limits) -> PackageRep
         raise _refuse(
             name, "the package has password-protected parts; it is not a workbook wzq can read"
         ) from None
+
+
+def _inspect(source: Path | io.BytesIO, name: str, limits: Limits) -> PackageReport:
+    with _open_package(source, name, limits) as zf:
+        return _inspect_zip(zf, name, limits)
 
 
 def _stat_and_head(path: Path) -> tuple[int, bytes]:
@@ -402,6 +774,25 @@ def inspect_file(path: str | Path, limits: Limits = LIMITS) -> PackageReport:
     size, head = _stat_and_head(path)
     _check_head(path.name, size, head, path.suffix.lower(), limits)
     return _inspect(path, path.name, limits)
+
+
+def read_part_checked(
+    path: str | Path, part: str, limit: int = _SMALL_PART, limits: Limits = LIMITS
+) -> bytes | None:
+    """One small part of a workbook file after the checks that need no inflating.
+
+    The file's head and the package directory (parts, sizes, compression
+    ratios) are checked first (:class:`PlanError` when they fail), then the
+    part is read when it declares at most ``limit`` bytes (else ``None``).
+    For a quick look at a file (is this a bulk summary?) without unpacking a
+    zip bomb; anything that parses the workbook uses :func:`read_checked`.
+    """
+    path = Path(path)
+    size, head = _stat_and_head(path)
+    _check_head(path.name, size, head, path.suffix.lower(), limits)
+    with _open_package(path, path.name, limits) as zf:
+        _check_directory(zf, path.name, limits)
+        return read_small_part(zf, part, limit)
 
 
 def inspect_bytes(

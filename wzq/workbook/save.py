@@ -12,20 +12,36 @@ was killed is removed by the next save to the same target.
 A target that a spreadsheet program has open (Excel's lock file ``~$name`` or
 LibreOffice's ``.~lock.name#`` lies beside it), a read-only target and a folder
 that cannot be written are refused up front with a :class:`PlanError` that says
-what to do; so is a save that fails half-way (a full disk, say), after which
-the target is as it was.
+what to do. A save that fails half-way (a full disk, a file-size limit, any
+I/O error) raises :class:`SaveError`: one line saying what happened, the
+target as it was, the temporary file removed, and nothing printed later by
+the half-written zip.
+
+Before the temporary file replaces the target, :func:`save_atomic` can check
+it (``verify``: e.g. that nothing the user made was dropped, see
+:mod:`wzq.workbook.kept`) and check that the target is still the file that
+was read (``expect``, a :class:`FileState`: its size and the SHA-256 of its
+bytes); a target changed meanwhile raises :class:`ChangedSinceRead` and is
+left as the user saved it.
 """
 
 from __future__ import annotations
 
 import contextlib
+import datetime as dt
 import errno
+import gc
+import hashlib
 import os
 import secrets
 import stat
+import sys
 import time
+import traceback
+from collections.abc import Callable
+from dataclasses import dataclass
 from pathlib import Path
-from typing import Protocol
+from typing import Any, BinaryIO, Protocol
 
 from wzq.plan import PlanError, Problem
 
@@ -40,6 +56,50 @@ class Saveable(Protocol):
     """Anything with ``save(file)``, e.g. an openpyxl ``Workbook``."""
 
     def save(self, filename) -> None: ...
+
+
+class SaveError(PlanError):
+    """Writing the new file failed (a full disk, a file-size limit, any I/O error).
+
+    Nothing the user typed is wrong, so the ``wzq`` command prints the one
+    line and exits with status 1 (:attr:`exit_status`), not 2.
+    """
+
+    exit_status = 1
+
+
+class ChangedSinceRead(PlanError):
+    """The target is no longer the file that was read: someone saved it meanwhile."""
+
+
+@dataclass(frozen=True)
+class FileState:
+    """A file as it was read: size, modification time and the SHA-256 of its bytes."""
+
+    size: int
+    mtime_ns: int
+    sha256: str
+
+    @classmethod
+    def of(cls, path: str | Path, data: bytes) -> FileState:
+        """The state of ``path`` whose bytes, as read, are ``data``."""
+        st = os.stat(path)
+        return cls(len(data), st.st_mtime_ns, hashlib.sha256(data).hexdigest())
+
+    def changed(self, path: str | Path) -> bool:
+        """Whether ``path`` now holds other bytes than these (it is hashed again when the
+        size is the same: a modification time alone can miss a quick second save)."""
+        try:
+            st = os.stat(path)
+            if st.st_size != self.size:
+                return True
+            digest = hashlib.sha256()
+            with open(path, "rb") as f:
+                for block in iter(lambda: f.read(1 << 20), b""):
+                    digest.update(block)
+        except OSError:
+            return True  # gone or unreadable: not the file that was read
+        return digest.hexdigest() != self.sha256
 
 
 def lock_file(target: Path) -> Path:
@@ -173,14 +233,100 @@ def clean_stray_temp_files(target: str | Path) -> list[Path]:
     return removed
 
 
-def save_atomic(book: Saveable, target: str | Path) -> Path:
+class _GuardedFile:
+    """The temporary file as the zip writer sees it.
+
+    After the first I/O error every further call does nothing, so neither the
+    writer's own clean-up nor the half-written zip, when it is collected later,
+    raises again or prints "Exception ignored" on the terminal; the error is
+    kept to be reported once.
+    """
+
+    def __init__(self, fh: BinaryIO) -> None:
+        self.fh = fh
+        self.error: OSError | None = None
+        self.at = 0
+
+    def _call(self, fn: Callable[..., Any], *args: Any, default: Any) -> Any:
+        if self.error is not None or self.fh.closed:
+            return default
+        try:
+            return fn(*args)
+        except OSError as e:
+            self.error = e
+            raise
+
+    def write(self, data: bytes) -> int:
+        n = self._call(self.fh.write, data, default=len(data))
+        self.at = self._call(self.fh.tell, default=self.at)
+        return n
+
+    def tell(self) -> int:
+        return self._call(self.fh.tell, default=self.at)
+
+    def seek(self, offset: int, whence: int = os.SEEK_SET) -> int:
+        return self._call(self.fh.seek, offset, whence, default=self.at)
+
+    def flush(self) -> None:
+        self._call(self.fh.flush, default=None)
+
+    def seekable(self) -> bool:
+        return True
+
+    def writable(self) -> bool:
+        return True
+
+
+def _open_temp(path: Path) -> BinaryIO:
+    """A new file, never an existing one, readable by the owner only until it is finished."""
+    fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0), 0o600)
+    return os.fdopen(fd, "wb")
+
+
+def _let_go(error: BaseException) -> None:
+    """Free what the failed save left (the half-written zip) now, quietly.
+
+    The writer's frames in the traceback hold the zip; collected at exit it
+    would try to finish itself and print a traceback nobody can act on.
+    """
+    hook = sys.unraisablehook
+    sys.unraisablehook = lambda unraisable: None
+    try:
+        traceback.clear_frames(error.__traceback__)
+        gc.collect()
+    finally:
+        sys.unraisablehook = hook
+
+
+def _io_error(error: BaseException, guard: _GuardedFile) -> OSError | None:
+    """The I/O error behind a failed save (XML writers wrap it in their own types)."""
+    if guard.error is not None:
+        return guard.error
+    chain = [error]  # the error, what caused it, and so on
+    while (e := chain[-1].__cause__ or chain[-1].__context__) is not None and e not in chain:
+        chain.append(e)
+    return next((e for e in chain if isinstance(e, OSError)), None)
+
+
+def save_atomic(
+    book: Saveable,
+    target: str | Path,
+    *,
+    verify: Callable[[Path], None] | None = None,
+    expect: FileState | None = None,
+) -> Path:
     """Save ``book`` to ``target`` through a temporary file and ``os.replace``.
 
     The temporary file sits in the target's folder (so the replace is a rename
-    on one file system). An existing target keeps its permission bits (and,
-    where allowed, its owner); a symbolic link is followed and stays a link. On
-    any failure the temporary file is removed, the target is untouched and a
-    :class:`PlanError` says what happened.
+    on one file system), and is flushed and synced to disk before it replaces
+    the target. An existing target keeps its permission bits (and, where
+    allowed, its owner); a symbolic link is followed and stays a link.
+
+    ``verify`` is called with the finished temporary file and may raise to
+    stop the save; ``expect`` is the state of the target when it was read: if
+    the target changed since, :class:`ChangedSinceRead` is raised and the
+    target stays as it is. On any failure the temporary file is removed and
+    the target is untouched; an I/O error is a :class:`SaveError`.
     """
     shown = Path(target)
     check_writable(shown)
@@ -189,12 +335,16 @@ def save_atomic(book: Saveable, target: str | Path) -> Path:
     info = target.stat() if target.exists() else None
     folder = target.parent if str(target.parent) else Path(".")
     tmp = folder / temp_name(target)
+    guard: _GuardedFile | None = None
     try:
-        fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0), 0o600)
-        with os.fdopen(fd, "wb") as fh:
-            book.save(fh)
+        with _open_temp(tmp) as fh:
+            guard = _GuardedFile(fh)
+            book.save(guard)
             fh.flush()
             os.fsync(fh.fileno())
+        # -- the finished temporary file: post-process and check it here, before the rename
+        if verify is not None:
+            verify(tmp)
         if info is not None:
             os.chmod(tmp, stat.S_IMODE(info.st_mode))
             if hasattr(os, "chown"):
@@ -202,23 +352,41 @@ def save_atomic(book: Saveable, target: str | Path) -> Path:
                     os.chown(tmp, info.st_uid, info.st_gid)
         else:
             os.chmod(tmp, 0o666 & ~_umask())
+        if expect is not None and expect.changed(target):
+            raise ChangedSinceRead([Problem(str(shown), _changed(target))])
         os.replace(tmp, target)
-    except OSError as e:
+    except BaseException as e:
         with contextlib.suppress(OSError):
             tmp.unlink()
-        raise PlanError([Problem(str(shown), _save_failed(e, shown))]) from None
-    except BaseException:
-        with contextlib.suppress(OSError):
-            tmp.unlink()
+        cause = _io_error(e, guard) if guard is not None else None
+        if cause is None and isinstance(e, OSError):
+            cause = e
+        _let_go(e)
+        if cause is not None and not isinstance(e, PlanError | KeyboardInterrupt):
+            raise SaveError([Problem(str(shown), _save_failed(cause, shown))]) from None
         raise
     _fsync_folder(folder)
     return shown
+
+
+def _changed(target: Path) -> str:
+    try:
+        when = dt.datetime.fromtimestamp(target.stat().st_mtime).strftime("%H:%M:%S")
+        saved = f" (saved at {when})"
+    except OSError:
+        saved = ""
+    return (
+        f"{target.name} changed on disk while wzq ran{saved}; your version was kept and "
+        "the results were not written into it"
+    )
 
 
 def _save_failed(e: OSError, target: Path) -> str:
     why = e.strerror or str(e)
     if e.errno in (errno.ENOSPC, getattr(errno, "EDQUOT", -1)):
         hint = "free some space or write elsewhere with -o"
+    elif e.errno == errno.EFBIG:
+        hint = "the file would be larger than this system or account allows; write elsewhere"
     elif e.errno in (errno.EACCES, errno.EPERM, errno.EBUSY):
         hint = f"close {target.name} in any program that has it open, or use -o"
     else:
