@@ -450,11 +450,12 @@ class FakeSheet(Recorded):
 
     @property
     def used_range(self) -> FakeRange:
-        if not self._cells:
+        """Like Excel's: from the first to the last cell with a value or in a merged range."""
+        boxes = [(r, c, r, c) for r, c in self._cells] + [_bounds(m) for m in self._merged]
+        if not boxes:
             return FakeRange(self, 1, 1, 1, 1)
-        rows = [r for r, _ in self._cells]
-        cols = [c for _, c in self._cells]
-        return FakeRange(self, min(rows), min(cols), max(rows), max(cols))
+        r0, c0, r1, c1 = zip(*boxes, strict=True)
+        return FakeRange(self, min(r0), min(c0), max(r1), max(c1))
 
     @property
     def tables(self) -> FakeTables:

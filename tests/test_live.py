@@ -378,7 +378,7 @@ def test_problems_after_a_run_keep_the_old_results_and_say_so(filled):
 def test_a_sheet_too_large_to_read_is_a_problem_not_a_hang(filled, monkeypatch):
     book = open_book(filled["fenwick"])
     book.sheets[layout.START].range((30_000, 40)).value = "far away"  # stretches the used range
-    monkeypatch.setattr(live, "LIMITS", dataclasses.replace(live.LIMITS, max_cells=1_000_000))
+    monkeypatch.setattr(live, "LIMITS", dataclasses.replace(live.LIMITS, max_used_cells=1_000_000))
     outcome = live.recalculate(book)
     (problem,) = outcome.problems
     assert problem.where == f"sheet '{layout.START}'"

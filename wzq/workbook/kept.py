@@ -57,10 +57,13 @@ _XR = "http://schemas.microsoft.com/office/spreadsheetml/2014/revision"
 _XCALCF = "http://schemas.microsoft.com/office/spreadsheetml/2018/calcfeatures"
 _LIBREOFFICE = "http://schemas.libreoffice.org/"
 _VML_EXCEL = "urn:schemas-microsoft-com:office:excel"
+_A = "http://schemas.openxmlformats.org/drawingml/2006/main"
+_A14 = "http://schemas.microsoft.com/office/drawing/2010/main"
+_A16 = "http://schemas.microsoft.com/office/drawing/2014/main"
 
 #: Elements that only wrap others: the elements inside them are compared instead.
 WRAPPERS = frozenset(
-    {f"{{{_MAIN}}}extLst", f"{{{_MAIN}}}ext"}
+    {f"{{{ns}}}{n}" for ns in (_MAIN, _A) for n in ("extLst", "ext")}
     | {f"{{{_MC}}}{n}" for n in ("AlternateContent", "Choice", "Fallback")}
 )
 
@@ -82,6 +85,8 @@ DERIVED: dict[str, str] = {
     f"{{{_LIBREOFFICE}}}extCalcPr": "LibreOffice's formula syntax setting",
     f"{{{_X14}}}slicerStyles": "the default slicer style name",
     f"{{{_X15}}}timelineStyles": "the default timeline style name",
+    f"{{{_A16}}}creationId": "the identity number Excel gives each drawn object",
+    f"{{{_A14}}}useLocalDpi": "whether a picture is compressed for the screen",
 }
 #: In the extended properties (``docProps/app.xml``) only what a person types is compared;
 #: the rest are statistics the saving program writes (sheet names, program, version, times).
@@ -95,6 +100,7 @@ _EMPTY_OK = frozenset(
     | {f"{{{_CORE}}}{n}" for n in ("lastModifiedBy", "keywords", "category", "contentStatus")}
     | {f"{{{_EXT_PROPS}}}{n}" for n in ("Company", "Manager", "HyperlinkBase")}
     | {"{http://schemas.openxmlformats.org/officeDocument/2006/custom-properties}Properties"}
+    | {f"{{{_A}}}avLst"}  # a shape's adjustments: empty means the preset's own
 )
 #: Extended properties a person types (the others are statistics the program writes).
 _TYPED_PROPERTIES = frozenset(f"{{{_EXT_PROPS}}}{n}" for n in ("Company", "Manager"))

@@ -130,15 +130,29 @@ def _mirror_names(mirror: Workbook, names: list[tuple[str, str]]) -> None:
             continue  # a name openpyxl cannot hold is no input of ours
 
 
-def _mirror_cells(ws: Any, sheet: Any) -> None:
-    used = sheet.used_range
-    n_rows, n_cols = used.shape
-    if n_rows * n_cols > LIMITS.max_cells:  # checked before Excel hands over the values
-        raise PlanError(
-            f"uses {n_rows:,} rows by {n_cols:,} columns, more than wzq reads "
-            f"({LIMITS.max_cells:,} cells); delete the unused rows and columns",
-            where=f"sheet '{sheet.name}'",
-        )
+def _check_used(used: dict[str, Any]) -> None:
+    """Refuse, before Excel hands over any value, used ranges too large to read as blocks.
+
+    The same budget as for a file (:data:`wzq.workbook.safety.LIMITS`, the used
+    ranges of all sheets together), so a workbook refused as a file is refused
+    here too: a merged range or a stray value far from the data stretches the
+    used range of its sheet.
+    """
+    sizes = {name: rng.shape[0] * rng.shape[1] for name, rng in used.items()}
+    total = sum(sizes.values())
+    if total <= LIMITS.max_used_cells:
+        return
+    name = max(sizes, key=lambda n: sizes[n])
+    n_rows, n_cols = used[name].shape
+    raise PlanError(
+        f"uses {n_rows:,} rows by {n_cols:,} columns ({total:,} cells on all sheets), more "
+        f"than wzq reads ({LIMITS.max_used_cells:,} cells); delete the unused rows and "
+        "columns (or the merged range or stray value far from your data)",
+        where=f"sheet '{name}'",
+    )
+
+
+def _mirror_cells(ws: Any, used: Any) -> None:
     rows = used.options(ndim=2, err_to_str=True).value or []
     top, left = used.row, used.column
     for i, row in enumerate(rows):
@@ -182,20 +196,19 @@ def mirror_book(book: Any) -> Workbook:
     values of its used range at the same addresses (text as text, dates as
     datetimes, times as durations) and its Excel tables; the output sheets are
     present but empty; the workbook's defined names are copied. Raises
-    :class:`PlanError` for a sheet too large to read.
+    :class:`PlanError` for used ranges too large to read (:func:`_check_used`).
     """
     mirror = Workbook()
     mirror.remove(mirror.active)
     problems_ours = _problems_sheet_is_ours(book)
-    for sheet in book.sheets:
-        name = sheet.name
-        if name == PROBLEMS_SHEET and problems_ours:
-            continue
-        ws = mirror.create_sheet(name)
-        if name in layout.OUTPUT_SHEETS:
-            continue
-        _mirror_cells(ws, sheet)
-        _mirror_tables(ws, sheet)
+    sheets = [s for s in book.sheets if not (s.name == PROBLEMS_SHEET and problems_ours)]
+    used = {s.name: s.used_range for s in sheets if s.name not in layout.OUTPUT_SHEETS}
+    _check_used(used)
+    for sheet in sheets:
+        ws = mirror.create_sheet(sheet.name)
+        if sheet.name in used:
+            _mirror_cells(ws, used[sheet.name])
+            _mirror_tables(ws, sheet)
     _mirror_names(mirror, _names_of(book))
     return mirror
 

@@ -198,7 +198,7 @@ def run_to(
     picture = plan.options.space_time if space_time is None else space_time
     extra: list[str] = []
 
-    def write(notes: list[str]) -> None:
+    def write(book: Workbook, notes: list[str]) -> None:
         write_results(
             book, result, source=src.name, run_time=run_time, notes=notes, windows=windows
         )
@@ -212,14 +212,15 @@ def run_to(
         notes.append(
             f"{why}, so it was left unchanged and the results were written to a copy: {copy.name}"
         )
-        write(notes)
-        save_atomic(book, copy)
+        fresh = book_from_bytes(data, src, keep_links=True, rich_text=True)  # a saved book's
+        write(fresh, notes)  # pictures cannot be saved again by openpyxl
+        save_atomic(fresh, copy)
         result.warnings.extend(extra)
         return RunOutcome(result, copy, notes, True)
 
     if in_place and report.unkept:  # known before writing: the copy at once
         return to_copy(_kept_words(src, _unkept_text(report.unkept)))
-    write(notes)
+    write(book, notes)
     if not in_place:
         save_atomic(book, target)
         result.warnings.extend(extra)

@@ -93,8 +93,6 @@ LIMITS = Limits()
 _CHUNK = 1 << 20
 _PREFIX = rb"(?:[\w.-]+:)?"  # any namespace prefix
 #: A cell element: ``<c`` then any XML whitespace, ``>`` or ``/`` (XML 1.0, production S).
-_CELL = re.compile(rb"<" + _PREFIX + rb"c[\s>/]")
-_SHARED_STRING = re.compile(rb"<" + _PREFIX + rb"si[\s>/]")
 _ATTRS = rb"((?:\s+[^\s=<>/]+\s*=\s*(?:\"[^\"]*\"|'[^']*'))*)\s*/?>"
 #: Elements whose ``ref`` openpyxl expands cell by cell, and the sheet's declared extent.
 _RANGE_TAG = re.compile(rb"<" + _PREFIX + rb"(mergeCell|hyperlink|dimension)" + _ATTRS)
@@ -280,6 +278,9 @@ class Budget:
         self.report = PackageReport()
         self.sheet_names = sheet_names
         self.extents: dict[str, _Extent] = {}
+        #: Parts the package's content types call the shared-string table (openpyxl reads
+        #: the table it finds that way, whatever its root element).
+        self.shared_string_parts: set[str] = set()
 
     def where(self, part: str) -> str:
         sheet = self.sheet_names.get(part)
@@ -291,6 +292,7 @@ class Budget:
     def charge_cells(self, n: int, part: str, why: str = "") -> None:
         self.report.cells += n
         if self.report.cells > self.limits.max_cells:
+            why = why or f" (the last counted in {self.where(part)})"
             raise self.refuse(
                 f"the workbook holds over {self.limits.max_cells:,} cells{why}, over the limit "
                 "for a closure plan; delete what is not needed, or split the workbook"
@@ -318,8 +320,8 @@ class Budget:
         if self.report.elements > self.limits.max_elements:
             raise self.refuse(
                 f"the workbook holds over {self.limits.max_elements:,} XML elements (the last "
-                f"counted in {part}), over the limit for a closure plan; it is damaged, "
-                "hostile or far larger than a plan needs"
+                f"counted in {self.where(part)}), over the limit for a closure plan; it is "
+                "damaged, hostile or far larger than a plan needs"
             )
 
     def charge_shared_strings(self, n: int, size: int) -> None:
@@ -331,7 +333,11 @@ class Budget:
                 f"the shared-string table holds over {self.limits.max_shared_strings:,} "
                 "different texts, over the limit for a closure plan"
             )
-        if r.shared_string_bytes > self.limits.max_shared_string_bytes:
+        self.check_shared_string_size(r.shared_string_bytes)
+
+    def check_shared_string_size(self, size: int) -> None:
+        """The shared-string table's size (as read so far, or as its zip entry declares it)."""
+        if size > self.limits.max_shared_string_bytes:
             raise self.refuse(
                 f"the shared-string table is over "
                 f"{self.limits.max_shared_string_bytes / 2**20:.0f} MiB of text, over the "
@@ -380,26 +386,36 @@ class _PartScan:
         return True
 
     def feed(self, text: bytes) -> None:
-        """Count a piece of the part that holds only complete tags."""
+        """Count a piece of the part that holds only complete tags.
+
+        Plain byte counts do the bulk; a regular expression runs only where a
+        cheap look shows something it must read (an unusual way of writing a
+        cell, a merged range, a marker), so hostile spellings cost time only
+        in hostile files.
+        """
         b = self.budget
-        if _DOCTYPE.search(text):
+        if b"<!" in text and _DOCTYPE.search(text):
             self.kind = "doctype"
             return
         tags = text.count(b"<") - text.count(b"</") - text.count(b"<?") - text.count(b"<!")
         b.charge_elements(tags, self.part)
-        cells = len(_CELL.findall(text))
+        cells, usual = _count(text, b"c")
         if cells:
             self.cells += cells
             b.charge_cells(cells, self.part)
-        if self.root == "sst":
-            b.charge_shared_strings(len(_SHARED_STRING.findall(text)), len(text))
-        refs = _R_ATTR.findall(text)
-        if refs:
-            self._extent(refs)
-        for raw in _R_ATTR_ESCAPED.findall(text) if b"&#" in text else ():
-            box = _box(_unescape(raw[0] or raw[1]))
-            if box is not None:
-                b.extent(self.part).add(*box)
+        if self.root == "sst" or self.part in b.shared_string_parts:
+            b.charge_shared_strings(_count(text, b"si")[0], len(text))
+        if cells or b"<row" in text or b":row" in text:
+            self._extent(text, usual)
+        if any(word in text for word in _RANGE_WORDS):
+            self._ranges(text)
+        if self.markers_re is not None and (
+            self.markers_re is not _SHEET_MARKERS or any(w in text for w in _SHEET_WORDS)
+        ):
+            self.markers.update(_marker(m) for m in self.markers_re.findall(text))
+
+    def _ranges(self, text: bytes) -> None:
+        b = self.budget
         for tag, attrs in _RANGE_TAG.findall(text):
             m = _REF_ATTR.search(attrs)
             if m is None:
@@ -411,16 +427,46 @@ class _PartScan:
                     b.extent(self.part).add(*box)
             elif tag == b"mergeCell" or ":" in ref:
                 b.charge_range(tag.decode(), ref, self.part)
-        if self.markers_re is not None:
-            self.markers.update(_marker(m) for m in self.markers_re.findall(text))
 
-    def _extent(self, refs: list[tuple[bytes, bytes]]) -> None:
-        rows = [int(d) for _, d in refs]
-        letters = {c.upper() for c, _ in refs if c}
-        cols = [column_index_from_string(c.decode()) for c in letters]
+    def _extent(self, text: bytes, usual: bool) -> None:
+        """The rows and columns the cells and rows of this piece say they are in."""
+        cells = _USUAL_CELL_REF.findall(text)
+        rows = _USUAL_ROW_REF.findall(text)
+        odd = not usual or len(cells) != text.count(b"<c ") or len(rows) != text.count(b"<row")
+        if odd and _ANY_R.search(text):
+            # written some other way (another order, a prefix, other spaces): read every one
+            cells = [(c, r) for c, r in _R_ATTR.findall(text) if c]
+            rows = [r for c, r in _R_ATTR.findall(text) if not c]
+            for raw in _R_ATTR_ESCAPED.findall(text) if b"&#" in text else ():
+                box = _box(_unescape(raw[0] or raw[1]))
+                if box is not None:
+                    self.budget.extent(self.part).add(*box)
+        if cells or rows:
+            self._add_refs(cells, rows)
+
+    def _add_refs(self, cells: list[tuple[bytes, bytes]], rows: list[bytes]) -> None:
+        numbers = [int(d) for _, d in cells] + [int(d) for d in rows]
+        cols = [column_index_from_string(c.decode()) for c in {c.upper() for c, _ in cells}]
         self.budget.extent(self.part).add(
-            min(rows), min(cols, default=0), max(rows), max(cols, default=0)
+            min(numbers), min(cols, default=0), max(numbers), max(cols, default=0)
         )
+
+
+_USUAL_CELL_REF = re.compile(rb'<c r="([A-Z]{1,3})(\d{1,7})"')  # how Excel, openpyxl, ... write
+_USUAL_ROW_REF = re.compile(rb'<row r="(\d{1,7})"')
+_RANGE_WORDS = (b"mergeCell", b"hyperlink", b"dimension")
+_ANY_R = re.compile(rb"r[ \t\r\n]*=")  # an attribute that may be ``r`` at all
+_OTHER_SPACE = (b"\n", b"\t", b"\r")
+
+
+def _count(text: bytes, name: bytes) -> tuple[int, bool]:
+    """How many elements ``name`` start in ``text`` (any prefix, any XML whitespace after the
+    name), and whether all were written the usual way (no prefix, a space or ``>``/``/``)."""
+    usual = sum(text.count(b"<" + name + end) for end in (b" ", b">", b"/"))
+    other = sum(text.count(b"<" + name + end) for end in _OTHER_SPACE)
+    if b":" + name in text:  # a namespace prefix: x:c, x:si
+        other += len(re.findall(rb"<[\w.-]+:" + name + rb"[\s>/]", text))
+    return usual + other, other == 0
 
 
 def _marker(found: bytes) -> str:
@@ -496,6 +542,7 @@ def _markers_for(name: str) -> re.Pattern | None:
     return None
 
 
+_SHEET_WORDS = [*(m for m, _ in _SHEET_EXT), *_SHEET_NAMES]
 _SHEET_MARKERS = re.compile(
     rb"<"
     + _PREFIX
@@ -671,12 +718,30 @@ def sheet_parts(zf: zipfile.ZipFile) -> dict[str, str]:
     return out
 
 
+_OVERRIDE = re.compile(rb"<" + _PREFIX + rb"Override\s[^>]*>")
+_SHARED_STRINGS_TYPE = "spreadsheetml.sharedStrings+xml"
+
+
+def shared_string_parts(zf: zipfile.ZipFile) -> set[str]:
+    """The parts ``[Content_Types].xml`` gives the shared-string content type (best effort)."""
+    types = read_small_part(zf, "[Content_Types].xml") or b""
+    out = set()
+    for m in _OVERRIDE.finditer(types):
+        a = _attributes(m.group(0))
+        if a.get("ContentType", "").endswith(_SHARED_STRINGS_TYPE):
+            out.add(a.get("PartName", "").lstrip("/"))
+    return out
+
+
 def _inspect_zip(zf: zipfile.ZipFile, name: str, limits: Limits) -> PackageReport:
     directory = _check_directory(zf, name, limits)
-    budget = Budget(name, limits, {})
-    budget.sheet_names = sheet_parts(zf)
+    budget = Budget(name, limits, sheet_parts(zf))
+    budget.shared_string_parts = shared_string_parts(zf)
     report = budget.report
     report.parts, report.uncompressed_bytes = directory.parts, directory.uncompressed_bytes
+    for part in budget.shared_string_parts:  # its declared size, before inflating it
+        with contextlib.suppress(KeyError):
+            budget.check_shared_string_size(zf.getinfo(part).file_size)
     left = limits.max_uncompressed_bytes
     for i in zf.infolist():
         if i.is_dir():
