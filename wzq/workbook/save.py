@@ -299,13 +299,26 @@ def _let_go(error: BaseException) -> None:
 
 
 def _io_error(error: BaseException, guard: _GuardedFile) -> OSError | None:
-    """The I/O error behind a failed save (XML writers wrap it in their own types)."""
+    """The I/O error behind a failed save.
+
+    Besides Python's own :class:`OSError`, lxml (through which openpyxl writes
+    each sheet, to a file of its own first) reports a failed write as a
+    ``SerialisationError`` named after the error code (``IO_EFBIG``).
+    """
     if guard.error is not None:
         return guard.error
     chain = [error]  # the error, what caused it, and so on
     while (e := chain[-1].__cause__ or chain[-1].__context__) is not None and e not in chain:
         chain.append(e)
-    return next((e for e in chain if isinstance(e, OSError)), None)
+    for e in chain:
+        if isinstance(e, OSError):
+            return e
+        code = (
+            getattr(errno, str(e).removeprefix("IO_"), None) if str(e).startswith("IO_") else None
+        )
+        if type(e).__name__ == "SerialisationError" and isinstance(code, int):
+            return OSError(code, os.strerror(code))
+    return None
 
 
 def save_atomic(
