@@ -130,6 +130,7 @@ def run_to(
     space_time: bool | None = None,
     unkept: Literal["copy", "refuse"] = "copy",
     windows: bool | None = None,
+    office_profile: str | None = None,
 ) -> RunOutcome:
     """Analyse the plan in workbook ``path`` and write the results into it (or into ``out``).
 
@@ -144,6 +145,10 @@ def run_to(
     written back into, it is left byte-identical and the results go to a copy
     beside it (:func:`copy_path`), or, with ``unkept="refuse"``, nothing is
     written and a :class:`PlanError` says so.
+
+    ``office_profile`` is for the Recalculate plan command in LibreOffice Calc
+    only: that LibreOffice's own lock file on ``path`` does not block the save
+    (:func:`wzq.workbook.save.own_office_lock`); every other lock still does.
     """
     src = Path(path)
     target = Path(out) if out is not None else src
@@ -179,7 +184,7 @@ def run_to(
                 f"({parts}), so it was left unchanged and the results were written to a "
                 f"copy: {target.name}"
             )
-    check_writable(target)
+    check_writable(target, office_profile=office_profile)
     plan = read_plan_from_book(book, src.name, src, data=data)
     result = wzq.analyse(plan)
     write_results(book, result, source=src.name, run_time=run_time, notes=notes, windows=windows)
@@ -187,7 +192,7 @@ def run_to(
         from wzq.workbook.pictures import add_space_time
 
         result.warnings.extend(add_space_time(book, result))
-    save_atomic(book, target)
+    save_atomic(book, target, office_profile=office_profile)
     return RunOutcome(result, target, notes, copied)
 
 
