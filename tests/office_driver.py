@@ -194,6 +194,33 @@ class Driver:
         icon = images.getByName("UserDefinedImages").ImageSmallURL
         return {"menu": menus, "toolbar": buttons, "icon": icon, "icon_for": images.URL}
 
+    def op_store(self):
+        self.doc().store()
+        return True
+
+    def op_add_shape(self, sheet: str):
+        """Draw a rectangle on a sheet (a drawn shape, which wzq cannot keep when it saves)."""
+        from com.sun.star.awt import Point, Size
+
+        doc = self.doc()
+        shape = doc.createInstance("com.sun.star.drawing.RectangleShape")
+        doc.Sheets.getByName(sheet).getDrawPage().add(shape)
+        shape.setPosition(Point(1000, 1000))
+        shape.setSize(Size(3000, 1500))
+        doc.setModified(True)  # as drawing it in the window does (the API call does not)
+        return True
+
+    def op_export_pdf(self, sheet: str, path: str):
+        """One sheet of the open document as a PDF (its print ranges and page setup)."""
+        doc = self.doc()
+        data = uno.Any(
+            "[]com.sun.star.beans.PropertyValue",
+            (prop("Selection", doc.Sheets.getByName(sheet)),),
+        )
+        args = (prop("FilterName", "calc_pdf_Export"), prop("FilterData", data))
+        uno.invoke(doc, "storeToURL", (uno.systemPathToFileUrl(path), args))
+        return path
+
     def op_close(self):
         with contextlib.suppress(Exception):
             self.doc().close(True)

@@ -25,6 +25,7 @@ import shutil
 import subprocess
 import sys
 from pathlib import Path
+from urllib.parse import unquote
 
 import numpy as np
 import openpyxl
@@ -40,6 +41,7 @@ from wzq.tables import hour_label, hourly_columns, hourly_display, summary_lines
 from wzq.workbook import layout
 from wzq.workbook.reader import read_plan
 from wzq.workbook.run import run_workbook
+from wzq.workbook.safety import inspect_file
 from wzq.workbook.save import lock_files, own_office_lock
 from wzq.workbook.writer import RUN_TIME_CELL, permit_columns
 
@@ -359,3 +361,25 @@ def test_a_python_without_wzq_is_named_in_the_message(office, tmp_path):
         assert "wzq calc install" in report
     finally:
         office.call("set_setting", name="Python", value=remembered)
+
+
+def test_a_plan_with_a_drawn_shape_gets_its_results_in_a_copy(office, tmp_path):
+    path = fill_template(load_plan(EXAMPLES / "fenwick_downs_weekend.json"), tmp_path / "s.xlsx")
+    office.call("open", path=str(path))
+    office.call("add_shape", sheet=layout.SITE)  # a shape wzq cannot carry through its save
+    report = office.call("press_script", url=script_url())
+    copy = tmp_path / "s (wzq results).xlsx"
+    assert report.startswith(f"s.xlsx: recalculated; the results are in a copy, {copy.name}")
+    assert office.call("setting", name="LastReport") == report
+    # the plan stays open as the user saved it: the shape kept, no results written into it
+    assert layout.RESULTS not in office.call("sheets")
+    assert layout.RESULTS not in openpyxl.load_workbook(path).sheetnames
+    assert inspect_file(path).unkept == ["xl/drawings/drawing1.xml (drawn shapes or text boxes)"]
+    # and the copy, opened beside it, has the results of the same plan
+    assert unquote(copy.resolve().as_uri()) in [unquote(u) for u in office.call("documents")]
+    expected = wzq.analyse(read_plan(path))
+    summary = openpyxl.load_workbook(copy)[layout.SUMMARY]
+    texts = {r[0]: r[1] for r in summary.iter_rows(values_only=True) if r[0]}
+    for label, text in summary_lines(expected):
+        assert texts[label] == text, label
+    office.call("close")

@@ -480,7 +480,8 @@ def recalculate(ctx, doc) -> str:
     if outcome.get("copied"):
         desktop = XSCRIPTCONTEXT.getDesktop()  # noqa: F821
         copy_url = uno.systemPathToFileUrl(outcome["target"])
-        desktop.loadComponentFromURL(copy_url, "_blank", 0, ())
+        hidden = any(p.Name == "Hidden" and p.Value for p in doc.getArgs())
+        desktop.loadComponentFromURL(copy_url, "_blank", 0, (_prop("Hidden", hidden),))
         return tell(ctx, doc, text, "warning")
     _reload(doc)
     _remember(ctx, LastReport=text)
