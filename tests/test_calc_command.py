@@ -88,6 +88,12 @@ def office(tmp_path_factory):
     env = office_env()
     if os.environ.get("PYTHONPATH"):  # a developer's checkout reaches the macro's wzq run
         env["PYTHONPATH"] = os.environ["PYTHONPATH"]
+    # last on LibreOffice's PATH: a `python` that has wzq (found when the remembered one is gone)
+    tools = folder / "tools"
+    tools.mkdir()
+    (tools / "python").write_text(f'#!/bin/sh\nexec "{sys.executable}" "$@"\n')
+    (tools / "python").chmod(0o755)
+    env["PATH"] = env["PATH"] + os.pathsep + str(tools)
     session = Office(profile, UNO_PYTHON, env=env)
     try:
         session.call("set_setting", name="SaveWithoutAsking", value=True)
@@ -383,3 +389,22 @@ def test_a_plan_with_a_drawn_shape_gets_its_results_in_a_copy(office, tmp_path):
     for label, text in summary_lines(expected):
         assert texts[label] == text, label
     office.call("close")
+
+
+def test_a_python_that_is_gone_is_replaced_by_one_with_wzq_and_remembered(office, tmp_path):
+    path = fill_template(load_plan(EXAMPLES / "fenwick_downs_weekend.json"), tmp_path / "g.xlsx")
+    remembered = office.call("setting", name="Python")
+    office.call("set_setting", name="Python", value=str(tmp_path / "gone" / "python3"))
+    try:
+        office.call("open", path=str(path))
+        report = office.call("press_script", url=script_url())
+        office.call("close")
+        assert report.startswith("g.xlsx: recalculated.")
+        # the first Python on LibreOffice's PATH with wzq is remembered (here the `python`
+        # in tools/, unless the system's python3 before it has wzq too)
+        found = office.call("setting", name="Python")
+        assert found != str(tmp_path / "gone" / "python3") and Path(found).is_file()
+        assert Path(found).name in ("python", "python3")
+        assert layout.RESULTS in openpyxl.load_workbook(path).sheetnames
+    finally:
+        office.call("set_setting", name="Python", value=remembered)
