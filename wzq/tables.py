@@ -34,6 +34,7 @@ def hourly_columns(system: u.UnitSystem) -> list[Column]:
         Column("Lanes open", "lanes_open", 0),
         Column("Demand (veh/h)", "demand_veh_h", 0),
         Column("Capacity (veh/h)", "capacity_veh_h", 0),
+        Column("Queue discharge rate (veh/h)", "discharge_veh_h", 0),
         Column("Demand / capacity", "demand_capacity", 2),
         Column("Queue at end of hour (veh)", "queue_end_veh", 0),
         Column("Longest queue (veh)", "queue_max_veh", 0),

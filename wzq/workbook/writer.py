@@ -222,7 +222,6 @@ def listed_hours(result: Result) -> np.ndarray:
 
 #: Extra per-hour columns on the Results sheet, after the permit columns.
 DETAIL_COLUMNS = [
-    Column("Queue discharge rate (veh/h)", "discharge_veh_h", 0),
     Column("Departures (veh)", "departures_veh", 0),
     Column("Queue delay (veh-h)", "queue_delay_veh_h", 1),
     Column("Work-zone delay (veh-h)", "work_zone_delay_veh_h", 1),
@@ -478,6 +477,7 @@ def permit_columns(system: u.UnitSystem) -> list[Column]:
         "lanes_open",
         "demand_veh_h",
         "capacity_veh_h",
+        "discharge_veh_h",
         "demand_capacity",
         "queue_max_veh",
         "queue_length_max_m",
