@@ -634,13 +634,17 @@ def test_the_button_runs_the_entry_module_and_survives_wzq_run_twice(
     assert f"wrote {entry_path(src)}" in capsys.readouterr().out
     for _ in range(2):
         assert main(["run", str(src)]) == 0
-    # the macro (xlwings' quickstart_standalone.xlsm, Module1) imports the module named like
-    # the workbook and calls its main(); the Start sheet's button is assigned to it
-    code = _macros(src)["Module1.bas"]
-    assert "Sub SampleCall()" in code
-    assert "mymodule = Left(ThisWorkbook.Name, (InStrRev(ThisWorkbook.Name, " in code
-    assert 'RunPython "import " & mymodule & ";" & mymodule & ".main()"' in code
-    assert _button_macros(src) == ["[0]!SampleCall"]
+    # the macro (our module WzqButton in xlwings' standalone project) imports the module
+    # named like the workbook and calls its main() through xlwings' RunPython, as the
+    # quickstart's sample macro does; the Start sheet's button is assigned to it
+    macros = _macros(src)
+    code = macros["WzqButton.bas"]
+    assert "Sub RecalculatePlan()" in code
+    assert "entry = Left(ThisWorkbook.Name, InStrRev(ThisWorkbook.Name, " in code
+    assert 'RunPython "import " & entry & ";" & entry & ".main()"' in code
+    assert "Function RunPython(" in macros["xlwings.bas"]
+    assert not any("SampleCall" in c for c in macros.values())
+    assert _button_macros(src) == ["[0]!RecalculatePlan"]
     # what RunPython then does: the workbook's folder on the path, import, main()
     module = src.name[: src.name.rindex(".")]
     book = open_book(src)
