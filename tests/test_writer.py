@@ -657,3 +657,29 @@ def test_missing_folder_is_refused(tmp_path):
     with pytest.raises(wzq.PlanError) as e:
         check_writable(tmp_path / "nope" / "plan.xlsx")
     assert "does not exist" in str(e.value)
+
+
+def test_headers_never_break_inside_a_word_or_a_unit():
+    # what LibreOffice printed in a column 11.5 wide: "Delay (veh-" / "h)"
+    assert w.wrapped_lines("Delay (veh-h)", 11) == ["Delay (veh-", "h)"]
+    # the unit's hyphen is written unbreakable, so the unit moves down whole
+    assert w.sheet_header("Delay (veh-h)") == "Delay (veh\u2011h)"
+    assert w.wrapped_lines(w.sheet_header("Delay (veh-h)"), 11) == ["Delay", "(veh\u2011h)"]
+    assert w.sheet_header("Work-zone delay (veh-h)") == "Work-zone delay (veh\u2011h)"
+    for header in ("Capacity (veh/h)", "Demand / capacity", "Work-zone delay (veh-h)"):
+        width = w.header_width(header, 9.5)
+        for room in (width - w.CELL_PADDING) / w.BOLD_CHAR, width / w.NARROW_CHAR:
+            lines = w.wrapped_lines(w.sheet_header(header), room)
+            assert all(len(x) <= room for x in lines), (header, lines)  # no word split
+            assert not any(x.endswith("-") for x in lines[:-1]), (header, lines)
+
+
+def test_results_status_column_holds_the_longest_status(fenwick):
+    _, book, _ = fenwick
+    ws = book[layout.RESULTS]
+    header, body = _table(ws, w.RESULTS_HEADER_ROW)
+    j = header.index("Status")
+    longest = max(len(r[j]) for r in body)
+    assert longest == len("over limit: queue length, delay")
+    width = ws.column_dimensions[openpyxl.utils.get_column_letter(j + 1)].width
+    assert width >= longest * w.BOLD_CHAR  # bold on the hours over a limit
