@@ -27,7 +27,7 @@ import wzq
 from wzq import report_charts as rc
 from wzq.lwr import simulate
 from wzq.planio import load_plan
-from wzq.report import build_report
+from wzq.report import MARGIN_BOTTOM, MARGIN_TOP, build_report
 from wzq.spacetime import space_time_figure
 from wzq.workbook.run import write_filled_workbook
 
@@ -108,10 +108,10 @@ def test_results_status_prints_whole_and_headers_keep_their_units(workbook_pdf, 
     for text in set(statuses) - {"ok"}:
         whole = re.escape(text) + r"(?=\s{2,}|\s*$)"  # the cell's text ends there
         assert len(re.findall(whole, results, re.M)) == statuses.count(text), text
-    assert "over limit: queue length, delay" in results
+    assert "over limit: queue length, delay, demand/capacity" in results
     # a header never breaks inside its unit ("Delay (veh-" / "h)")
     for line in results.splitlines():
-        assert not re.search(r"\((veh|min)[-\u2011]\s*$", line.rstrip()), line
+        assert not re.search(r"\((veh|min)[-\u2011](\s|$)", line), line
         assert not re.search(r"\bdema\s*$|\bDeman\s*$|\bCapacit\s*$", line.rstrip()), line
 
 
@@ -181,27 +181,51 @@ def test_start_sheet_title_clears_its_subtitle(workbook_pdf) -> None:
 
 
 @pytest.fixture(scope="module")
-def report_pages(week) -> list[str]:
-    pdf = build_report(week)
-    return [p.extract_text() for p in PdfReader(io.BytesIO(pdf)).pages]
+def report_pdf(week) -> PdfReader:
+    return PdfReader(io.BytesIO(build_report(week)))
+
+
+@pytest.fixture(scope="module")
+def report_pages(report_pdf) -> list[str]:
+    return [p.extract_text() for p in report_pdf.pages]
+
+
+def filled_share(page) -> float:
+    """How far down the body frame of a report page its text reaches (0 empty, 1 full):
+    from the top of the frame to the lowest text above the page footer."""
+    height = float(page.mediabox.height)
+    top = height - MARGIN_TOP
+    ys: list[float] = []
+
+    def visit(text, cm, tm, font, size) -> None:
+        y = tm[5] * cm[3] + tm[4] * cm[1] + cm[5]
+        if text.strip() and MARGIN_BOTTOM < y <= top + 1:
+            ys.append(y)
+
+    page.extract_text(visitor_text=visit)
+    return (top - min(ys)) / (top - MARGIN_BOTTOM) if ys else 0.0
 
 
 def test_report_says_plan_values_in_plain_words(report_pages) -> None:
-    inputs = " ".join(" ".join(p.split()) for p in report_pages if "Inputs" in p)
+    inputs = " ".join(
+        " ".join(p.split()) for p in report_pages if "Inputs" in p or "Lane closures" in p
+    )
     for words in ("commuters", "cones or drums", "Newell kinematic waves", "triangular (Newell)"):
         assert words in inputs, words
     for key in (" soft ", " commuter ", " newell "):
         assert key not in f" {inputs} ", key
 
 
-def test_report_pages_are_full_enough_and_carry_the_footer(report_pages) -> None:
+def test_report_pages_are_full_enough_and_carry_the_footer(report_pdf, report_pages) -> None:
     n = len(report_pages)
     for k, page in enumerate(report_pages, start=1):
         lines = [x for x in page.splitlines() if x.strip()]
         assert f"Page {k} of {n}" in page
         assert " ".join(wzq.CAUTION.split()[:6]) in " ".join(page.split())
-        # besides the page header and footer (4 lines), a page holds a section
         assert len(lines) > 10, (k, lines)
+    # no page holds a scrap alone (the closures table once had a page to itself)
+    shares = [filled_share(p) for p in report_pdf.pages]
+    assert min(shares) > 0.4, shares
     assert any("Space-time check" in p for p in report_pages)
 
 

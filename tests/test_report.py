@@ -161,6 +161,8 @@ def table_rows(texts: list[str], n_cells: int) -> dict[str, list[str]]:
     for t in texts:
         if HEADER not in t:
             continue
+        if "Hour by hour" in t:  # the table may share its first page with the closures
+            t = t[t.index("Hour by hour") :]
         lines = [x.strip() for x in t.splitlines()]
         for i, line in enumerate(lines):
             if HOUR_RE.match(line):

@@ -66,7 +66,8 @@ def test_a_wide_terminal_shows_every_column() -> None:
     row = next(x for x in out.splitlines() if x.startswith("Tue 2027-09-07 22:00"))
     # lanes open 1; demand 1,800; 865 + (1,800 - 1,435) = 1,230 queued at 23:00
     assert row.split()[3:6] == ["1", "1,800", "1,657"]
-    assert "1,230" in row and row.rstrip().endswith("over limit: queue length, delay")
+    assert "1,230" in row
+    assert row.rstrip().endswith("over limit: queue length, delay, demand/capacity")
 
 
 def test_fit_keeps_whole_priority_levels() -> None:

@@ -47,6 +47,7 @@ from reportlab.pdfbase.ttfonts import TTFont
 from reportlab.pdfgen import canvas as rl_canvas
 from reportlab.platypus import (
     BaseDocTemplate,
+    CondPageBreak,
     Flowable,
     Frame,
     Image,
@@ -635,7 +636,7 @@ def closures_block(result: Result, st: Styles, width: float) -> list[Flowable]:
                 Paragraph(text(c.note), st.small),
             ]
         )
-    fixed = [26, 92, 92, 38, 52, 64, 58, 58, 68, 68]
+    fixed = [26, 92, 92, 38, 52, 74, 58, 58, 68, 68]
     widths = [*fixed, max(width - sum(fixed), 60)]
     t = LongTable(rows, colWidths=widths, repeatRows=1, hAlign="LEFT")
     t.setStyle(
@@ -1178,13 +1179,16 @@ def build_report(
     width, height = frame._aW, frame._aH
     story: list[Flowable] = []
     story += title_block(result, st, width, generated, source)
+    # a section that needs a page of its own starts one; the others start a new page
+    # only when less than a third of the page is left (no page holds a scrap alone)
+    soft = CondPageBreak(height / 3)
     story += [PageBreak(), *inputs_section(result, st, width)]
-    story += [PageBreak(), *hourly_section(result, st, width)]
+    story += [soft, *hourly_section(result, st, width)]
     story += [PageBreak(), *charts_section(result, st, width, height, vector)]
-    story += [PageBreak(), *windows_section(result, st, width)]
+    story += [soft, *windows_section(result, st, width)]
     if plan.options.space_time:
         story += [PageBreak(), *space_time_section(result, st, width, height, vector)]
-    story += [PageBreak(), *method_section(result, st, width)]
+    story += [soft, *method_section(result, st, width)]
     try:
         doc.build(story, canvasmaker=NumberedCanvas)
     except LayoutError:
