@@ -7,7 +7,11 @@ table:
 - ``kestrel_ridge_weeknight.xlsx``: two night closures on the fictional
   Kestrel Ridge Parkway (one lane, then two of three lanes);
 - ``fenwick_downs_weekend.xlsx``: a Saturday daytime closure on the fictional
-  Fenwick Downs Motorway that builds a long queue.
+  Fenwick Downs Motorway that builds a long queue;
+- ``ashgrove_bypass_week.xlsx``: a week of hourly demand on the fictional
+  Ashgrove Bypass (three lanes) with two night closures of two lanes and a
+  Saturday daytime closure of one lane: several queues, one of them far longer
+  than the advance warning signs, and the space-time picture.
 
     python examples/build_examples.py
 """
@@ -21,7 +25,7 @@ from wzq.planio import load_plan
 from wzq.workbook.run import write_filled_workbook
 
 HERE = Path(__file__).resolve().parent
-PLANS = ("kestrel_ridge_weeknight", "fenwick_downs_weekend")
+PLANS = ("kestrel_ridge_weeknight", "fenwick_downs_weekend", "ashgrove_bypass_week")
 
 
 def main() -> int:

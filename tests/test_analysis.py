@@ -6,6 +6,7 @@ each check, never taken from the code's output.
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 
 import numpy as np
@@ -269,6 +270,37 @@ def test_warnings_for_queue_left_at_end_and_long_overload() -> None:
     assert "still stands at the end" in text
     assert "7.0 hours in a row" in text
     assert r.summary.last_queue_clears is None
+
+
+def test_a_queue_beyond_the_advance_warning_signs_is_warned_of() -> None:
+    """The three advance warning signs of a freeway lane closure stand 1,000, 1,500 and
+    2,640 ft apart from the taper (MUTCD 2009, Table 6H-3): 5,140 ft = 0.9735 mi.
+
+    The invented week's Tuesday night closure (examples/ashgrove_bypass_week.json)
+    stores 865 + 365 = 1,230 vehicles (demand 2,300 and 1,800 veh/h against a queue
+    discharge rate of 1,435 veh/h, see tests/test_terminal.py); even packed at jam
+    density, 190 pc/mi/ln x f_HV 1/1.08 = 175.9 veh/mi/ln over 3 lanes, that is at
+    least 1,230 / 527.8 = 2.33 mi: beyond the signs, so warned, although demand
+    exceeds capacity for two hours only (the long-overload warning needs six)."""
+    from pathlib import Path
+
+    from wzq.analysis import ADVANCE_WARNING_REACH_M
+    from wzq.planio import load_plan
+
+    assert ADVANCE_WARNING_REACH_M / MILE == pytest.approx(5140 / 5280)
+    week = load_plan(Path(__file__).resolve().parents[1] / "examples/ashgrove_bypass_week.json")
+    tuesday, thursday, _ = week.closures
+    r = analyse(dataclasses.replace(week, closures=(tuesday,)))
+    assert r.summary.max_queue_veh == pytest.approx(1230.0, abs=0.5)
+    assert r.summary.max_queue_length_m / MILE >= 1230 / (3 * 190 / 1.08) - 1e-9
+    warning = next(w for w in r.warnings if "beyond the advance warning signs" in w)
+    assert f"reaches {r.summary.max_queue_length_m / MILE:,.1f} mi" in warning
+    assert "hours in a row" not in " ".join(r.warnings)
+    # the rule: warned exactly when the longest queue reaches past the signs
+    for closures in ((thursday,), week.closures, ()):
+        r = analyse(dataclasses.replace(week, closures=closures))
+        warned = any("beyond the advance warning signs" in w for w in r.warnings)
+        assert warned == (r.summary.max_queue_length_m > ADVANCE_WARNING_REACH_M)
 
 
 def test_bad_plans_raise_plan_error_with_every_problem() -> None:

@@ -335,6 +335,48 @@ def test_resume_reanalyses_only_changed_plans(fifty: Path, tmp_path: Path) -> No
     assert all(o.reused for o in seen) and len(seen) == 6
 
 
+def test_resume_counts_say_what_was_kept_and_the_summary_names_each_plan(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    """Two good plans and a broken one, run, then resumed with nothing changed: the
+    counts must add up (2 analysed, both kept; 1 not analysed, unchanged), never
+    "2 of 3 analysed, 3 unchanged"."""
+    folder = tmp_path / "plans"
+    folder.mkdir()
+    for k in (1, 2):
+        plan = variant(k)
+        title = f"Variant {k}: {plan.meta.title}"
+        save_plan(dataclasses.replace(plan, meta=dataclasses.replace(plan.meta, title=title)),
+                  folder / f"plan_{k}.json")  # fmt: skip
+    _broken_json(folder)[0].unlink()  # keep one broken plan: zero lanes
+    assert main(["batch", str(folder), "--workers", "1"]) == 2
+    capsys.readouterr()
+    assert main(["batch", str(folder), "--workers", "1", "--resume"]) == 2
+    out, err = capsys.readouterr()
+    assert re.search(
+        r"2 of 3 plans analysed in [\d.]+ s \(2 of them unchanged since the last summary, "
+        r"results kept\)",
+        out,
+    ), out
+    assert "1 plan could not be analysed (1 of them unchanged since the last summary)" in err
+    run = openpyxl.load_workbook(folder / batch.DEFAULT_SUMMARY)["Run"]
+    lines = [(a, b) for a, b in run.iter_rows(min_row=3, max_col=2, values_only=True) if a]
+    counts = {a: b for a, b in lines if isinstance(b, int)}
+    assert counts["Plan files"] == 3
+    assert counts["Analysed"] == 2
+    assert counts["of which unchanged since the last summary (results kept)"] == 2
+    assert counts["Not analysed (sheet Problems)"] == 1
+    assert counts["of which unchanged since the last summary"] == 1
+    # variants of one plan told apart by their titles, not only by their file names
+    header, *rows = _sheet(folder / batch.DEFAULT_SUMMARY, PLANS_SHEET)
+    assert header[:2] == ("Plan file", "Plan title")
+    assert {r[0]: r[1] for r in rows} == {
+        "plan_1.json": f"Variant 1: {variant(1).meta.title}",
+        "plan_2.json": f"Variant 2: {variant(2).meta.title}",
+    }
+    assert _csv(folder / "batch-summary.csv")[0]["title"].startswith("Variant ")
+
+
 def test_resume_with_write_back_keeps_the_written_fingerprint(fifty: Path, tmp_path: Path) -> None:
     folder = tmp_path / "wb"
     folder.mkdir()

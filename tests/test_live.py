@@ -52,6 +52,8 @@ from wzq.workbook.writer import RESULTS_HEADER_ROW
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"
 FENWICK = EXAMPLES / "fenwick_downs_weekend.json"
+#: A week with three queues: one cumulative chart per queue.
+ASHGROVE = EXAMPLES / "ashgrove_bypass_week.json"
 RUN_TIME = "2027-04-30T12:00:00Z"
 OUTPUTS = layout.OUTPUT_SHEETS
 
@@ -67,6 +69,7 @@ def filled(tmp_path_factory) -> dict[str, Path]:
     return {
         "kestrel": fill_template(load_plan(KESTREL), folder / "kestrel.xlsm", macro=True),
         "fenwick": fill_template(load_plan(FENWICK), folder / "fenwick.xlsx"),
+        "ashgrove": fill_template(load_plan(ASHGROVE), folder / "ashgrove.xlsx"),
     }
 
 
@@ -172,21 +175,41 @@ def _file_charts(ws) -> list[list[tuple]]:
     return out
 
 
-@pytest.mark.parametrize("which", ["kestrel", "fenwick"])
+#: The queues of each example (one cumulative chart each). Ashgrove by hand from its
+#: queue discharge rates (1,435 veh/h with two of three lanes closed at night, 3,336 with
+#: one closed by day, 6,200 on the open road): Tuesday 865 + 365 = 1,230 veh at 23:00,
+#: 994 at 00:00, 259 at 01:00, gone 259 / (1,435 - 480) h = 16 min later; Thursday 365,
+#: then 130 at 00:00, gone 130 / (1,435 - 750) h = 11 min later; Saturday 997 at 18:00,
+#: gone 997 / (6,200 - 3,100) h = 19 min later.
+QUEUE_CHARTS = {
+    "kestrel": ["Queue Tue 2027-05-04 22:00 to Wed 00:26"],
+    "fenwick": ["Queue Sat 2027-06-12 09:00 to 18:20"],
+    "ashgrove": [
+        "Queue Tue 2027-09-07 21:00 to Wed 01:16",
+        "Queue Thu 2027-09-09 22:00 to Fri 00:11",
+        "Queue Sat 2027-09-11 10:00 to 18:19",
+    ],
+}
+
+
+@pytest.mark.parametrize("which", ["kestrel", "fenwick", "ashgrove"])
 def test_live_charts_read_the_same_cells_as_the_file_charts(both, which):
     wb, book, _ = both[which]
     for name in OUTPUTS:
         views = chart_views(book._sheet(name))
         assert [v.series for v in views] == _file_charts(wb[name]), name
     charts = chart_views(book._sheet(layout.CHARTS))
-    assert len(charts) == 3
     # the queue chart: bars from the Results sheet, the limit line from the Charts sheet
     assert {s[2].split("!")[0] for s in charts[1].series} == {layout.RESULTS, layout.CHARTS}
     assert [v.title for v in charts] == [
-        "Demand and capacity by hour",
+        "Demand, capacity and queue discharge rate by hour",
         "Longest queue by hour",
-        "Cumulative arrivals and departures",
+        *QUEUE_CHARTS[which],
     ]
+    # each queue's chart: arrivals and departures over the same times, from the Charts sheet
+    for view in charts[2:]:
+        assert [s[3] for s in view.series] == ["xy_scatter_lines_no_markers"] * 2
+        assert {s[2].split("!")[0] for s in view.series} == {layout.CHARTS}
 
 
 def test_what_excel_cannot_do_is_skipped_and_listed_on_the_run_log(both, filled, monkeypatch):
@@ -214,7 +237,7 @@ def test_what_excel_cannot_do_is_skipped_and_listed_on_the_run_log(both, filled,
     )
     assert any("horizontal_alignment" in s and "Excel refused" in s for s in outcome.skipped)
     queue_chart = chart_views(book._sheet(layout.CHARTS))[1]
-    assert [s[2] for s in queue_chart.series] == ["Results!I5:I76"]  # the bars only
+    assert [s[2] for s in queue_chart.series] == ["Results!J5:J76"]  # the bars only
     log = [v for (r, c), v in sorted(book._values(layout.RUN_LOG).items()) if c == 1]
     note = log.index(
         "Not carried into this workbook by the Recalculate button (wzq run writes them):"
@@ -611,13 +634,17 @@ def test_the_button_runs_the_entry_module_and_survives_wzq_run_twice(
     assert f"wrote {entry_path(src)}" in capsys.readouterr().out
     for _ in range(2):
         assert main(["run", str(src)]) == 0
-    # the macro (xlwings' quickstart_standalone.xlsm, Module1) imports the module named like
-    # the workbook and calls its main(); the Start sheet's button is assigned to it
-    code = _macros(src)["Module1.bas"]
-    assert "Sub SampleCall()" in code
-    assert "mymodule = Left(ThisWorkbook.Name, (InStrRev(ThisWorkbook.Name, " in code
-    assert 'RunPython "import " & mymodule & ";" & mymodule & ".main()"' in code
-    assert _button_macros(src) == ["[0]!SampleCall"]
+    # the macro (our module WzqButton in xlwings' standalone project) imports the module
+    # named like the workbook and calls its main() through xlwings' RunPython, as the
+    # quickstart's sample macro does; the Start sheet's button is assigned to it
+    macros = _macros(src)
+    code = macros["WzqButton.bas"]
+    assert "Sub RecalculatePlan()" in code
+    assert "entry = Left(ThisWorkbook.Name, InStrRev(ThisWorkbook.Name, " in code
+    assert 'RunPython "import " & entry & ";" & entry & ".main()"' in code
+    assert "Function RunPython(" in macros["xlwings.bas"]
+    assert not any("SampleCall" in c for c in macros.values())
+    assert _button_macros(src) == ["[0]!RecalculatePlan"]
     # what RunPython then does: the workbook's folder on the path, import, main()
     module = src.name[: src.name.rindex(".")]
     book = open_book(src)

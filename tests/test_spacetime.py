@@ -96,11 +96,16 @@ def test_lines_are_the_two_backs_of_the_queue(sim):
     result = wzq.analyse(larkspur_plan())
     assert engine == pytest.approx(result.summary.max_queue_length_m / 1000.0, rel=1e-6)
     labels = [t.get_text() for t in ax.get_legend().get_texts()]
-    assert labels == [
-        "Back of queue, LWR simulation",
-        "Back of queue, Newell",
-        "Lane closure",
+    assert labels == ["Back of queue, LWR simulation", "Back of queue, Newell"]
+    # the closures have a strip of their own under the picture, numbered as in the plan,
+    # so no bar covers a short queue near the closure (distance 0)
+    strip = fig.axes[1]
+    assert strip.get_ylabel() == "Closure"
+    assert [t.get_text() for t in strip.texts] == [
+        str(i) for i in range(1, len(sim.run.plan.closures) + 1)
     ]
+    assert strip.get_xlabel() == "Time (local clock)"
+    assert ax.get_ylim()[0] == 0.0
 
 
 def test_units_follow_the_plan_and_caution_is_shown():
@@ -108,10 +113,10 @@ def test_units_follow_the_plan_and_caution_is_shown():
     us = space_time_figure(lwr.simulate(larkspur_plan("us"), cells=40))
     assert metric.axes[0].get_ylabel() == "Distance upstream of the closure (km)"
     assert us.axes[0].get_ylabel() == "Distance upstream of the closure (mi)"
-    assert metric.axes[1].get_ylabel() == "Speed (km/h)"
-    assert us.axes[1].get_ylabel() == "Speed (mi/h)"
-    texts = [t.get_text() for t in metric.axes[0].texts]
-    assert wzq.CAUTION in texts
+    # axes: the picture, the closure strip, the colour bar
+    assert metric.axes[2].get_ylabel() == "Speed (km/h)"
+    assert us.axes[2].get_ylabel() == "Speed (mi/h)"
+    assert wzq.CAUTION in metric._supxlabel.get_text()
     # the top of the distance axis is the modelled stretch: default 1.5 x the
     # engine's longest queue + 1 km, rounded up to 500 m
     result = wzq.analyse(larkspur_plan())

@@ -130,23 +130,36 @@ def test_xlsx_has_no_macros(built: dict[bool, Path]) -> None:
     assert not any("vml" in n for n in names)
 
 
+def _modules(vba: bytes) -> dict[str, str]:
+    """Module file name -> source, as oletools' olevba extracts them."""
+    return {name: code for _, _, name, code in VBA_Parser("vba.bin", data=vba).extract_macros()}
+
+
 def test_xlsm_embeds_the_xlwings_vba_project_and_a_button(built: dict[bool, Path]) -> None:
     p = parts(built[True])
     spec = importlib.util.find_spec("xlwings")
     assert spec is not None and spec.submodule_search_locations
     source = Path(spec.submodule_search_locations[0]) / "quickstart_standalone.xlsm"
     with zipfile.ZipFile(source) as z:
-        assert p["xl/vbaProject.bin"] == z.read("xl/vbaProject.bin")
-    modules = {
-        name: code
-        for _, _, name, code in VBA_Parser(
-            "vbaProject.bin", data=p["xl/vbaProject.bin"]
-        ).extract_macros()
-    }
-    assert "Sub SampleCall()" in modules["Module1.bas"]
+        theirs = _modules(z.read("xl/vbaProject.bin"))
+    modules = _modules(p["xl/vbaProject.bin"])
+    # xlwings' standalone code as xlwings wrote it, its sample module replaced by ours
+    assert set(modules) == set(theirs) - {"Module1.bas"} | {"WzqButton.bas"}
+    for name in ("xlwings.bas", "Dictionary.cls"):
+        assert modules[name] == theirs[name], name
+    ours = modules["WzqButton.bas"]
+    assert 'Attribute VB_Name = "WzqButton"' in ours
+    assert "Sub RecalculatePlan()" in ours
+    # the same call as the quickstart's sample macro: import the module named like the
+    # workbook and run its main() through xlwings' RunPython
+    assert "Left(ThisWorkbook.Name, (InStrRev(ThisWorkbook.Name" in theirs["Module1.bas"]
+    assert "entry = Left(ThisWorkbook.Name, InStrRev(ThisWorkbook.Name, " in ours
+    assert 'RunPython "import " & entry & ";" & entry & ".main()"' in ours
+    assert "Function RunPython(" in modules["xlwings.bas"]
+    assert not any("SampleCall" in code for code in modules.values())
     assert {"Sheet1.cls", "Sheet2.cls", "ThisWorkbook.cls"} <= set(modules)
     vml = p["xl/drawings/vmlDrawing1.vml"].decode()
-    assert "<x:FmlaMacro>[0]!SampleCall</x:FmlaMacro>" in vml
+    assert "<x:FmlaMacro>[0]!RecalculatePlan</x:FmlaMacro>" in vml
     assert "Recalculate" in vml
     assert 'codeName="ThisWorkbook"' in p["xl/workbook.xml"].decode()
     assert 'codeName="Sheet1"' in p["xl/worksheets/sheet1.xml"].decode()
@@ -168,7 +181,7 @@ def test_xlsm_macros_survive_repeated_openpyxl_saves(
     p = parts(path)
     assert p["xl/vbaProject.bin"] == parts(built[True])["xl/vbaProject.bin"]
     vml = [v.decode() for n, v in p.items() if n.endswith(".vml")]
-    assert any("SampleCall" in v and "Recalculate" in v for v in vml)
+    assert any("RecalculatePlan" in v and "Recalculate" in v for v in vml)
 
 
 def test_rebuild_gives_the_same_parts(built: dict[bool, Path], tmp_path: Path) -> None:

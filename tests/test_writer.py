@@ -63,7 +63,8 @@ def kestrel(tmp_path_factory) -> tuple[wzq.Result, openpyxl.Workbook, Path]:
 
 def _table(ws, header_row: int) -> tuple[list[str], list[tuple]]:
     rows = list(ws.iter_rows(min_row=header_row, values_only=True))
-    header = list(rows[0])
+    # a unit's hyphen is written unbreakable (U+2011) so that it never wraps there
+    header = [h.replace(w.NO_BREAK_HYPHEN, "-") if isinstance(h, str) else h for h in rows[0]]
     body = []
     for row in rows[1:]:
         if row[0] is None:
@@ -228,7 +229,7 @@ def test_permit_table_page_setup(fenwick):
     assert ws.print_title_rows == f"${hr}:${hr}"
     assert "&P" in ws.oddFooter.center.text and "&N" in ws.oddFooter.center.text
     area = ws.print_area
-    assert re.fullmatch(r"'Permit table'!\$A\$1:\$N\$\d+", area), area
+    assert re.fullmatch(r"'Permit table'!\$A\$1:\$O\$\d+", area), area
     last = int(area.rsplit("$", 1)[1])
     texts = [c.value for row in ws.iter_rows(min_row=hr, max_row=last, max_col=1) for c in row]
     assert wzq.CAUTION in texts
@@ -328,7 +329,9 @@ def test_summary_sheet_has_the_headline_lines_warnings_and_caution(fenwick):
     longest = _column(book[layout.RESULTS], w.RESULTS_HEADER_ROW, "Longest queue (km)")
     assert km == max(longest)  # the same rounded number as the hourly table
     assert lines["Last queue clears"] == "Sat 2027-06-12 18:20"  # see the clearing test below
-    assert len(result.warnings) == 2
+    # eight hours of overload, the queue beyond the advance warning signs, one lane
+    # open on rolling terrain
+    assert len(result.warnings) == 3
     for warning in result.warnings:
         assert warning in values
     assert wzq.CAUTION in values
@@ -343,7 +346,7 @@ def test_run_log_records_version_time_fingerprint_and_source(fenwick):
     assert log["Source file"] == FENWICK.name
     assert log["Input fingerprint (SHA-256)"] == w.input_fingerprint(result.plan)
     assert log["Hours analysed"] == 48
-    assert log["Warnings"] == 2
+    assert log["Warnings"] == 3
     assert wzq.CAUTION in [r[0] for r in ws.iter_rows(values_only=True)]
 
 
@@ -369,17 +372,18 @@ def test_three_native_charts_with_axis_titles_and_units(fenwick):
     with zipfile.ZipFile(path) as z:
         names = [n for n in z.namelist() if n.startswith("xl/charts/chart")]
         xml = {n: z.read(n).decode() for n in names}
-    # three on the Charts sheet, one (hours allowed) on the Closure windows sheet
+    # three on the Charts sheet (one queue, so one cumulative chart), one (hours
+    # allowed) on the Closure windows sheet
     assert len(names) == 4
     assert len(ws._charts) == 3
     joined = " ".join(x for x in xml.values() if "Closure windows" not in x)
     for title in (
-        "Demand and capacity by hour",
+        "Demand, capacity and queue discharge rate by hour",
         "Longest queue by hour",
-        "Cumulative arrivals and departures",
+        "Queue Sat 2027-06-12 09:00 to 18:20",  # the queue's own chart
         "Flow (veh/h)",
         "Longest queue (km)",
-        "Cumulative vehicles (veh)",
+        "Vehicles since Sat 08:00",  # counted from an hour before the queue forms
         "Time (local clock)",
     ):
         assert title in joined, title
@@ -653,3 +657,29 @@ def test_missing_folder_is_refused(tmp_path):
     with pytest.raises(wzq.PlanError) as e:
         check_writable(tmp_path / "nope" / "plan.xlsx")
     assert "does not exist" in str(e.value)
+
+
+def test_headers_never_break_inside_a_word_or_a_unit():
+    # what LibreOffice printed in a column 11.5 wide: "Delay (veh-" / "h)"
+    assert w.wrapped_lines("Delay (veh-h)", 11) == ["Delay (veh-", "h)"]
+    # the unit's hyphen is written unbreakable, so the unit moves down whole
+    assert w.sheet_header("Delay (veh-h)") == "Delay (veh\u2011h)"
+    assert w.wrapped_lines(w.sheet_header("Delay (veh-h)"), 11) == ["Delay", "(veh\u2011h)"]
+    assert w.sheet_header("Work-zone delay (veh-h)") == "Work-zone delay (veh\u2011h)"
+    for header in ("Capacity (veh/h)", "Demand / capacity", "Work-zone delay (veh-h)"):
+        width = w.header_width(header, 9.5)
+        for room in (width - w.CELL_PADDING) / w.BOLD_CHAR, width / w.NARROW_CHAR:
+            lines = w.wrapped_lines(w.sheet_header(header), room)
+            assert all(len(x) <= room for x in lines), (header, lines)  # no word split
+            assert not any(x.endswith("-") for x in lines[:-1]), (header, lines)
+
+
+def test_results_status_column_holds_the_longest_status(fenwick):
+    _, book, _ = fenwick
+    ws = book[layout.RESULTS]
+    header, body = _table(ws, w.RESULTS_HEADER_ROW)
+    j = header.index("Status")
+    longest = max(len(r[j]) for r in body)
+    assert longest == len("over limit: queue length, delay")
+    width = ws.column_dimensions[openpyxl.utils.get_column_letter(j + 1)].width
+    assert width >= longest * w.BOLD_CHAR  # bold on the hours over a limit

@@ -31,7 +31,7 @@ from wzq.flow import FundamentalDiagram, Triangular, make_diagram
 from wzq.plan import NIGHT_END_HOUR, NIGHT_START_HOUR, Closure, Plan, Site, Thresholds
 from wzq.queueing import QueueRun, solve, waits
 from wzq.shockwave import stored_density
-from wzq.units import FOOT, HOUR, MILE, MPH, per_mile_to_per_m
+from wzq.units import FOOT, HOUR, LONG_LENGTH, MILE, MPH, per_mile_to_per_m
 
 #: HCM 7th ed. default jam density, pc/mi/ln (ch. 25; range 150-270).
 JAM_DENSITY_PC_MI_LN = 190.0
@@ -40,6 +40,13 @@ FFS_ABOVE_LIMIT_MPH = 5.0
 #: Consecutive hours of demand above capacity that earn a warning
 #: (common practice, no source).
 LONG_OVERLOAD_HOURS = 6
+#: Reach of the advance warning signs of a freeway lane closure, m: the three signs
+#: stand 1,000, 1,500 and 2,640 ft apart from the start of the taper upstream (MUTCD
+#: 2009, Table 6H-3, expressway/freeway: 5,140 ft, about 1 mi). A queue reaching
+#: beyond them earns a warning: drivers meet its back unwarned, and many divert from
+#: queues that long, which deterministic queueing does not represent (using the sign
+#: spacing as the trigger is common practice, no source).
+ADVANCE_WARNING_REACH_M = (1000 + 1500 + 2640) * FOOT
 
 
 @dataclass(frozen=True)
@@ -621,6 +628,9 @@ def _warnings(r: Run) -> list[str]:
                 f"demand is above capacity for {longest / HOUR:.1f} hours in a row; "
                 "deterministic queueing is least reliable for such long overloads"
             )
+    long_queue = _long_queue_warning(r)
+    if long_queue:
+        out.append(long_queue)
     if r.queue.queue[-1] > 0:
         out.append(
             f"a queue of {r.queue.queue[-1]:,.0f} vehicles still stands at the end of the "
@@ -638,6 +648,33 @@ def _warnings(r: Run) -> list[str]:
                 "work-zone model advises caution for one open lane on upgrades"
             )
     return out
+
+
+def _longest_queue(r: Run) -> tuple[float, float]:
+    """The longest queue (m) and when (s from the start of the demand)."""
+    if r.back_of_queue is not None:
+        ext = r.back_of_queue.extent
+        return ext.max_m, ext.at_s if ext.at_s is not None else 0.0
+    lengths = np.concatenate((r.length_start, r.length_end))
+    i = int(np.argmax(lengths))
+    return float(lengths[i]), float(np.concatenate((r.t[:-1], r.t[1:]))[i])
+
+
+def _long_queue_warning(r: Run) -> str | None:
+    """A warning when the queue reaches beyond the advance warning signs
+    (:data:`ADVANCE_WARNING_REACH_M`), whatever the agency's own limit."""
+    longest, at = _longest_queue(r)
+    if longest <= ADVANCE_WARNING_REACH_M:
+        return None
+    name, per = LONG_LENGTH[r.plan.site.unit_system]
+    return (
+        f"the queue reaches {longest / per:,.1f} {name} upstream of the closure "
+        f"({_clock(r, at):%a %Y-%m-%d %H:%M}), beyond the advance warning signs of a freeway "
+        f"lane closure (about {ADVANCE_WARNING_REACH_M / per:,.1f} {name}, MUTCD 2009 "
+        "Table 6H-3): drivers would meet its back unwarned, so extend the warning signs or "
+        "add queue warning; many drivers divert from a queue that long, which this "
+        "deterministic model does not represent"
+    )
 
 
 def analyse(plan: Plan) -> Result:

@@ -665,9 +665,10 @@ def run_batch(
         runner=runner,
         plans=len(outcomes),
         analysed=sum(o.analysed for o in outcomes),
-        reused=result.reused,
+        reused=sum(o.reused and o.analysed for o in outcomes),
         not_analysed=len(result.not_analysed),
         seconds=seconds,
+        reused_not_analysed=sum(o.reused and not o.analysed for o in outcomes),
     )
     write_summary(target, result.rows, result.issues, [o.state() for o in outcomes], info)
     result.seconds = time.perf_counter() - t0

@@ -109,7 +109,8 @@ def closing_summary(result: BatchResult, out: TextIO, err: TextIO) -> None:
     rows = result.rows
     bad = result.not_analysed
     over = sum(r.status == "over limit" for r in rows)
-    reused = f", {result.reused} unchanged since the last summary" if result.reused else ""
+    kept = sum(o.reused and o.analysed for o in result.outcomes)
+    reused = f" ({kept} of them unchanged since the last summary, results kept)" if kept else ""
     print(
         f"{len(rows)} of {n} plan{'s' if n != 1 else ''} analysed in "
         f"{result.seconds:.1f} s{reused}; {over} over a limit",
@@ -118,8 +119,10 @@ def closing_summary(result: BatchResult, out: TextIO, err: TextIO) -> None:
     if rows and rows[0].status == "over limit":
         w = rows[0]
         at = "" if w.max_queue_at is None else f" at {w.max_queue_at:%a %Y-%m-%d %H:%M}"
+        shown = "".join(ch for ch in w.title if ch.isprintable())  # no terminal controls
+        title = f" ({shown})" if shown else ""
         print(
-            f"worst: {printable(w.file)}, longest queue {w.max_queue_mi:.2f} mi / "
+            f"worst: {printable(w.file)}{title}, longest queue {w.max_queue_mi:.2f} mi / "
             f"{w.max_queue_km:.2f} km"
             f"{at}, {w.hours_over_limit} hour{'s' if w.hours_over_limit != 1 else ''} over "
             "a limit",
@@ -139,9 +142,11 @@ def closing_summary(result: BatchResult, out: TextIO, err: TextIO) -> None:
     if hidden > 0:
         print(f"wzq: ... and {hidden} more files; see the sheet Problems", file=err)
     if bad:
+        same = sum(o.reused for o in bad)
+        unchanged = f" ({same} of them unchanged since the last summary)" if same else ""
         print(
-            f"wzq: {len(bad)} plan{'s' if len(bad) != 1 else ''} could not be analysed; "
-            "they are listed on the sheet Problems of the summary",
+            f"wzq: {len(bad)} plan{'s' if len(bad) != 1 else ''} could not be analysed"
+            f"{unchanged}; they are listed on the sheet Problems of the summary",
             file=err,
         )
     print(wzq.CAUTION, file=out)

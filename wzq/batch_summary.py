@@ -83,6 +83,7 @@ class PlanRow:
     """The summary of one analysed plan, rounded as shown (plan units and both mi and km)."""
 
     file: str
+    title: str
     site: str
     direction: str
     closure_start: dt.datetime | None
@@ -120,6 +121,7 @@ class SummaryColumn:
 DATE_FORMAT = "yyyy-mm-dd hh:mm"
 COLUMNS: tuple[SummaryColumn, ...] = (
     SummaryColumn("file", "Plan file", 22, wrap=True),
+    SummaryColumn("title", "Plan title", 28, wrap=True),
     SummaryColumn("site", "Site", 24, wrap=True),
     SummaryColumn("direction", "Direction", 11, wrap=True),
     SummaryColumn("closure_start", "First closure starts", 16, DATE_FORMAT),
@@ -184,6 +186,7 @@ def plan_row(file: str, result: Result) -> PlanRow:
         basis = f"{plan.costs.currency} {plan.costs.dollar_year}"
     return PlanRow(
         file=file,
+        title=plan.meta.title,
         site=site.name,
         direction=site.direction,
         closure_start=min((c.start for c in closures), default=None),
@@ -391,9 +394,12 @@ class RunInfo:
     runner: str
     plans: int
     analysed: int
+    #: Of the analysed plans, those whose results were kept from the last summary.
     reused: int
     not_analysed: int
     seconds: float
+    #: Of the plans not analysed, those unchanged since the last summary.
+    reused_not_analysed: int = 0
 
 
 #: Points per line of wrapped text (11-point font), and the most lines a row shows.
@@ -497,8 +503,9 @@ def write_summary(
         ("Run on", info.runner),
         ("Plan files", info.plans),
         ("Analysed", info.analysed),
-        ("of which unchanged since the last summary", info.reused),
+        ("of which unchanged since the last summary (results kept)", info.reused),
         ("Not analysed (sheet Problems)", info.not_analysed),
+        ("of which unchanged since the last summary", info.reused_not_analysed),
         ("Seconds", round(info.seconds, 1)),
         (
             "Resume fingerprint",

@@ -7,11 +7,14 @@ line, with where it is), 1 an unexpected failure (please report it).
 from __future__ import annotations
 
 import argparse
+import re
 import sys
+import textwrap
 from collections.abc import Callable, Sequence
 from importlib import resources
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 
 import wzq
@@ -19,7 +22,8 @@ from wzq.analysis import Result
 from wzq.plan import Plan, PlanError
 from wzq.planio import load_plan
 from wzq.printable import printable, safe_streams
-from wzq.tables import hourly_display, summary_lines
+from wzq.tables import hourly_columns, hourly_display, summary_lines
+from wzq.terminal import TermColumn, console_width, print_table
 
 EXIT_OK = 0
 EXIT_FAILURE = 1
@@ -62,39 +66,82 @@ def load_any(path: Path) -> Plan:
     return read_plan(path)
 
 
+#: Terminal priority of each hourly column (1 is kept longest; see :mod:`wzq.terminal`).
+TERMINAL_PRIORITY = {
+    "demand_veh_h": 1,
+    "capacity_veh_h": 1,
+    "discharge_veh_h": 1,
+    "queue_length_max_m": 1,
+    "queue_max_veh": 2,
+    "average_delay_min": 2,
+    "delay_veh_h": 3,
+    "lanes_open": 3,
+    "max_queue_wait_min": 4,
+    "demand_capacity": 4,
+    "queue_end_veh": 5,
+}
+
+
+def terminal_header(header: str, width: int = 10) -> str:
+    """A display header in short lines, its unit on a line of its own:
+    ``Queue discharge rate (veh/h)`` -> ``Queue\ndischarge\nrate\n(veh/h)``."""
+    name, _, unit = header.partition(" (")
+    lines = textwrap.wrap(name, width) or [name]
+    return "\n".join(lines + ([f"({unit}"] if unit else []))
+
+
+def hourly_terminal_columns(result: Result, keep: np.ndarray | None = None) -> list[TermColumn]:
+    """The hourly table (:func:`wzq.tables.hourly_display`) as terminal columns."""
+    table = hourly_display(result)
+    if keep is not None:
+        table = table[keep]
+    cols = [TermColumn("Hour", list(table["Hour"]), 1, right=False)]
+    for c in hourly_columns(result.plan.site.unit_system):
+        cells = ["" if pd.isna(v) else f"{v:,.{c.decimals}f}" for v in table[c.header].to_numpy()]
+        cols.append(TermColumn(terminal_header(c.header), cells, TERMINAL_PRIORITY[c.source]))
+    status = list(table["Status"])
+    # wrap a status only between its items ("over limit:", "queue length,", "delay")
+    items = [x for text in status for x in re.split(r"(?<=[:,]) ", text)]
+    least = max((len(x) for x in items), default=2)
+    cols.append(TermColumn("Status", status, 1, right=False, wrap=True, min_width=least))
+    return cols
+
+
 def print_result(result: Result, *, all_hours: bool = False, out=None) -> None:
-    """A readable report of a result on the terminal."""
+    """A readable report of a result on the terminal, as wide as the terminal."""
     out = out or sys.stdout
     plan = result.plan
     title = plan.meta.title or plan.site.name or "Lane-closure plan"
-    print(title, file=out)
+    width = console_width(out)
+    for line in textwrap.wrap(title, width):
+        print(line, file=out)
     if plan.site.name and plan.meta.title:
         print(f"{plan.site.name}, {plan.site.direction}".rstrip(", "), file=out)
     print("", file=out)
-    width = max(len(k) for k, _ in summary_lines(result))
+    label_width = max(len(k) for k, _ in summary_lines(result))
+    indent = " " * (label_width + 4)
     for label, text in summary_lines(result):
-        print(f"  {label:<{width}}  {text}", file=out)
+        lines = textwrap.wrap(text, max(width - len(indent), 20)) or [""]
+        print(f"  {label:<{label_width}}  {lines[0]}", file=out)
+        for more in lines[1:]:
+            print(indent + more, file=out)
     print("", file=out)
-    table = hourly_display(result)
     h = result.hourly
     if not all_hours:
-        keep = h["closure"] | (h["queue_max_veh"] > 0) | (h["status"] != "ok")
+        keep = (h["closure"] | (h["queue_max_veh"] > 0) | (h["status"] != "ok")).to_numpy()
         hidden = int((~keep).sum())
-        table = table[keep.to_numpy()]
     else:
-        hidden = 0
-    with pd.option_context(
-        "display.width", 250, "display.max_columns", 40, "display.max_rows", 100_000
-    ):
-        print(table.to_string(index=False), file=out)
+        keep, hidden = None, 0
+    print_table(hourly_terminal_columns(result, keep), out, what="hourly table")
     if hidden:
         print(
             f"\n  ({hidden} open-road hours without a queue not shown; --all-hours shows them)",
             file=out,
         )
     for w in result.warnings:
-        print(f"\nwarning: {w}", file=out)
-    print(f"\n{wzq.CAUTION}", file=out)
+        print("", file=out)
+        print(textwrap.fill(f"warning: {w}", width, subsequent_indent="  "), file=out)
+    print(f"\n{wzq.CAUTION}", file=out)  # one line, as in every other output
 
 
 def cmd_demo(args: argparse.Namespace) -> int:
@@ -169,6 +216,7 @@ EXTRA_MODULES = (
     "wzq.report_cli",
     "wzq.batch_cli",
     "wzq.lwr_cli",
+    "wzq.office.commands",
 )
 #: Other modules add their sub-commands here (workbook, batch, report ...).
 EXTRA_COMMANDS: list[Callable[[argparse._SubParsersAction], None]] = []

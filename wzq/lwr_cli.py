@@ -11,10 +11,11 @@ import argparse
 import datetime as dt
 import os
 import sys
+import textwrap
 from pathlib import Path
 from typing import TextIO
 
-import pandas as pd
+import numpy as np
 
 import wzq
 from wzq import units as u
@@ -22,6 +23,7 @@ from wzq.cli import EXIT_OK, EXTRA_COMMANDS, load_any
 from wzq.lwr import Simulation, focus_window, simulate
 from wzq.plan import PlanError, Problem
 from wzq.tables import hour_label
+from wzq.terminal import TermColumn, console_width, print_table
 
 DESCRIPTION = """\
 Check the queue in space and time. The approach road upstream of the closure
@@ -84,13 +86,62 @@ def _when(at: dt.datetime | None) -> str:
     return "" if at is None else f", at {at:%a %Y-%m-%d %H:%M}"
 
 
+def engine_in_window(sim: Simulation) -> tuple[float, dt.datetime | None, float]:
+    """The engine's longest queue (m) and when, and its most vehicles queued, within
+    the simulated window only (so ``--closure N`` compares closure N with closure N)."""
+    a, b = sim.window
+    r = sim.run
+    t = np.concatenate(([a, b], r.t[(r.t > a) & (r.t < b)]))
+    newell = getattr(r, "back_of_queue", None)
+    if newell is not None:
+        t_len = np.concatenate((t, newell.times[(newell.times > a) & (newell.times < b)]))
+    else:
+        t_len = t
+    lengths = sim.engine_queue_length_m(t_len)
+    i = int(np.argmax(lengths))
+    longest = float(lengths[i])
+    at = None if longest <= 0 else sim.clock([t_len[i]]).round("s")[0].to_pydatetime()
+    return longest, at, float(sim.engine_queue_veh(t).max())
+
+
+def lwr_stored_veh(sim: Simulation) -> np.ndarray:
+    """Vehicles stored in the simulation's queue per time level: zero where the
+    simulation has no queue (there the scheme's numerical smoothing of free flow
+    leaves a few vehicles above the free-flow count, which are not a queue)."""
+    return np.where(sim.back_of_queue_m > 0, sim.stored_veh, 0.0)
+
+
+def comparison_columns(sim: Simulation) -> list[TermColumn]:
+    """The hours with a queue (engine or simulation), engine beside simulation."""
+    long_name, long_m = u.LONG_LENGTH[sim.run.plan.site.unit_system]
+    method = "Newell" if sim.engine_method == "newell" else "shockwave"
+    h = sim.hourly
+    lwr_queue = h["lwr_queue_length_max_m"].to_numpy() > 0
+    keep = (h["engine_queue_max_veh"].to_numpy() > 0) | lwr_queue
+    stored = np.where(lwr_queue, h["lwr_queue_max_veh"].to_numpy(), 0.0)
+
+    def cells(values, decimals: int) -> list[str]:
+        return [f"{v:,.{decimals}f}" for v in np.asarray(values, dtype=float)[keep]]
+
+    return [
+        TermColumn("Hour", [hour_label(t) for t in h.loc[keep, "hour_start"]], right=False),
+        TermColumn(f"Queue\nLWR\n({long_name})", cells(h["lwr_queue_length_max_m"] / long_m, 2)),
+        TermColumn(
+            f"Queue\n{method}\n({long_name})", cells(h["engine_queue_length_max_m"] / long_m, 2)
+        ),
+        TermColumn("Stored\nLWR\n(veh)", cells(stored, 0)),
+        TermColumn(f"Stored\n{method}\n(veh)", cells(h["engine_queue_max_veh"], 0)),
+        TermColumn("Delay\nLWR\n(veh-h)", cells(h["lwr_delay_veh_h"], 1), priority=2),
+        TermColumn(f"Delay\n{method}\n(veh-h)", cells(h["engine_queue_delay_veh_h"], 1), 2),
+    ]
+
+
 def print_comparison(sim: Simulation, out: TextIO) -> None:
-    """The headline figures and the hours with a queue, engine beside simulation."""
+    """The headline figures and the hours with a queue, engine beside simulation,
+    both over the simulated window only."""
     plan = sim.run.plan
     system = plan.site.unit_system
     long_name, long_m = u.LONG_LENGTH[system]
-    result = wzq.Result(sim.run)
-    s = result.summary
     method = "Newell" if sim.engine_method == "newell" else "shockwave"
     a, b = sim.clock([sim.window[0], sim.window[1]])
     print(f"Simulated {hour_label(a)} to {hour_label(b)}", file=out)
@@ -101,16 +152,17 @@ def print_comparison(sim: Simulation, out: TextIO) -> None:
         file=out,
     )
     print("", file=out)
+    longest, longest_at, most = engine_in_window(sim)
     rows = [
         (
             "Longest queue",
             f"{sim.max_queue_extent_m / long_m:,.2f} {long_name}" + _when(sim.max_queue_extent_at),
-            f"{s.max_queue_length_m / long_m:,.2f} {long_name}" + _when(s.max_queue_length_at),
+            f"{longest / long_m:,.2f} {long_name}" + _when(longest_at),
         ),
         (
             "Most vehicles stored",
-            f"{sim.max_stored_veh:,.0f} veh",
-            f"{s.max_queue_veh:,.0f} veh",
+            f"{lwr_stored_veh(sim).max():,.0f} veh",
+            f"{most:,.0f} veh",
         ),
         (
             "Queueing delay",
@@ -119,31 +171,22 @@ def print_comparison(sim: Simulation, out: TextIO) -> None:
         ),
     ]
     width = max(len(r[0]) for r in rows)
-    col = max(len(r[1]) for r in rows) + 2
+    col = max(len(r[1]) for r in [*rows, ("", "LWR simulation", "")]) + 2
     print(f"  {'':<{width}}  {'LWR simulation':<{col}}engine ({method})", file=out)
     for label, ours, theirs in rows:
         print(f"  {label:<{width}}  {ours:<{col}}{theirs}", file=out)
-    h = sim.hourly
-    keep = (h["engine_queue_max_veh"] > 0) | (h["lwr_queue_max_veh"] >= 0.5)
-    if keep.any():
-        table = pd.DataFrame(
-            {
-                "Hour": [hour_label(t) for t in h.loc[keep, "hour_start"]],
-                f"Queue LWR ({long_name})": (h.loc[keep, "lwr_queue_length_max_m"] / long_m).round(
-                    2
-                ),
-                f"Queue {method} ({long_name})": (
-                    h.loc[keep, "engine_queue_length_max_m"] / long_m
-                ).round(2),
-                "Stored LWR (veh)": h.loc[keep, "lwr_queue_max_veh"].round(0).astype(int),
-                f"Stored {method} (veh)": h.loc[keep, "engine_queue_max_veh"].round(0).astype(int),
-                "Delay LWR (veh-h)": h.loc[keep, "lwr_delay_veh_h"].round(1),
-                f"Delay {method} (veh-h)": h.loc[keep, "engine_queue_delay_veh_h"].round(1),
-            }
-        )
+    note = (
+        "(both over the simulated hours only; the engine's delay here is its queueing "
+        "delay, without the slower travel through the work zone)"
+    )
+    print(
+        textwrap.fill(note, console_width(out), initial_indent="  ", subsequent_indent="   "),
+        file=out,
+    )
+    columns = comparison_columns(sim)
+    if columns[0].cells:
         print("", file=out)
-        with pd.option_context("display.width", 250, "display.max_columns", 20):
-            print(table.to_string(index=False), file=out)
+        print_table(columns, out, what="comparison")
     else:
         print("\n  No queue forms in the simulated hours.", file=out)
     for w in sim.warnings:

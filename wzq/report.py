@@ -47,6 +47,7 @@ from reportlab.pdfbase.ttfonts import TTFont
 from reportlab.pdfgen import canvas as rl_canvas
 from reportlab.platypus import (
     BaseDocTemplate,
+    CondPageBreak,
     Flowable,
     Frame,
     Image,
@@ -68,6 +69,7 @@ from wzq.analysis import Result
 from wzq.capacity import METHOD_LABELS
 from wzq.plan import PlanError, Problem
 from wzq.tables import hour_label, hourly_columns, hourly_display, summary_lines
+from wzq.workbook import layout as L
 
 #: Paper sizes offered (always used in landscape).
 PAPERS: dict[str, tuple[float, float]] = {"letter": LETTER, "a4": A4}
@@ -97,6 +99,10 @@ CHECKS = (
 )
 
 REPORT_KIND = "Lane-closure queue and delay calculation"
+
+#: Notes up to this many characters are printed beside the inputs; longer ones
+#: after the closures (they may then take a page of their own).
+SHORT_NOTES_CHARS = 600
 
 #: Longest text (characters) printed in a title-block line or a table cell; a
 #: longer one could not fit on a page. ``meta.notes`` has no limit.
@@ -193,6 +199,12 @@ def make_styles() -> Styles:
 def text(value: object) -> str:
     """User text made safe for paragraph markup (nothing dropped, ``<`` and ``&`` escaped)."""
     return escape(str(value)).replace("\n", "<br/>")
+
+
+def words(choices: L.Choices, value: object) -> str:
+    """The plain words the workbook shows for a plan value (``soft`` -> ``cones or
+    drums``), escaped for paragraph markup."""
+    return text(L.word_for(choices, value))
 
 
 def number(value: float | int, decimals: int) -> str:
@@ -440,13 +452,13 @@ def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
         ),
         ("Work-zone length", f"{u.m_to_long_length(s.work_zone_length, system):,.2f} {long_name}"),
         ("Heavy vehicles", f"{s.heavy_vehicle_share * 100:,.1f} %"),
-        ("Terrain", s.terrain),
-        ("Area type", s.area_type),
+        ("Terrain", words(L.TERRAIN_WORDS, s.terrain)),
+        ("Area type", words(L.AREA_WORDS, s.area_type)),
         (
             "Lateral clearance",
             f"{u.m_to_short_length(s.lateral_clearance, system):,.1f} {short_name}",
         ),
-        ("Driver population", s.driver_population),
+        ("Driver population", words(L.DRIVER_WORDS, s.driver_population)),
         ("Ramp density", f"{s.ramp_density * long_m:,.2f} per {long_name}"),
         (
             "Jam density",
@@ -535,8 +547,8 @@ def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
     o = plan.options
     option_rows = [
         ("Capacity drop", "on" if o.capacity_drop else "off"),
-        ("Fundamental diagram", o.diagram),
-        ("Queue length", o.queue_length_method),
+        ("Fundamental diagram", words(L.DIAGRAM_WORDS, o.diagram)),
+        ("Queue length", words(L.QUEUE_METHOD_WORDS, result.run.length_method)),
     ]
     half = (width - 12) / 2
     w2 = [0.36 * half, 0.64 * half]
@@ -555,6 +567,10 @@ def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
         + block("Demand", demand_rows)
         + block("Road-user cost", cost_rows)
     )
+    notes = plan.meta.notes
+    short_notes = bool(notes) and len(notes) <= SHORT_NOTES_CHARS
+    if short_notes:  # beside the inputs rather than alone on a page of its own
+        right += [Paragraph("Notes", st.h2), Paragraph(text(notes), st.body)]
     cols = Table([[left, right]], colWidths=[half + 12, half], hAlign="LEFT")
     cols.setStyle(
         TableStyle(
@@ -567,8 +583,8 @@ def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
     )
     out: list[Flowable] = [Paragraph("Inputs", st.h1), cols]
     out += closures_block(result, st, width)
-    if plan.meta.notes:
-        out += [Paragraph("Notes", st.h2), Paragraph(text(plan.meta.notes), st.body)]
+    if notes and not short_notes:
+        out += [Paragraph("Notes", st.h2), Paragraph(text(notes), st.body)]
     return out
 
 
@@ -610,7 +626,7 @@ def closures_block(result: Result, st: Styles, width: float) -> list[Flowable]:
                 hour_label(c.end),
                 f"{(c.end - c.start).total_seconds() / u.HOUR:,.2f}",
                 f"{c.lanes_closed} ({plan.site.lanes - c.lanes_closed})",
-                c.barrier,
+                Paragraph(words(L.BARRIER_WORDS, c.barrier), st.small),
                 night,
                 "-"
                 if c.capacity_override_veh_h_ln is None
@@ -620,7 +636,7 @@ def closures_block(result: Result, st: Styles, width: float) -> list[Flowable]:
                 Paragraph(text(c.note), st.small),
             ]
         )
-    fixed = [26, 92, 92, 38, 52, 40, 58, 58, 68, 68]
+    fixed = [26, 92, 92, 38, 52, 74, 58, 58, 68, 68]
     widths = [*fixed, max(width - sum(fixed), 60)]
     t = LongTable(rows, colWidths=widths, repeatRows=1, hAlign="LEFT")
     t.setStyle(
@@ -1163,13 +1179,16 @@ def build_report(
     width, height = frame._aW, frame._aH
     story: list[Flowable] = []
     story += title_block(result, st, width, generated, source)
+    # a section that needs a page of its own starts one; the others start a new page
+    # only when less than a third of the page is left (no page holds a scrap alone)
+    soft = CondPageBreak(height / 3)
     story += [PageBreak(), *inputs_section(result, st, width)]
-    story += [PageBreak(), *hourly_section(result, st, width)]
+    story += [soft, *hourly_section(result, st, width)]
     story += [PageBreak(), *charts_section(result, st, width, height, vector)]
-    story += [PageBreak(), *windows_section(result, st, width)]
+    story += [soft, *windows_section(result, st, width)]
     if plan.options.space_time:
         story += [PageBreak(), *space_time_section(result, st, width, height, vector)]
-    story += [PageBreak(), *method_section(result, st, width)]
+    story += [soft, *method_section(result, st, width)]
     try:
         doc.build(story, canvasmaker=NumberedCanvas)
     except LayoutError:

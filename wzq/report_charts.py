@@ -20,7 +20,6 @@ Each figure is returned as a :class:`matplotlib.figure.Figure`;
 
 from __future__ import annotations
 
-import datetime as dt
 import io
 from dataclasses import dataclass
 
@@ -32,7 +31,14 @@ from matplotlib.patches import Patch
 
 from wzq import units as u
 from wzq.analysis import Result
-from wzq.tables import hour_label
+from wzq.tables import (  # noqa: F401  (re-exported: the report's names)
+    MAX_PANELS,
+    Episode,
+    episode_title,
+    episode_window,
+    queue_episodes,
+    shown_episodes,
+)
 from wzq.units import HOUR
 
 #: Line and fill shades (grey levels, black and white printing).
@@ -44,8 +50,6 @@ QUEUE_FILL = "0.78"
 
 #: Hours of context drawn either side of a queue in the cumulative diagram.
 CONTEXT_H = 1.0
-#: Most queue episodes shown in the cumulative diagram (the largest are kept).
-MAX_PANELS = 6
 
 #: The charts' font: shipped with matplotlib, and embedded by the report too.
 FONT_FAMILY = "DejaVu Sans"
@@ -141,48 +145,41 @@ def cumulative_profile(result: Result) -> Profile:
     return Profile(t[keep], {"arrivals": arr[keep], "departures": dep[keep]})
 
 
-@dataclass(frozen=True)
-class Episode:
-    """One queue: from the instant it forms to the instant it clears (s)."""
-
-    start: float
-    end: float
-    max_queue_veh: float
-    max_at: float
-
-
-def queue_episodes(result: Result) -> list[Episode]:
-    """Every busy period of the run, in time order."""
-    r = result.run
-    q = r.queue
-    busy = q.busy > 0
-    out: list[Episode] = []
-    if not busy.any():
-        return out
-    edges = np.diff(np.concatenate(([0], busy.astype(np.int8), [0])))
-    for a, b in zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1), strict=True):
-        end = float(r.t[b - 1] + q.busy[b - 1])
-        seg = q.queue[a : b + 1]
-        j = int(np.argmax(seg))
-        out.append(Episode(float(r.t[a]), end, float(seg[j]), float(r.t[a + j])))
-    return out
-
-
 def _dates(result: Result, seconds: np.ndarray) -> np.ndarray:
     start = np.datetime64(result.plan.demand.start, "ms")
     stamps = start + (np.asarray(seconds, dtype=float) * 1000).round().astype("timedelta64[ms]")
     return mdates.date2num(stamps)
 
 
-def _time_axis(ax, span_h: float) -> None:
-    if span_h <= 12:
-        locator = mdates.HourLocator()
-    elif span_h <= 36:
-        locator = mdates.HourLocator(byhour=range(0, 24, 3))
-    elif span_h <= 80:
-        locator = mdates.HourLocator(byhour=range(0, 24, 6))
+#: Hours between time-axis labels (each divides a day, or whole days).
+TICK_STEPS_H = (1, 2, 3, 4, 6, 12, 24, 48, 72, 168)
+#: Room (inches) a time label needs on the axis, gap included: clock times, and
+#: day names (``Wed 08 Sep``) at midnight, at the charts' tick font size.
+CLOCK_LABEL_IN = 0.55
+DAY_LABEL_IN = 0.85
+
+
+def tick_step_h(span_h: float, width_in: float) -> int:
+    """Hours between labels on a time axis ``width_in`` inches long spanning ``span_h``
+    hours: the smallest step whose labels do not run into each other."""
+    for step in TICK_STEPS_H:
+        room = DAY_LABEL_IN if span_h > 24 or step >= 24 else CLOCK_LABEL_IN
+        if span_h / step * room <= width_in:
+            return step
+    return TICK_STEPS_H[-1]
+
+
+def time_axis(ax, span_h: float, width_in: float | None = None) -> None:
+    """Clock labels on a time axis: hours, the day named at each midnight
+    (``Wed 08 Sep``), spaced so that no two labels overlap on an axis ``width_in``
+    inches long (default: the axes' width in the figure as laid out so far)."""
+    if width_in is None:
+        width_in = ax.get_position().width * ax.figure.get_figwidth()
+    step = tick_step_h(span_h, width_in)
+    if step < 24:
+        locator = mdates.HourLocator(byhour=range(0, 24, step))
     else:
-        locator = mdates.DayLocator()
+        locator = mdates.DayLocator(interval=step // 24)
     formatter = mdates.ConciseDateFormatter(
         locator,
         formats=["%Y", "%b", "%a %d %b", "%H:%M", "%H:%M", "%S"],
@@ -261,9 +258,9 @@ def demand_capacity_figure(result: Result, width_in: float, height_in: float) ->
         ax.set_ylim(bottom=0)
         ax.set_xlim(x[0], x[-1])
         ax.yaxis.set_major_formatter(mpl.ticker.StrMethodFormatter("{x:,.0f}"))
-        _time_axis(ax, r.t[-1] / HOUR)
         _frame(ax)
         _margins(fig)
+        time_axis(ax, r.t[-1] / HOUR)
     return fig
 
 
@@ -319,22 +316,10 @@ def queue_length_figure(result: Result, width_in: float, height_in: float) -> Fi
             ax.text(0.5, 0.5, "No queue forms", transform=ax.transAxes, ha="center", va="center")
         ax.set_ylabel(f"Queue length ({long_name})")
         ax.set_xlim(_dates(result, np.array([0.0, result.run.t[-1]])))
-        _time_axis(ax, result.run.t[-1] / HOUR)
         _frame(ax)
         _margins(fig)
+        time_axis(ax, result.run.t[-1] / HOUR)
     return fig
-
-
-def shown_episodes(result: Result, limit: int = MAX_PANELS) -> tuple[list[Episode], int]:
-    """The queues drawn in the cumulative diagram and how many there are in all.
-
-    At most ``limit`` are drawn: the largest, in time order.
-    """
-    eps = queue_episodes(result)
-    if len(eps) <= limit:
-        return eps, len(eps)
-    keep = sorted(eps, key=lambda e: e.max_queue_veh, reverse=True)[:limit]
-    return sorted(keep, key=lambda e: e.start), len(eps)
 
 
 def cumulative_figure(result: Result, width_in: float, height_in: float) -> Figure:
@@ -342,9 +327,7 @@ def cumulative_figure(result: Result, width_in: float, height_in: float) -> Figu
     prof = cumulative_profile(result)
     total = float(result.run.t[-1])
     eps, _ = shown_episodes(result)
-    windows = [
-        (max(0.0, e.start - CONTEXT_H * HOUR), min(total, e.end + CONTEXT_H * HOUR), e) for e in eps
-    ] or [(0.0, total, None)]
+    windows = [(*episode_window(result, e, CONTEXT_H), e) for e in eps] or [(0.0, total, None)]
     n = len(windows)
     cols = n if n <= 3 else (2 if n == 4 else 3)
     rows = int(np.ceil(n / cols))
@@ -387,7 +370,6 @@ def cumulative_figure(result: Result, width_in: float, height_in: float) -> Figu
             ax.set_xlim(x[0], x[-1])
             ax.set_ylim(bottom=0)
             ax.yaxis.set_major_formatter(mpl.ticker.StrMethodFormatter("{x:,.0f}"))
-            _time_axis(ax, (b - a) / HOUR)
             if k % cols == 0:
                 ax.set_ylabel("Vehicles since window start")
             _frame(ax)
@@ -403,16 +385,9 @@ def cumulative_figure(result: Result, width_in: float, height_in: float) -> Figu
             frameon=False,
         )
         _margins(fig, top_in=0.6)
+        for k, (a, b, _) in enumerate(windows):
+            time_axis(axes[k // cols][k % cols], (b - a) / HOUR)
     return fig
-
-
-def episode_title(result: Result, ep: Episode) -> str:
-    """``Queue Tue 2027-05-04 22:00 to Wed 00:26`` (the day repeated only when it changes)."""
-    start = result.plan.demand.start
-    t0 = start + dt.timedelta(seconds=round(ep.start))
-    t1 = start + dt.timedelta(seconds=round(ep.end))
-    end = f"{t1:%H:%M}" if t1.date() == t0.date() else f"{t1:%a %H:%M}"
-    return f"Queue {hour_label(t0)} to {end}"
 
 
 def render(fig: Figure, fmt: str = "svg", dpi: int = 200) -> bytes:

@@ -7,7 +7,8 @@ white), the back of the queue found by the simulation is traced as a solid
 line, and the engine's own back of queue (Newell's method or the single-state
 shockwave relation, :mod:`wzq.newell`, :mod:`wzq.shockwave`) as a dashed line
 beside it, so a reader sees at a glance whether the two agree. Closures are
-marked along the bottom edge, which is the closure itself.
+drawn as numbered bars in a strip of their own under the picture, so they never
+cover a short queue near the closure (distance 0).
 
 Matplotlib without pyplot and without global state (``Figure`` and the Agg
 canvas), so it is safe in threads and in batch runs. :func:`space_time_png`
@@ -33,13 +34,13 @@ from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.colors import LinearSegmentedColormap
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
-from matplotlib.patches import Patch
 
 import wzq
 from wzq import units as u
 from wzq.analysis import Result, Run
 from wzq.lwr import Simulation, simulate
 from wzq.plan import Plan
+from wzq.report_charts import time_axis
 
 __all__ = ["SPEED_SHADES", "space_time_figure", "space_time_png"]
 
@@ -96,7 +97,7 @@ def space_time_figure(sim: Simulation, *, title: str | None = None, caution: boo
 
     fig = Figure(figsize=FIGSIZE, layout="constrained")
     FigureCanvasAgg(fig)
-    ax = fig.add_subplot()
+    ax, strip = fig.subplots(2, 1, sharex=True, height_ratios=[14, 1])
 
     # speed field: rows = cells from the closure upstream, columns = kept instants
     speed = sim.speed[:, ::-1].T / speed_ms
@@ -113,7 +114,7 @@ def space_time_figure(sim: Simulation, *, title: str | None = None, caution: boo
         vmin=0.0,
         vmax=v_free,
     )
-    bar = fig.colorbar(image, ax=ax, pad=0.01, fraction=0.04)
+    bar = fig.colorbar(image, ax=[ax, strip], pad=0.01, fraction=0.04)
     bar.set_label(f"Speed ({speed_name})")
 
     # back of the queue: the simulation's and the engine's
@@ -129,31 +130,35 @@ def space_time_figure(sim: Simulation, *, title: str | None = None, caution: boo
     t_e, d_e = _queue_line(t_eng, sim.engine_queue_length_m(t_eng) / long_m)
     ax.plot(_clock(sim, t_e), d_e, color=INK, lw=1.1, ls=(0, (4, 2.5)), path_effects=halo, zorder=5)
 
-    # closures along the bottom edge (the closure itself is at distance 0)
+    # closures in a strip of their own under the picture, numbered as in the plan
     start = plan.demand.start
-    trans = ax.get_xaxis_transform()
-    for c in plan.closures:
+    for i, c in enumerate(plan.closures, start=1):
         a = max((c.start - start).total_seconds(), sim.window[0])
         b = min((c.end - start).total_seconds(), sim.window[1])
         if b > a:
             x0, x1 = _clock(sim, np.array([a, b]))
-            ax.fill_between(
-                [x0, x1], 0.0, 0.025, transform=trans, color=CLOSURE_MARK, lw=0, zorder=6
-            )
+            strip.axvspan(x0, x1, color=CLOSURE_MARK, lw=0)
+            strip.text(
+                0.5 * (x0 + x1), 0.5, str(i), color="white", ha="center", va="center",
+                fontsize=7, fontweight="bold", clip_on=True,
+            )  # fmt: skip
+    strip.set_yticks([])
+    strip.set_ylim(0, 1)
+    strip.set_ylabel("Closure", rotation=0, ha="right", va="center", fontsize=8)
+    strip.set_xlabel("Time (local clock)")
 
     method = "Newell" if sim.engine_method == "newell" else "shockwave"
     handles = [
         Line2D([], [], color=INK, lw=1.6, label="Back of queue, LWR simulation"),
         Line2D([], [], color=INK, lw=1.1, ls=(0, (4, 2.5)), label=f"Back of queue, {method}"),
-        Patch(facecolor=CLOSURE_MARK, label="Lane closure"),
     ]
     ax.legend(handles=handles, loc="upper right", framealpha=0.9)
     ax.set_ylim(0.0, top)
     ax.set_xlim(x[0], x[-1])
     ax.set_ylabel(f"Distance upstream of the closure ({long_name})")
-    locator = mdates.AutoDateLocator()
-    ax.xaxis.set_major_locator(locator)
-    ax.xaxis.set_major_formatter(mdates.ConciseDateFormatter(locator))
+    # the axes span about 80 % of the figure once laid out (colour bar, labels)
+    time_axis(strip, (sim.window[1] - sim.window[0]) / u.HOUR, 0.8 * FIGSIZE[0])
+    ax.tick_params(labelbottom=False)
 
     heading = title or plan.meta.title or plan.site.name or "Lane-closure plan"
     ax.set_title(heading, loc="left", fontsize=10)
@@ -166,9 +171,8 @@ def space_time_figure(sim: Simulation, *, title: str | None = None, caution: boo
     )
     if sim.spilled:
         note += "; the queue reached the upstream end of the modelled stretch"
-    ax.text(0.0, -0.13, note, transform=ax.transAxes, fontsize=7, va="top")
-    if caution:
-        ax.text(0.0, -0.19, wzq.CAUTION, transform=ax.transAxes, fontsize=7, va="top")
+    footer = note + (f"\n{wzq.CAUTION}" if caution else "")
+    fig.supxlabel(footer, x=0.01, ha="left", fontsize=7, linespacing=1.6)
     return fig
 
 

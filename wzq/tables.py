@@ -1,7 +1,9 @@
 """Display tables: the per-hour table in the plan's own units, rounded as shown.
 
 The workbook writer, the printed report, the command line and the bulk
-summary all show these same numbers, so the rounding lives here once.
+summary all show these same numbers, so the rounding lives here once; and the
+queues one at a time (busy periods), which the workbook's and the report's
+cumulative charts draw one panel each.
 """
 
 from __future__ import annotations
@@ -9,12 +11,16 @@ from __future__ import annotations
 import datetime as dt
 from dataclasses import dataclass
 
+import numpy as np
 import pandas as pd
 
 from wzq import costs as road_user_costs
 from wzq import units as u
 from wzq.analysis import Result
 from wzq.plan import Plan
+
+#: Most queues (busy periods) drawn one chart each (the largest are kept).
+MAX_PANELS = 6
 
 
 @dataclass(frozen=True)
@@ -34,6 +40,7 @@ def hourly_columns(system: u.UnitSystem) -> list[Column]:
         Column("Lanes open", "lanes_open", 0),
         Column("Demand (veh/h)", "demand_veh_h", 0),
         Column("Capacity (veh/h)", "capacity_veh_h", 0),
+        Column("Queue discharge rate (veh/h)", "discharge_veh_h", 0),
         Column("Demand / capacity", "demand_capacity", 2),
         Column("Queue at end of hour (veh)", "queue_end_veh", 0),
         Column("Longest queue (veh)", "queue_max_veh", 0),
@@ -117,3 +124,60 @@ def limits_text(plan: Plan) -> str:
     if th.max_demand_capacity is not None:
         parts.append(f"demand/capacity {th.max_demand_capacity:.2f} in closure hours")
     return ", ".join(parts) if parts else "none set"
+
+
+# --- queues, one at a time (the cumulative charts draw one panel each) ----------------------
+
+
+@dataclass(frozen=True)
+class Episode:
+    """One queue: from the instant it forms to the instant it clears (s)."""
+
+    start: float
+    end: float
+    max_queue_veh: float
+    max_at: float
+
+
+def queue_episodes(result: Result) -> list[Episode]:
+    """Every busy period of the run, in time order."""
+    r = result.run
+    q = r.queue
+    busy = q.busy > 0
+    out: list[Episode] = []
+    if not busy.any():
+        return out
+    edges = np.diff(np.concatenate(([0], busy.astype(np.int8), [0])))
+    for a, b in zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1), strict=True):
+        end = float(r.t[b - 1] + q.busy[b - 1])
+        seg = q.queue[a : b + 1]
+        j = int(np.argmax(seg))
+        out.append(Episode(float(r.t[a]), end, float(seg[j]), float(r.t[a + j])))
+    return out
+
+
+def episode_window(result: Result, ep: Episode, context_h: float) -> tuple[float, float]:
+    """The span (s) drawn around a queue: ``context_h`` hours either side, within the data."""
+    total = float(result.run.t[-1])
+    return max(0.0, ep.start - context_h * 3600.0), min(total, ep.end + context_h * 3600.0)
+
+
+def shown_episodes(result: Result, limit: int = MAX_PANELS) -> tuple[list[Episode], int]:
+    """The queues drawn in the cumulative diagram and how many there are in all.
+
+    At most ``limit`` are drawn: the largest, in time order.
+    """
+    eps = queue_episodes(result)
+    if len(eps) <= limit:
+        return eps, len(eps)
+    keep = sorted(eps, key=lambda e: e.max_queue_veh, reverse=True)[:limit]
+    return sorted(keep, key=lambda e: e.start), len(eps)
+
+
+def episode_title(result: Result, ep: Episode) -> str:
+    """``Queue Tue 2027-05-04 22:00 to Wed 00:26`` (the day repeated only when it changes)."""
+    start = result.plan.demand.start
+    t0 = start + dt.timedelta(seconds=round(ep.start))
+    t1 = start + dt.timedelta(seconds=round(ep.end))
+    end = f"{t1:%H:%M}" if t1.date() == t0.date() else f"{t1:%a %H:%M}"
+    return f"Queue {hour_label(t0)} to {end}"

@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import datetime as dt
 import sys
+import textwrap
 from pathlib import Path
 from typing import TextIO
 
@@ -20,6 +21,7 @@ from wzq import units as u
 from wzq.cli import EXIT_OK, EXTRA_COMMANDS, load_any
 from wzq.plan import NIGHT_END_HOUR, NIGHT_START_HOUR, Plan, PlanError, Problem
 from wzq.tables import limits_text
+from wzq.terminal import TermColumn, console_width, print_table
 from wzq.windows import (
     SYMBOLS,
     WindowSet,
@@ -105,9 +107,6 @@ def print_chart(ws: WindowSet, days: set[dt.date] | None, out: TextIO) -> None:
         print("  (no day of the data matches --days)", file=out)
 
 
-SPAN_WIDTH = 44
-
-
 def _typical_span(ws: WindowSet, start: dt.datetime, end: dt.datetime) -> str:
     """``day 1 19:00 to day 2 07:00`` on a typical day laid out twice."""
     day0 = ws.day_type.demand.start.date()
@@ -118,16 +117,22 @@ def _typical_span(ws: WindowSet, start: dt.datetime, end: dt.datetime) -> str:
     return f"{at(start)} to {at(end)}"
 
 
-def _window_lines(ws: WindowSet, pairs: list[tuple[int, int]], currency: str) -> list[str]:
-    lines = []
+def _window_columns(ws: WindowSet, pairs: list[tuple[int, int]], currency: str) -> list[TermColumn]:
+    """The longest windows as a terminal table (:mod:`wzq.terminal`)."""
+    rows = []
     for s, e in pairs:
         w = ws.window(s, e)
         span = _typical_span(ws, w.start, w.end) if ws.day_type.fold else _span(w.start, w.end)
-        lines.append(
-            f"    {span:<{SPAN_WIDTH}}{w.hours:7.1f} h"
-            f"{w.added_delay_veh_h:10,.1f} veh-h{currency:>6} {w.road_user_cost:>10,.0f}"
+        rows.append(
+            (span, f"{w.hours:,.1f}", f"{w.added_delay_veh_h:,.1f}", f"{w.road_user_cost:,.0f}")
         )
-    return lines
+    spans, hours, delay, cost = zip(*rows, strict=True)
+    return [
+        TermColumn("Longest windows", list(spans), right=False),
+        TermColumn("Length\n(h)", list(hours)),
+        TermColumn("Added delay\n(veh-h)", list(delay)),
+        TermColumn(f"Road-user\ncost ({currency})", list(cost), priority=2),
+    ]
 
 
 def _keep(ws: WindowSet, pairs: list[tuple[int, int]], days: set[dt.date] | None):
@@ -148,20 +153,21 @@ def print_windows(
 ) -> None:
     """The text report of a window search."""
     out = out or sys.stdout
+    width = console_width(out)
+
+    def para(text: str) -> None:  # prose wrapped to the terminal, indented
+        print(textwrap.fill(text, width, initial_indent="  ", subsequent_indent="    "), file=out)
+
     title = plan.meta.title or plan.site.name or "Lane-closure plan"
     print(f"Closure windows: {title}", file=out)
     if plan.site.name and plan.meta.title:
         print(f"{plan.site.name}, {plan.site.direction}".rstrip(", "), file=out)
-    print(f"  Limits: {limits_text(plan)}", file=out)
-    print(
-        f"  Closures behind {BARRIER_HELP[barrier]}; night-time capacity from the clock "
-        f"({NIGHT_START_HOUR:02d}:00-{NIGHT_END_HOUR:02d}:00)",
-        file=out,
+    para(f"Limits: {limits_text(plan)}")
+    para(
+        f"Closures behind {BARRIER_HELP[barrier]}; night-time capacity from the clock "
+        f"({NIGHT_START_HOUR:02d}:00-{NIGHT_END_HOUR:02d}:00)"
     )
-    print(
-        f"  Road-user cost in {rc.cost_basis(result.costs, plan.site.heavy_vehicle_share)}",
-        file=out,
-    )
+    para(f"Road-user cost in {rc.cost_basis(result.costs, plan.site.heavy_vehicle_share)}")
     currency = result.costs.currency
     for ws in result.sets:
         print("", file=out)
@@ -179,9 +185,7 @@ def print_windows(
         )
         longest = _keep(ws, ws.longest(), days)[:top]
         if longest:
-            print(f"  Longest windows{'':<33} length  added delay  road-user cost", file=out)
-            for line in _window_lines(ws, longest, currency):
-                print(line, file=out)
+            print_table(_window_columns(ws, longest, currency), out, what="table")
         else:
             print(
                 "  No closure of this configuration keeps every hour within the limits.", file=out

@@ -38,8 +38,10 @@ OUTPUT_SHEETS: tuple[str, ...] = (RESULTS, SUMMARY, CHARTS, PERMIT_TABLE, WINDOW
 TEMPLATE_STEM = "closure_plan"
 TEMPLATE_FILES: dict[bool, str] = {False: f"{TEMPLATE_STEM}.xlsx", True: f"{TEMPLATE_STEM}.xlsm"}
 
-#: Macro of the embedded VBA project that the Start sheet's button runs.
-BUTTON_MACRO = "SampleCall"
+#: The module of our own in the embedded VBA project, and its macro that the Start
+#: sheet's button runs (it calls the RunPython macro of xlwings' own module).
+BUTTON_MODULE = "WzqButton"
+BUTTON_MACRO = "RecalculatePlan"
 BUTTON_CAPTION = "Recalculate"
 
 # ---------------------------------------------------------------------------------------------

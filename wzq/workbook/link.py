@@ -1,8 +1,10 @@
 """The entry module that joins a macro workbook to wzq: ``plan.py`` beside ``plan.xlsm``.
 
-The ``.xlsm`` template carries xlwings' standalone VBA project unchanged. Its
-button macro takes the workbook's file name without the extension and runs
-``import <name>; <name>.main()`` with the workbook's folder on Python's path.
+The ``.xlsm`` template carries xlwings' standalone VBA project with a module of
+our own (:data:`wzq.workbook.layout.BUTTON_MODULE`). Its button macro
+(:data:`wzq.workbook.layout.BUTTON_MACRO`) takes the workbook's file name without
+the extension and runs, through xlwings' ``RunPython``, ``import <name>;
+<name>.main()`` with the workbook's folder on Python's path.
 So each macro workbook needs a small Python module of its own name beside it;
 :func:`write_entry_module` writes it (two lines: a marker comment and
 ``from wzq.workbook.live import main``). ``wzq new X.xlsm`` writes it with the

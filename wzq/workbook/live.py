@@ -1,7 +1,9 @@
 """Recalculate from inside Excel: the live backend behind the Recalculate button.
 
-The ``.xlsm`` template carries xlwings' standalone VBA project; its macro
-imports a Python module named like the workbook and calls its ``main()``
+The ``.xlsm`` template carries xlwings' standalone VBA project and our module
+``WzqButton``, whose macro ``RecalculatePlan`` (run by the button) imports,
+through xlwings' ``RunPython``, a Python module named like the workbook and
+calls its ``main()``
 (:mod:`wzq.workbook.link` writes that two-line module). ``main`` is
 :func:`main` here, which runs :func:`recalculate` on the workbook that called
 it, with every edit counted, saved or not.

@@ -157,6 +157,7 @@ def run_to(
     space_time: bool | None = None,
     unkept: Literal["copy", "refuse"] = "copy",
     windows: bool | None = None,
+    office_profile: str | None = None,
 ) -> RunOutcome:
     """Analyse the plan in workbook ``path`` and write the results into it (or into ``out``).
 
@@ -174,6 +175,10 @@ def run_to(
     (:mod:`wzq.workbook.kept`). So they do, and the user's version is kept,
     when the file changed on disk while wzq ran. With ``unkept="refuse"``
     nothing is written then and a :class:`PlanError` says why.
+
+    ``office_profile`` is for the Recalculate plan command in LibreOffice Calc
+    only: that LibreOffice's own lock file on ``path`` does not block the save
+    (:func:`wzq.workbook.save.own_office_lock`); every other lock still does.
     """
     src = Path(path)
     target = Path(out) if out is not None else src
@@ -192,7 +197,7 @@ def run_to(
             )
         elif unkept == "refuse":
             raise _not_kept(src, parts)
-    check_writable(target)
+    check_writable(target, office_profile=office_profile)
     plan = read_plan_from_book(book, src.name, src, data=data)
     result = wzq.analyse(plan)
     picture = plan.options.space_time if space_time is None else space_time
@@ -222,7 +227,7 @@ def run_to(
         return to_copy(_kept_words(src, _unkept_text(report.unkept)))
     write(book, notes)
     if not in_place:
-        save_atomic(book, target)
+        save_atomic(book, target, office_profile=office_profile)
         result.warnings.extend(extra)
         return RunOutcome(result, target, notes, False)
     try:
@@ -231,6 +236,7 @@ def run_to(
             target,
             verify=keeps_everything(data, str(src), layout.OUTPUT_SHEETS),
             expect=state,
+            office_profile=office_profile,
         )
     except ContentLost as e:
         if unkept == "refuse":

@@ -12,10 +12,19 @@ was killed is removed by the next save to the same target.
 A target that a spreadsheet program has open (Excel's lock file ``~$name`` or
 LibreOffice's ``.~lock.name#`` lies beside it), a read-only target and a folder
 that cannot be written are refused up front with a :class:`PlanError` that says
-what to do. A save that fails half-way (a full disk, a file-size limit, any
-I/O error) raises :class:`SaveError`: one line saying what happened, the
-target as it was, the temporary file removed, and nothing printed later by
-the half-written zip.
+what to do.
+
+One exception, for the Recalculate plan command in LibreOffice Calc
+(:mod:`wzq.office`): the LibreOffice instance that has the workbook open may
+state its own user profile (``office_profile``), and then its own lock file, and
+only that one, does not count: the lock must name this computer, this login
+and that profile (:func:`own_office_lock`). Excel's lock file and a lock of any
+other LibreOffice (another user, another computer, another profile) still refuse.
+
+A save that fails half-way (a full disk, a file-size limit, any I/O error)
+raises :class:`SaveError`: one line saying what happened, the target as it
+was, the temporary file removed, and nothing printed later by the
+half-written zip.
 
 Before the temporary file replaces the target, :func:`save_atomic` can check
 it (``verify``: e.g. that nothing the user made was dropped, see
@@ -31,9 +40,11 @@ import contextlib
 import datetime as dt
 import errno
 import gc
+import getpass
 import hashlib
 import os
 import secrets
+import socket
 import stat
 import sys
 import time
@@ -42,6 +53,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, BinaryIO, Protocol
+from urllib.parse import unquote
 
 from wzq.plan import PlanError, Problem
 
@@ -122,8 +134,72 @@ def real_target(target: str | Path) -> Path:
     return target
 
 
-def _check_not_open(target: Path, where: str) -> None:
-    """Refuse when a spreadsheet program has ``target`` open (its lock file is beside it)."""
+def _lock_fields(text: str) -> list[str]:
+    """The fields of a LibreOffice lock entry: ``,``-separated, ``;``-ended, ``\\``-escaped."""
+    fields, field, escaped = [], "", False
+    for ch in text:
+        if escaped:
+            field, escaped = field + ch, False
+        elif ch == "\\":
+            escaped = True
+        elif ch in ",;":
+            fields.append(field)
+            field = ""
+            if ch == ";":
+                break
+        else:
+            field += ch
+    return fields
+
+
+def _login() -> str:
+    """This process's login name, as LibreOffice records it (the password database on POSIX)."""
+    try:
+        import pwd
+
+        return pwd.getpwuid(os.getuid()).pw_name
+    except (ImportError, KeyError):
+        return getpass.getuser()
+
+
+def _same_profile(a: str, b: str) -> bool:
+    return unquote(a).rstrip("/") == unquote(b).rstrip("/")
+
+
+def own_office_lock(lock: Path, office_profile: str | None) -> bool:
+    """True when LibreOffice's lock file ``lock`` was written by the instance whose user
+    profile (its ``UserInstallation`` URL) is ``office_profile``, on this computer, for
+    this login.
+
+    LibreOffice (7.4, as observed) writes one entry: user name, login, host, time,
+    profile URL, e.g. ``,ana,desk1,04.05.2027 21:00,file:///home/ana/.config/libreoffice/4;``.
+    The host is compared by its first label, case-insensitively (LibreOffice may
+    write the full domain name).
+    """
+    if not office_profile:
+        return False
+    try:
+        fields = _lock_fields(lock.read_text(encoding="utf-8", errors="replace"))
+        me = _login()
+    except (OSError, KeyError):
+        return False
+    if len(fields) < 5:
+        return False
+    _, login, host, _, profile = fields[:5]
+
+    def label(name: str) -> str:
+        return name.split(".")[0].casefold()
+
+    hosts = {label(socket.gethostname()), label(socket.getfqdn())}
+    return login == me and label(host) in hosts and _same_profile(profile, office_profile)
+
+
+def _check_not_open(target: Path, where: str, office_profile: str | None = None) -> None:
+    """Refuse when a spreadsheet program has ``target`` open (its lock file is beside it).
+
+    ``office_profile``: the caller is the LibreOffice with that user profile, which
+    holds the workbook open itself (:func:`own_office_lock`).
+    """
     excel, office = lock_files(target)
     if excel.exists():
         raise PlanError(
@@ -135,7 +211,7 @@ def _check_not_open(target: Path, where: str) -> None:
                 )
             ]
         )
-    if office.exists():
+    if office.exists() and not own_office_lock(office, office_profile):
         raise PlanError(
             [
                 Problem(
@@ -148,12 +224,15 @@ def _check_not_open(target: Path, where: str) -> None:
         )
 
 
-def check_writable(target: str | Path) -> None:
-    """Refuse a target that is open in a spreadsheet program, read-only, or unwritable."""
+def check_writable(target: str | Path, *, office_profile: str | None = None) -> None:
+    """Refuse a target that is open in a spreadsheet program, read-only, or unwritable.
+
+    ``office_profile``: see :func:`own_office_lock` (the Recalculate plan command only).
+    """
     target = Path(target)
     where = str(target)
     for shown in dict.fromkeys((target, real_target(target))):  # a link and its file
-        _check_not_open(shown, where)
+        _check_not_open(shown, where, office_profile)
     target = real_target(target)
     folder = target.parent if str(target.parent) else Path(".")
     if not folder.is_dir():
@@ -327,6 +406,7 @@ def save_atomic(
     *,
     verify: Callable[[Path], None] | None = None,
     expect: FileState | None = None,
+    office_profile: str | None = None,
 ) -> Path:
     """Save ``book`` to ``target`` through a temporary file and ``os.replace``.
 
@@ -340,9 +420,10 @@ def save_atomic(
     the target changed since, :class:`ChangedSinceRead` is raised and the
     target stays as it is. On any failure the temporary file is removed and
     the target is untouched; an I/O error is a :class:`SaveError`.
+    ``office_profile``: see :func:`own_office_lock`.
     """
     shown = Path(target)
-    check_writable(shown)
+    check_writable(shown, office_profile=office_profile)
     target = real_target(shown)
     clean_stray_temp_files(target)
     info = target.stat() if target.exists() else None

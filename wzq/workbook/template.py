@@ -8,8 +8,11 @@ hourly-share and closure lists are Excel tables. The output sheets are added by
 the writer.
 
 The ``.xlsm`` embeds the VBA project shipped with xlwings
-(``quickstart_standalone.xlsm``: the xlwings module and ``Module1.SampleCall``)
-and a "Recalculate" button on the Start sheet that runs ``SampleCall``.
+(``quickstart_standalone.xlsm``) with its sample module replaced by a module of
+our own, ``WzqButton``, whose macro ``RecalculatePlan`` runs the workbook's
+entry module through xlwings' ``RunPython`` (:func:`vba_project_bytes`; the
+xlwings module itself is kept as it is), and a "Recalculate" button on the
+Start sheet that runs ``RecalculatePlan``.
 
 Regenerate the committed templates with ``python -m wzq.workbook.template``.
 """
@@ -17,9 +20,12 @@ Regenerate the committed templates with ``python -m wzq.workbook.template``.
 from __future__ import annotations
 
 import datetime as dt
+import functools
 import importlib.util
 import io
+import shutil
 import sys
+import tempfile
 import zipfile
 from collections.abc import Sequence
 from pathlib import Path
@@ -66,17 +72,59 @@ MACRO_INSTRUCTION = (
 )
 
 
-def vba_project_bytes() -> bytes:
-    """``xl/vbaProject.bin`` of the xlwings quickstart workbook in the installed package."""
+#: The source of our module: the same call as the sample macro of xlwings' standalone
+#: quickstart (the module named like the workbook, imported and its main() run through
+#: RunPython), under a name that says what it does.
+BUTTON_SOURCE = f"""\
+' wzq: the {L.BUTTON_CAPTION} button of this lane-closure plan workbook.
+' Runs main() of the Python module named like this workbook (plan.xlsm: plan.py
+' beside it, written by `wzq link plan.xlsm`) through RunPython, the macro of
+' the xlwings module of this project. Results support, and never replace, the
+' judgement of a qualified engineer and the local agency's rules.
+Sub {L.BUTTON_MACRO}()
+    Dim entry As String
+    entry = Left(ThisWorkbook.Name, InStrRev(ThisWorkbook.Name, ".", -1, vbTextCompare) - 1)
+    RunPython "import " & entry & ";" & entry & ".main()"
+End Sub
+""".replace("\n", "\r\n")
+#: The sample module of the xlwings quickstart that our module replaces.
+SAMPLE_MODULE = "Module1"
+
+
+def xlwings_workbook() -> Path:
+    """``quickstart_standalone.xlsm`` of the installed xlwings package."""
     spec = importlib.util.find_spec("xlwings")
     if spec is None or not spec.submodule_search_locations:
         raise RuntimeError("xlwings is not installed; it is needed to build the .xlsm template")
     for folder in spec.submodule_search_locations:
         candidate = Path(folder) / XLWINGS_WORKBOOK
         if candidate.exists():
-            with zipfile.ZipFile(candidate) as z:
-                return z.read(VBA_PART)
+            return candidate
     raise RuntimeError(f"{XLWINGS_WORKBOOK} not found in the installed xlwings package")
+
+
+@functools.cache
+def vba_project_bytes() -> bytes:
+    """``xl/vbaProject.bin``: xlwings' standalone VBA project with our button module.
+
+    The project of the installed xlwings' quickstart workbook, with its sample
+    module renamed to :data:`wzq.workbook.layout.BUTTON_MODULE` and its source
+    replaced by :data:`BUTTON_SOURCE`, written by pyOpenVBA (a library that edits
+    the VBA project of Office files in pure Python). The xlwings module stays as
+    xlwings wrote it, so the VBA code matches the installed xlwings version.
+    """
+    from pyopenvba import ExcelFile
+
+    with tempfile.TemporaryDirectory() as tmp:
+        book = Path(tmp) / XLWINGS_WORKBOOK
+        shutil.copyfile(xlwings_workbook(), book)
+        with ExcelFile(str(book)) as excel:
+            project = excel.vba_project()
+            project.rename_module(SAMPLE_MODULE, L.BUTTON_MODULE)
+            excel.set_module(L.BUTTON_MODULE, BUTTON_SOURCE)
+            excel.save()
+        with zipfile.ZipFile(book) as z:
+            return z.read(VBA_PART)
 
 
 def _formats(wb: xlsxwriter.Workbook) -> dict[str, Format]:
@@ -221,6 +269,10 @@ def _start_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict, macro: bool) -
     ws.set_column(1, 1, VALUE_WIDTH)
     ws.set_column(2, 2, UNIT_WIDTH)
     ws.set_column(3, 3, NOTE_WIDTH)
+    # rows tall enough for their fonts: LibreOffice keeps the default height of a row
+    # and drew the 16-point title over the subtitle
+    ws.set_row(0, 24)
+    ws.set_row(1, 16)
     ws.write_string(0, 0, "Lane-closure plan", f["title"])
     ws.write_string(
         1, 0, "Work-zone queue and delay, hour by hour, computed by wzq.", f["subtitle"]

@@ -23,6 +23,7 @@ from openpyxl.chart.series import SeriesLabel
 from openpyxl.styles import Alignment, Font, PatternFill
 from openpyxl.utils import get_column_letter
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
 import wzq
@@ -38,7 +39,7 @@ from wzq.windows import (
     longest_windows,
 )
 from wzq.workbook import layout
-from wzq.workbook.writer import put_text
+from wzq.workbook.writer import print_setup, put_text
 
 SHEET = "Closure windows"
 
@@ -85,7 +86,8 @@ def _fresh_sheet(wb: Workbook) -> Worksheet:
 
 
 #: Windows tables: (heading, first column, last column) of each field; wide fields span
-#: several of the narrow hour columns.
+#: several of the narrow hour columns. The day type is shown only when the demand has
+#: more than one (with one, it is the whole period, named once above the tables).
 WINDOW_FIELDS = (
     ("Configuration", 1, 1),
     ("Day type", 2, 2),
@@ -95,6 +97,37 @@ WINDOW_FIELDS = (
     ("Added delay (veh-h)", 13, 15),
     ("Road-user cost", 16, 19),
 )
+WINDOW_FIELDS_ONE_DAY_TYPE = (
+    ("Configuration", 1, 1),
+    ("Start", 2, 2),
+    ("End", 3, 6),
+    ("Length (h)", 7, 8),
+    ("Added delay (veh-h)", 9, 11),
+    ("Road-user cost", 12, 15),
+)
+
+#: Rows on a printed page (landscape, one page wide; LibreOffice fits about 60 of the
+#: sheet's rows at the scale the 26 columns need, so this leaves room for the footer).
+PAGE_ROWS = 50
+
+
+class Pages:
+    """Where the printed pages of a sheet break: a manual break before a block that
+    would not fit on the current page, and before a table row that would not, with
+    the table's header written again at the top of the new page."""
+
+    def __init__(self, ws: Worksheet) -> None:
+        self.ws = ws
+        self.top = 1  # first row of the current page
+
+    def room(self, row: int) -> int:
+        return PAGE_ROWS - (row - self.top)
+
+    def keep(self, row: int, rows: int) -> None:
+        """Start a new page at ``row`` unless ``rows`` rows fit on this one."""
+        if rows > self.room(row) and row > self.top:
+            self.ws.row_breaks.append(Break(id=row - 1))
+            self.top = row
 
 
 def _span_cells(ws: Worksheet, row: int, first: int, last: int) -> None:
@@ -102,33 +135,52 @@ def _span_cells(ws: Worksheet, row: int, first: int, last: int) -> None:
         ws.merge_cells(start_row=row, start_column=first, end_row=row, end_column=last)
 
 
-def _windows_block(
-    ws: Worksheet, row: int, title: str, frame: pd.DataFrame, currency: str, year: int
-) -> int:
-    """A table of windows from :func:`longest_windows` / :func:`feasible_starts`; next free row."""
-    put_text(ws, row, 1, title).font = SECTION_FONT
-    row += 1
-    for text, first, last in WINDOW_FIELDS:
+def _window_header(ws: Worksheet, row: int, fields: tuple, currency: str, year: int) -> None:
+    for text, first, last in fields:
         if text == "Road-user cost":
             text = f"Road-user cost ({currency} of {year})"
         _header(ws, row, [text], first)
         _span_cells(ws, row, first, last)
     ws.row_dimensions[row].height = 30
+
+
+def _windows_block(
+    ws: Worksheet,
+    pages: Pages,
+    row: int,
+    title: str,
+    frame: pd.DataFrame,
+    currency: str,
+    year: int,
+    fields: tuple = WINDOW_FIELDS,
+) -> int:
+    """A table of windows from :func:`longest_windows` / :func:`feasible_starts`; next free
+    row. Its header is repeated at the top of every printed page it runs onto."""
+    pages.keep(row, min(len(frame), 5) + 3)
+    put_text(ws, row, 1, title).font = SECTION_FONT
+    row += 1
+    _window_header(ws, row, fields, currency, year)
     row += 1
     if frame.empty:
         put_text(ws, row, 1, "none").font = NOTE_FONT
         return row + 2
+    names = [name for name, _, _ in fields]
     for rec in frame.itertuples(index=False):
-        values: list[tuple[Any, str | None]] = [
-            (rec.configuration, None),
-            (rec.day_type, None),
-            (pd.Timestamp(rec.start).to_pydatetime(), DATETIME_FORMAT),
-            (pd.Timestamp(rec.end).to_pydatetime(), DATETIME_FORMAT),
-            (round(float(rec.hours), 2), "0.00"),
-            (round(float(rec.added_delay_veh_h), 1), "#,##0.0"),
-            (round(float(rec.road_user_cost)), "#,##0"),
-        ]
-        for (value, fmt), (_, first, last) in zip(values, WINDOW_FIELDS, strict=True):
+        if pages.room(row) < 1:
+            pages.keep(row, PAGE_ROWS)
+            _window_header(ws, row, fields, currency, year)
+            row += 1
+        values: dict[str, tuple[Any, str | None]] = {
+            "Configuration": (rec.configuration, None),
+            "Day type": (rec.day_type, None),
+            "Start": (pd.Timestamp(rec.start).to_pydatetime(), DATETIME_FORMAT),
+            "End": (pd.Timestamp(rec.end).to_pydatetime(), DATETIME_FORMAT),
+            "Length (h)": (round(float(rec.hours), 2), "0.00"),
+            "Added delay (veh-h)": (round(float(rec.added_delay_veh_h), 1), "#,##0.0"),
+            "Road-user cost": (round(float(rec.road_user_cost)), "#,##0"),
+        }
+        for name, (_, first, last) in zip(names, fields, strict=True):
+            value, fmt = values[name]
             if fmt is None:
                 put_text(ws, row, first, value)
             else:
@@ -183,15 +235,26 @@ def write_windows_sheet(
     for note in result.notes:
         put_text(ws, row, 1, f"Note: {note}").font = NOTE_FONT
         row += 1
+    day_types = {w.day_type.name for w in result.sets}
+    fields = WINDOW_FIELDS if len(day_types) > 1 else WINDOW_FIELDS_ONE_DAY_TYPE
+    if len(day_types) == 1:
+        put_text(ws, row, 1, f"Demand period: {next(iter(day_types))}").font = NOTE_FONT
+        row += 1
     row += 1
+    pages = Pages(ws)
 
     # --- hours table -------------------------------------------------------------------------
     put_text(ws, row, 1, "Hours in which a closure may be in place").font = SECTION_FONT
     row += 1
-    _header(ws, row, ["Configuration", "Day", *HOUR_COLUMNS])
+    hours_head = ["Configuration", "Day", *HOUR_COLUMNS]
+    _header(ws, row, hours_head)
     row += 1
     for w in result.sets:
         for label, states in day_rows(w):
+            if pages.room(row) < 1:
+                pages.keep(row, PAGE_ROWS)
+                _header(ws, row, hours_head)
+                row += 1
             put_text(ws, row, 1, w.label)
             put_text(ws, row, 2, label)
             for h, state in enumerate(states):
@@ -209,9 +272,10 @@ def write_windows_sheet(
     row += 2
 
     # --- chart of days allowed by hour --------------------------------------------------------
+    counts = days_allowed_by_hour(result)
+    pages.keep(row, 3 + len(counts.columns) + CHART_ROWS + 2)
     put_text(ws, row, 1, "Days on which the whole hour may be closed").font = SECTION_FONT
     row += 1
-    counts = days_allowed_by_hour(result)
     head = row
     _header(ws, row, ["Configuration", "Days", *HOUR_COLUMNS])
     chart = BarChart()
@@ -246,20 +310,24 @@ def write_windows_sheet(
     # --- windows ------------------------------------------------------------------------------
     row = _windows_block(
         ws,
+        pages,
         row,
         "Longest allowable windows",
         longest_windows(result, top=top),
         costs.currency,
         costs.dollar_year,
+        fields,
     )
     if duration_h is not None:
         row = _windows_block(
             ws,
+            pages,
             row,
             f"Every allowed start for a {duration_h:g}-hour closure",
             feasible_starts(result, duration_h),
             costs.currency,
             costs.dollar_year,
+            fields,
         )
 
     # --- layout and printing ------------------------------------------------------------------
@@ -267,11 +335,7 @@ def write_windows_sheet(
     ws.column_dimensions["B"].width = 30
     for h in range(len(HOUR_COLUMNS)):
         ws.column_dimensions[get_column_letter(3 + h)].width = HOUR_COL_WIDTH
-    ws.page_setup.orientation = "landscape"
-    ws.page_setup.fitToWidth = 1
-    ws.page_setup.fitToHeight = 0
-    ws.sheet_properties.pageSetUpPr.fitToPage = True
-    ws.print_area = f"A1:{get_column_letter(n_cols)}{row}"
-    ws.oddFooter.center.text = "Page &P of &N"
-    ws.oddFooter.left.text = f"wzq {wzq.__version__}"
+    # one page wide, the plan's title, page numbers and wzq's version in the footer, as
+    # on every other sheet wzq prints
+    print_setup(ws, plan, f"A1:{get_column_letter(n_cols)}{row}")
     return ws

@@ -28,6 +28,7 @@ from __future__ import annotations
 import datetime as dt
 import hashlib
 import json
+import re
 from collections.abc import Callable, Iterable, Sequence
 from copy import copy
 from dataclasses import dataclass, field
@@ -222,7 +223,6 @@ def listed_hours(result: Result) -> np.ndarray:
 
 #: Extra per-hour columns on the Results sheet, after the permit columns.
 DETAIL_COLUMNS = [
-    Column("Queue discharge rate (veh/h)", "discharge_veh_h", 0),
     Column("Departures (veh)", "departures_veh", 0),
     Column("Queue delay (veh-h)", "queue_delay_veh_h", 1),
     Column("Work-zone delay (veh-h)", "work_zone_delay_veh_h", 1),
@@ -326,8 +326,8 @@ class SheetWriter:
     def header(self, row: int, headers: Sequence[str], height: float | None = 45.0) -> None:
         for j, text in enumerate(headers, start=1):
             self.put(
-                row, j, text, fill=HEADER_FILL, font=HEADER_FONT, alignment=HEADER_ALIGN,
-                border=HEADER_BORDER,
+                row, j, sheet_header(text), fill=HEADER_FILL, font=HEADER_FONT,
+                alignment=HEADER_ALIGN, border=HEADER_BORDER,
             )  # fmt: skip
         if height:
             self.ws.row_dimensions[row].height = height
@@ -344,6 +344,75 @@ class SheetWriter:
     def widths(self, widths: Sequence[float]) -> None:
         for j, width in enumerate(widths, start=1):
             self.ws.column_dimensions[get_column_letter(j)].width = width
+
+
+#: How many characters of text a column of width ``w`` (in the spreadsheet's unit, the
+#: width of a digit of the default font) holds on a line: between
+#: ``(w - CELL_PADDING) / BOLD_CHAR`` (wide letters in bold) and ``w / NARROW_CHAR``
+#: (narrow ones); LibreOffice put the 11 characters "Delay (veh-" on one line of a
+#: column 11 wide.
+BOLD_CHAR = 1.15
+NARROW_CHAR = 0.85
+TEXT_CHAR = 1.05
+CELL_PADDING = 1.5
+
+
+#: A hyphen that no line may break after (Unicode U+2011), for units in headers.
+NO_BREAK_HYPHEN = "\u2011"
+
+
+def sheet_header(header: str) -> str:
+    """A header as written in a sheet: the hyphen of a unit made unbreakable, so that
+    ``Delay (veh-h)`` never prints as ``Delay (veh-`` / ``h)`` (the text reads the same)."""
+    return re.sub(r"\([^()]*\)", lambda m: m.group(0).replace("-", NO_BREAK_HYPHEN), header)
+
+
+def wrapped_lines(text: str, room: float) -> list[str]:
+    """``text`` broken into lines of at most ``room`` characters the way a spreadsheet
+    breaks wrapped text: between words, and after a hyphen inside a word."""
+    lines: list[str] = []
+    for word in text.split():
+        pieces = re.findall(r"[^-]*-|[^-]+$", word) or [word]
+        for k, piece in enumerate(pieces):
+            glue = "" if k else " "
+            if lines and len(lines[-1]) + len(glue) + len(piece) <= room:
+                lines[-1] += glue + piece
+            else:
+                lines.append(piece)
+    return lines or [""]
+
+
+def header_width(header: str, least: float = 0.0, max_lines: int = 3) -> float:
+    """The narrowest column width (at least ``least``) in which a wrapped bold header
+    takes at most ``max_lines`` lines, never splits a word and never breaks one after
+    a hyphen (``Delay (veh-`` / ``h)``), whatever the font's letters measure."""
+    header = sheet_header(header)
+    width = max(least, 6.0)
+    while width < 60:
+        rooms = np.arange((width - CELL_PADDING) / BOLD_CHAR, width / NARROW_CHAR, 0.25)
+        ok = True
+        for room in rooms:
+            lines = wrapped_lines(header, float(room))
+            too_long = any(len(x) > room for x in lines)
+            if too_long or len(lines) > max_lines or any(x.endswith("-") for x in lines[:-1]):
+                ok = False
+                break
+        if ok:
+            return width
+        width += 0.5
+    return width
+
+
+def text_width(texts: Iterable[str], *, bold: bool = False) -> float:
+    """A column width that shows the longest of ``texts`` on one line."""
+    longest = max((len(t) for t in texts), default=0)
+    return longest * (BOLD_CHAR if bold else TEXT_CHAR) + CELL_PADDING
+
+
+def number_width(values: Iterable[float | int | None], decimals: int) -> float:
+    """A column width that shows the widest of ``values`` as formatted (``#,##0.0``)."""
+    texts = [f"{v:,.{decimals}f}" for v in values if v is not None]
+    return text_width(texts) + 1.0
 
 
 def _closure_text(i: int, c: Closure, lanes: int) -> str:
@@ -459,7 +528,17 @@ def write_results_sheet(out: SheetWriter, result: Result) -> TableRef:
         kind = "over" if status[i] != "ok" else "band" if i % 2 else "plain"
         for apply, cell in zip(looks[kind], row, strict=True):
             apply(cell)
-    out.widths([21, 8.5, *([11.5] * len(cols)), 34, *([12.5] * len(details))])
+    status_width = text_width([*status, "Status"], bold=True)
+    widths = [21, 8.5]
+    widths += [
+        header_width(c.header, number_width(v, c.decimals)) for c, v in zip(cols, main, strict=True)
+    ]
+    widths.append(status_width)
+    widths += [
+        header_width(c.header, number_width(v, c.decimals))
+        for c, v in zip(details, extra, strict=True)
+    ]
+    out.widths(widths)
     ws.freeze_panes = ws.cell(first, 2)
     ncol = len(headers)
     if n:
@@ -478,6 +557,7 @@ def permit_columns(system: u.UnitSystem) -> list[Column]:
         "lanes_open",
         "demand_veh_h",
         "capacity_veh_h",
+        "discharge_veh_h",
         "demand_capacity",
         "queue_max_veh",
         "queue_length_max_m",
@@ -604,7 +684,9 @@ def write_permit_sheet(out: SheetWriter, result: Result, stamp: str) -> TableRef
         out.style(ws.cell(r, j), border=ROW_BORDER)
     out.put(r, 3, plan.meta.prepared_by or None, border=ROW_BORDER)
     out.put(r, 9, plan.meta.checked_by or None, border=ROW_BORDER)
-    out.widths([21, 8.5, 7.5, *([11] * (len(cols) - 1)), *([11.5] * len(checks)), 10])
+    widths = [21, 8.5, *(header_width(c.header, 7.5 if k == 0 else 11) for k, c in enumerate(cols))]
+    widths += [header_width(h, 11.5, max_lines=4) for h in headers[len(widths) : -1]]
+    out.widths([*widths, 10])
     print_setup(ws, plan, f"A1:{get_column_letter(ncol)}{r}", header_row)
     sources = ["hour", "closure_no", *(c.source for c in cols), *(c for c, _ in checks), "result"]
     return TableRef(
