@@ -1,7 +1,9 @@
 """Run ``wzq`` commands each in a process of its own and measure it from outside.
 
-Used by the tests as a script: it reads a JSON list of jobs (``{"key": ...,
-"argv": [...]}``) on standard input, imports the ``wzq`` command once, and
+Used by the tests through :func:`run_jobs`, which starts this file as a script:
+it reads a JSON list of jobs on standard input (``{"key": ..., "argv": [...]}``
+runs ``wzq`` with those arguments; ``{"key": ..., "code": "..."}`` runs that
+Python code), imports the ``wzq`` command once, and
 runs every job in a child process forked from it (so no job pays for the
 imports, and none sees what another allocated), as many at a time as there are
 cores. The child's peak memory is
@@ -11,6 +13,10 @@ the wall time from fork to exit. One JSON line per job goes to standard
 output: exit status, seconds, peak MiB, and the child's standard output and
 error.
 
+Why fork from a fresh process: a process started straight from the test run
+would report, as its own peak, the test run's memory at the moment it was
+started (Linux keeps the peak across ``exec``).
+
     python tests/entry_points.py < jobs.json
 """
 
@@ -18,9 +24,29 @@ from __future__ import annotations
 
 import json
 import os
+import subprocess
 import sys
 import tempfile
 import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def run_jobs(jobs: list[dict], timeout: float) -> dict[str, dict]:
+    """Run the jobs through this script in a fresh process; the results by key."""
+    done = subprocess.run(
+        [sys.executable, __file__],
+        input=json.dumps(jobs),
+        capture_output=True,
+        text=True,
+        timeout=timeout,
+        env={**os.environ, "PYTHONPATH": str(ROOT)},
+        check=False,
+    )
+    if done.returncode != 0:
+        raise RuntimeError(done.stderr[-3000:])
+    return {r["key"]: r for r in map(json.loads, done.stdout.splitlines())}
 
 
 def _preload() -> None:
@@ -43,9 +69,13 @@ def _child(argv: list[str], out_fd: int, err_fd: int) -> None:
     sys.stdout = open(1, "w", closefd=False)  # noqa: SIM115
     sys.stderr = open(2, "w", closefd=False)  # noqa: SIM115
     try:
-        from wzq.cli import main
+        if isinstance(argv, str):  # Python code
+            exec(compile(argv, "<job>", "exec"), {"__name__": "__job__"})
+            code = 0
+        else:
+            from wzq.cli import main
 
-        code = main(argv)
+            code = main(argv)
     except SystemExit as e:
         code = e.code if isinstance(e.code, int) else 1
     except BaseException:
@@ -63,7 +93,7 @@ def _start(job: dict) -> tuple[int, dict]:
     t0 = time.perf_counter()
     pid = os.fork()
     if pid == 0:
-        _child(job["argv"], out.fileno(), err.fileno())
+        _child(job.get("argv", job.get("code")), out.fileno(), err.fileno())
     return pid, {"job": job, "out": out, "err": err, "t0": t0}
 
 

@@ -23,11 +23,7 @@ from __future__ import annotations
 import contextlib
 import hashlib
 import io
-import json
-import os
 import re
-import subprocess
-import sys
 import zipfile
 import zlib
 from collections.abc import Callable, Iterator
@@ -35,6 +31,7 @@ from pathlib import Path
 
 import openpyxl
 import pytest
+from entry_points import run_jobs
 from fake_xlwings import open_book
 from workbook_helpers import fill_template, named_cell
 
@@ -43,7 +40,6 @@ from wzq.workbook import layout, live
 
 ROOT = Path(__file__).resolve().parents[1]
 KESTREL = ROOT / "examples" / "kestrel_ridge_weeknight.json"
-RUNNER = Path(__file__).with_name("entry_points.py")
 MAIN_NS = b"http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 SECONDS = 5.0
 PEAK_MIB = 500.0
@@ -344,20 +340,6 @@ def _jobs(path: Path, out: Path) -> list[dict]:
         "batch": ["batch", str(path.parent), "-o", str(out / "summary.xlsx"), "--workers", "1"],
     }
     return [{"key": f"{path.stem}/{c}", "argv": argv[c]} for c in COMMANDS]
-
-
-def run_jobs(jobs: list[dict], timeout: float) -> dict[str, dict]:
-    done = subprocess.run(
-        [sys.executable, str(RUNNER)],
-        input=json.dumps(jobs),
-        capture_output=True,
-        text=True,
-        timeout=timeout,
-        env={**os.environ, "PYTHONPATH": str(ROOT)},
-        check=False,
-    )
-    assert done.returncode == 0, done.stderr[-3000:]
-    return {r["key"]: r for r in map(json.loads, done.stdout.splitlines())}
 
 
 @pytest.fixture(scope="module")
