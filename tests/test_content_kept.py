@@ -18,6 +18,8 @@ from __future__ import annotations
 import hashlib
 import io
 import re
+import shutil
+import subprocess
 import zipfile
 from collections.abc import Callable
 from pathlib import Path
@@ -290,3 +292,68 @@ def test_content_openpyxl_keeps_survives_two_runs_in_place(feature, tmp_path) ->
         with zipfile.ZipFile(src) as z:
             media = [z.read(n) for n in z.namelist() if "/media/" in n]
         assert _png((200, 60, 40)) in media  # the picture's bytes, unchanged
+
+
+def test_printer_settings_excel_keeps_for_a_sheet_are_found_by_the_comparison(
+    tmp_path, monkeypatch
+) -> None:
+    """Excel stores a sheet's printer-driver settings (tray, duplex) as a part of their own,
+    which openpyxl drops; not on the hand list, the comparison finds it."""
+    src = build(tmp_path / "plan.xlsx", lambda wb: mine(wb).set_landscape())
+    with zipfile.ZipFile(src) as z:
+        parts = {n: z.read(n) for n in z.namelist()}
+    sheet = max(n for n in parts if re.fullmatch(r"xl/worksheets/sheet\d+\.xml", n))  # mine
+    rels = sheet.replace("worksheets/", "worksheets/_rels/") + ".rels"
+    parts["xl/printerSettings/printerSettings1.bin"] = b"\x00DEVMODE" * 64  # a driver's blob
+    parts["[Content_Types].xml"] = parts["[Content_Types].xml"].replace(
+        b"</Types>",
+        b'<Default Extension="bin" ContentType="application/vnd.openxmlformats-officedocument'
+        b'.spreadsheetml.printerSettings"/></Types>',
+    )
+    parts[rels] = (
+        b'<Relationships xmlns="http://schemas.openxmlformats.org/package/2006/relationships">'
+        b'<Relationship Id="rId9" Type="http://schemas.openxmlformats.org/officeDocument/2006/'
+        b'relationships/printerSettings" Target="../printerSettings/printerSettings1.bin"/>'
+        b"</Relationships>"
+    )
+    parts[sheet] = parts[sheet].replace(
+        b"<pageSetup ",
+        b'<pageSetup xmlns:r="http://schemas.openxmlformats.org/officeDocument/2006/'
+        b'relationships" r:id="rId9" ',
+    )
+    with zipfile.ZipFile(src, "w", zipfile.ZIP_DEFLATED) as z:
+        for n, data in parts.items():
+            z.writestr(n, data)
+    original = _digest(src)
+    assert safety.inspect_file(src).unkept == []
+    outcome = run_to(src, run_time=STAMP)
+    assert outcome.copied and _digest(src) == original
+    assert f"sheet '{MINE}': printer settings" in outcome.notes[0]
+
+
+def test_a_plan_saved_by_libreoffice_is_written_in_place_twice(tmp_path) -> None:
+    """No false alarm: what LibreOffice writes and openpyxl drops holds nothing of the user's."""
+    soffice = shutil.which("soffice") or shutil.which("libreoffice")
+    if soffice is None:
+        pytest.skip("LibreOffice (soffice) is not installed")
+    src = build(tmp_path / "made.xlsx", link_to_a_web_page)
+    out = tmp_path / "saved"
+    subprocess.run(
+        [
+            soffice,
+            f"-env:UserInstallation={(tmp_path / 'profile').as_uri()}",
+            "--headless",
+            "--convert-to",
+            "xlsx",
+            "--outdir",
+            str(out),
+            str(src),
+        ],
+        check=True,
+        capture_output=True,
+        timeout=240,
+    )
+    saved = out / "made.xlsx"
+    for run in (1, 2):
+        outcome = run_to(saved, run_time=STAMP)
+        assert outcome.target == saved and not outcome.copied and outcome.notes == [], run
