@@ -31,6 +31,8 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
+#: Forking and ``os.wait4`` (peak memory of one child) are POSIX; tests skip without them.
+AVAILABLE = hasattr(os, "fork") and hasattr(os, "wait4")
 
 
 def run_jobs(jobs: list[dict], timeout: float) -> dict[str, dict]:

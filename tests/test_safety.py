@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import io
+import random
 import tracemalloc
 import zipfile
 from pathlib import Path
@@ -145,3 +146,80 @@ def test_unkept_parts_are_listed(tmp_path: Path) -> None:
     bad = rewrite(src, tmp_path / "shapes.xlsx", {"xl/drawings/drawing1.xml": shape})
     report = inspect_file(bad)
     assert report.unkept == ["xl/drawings/drawing1.xml (drawn shapes or text boxes)"]
+
+
+# --- the budget counts what the parser will allocate (issue 15) ----------------------------
+
+MAIN = b"http://schemas.openxmlformats.org/spreadsheetml/2006/main"
+
+
+def noise(n: int) -> bytes:
+    """``n`` letters that do not compress much (a part of them stays under the ratio limit)."""
+    return random.Random(n).randbytes(n // 2 + 1).hex().encode()[:n]
+
+
+def with_sheet(tmp_path: Path, body: bytes, name: str = "odd.xlsx", **parts: bytes) -> Path:
+    """A workbook whose first sheet's data is ``body`` (and any other parts given)."""
+    src = plain_workbook(tmp_path / "a.xlsx")
+    sheet = b'<worksheet xmlns="%s" xmlns:x="%s"><sheetData>%s</sheetData></worksheet>' % (
+        MAIN,
+        MAIN,
+        body,
+    )
+    return rewrite(src, tmp_path / name, {"xl/worksheets/sheet1.xml": sheet, **parts})
+
+
+def test_cells_are_counted_under_any_prefix_and_after_any_whitespace(tmp_path: Path) -> None:
+    # XML 1.0 (production S): space, tab, carriage return or line feed may follow a name
+    cells = b"<c/><c>1</c><c r='A3'/><c\tr='A4'/><c\rr='A5'/><c\nr='A6'/><x:c r='A7'/><x:c\n/>"
+    report = inspect_file(with_sheet(tmp_path, b"<row>" + cells + b"</row>"))
+    assert report.cells == 8  # counted by hand
+    assert report.used_cells == 5  # A3 to A7: the block of the cells that say where they are
+
+
+def test_a_merged_range_split_between_two_pieces_is_still_counted(tmp_path: Path) -> None:
+    # the tag starts 10 bytes before the first 1 MiB piece ends
+    head = b'<worksheet xmlns="%s"><sheetData/>' % MAIN
+    pad = b"<x>" + noise(2**20 - 10 - len(head) - len(b"<x></x><mergeCells>")) + b"</x>"
+    sheet = head + pad + b'<mergeCells><mergeCell ref="A1:B600"/></mergeCells></worksheet>'
+    assert sheet.index(b"<mergeCell ") == 2**20 - 10
+    bad = rewrite(
+        plain_workbook(tmp_path / "a.xlsx"),
+        tmp_path / "split.xlsx",
+        {"xl/worksheets/sheet1.xml": sheet},
+    )
+    refused(
+        bad,
+        "the merged range A1:B600 in sheet 'Sheet' .* covers 1,200 cells",
+        Limits(max_cells=1000),
+    )
+
+
+def test_a_reference_spelled_with_character_references_is_read_as_the_parser_reads_it(
+    tmp_path: Path,
+) -> None:
+    body = b'<row r="1"><c r="A1"/></row><row r="1048576"><c r="&#88;F&#x44;1048576"/></row>'
+    refused(with_sheet(tmp_path, body), "uses the cells A1 to XFD1048576")
+
+
+def test_shared_strings_are_found_by_their_content_type_whatever_the_root(tmp_path: Path) -> None:
+    # openpyxl reads the part the content types name, and any <si> in it
+    strings = b'<anything xmlns="%s">%s</anything>' % (MAIN, b"<si><t>x</t></si>" * 1200)
+    types = (
+        b'<?xml version="1.0"?><Types xmlns="http://schemas.openxmlformats.org/package/2006/'
+        b'content-types"><Default Extension="xml" ContentType="application/xml"/>'
+        b'<Override PartName="/xl/words.xml" ContentType="application/vnd.openxmlformats-'
+        b'officedocument.spreadsheetml.sharedStrings+xml"/></Types>'
+    )
+    bad = with_sheet(tmp_path, b"", **{"xl/words.xml": strings, "[Content_Types].xml": types})
+    refused(bad, "over 1,000 different texts", Limits(max_shared_strings=1000))
+
+
+def test_a_tag_longer_than_the_limit_is_refused(tmp_path: Path) -> None:
+    body = b'<row r="1"><c r="A1" junk="' + noise(3 * 2**20) + b'"/></row>'
+    refused(with_sheet(tmp_path, body), "an XML tag over 1 MiB long")
+
+
+def test_elements_are_counted_wherever_they_are(tmp_path: Path) -> None:
+    body = b"<row r='1'><c r='A1'><v>1</v></c></row>" + b"<kept/>" * 1200
+    refused(with_sheet(tmp_path, body), "over 1,000 XML elements", Limits(max_elements=1000))

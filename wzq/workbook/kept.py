@@ -338,8 +338,8 @@ def lost_content(
 ) -> list[str]:
     """What the package ``after`` lacks that ``before`` had, in the user's words.
 
-    Each entry names the sheet (or the workbook) and what would be lost, e.g.
-    ``sheet 'My checks': a picture in the header or footer``. Sheets in
+    One entry per sheet (or the workbook) saying what would be lost there, e.g.
+    ``sheet 'My checks': a picture, a picture in the header or footer``. Sheets in
     ``skip_sheets`` (wzq's own output sheets) are not compared.
     """
     skip = frozenset(skip_sheets)
@@ -350,13 +350,13 @@ def lost_content(
     finally:
         old.zf.close()
         new.zf.close()
-    out: dict[str, None] = {}
+    by_place: dict[str, set[str]] = {}
     for fact, owner in lost.items():
         if fact[1] == "element" and (owner, "part", fact[2]) in lost:
             continue  # the whole part is lost: it is named once
-        where = f"sheet '{owner}'" if owner else "the workbook"
-        out[f"{where}: {_words(fact)}"] = None
-    return sorted(out)
+        by_place.setdefault(owner, set()).add(_words(fact))
+    places = {owner: f"sheet '{owner}'" if owner else "the workbook" for owner in by_place}
+    return [f"{places[o]}: {', '.join(sorted(w))}" for o, w in sorted(by_place.items())]
 
 
 class ContentLost(PlanError):

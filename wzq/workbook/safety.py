@@ -290,12 +290,16 @@ class Budget:
         return _refuse(self.name, message)
 
     def charge_cells(self, n: int, part: str, why: str = "") -> None:
+        """``n`` more cells; ``why`` says where they come from when it is not plain cells."""
         self.report.cells += n
         if self.report.cells > self.limits.max_cells:
-            why = why or f" (the last counted in {self.where(part)})"
+            why = why or (
+                f"the last counted in {self.where(part)}; delete what is not needed, or "
+                "split the workbook"
+            )
             raise self.refuse(
-                f"the workbook holds over {self.limits.max_cells:,} cells{why}, over the limit "
-                "for a closure plan; delete what is not needed, or split the workbook"
+                f"the workbook holds over {self.limits.max_cells:,} cells, over the limit for "
+                f"a closure plan: {why}"
             )
 
     def charge_range(self, tag: str, ref: str, part: str) -> None:
@@ -307,12 +311,16 @@ class Budget:
         area = _area(box)
         if area <= 1:
             return
-        what = "merged range" if tag == "mergeCell" else "hyperlink over the range"
+        what, fix = (
+            ("merged range", "unmerge it")
+            if tag == "mergeCell"
+            else ("hyperlink over the range", "remove the link")
+        )
         self.charge_cells(
             area - 1,
             part,
-            f" (the {what} {ref.strip()} in {self.where(part)} covers {area:,} cells; "
-            "unmerge it or make it smaller)",
+            f"the {what} {ref.strip()} in {self.where(part)} covers {area:,} cells; {fix} "
+            "or make it smaller",
         )
 
     def charge_elements(self, n: int, part: str) -> None:
