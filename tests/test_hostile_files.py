@@ -260,18 +260,18 @@ def zip_bomb_in_the_workbook_part(base: bytes) -> bytes:
     return out.getvalue()
 
 
-def _cells_after(base: bytes, space: bytes) -> bytes:
-    """Six million empty cells on the Start sheet, ``<c`` then ``space`` (stored: ratio 1)."""
+def _cells_after(base: bytes, space: bytes, n: int = 1_100_000) -> bytes:
+    """``n`` empty cells on the Start sheet, ``<c`` then ``space`` (stored: ratio 1 to 1)."""
     parts = parts_of(base)
     name = sheet_part(parts, layout.START)
-    cells = b"<row>" + (b"<c" + space + b"/>") * 6_000_000 + b"</row>"
+    cells = b"<row>" + (b"<c" + space + b"/>") * n + b"</row>"
     parts[name] = parts[name].replace(b"</sheetData>", cells + b"</sheetData>", 1)
     return zipped(parts, stored=[name])
 
 
 def cells_after_a_newline(base: bytes) -> bytes:
-    """Case 4: six million cells written ``<c`` + newline."""
-    return _cells_after(base, b"\n")
+    """Case 4: six million cells written ``<c`` + newline (a 29 MB file)."""
+    return _cells_after(base, b"\n", 6_000_000)
 
 
 def cells_after_a_tab(base: bytes) -> bytes:
