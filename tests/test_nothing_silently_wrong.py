@@ -246,6 +246,15 @@ def test_case_02_designer_plan_typed_with_percent_signs_gives_the_same_results(
     assert a.summary.max_queue_length_m > 0  # the closures do build queues on this demand
 
 
+def test_case_02_percentage_typed_as_text_with_its_sign(kestrel_book: Path, tmp_path: Path) -> None:
+    def text(wb: Any) -> None:
+        cell = set_named(wb, "site_heavy_vehicle_percent", "8 %")
+        cell.number_format = "@"  # a text cell: the sign stays in the text
+
+    got = read_plan(edited(kestrel_book, tmp_path, text))
+    assert got.site.heavy_vehicle_share == pytest.approx(0.08)
+
+
 def test_case_02_fraction_in_a_plain_percent_cell_is_queried(
     kestrel_book: Path, tmp_path: Path
 ) -> None:

@@ -269,7 +269,7 @@ class Precedents:
         if block is not None:
             return [block], []
         # a defined name (sheet-scoped first), standing for cells or for a formula
-        ws = self._sheets.get(home)
+        ws = self._sheets.get(sheet)
         dn = None
         if ws is not None and area in ws.defined_names:
             dn = ws.defined_names[area]
@@ -367,7 +367,8 @@ class Precedents:
             names = ", ".join(f"{f}()" for f in changing)
             out.append(
                 f"its formula uses {names}, whose value changes by itself; wzq uses the result "
-                "saved with the workbook. Type the value to fix it"
+                "saved with the workbook (as of its last recalculation): type the value if it "
+                "must not change"
             )
         if any(r.startswith("[") for r in parts.ranges):
             out.append(
@@ -459,16 +460,15 @@ class WithSavedResults:
         self.original = original
 
     def save(self, filename: Any) -> None:
-        has_formulas = any(
-            formula_text(c) is not None
+        sheets = [
+            ws.title
             for ws in self.book.worksheets
             if ws.title not in L.OUTPUT_SHEETS
-            for c in ws._cells.values()
-        )
-        if not has_formulas:
+            and any(formula_text(c) is not None for c in ws._cells.values())
+        ]
+        if not sheets:
             self.book.save(filename)
             return
-        sheets = [ws.title for ws in self.book.worksheets if ws.title not in L.OUTPUT_SHEETS]
         results = _restorable(self.book, saved_results(self.original, sheets))
         buf = io.BytesIO()
         self.book.save(buf)

@@ -37,7 +37,7 @@ from typing import Any
 
 from openpyxl import Workbook
 from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
-from openpyxl.utils import range_boundaries
+from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.table import Table, TableColumn
 
@@ -197,7 +197,48 @@ def mirror_book(book: Any) -> Workbook:
         _mirror_cells(ws, sheet)
         _mirror_tables(ws, sheet)
     _mirror_names(mirror, _names_of(book))
+    _mirror_percent_formats(mirror, book)
     return mirror
+
+
+def _percent_cells(mirror: Workbook) -> list[tuple[str, str]]:
+    """(sheet, range) of the inputs asked for in percent: named cells and the share columns."""
+    out = []
+    for f in layout.ALL_FIELDS:
+        dn = mirror.defined_names.get(f.name)
+        if f.unit.startswith("%") and dn is not None:
+            with contextlib.suppress(Exception):
+                out += [(sheet, coord.replace("$", "")) for sheet, coord in dn.destinations]
+    for ws in mirror.worksheets:
+        for name, ref in ws.tables.items():  # TableList.items(): (name, ref)
+            if name.casefold() != layout.SHARE_TABLE.casefold():
+                continue
+            min_col, min_row, max_col, max_row = range_boundaries(ref)
+            for col in range(min_col + 1, max_col + 1):  # the share columns, after the hour
+                letter = get_column_letter(col)
+                out.append((ws.title, f"{letter}{min_row + 1}:{letter}{max_row}"))
+    return out
+
+
+def _mirror_percent_formats(mirror: Workbook, book: Any) -> None:
+    """Carry the percent number formats of the percent inputs over: a value Excel shows as
+    8 % is held as 0.08, and the reader reads it by its format (one call per block)."""
+    for sheet, ref in _percent_cells(mirror):
+        if sheet not in mirror.sheetnames:
+            continue
+        fmt = book.sheets[sheet].range(ref).number_format
+        min_col, min_row, max_col, max_row = range_boundaries(ref)
+        held = mirror[sheet]._cells  # only cells holding a value; none is created
+        for r in range(min_row, max_row + 1):
+            for c in range(min_col, max_col + 1):
+                cell = held.get((r, c))
+                if cell is None or cell.value is None:
+                    continue
+                own = fmt
+                if own is None:  # mixed formats in the block: ask per cell
+                    own = book.sheets[sheet].range(cell.coordinate).number_format
+                if own and "%" in own:
+                    cell.number_format = own
 
 
 # --- ownership ---------------------------------------------------------------------------

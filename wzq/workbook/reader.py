@@ -21,6 +21,7 @@ AADT (weekday or weekend column) and compound growth to the work year.
 
 from __future__ import annotations
 
+import contextlib
 import datetime as dt
 import io
 import re
@@ -594,7 +595,8 @@ class _BookReader:
             return self.date(v, field.label, where)
         percent = field.unit.startswith("%")
         if percent and isinstance(v, str) and v.strip().endswith("%"):
-            v, percent_cell = v.strip()[:-1].strip(), False  # '8 %' typed as text: 8
+            with contextlib.suppress(ValueError):  # '8 %' typed as text: 8
+                v, percent_cell = float(v.strip()[:-1].replace(",", "")), False
         x = self.number(v, field.label, where)
         if x is _MISSING:
             return x
@@ -929,14 +931,16 @@ class _BookReader:
             cells = ", ".join(cell_ref(t.ws.title, r, t.min_col) for r in taken[:5])
             more = f" and {len(taken) - 5} more" if len(taken) > 5 else ""
             one = len(taken) == 1
-            these, was, it = (
-                ("this row lies", "was", "it") if one else ("these rows lie", "were", "them")
+            these, was, it, rows = (
+                ("this row lies", "was", "it", "a row")
+                if one
+                else ("these rows lie", "were", "them", "rows")
             )
             self.note(
                 cells + more,
                 f"{these} below the table {t.name} (which ends at row {t.end_row}) and {was} "
                 f"read as part of it; extend the table over {it} so that every program sees "
-                f"{it} as rows of the table",
+                f"{it} as {rows} of the table",
             )
         if hidden:
             cells = ", ".join(cell_ref(t.ws.title, r, t.min_col) for r in hidden[:5])
