@@ -85,9 +85,9 @@ def is_complete_result(path: Path, fingerprint: str) -> bool:
 def _run_forever(path: str, saving) -> None:  # the worker that gets killed
     real = run_module.save_atomic
 
-    def signalled(book, target):  # patched in the worker only: tells the test a save begins
+    def signalled(book, target, **options):  # patched in the worker only: a save begins
         saving.set()
-        return real(book, target)
+        return real(book, target, **options)
 
     run_module.save_atomic = signalled
     while True:
@@ -101,9 +101,9 @@ def _save_seconds(original: bytes, folder: Path) -> tuple[float, float]:
     marks: list[float] = []
     real = run_module.save_atomic
 
-    def timed(book, where):
+    def timed(book, where, **options):
         marks.append(time.perf_counter())
-        out = real(book, where)
+        out = real(book, where, **options)
         marks.append(time.perf_counter())
         return out
 

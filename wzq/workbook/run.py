@@ -181,6 +181,7 @@ def run_to(
     unkept: Literal["copy", "refuse"] = "copy",
     windows: bool | None = None,
     force: bool = False,
+    office_profile: str | None = None,
 ) -> RunOutcome:
     """Analyse the plan in workbook ``path`` and write the results into it (or into ``out``).
 
@@ -198,6 +199,10 @@ def run_to(
 
     An existing ``out`` is replaced only when it is a results file of this plan
     (its Run log names ``path``'s file) or with ``force``.
+
+    ``office_profile`` is for the Recalculate plan command in LibreOffice Calc
+    only: that LibreOffice's own lock file on ``path`` does not block the save
+    (:func:`wzq.workbook.save.own_office_lock`); every other lock still does.
     """
     src = Path(path)
     target = Path(out) if out is not None else src
@@ -234,7 +239,7 @@ def run_to(
                 f"({parts}), so it was left unchanged and the results were written to a "
                 f"copy: {target.name}"
             )
-    check_writable(target)
+    check_writable(target, office_profile=office_profile)
     plan = read_plan_from_book(book, src.name, src, data=data)
     result = wzq.analyse(plan)
     write_results(book, result, source=src.name, run_time=run_time, notes=notes, windows=windows)
@@ -242,7 +247,8 @@ def run_to(
         from wzq.workbook.pictures import add_space_time
 
         result.warnings.extend(add_space_time(book, result))
-    save_atomic(WithSavedResults(book, data), target)  # formulas keep their saved results
+    # formulas keep their saved results
+    save_atomic(WithSavedResults(book, data), target, office_profile=office_profile)
     return RunOutcome(result, target, notes, copied)
 
 

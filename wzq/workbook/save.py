@@ -14,18 +14,28 @@ LibreOffice's ``.~lock.name#`` lies beside it), a read-only target and a folder
 that cannot be written are refused up front with a :class:`PlanError` that says
 what to do; so is a save that fails half-way (a full disk, say), after which
 the target is as it was.
+
+One exception, for the Recalculate plan command in LibreOffice Calc
+(:mod:`wzq.office`): the LibreOffice instance that has the workbook open may
+state its own user profile (``office_profile``), and then its own lock file, and
+only that one, does not count: the lock must name this computer, this login
+and that profile (:func:`own_office_lock`). Excel's lock file and a lock of any
+other LibreOffice (another user, another computer, another profile) still refuse.
 """
 
 from __future__ import annotations
 
 import contextlib
 import errno
+import getpass
 import os
 import secrets
+import socket
 import stat
 import time
 from pathlib import Path
 from typing import Protocol
+from urllib.parse import unquote
 
 from wzq.plan import PlanError, Problem
 
@@ -62,8 +72,72 @@ def real_target(target: str | Path) -> Path:
     return target
 
 
-def _check_not_open(target: Path, where: str) -> None:
-    """Refuse when a spreadsheet program has ``target`` open (its lock file is beside it)."""
+def _lock_fields(text: str) -> list[str]:
+    """The fields of a LibreOffice lock entry: ``,``-separated, ``;``-ended, ``\\``-escaped."""
+    fields, field, escaped = [], "", False
+    for ch in text:
+        if escaped:
+            field, escaped = field + ch, False
+        elif ch == "\\":
+            escaped = True
+        elif ch in ",;":
+            fields.append(field)
+            field = ""
+            if ch == ";":
+                break
+        else:
+            field += ch
+    return fields
+
+
+def _login() -> str:
+    """This process's login name, as LibreOffice records it (the password database on POSIX)."""
+    try:
+        import pwd
+
+        return pwd.getpwuid(os.getuid()).pw_name
+    except (ImportError, KeyError):
+        return getpass.getuser()
+
+
+def _same_profile(a: str, b: str) -> bool:
+    return unquote(a).rstrip("/") == unquote(b).rstrip("/")
+
+
+def own_office_lock(lock: Path, office_profile: str | None) -> bool:
+    """True when LibreOffice's lock file ``lock`` was written by the instance whose user
+    profile (its ``UserInstallation`` URL) is ``office_profile``, on this computer, for
+    this login.
+
+    LibreOffice (7.4, as observed) writes one entry: user name, login, host, time,
+    profile URL, e.g. ``,ana,desk1,04.05.2027 21:00,file:///home/ana/.config/libreoffice/4;``.
+    The host is compared by its first label, case-insensitively (LibreOffice may
+    write the full domain name).
+    """
+    if not office_profile:
+        return False
+    try:
+        fields = _lock_fields(lock.read_text(encoding="utf-8", errors="replace"))
+        me = _login()
+    except (OSError, KeyError):
+        return False
+    if len(fields) < 5:
+        return False
+    _, login, host, _, profile = fields[:5]
+
+    def label(name: str) -> str:
+        return name.split(".")[0].casefold()
+
+    hosts = {label(socket.gethostname()), label(socket.getfqdn())}
+    return login == me and label(host) in hosts and _same_profile(profile, office_profile)
+
+
+def _check_not_open(target: Path, where: str, office_profile: str | None = None) -> None:
+    """Refuse when a spreadsheet program has ``target`` open (its lock file is beside it).
+
+    ``office_profile``: the caller is the LibreOffice with that user profile, which
+    holds the workbook open itself (:func:`own_office_lock`).
+    """
     excel, office = lock_files(target)
     if excel.exists():
         raise PlanError(
@@ -75,7 +149,7 @@ def _check_not_open(target: Path, where: str) -> None:
                 )
             ]
         )
-    if office.exists():
+    if office.exists() and not own_office_lock(office, office_profile):
         raise PlanError(
             [
                 Problem(
@@ -88,12 +162,15 @@ def _check_not_open(target: Path, where: str) -> None:
         )
 
 
-def check_writable(target: str | Path) -> None:
-    """Refuse a target that is open in a spreadsheet program, read-only, or unwritable."""
+def check_writable(target: str | Path, *, office_profile: str | None = None) -> None:
+    """Refuse a target that is open in a spreadsheet program, read-only, or unwritable.
+
+    ``office_profile``: see :func:`own_office_lock` (the Recalculate plan command only).
+    """
     target = Path(target)
     where = str(target)
     for shown in dict.fromkeys((target, real_target(target))):  # a link and its file
-        _check_not_open(shown, where)
+        _check_not_open(shown, where, office_profile)
     target = real_target(target)
     folder = target.parent if str(target.parent) else Path(".")
     if not folder.is_dir():
@@ -173,17 +250,17 @@ def clean_stray_temp_files(target: str | Path) -> list[Path]:
     return removed
 
 
-def save_atomic(book: Saveable, target: str | Path) -> Path:
+def save_atomic(book: Saveable, target: str | Path, *, office_profile: str | None = None) -> Path:
     """Save ``book`` to ``target`` through a temporary file and ``os.replace``.
 
     The temporary file sits in the target's folder (so the replace is a rename
     on one file system). An existing target keeps its permission bits (and,
     where allowed, its owner); a symbolic link is followed and stays a link. On
     any failure the temporary file is removed, the target is untouched and a
-    :class:`PlanError` says what happened.
+    :class:`PlanError` says what happened. ``office_profile``: see :func:`own_office_lock`.
     """
     shown = Path(target)
-    check_writable(shown)
+    check_writable(shown, office_profile=office_profile)
     target = real_target(shown)
     clean_stray_temp_files(target)
     info = target.stat() if target.exists() else None
