@@ -448,6 +448,38 @@ def test_case_05_formula_on_an_output_sheet_is_refused_naming_the_cell(
     assert "takes its value from Summary!B5, on a sheet wzq rewrites on every run" in p.message
 
 
+def test_case_05_what_a_formula_depends_on_is_followed_through_cells_names_and_text() -> None:
+    from openpyxl.workbook.defined_name import DefinedName
+
+    from wzq.workbook.formula_values import Precedents
+
+    wb = openpyxl.Workbook()
+    site = wb.active
+    site.title = "Site"
+    wb.create_sheet("Results")
+    mine = wb.create_sheet("My sheet")
+    site["A1"] = "=B1*2"  # -> B1 -> 'My sheet'!C3 -> a sum over Results
+    site["B1"] = "='My sheet'!C3"
+    mine["C3"] = "=SUM(Results!A1:A10)"
+    wb.defined_names["mine"] = DefinedName("mine", attr_text="'My sheet'!$D$4")
+    mine["D4"] = 5
+    site["A2"] = "=mine*2"  # a name standing for a plain value
+    wb.defined_names["res"] = DefinedName("res", attr_text="Results!$B$7")
+    site["A3"] = "=res+1"  # a name standing for an output cell
+    site["A4"] = '=INDIRECT("Results!B2")'  # an output cell named in text
+    site["A5"], site["A6"] = "=A6", "=A5"  # circular, on input cells only
+    trace = Precedents(wb)
+    assert [trace.output_source("Site", r, 1) for r in range(1, 7)] == [
+        "Results!A1",
+        None,
+        "Results!B7",
+        "Results!B2",
+        None,
+        None,
+    ]
+    assert trace.output_source("Site", 1, 2) == "Results!A1"
+
+
 @pytest.mark.skipif(SOFFICE is None, reason="LibreOffice (soffice) is not installed")
 def test_case_05_round_trip_with_formula_inputs_saved_by_libreoffice(
     kestrel_book: Path, tmp_path: Path, capsys: pytest.CaptureFixture[str]

@@ -54,11 +54,20 @@ _C, _F, _V, _ROW = (f"{{{MAIN_NS}}}{t}" for t in ("c", "f", "v", "row"))
 #: Functions whose value changes by itself (the clock, chance), so a saved result
 #: is only as new as the last recalculation (Excel's and LibreOffice's volatile functions).
 CHANGING_FUNCTIONS = frozenset({"NOW", "TODAY", "RAND", "RANDBETWEEN", "RANDARRAY"})
+#: A cell: (sheet title, row, column).
+Cell = tuple[str, int, int]
+#: Block tests spent passing taint from formula to formula before the trace falls back
+#: to whole sheets (keeps a workbook of many chained formulas fast).
+TRACE_BUDGET = 2_000_000
+#: Blocks wider than this many columns are tested against every tainted cell of their sheet.
+WIDE_COLUMNS = 64
 #: Result types a saved result may carry back (``<c t="...">``): number (no type),
 #: text from a formula, logical, error, ISO date.
 _KEPT_TYPES = {None, "n", "str", "b", "e", "d"}
 
 _CELL_REF = re.compile(r"^\$?([A-Za-z]{1,3})\$?(\d+)$")
+#: A block of cells as a formula writes it (``$`` removed): A1, A1:B2, A:C, 1:3.
+_BLOCK = re.compile(r"[A-Za-z]{1,3}\d+(?::[A-Za-z]{1,3}\d+)?|[A-Za-z]{1,3}:[A-Za-z]{1,3}|\d+:\d+")
 _FORMULA_CELL = re.compile(
     r'<c r="([A-Z]{1,3}[0-9]+)"([^>]*)>(<f(?:\s[^>]*)?(?:/>|>[^<]*</f>))<v\s*(?:/>|></v>)</c>'
 )
@@ -234,21 +243,10 @@ class Precedents:
         self.book = book
         self._sheets = {ws.title: ws for ws in book.worksheets}
         self._output = {name.casefold() for name in L.OUTPUT_SHEETS}
-        self._memo: dict[tuple[str, int, int], str | None] = {}
-        self._formula_index: dict[str, list[tuple[int, int]]] = {}
+        self._tainted: dict[Cell, str] | None = None
 
     def is_output(self, sheet: str) -> bool:
         return sheet.casefold() in self._output
-
-    def _formula_cells_of(self, sheet: str) -> list[tuple[int, int]]:
-        if sheet not in self._formula_index:
-            ws = self._sheets.get(sheet)
-            self._formula_index[sheet] = (
-                []
-                if ws is None
-                else [k for k, c in ws._cells.items() if formula_text(c) is not None]
-            )
-        return self._formula_index[sheet]
 
     def areas(self, ref: str, home: str, depth: int = 0) -> tuple[list[Area], list[str]]:
         """The blocks a reference stands for, and any further formulas (of defined names)."""
@@ -289,6 +287,8 @@ class Precedents:
 
     @staticmethod
     def _area(sheet: str, text: str) -> Area | None:
+        if not _BLOCK.fullmatch(text):  # a bare word is a name, not a column (RES is no RES:RES)
+            return None
         try:
             min_col, min_row, max_col, max_row = range_boundaries(text)
         except (ValueError, TypeError):
@@ -317,40 +317,103 @@ class Precedents:
         Text given to a function (``INDIRECT("Results!B5")``) that names an output
         sheet counts too.
         """
-        key = (sheet, row, col)
-        if key in self._memo:
-            return self._memo[key]
-        self._memo[key] = None  # in progress: a circular reference ends here
-        ws = self._sheets.get(sheet)
-        cell = None if ws is None else ws._cells.get((row, col))
-        formula = None if cell is None else formula_text(cell)
-        found: str | None = None
-        if formula is not None:
-            blocks, parts = self._refs_of(formula, sheet)
-            for text in parts.texts:
-                if any(f"{name.casefold()}!" in text.casefold() for name in L.OUTPUT_SHEETS):
-                    found = text
-                    break
-            for block in blocks if found is None else ():
-                if self.is_output(block.sheet):
-                    found = _show_area(block)
-                    break
-                found = self._through(block)
-                if found is not None:
-                    break
-        self._memo[key] = found
-        return found
+        if self._tainted is None:
+            self._tainted = self._trace()
+        return self._tainted.get((sheet, row, col))
 
-    def _through(self, block: Area) -> str | None:
-        single = block.single
-        if single is not None:
-            return self.output_source(block.sheet, *single)
-        for r, c in self._formula_cells_of(block.sheet):
-            if block.holds(r, c):
-                found = self.output_source(block.sheet, r, c)
-                if found is not None:
-                    return found
+    def _formulas(self) -> dict[Cell, str]:
+        """Every formula outside the output sheets: (sheet, row, column) -> its text."""
+        out = {}
+        for ws in self.book.worksheets:
+            if self.is_output(ws.title):
+                continue
+            for (r, c), cell in ws._cells.items():
+                text = formula_text(cell)
+                if text is not None:
+                    out[(ws.title, r, c)] = text
+        return out
+
+    def _direct(self, text: str, sheet: str) -> str | None:
+        """The output-sheet reference a formula names itself (not through other cells)."""
+        blocks, parts = self._refs_of(text, sheet)
+        for t in parts.texts:
+            if any(f"{name.casefold()}!" in t.casefold() for name in L.OUTPUT_SHEETS):
+                return t
+        for block in blocks:
+            if self.is_output(block.sheet):
+                return _show_area(block)
         return None
+
+    def _trace(self) -> dict[Cell, str]:
+        """Every formula cell whose value follows an output sheet, with the reference it
+        leads to: found directly, then passed on to the formulas that refer to them.
+
+        Only formulas whose text mentions an output sheet (or a name standing for one) can
+        depend on it directly, so a workbook without such formulas costs one pass of
+        substring tests. Passing taint on is bounded (:data:`TRACE_BUDGET` block tests);
+        past it, every formula on a sheet that refers, through sheets, to a tainted one is
+        taken as tainted (never a stale value kept).
+        """
+        formulas = self._formulas()
+        marks = [name.casefold() for name in L.OUTPUT_SHEETS]
+        for name, dn in self.book.defined_names.items():
+            if any(m in str(dn.value or "").casefold() for m in marks):
+                marks.append(name.casefold())
+        tainted: dict[Cell, str] = {}
+        for key, text in formulas.items():
+            low = text.casefold()
+            if any(m in low for m in marks):
+                source = self._direct(text, key[0])
+                if source is not None:
+                    tainted[key] = source
+        if not tainted:
+            return tainted
+        # dependents: by sheet and column of the cells referred to; wide blocks apart
+        by_column: dict[tuple[str, int], list[tuple[Area, Cell]]] = {}
+        wide: dict[str, list[tuple[Area, Cell]]] = {}
+        for key, text in formulas.items():
+            for block in self._refs_of(text, key[0])[0]:
+                if (
+                    block.min_col is None
+                    or block.max_col is None
+                    or (block.max_col - block.min_col > WIDE_COLUMNS)
+                ):
+                    wide.setdefault(block.sheet, []).append((block, key))
+                    continue
+                for c in range(block.min_col, block.max_col + 1):
+                    by_column.setdefault((block.sheet, c), []).append((block, key))
+        work = list(tainted)
+        tests = 0
+        while work:
+            sheet, r, c = cell = work.pop()
+            for block, dep in (*by_column.get((sheet, c), ()), *wide.get(sheet, ())):
+                tests += 1
+                if dep not in tainted and block.holds(r, c):
+                    tainted[dep] = tainted[cell]
+                    work.append(dep)
+            if tests > TRACE_BUDGET:
+                return self._by_sheet(formulas, tainted)
+        return tainted
+
+    def _by_sheet(self, formulas: dict[Cell, str], tainted: dict[Cell, str]) -> dict[Cell, str]:
+        """Taint passed on sheet by sheet: every formula on a sheet that refers, directly or
+        through other sheets, to a sheet holding tainted formulas."""
+        refers: dict[str, set[str]] = {}
+        for (sheet, _, _), text in formulas.items():
+            refers.setdefault(sheet, set()).update(b.sheet for b in self._refs_of(text, sheet)[0])
+        bad = {key[0] for key in tainted}
+        grew = True
+        while grew:
+            more = {s for s, targets in refers.items() if s not in bad and targets & bad}
+            grew = bool(more)
+            bad |= more
+        out = dict(tainted)
+        for key in formulas:
+            if key[0] in bad and key not in out:
+                out[key] = (
+                    f"the sheet '{key[0]}', whose formulas take values from wzq's output sheets"
+                )
+        return out
 
     def notes(self, sheet: str, row: int, col: int) -> list[str]:
         """Why the saved result of this formula may not be today's: functions that change

@@ -963,7 +963,7 @@ class _BookReader:
                 c0, r0, c1, r1 = range_boundaries(str(ref))
             except (ValueError, TypeError):
                 continue
-            if r0 <= row <= r1 and c0 <= col <= c1:
+            if (r0 or 1) <= row <= (r1 or row) and (c0 or 1) <= col <= (c1 or col):
                 return False
         return (ws.title, row, col) not in self.named_cells()
 
@@ -1216,6 +1216,8 @@ class _BookReader:
             try:
                 c0, r0, c1, r1 = range_boundaries(str(ref))
             except (ValueError, TypeError):
+                return
+            if None in (c0, r0, c1, r1):  # not a block of cells: its problem is said if used
                 return
             filled = sorted(
                 r
