@@ -698,10 +698,13 @@ def test_case_09_a_long_plan_runs_and_reports_with_the_windows_left_out(
     pdf = tmp_path / "long.pdf"
     code, _, err = check_output(["report", str(path), "-o", str(pdf)], capsys)
     assert code == 0, err
-    # with the windows sheet switched off the report has no windows page and no note
-    off = fill_template(long_plan(False), tmp_path / "off.xlsx")
-    text = report_text(wzq.analyse(read_plan(off)))
-    assert "Allowable closure hours" not in text and "left out" not in text
+    # the report's windows page follows the option: none when the windows are switched off
+    plan = load_plan(KESTREL)
+    off = dataclasses.replace(
+        plan, options=dataclasses.replace(plan.options, closure_windows=False)
+    )
+    assert "Allowable closure hours" in report_text(wzq.analyse(plan))
+    assert "Allowable closure hours" not in report_text(wzq.analyse(off))
 
 
 # ---------------------------------------------------------------------------------------------

@@ -657,7 +657,20 @@ def input_warnings(plan: Plan) -> list[str]:
     plausibility checks of :mod:`wzq.plausibility`, each naming where the value was typed."""
     model = site_model(plan.site, plan.options.diagram)
     open_cap = model.base_veh_h_ln * plan.site.lanes
-    return [*plan.input_warnings, *plausibility.warnings(plan, open_cap)]
+    return [*plan.input_warnings, *plausibility.warnings(plan, open_cap), *_long_plan(plan)]
+
+
+def _long_plan(plan: Plan) -> list[str]:
+    """Said in advance: the closure windows the plan asks for are left out of a long plan."""
+    from wzq.windows import too_long, too_long_text  # the search imports this module
+
+    if not plan.options.closure_windows or not too_long(plan.demand):
+        return []
+    key = "options.closure_windows"
+    where = plan.where(key)
+    option = f"'Closure windows sheet' ({where}) to no" if where != key else f"{key} to false"
+    n = len(plan.demand.flows_veh_h)
+    return [f"{where}: {too_long_text(n, plan.demand.interval_s, option)}"]
 
 
 def analyse(plan: Plan) -> Result:

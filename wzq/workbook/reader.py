@@ -1072,8 +1072,6 @@ class _BookReader:
         closures = self.closures(values.get("site_lanes"), demand)
         if self.problems:
             raise PlanError(self.explain_below(self.problems))
-        if values["opt_closure_windows"] and demand is not None:
-            self.long_for_windows(demand)
         plan_kw = self.assemble(values, costs, demand, closures)
         try:
             return Plan(**plan_kw, input_warnings=tuple(self.warnings), locations=self.locations())
@@ -1119,16 +1117,6 @@ class _BookReader:
                 )
             )
         return out
-
-    def long_for_windows(self, demand: Demand) -> None:
-        """Say in advance that the closure-window search will leave a long plan out."""
-        from wzq.windows import MAX_INTERVALS, too_long_text
-
-        n = len(demand.flows_veh_h)
-        if n > MAX_INTERVALS:
-            where = self.where_of.get("opt_closure_windows", L.LIMITS)
-            option = f"'Closure windows sheet' ({where}) to no"
-            self.note(where, too_long_text(n, demand.interval_s, option))
 
     def locations(self) -> dict[str, str]:
         """Plan keys (JSON form) -> the cell each was typed in, for later messages."""
