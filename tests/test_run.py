@@ -178,7 +178,7 @@ def test_a_users_own_results_sheet_is_refused(filled, tmp_path, capsys):
     book.save(src)
     before = _digest(src)
     (line,) = _user_error(["run", str(src)], capsys)
-    assert line.startswith("wzq: sheet 'Summary': this sheet was not written by wzq")
+    assert line.startswith("wzq: sheet 'Summary': this sheet of yours has the name of a sheet")
     assert _digest(src) == before
 
 

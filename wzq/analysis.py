@@ -26,7 +26,7 @@ import pandas as pd
 
 from wzq import capacity as cap
 from wzq import costs as road_user_costs
-from wzq import newell
+from wzq import newell, plausibility
 from wzq.flow import FundamentalDiagram, Triangular, make_diagram
 from wzq.plan import NIGHT_END_HOUR, NIGHT_START_HOUR, Closure, Plan, Site, Thresholds
 from wzq.queueing import QueueRun, solve, waits
@@ -122,13 +122,33 @@ def closure_capacity(
         **common,
     )
     if closure.capacity_override_veh_h_ln is not None:
-        return pair  # the user's value wins over every model
+        return typed_capacity(pair.prebreakdown_veh_h, site)  # wins over every model
     # a closure never gives more than the open road (e.g. a shoulder closure
     # behind a hard barrier, whose HCM discharge rate can exceed the open road's)
     return cap.CapacityPair(
         min(pair.prebreakdown_veh_h, open_road.prebreakdown_veh_h),
         min(pair.discharge_veh_h, open_road.discharge_veh_h),
     )
+
+
+def typed_capacity(typed_veh_h: float, site: Site) -> cap.CapacityPair:
+    """Pre-breakdown capacity and discharge rate from a capacity typed for a closure
+    (``override x open lanes``, veh/h), as ``site.capacity_override_is`` says it is meant.
+
+    ``"both"``: the typed value is both (no capacity drop for that closure);
+    ``"discharge"``: it is the queue discharge rate and the pre-breakdown capacity is
+    ``100 QDR / (100 - alpha)``; ``"prebreakdown"``: it is the pre-breakdown capacity and
+    the discharge rate is ``c (100 - alpha) / 100``; alpha is the work-zone capacity drop
+    (HCM 6th/7th ed., Ch. 10: :func:`wzq.capacity.work_zone_prebreakdown_capacity`).
+    """
+    alpha = site.capacity_drop_pct_work_zone
+    if site.capacity_override_is == "discharge":
+        return cap.CapacityPair(
+            cap.work_zone_prebreakdown_capacity(typed_veh_h, alpha), typed_veh_h
+        )
+    if site.capacity_override_is == "prebreakdown":
+        return cap.CapacityPair(typed_veh_h, typed_veh_h * (100.0 - alpha) / 100.0)
+    return cap.CapacityPair(typed_veh_h, typed_veh_h)
 
 
 def work_zone_speed(site: Site, model: SiteModel, closure: Closure, night: bool) -> float:
@@ -610,14 +630,6 @@ def _clock(r: Run, seconds: float) -> dt.datetime:
 def _warnings(r: Run) -> list[str]:
     out: list[str] = []
     site = r.plan.site
-    open_cap = r.model.base_veh_h_ln * site.lanes
-    over_road = r.demand_veh_h > open_cap * (1 + 1e-9)
-    if over_road.any():
-        first = _clock(r, r.t[:-1][over_road][0])
-        out.append(
-            f"demand exceeds the open road's own capacity ({open_cap:,.0f} veh/h) from "
-            f"{first:%Y-%m-%d %H:%M}; part of that queue is not caused by the closure"
-        )
     over = r.demand_veh_h > r.prebreakdown_veh_h
     if over.any():
         # longest stretch of consecutive overloaded intervals, in seconds
@@ -677,7 +689,32 @@ def _long_queue_warning(r: Run) -> str | None:
     )
 
 
+def input_warnings(plan: Plan) -> list[str]:
+    """What the plan's reader noticed about the inputs (``plan.input_warnings``) and the
+    plausibility checks of :mod:`wzq.plausibility`, each naming where the value was typed."""
+    model = site_model(plan.site, plan.options.diagram)
+    open_cap = model.base_veh_h_ln * plan.site.lanes
+    return [*plan.input_warnings, *plausibility.warnings(plan, open_cap), *_long_plan(plan)]
+
+
+def _long_plan(plan: Plan) -> list[str]:
+    """Said in advance: the closure windows the plan asks for are left out of a long plan."""
+    from wzq.windows import too_long, too_long_text  # the search imports this module
+
+    if not plan.options.closure_windows or not too_long(plan.demand):
+        return []
+    key = "options.closure_windows"
+    where = plan.where(key)
+    option = f"'Closure windows sheet' ({where}) to no" if where != key else f"{key} to false"
+    n = len(plan.demand.flows_veh_h)
+    return [f"{where}: {too_long_text(n, plan.demand.interval_s, option)}"]
+
+
 def analyse(plan: Plan) -> Result:
-    """Analyse a plan: capacity, exact queue, queue length and delay, hour by hour."""
+    """Analyse a plan: capacity, exact queue, queue length and delay, hour by hour.
+
+    The result's warnings start with :func:`input_warnings`, then what the run
+    itself shows (long overloads, a queue left standing at the end ...).
+    """
     run = evaluate(plan)
-    return Result(run, _warnings(run))
+    return Result(run, [*input_warnings(plan), *_warnings(run)])

@@ -809,9 +809,17 @@ def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
             "sheet' to yes on the Limits sheet, or run `wzq run PLAN --windows`.",
         )
         return
-    from wzq.windows import plan_windows
+    from wzq.windows import plan_windows, too_long, too_long_text
     from wzq.workbook.windows_sheet import write_windows_sheet
 
+    d = result.plan.demand
+    if too_long(d):  # a long plan runs; its windows are left out, and the sheet says why
+        where = result.plan.where("options.closure_windows")
+        option = f"'Closure windows sheet' ({where}) to no, or run `wzq run PLAN --no-windows`"
+        put_text(
+            book[layout.WINDOWS], 1, 1, too_long_text(len(d.flows_veh_h), d.interval_s, option)
+        )
+        return
     # replaces the empty sheet made by _replace_sheets, at the same position
     write_windows_sheet(book, plan_windows(result.plan), result.plan)
 
