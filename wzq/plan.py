@@ -13,11 +13,14 @@ from __future__ import annotations
 import datetime as dt
 from dataclasses import dataclass, field
 from itertools import pairwise
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
 from wzq.units import UnitSystem
+
+if TYPE_CHECKING:
+    from wzq.design_demand import DemandHistory
 
 Terrain = Literal["level", "rolling"]
 AreaType = Literal["urban", "rural"]
@@ -197,8 +200,30 @@ class Meta:
 
 
 @dataclass(frozen=True)
+class RiskOptions:
+    """How the risk of breaking the limits is assessed (:mod:`wzq.risk`).
+
+    ``capacity_cv``: coefficient of variation of the work-zone capacity, each
+    closure's capacity drawn around the model's value (``None``: as the model
+    gives it); ``draws``: Monte Carlo samples when it is drawn; ``seed`` makes
+    the draws repeatable; ``confidence``: level of the intervals stated for the
+    estimated probabilities.
+    """
+
+    capacity_cv: float | None = None
+    draws: int = 1000
+    seed: int = 1
+    confidence: float = 0.95
+
+
+@dataclass(frozen=True)
 class Plan:
-    """A complete closure plan for one direction of one site."""
+    """A complete closure plan for one direction of one site.
+
+    ``history`` (optional): the count history the demand was designed from,
+    which the risk assessment (:mod:`wzq.risk`) runs scenario by scenario;
+    ``risk`` (optional): how that assessment is made.
+    """
 
     site: Site
     demand: Demand
@@ -207,6 +232,8 @@ class Plan:
     costs: Costs | None = None
     options: Options = field(default_factory=Options)
     meta: Meta = field(default_factory=Meta)
+    history: DemandHistory | None = None
+    risk: RiskOptions | None = None
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "closures", tuple(self.closures))
