@@ -738,13 +738,15 @@ def read_table(
 
 
 def _interval(cells: list[_Cell], interval_minutes: float | None, source: str) -> int:
-    """The count interval (s): given, or the smallest step between the time stamps."""
+    """The count interval (s): given, or the most common step between the time stamps
+    (at most an hour: hourly counts with gaps have longer steps too)."""
     if interval_minutes is not None:
         step = round(interval_minutes * 60)
     else:
         times = np.unique(np.array([c.when for c in cells], dtype="datetime64[s]"))
         diffs = np.diff(times).astype(np.int64)
-        step = int(diffs.min()) if len(diffs) else 3600
+        values, n = np.unique(diffs, return_counts=True)
+        step = min(int(values[np.argmax(n)]), 3600) if len(diffs) else 3600
     if step <= 0 or 3600 % step or step < 60:
         raise PlanError(
             f"the time stamps are {step / 60:g} minutes apart; counts must be for intervals "
@@ -908,13 +910,13 @@ class CountRead:
             ("days", f"{h.n_days:,} in the range, {int(usable.sum()):,} complete and usable"),
             (
                 "gaps",
-                f"{len(gaps):,} days with missing intervals"
+                f"{len(gaps):,} day{'s' if len(gaps) != 1 else ''} with missing intervals"
                 + (f" ({no_count:,} with no count at all)" if no_count else "")
                 + (f"; first {_day_list([d for d, _ in gaps])}" if gaps else ""),
             ),
-            ("left out", f"{len(h.excluded):,} days"),
+            ("left out", f"{len(h.excluded):,} day{'s' if len(h.excluded) != 1 else ''}"),
         ]
-        for day, why in h.excluded[:20]:
+        for day, why in sorted(h.excluded)[:20]:
             lines.append(("", f"{day:%a %Y-%m-%d}: {why}"))
         if len(h.excluded) > 20:
             lines.append(("", f"... and {len(h.excluded) - 20} more"))
@@ -1003,7 +1005,14 @@ def _finish(history: CountHistory, source: str, *, warnings: list[str], **kw: An
         history = CountHistory(
             h.first_day, h.interval_s, h.flows_veh_h, h.excluded + tuple(extra), h.source
         )
-    return CountRead(history, warnings=tuple(warnings + _screen(history)), **kw)
+    return CountRead(
+        history, warnings=tuple(warnings + sorted(_screen(history), key=_by_date)), **kw
+    )
+
+
+def _by_date(warning: str) -> str:
+    """Screen warnings start with the day (``Mon 2026-05-25: ...``): sort them by date."""
+    return warning[4:14]
 
 
 def exclude(
