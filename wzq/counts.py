@@ -620,7 +620,7 @@ class _Cell:
     where: str
 
 
-def _shape(rows: list[Row]) -> tuple[str, int]:
+def _shape(rows: list[Row], source: str) -> tuple[str, int]:
     """``("long", 2 | 3)`` or ``("wide", 24 | 96)`` from the widest data row."""
     width = max(
         (
@@ -636,7 +636,7 @@ def _shape(rows: list[Row]) -> tuple[str, int]:
     raise PlanError(
         f"rows of {width} columns; give date-time and count (2 columns), date, time and "
         "count (3), or a date and 24 hourly (or 96 15-minute) counts",
-        where="counts",
+        where=source,
     )
 
 
@@ -663,7 +663,7 @@ def read_table(
         data = data[1:]  # a header row
     if not data:
         raise PlanError("no counts found; the first column must hold dates", where=source)
-    form, width = _shape(data)
+    form, width = _shape(data, source)
     problems: list[Problem] = []
     cells: list[_Cell] = []
     step: int | None = None
@@ -727,6 +727,12 @@ def read_table(
             cells.append(_Cell(when, c, where(vcol)))
         if problems:
             raise PlanError(problems)
+        if all(c.when.time() == dt.time() for c in cells):
+            raise PlanError(
+                "the time stamps carry no time of day (daily totals?); give hourly or "
+                "15-minute counts, or the wide form: a date, then 24 hourly counts",
+                where=source,
+            )
         step = _interval(cells, interval_minutes, source)
         if stamp == "end":
             for c in cells:

@@ -61,7 +61,7 @@ DAYS_PER_YEAR = 365.25
 DAY_S = 86400
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class CountHistory:
     """Counts of one direction at one station, as flows on a grid of whole days.
 

@@ -109,7 +109,17 @@ def history_demand(
             )
     if "veh_h" in d:
         problems.append(Problem(f"{source}: demand", "give either veh_h or history, not both"))
+    if "interval_minutes" in d:
+        problems.append(
+            Problem(
+                f"{source}: demand.interval_minutes",
+                "the interval comes from the count history; leave it out (or give "
+                "history.interval_minutes when the file does not show it)",
+            )
+        )
     hours = d.get("hours")
+    if isinstance(hours, float) and hours.is_integer():
+        hours = int(hours)
     if isinstance(hours, bool) or not isinstance(hours, int) or not 1 <= hours <= 24 * 400:
         problems.append(
             Problem(

@@ -126,6 +126,8 @@ def cmd_risk(args: argparse.Namespace) -> int:
     options = plan.risk or RiskOptions()
     changes = {}
     if args.cv is not None:
+        if not args.cv >= 0:
+            raise PlanError([Problem("--cv", "give a coefficient of variation, 0 or more")])
         changes["capacity_cv"] = args.cv if args.cv > 0 else None
     for name in ("draws", "seed", "confidence"):
         if getattr(args, name) is not None:
