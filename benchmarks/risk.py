@@ -116,6 +116,11 @@ def compare(label: str, plan: wzq.Plan, sc: Scenarios, rounds: int, target_s: fl
     rows = [
         ("scenarios x hours", f"{len(sc)} x {runs.failing.shape[1]}"),
         (
+            "scenarios with a queue / over a limit",
+            f"{int((runs.queue_max_veh.max(axis=1) > 0).sum())} / "
+            f"{int(runs.failing.any(axis=1).sum())}",
+        ),
+        (
             "run_scenarios, median (range)",
             f"{f_med * 1e3:8.1f} ms ({min(fast) * 1e3:.1f}-{max(fast) * 1e3:.1f})",
         ),
