@@ -20,6 +20,7 @@ from __future__ import annotations
 import datetime as dt
 from dataclasses import dataclass, field
 from functools import cached_property, lru_cache
+from typing import NamedTuple
 
 import numpy as np
 import pandas as pd
@@ -358,14 +359,33 @@ def _no_queue(t: np.ndarray) -> newell.NewellQueue:
     )
 
 
-def evaluate(plan: Plan) -> Run:
-    """The engine's core: capacity, queue, lengths and delays as arrays."""
+class IntervalArrays(NamedTuple):
+    """The plan's time grid and what holds on each interval, before any demand is applied.
+
+    ``t`` boundaries (s); per interval: ``closure`` (index into ``plan.closures``,
+    -1 when open), ``demand_index`` (into ``plan.demand.flows_veh_h``),
+    pre-breakdown capacity and discharge rate (veh/h; equal without the capacity
+    drop), ``extra_s`` (extra seconds per vehicle through the work zone) and
+    ``lanes_open``. Shared by :func:`evaluate` and the scenario engine
+    (:mod:`wzq.risk`), which runs many demands on the same grid.
+    """
+
+    model: SiteModel
+    t: np.ndarray
+    closure: np.ndarray
+    demand_index: np.ndarray
+    prebreakdown_veh_h: np.ndarray
+    discharge_veh_h: np.ndarray
+    extra_s: np.ndarray
+    lanes_open: np.ndarray
+
+
+def interval_arrays(plan: Plan) -> IntervalArrays:
+    """Grid, capacity, discharge rate and work-zone travel time per interval of a plan."""
     site = plan.site
     model = site_model(site, plan.options.diagram)
     starts, ends, conf_of, examples = _closure_table(plan)
     t, hour, ci, di = _grid(plan, starts, ends)
-    dur = np.diff(t)
-    lam = plan.demand.flows_veh_h[di]
     clock_night = night_by_clock(plan.demand.start.hour, hour)
     # one capacity computation per distinct configuration and night flag, not
     # per interval: key = 2 x (configuration + 1) + night, looked up in a table
@@ -390,6 +410,15 @@ def evaluate(plan: Plan) -> Run:
     lanes_open = lanes_u.take(inv)
     if not plan.options.capacity_drop:
         qdr = pre.copy()
+    return IntervalArrays(model, t, ci, di, pre, qdr, extra, lanes_open)
+
+
+def evaluate(plan: Plan) -> Run:
+    """The engine's core: capacity, queue, lengths and delays as arrays."""
+    site = plan.site
+    model, t, ci, di, pre, qdr, extra, lanes_open = interval_arrays(plan)
+    dur = np.diff(t)
+    lam = plan.demand.flows_veh_h[di]
     run = solve(dur, lam / HOUR, pre / HOUR, qdr / HOUR, t=t)
     nq = None
     if plan.options.queue_length_method == "newell" and isinstance(model.diagram, Triangular):

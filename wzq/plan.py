@@ -14,11 +14,14 @@ import datetime as dt
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from itertools import pairwise
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
 from wzq.units import UnitSystem
+
+if TYPE_CHECKING:
+    from wzq.design_demand import DemandHistory
 
 Terrain = Literal["level", "rolling"]
 AreaType = Literal["urban", "rural"]
@@ -210,6 +213,23 @@ class Meta:
 
 
 @dataclass(frozen=True)
+class RiskOptions:
+    """How the risk of breaking the limits is assessed (:mod:`wzq.risk`).
+
+    ``capacity_cv``: coefficient of variation of the work-zone capacity, each
+    closure's capacity drawn around the model's value (``None``: as the model
+    gives it); ``draws``: Monte Carlo samples when it is drawn; ``seed`` makes
+    the draws repeatable; ``confidence``: level of the intervals stated for the
+    estimated probabilities.
+    """
+
+    capacity_cv: float | None = None
+    draws: int = 1000
+    seed: int = 1
+    confidence: float = 0.95
+
+
+@dataclass(frozen=True)
 class Plan:
     """A complete closure plan for one direction of one site.
 
@@ -220,6 +240,10 @@ class Plan:
     form (``site.heavy_vehicle_percent``, ``demand[12]``, ``closures[0].note``)
     to where the user typed it (``Site!B12``); :meth:`where` looks it up. Neither
     takes part in comparisons.
+
+    ``history`` (optional): the count history the demand was designed from,
+    which the risk assessment (:mod:`wzq.risk`) runs scenario by scenario;
+    ``risk`` (optional): how that assessment is made.
     """
 
     site: Site
@@ -231,6 +255,8 @@ class Plan:
     meta: Meta = field(default_factory=Meta)
     input_warnings: tuple[str, ...] = field(default=(), compare=False)
     locations: Mapping[str, str] = field(default_factory=dict, compare=False, repr=False)
+    history: DemandHistory | None = None
+    risk: RiskOptions | None = None
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "closures", tuple(self.closures))

@@ -76,6 +76,7 @@ TOP_KEYS = {
     "thresholds",
     "costs",
     "options",
+    "risk",
 }
 
 
@@ -147,8 +148,12 @@ class _Reader:
             return dt.datetime(2000, 1, 1)
 
 
-def plan_from_dict(data: dict[str, Any], source: str = "plan") -> Plan:
-    """Build a :class:`Plan` from the JSON structure, reporting every problem at once."""
+def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None = None) -> Plan:
+    """Build a :class:`Plan` from the JSON structure, reporting every problem at once.
+
+    ``base`` is the folder a count history's file is named relative to (the
+    plan file's folder; default the current folder).
+    """
     r = _Reader(source)
     if not isinstance(data, dict):
         raise PlanError([Problem(source, "the file must hold one JSON object")])
@@ -198,9 +203,29 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan") -> Plan:
     if not isinstance(d, dict):
         r.bad("demand", "expected an object")
         d = {}
-    r.unknown(d, {"start", "interval_minutes", "veh_h"}, "demand")
+    r.unknown(d, {"start", "interval_minutes", "veh_h", "hours", "history"}, "demand")
     start = r.when(d, "start", "demand")
     interval = r.number(d, "interval_minutes", "demand", 60.0)
+    history = risk = None
+    if "history" in d and not r.problems:  # demand from a count history (wzq.historyio)
+        from wzq.historyio import history_demand
+
+        try:
+            designed, history = history_demand(d, start, source, base)
+            d = {"veh_h": designed.flows_veh_h.tolist()}
+            interval = designed.interval_s / 60
+        except PlanError as e:
+            r.problems += e.problems
+            d = {"veh_h": [0.0]}
+    elif "hours" in d:
+        r.bad("demand.hours", "used only with a count history; give veh_h alone")
+    if data.get("risk") is not None:
+        from wzq.historyio import risk_from_dict
+
+        try:
+            risk = risk_from_dict(data["risk"], source)
+        except PlanError as e:
+            r.problems += e.problems
     flows = d.get("veh_h")
     if not isinstance(flows, list) or not flows:
         r.bad("demand.veh_h", "expected a list of hourly (or 15-minute) flows in veh/h")
@@ -303,6 +328,8 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan") -> Plan:
             costs=costs,
             options=options,
             meta=meta,
+            history=history,
+            risk=risk,
         )
     except PlanError as e:
         raise PlanError([Problem(f"{source}: {p.where}", p.message) for p in e.problems]) from None
@@ -319,7 +346,7 @@ def load_plan(path: str | Path) -> Plan:
         raise PlanError(
             [Problem(f"{path.name}: line {e.lineno}", f"not valid JSON ({e.msg}); fix the syntax")]
         ) from None
-    return plan_from_dict(data, path.name)
+    return plan_from_dict(data, path.name, path.parent)
 
 
 def _iso(t: dt.datetime) -> str:
@@ -404,6 +431,15 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
             "closure_windows": plan.options.closure_windows,
         },
     }
+    if plan.history is not None and plan.history.file:  # the count history, not the flows
+        from wzq.historyio import history_to_dict
+
+        hours = len(plan.demand.flows_veh_h) * plan.demand.interval_s / 3600
+        out["demand"] = history_to_dict(plan.history, plan.demand.start, round(hours))
+    if plan.risk is not None:
+        from wzq.historyio import risk_to_dict
+
+        out["risk"] = risk_to_dict(plan.risk)
     if plan.costs is not None:
         c = plan.costs
         out["costs"] = {
