@@ -81,7 +81,8 @@ def measure(src: Path, folder: Path, repeat: int) -> tuple[float, float, float]:
     floors, runs = [], []
     for i in range(repeat):
         floors.append(floor_once(src, folder / f"floor{i}.xlsx"))
-        runs.append(run_once(src, folder / f"run{i}.xlsx"))
+        # an output of its own: wzq run -o never replaces another plan's results
+        runs.append(run_once(src, folder / f"{src.stem}-run{i}.xlsx"))
     ratio = statistics.median(r / f for f, r in zip(floors, runs, strict=True))
     return min(floors), min(runs), ratio
 

@@ -37,7 +37,14 @@ import wzq
 from wzq.office.build import script_url
 from wzq.office.commands import office_env
 from wzq.planio import load_plan
-from wzq.tables import hour_label, hourly_columns, hourly_display, summary_lines
+from wzq.tables import (
+    episode_title,
+    hour_label,
+    hourly_columns,
+    hourly_display,
+    shown_episodes,
+    summary_lines,
+)
 from wzq.workbook import layout
 from wzq.workbook.reader import read_plan
 from wzq.workbook.run import run_workbook
@@ -244,11 +251,14 @@ def test_summary_and_permit_table_hold_the_edited_plans_numbers(pressed):
 
 def test_charts_are_in_the_reloaded_document(pressed, office):
     charts = office.call("charts", sheet=layout.CHARTS)
+    # the two hour-by-hour charts, then one cumulative chart per queue of the edited plan
+    shown, _ = shown_episodes(pressed["expected"])
     assert [c["title"] for c in charts] == [
-        "Demand and capacity by hour",
+        "Demand, capacity and queue discharge rate by hour",
         "Longest queue by hour",
-        "Cumulative arrivals and departures",
+        *(episode_title(pressed["expected"], ep) for ep in shown),
     ]
+    assert shown  # the edited plan queues, so the cumulative charts are not the "no queue" one
     assert all(c["series"] >= 2 for c in charts)
 
 

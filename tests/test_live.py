@@ -776,3 +776,19 @@ def test_a_dotted_workbook_name_is_refused(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "has '.'" in err and f"for example {tmp_path / 'plan_v2.xlsm'}" in err
     assert list(tmp_path.iterdir()) == []
+
+
+def test_case_02_percent_sign_cells_read_the_same_live(filled, tmp_path):
+    """Issue 14, case 2 on the live backend: a value Excel shows as 8 % (held as 0.08 in a
+    percent-formatted cell) is 8 %, as the file reader reads it."""
+    src = tmp_path / "pct.xlsx"
+    wb = openpyxl.load_workbook(filled["fenwick"])
+    sheet, coord = next(iter(wb.defined_names["site_heavy_vehicle_percent"].destinations))
+    cell = wb[sheet][coord.replace("$", "")]
+    cell.value, cell.number_format = 0.12, "0%"
+    wb.save(src)
+    from_file = read_plan(src)
+    from_live = read_plan_from_book(live.mirror_book(open_book(src)), src.name)
+    assert from_file.site.heavy_vehicle_share == pytest.approx(0.12)
+    assert from_live.site.heavy_vehicle_share == pytest.approx(0.12)
+    assert not [w for w in from_live.input_warnings if "did you mean" in w]

@@ -19,9 +19,11 @@ import pytest
 from openpyxl import Workbook, load_workbook
 from openpyxl.styles import Font, PatternFill
 from openpyxl.utils import get_column_letter, range_boundaries
+from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.table import Table, TableColumn
 from workbook_helpers import (
     closure_row,
+    edited,
     fill_template,
     find_table,
     named_cell,
@@ -36,6 +38,7 @@ from wzq.plan import Closure, Demand, Plan, PlanError, Problem
 from wzq.planio import load_plan
 from wzq.workbook import layout as L
 from wzq.workbook.reader import read_plan, read_plan_from_book
+from wzq.workbook.writer import MARKER_NAME
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"
@@ -66,16 +69,6 @@ def assert_same_plan(a: Plan, b: Plan) -> None:
 @pytest.fixture(scope="module")
 def kestrel_book(tmp_path_factory: pytest.TempPathFactory) -> Path:
     return fill_template(load_plan(KESTREL), tmp_path_factory.mktemp("k") / "kestrel.xlsx")
-
-
-def edited(base: Path, tmp_path: Path, edit: Callable[[Any], Any], name: str = "") -> Path:
-    """A copy of ``base`` changed by ``edit(wb)`` and saved, as a user would."""
-    path = tmp_path / (name or base.name)
-    shutil.copyfile(base, path)
-    wb = load_workbook(path, keep_vba=path.suffix == ".xlsm")
-    edit(wb)
-    wb.save(path)
-    return path
 
 
 # ---------------------------------------------------------------------------------------------
@@ -221,11 +214,13 @@ def test_inserted_rows_restyling_and_own_sheets_still_read(
                 tableColumns=[TableColumn(id=1, name="Hour"), TableColumn(id=2, name="Veh")],
             )
         )
-        # output sheets from an earlier run, full of numbers: ignored
+        # output sheets from an earlier run (listed in wzq's marker), full of numbers: ignored
         for name in L.OUTPUT_SHEETS:
             out = wb.create_sheet(name)
             out["A1"] = "old results"
             out["B5"] = 99999
+        marker = '"' + "|".join(L.OUTPUT_SHEETS) + '"'
+        wb.defined_names[MARKER_NAME] = DefinedName(MARKER_NAME, attr_text=marker, hidden=True)
         wb.move_sheet(L.LIMITS, offset=-2)
 
     path = edited(kestrel_book, tmp_path, user)
@@ -495,7 +490,7 @@ def value_below_closures(wb: Any) -> tuple[str, str]:
     ws, t = find_table(wb, L.CLOSURE_TABLE)
     below = range_boundaries(t.ref)[3] + 1
     ws.cell(below, 1).value = dt.datetime(2027, 5, 5)
-    return f"Closures!A{below}", "is not read; extend the table"
+    return f"Closures!B{below}", "this row lies below the table ClosureTable and is read"
 
 
 def missing_name(wb: Any) -> tuple[str, str]:
@@ -610,7 +605,7 @@ BAD_INPUTS: dict[str, Callable[[Any], tuple[str, str]]] = {
     "unknown barrier": in_table(CL, 0, "Barrier", "plastic fence", "'plastic fence' is not"),
     "unknown night work": in_table(CL, 0, "Night work", "sometimes", "'sometimes' is not in"),
     "unreadable time": in_table(CL, 0, "From", "9pm", "'9pm' is not a time"),
-    "start past 24:00": in_table(CL, 0, "From", "25:00", "'25:00' is past 24:00"),
+    "start past 24:00": in_table(CL, 0, "From", "25:00", "From is 25:00, past 24:00"),
     "blank lanes closed": in_table(CL, 0, "Lanes closed", None, "Lanes closed is blank"),
     "blank closure end": in_table(CL, 0, "To", None, "To is blank"),
     "override out of range": in_table(

@@ -241,7 +241,10 @@ def test_open_road_metric_report(open_metric) -> None:
     assert "no queue forms" in flat(" ".join(texts)).lower()
     # no costs entered: priced at the published defaults (wzq.costs.DEFAULT_COSTS);
     # an open road with no queue and no closure costs nothing
-    assert "Road-user delay cost 0 USD (2017 prices)" in flat(texts[0])
+    assert (
+        "Road-user delay cost 0 USD (2017 prices; published defaults, as no values of time "
+        "were entered: update them)" in flat(texts[0])
+    )
 
 
 def test_demand_column_is_the_plans_input(one_day) -> None:

@@ -44,8 +44,7 @@ def _digest(path: Path) -> str:
 def _results_table(path: Path) -> tuple[list[str], list[tuple]]:
     ws = openpyxl.load_workbook(path)[layout.RESULTS]
     rows = list(ws.iter_rows(min_row=w.RESULTS_HEADER_ROW, values_only=True))
-    # a unit's hyphen is written unbreakable (U+2011): the header reads the same
-    header = [h.replace(w.NO_BREAK_HYPHEN, "-") if isinstance(h, str) else h for h in rows[0]]
+    header = list(rows[0])
     return header, [r for r in rows[1:] if r[0] is not None]
 
 
@@ -179,7 +178,7 @@ def test_a_users_own_results_sheet_is_refused(filled, tmp_path, capsys):
     book.save(src)
     before = _digest(src)
     (line,) = _user_error(["run", str(src)], capsys)
-    assert line.startswith("wzq: sheet 'Summary': this sheet was not written by wzq")
+    assert line.startswith("wzq: sheet 'Summary': this sheet of yours has the name of a sheet")
     assert _digest(src) == before
 
 

@@ -41,13 +41,16 @@ def _book(path: Path) -> Path:
 
 
 def test_saved_results_come_back_typed_as_openpyxl_types_a_typed_value(tmp_path) -> None:
-    from wzq.workbook.saved_values import Saved, SavedValues
+    from wzq.workbook.formula_values import saved_results
+    from wzq.workbook.saved_values import SharedStrings, typed
 
-    saved = SavedValues(_book(tmp_path / "formulas.xlsx").read_bytes())
+    data = _book(tmp_path / "formulas.xlsx").read_bytes()
+    saved = saved_results(data)
+    strings = SharedStrings(data)
     fmt = {3: "yyyy-mm-dd", 4: "hh:mm", 5: "[h]:mm"}
 
-    def value(row: int) -> object:
-        return saved.value("Inputs", row, 1, fmt.get(row, "General"))
+    def value(row: int, sheet: str = "Inputs", col: int = 1) -> object:
+        return typed(saved[sheet].get((row, col)), fmt.get(row, "General"), strings=strings)
 
     assert value(1) == 65 and isinstance(value(1), int)
     assert value(2) == 0.25
@@ -57,11 +60,25 @@ def test_saved_results_come_back_typed_as_openpyxl_types_a_typed_value(tmp_path)
     assert value(6) == "cones"
     assert value(7) is True
     assert value(8) == "#DIV/0!"
-    assert value(9) == ""  # an empty text result, not "no value"
-    assert saved.raw("Inputs", 9, 1) == Saved("n", "")  # XlsxWriter leaves out t="str"
-    assert saved.value("Inputs", 1, 2) is None  # no formula there
-    assert saved.value("Other sheet", 1, 1) == 4
-    assert saved.value("No such sheet", 1, 1) is None
+    assert value(9) == ""  # an empty result, not "no value"
+    assert value(1, col=2) is None  # a typed value: no formula, no saved result to look up
+    assert value(1, sheet="Other sheet") == 4
+
+
+def test_a_result_kept_in_the_shared_strings_is_looked_up(tmp_path) -> None:
+    from wzq.workbook.formula_values import Saved
+    from wzq.workbook.saved_values import SharedStrings, typed
+
+    path = tmp_path / "strings.xlsx"
+    wb = xlsxwriter.Workbook(str(path))
+    ws = wb.add_worksheet("S")
+    for i, text in enumerate(["cones", "drums", "barrier"]):
+        ws.write_string(i, 0, text)  # XlsxWriter keeps text in the shared-string table
+    wb.close()
+    strings = SharedStrings(path.read_bytes())
+    assert typed(Saved("s", "2"), strings=strings) == "barrier"
+    assert typed(Saved("s", "0"), strings=strings) == "cones"
+    assert typed(Saved("s", "7"), strings=strings) is None  # no such entry
 
 
 @pytest.mark.skipif(not AVAILABLE, reason="measuring a process needs fork and wait4")

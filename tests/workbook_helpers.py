@@ -11,6 +11,8 @@ time cells. Other tests reuse these helpers.
 from __future__ import annotations
 
 import datetime as dt
+import shutil
+from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
@@ -118,6 +120,7 @@ def plan_values(plan: Plan) -> dict[str, Any]:
             None if s.jam_density is None else u.per_m_to_density(s.jam_density, system)
         ),
         "site_capacity_method": L.word_for(L.METHOD_WORDS, s.capacity_method),
+        "site_override_is": L.word_for(L.OVERRIDE_WORDS, s.capacity_override_is),
         "site_base_capacity": s.base_capacity_pc_h_ln,
         "site_capacity_drop_work_zone": s.capacity_drop_pct_work_zone,
         "site_capacity_drop_open": s.capacity_drop_pct_open,
@@ -202,6 +205,16 @@ def fill_book(wb: Workbook, plan: Plan) -> None:
     write_table(wb, L.CLOSURE_TABLE, [closure_row(c) for c in plan.closures])
 
 
+def edited(base: Path, tmp_path: Path, edit: Callable[[Any], Any], name: str = "") -> Path:
+    """A copy of ``base`` changed by ``edit(wb)`` and saved, as a user would."""
+    path = Path(tmp_path) / (name or Path(base).name)
+    shutil.copyfile(base, path)
+    wb = load_workbook(path, keep_vba=path.suffix == ".xlsm")
+    edit(wb)
+    wb.save(path)
+    return path
+
+
 def fill_template(plan: Plan, path: Path, macro: bool = False) -> Path:
     """Build a fresh template at ``path`` and type ``plan`` into it; returns ``path``."""
     path = Path(path)
@@ -209,4 +222,44 @@ def fill_template(plan: Plan, path: Path, macro: bool = False) -> Path:
     wb = load_workbook(path, keep_vba=macro)
     fill_book(wb, plan)
     wb.save(path)
+    return path
+
+
+def save_results_as_a_spreadsheet_program(path: Path, results: dict[tuple[str, str], Any]) -> Path:
+    """Give formula cells the saved result a spreadsheet program would write beside them.
+
+    openpyxl writes a formula with an empty ``<v>``; Excel and LibreOffice save the
+    result there. ``results`` maps (sheet, cell) to the result: a number, ``True``/
+    ``False``, or text (``""`` for a formula showing nothing). The sheet XML of the
+    saved file is edited in place (independently of wzq's own code for this).
+    """
+    import io
+    import re
+    import zipfile
+    from xml.sax.saxutils import escape
+
+    path = Path(path)
+    book = load_workbook(path, read_only=True)
+    order = book.sheetnames
+    book.close()
+    parts: dict[str, dict[str, Any]] = {}
+    for (sheet, coord), value in results.items():
+        parts.setdefault(f"xl/worksheets/sheet{order.index(sheet) + 1}.xml", {})[coord] = value
+    out = io.BytesIO()
+    with zipfile.ZipFile(path) as zin, zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as zout:
+        for info in zin.infolist():
+            data = zin.read(info)
+            for coord, value in parts.get(info.filename, {}).items():
+                if isinstance(value, bool):
+                    t, v = ' t="b"', str(int(value))
+                elif isinstance(value, str):
+                    t, v = ' t="str"', escape(value)
+                else:
+                    t, v = "", repr(float(value))
+                pattern = re.compile(rf'<c r="{coord}"([^>]*)>(<f>[^<]*</f>)<v\s*(?:/>|></v>)</c>')
+                text, n = pattern.subn(rf'<c r="{coord}"\1{t}>\2<v>{v}</v></c>', data.decode())
+                assert n == 1, f"{coord}: no formula cell to give a result"
+                data = text.encode()
+            zout.writestr(info, data)
+    path.write_bytes(out.getvalue())
     return path

@@ -20,13 +20,14 @@ from __future__ import annotations
 import datetime as dt
 from dataclasses import dataclass, field
 from functools import cached_property, lru_cache
+from typing import NamedTuple
 
 import numpy as np
 import pandas as pd
 
 from wzq import capacity as cap
 from wzq import costs as road_user_costs
-from wzq import newell
+from wzq import newell, plausibility
 from wzq.flow import FundamentalDiagram, Triangular, make_diagram
 from wzq.plan import NIGHT_END_HOUR, NIGHT_START_HOUR, Closure, Plan, Site, Thresholds
 from wzq.queueing import QueueRun, solve, waits
@@ -122,13 +123,33 @@ def closure_capacity(
         **common,
     )
     if closure.capacity_override_veh_h_ln is not None:
-        return pair  # the user's value wins over every model
+        return typed_capacity(pair.prebreakdown_veh_h, site)  # wins over every model
     # a closure never gives more than the open road (e.g. a shoulder closure
     # behind a hard barrier, whose HCM discharge rate can exceed the open road's)
     return cap.CapacityPair(
         min(pair.prebreakdown_veh_h, open_road.prebreakdown_veh_h),
         min(pair.discharge_veh_h, open_road.discharge_veh_h),
     )
+
+
+def typed_capacity(typed_veh_h: float, site: Site) -> cap.CapacityPair:
+    """Pre-breakdown capacity and discharge rate from a capacity typed for a closure
+    (``override x open lanes``, veh/h), as ``site.capacity_override_is`` says it is meant.
+
+    ``"both"``: the typed value is both (no capacity drop for that closure);
+    ``"discharge"``: it is the queue discharge rate and the pre-breakdown capacity is
+    ``100 QDR / (100 - alpha)``; ``"prebreakdown"``: it is the pre-breakdown capacity and
+    the discharge rate is ``c (100 - alpha) / 100``; alpha is the work-zone capacity drop
+    (HCM 6th/7th ed., Ch. 10: :func:`wzq.capacity.work_zone_prebreakdown_capacity`).
+    """
+    alpha = site.capacity_drop_pct_work_zone
+    if site.capacity_override_is == "discharge":
+        return cap.CapacityPair(
+            cap.work_zone_prebreakdown_capacity(typed_veh_h, alpha), typed_veh_h
+        )
+    if site.capacity_override_is == "prebreakdown":
+        return cap.CapacityPair(typed_veh_h, typed_veh_h * (100.0 - alpha) / 100.0)
+    return cap.CapacityPair(typed_veh_h, typed_veh_h)
 
 
 def work_zone_speed(site: Site, model: SiteModel, closure: Closure, night: bool) -> float:
@@ -338,14 +359,33 @@ def _no_queue(t: np.ndarray) -> newell.NewellQueue:
     )
 
 
-def evaluate(plan: Plan) -> Run:
-    """The engine's core: capacity, queue, lengths and delays as arrays."""
+class IntervalArrays(NamedTuple):
+    """The plan's time grid and what holds on each interval, before any demand is applied.
+
+    ``t`` boundaries (s); per interval: ``closure`` (index into ``plan.closures``,
+    -1 when open), ``demand_index`` (into ``plan.demand.flows_veh_h``),
+    pre-breakdown capacity and discharge rate (veh/h; equal without the capacity
+    drop), ``extra_s`` (extra seconds per vehicle through the work zone) and
+    ``lanes_open``. Shared by :func:`evaluate` and the scenario engine
+    (:mod:`wzq.risk`), which runs many demands on the same grid.
+    """
+
+    model: SiteModel
+    t: np.ndarray
+    closure: np.ndarray
+    demand_index: np.ndarray
+    prebreakdown_veh_h: np.ndarray
+    discharge_veh_h: np.ndarray
+    extra_s: np.ndarray
+    lanes_open: np.ndarray
+
+
+def interval_arrays(plan: Plan) -> IntervalArrays:
+    """Grid, capacity, discharge rate and work-zone travel time per interval of a plan."""
     site = plan.site
     model = site_model(site, plan.options.diagram)
     starts, ends, conf_of, examples = _closure_table(plan)
     t, hour, ci, di = _grid(plan, starts, ends)
-    dur = np.diff(t)
-    lam = plan.demand.flows_veh_h[di]
     clock_night = night_by_clock(plan.demand.start.hour, hour)
     # one capacity computation per distinct configuration and night flag, not
     # per interval: key = 2 x (configuration + 1) + night, looked up in a table
@@ -370,6 +410,15 @@ def evaluate(plan: Plan) -> Run:
     lanes_open = lanes_u.take(inv)
     if not plan.options.capacity_drop:
         qdr = pre.copy()
+    return IntervalArrays(model, t, ci, di, pre, qdr, extra, lanes_open)
+
+
+def evaluate(plan: Plan) -> Run:
+    """The engine's core: capacity, queue, lengths and delays as arrays."""
+    site = plan.site
+    model, t, ci, di, pre, qdr, extra, lanes_open = interval_arrays(plan)
+    dur = np.diff(t)
+    lam = plan.demand.flows_veh_h[di]
     run = solve(dur, lam / HOUR, pre / HOUR, qdr / HOUR, t=t)
     nq = None
     if plan.options.queue_length_method == "newell" and isinstance(model.diagram, Triangular):
@@ -610,14 +659,6 @@ def _clock(r: Run, seconds: float) -> dt.datetime:
 def _warnings(r: Run) -> list[str]:
     out: list[str] = []
     site = r.plan.site
-    open_cap = r.model.base_veh_h_ln * site.lanes
-    over_road = r.demand_veh_h > open_cap * (1 + 1e-9)
-    if over_road.any():
-        first = _clock(r, r.t[:-1][over_road][0])
-        out.append(
-            f"demand exceeds the open road's own capacity ({open_cap:,.0f} veh/h) from "
-            f"{first:%Y-%m-%d %H:%M}; part of that queue is not caused by the closure"
-        )
     over = r.demand_veh_h > r.prebreakdown_veh_h
     if over.any():
         # longest stretch of consecutive overloaded intervals, in seconds
@@ -677,7 +718,32 @@ def _long_queue_warning(r: Run) -> str | None:
     )
 
 
+def input_warnings(plan: Plan) -> list[str]:
+    """What the plan's reader noticed about the inputs (``plan.input_warnings``) and the
+    plausibility checks of :mod:`wzq.plausibility`, each naming where the value was typed."""
+    model = site_model(plan.site, plan.options.diagram)
+    open_cap = model.base_veh_h_ln * plan.site.lanes
+    return [*plan.input_warnings, *plausibility.warnings(plan, open_cap), *_long_plan(plan)]
+
+
+def _long_plan(plan: Plan) -> list[str]:
+    """Said in advance: the closure windows the plan asks for are left out of a long plan."""
+    from wzq.windows import too_long, too_long_text  # the search imports this module
+
+    if not plan.options.closure_windows or not too_long(plan.demand):
+        return []
+    key = "options.closure_windows"
+    where = plan.where(key)
+    option = f"'Closure windows sheet' ({where}) to no" if where != key else f"{key} to false"
+    n = len(plan.demand.flows_veh_h)
+    return [f"{where}: {too_long_text(n, plan.demand.interval_s, option)}"]
+
+
 def analyse(plan: Plan) -> Result:
-    """Analyse a plan: capacity, exact queue, queue length and delay, hour by hour."""
+    """Analyse a plan: capacity, exact queue, queue length and delay, hour by hour.
+
+    The result's warnings start with :func:`input_warnings`, then what the run
+    itself shows (long overloads, a queue left standing at the end ...).
+    """
     run = evaluate(plan)
-    return Result(run, _warnings(run))
+    return Result(run, [*input_warnings(plan), *_warnings(run)])

@@ -33,6 +33,7 @@ import hashlib
 import multiprocessing
 import os
 import platform
+import re
 import sys
 import threading
 import time
@@ -62,6 +63,10 @@ from wzq.plan import PlanError, Problem
 #: File types read as plans.
 PLAN_SUFFIXES = (".xlsx", ".xlsm", ".json")
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
+#: Spreadsheets wzq cannot read: listed as plans not analysed (save as .xlsx), never skipped.
+UNREAD_SUFFIXES = (".ods", ".fods", ".xls", ".xlsb", ".numbers")
+#: The copy ``wzq run`` writes beside a workbook it cannot keep: ``plan (wzq results).xlsx``.
+_RESULTS_COPY = re.compile(r"^(?P<stem>.+) \(wzq results(?: \d+)?\)(?P<suffix>\.xls[xm])$", re.I)
 #: The summary's file name when none is given (written inside the folder).
 DEFAULT_SUMMARY = "batch-summary.xlsx"
 #: Times a plan is tried again after its worker died (local pool) or failed (Dask).
@@ -245,14 +250,31 @@ def is_batch_summary(path: Path) -> bool:
     return part is not None and f'name="{STATE_SHEET}"'.encode() in part
 
 
+def results_copy_of(path: Path) -> Path | None:
+    """The workbook ``path`` is the results copy of (``plan (wzq results).xlsx`` beside
+    ``plan.xlsx``), when that workbook is there; else ``None``."""
+    m = _RESULTS_COPY.match(path.name)
+    if m is None:
+        return None
+    original = path.with_name(m.group("stem") + m.group("suffix"))
+    return original if original.is_file() else None
+
+
 def find_plans(
-    folder: Path, *, recursive: bool = False, exclude: Iterable[Path] = ()
+    folder: Path,
+    *,
+    recursive: bool = False,
+    exclude: Iterable[Path] = (),
+    skipped: list[str] | None = None,
 ) -> list[Path]:
     """Plan files in ``folder`` (and below it when ``recursive``), sorted by relative path.
 
     Skipped: lock files of open workbooks (``~$*``), hidden and temporary files
     (``.*``, which includes wzq's own ``.wzq-*`` files while they are written),
-    files in hidden folders, the paths in ``exclude`` and any wzq bulk summary.
+    files in hidden folders, the paths in ``exclude``, any wzq bulk summary and
+    the results copy ``wzq run`` wrote beside a plan (``plan (wzq results).xlsx``;
+    said in ``skipped``). Spreadsheets wzq cannot read (:data:`UNREAD_SUFFIXES`)
+    are listed, so that each is reported as a plan not analysed.
     """
     skip = {p.resolve() for p in exclude}
     pattern = "**/*" if recursive else "*"
@@ -261,11 +283,20 @@ def find_plans(
         rel = p.relative_to(folder)
         if any(part.startswith((".", "~$")) for part in rel.parts):
             continue
-        if p.suffix.lower() not in PLAN_SUFFIXES or not p.is_file():
+        suffix = p.suffix.lower()
+        if suffix not in PLAN_SUFFIXES + UNREAD_SUFFIXES or not p.is_file():
             continue
         if p.resolve() in skip:
             continue
-        if p.suffix.lower() == ".xlsx" and is_batch_summary(p):
+        if suffix == ".xlsx" and is_batch_summary(p):
+            continue
+        original = results_copy_of(p)
+        if original is not None:
+            if skipped is not None:
+                skipped.append(
+                    f"{rel.as_posix()} skipped: it is the results copy of {original.name}, "
+                    "not a plan of its own"
+                )
             continue
         out.append(p)
     return sorted(out, key=lambda p: p.relative_to(folder).as_posix())
@@ -591,7 +622,12 @@ def run_batch(
     target = Path(summary) if summary is not None else folder / DEFAULT_SUMMARY
     _check_output(target)
     notes: list[str] = []
-    files = find_plans(folder, recursive=recursive, exclude=(target, target.with_suffix(".csv")))
+    files = find_plans(
+        folder,
+        recursive=recursive,
+        exclude=(target, target.with_suffix(".csv")),
+        skipped=notes,
+    )
     if not files:
         notes.append(
             f"no plan files (.xlsx, .xlsm, .json) in {folder}"

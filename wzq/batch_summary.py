@@ -179,11 +179,14 @@ def plan_row(file: str, result: Result) -> PlanRow:
     status = STATUS_OVER if failing else (STATUS_OK if checked else STATUS_NO_LIMITS)
     cost: float | None = None
     basis = ""
-    if plan.costs is not None:
-        from wzq.costs import total_cost
+    if s.total_cost is not None:  # blank values of time: the published defaults, as everywhere
+        from wzq.costs import plan_costs
 
-        cost = rounded(total_cost(result), 0)
-        basis = f"{plan.costs.currency} {plan.costs.dollar_year}"
+        used = plan_costs(plan)
+        cost = rounded(s.total_cost, 0)
+        basis = f"{used.currency} {used.dollar_year}" + (
+            " (published defaults)" if plan.costs is None else ""
+        )
     return PlanRow(
         file=file,
         title=plan.meta.title,

@@ -90,8 +90,8 @@ METHODS: tuple[str, ...] = ("hcm7", "hcm2000")
 METHOD_LABELS: dict[str, str] = {
     "hcm7": (
         "Current HCM work-zone method (6th/7th edition, Chapter 10): queue discharge rate "
-        "from closure severity, barrier type, area type, lateral clearance and light, "
-        "with a pre-breakdown capacity above it"
+        "from closure severity (LCSI = 1/(OR x N_o), at most 2.0), barrier type, area type, "
+        "lateral clearance and light, with a pre-breakdown capacity above it"
     ),
     "hcm2000": (
         "Older HCM short-term work-zone method (HCM 2000/2010): 1,600 pc/h/ln adjusted "

@@ -216,6 +216,7 @@ EXTRA_MODULES = (
     "wzq.report_cli",
     "wzq.batch_cli",
     "wzq.lwr_cli",
+    "wzq.risk_cli",
     "wzq.office.commands",
 )
 #: Other modules add their sub-commands here (workbook, batch, report ...).

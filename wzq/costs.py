@@ -152,6 +152,10 @@ def total_cost(result: Result, costs: Costs | None = None) -> float:
     return float(delay_cost(result.summary.total_delay_veh_h, c, plan.site.heavy_vehicle_share))
 
 
+#: Said wherever a cost priced at :data:`DEFAULT_COSTS` is shown, because no values were given.
+DEFAULTS_NOTE = "published defaults, as no values of time were entered: update them"
+
+
 def cost_basis(costs: Costs, heavy_vehicle_share: float) -> str:
     """One line saying how delay is priced, for tables and reports."""
     p = truck_share(costs, heavy_vehicle_share)

@@ -11,13 +11,17 @@ problem is (sheet and cell, JSON key, or row) and what to do about it.
 from __future__ import annotations
 
 import datetime as dt
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from itertools import pairwise
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
 from wzq.units import UnitSystem
+
+if TYPE_CHECKING:
+    from wzq.design_demand import DemandHistory
 
 Terrain = Literal["level", "rolling"]
 AreaType = Literal["urban", "rural"]
@@ -26,6 +30,7 @@ DriverPopulation = Literal["commuter", "familiar", "balanced", "unfamiliar"]
 CapacityMethod = Literal["hcm7", "hcm2000"]
 Diagram = Literal["triangular", "greenshields", "capped-greenshields"]
 QueueLengthMethod = Literal["newell", "shockwave"]
+OverrideMeaning = Literal["both", "discharge", "prebreakdown"]
 
 TERRAINS: tuple[str, ...] = ("level", "rolling")
 AREA_TYPES: tuple[str, ...] = ("urban", "rural")
@@ -34,6 +39,11 @@ DRIVER_POPULATIONS: tuple[str, ...] = ("commuter", "familiar", "balanced", "unfa
 CAPACITY_METHODS: tuple[str, ...] = ("hcm7", "hcm2000")
 DIAGRAMS: tuple[str, ...] = ("triangular", "greenshields", "capped-greenshields")
 QUEUE_LENGTH_METHODS: tuple[str, ...] = ("newell", "shockwave")
+#: What a capacity typed for a closure stands for: both the pre-breakdown capacity and
+#: the queue discharge rate (no capacity drop for that closure), the queue discharge
+#: rate, or the pre-breakdown capacity (the other then follows from the work-zone
+#: capacity drop, HCM 6th/7th ed., Ch. 10).
+OVERRIDE_MEANINGS: tuple[str, ...] = ("both", "discharge", "prebreakdown")
 
 #: Hours counted as night-time for the HCM work-zone day/night term when a
 #: closure does not say (19:00 to 06:00; common practice, no source).
@@ -68,6 +78,9 @@ class PlanError(ValueError):
 class Site:
     """One direction of travel at the work zone.
 
+    ``capacity_override_is`` says what a capacity typed for a closure
+    (:attr:`Closure.capacity_override_veh_h_ln`) stands for (:data:`OVERRIDE_MEANINGS`).
+
     ``lanes`` is the number of lanes in normal operation. Speeds are m/s,
     lengths metres, ``jam_density`` veh/m per lane (``None``: 190 pc/mi/ln times
     the heavy-vehicle factor, HCM 7th ed.). ``free_flow_speed`` ``None`` means
@@ -92,6 +105,7 @@ class Site:
     capacity_drop_pct_open: float = 7.0
     work_intensity_pc_h_ln: float = 0.0
     ramp_adjustment_pc_h_ln: float = 0.0
+    capacity_override_is: OverrideMeaning = "both"
     name: str = ""
     direction: str = ""
     unit_system: UnitSystem = "us"
@@ -102,7 +116,9 @@ class Closure:
     """One lane closure: from ``start`` to ``end`` (local clock, naive datetimes).
 
     ``night`` ``None`` means derived from the clock (19:00-06:00).
-    ``capacity_override_veh_h_ln`` wins over every capacity model.
+    ``capacity_override_veh_h_ln`` wins over every capacity model; what it stands
+    for (pre-breakdown capacity, queue discharge rate, or both) is
+    :attr:`Site.capacity_override_is`.
     """
 
     start: dt.datetime
@@ -197,8 +213,38 @@ class Meta:
 
 
 @dataclass(frozen=True)
+class RiskOptions:
+    """How the risk of breaking the limits is assessed (:mod:`wzq.risk`).
+
+    ``capacity_cv``: coefficient of variation of the work-zone capacity, each
+    closure's capacity drawn around the model's value (``None``: as the model
+    gives it); ``draws``: Monte Carlo samples when it is drawn; ``seed`` makes
+    the draws repeatable; ``confidence``: level of the intervals stated for the
+    estimated probabilities.
+    """
+
+    capacity_cv: float | None = None
+    draws: int = 1000
+    seed: int = 1
+    confidence: float = 0.95
+
+
+@dataclass(frozen=True)
 class Plan:
-    """A complete closure plan for one direction of one site."""
+    """A complete closure plan for one direction of one site.
+
+    ``input_warnings`` are what the reader of the plan's file noticed about the
+    inputs (a table that was extended, a percentage that may be a fraction, a
+    formula whose result is zero ...); :func:`wzq.analysis.analyse` puts them
+    first in the result's warnings. ``locations`` maps a plan key in the JSON
+    form (``site.heavy_vehicle_percent``, ``demand[12]``, ``closures[0].note``)
+    to where the user typed it (``Site!B12``); :meth:`where` looks it up. Neither
+    takes part in comparisons.
+
+    ``history`` (optional): the count history the demand was designed from,
+    which the risk assessment (:mod:`wzq.risk`) runs scenario by scenario;
+    ``risk`` (optional): how that assessment is made.
+    """
 
     site: Site
     demand: Demand
@@ -207,12 +253,21 @@ class Plan:
     costs: Costs | None = None
     options: Options = field(default_factory=Options)
     meta: Meta = field(default_factory=Meta)
+    input_warnings: tuple[str, ...] = field(default=(), compare=False)
+    locations: Mapping[str, str] = field(default_factory=dict, compare=False, repr=False)
+    history: DemandHistory | None = None
+    risk: RiskOptions | None = None
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "closures", tuple(self.closures))
+        object.__setattr__(self, "input_warnings", tuple(self.input_warnings))
         problems = validate(self)
         if problems:
             raise PlanError(problems)
+
+    def where(self, key: str) -> str:
+        """Where the value of ``key`` (a JSON-form key) was typed: a sheet cell, else the key."""
+        return self.locations.get(key, key)
 
 
 def _check_choice(value: str, choices: tuple[str, ...], where: str, out: list[Problem]) -> None:
@@ -256,6 +311,7 @@ def validate(plan: Plan) -> list[Problem]:
     _check_choice(s.area_type, AREA_TYPES, "site.area_type", out)
     _check_choice(s.driver_population, DRIVER_POPULATIONS, "site.driver_population", out)
     _check_choice(s.capacity_method, CAPACITY_METHODS, "site.capacity_method", out)
+    _check_choice(s.capacity_override_is, OVERRIDE_MEANINGS, "site.capacity_override_is", out)
     _check_choice(plan.options.diagram, DIAGRAMS, "options.diagram", out)
     _check_choice(
         plan.options.queue_length_method, QUEUE_LENGTH_METHODS, "options.queue_length_method", out

@@ -49,6 +49,7 @@ SITE_KEYS = {
     "jam_density",
     "ramp_density",
     "capacity_method",
+    "capacity_override_is",
     "base_capacity_pc_h_ln",
     "capacity_drop_percent_work_zone",
     "capacity_drop_percent_open",
@@ -75,6 +76,7 @@ TOP_KEYS = {
     "thresholds",
     "costs",
     "options",
+    "risk",
 }
 
 
@@ -146,8 +148,12 @@ class _Reader:
             return dt.datetime(2000, 1, 1)
 
 
-def plan_from_dict(data: dict[str, Any], source: str = "plan") -> Plan:
-    """Build a :class:`Plan` from the JSON structure, reporting every problem at once."""
+def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None = None) -> Plan:
+    """Build a :class:`Plan` from the JSON structure, reporting every problem at once.
+
+    ``base`` is the folder a count history's file is named relative to (the
+    plan file's folder; default the current folder).
+    """
     r = _Reader(source)
     if not isinstance(data, dict):
         raise PlanError([Problem(source, "the file must hold one JSON object")])
@@ -185,6 +191,7 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan") -> Plan:
         jam_density=None if jam is None else u.density_to_per_m(jam, system),
         ramp_density=r.number(s, "ramp_density", "site", 0.0, lo=0) / u.LONG_LENGTH[system][1],
         capacity_method=r.text(s, "capacity_method", "site", "hcm7"),
+        capacity_override_is=r.text(s, "capacity_override_is", "site", "both"),
         base_capacity_pc_h_ln=r.number(s, "base_capacity_pc_h_ln", "site", None),
         capacity_drop_pct_work_zone=r.number(s, "capacity_drop_percent_work_zone", "site", 13.4),
         capacity_drop_pct_open=r.number(s, "capacity_drop_percent_open", "site", 7.0),
@@ -196,9 +203,29 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan") -> Plan:
     if not isinstance(d, dict):
         r.bad("demand", "expected an object")
         d = {}
-    r.unknown(d, {"start", "interval_minutes", "veh_h"}, "demand")
+    r.unknown(d, {"start", "interval_minutes", "veh_h", "hours", "history"}, "demand")
     start = r.when(d, "start", "demand")
     interval = r.number(d, "interval_minutes", "demand", 60.0)
+    history = risk = None
+    if "history" in d and not r.problems:  # demand from a count history (wzq.historyio)
+        from wzq.historyio import history_demand
+
+        try:
+            designed, history = history_demand(d, start, source, base)
+            d = {"veh_h": designed.flows_veh_h.tolist()}
+            interval = designed.interval_s / 60
+        except PlanError as e:
+            r.problems += e.problems
+            d = {"veh_h": [0.0]}
+    elif "hours" in d:
+        r.bad("demand.hours", "used only with a count history; give veh_h alone")
+    if data.get("risk") is not None:
+        from wzq.historyio import risk_from_dict
+
+        try:
+            risk = risk_from_dict(data["risk"], source)
+        except PlanError as e:
+            r.problems += e.problems
     flows = d.get("veh_h")
     if not isinstance(flows, list) or not flows:
         r.bad("demand.veh_h", "expected a list of hourly (or 15-minute) flows in veh/h")
@@ -301,6 +328,8 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan") -> Plan:
             costs=costs,
             options=options,
             meta=meta,
+            history=history,
+            risk=risk,
         )
     except PlanError as e:
         raise PlanError([Problem(f"{source}: {p.where}", p.message) for p in e.problems]) from None
@@ -317,7 +346,7 @@ def load_plan(path: str | Path) -> Plan:
         raise PlanError(
             [Problem(f"{path.name}: line {e.lineno}", f"not valid JSON ({e.msg}); fix the syntax")]
         ) from None
-    return plan_from_dict(data, path.name)
+    return plan_from_dict(data, path.name, path.parent)
 
 
 def _iso(t: dt.datetime) -> str:
@@ -357,6 +386,7 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
             ),
             "ramp_density": rnd(s.ramp_density * u.LONG_LENGTH[system][1]),
             "capacity_method": s.capacity_method,
+            "capacity_override_is": s.capacity_override_is,
             "base_capacity_pc_h_ln": s.base_capacity_pc_h_ln,
             "capacity_drop_percent_work_zone": s.capacity_drop_pct_work_zone,
             "capacity_drop_percent_open": s.capacity_drop_pct_open,
@@ -401,6 +431,15 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
             "closure_windows": plan.options.closure_windows,
         },
     }
+    if plan.history is not None and plan.history.file:  # the count history, not the flows
+        from wzq.historyio import history_to_dict
+
+        hours = len(plan.demand.flows_veh_h) * plan.demand.interval_s / 3600
+        out["demand"] = history_to_dict(plan.history, plan.demand.start, round(hours))
+    if plan.risk is not None:
+        from wzq.historyio import risk_to_dict
+
+        out["risk"] = risk_to_dict(plan.risk)
     if plan.costs is not None:
         c = plan.costs
         out["costs"] = {

@@ -82,13 +82,14 @@ def _lindley(net: np.ndarray, q0: float) -> np.ndarray:
 
     Lindley's recursion ``Q[k+1] = max(0, Q[k] + net[k])`` in closed form:
     ``Q[k] = S[k] - min(-q0, min_{1<=j<=k} S[j])`` with ``S`` the running sum.
+    Along the last axis, so a 2-D ``net`` holds one independent run per row.
     """
-    s = np.empty(len(net) + 1)
-    s[0] = 0.0
-    np.cumsum(net, out=s[1:])
+    s = np.empty((*net.shape[:-1], net.shape[-1] + 1))
+    s[..., 0] = 0.0
+    np.cumsum(net, axis=-1, out=s[..., 1:])
     floor = s.copy()
-    floor[0] = -q0
-    np.minimum.accumulate(floor, out=floor)
+    floor[..., 0] = -q0
+    np.minimum.accumulate(floor, axis=-1, out=floor)
     q = s - floor
     q[q < EMPTY] = 0.0
     return q

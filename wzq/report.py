@@ -67,7 +67,7 @@ from wzq import report_charts as charts
 from wzq import units as u
 from wzq.analysis import Result
 from wzq.capacity import METHOD_LABELS
-from wzq.plan import PlanError, Problem
+from wzq.plan import PlanError, Problem, Site
 from wzq.tables import hour_label, hourly_columns, hourly_display, summary_lines
 from wzq.workbook import layout as L
 
@@ -860,8 +860,17 @@ WINDOW_MARKS = {"#": "yes", "+": "part", ".": "-"}
 
 def windows_section(result: Result, st: Styles, width: float) -> list[Flowable]:
     """Allowable closure hours of each configuration on this plan's demand (wzq.windows)."""
-    from wzq.windows import longest_windows, plan_windows, windows_table
+    from wzq.windows import longest_windows, plan_windows, too_long, too_long_text, windows_table
 
+    d = result.plan.demand
+    if too_long(d):  # a long plan is reported; its windows are left out, with the reason
+        key = "options.closure_windows"
+        where = result.plan.where(key)
+        option = f"{where} to no" if where != key else f"{key} to false"
+        return [
+            Paragraph("Allowable closure hours", st.h1),
+            Paragraph(text(too_long_text(len(d.flows_veh_h), d.interval_s, option)), st.body),
+        ]
     found = plan_windows(result.plan)
     table = windows_table(found, symbols=True)
     hours = [f"{h:02d}" for h in range(24)]
@@ -958,6 +967,22 @@ def space_time_section(
     ]
 
 
+def typed_capacity_text(s: Site) -> str:
+    """What a capacity typed for a closure stands for (``Site.capacity_override_is``)."""
+    alpha = f"{s.capacity_drop_pct_work_zone:.1f} %"
+    return {
+        "both": "A capacity typed for a closure replaces the model for that closure and is used "
+        "as both its pre-breakdown capacity and its queue discharge rate: no capacity drop "
+        "applies to it.",
+        "discharge": "A capacity typed for a closure replaces the model for that closure and is "
+        "its queue discharge rate; its pre-breakdown capacity is 100 QDR / (100 − α) with the "
+        f"work-zone capacity drop α = {alpha}.",
+        "prebreakdown": "A capacity typed for a closure replaces the model for that closure and "
+        "is its pre-breakdown capacity; its queue discharge rate is c (100 − α) / 100 with the "
+        f"work-zone capacity drop α = {alpha}.",
+    }[s.capacity_override_is]
+
+
 def method_section(result: Result, st: Styles, width: float) -> list[Flowable]:
     """What the engine did, naming the published sources it follows."""
     plan = result.plan
@@ -975,7 +1000,9 @@ def method_section(result: Result, st: Styles, width: float) -> list[Flowable]:
     if s.capacity_method == "hcm7":
         p.append(
             "<b>Work-zone capacity.</b> HCM 7th edition, Chapter 10, freeway work zones: lane "
-            "closure severity index LCSI = 1 / (OR × N<sub>o</sub>); queue discharge rate "
+            "closure severity index LCSI = 1 / (OR × N<sub>o</sub>), at most 2.0 (the cap the "
+            "chapter sets for very severe closures such as 3 to 1 and 4 to 1); queue discharge "
+            "rate "
             "QDR = 2,093 − 154 LCSI − 194 f<sub>Br</sub> − 179 f<sub>AT</sub> + "
             "9 f<sub>LAT</sub> − 59 f<sub>DN</sub> pc/h/ln (barrier type, area type, lateral "
             "clearance, day or night); pre-breakdown capacity c = 100 QDR / (100 − α) with "
@@ -990,6 +1017,8 @@ def method_section(result: Result, st: Styles, width: float) -> list[Flowable]:
             "entrance ramps, times the heavy-vehicle factor and the open lanes. This older "
             "model has no separate pre-breakdown capacity."
         )
+    if any(c.capacity_override_veh_h_ln is not None for c in plan.closures):
+        p.append(f"<b>Typed capacity.</b> {text(typed_capacity_text(s))}")
     if o.capacity_drop:
         p.append(
             "<b>Capacity drop.</b> Until a queue forms the section carries up to its "
@@ -1119,7 +1148,7 @@ def text_problems(result: Result) -> list[Problem]:
     fields += [(f"closures[{i}].note", c.note) for i, c in enumerate(plan.closures)]
     return [
         Problem(
-            where,
+            plan.where(where),  # the sheet and cell of a workbook plan
             f"{len(value):,} characters is too long to print (at most {MAX_FIELD_CHARS}); "
             "shorten it and put the detail in the plan's notes",
         )
@@ -1185,7 +1214,8 @@ def build_report(
     story += [PageBreak(), *inputs_section(result, st, width)]
     story += [soft, *hourly_section(result, st, width)]
     story += [PageBreak(), *charts_section(result, st, width, height, vector)]
-    story += [soft, *windows_section(result, st, width)]
+    if plan.options.closure_windows:  # the windows page follows the plan's option
+        story += [soft, *windows_section(result, st, width)]
     if plan.options.space_time:
         story += [PageBreak(), *space_time_section(result, st, width, height, vector)]
     story += [soft, *method_section(result, st, width)]

@@ -54,6 +54,10 @@ def cmd_report(args: argparse.Namespace) -> int:
         plan = dataclasses.replace(
             plan, options=dataclasses.replace(plan.options, space_time=args.space_time)
         )
+    if args.windows is not None:
+        plan = dataclasses.replace(
+            plan, options=dataclasses.replace(plan.options, closure_windows=args.windows)
+        )
     out = output_path(source, args.output)
     result = wzq.analyse(plan)
     try:
@@ -101,6 +105,13 @@ def register(sub: argparse._SubParsersAction) -> None:
         default=None,
         help="add (or leave out) the space-time check, an LWR simulation of the approach "
         "(default: as the plan says)",
+    )
+    p.add_argument(
+        "--windows",
+        action=argparse.BooleanOptionalAction,
+        default=None,
+        help="add (or leave out) the page of allowable closure hours "
+        "(default: as the plan says: 'Closure windows sheet' on the Limits sheet)",
     )
     p.set_defaults(func=cmd_report)
 

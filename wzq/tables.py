@@ -105,10 +105,10 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
     ]
     if s.total_cost is not None:
         c = road_user_costs.plan_costs(result.plan)
-        lines.insert(
-            3,
-            ("Road-user delay cost", f"{s.total_cost:,.0f} {c.currency} ({c.dollar_year} prices)"),
-        )
+        basis = f"{c.dollar_year} prices"
+        if result.plan.costs is None:  # blank values of time: priced at the defaults, said so
+            basis += f"; {road_user_costs.DEFAULTS_NOTE}"
+        lines.insert(3, ("Road-user delay cost", f"{s.total_cost:,.0f} {c.currency} ({basis})"))
     return lines
 
 

@@ -90,8 +90,29 @@ from wzq.shockwave import stored_density
 from wzq.units import HOUR
 
 #: Longest demand series the search accepts, in intervals (the allowed set is an
-#: ``n x (n+1)`` table; 4,032 is 6 weeks of hourly or 6 weeks of 15-minute data).
+#: ``n x (n+1)`` table; 4,032 is 24 weeks of hourly or 6 weeks of 15-minute data).
 MAX_INTERVALS = 6 * 7 * 24 * 4
+
+
+def too_long(demand: Demand) -> bool:
+    """The demand is longer than the closure-window search takes (:data:`MAX_INTERVALS`)."""
+    return len(demand.flows_veh_h) > MAX_INTERVALS
+
+
+def too_long_text(n: int, interval_s: int, option: str) -> str:
+    """Why the closure windows of a plan with ``n`` demand intervals are left out, and what
+    to do; ``option`` says how to switch the search off (``'Closure windows sheet'
+    (Limits!B30) to no``)."""
+    span = n * interval_s / (24 * HOUR)
+    weeks = MAX_INTERVALS * interval_s / (7 * 24 * HOUR)
+    return (
+        f"closure windows are left out: the demand has {n:,} intervals ({span:,.0f} days of "
+        f"{interval_s // 60}-minute data), more than the {MAX_INTERVALS:,} the window search "
+        f"takes ({weeks:g} weeks of this data). Search a few weeks at a time, or a typical "
+        f"weekday and weekend day with `wzq windows PLAN --typical`. To leave them out "
+        f"without this note, set {option}"
+    )
+
 
 #: Relative margin by which the jam-density screen of :func:`_evaluate` stays below
 #: any queue length a method can give (rounding).

@@ -129,9 +129,14 @@ def cmd_link(args: argparse.Namespace) -> int:
 
 
 def cmd_check(args: argparse.Namespace) -> int:
+    from wzq.analysis import input_warnings
+
     path = Path(args.path)
     plan = cli.load_any(path)
+    warnings = input_warnings(plan)
     print(f"{path}: no problems found; {describe(plan)}")
+    for w in warnings:
+        print(f"warning: {w}")
     return cli.EXIT_OK
 
 
@@ -154,8 +159,10 @@ def register(sub: argparse._SubParsersAction) -> None:
         "check",
         help="validate a plan (workbook or JSON) and list every problem; writes nothing",
         description="Read and validate a plan and list every problem, each with its sheet "
-        "and cell and what to do. Nothing is written; the file is left as it was. "
-        "Exit status 0: no problems; 2: problems listed.",
+        "and cell and what to do, then the warnings: inputs read in a way worth a second "
+        "look (a percentage that may be a fraction, rows typed below a table, a zero demand "
+        "between busy hours ...). Nothing is written; the file is left as it was. "
+        "Exit status 0: no problems (warnings may follow); 2: problems listed.",
     )
     p.add_argument("path", help="a .xlsx/.xlsm workbook or a .json plan")
     p.set_defaults(func=cmd_check)

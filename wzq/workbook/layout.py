@@ -92,6 +92,11 @@ QUEUE_METHOD_WORDS: Choices = (
     ("Newell kinematic waves", "newell"),
     ("single shockwave", "shockwave"),
 )
+OVERRIDE_WORDS: Choices = (
+    ("both: no capacity drop", "both"),
+    ("queue discharge rate", "discharge"),
+    ("pre-breakdown capacity", "prebreakdown"),
+)
 HOURLY = "hourly"
 AADT = "aadt"
 DEMAND_MODE_WORDS: Choices = (("hourly counts", HOURLY), ("from AADT", AADT))
@@ -318,6 +323,8 @@ SITE_SECTIONS: tuple[Section, ...] = (
                 "choice",
                 template="HCM 7th ed. work zone",
                 choices=METHOD_WORDS,
+                note="HCM 7th: severity LCSI = 1/(OR x N_o), at most 2.0 (HCM ch. 10); "
+                "QDR = 2093 - 154 LCSI - 194 f_Br - 179 f_AT + 9 f_LAT - 59 f_DN",
             ),
             Field(
                 "site_base_capacity",
@@ -368,6 +375,15 @@ SITE_SECTIONS: tuple[Section, ...] = (
                 bounds=(0.0, 1000.0),
                 note="HCM 2000 method only",
             ),
+            Field(
+                "site_override_is",
+                "A closure capacity typed on the Closures sheet is",
+                "choice",
+                template="both: no capacity drop",
+                choices=OVERRIDE_WORDS,
+                note="both: used as pre-breakdown capacity and discharge rate; otherwise the "
+                "other one follows from the work-zone capacity drop",
+            ),
         ),
     ),
     Section(
@@ -386,7 +402,9 @@ SITE_SECTIONS: tuple[Section, ...] = (
 )
 #: Names a workbook made by an older template may lack; the reader then uses the
 #: template value instead of reporting a problem.
-OPTIONAL_NAMES: frozenset[str] = frozenset({"site_space_time", "opt_closure_windows"})
+OPTIONAL_NAMES: frozenset[str] = frozenset(
+    {"site_space_time", "opt_closure_windows", "site_override_is"}
+)
 
 # Limits sheet --------------------------------------------------------------------------------
 
@@ -432,7 +450,8 @@ COST_FIELDS: tuple[Field, ...] = (
         "number",
         "per person-hour",
         bounds=(0.0, 1000.0),
-        note="leave this and the next two blank to skip road-user costs",
+        note="this and the next two blank: published defaults (2017 US dollars, TTI memo to "
+        "TxDOT 2018: cars 28.69, trucks 36.28 per veh-h); type your agency's values",
     ),
     Field("cost_car_occupancy", "Car occupancy", "number", "persons/veh", bounds=(1.0, 10.0)),
     Field(

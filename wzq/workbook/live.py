@@ -39,7 +39,7 @@ from typing import Any
 
 from openpyxl import Workbook
 from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
-from openpyxl.utils import range_boundaries
+from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.table import Table, TableColumn
 
@@ -212,7 +212,64 @@ def mirror_book(book: Any) -> Workbook:
             _mirror_cells(ws, used[sheet.name])
             _mirror_tables(ws, sheet)
     _mirror_names(mirror, _names_of(book))
+    _mirror_percent_formats(mirror, book)
     return mirror
+
+
+def _block(text: str) -> tuple[int, int, int, int] | None:
+    """(min_col, min_row, max_col, max_row) of a block of cells, or ``None``."""
+    try:
+        bounds = range_boundaries(text.replace("$", ""))
+    except (ValueError, TypeError):
+        return None
+    return None if None in bounds else bounds  # type: ignore[return-value]
+
+
+def _percent_cells(mirror: Workbook) -> list[tuple[str, tuple[int, int, int, int]]]:
+    """(sheet, block) of the inputs asked for in percent: named cells and the share columns."""
+    out = []
+    for f in layout.ALL_FIELDS:
+        dn = mirror.defined_names.get(f.name)
+        if f.unit.startswith("%") and dn is not None:
+            with contextlib.suppress(Exception):
+                for sheet, coord in dn.destinations:
+                    block = _block(coord)
+                    if block is not None:  # the reader reads the first cell of a name
+                        out.append((sheet, (block[0], block[1], block[0], block[1])))
+    for ws in mirror.worksheets:
+        for name, ref in ws.tables.items():  # TableList.items(): (name, ref)
+            block = _block(str(ref))
+            if name.casefold() != layout.SHARE_TABLE.casefold() or block is None:
+                continue
+            min_col, min_row, max_col, max_row = block
+            if max_row > min_row:  # the share columns, after the hour, below the header
+                out.append((ws.title, (min_col + 1, min_row + 1, max_col, max_row)))
+    return out
+
+
+def _mirror_percent_formats(mirror: Workbook, book: Any) -> None:
+    """Carry the percent number formats of the percent inputs over: a value Excel shows as
+    8 % is held as 0.08, and the reader reads it by its format (one call per block)."""
+    for sheet, (min_col, min_row, max_col, max_row) in _percent_cells(mirror):
+        if sheet not in mirror.sheetnames:
+            continue
+        held = mirror[sheet]._cells  # only cells holding a value; none is created
+        cells = [
+            held[(r, c)]
+            for r in range(min_row, max_row + 1)
+            for c in range(min_col, max_col + 1)
+            if (r, c) in held and held[(r, c)].value is not None
+        ]
+        if not cells:
+            continue
+        ref = f"{get_column_letter(min_col)}{min_row}:{get_column_letter(max_col)}{max_row}"
+        fmt = book.sheets[sheet].range(ref).number_format
+        for cell in cells:
+            own = fmt
+            if own is None:  # mixed formats in the block: ask per cell
+                own = book.sheets[sheet].range(cell.coordinate).number_format
+            if own and "%" in own:
+                cell.number_format = own
 
 
 # --- ownership ---------------------------------------------------------------------------

@@ -22,6 +22,7 @@ AADT (weekday or weekend column) and compound growth to the work year.
 
 from __future__ import annotations
 
+import contextlib
 import datetime as dt
 import io
 import re
@@ -34,7 +35,7 @@ from typing import Any
 import numpy as np
 from defusedxml import DefusedXmlException
 from openpyxl import load_workbook
-from openpyxl.cell.cell import ERROR_CODES
+from openpyxl.cell.cell import ERROR_CODES, MergedCell
 from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.utils.datetime import from_excel, to_excel
 from openpyxl.workbook.workbook import Workbook
@@ -54,9 +55,10 @@ from wzq.plan import (
     Site,
     Thresholds,
 )
+from wzq.workbook import formula_values as FV
 from wzq.workbook import layout as L
 from wzq.workbook.safety import read_checked
-from wzq.workbook.saved_values import SavedValues
+from wzq.workbook.saved_values import SharedStrings, typed
 
 #: File suffixes read as workbooks.
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
@@ -69,6 +71,12 @@ MAX_SERIAL = 2_958_465.99999
 #: Years a closure plan's dates may fall in; anything else is a typing mistake, and it
 #: keeps date arithmetic far from the ends of the calendar (common practice, no source).
 FIRST_YEAR, LAST_YEAR = 1900, 2199
+#: Serial numbers below this are days of 1900: a small number typed where a date or
+#: time belongs, never a closure date (common practice, no source).
+DAYS_IN_1900 = 367
+#: A growth rate in percent per year smaller than this (in size) looks like a fraction
+#: typed for a percentage (0.02 for 2 %) (common practice, no source).
+FRACTION_GROWTH = 0.1
 
 _MISSING = object()  # a value that could not be read (its problem is already recorded)
 _ISO_DATE = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})$")
@@ -93,6 +101,7 @@ _PLAN_KEYS: dict[str, str] = {
     "site.area_type": "site_area_type",
     "site.driver_population": "site_driver_population",
     "site.capacity_method": "site_capacity_method",
+    "site.capacity_override_is": "site_override_is",
     "options.diagram": "opt_diagram",
     "options.queue_length_method": "opt_queue_length_method",
     "thresholds.max_queue_length": "limit_queue_length",
@@ -104,6 +113,25 @@ _PLAN_KEYS: dict[str, str] = {
     "costs.truck_share": "cost_truck_percent",
 }
 
+
+#: JSON-form plan keys (:meth:`wzq.plan.Plan.where`) of named cells not spelt
+#: ``site.``/``meta.`` + the rest of the defined name.
+_JSON_KEYS: dict[str, str] = {
+    "site_capacity_drop_work_zone": "site.capacity_drop_percent_work_zone",
+    "site_capacity_drop_open": "site.capacity_drop_percent_open",
+    "site_base_capacity": "site.base_capacity_pc_h_ln",
+    "site_work_intensity": "site.work_intensity_pc_h_ln",
+    "site_ramp_adjustment": "site.ramp_adjustment_pc_h_ln",
+    "site_override_is": "site.capacity_override_is",
+    "limit_queue_length": "thresholds.max_queue_length",
+    "limit_average_delay": "thresholds.max_average_delay_min",
+    "limit_demand_capacity": "thresholds.max_demand_capacity",
+    "cost_car_value": "costs.car_value_per_person_h",
+    "cost_car_occupancy": "costs.car_occupancy",
+    "cost_truck_value": "costs.truck_value_per_veh_h",
+    "cost_truck_percent": "costs.truck_percent",
+    "opt_closure_windows": "options.closure_windows",
+}
 
 #: Table columns checked like named values (blank handling, type, range).
 _FLOW = L.Field("demand", "Demand", "number", "veh/h", bounds=(0.0, float("inf")))
@@ -123,6 +151,15 @@ def cell_ref(sheet: str, row: int, col: int) -> str:
     """``Site!B8``; a sheet name with spaces or punctuation is quoted as in a formula."""
     name = sheet if re.fullmatch(r"[A-Za-z_][A-Za-z0-9_.]*", sheet) else f"'{sheet}'"
     return f"{name}!{get_column_letter(col)}{row}"
+
+
+def _percent_format(fmt: str | None) -> bool:
+    """A number format that shows values times 100 with a percent sign (``0%``, ``0.0%``);
+    a percent sign in quotes or escaped (``0.0"%"``, ``0\\%``) does not scale."""
+    if not fmt or "%" not in fmt:
+        return False
+    plain = re.sub(r'"[^"]*"|\\.|\[[^\]]*\]', "", fmt)
+    return "%" in plain
 
 
 def _blank(v: Any) -> bool:
@@ -294,17 +331,30 @@ class _BookReader:
         self.problems: list[Problem] = []
         self.system: str | None = None  # None: unknown (unit-dependent ranges not checked)
         self.where_of: dict[str, str] = {}  # defined name -> cell
-        self._saved: SavedValues | None = None  # saved formula results, read on first use
+        self._strings: SharedStrings | None = None  # the shared-string table, read on demand
         self._sheets = {ws.title: ws for ws in wb.worksheets}
         self._missing_sheets: set[str] = set()
         self._demand_rows: list[str] = []  # cell of each demand interval, in plan order
         self._closure_rows: list[str] = []  # cell of each closure, in plan order
+        self._closure_notes: list[str] = []  # Note cell of each closure, in plan order
+        self.warnings: list[str] = []  # what the user should know; said with every result
+        self._precedents: FV.Precedents | None = None
+        self._saved: dict[str, dict[tuple[int, int], FV.Saved]] = {}
+        self._formula_cells: set[tuple[str, int, int]] = set()
+        self._below: dict[tuple[str, int], str] = {}  # (sheet, row) read from below a table
+        self._named_cells: set[tuple[str, int, int]] | None = None
 
     # -- recording --------------------------------------------------------------------------
 
     def bad(self, where: str, message: str) -> Any:
         self.problems.append(Problem(where, message))
         return _MISSING
+
+    def note(self, where: str, message: str) -> None:
+        """A warning about an input that was read (said once)."""
+        text = f"{where}: {message}"
+        if text not in self.warnings:
+            self.warnings.append(text)
 
     # -- cells ------------------------------------------------------------------------------
 
@@ -317,18 +367,84 @@ class _BookReader:
         cell = ws._cells.get((row, col))
         if cell is None:
             return None
+        if isinstance(cell, MergedCell):
+            return self.merged(ws, row, col)
         v = cell.value
         if v is None:
             return None
         if cell.data_type == "f" or isinstance(v, ArrayFormula | DataTableFormula):
-            v = self.cached(ws.title, row, col, cell_ref(ws.title, row, col))
-            if v is _MISSING:
+            v = self.formula_result(ws, row, col)
+            if v is _MISSING or v is None:
                 return v
         elif cell.data_type == "e":
             return self.error_value(cell_ref(ws.title, row, col), v)
         if isinstance(v, str) and v.strip() in ERROR_CODES:
             return self.error_value(cell_ref(ws.title, row, col), v)
         return v
+
+    def merged(self, ws: Worksheet, row: int, col: int) -> Any:
+        """A cell hidden by merging: the value shown, when the merged cells are one column."""
+        for mr in ws.merged_cells.ranges:
+            if mr.min_row <= row <= mr.max_row and mr.min_col <= col <= mr.max_col:
+                if mr.min_col == mr.max_col and (mr.min_row, mr.min_col) != (row, col):
+                    return self.raw(ws, mr.min_row, mr.min_col)  # shown for every row
+                return self.bad(
+                    cell_ref(ws.title, row, col),
+                    f"is part of the merged cells {mr.coord}, which span several columns; "
+                    "unmerge them and type each value in its own cell",
+                )
+        return None
+
+    @property
+    def precedents(self) -> FV.Precedents:
+        if self._precedents is None:
+            self._precedents = FV.Precedents(self.wb)
+        return self._precedents
+
+    def formula_result(self, ws: Worksheet, row: int, col: int) -> Any:
+        """The saved result of the formula in a cell, if it cannot be out of date.
+
+        Refused when the formula takes its value from one of wzq's output sheets
+        (replaced on every run); a warning when its value changes by itself or
+        comes from another workbook. Empty text (``=IF(...,"",70)``) is a blank.
+        """
+        where = cell_ref(ws.title, row, col)
+        self._formula_cells.add((ws.title, row, col))
+        source = self.precedents.output_source(ws.title, row, col)
+        if source is not None:
+            return self.bad(
+                where,
+                f"its formula takes its value from {source}, on a sheet wzq rewrites on every "
+                "run, so its saved result can be out of date; type the value, or refer to a "
+                "cell of an input sheet",
+            )
+        for text in self.precedents.notes(ws.title, row, col):
+            self.note(where, text)
+        calc = getattr(self.wb, "calculation", None)
+        if getattr(calc, "calcMode", None) == "manual":
+            self.note(
+                self.source,
+                "the workbook is set to calculate manually, so the saved results of its "
+                "formulas may be out of date; recalculate it and save it in your spreadsheet "
+                "program before running wzq",
+            )
+        return self.cached(ws.title, row, col, where)
+
+    def saved_result(self, sheet: str, row: int, col: int) -> FV.Saved | None:
+        """The saved result of the formula in a cell as stored (sheets read sparsely, once)."""
+        if self.path is None and self.data is None:
+            return None
+        if sheet not in self._saved:
+            source = self.data if self.data is not None else self.path
+            assert source is not None
+            self._saved.update(FV.saved_results(source, [sheet]))
+            self._saved.setdefault(sheet, {})
+        return self._saved[sheet].get((row, col))
+
+    def empty_text(self, sheet: str, row: int, col: int) -> bool:
+        """The formula in this cell was saved with the empty text ``""`` as its result."""
+        saved = self.saved_result(sheet, row, col)
+        return saved is not None and saved.empty_text
 
     def error_value(self, where: str, v: Any) -> Any:
         error = str(v).strip()
@@ -343,14 +459,16 @@ class _BookReader:
         if self.path is None and self.data is None:
             return self.bad(where, no_value)
         try:
-            if self._saved is None:
-                self._saved = SavedValues(self.data if self.data is not None else self.path)
+            if self._strings is None:
+                self._strings = SharedStrings(self.data if self.data is not None else self.path)
             cell = self._sheets[sheet]._cells.get((row, col)) if sheet in self._sheets else None
             fmt = cell.number_format if cell is not None else "General"
-            v = self._saved.value(sheet, row, col, fmt, self.epoch)
+            v = typed(self.saved_result(sheet, row, col), fmt, self.epoch, self._strings)
         except Exception:  # a damaged part, whatever the error type: no value
             return self.bad(where, no_value)
         if v == "" or v is None:
+            if self.empty_text(sheet, row, col):  # a formula showing nothing: a blank cell
+                return None
             return self.bad(where, no_value)
         if isinstance(v, str) and v.strip() in ERROR_CODES:
             return self.error_value(where, v)
@@ -436,11 +554,27 @@ class _BookReader:
             return _MISSING
         ws, row, col = loc
         where = cell_ref(ws.title, row, col)
-        return self.convert(self.raw(ws, row, col), field, where)
+        return self.convert(
+            self.raw(ws, row, col), field, where, percent_cell=self.percent_cell(ws, row, col)
+        )
 
     # -- conversions ------------------------------------------------------------------------
 
-    def convert(self, v: Any, field: L.Field, where: str) -> Any:
+    @staticmethod
+    def percent_cell(ws: Worksheet, row: int, col: int) -> bool:
+        """The cell shows its number as a percentage (its number format scales by 100)."""
+        cell = ws._cells.get((row, col))
+        return cell is not None and _percent_format(getattr(cell, "number_format", None))
+
+    def convert(
+        self, v: Any, field: L.Field, where: str, *, percent_cell: bool = False, hint: bool = True
+    ) -> Any:
+        """A cell value as ``field`` asks for it (``_MISSING`` after a problem).
+
+        A field in percent (``%``) reads a percent-formatted cell as the percentage it
+        shows (0.08 shown as 8 % is 8); a fraction-looking value in a plain cell is read
+        as typed, with a warning.
+        """
         if v is _MISSING:
             return v
         if _blank(v):
@@ -454,14 +588,33 @@ class _BookReader:
             return self.choice(v, field.choices, field.label, where)
         if kind == "date":
             return self.date(v, field.label, where)
+        percent = field.unit.startswith("%")
+        if percent and isinstance(v, str) and v.strip().endswith("%"):
+            with contextlib.suppress(ValueError):  # '8 %' typed as text: 8
+                v, percent_cell = float(v.strip()[:-1].replace(",", "")), False
         x = self.number(v, field.label, where)
         if x is _MISSING:
             return x
+        if percent and percent_cell:
+            x = round(x * 100.0, 10)
+        elif percent and hint:
+            self.fraction_hint(x, field, where)
         if kind == "int" and x != int(x):
             return self.bad(where, f"{field.label} must be a whole number, got {_fmt(x)}")
         if not self.in_range(x, field, where):
             return _MISSING
         return int(x) if kind == "int" else x
+
+    def fraction_hint(self, x: float, field: L.Field, where: str) -> None:
+        """Warn when a percentage typed in a plain cell looks like a fraction (0.08 for 8 %)."""
+        small = abs(x) < FRACTION_GROWTH if field.unit != "%" else 0 < x <= 1
+        if x and small:
+            self.note(
+                where,
+                f"{field.label} is {_fmt(x)} %: did you mean {_fmt(x * 100)} %? Percentages "
+                f"are typed as numbers of percent (type {_fmt(x * 100)}, or {_fmt(x * 100)}% "
+                f"to get a percent-formatted cell); ignore this if {_fmt(x)} % is right",
+            )
 
     def _fill_hint(self, field: L.Field) -> str:
         if field.kind == "choice":
@@ -553,6 +706,8 @@ class _BookReader:
         return d
 
     def _date(self, v: Any, label: str, where: str) -> Any:
+        if isinstance(v, dt.datetime) and 2 <= to_excel(v, self.epoch) < DAYS_IN_1900:
+            return self.day_count(to_excel(v, self.epoch), label, where, clock=False)
         if isinstance(v, dt.datetime):
             if v.time() != dt.time():
                 return self.bad(
@@ -561,6 +716,8 @@ class _BookReader:
             return v.date()
         if isinstance(v, dt.date):
             return v
+        if isinstance(v, int | float) and not isinstance(v, bool) and 2 <= v < DAYS_IN_1900:
+            return self.day_count(v, label, where, clock=False)
         if isinstance(v, int | float) and not isinstance(v, bool) and v >= 2:
             when = self.serial(v, label, where)
             return when if when is _MISSING else self._date(when, label, where)
@@ -594,6 +751,8 @@ class _BookReader:
         seconds: float | None = None
         if isinstance(v, dt.datetime):
             serial = to_excel(v, self.epoch)
+            if 2 <= serial < DAYS_IN_1900:  # a number typed in a time cell, shown as a date
+                return self.day_count(serial, label, where, clock=True)
             if serial >= 2:
                 return v
             if serial >= 0:
@@ -607,6 +766,8 @@ class _BookReader:
                 seconds = v.total_seconds()
         elif isinstance(v, int | float) and not isinstance(v, bool):
             if v >= 2:
+                if v < DAYS_IN_1900:
+                    return self.day_count(v, label, where, clock=True)
                 return self.serial(v, label, where)  # an Excel date-time serial
             if v >= 0:
                 seconds = v * DAY
@@ -633,8 +794,30 @@ class _BookReader:
         s = round(seconds)
         if s < DAY or (allow_24 and s == DAY):
             return _Clock(s)
-        hint = "use 24:00 for midnight at the end of the day" if allow_24 else "use 00:00-23:59"
-        return self.bad(where, f"{label}: {_show(v)} is past 24:00; {hint}")
+        shown = f"{s // 3600}:{s % 3600 // 60:02d}"
+        wrapped = f"{s % DAY // 3600:02d}:{s % 3600 // 60:02d}"
+        hint = (
+            f"a 'To' at or before 'From' already ends the next day, so type {wrapped} (in a "
+            "formula, wrap the time in MOD(...,1)); 24:00 is midnight at the end of the day"
+            if allow_24
+            else f"use 00:00-23:59 (in a formula, wrap the time in MOD(...,1) to get {wrapped})"
+        )
+        return self.bad(where, f"{label} is {shown}, past 24:00; {hint}")
+
+    def day_count(self, x: float, label: str, where: str, *, clock: bool) -> Any:
+        """A small number where a date or time belongs: spreadsheets read it as a day count."""
+        day = from_excel(x, self.epoch)
+        what = "a time" if clock else "a date"
+        guess = (
+            f"; did you mean {int(x):02d}:00? Type it with the colon"
+            if clock and x == int(x) and x <= 24
+            else f"; type {what}, e.g. {'21:00' if clock else '2027-05-03'}"
+        )
+        return self.bad(
+            where,
+            f"{label}: {_fmt(x)} is a number, not {what} (a spreadsheet reads it as "
+            f"{_fmt(x)} days after its day zero, {day:%Y-%m-%d}){guess}",
+        )
 
     # -- tables -----------------------------------------------------------------------------
 
@@ -648,8 +831,10 @@ class _BookReader:
                     return self._table_parts(name, ws, ws.tables[tname])
         self.bad(
             f"{home} (table {name})",
-            f"the table {name} is missing; it was deleted or renamed. Restore its name "
-            "(Table Design > Table Name) or copy your rows into a fresh workbook from `wzq new`",
+            f"the table {name} is missing: it was deleted or renamed, or the program that last "
+            "saved the file did not keep it. Copy your rows into the table of a fresh workbook "
+            "from `wzq new` (a table renamed in Excel can also get its name back under Table "
+            "Design > Table Name)",
         )
         return None
 
@@ -671,7 +856,8 @@ class _BookReader:
             self.bad(
                 cell_ref(ws.title, min_row, min_col),
                 f"the table {name} has its header row switched off; switch it on again "
-                "(Table Design > Header Row)",
+                "(in Excel: Table Design > Header Row), or copy your rows into a fresh "
+                "workbook from `wzq new`",
             )
             return None
         header_row = min_row
@@ -706,7 +892,15 @@ class _BookReader:
         )
 
     def rows(self, t: _Table) -> list[_Row]:
-        """The table's non-blank rows (blank rows are skipped) and a check below it."""
+        """The table's non-blank rows (blank rows are skipped), and the rows typed below it.
+
+        A row typed anywhere below the table, in its columns, is read as part of it
+        with a warning (the table did not grow when it was typed: a gap row, or a
+        program that does not extend tables); a row of formulas that only sum up the
+        table is the user's own and skipped. Hidden and filtered-out rows are read
+        like any other, with a warning. Values right beside the table are named in
+        a warning: they are not read.
+        """
         out = []
         headers = L.TABLE_COLUMNS[t.name]
         cols = {t.col(h) for h in headers}
@@ -715,22 +909,134 @@ class _BookReader:
         filled = sorted(
             {r for (r, c) in t.ws._cells if t.first_row <= r <= t.last_row and c in cols}
         )
-        for r in filled:
+        below = self.rows_below(t, cols)
+        hidden = []
+        for r in (*filled, *below):
             values = {h: self.raw(t.ws, r, t.col(h)) for h in headers}
             if all(_blank(v) for v in values.values()):
                 continue
             out.append(_Row(r, values))
-        below = t.end_row + 1
-        for col in range(t.min_col, t.max_col + 1):
-            cell = t.ws._cells.get((below, col))
-            if cell is not None and not _blank(cell.value):
-                self.bad(
-                    cell_ref(t.ws.title, below, col),
-                    f"this value sits just below the table {t.name} and is not read; extend "
-                    "the table over it (drag the handle at the table's bottom-right corner)",
-                )
-                break
+            dims = t.ws.row_dimensions.get(r)
+            if dims is not None and dims.hidden:
+                hidden.append(r)
+        taken = [r for r in below if any(row.row == r for row in out)]
+        if taken:
+            for r in taken:
+                self._below[(t.ws.title, r)] = t.name
+            cells = ", ".join(cell_ref(t.ws.title, r, t.min_col) for r in taken[:5])
+            more = f" and {len(taken) - 5} more" if len(taken) > 5 else ""
+            one = len(taken) == 1
+            these, was, it, rows = (
+                ("this row lies", "was", "it", "a row")
+                if one
+                else ("these rows lie", "were", "them", "rows")
+            )
+            self.note(
+                cells + more,
+                f"{these} below the table {t.name} (which ends at row {t.end_row}) and {was} "
+                f"read as part of it; extend the table over {it} so that every program sees "
+                f"{it} as {rows} of the table",
+            )
+        if hidden:
+            cells = ", ".join(cell_ref(t.ws.title, r, t.min_col) for r in hidden[:5])
+            more = f" and {len(hidden) - 5} more" if len(hidden) > 5 else ""
+            self.note(
+                cells + more,
+                f"hidden or filtered-out {'row' if len(hidden) == 1 else 'rows'} of {t.name} "
+                "read as part of the plan (hiding a row does not take it out); delete or "
+                "clear a row to leave it out",
+            )
+        self.beside(t)
         return out
+
+    def _not_ours(self, ws: Worksheet, row: int, col: int, table: str) -> bool:
+        """A cell that belongs to no other input: not in another table, not a named input."""
+        for name, ref in ws.tables.items():  # TableList.items(): (name, ref)
+            if name.casefold() == table.casefold():
+                continue
+            try:
+                c0, r0, c1, r1 = range_boundaries(str(ref))
+            except (ValueError, TypeError):
+                continue
+            if (r0 or 1) <= row <= (r1 or row) and (c0 or 1) <= col <= (c1 or col):
+                return False
+        return (ws.title, row, col) not in self.named_cells()
+
+    def named_cells(self) -> set[tuple[str, int, int]]:
+        """(sheet, row, column) of every named input cell."""
+        if self._named_cells is None:
+            found = set()
+            for f in L.ALL_FIELDS:
+                dn = self.wb.defined_names.get(f.name)
+                try:
+                    dests = [] if dn is None else list(dn.destinations)
+                except Exception:
+                    dests = []
+                for sheet, coord in dests:
+                    try:
+                        c0, r0, _, _ = range_boundaries(coord.replace("$", ""))
+                    except (ValueError, TypeError):
+                        continue
+                    found.add((sheet, r0, c0))
+            self._named_cells = found
+        return self._named_cells
+
+    def rows_below(self, t: _Table, cols: set[int]) -> list[int]:
+        """Rows below the table that hold a value in one of its read columns."""
+        rows: dict[int, list[int]] = {}
+        for (r, c), cell in t.ws._cells.items():
+            if r > t.end_row and c in cols and not _blank(cell.value):
+                rows.setdefault(r, []).append(c)
+        out = []
+        for r in sorted(rows):
+            kept = [c for c in rows[r] if self._not_ours(t.ws, r, c, t.name)]
+            if kept and not self.sums_up(t, r, kept):
+                out.append(r)
+        return out
+
+    def sums_up(self, t: _Table, row: int, cols: list[int]) -> bool:
+        """A row below the table whose formulas only refer to the table (a total), the rest text."""
+        formulas = 0
+        for c in cols:
+            cell = t.ws._cells[(row, c)]
+            text = FV.formula_text(cell)
+            if text is None:
+                if not isinstance(cell.value, str):
+                    return False
+                continue
+            blocks = self.precedents.references(text, t.ws.title)
+            if not blocks or not all(
+                b.sheet == t.ws.title
+                and (b.min_row is None or b.min_row <= t.last_row)
+                and (b.max_row is None or b.max_row >= t.first_row)
+                and (b.min_col is None or b.min_col <= t.max_col)
+                and (b.max_col is None or b.max_col >= t.min_col)
+                for b in blocks
+            ):
+                return False
+            formulas += 1
+        return formulas > 0
+
+    def beside(self, t: _Table) -> None:
+        """Warn about values right beside the table (in its rows, the next column either side)."""
+        sides = {t.min_col - 1, t.max_col + 1}
+        found = [
+            cell_ref(t.ws.title, r, c)
+            for (r, c), cell in sorted(t.ws._cells.items())
+            if c in sides
+            and t.header_row <= r <= t.last_row
+            and not _blank(cell.value)
+            and self._not_ours(t.ws, r, c, t.name)
+        ]
+        if found:
+            more = f" and {len(found) - 3} more" if len(found) > 3 else ""
+            self.note(
+                ", ".join(found[:3]) + more,
+                f"{'a value' if len(found) == 1 else 'values'} right beside the table {t.name} "
+                f"(columns {get_column_letter(t.min_col)} to {get_column_letter(t.max_col)}) "
+                "not read as part of the plan; if it belongs to the plan, move it into the "
+                "table's own columns",
+            )
 
     def where(self, t: _Table, row: int, header: str) -> str:
         return cell_ref(t.ws.title, row, t.col(header))
@@ -755,17 +1061,73 @@ class _BookReader:
             for f in (*L.META_FIELDS, *site_fields, *L.THRESHOLD_FIELDS, *L.OPTION_FIELDS)
         }
         self.check_speeds(values)
+        self.check_sheet_names()
         costs = self.costs()
         demand = self.demand(values.get("site_lanes"))
         closures = self.closures(values.get("site_lanes"), demand)
         if self.problems:
-            raise PlanError(self.problems)
+            raise PlanError(self.explain_below(self.problems))
         plan_kw = self.assemble(values, costs, demand, closures)
         try:
-            return Plan(**plan_kw)
+            return Plan(**plan_kw, input_warnings=tuple(self.warnings), locations=self.locations())
         except PlanError as e:
             mapped = [Problem(self.map_key(p.where), p.message) for p in e.problems]
             raise PlanError(mapped) from None
+
+    def check_sheet_names(self) -> None:
+        """Refuse a sheet of the user's that carries the name of one of wzq's output sheets
+        (``wzq run`` would have to replace it)."""
+        from wzq.workbook.writer import written_sheets  # the marker of sheets wzq wrote
+
+        ours = set(written_sheets(self.wb))
+        names = ", ".join(f"'{n}'" for n in L.OUTPUT_SHEETS)
+        for ws in self.wb.worksheets:
+            clash = [n for n in L.OUTPUT_SHEETS if n.casefold() == ws.title.casefold()]
+            if clash and ws.title not in ours:
+                self.bad(
+                    f"sheet '{ws.title}'",
+                    "this sheet of yours has the name of a sheet wzq writes its results to "
+                    f"({names}), so `wzq run` would have to replace it; rename it",
+                )
+
+    def explain_below(self, problems: list[Problem]) -> list[Problem]:
+        """Problems in rows read from below a table say why those rows were read."""
+        if not self._below:
+            return problems
+        out = []
+        for p in problems:
+            m = re.fullmatch(r"(?:'(.+)'|([^!']+))!([A-Z]+)(\d+)", p.where)
+            table = None
+            if m:
+                sheet = (m.group(1) or "").replace("''", "'") or m.group(2)
+                table = self._below.get((sheet, int(m.group(4))))
+            if table is None:
+                out.append(p)
+                continue
+            out.append(
+                Problem(
+                    p.where,
+                    f"{p.message} (this row lies below the table {table} and is read as part of "
+                    "it; if it is not part of the plan, move it out of the table's columns)",
+                )
+            )
+        return out
+
+    def locations(self) -> dict[str, str]:
+        """Plan keys (JSON form) -> the cell each was typed in, for later messages."""
+        out = {}
+        for name, where in self.where_of.items():
+            key = _JSON_KEYS.get(name)
+            if key is None and name.startswith(("site_", "meta_")):
+                key = name.replace("_", ".", 1)
+            if key is not None:
+                out[key] = where
+        for i, where in enumerate(self._demand_rows):
+            out[f"demand.veh_h[{i}]"] = where
+        for i, (row, note) in enumerate(zip(self._closure_rows, self._closure_notes, strict=False)):
+            out[f"closures[{i}]"] = row
+            out[f"closures[{i}].note"] = note
+        return out
 
     def check_speeds(self, v: dict[str, Any]) -> None:
         limit, wz = v.get("site_speed_limit"), v.get("site_work_zone_speed_limit")
@@ -796,7 +1158,8 @@ class _BookReader:
                 got[f.name] = self.bad(
                     where,
                     f"{f.label} is blank; road-user costs need it once a value of time or the "
-                    "occupancy is given (leave those three blank to skip costs)",
+                    "occupancy is given (leave those three blank to price delay at the "
+                    "published defaults)",
                 )
             else:
                 got[f.name] = self.convert(v, f, where)
@@ -818,9 +1181,72 @@ class _BookReader:
         mode = self.field(L.DEMAND_MODE)
         if mode is _MISSING:
             return None
+        self.unused_demand(mode)
         if mode == L.AADT:
             return self.demand_from_aadt()
         return self.demand_from_counts(lanes)
+
+    def unused_demand(self, mode: str) -> None:
+        """Warn when the demand input that the mode leaves unused is filled in."""
+        switch = self.where_of.get(L.DEMAND_MODE.name, L.DEMAND_MODE.name)
+        word = L.word_for(L.DEMAND_MODE_WORDS, mode)
+        other = L.word_for(L.DEMAND_MODE_WORDS, L.HOURLY if mode == L.AADT else L.AADT)
+        if mode == L.AADT:
+            table = self.find_table(L.DEMAND_TABLE)
+            if table is None:
+                return
+            ws, ref = table
+            try:
+                c0, r0, c1, r1 = range_boundaries(str(ref))
+            except (ValueError, TypeError):
+                return
+            if None in (c0, r0, c1, r1):  # not a block of cells: its problem is said if used
+                return
+            filled = sorted(
+                r
+                for (r, c), cell in ws._cells.items()
+                if r0 < r <= r1 and c0 <= c <= c1 and not _blank(cell.value)
+            )
+            if filled:
+                self.note(
+                    cell_ref(ws.title, filled[0], c0),
+                    f"the table {L.DEMAND_TABLE} holds counts, but 'Demand is given as' "
+                    f"({switch}) is '{word}', so they are not used; clear them, or choose "
+                    f"'{other}'",
+                )
+            return
+        for f in (L.AADT_FIELDS[0], L.AADT_FIELDS[4]):  # the AADT and the first day
+            loc = self.peek(f.name)
+            if loc is not None and not _blank(getattr(loc[0]._cells.get(loc[1:]), "value", None)):
+                self.note(
+                    cell_ref(loc[0].title, *loc[1:]),
+                    f"{f.label} is filled in, but 'Demand is given as' ({switch}) is '{word}', "
+                    f"so the AADT inputs are not used; clear them, or choose '{other}'",
+                )
+                return
+
+    def find_table(self, name: str) -> tuple[Worksheet, Any] | None:
+        """(sheet, table) of an input table by name, without recording a problem."""
+        for ws in self.wb.worksheets:
+            if ws.title in L.OUTPUT_SHEETS:
+                continue
+            for tname, ref in ws.tables.items():  # TableList.items(): (name, ref)
+                if tname.casefold() == name.casefold():
+                    return ws, ref
+        return None
+
+    def peek(self, name: str) -> tuple[Worksheet, int, int] | None:
+        """The cell a defined name points at, without recording a problem."""
+        dn = self.wb.defined_names.get(name)
+        try:
+            sheet, coord = next(iter(dn.destinations)) if dn is not None else (None, "")
+            c0, r0, _, _ = range_boundaries(coord.replace("$", ""))
+        except Exception:
+            return None
+        ws = self._sheets.get(sheet) if sheet else None
+        if ws is None or sheet in L.OUTPUT_SHEETS or c0 is None or r0 is None:
+            return None
+        return ws, r0, c0
 
     def demand_from_counts(self, lanes: Any) -> Demand | None:
         t = self.table(L.DEMAND_TABLE)
@@ -833,6 +1259,13 @@ class _BookReader:
             start = self.moment(t, r, c_date, c_time, "Start time")
             where = self.where(t, r.row, c_flow)
             x = self.convert(r.values[c_flow], _FLOW, where)
+            if x == 0 and (t.ws.title, r.row, t.col(c_flow)) in self._formula_cells:
+                formula = FV.formula_text(t.ws._cells[(r.row, t.col(c_flow))])
+                self.note(
+                    where,
+                    f"Demand is 0 from the formula {formula}, read as an hour with no traffic; "
+                    "check what it refers to (a formula pointing at an empty cell gives 0)",
+                )
             if x is not _MISSING and isinstance(lanes, int) and x > MAX_DEMAND_VEH_H_LN * lanes:
                 x = self.bad(
                     where,
@@ -992,7 +1425,13 @@ class _BookReader:
                     c = self.bad(hw, "Hour must be a whole hour, e.g. 07:00")
                 hour = _MISSING if c is _MISSING else c.seconds // 3600
             pair = [
-                self.convert(r.values[col], _SHARES[col], self.where(t, r.row, col))
+                self.convert(
+                    r.values[col],
+                    _SHARES[col],
+                    self.where(t, r.row, col),
+                    percent_cell=self.percent_cell(t.ws, r.row, t.col(col)),
+                    hint=False,
+                )
                 for col in (c_wd, c_we)
             ]
             if hour is _MISSING or _MISSING in pair:
@@ -1018,9 +1457,16 @@ class _BookReader:
         for col, values in ((c_wd, weekday), (c_we, weekend)):
             total = sum(values)
             if abs(total - 100.0) > L.SHARE_SUM_TOLERANCE:
+                fractions = abs(total - 1.0) <= L.SHARE_SUM_TOLERANCE / 100.0
                 self.bad(
                     cell_ref(t.ws.title, t.header_row, t.col(col)),
-                    f"the column '{col}' sums to {total:.1f} %, not 100 %; correct the shares",
+                    f"the column '{col}' sums to {total:.1f} %, not 100 %; "
+                    + (
+                        "the shares look like fractions: type them as percentages (7 for "
+                        "7 %), or format the cells as percentages"
+                        if fractions
+                        else "correct the shares"
+                    ),
                 )
                 ok = False
         return (weekday, weekend) if ok else None
@@ -1090,6 +1536,7 @@ class _BookReader:
             if latest is None or b.end > latest[0].end:
                 latest = (b, rb)
         self._closure_rows = [self.where(t, row, c_date) for _, row in found]
+        self._closure_notes = [self.where(t, row, c_note) for _, row in found]
         return [c for c, _ in found] if ok else None
 
     def closure_end(self, v: Any, start: Any, where: str) -> Any:
@@ -1142,6 +1589,7 @@ class _BookReader:
             jam_density=None if jam is None else u.density_to_per_m(jam, system),
             ramp_density=v["site_ramp_density"] / u.LONG_LENGTH[system][1],
             capacity_method=v["site_capacity_method"],
+            capacity_override_is=v["site_override_is"],
             base_capacity_pc_h_ln=v["site_base_capacity"],
             capacity_drop_pct_work_zone=v["site_capacity_drop_work_zone"],
             capacity_drop_pct_open=v["site_capacity_drop_open"],

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import argparse
 import datetime as dt
+import io
 import os
 import tempfile
 from dataclasses import dataclass, field
@@ -31,6 +32,7 @@ from wzq.plan import Plan, PlanError, Problem
 from wzq.planio import plan_to_dict
 from wzq.tables import summary_lines
 from wzq.workbook import layout
+from wzq.workbook.formula_values import WithSavedResults
 from wzq.workbook.kept import ContentLost, keeps_everything
 from wzq.workbook.reader import book_from_bytes, read_plan_from_book
 from wzq.workbook.safety import PackageReport, read_checked
@@ -114,6 +116,54 @@ def copy_path(src: Path) -> Path:
         n += 1
 
 
+def results_source(path: Path) -> str | None:
+    """The source file named in the Run log of a workbook wzq wrote results into, or ``None``
+    (not a workbook, never run by wzq, or unreadable)."""
+    from openpyxl import load_workbook
+
+    from wzq.workbook.writer import written_sheets
+
+    try:
+        data, _ = read_checked(path)
+        book = load_workbook(io.BytesIO(data), read_only=True)
+        try:
+            if layout.RUN_LOG not in written_sheets(book) or layout.RUN_LOG not in book.sheetnames:
+                return None
+            for label, value, *_ in book[layout.RUN_LOG].iter_rows(
+                max_row=40, max_col=2, values_only=True
+            ):
+                if label == "Source file":
+                    return None if value is None else str(value)
+        finally:
+            book.close()
+    except Exception:  # anything unreadable is not known to be this plan's results
+        return None
+    return None
+
+
+def _check_overwrite(src: Path, target: Path, force: bool) -> None:
+    """Refuse to replace an existing ``-o`` file that is not a results file of ``src``."""
+    if force or not target.exists() or _same_file(src, target) or target.is_dir():
+        return
+    source = results_source(target)
+    if source == src.name:
+        return
+    why = (
+        f"its Run log says it holds the results of {source}"
+        if source
+        else "it is not a results file written by wzq (it may be another plan)"
+    )
+    raise PlanError(
+        [
+            Problem(
+                f"-o {target}",
+                f"{target.name} already exists and {why}, not of {src.name}; pick another "
+                "name, or add --force to replace it",
+            )
+        ]
+    )
+
+
 def _unkept_text(unkept: list[str]) -> str:
     return "; ".join(unkept[:5]) + (f"; and {len(unkept) - 5} more" if len(unkept) > 5 else "")
 
@@ -157,6 +207,7 @@ def run_to(
     space_time: bool | None = None,
     unkept: Literal["copy", "refuse"] = "copy",
     windows: bool | None = None,
+    force: bool = False,
     office_profile: str | None = None,
 ) -> RunOutcome:
     """Analyse the plan in workbook ``path`` and write the results into it (or into ``out``).
@@ -176,6 +227,9 @@ def run_to(
     when the file changed on disk while wzq ran. With ``unkept="refuse"``
     nothing is written then and a :class:`PlanError` says why.
 
+    An existing ``out`` is replaced only when it is a results file of this plan
+    (its Run log names ``path``'s file) or with ``force``.
+
     ``office_profile`` is for the Recalculate plan command in LibreOffice Calc
     only: that LibreOffice's own lock file on ``path`` does not block the save
     (:func:`wzq.workbook.save.own_office_lock`); every other lock still does.
@@ -185,6 +239,7 @@ def run_to(
     _check_suffixes(src, target)
     if not src.exists():
         raise PlanError([Problem(str(src), "no such file; check the path")])
+    _check_overwrite(src, target, force)
     book, data, report, state = _load(src)
     in_place = _same_file(src, target)
     notes: list[str] = []
@@ -219,7 +274,7 @@ def run_to(
         )
         fresh = book_from_bytes(data, src, keep_links=True, rich_text=True)  # a saved book's
         write(fresh, notes)  # pictures cannot be saved again by openpyxl
-        save_atomic(fresh, copy)
+        save_atomic(WithSavedResults(fresh, data), copy)  # formulas keep their results
         result.warnings.extend(extra)
         return RunOutcome(result, copy, notes, True)
 
@@ -227,12 +282,12 @@ def run_to(
         return to_copy(_kept_words(src, _unkept_text(report.unkept)))
     write(book, notes)
     if not in_place:
-        save_atomic(book, target, office_profile=office_profile)
+        save_atomic(WithSavedResults(book, data), target, office_profile=office_profile)
         result.warnings.extend(extra)
         return RunOutcome(result, target, notes, False)
     try:
         save_atomic(
-            book,
+            WithSavedResults(book, data),
             target,
             verify=keeps_everything(data, str(src), layout.OUTPUT_SHEETS),
             expect=state,
@@ -297,6 +352,7 @@ _TYPED: dict[tuple[str, str], tuple[str, layout.Choices | None]] = {
     ("site", "area_type"): ("site_area_type", layout.AREA_WORDS),
     ("site", "driver_population"): ("site_driver_population", layout.DRIVER_WORDS),
     ("site", "capacity_method"): ("site_capacity_method", layout.METHOD_WORDS),
+    ("site", "capacity_override_is"): ("site_override_is", layout.OVERRIDE_WORDS),
     ("site", "base_capacity_pc_h_ln"): ("site_base_capacity", None),
     ("site", "capacity_drop_percent_work_zone"): ("site_capacity_drop_work_zone", None),
     ("site", "capacity_drop_percent_open"): ("site_capacity_drop_open", None),
@@ -464,7 +520,9 @@ def write_demo_workbook(path: str | Path = ".") -> Path:
 
 def cmd_run(args: argparse.Namespace) -> int:
     """``wzq run PATH [-o OUT]``."""
-    outcome = run_to(args.path, args.output, space_time=args.space_time, windows=args.windows)
+    outcome = run_to(
+        args.path, args.output, space_time=args.space_time, windows=args.windows, force=args.force
+    )
     result = outcome.result
     for note in outcome.notes:
         print(f"warning: {note}")
@@ -498,7 +556,13 @@ def register(sub: argparse._SubParsersAction) -> None:
         "--output",
         metavar="OUT",
         help="write the workbook with its results to OUT and leave PATH as it is "
-        "(same file type as PATH)",
+        "(same file type as PATH); an existing OUT is replaced only when it holds results "
+        "of PATH (see --force)",
+    )
+    p.add_argument(
+        "--force",
+        action="store_true",
+        help="replace OUT even when it is not a results file of PATH",
     )
     p.add_argument(
         "--space-time",

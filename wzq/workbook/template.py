@@ -403,6 +403,10 @@ def _demand_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
         )
 
 
+def _override_label() -> str:
+    return next(f.label for s in L.SITE_SECTIONS for f in s.fields if f.name == "site_override_is")
+
+
 def _closure_sheet(ws: Worksheet, f: dict) -> None:
     ws.write_string(0, 0, "Closures", f["title"])
     ws.write_string(1, 0, "One row per lane closure, in this direction.", f["subtitle"])
@@ -411,6 +415,14 @@ def _closure_sheet(ws: Worksheet, f: dict) -> None:
         0,
         "'To' at or before 'From' ends the next day; 24:00 is midnight at the end of the date. "
         "For a closure longer than a day, type the end as a date and time in 'To'.",
+        f["note"],
+    )
+    ws.write_string(
+        3,
+        0,
+        "A 'Capacity override' (veh/h per open lane) replaces the capacity model for that "
+        f"closure; '{_override_label()}' on the Site sheet says whether it is the pre-breakdown "
+        "capacity, the queue discharge rate, or both (then no capacity drop).",
         f["note"],
     )
     top = 4

@@ -326,7 +326,7 @@ class SheetWriter:
     def header(self, row: int, headers: Sequence[str], height: float | None = 45.0) -> None:
         for j, text in enumerate(headers, start=1):
             self.put(
-                row, j, sheet_header(text), fill=HEADER_FILL, font=HEADER_FONT,
+                row, j, text, fill=HEADER_FILL, font=HEADER_FONT,
                 alignment=HEADER_ALIGN, border=HEADER_BORDER,
             )  # fmt: skip
         if height:
@@ -357,16 +357,6 @@ TEXT_CHAR = 1.05
 CELL_PADDING = 1.5
 
 
-#: A hyphen that no line may break after (Unicode U+2011), for units in headers.
-NO_BREAK_HYPHEN = "\u2011"
-
-
-def sheet_header(header: str) -> str:
-    """A header as written in a sheet: the hyphen of a unit made unbreakable, so that
-    ``Delay (veh-h)`` never prints as ``Delay (veh-`` / ``h)`` (the text reads the same)."""
-    return re.sub(r"\([^()]*\)", lambda m: m.group(0).replace("-", NO_BREAK_HYPHEN), header)
-
-
 def wrapped_lines(text: str, room: float) -> list[str]:
     """``text`` broken into lines of at most ``room`` characters the way a spreadsheet
     breaks wrapped text: between words, and after a hyphen inside a word."""
@@ -386,7 +376,6 @@ def header_width(header: str, least: float = 0.0, max_lines: int = 3) -> float:
     """The narrowest column width (at least ``least``) in which a wrapped bold header
     takes at most ``max_lines`` lines, never splits a word and never breaks one after
     a hyphen (``Delay (veh-`` / ``h)``), whatever the font's letters measure."""
-    header = sheet_header(header)
     width = max(least, 6.0)
     while width < 60:
         rooms = np.arange((width - CELL_PADDING) / BOLD_CHAR, width / NARROW_CHAR, 0.25)
@@ -820,9 +809,17 @@ def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
             "sheet' to yes on the Limits sheet, or run `wzq run PLAN --windows`.",
         )
         return
-    from wzq.windows import plan_windows
+    from wzq.windows import plan_windows, too_long, too_long_text
     from wzq.workbook.windows_sheet import write_windows_sheet
 
+    d = result.plan.demand
+    if too_long(d):  # a long plan runs; its windows are left out, and the sheet says why
+        where = result.plan.where("options.closure_windows")
+        option = f"'Closure windows sheet' ({where}) to no, or run `wzq run PLAN --no-windows`"
+        put_text(
+            book[layout.WINDOWS], 1, 1, too_long_text(len(d.flows_veh_h), d.interval_s, option)
+        )
+        return
     # replaces the empty sheet made by _replace_sheets, at the same position
     write_windows_sheet(book, plan_windows(result.plan), result.plan)
 
