@@ -4,9 +4,10 @@ The test suite (``tests/test_hostile_files.py``) runs its corpus through every
 command and holds each refusal to 5 s and 500 MB. This script prints the same
 measurements as a table, and adds the cases at the size they were first seen,
 which the tests keep smaller to stay quick: 250 MiB of shared strings in a
-file of about 10 MB (27 to 1, under the compression-ratio limit), and a
+file of about 17 MB (15 to 1, under the compression-ratio limit), and a
 shared-string table just under the limit on the number of texts, which must
-be read, not refused, within the same bounds.
+be read, not refused, within the memory bound (its time is openpyxl's own
+reading, printed for information).
 
 Each command runs in a process forked from a fresh runner; its peak memory is
 the ``ru_maxrss`` its parent sees when it ends (``tests/entry_points.py``).
@@ -97,9 +98,11 @@ def main(argv: list[str] | None = None) -> int:
     for key, r in results.items():
         name, command = key.split("/")
         size, words = expect[name]
-        refused = r["status"] == 2 and words is not None and words in r["stderr"]
-        read = words is None and r["status"] == 0
-        ok = (refused or read) and r["seconds"] < SECONDS and r["peak_mib"] < PEAK_MIB
+        if words is None:  # read, not refused: memory bound only
+            ok = r["status"] == 0 and r["peak_mib"] < PEAK_MIB
+        else:
+            ok = r["status"] == 2 and words in r["stderr"]
+            ok = ok and r["seconds"] < SECONDS and r["peak_mib"] < PEAK_MIB
         bad += not ok
         label = f"{name} ({size / 2**20:.1f} MiB)"
         print(
