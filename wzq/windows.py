@@ -72,7 +72,7 @@ from wzq.analysis import (
     queue_state_discharge,
     site_model,
 )
-from wzq.flow import Triangular
+from wzq.flow import PIECEWISE_LINEAR
 from wzq.plan import (
     BARRIERS,
     Barrier,
@@ -159,7 +159,7 @@ LENGTH_METHODS: dict[str, LengthFn] = {"shockwave": shockwave_lengths, "newell":
 def length_method(options: Options, model: SiteModel) -> LengthFn:
     """The plan's queue-length function; Newell's needs the triangular diagram, as in
     :func:`wzq.analysis.evaluate` (otherwise the single-state relation)."""
-    if options.queue_length_method == "newell" and not isinstance(model.diagram, Triangular):
+    if options.queue_length_method == "newell" and not isinstance(model.diagram, PIECEWISE_LINEAR):
         return shockwave_lengths
     return LENGTH_METHODS[options.queue_length_method]
 
