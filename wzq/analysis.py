@@ -144,18 +144,23 @@ def calibrated_diagram(
         w = c_ln / (k_j - k_c)
     if k_c < k_1 * (1.0 - 1e-9):
         w_min = c_ln / (k_j - k_1)
+        if site.congested_branch == "wave-speed":
+            given = f"a backward wave speed of {units.mps_to_speed(w, system):,.1f} {speed_unit}"
+        else:
+            given = (
+                f"{'the HCM ' if site.congested_branch == 'hcm' else 'a '}density at capacity "
+                f"of {units.per_m_to_density(k_c, system):,.1f} {density_unit}"
+            )
         raise PlanError(
             Problem(
                 where,
-                f"the congested branch (backward wave speed "
-                f"{units.mps_to_speed(w, system):,.1f} {speed_unit}, density at capacity "
-                f"{units.per_m_to_density(k_c, system):,.1f} {density_unit}) reaches the "
-                f"capacity below the {units.per_m_to_density(k_1, system):,.1f} {density_unit} "
-                "at which free-flowing traffic reaches it, so the road could not carry its "
-                f"capacity; use a wave speed of at least "
-                f"{units.mps_to_speed(w_min, system):,.1f} {speed_unit} (a density at capacity "
-                f"of at least {units.per_m_to_density(k_1, system):,.1f} {density_unit}) or a "
-                "higher jam density",
+                f"with {given} the congested branch meets the free-flow branch below the "
+                "capacity, so the road could not carry its capacity (free-flowing traffic "
+                f"reaches it at {units.per_m_to_density(k_1, system):,.1f} {density_unit}); "
+                f"use a backward wave speed of at least {units.mps_to_speed(w_min, system):,.1f} "
+                f"{speed_unit} (a density at capacity of at least "
+                f"{units.per_m_to_density(k_1, system):,.1f} {density_unit}) or a higher jam "
+                "density",
             )
         )
     return Trapezoidal(free_speed=ffs, capacity=c_ln, jam_density=k_j, wave_speed=w)

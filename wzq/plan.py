@@ -506,6 +506,16 @@ def _validate_congested_branch(plan: Plan) -> list[Problem]:
                 f"'{plan.options.diagram}'; choose the triangular diagram or 'derived'",
             )
         )
+    if s.congested_branch != "derived" and not out:
+        # the branch must reach the site's capacity: checked with the capacity model
+        from wzq.analysis import site_model  # imported late: the engine imports this module
+
+        try:
+            site_model(s, "triangular")
+        except PlanError as e:
+            out += e.problems
+        except ValueError:
+            pass  # another site value is wrong; reported on its own
     return out
 
 
