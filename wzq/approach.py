@@ -95,7 +95,7 @@ import numpy as np
 
 from wzq import newell
 from wzq.flow import PIECEWISE_LINEAR, FundamentalDiagram
-from wzq.plan import Landmark, Plan, ramp_flows
+from wzq.plan import Approach, Demand, Landmark, Plan, ramp_flows
 from wzq.queueing import EMPTY, QueueRun, solve
 from wzq.units import HOUR
 
@@ -107,6 +107,7 @@ __all__ = [
     "by_sections",
     "landmark_results",
     "newell_queue",
+    "ramps_for",
     "ramps_on_grid",
     "single_state",
     "trajectory_of_lengths",
@@ -145,9 +146,14 @@ class Ramps:
 def ramps_on_grid(plan: Plan, demand_index: np.ndarray) -> Ramps | None:
     """The plan's ramps on a grid whose intervals lie in the demand intervals
     ``demand_index``; ``None`` when the plan has no ramp."""
-    if not plan.approach.ramps:
+    return ramps_for(plan.demand, plan.approach, demand_index)
+
+
+def ramps_for(demand: Demand, approach: Approach, demand_index: np.ndarray) -> Ramps | None:
+    """:func:`ramps_on_grid` for a demand and an approach description."""
+    if not approach.ramps:
         return None
-    rf = ramp_flows(plan.demand, plan.approach)
+    rf = ramp_flows(demand, approach)
     return Ramps(
         names=tuple(r.name for r in rf.ramps),
         distance=np.array([r.distance for r in rf.ramps], dtype=float),
@@ -259,8 +265,12 @@ def _cumulative(t: np.ndarray, rate_veh_h: np.ndarray, lo: float, hi: float):
 
 
 def _departures(tk: np.ndarray, dk: np.ndarray, lo: float, hi: float):
-    """Departure curve: held before its first knot, its last flow after the last."""
-    slope = (dk[-1] - dk[-2]) / (tk[-1] - tk[-2]) if len(tk) > 1 else 0.0
+    """Departure curve: held before its first knot (as :mod:`wzq.newell`), and after
+    the last at half its last flow. Beyond the data the departures only set how far
+    behind a ramp lies the zero of a section the queue has not reached, never
+    whether it has (that is decided at the ramp itself, at a time within the data);
+    half the flow keeps the level curves rising there, so they cover the run."""
+    slope = 0.5 * (dk[-1] - dk[-2]) / (tk[-1] - tk[-2]) if len(tk) > 1 else 0.0
     x = np.concatenate(([lo], tk, [hi]))
     y = np.concatenate(([dk[0]], dk, [dk[-1] + slope * (hi - tk[-1])]))
     return x, y
@@ -335,9 +345,15 @@ def _section_track(
     :mod:`wzq.newell` (``c`` the lane capacity of the triangle through the free
     and congested branches). Returns the vertices and whether the span was
     covered."""
-    ev = nch * sx - b
-    fv = nch * ux - e
+    # both curves never fall (every count rises no faster than the capacity); the
+    # running maximum only removes rounding
+    ev = np.maximum.accumulate(nch * sx - b)
+    fv = np.maximum.accumulate(nch * ux - e)
     lo, hi = max(ev[0], fv[0]), min(ev[-1], fv[-1])
+    if lo > hi:
+        # the ranges do not meet: F lies below E (the free count arriving at capacity
+        # all along, below the congested one), so g < 0 throughout: no queue here
+        return np.array([t0, t_end]), np.zeros(2), True
     levels = np.unique(np.concatenate((ev, fv, [lo, hi])))
     levels = levels[(levels >= lo) & (levels <= hi)]
     if np.all(np.diff(ev) > 0) and np.all(np.diff(fv) > 0):
@@ -487,15 +503,15 @@ def by_sections(
     d = np.concatenate(([0.0], ramps.distance))  # downstream end of each section
     ell = np.append(np.diff(d), np.inf)
     margin = 2.0 * (d[-1] + 1000.0) * (1.0 / v + 1.0 / w) + 4.0 * HOUR
-    for _ in range(4):
+    for last in (False, False, True):
         out = _by_sections(
             queue, ramps, v, w, k_j, n, nch, nc, d, ell, t0, t_end, margin,
-            prebreakdown, discharge,
+            prebreakdown, discharge, last,
         )  # fmt: skip
         if out is not None:
             return out
         margin *= 4.0
-    raise RuntimeError("the level curves did not cover the run; please report this plan")
+    raise AssertionError("unreachable")
 
 
 def _by_sections(
@@ -514,7 +530,11 @@ def _by_sections(
     margin: float,
     prebreakdown: np.ndarray,
     discharge: np.ndarray,
+    last_try: bool,
 ) -> SectionsRun | None:
+    """One attempt of :func:`by_sections` with curves ``margin`` seconds beyond the run;
+    ``None`` when the level curves do not cover the run (unless ``last_try``: then
+    the ends are held, as :mod:`wzq.newell` does, and the result is flagged)."""
     t = queue0.t
     lo, hi = t0 - margin, t_end + margin
     k_r = ramps.count
@@ -597,7 +617,9 @@ def _by_sections(
         ux, uy = eff[j]
         tt, dd, covered = _section_track(sx, sy, ux, uy, nch, v, w, t0, t_end)
         if not covered:
-            return None
+            if not last_try:
+                return None
+            over_cap = True  # only where flows reach the capacity all along
         tracks.append((tt, dd))
     times, dist = _farthest(tracks, d, ell)
     # the traffic for the closure: free-flow arrivals, actual departures
@@ -812,6 +834,30 @@ def trajectory_of_lengths(
     if tt[-1] < t[-1]:
         tt, dd = np.append(tt, t[-1]), np.append(dd, 0.0)
     return tt, dd
+
+
+def coarsen(queue: QueueRun, t: np.ndarray) -> QueueRun:
+    """A queue found on a refinement of the grid ``t``, summed back onto ``t``
+    (exact totals per interval; ``queue.t`` must contain every knot of ``t``)."""
+    if len(queue.t) == len(t):
+        return queue
+    at = np.searchsorted(queue.t, t)
+    first = at[:-1]
+    dur = np.diff(t)
+    arrivals = np.add.reduceat(queue.arrivals, first)
+    departures = np.add.reduceat(queue.departures, first)
+    return QueueRun(
+        t,
+        arrivals / dur,
+        np.add.reduceat(queue.discharge * np.diff(queue.t), first) / dur,
+        queue.queue[at],
+        np.add.reduceat(queue.busy, first),
+        np.add.reduceat(queue.delay, first),
+        arrivals,
+        departures,
+        queue.arrivals_cum[at],
+        queue.departures_cum[at],
+    )
 
 
 def newell_queue(
