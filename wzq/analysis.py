@@ -163,7 +163,7 @@ def calibrated_diagram(
                 "density",
             )
         )
-    return Trapezoidal(free_speed=ffs, capacity=c_ln, jam_density=k_j, wave_speed=w)
+    return Trapezoidal(free_speed=ffs, capacity=c_ln, jam_density=k_j, backward_wave_speed=w)
 
 
 def closure_capacity(

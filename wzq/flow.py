@@ -430,7 +430,8 @@ class Trapezoidal(FundamentalDiagram):
       congested branch.
 
     Parameters: ``free_speed`` (m/s), ``capacity`` (veh/s/ln), ``jam_density``
-    (veh/m/ln), ``wave_speed`` ``w`` (m/s, positive). The congested branch must
+    (veh/m/ln), ``backward_wave_speed`` ``w`` (m/s, positive; a field here, a
+    derived property of :class:`Triangular`). The congested branch must
     meet the capacity at or beyond the free branch (``C / v_f <= k_j - C / w``),
     otherwise the road could not carry its capacity.
     """
@@ -438,16 +439,16 @@ class Trapezoidal(FundamentalDiagram):
     free_speed: float
     capacity: float
     jam_density: float
-    wave_speed: float
+    backward_wave_speed: float
 
     def __post_init__(self) -> None:
-        for name in ("free_speed", "capacity", "jam_density", "wave_speed"):
+        for name in ("free_speed", "capacity", "jam_density", "backward_wave_speed"):
             _require_positive(name, getattr(self, name))
         k_1 = self.capacity / self.free_speed
-        k_c = self.jam_density - self.capacity / self.wave_speed
+        k_c = self.jam_density - self.capacity / self.backward_wave_speed
         if k_c < k_1 * (1.0 - ROUNDING_TOLERANCE):
             raise ValueError(
-                f"the congested branch (wave speed {self.wave_speed!r} m/s) reaches the "
+                f"the congested branch (wave speed {self.backward_wave_speed!r} m/s) reaches the "
                 f"capacity at {k_c!r} veh/m/ln, below the free branch's {k_1!r} veh/m/ln; "
                 "the road could not carry its capacity -- use a faster wave or a higher "
                 "jam density"
@@ -461,20 +462,18 @@ class Trapezoidal(FundamentalDiagram):
     @property
     def critical_density(self) -> float:  # type: ignore[override]
         """``k_c = k_j - C / w`` (veh/m/ln): the density at capacity of the congested branch."""
-        return max(self.jam_density - self.capacity / self.wave_speed, self.free_capacity_density)
-
-    @property
-    def backward_wave_speed(self) -> float:
-        """``w`` in m/s, a positive number (as :attr:`Triangular.backward_wave_speed`)."""
-        return self.wave_speed
+        return max(
+            self.jam_density - self.capacity / self.backward_wave_speed, self.free_capacity_density
+        )
 
     def _flow(self, k: FloatArray) -> FloatArray:
         return np.minimum(
-            np.minimum(self.free_speed * k, self.capacity), self.wave_speed * (self.jam_density - k)
+            np.minimum(self.free_speed * k, self.capacity),
+            self.backward_wave_speed * (self.jam_density - k),
         )
 
     def _speed(self, k: FloatArray) -> FloatArray:
-        cap = np.minimum(self.capacity, self.wave_speed * (self.jam_density - k))
+        cap = np.minimum(self.capacity, self.backward_wave_speed * (self.jam_density - k))
         return np.where(
             k <= self.free_capacity_density,
             self.free_speed,
@@ -485,14 +484,14 @@ class Trapezoidal(FundamentalDiagram):
         return np.where(
             k <= self.free_capacity_density,
             self.free_speed,
-            np.where(k <= self.critical_density, 0.0, -self.wave_speed),
+            np.where(k <= self.critical_density, 0.0, -self.backward_wave_speed),
         )
 
     def _density_free(self, q: FloatArray) -> FloatArray:
         return q / self.free_speed
 
     def _density_congested(self, q: FloatArray) -> FloatArray:
-        return self.jam_density - q / self.wave_speed
+        return self.jam_density - q / self.backward_wave_speed
 
 
 PIECEWISE_LINEAR: Final = (Triangular, Trapezoidal)
