@@ -363,6 +363,21 @@ def test_queue_past_an_exit_ramp_that_holds_the_closure_traffic_back() -> None:
 # --------------------------------------------------------------------------- landmarks
 
 
+def one_busy_hour(*landmarks: Landmark, limit: str | None = None) -> Plan:
+    """2,400 veh/h for an hour (01:00) against one lane open at 1,500 veh/h, 600
+    veh/h before and after, no capacity drop, the single-state relation."""
+    closure = Closure(START + dt.timedelta(hours=1), START + dt.timedelta(hours=2), 1,
+                      capacity_override_veh_h_ln=1500.0)  # fmt: skip
+    return Plan(
+        site(capacity_drop_pct_open=0.0),
+        Demand(START, 3600, np.array([600.0, 2400.0, 600.0, 600.0])),
+        (closure,),
+        Thresholds(queue_must_not_pass=limit),
+        options=Options(queue_length_method="shockwave"),
+        approach=Approach(landmarks),
+    )
+
+
 def test_landmark_results_by_hand_with_the_single_state_relation() -> None:
     """Single-state relation, no ramps: 2,400 veh/h against 1,500 for an hour.
 
@@ -375,24 +390,9 @@ def test_landmark_results_by_hand_with_the_single_state_relation() -> None:
     600 veh/h (no capacity drop): past the bridge until 166.25 veh remain,
     (900 - 166.25) / 3,400 h after 02:00.
     """
-    plan = Plan(
-        site(capacity_drop_pct_open=0.0),
-        Demand(START, 3600, np.array([600.0, 2400.0, 600.0, 600.0])),
-        (
-            Closure(
-                START + dt.timedelta(hours=1),
-                START + dt.timedelta(hours=2),
-                1,
-                capacity_override_veh_h_ln=1500.0,
-            ),
-        ),
-        options=Options(queue_length_method="shockwave"),
-        approach=Approach(
-            (
-                Landmark("Heron Creek bridge", 1000.0, "structure"),
-                Landmark("end of signs", 8000.0, "warning-signs-end"),
-            )
-        ),
+    plan = one_busy_hour(
+        Landmark("Heron Creek bridge", 1000.0, "structure"),
+        Landmark("end of signs", 8000.0, "warning-signs-end"),
     )
     s1 = 2 * (k_queued(1500) - k_free(2400))
     s2 = 2 * (k_queued(1500) - k_free(600))
@@ -416,30 +416,14 @@ def test_landmark_results_by_hand_with_the_single_state_relation() -> None:
 
 def test_queue_past_the_end_of_the_warning_signs_warns() -> None:
     # Same queue; the signs end 2 km upstream: 292.5 veh, reached after 19.5 min
-    plan = Plan(
-        site(capacity_drop_pct_open=0.0),
-        Demand(START, 3600, np.array([600.0, 2400.0, 600.0, 600.0])),
-        (
-            Closure(
-                START + dt.timedelta(hours=1),
-                START + dt.timedelta(hours=2),
-                1,
-                capacity_override_veh_h_ln=1500.0,
-            ),
-        ),
-        options=Options(queue_length_method="shockwave"),
-        approach=Approach((Landmark("end of signs", 2000.0, "warning-signs-end"),)),
-    )
+    plan = one_busy_hour(Landmark("end of signs", 2000.0, "warning-signs-end"))
     result = wzq.analyse(plan)
     (w,) = [w for w in result.warnings if "advance warning signing" in w]
     assert "'end of signs', 1.24 mi upstream" in w
     assert "from 2027-05-03 01:19" in w
     assert "common practice, no source" in w
     # named as the limit it is a failing check instead of a warning
-    limited = Plan(plan.site, plan.demand, plan.closures,
-                   Thresholds(queue_must_not_pass="end of signs"), options=plan.options,
-                   approach=plan.approach)  # fmt: skip
-    result = wzq.analyse(limited)
+    result = wzq.analyse(one_busy_hour(*plan.approach.landmarks, limit="end of signs"))
     assert not any("advance warning signing" in w for w in result.warnings)
     assert list(result.hourly["landmark_ok"]) == [True, False, False, True]
     assert result.hourly.loc[1, "status"] == "over limit: queue passes end of signs"
