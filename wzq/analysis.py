@@ -498,7 +498,8 @@ def _evaluate_with_ramps(
             ci, lanes_open, lam = ci[idx], lanes_open[idx], lam[idx]
             pre, qdr, extra = pre[idx], qdr[idx], extra[idx]
             run = sec.queue
-        nq = approach.newell_queue(sec.times, sec.distance, run.t, sec.capacity_limited)
+        # (a section over capacity has its own warning: _approach_warnings)
+        nq = approach.newell_queue(sec.times, sec.distance, run.t, False)
         length_start, length_end = nq.at_boundaries[:-1], nq.at_boundaries[1:]
     else:
         nq = None

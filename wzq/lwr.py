@@ -827,7 +827,10 @@ def solve(
         else None
     )
     h = scheme.h
-    congested = float(diagram.critical_density) + 1e-9 * float(diagram.jam_density)
+    # the bottleneck is active once the last cell is beyond the free branch (on a
+    # trapezoid, at its capacity plateau already)
+    k_busy = getattr(diagram, "free_capacity_density", diagram.critical_density)
+    congested = float(k_busy) + 1e-9 * float(diagram.jam_density)
     k_queue = queue_density(diagram)
     density = np.empty(n)
     flow = np.empty(n)

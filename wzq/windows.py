@@ -535,7 +535,10 @@ class WindowSet:
         )
 
     def added_delay_veh_h(self, s: int, e: int) -> float:
-        """Delay the closure ``[s, e)`` adds to the all-lanes-open run (veh-h), exactly."""
+        """Delay the closure ``[s, e)`` adds to the all-lanes-open run (veh-h), exactly.
+
+        The delay of the traffic through the closure (queue and work zone); with
+        exit ramps, the delay of the traffic leaving there is not counted."""
         return _evaluate(self._grid, s, e).total_delay_veh_h - self._base.total_delay_veh_h
 
     def window(self, s: int, e: int) -> Window:
