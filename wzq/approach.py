@@ -570,7 +570,7 @@ def _by_sections(
                 rx, ry = ramp[j - 1]
                 cx, cy = _add(yx, yy, rx - d[j] / v, ry, -1.0)
             else:
-                (fx, fy), (ix_, iy_) = through[j - 1]
+                _, (ix_, iy_) = through[j - 1]
                 cx, cy = _compose(ix_, iy_, yx, yy)
             raw_b.append((cx, cy))
             b.append(_capacity_cap(cx, cy, nc, (t0, t_end))[:2])
@@ -599,8 +599,13 @@ def _by_sections(
             ux2, uy2, capped = _capacity_cap(ux + ell[j - 1] / v, uy, nc, (t0, t_end))
             over_cap |= capped
             eff[j - 1] = (ux2, uy2)
-        # section 0: the closure's arrivals; equal to the free-flow ones unless a
-        # ramp limited the flow
+        # section 0: what reaches the closure. Unless a cap held traffic back, the
+        # closure's point queue stands as it is: where the queue covers a ramp the
+        # count passed down is the congested one, but the closure still discharges
+        # as long as its queue lasts, which is as long as the queue reaches it.
+        if not limited and not over_cap:
+            converged = True
+            break
         e0x, e0y = eff[0]
         ref = arrivals0 if eff0_prev is None else eff0_prev
         knots = np.union1d(np.union1d(e0x, ref[0]), t)
