@@ -99,25 +99,7 @@ def back_at(result: wzq.Result, seconds: float) -> float:
 
 
 def entrance_construction() -> dict[str, float]:
-    """Shock construction, entrance ramp 1,000 m upstream, inside the queue.
-
-    Mainline 1,500 veh/h, ramp 300 veh/h (the closure receives 1,800 veh/h),
-    closure 1,500 veh/h from t = 3,600 s to 10,800 s.
-
-    1. Section 0 (closure to ramp): arriving A0 = 1,800 veh/h free, queued Q0 =
-       1,500 veh/h congested; the back moves at u0 = shock(A0, Q0) < 0 and
-       reaches the ramp after 1,000 / |u0| s.
-    2. Upstream of the ramp: arriving A1 = 1,500 veh/h (mainline only), queued
-       Q1 = 1,500 - 300 = 1,200 veh/h (the ramp's 300 enter in full); the back
-       moves at u1 = shock(A1, Q1).
-    3. At 10,800 s the closure ends; the recovery R0 = 3,720 veh/h travels
-       upstream at -w and becomes R1 = 3,720 - 300 = 3,420 veh/h past the ramp;
-       it meets the back where w (t - 10,800) = b(10,800) + |u1| (t - 10,800):
-       the longest queue.
-    4. The back then moves downstream at shock(A1, R1), reaches the ramp, and
-       then at shock(A0, R0) reaches the closure, when the point queue of
-       (1,800 - 1,500) x 2 h = 600 veh has cleared at 3,720 - 1,800 veh/h.
-    """
+    """The shock construction of the entrance-ramp test's docstring, step by step."""
     t_s, t_e, d = 3600.0, 10800.0, 1000.0
     u0 = shock(1800, k_free(1800), 1500, k_queued(1500))
     t1 = t_s + d / -u0
@@ -136,6 +118,28 @@ ON_RAMP = Landmark("Ash Lane on-ramp", 1000.0, "entrance-ramp", ramp_veh_h=(300.
 
 
 def test_entrance_ramp_inside_the_queue_matches_the_shock_construction() -> None:
+    """Lighthill-Whitham shock construction with an entrance ramp inside the queue.
+
+    Entrance ramp 1,000 m upstream. Mainline 1,500 veh/h, ramp 300 veh/h (the closure receives 1,800 veh/h),
+    closure 1,500 veh/h from t = 3,600 s to 10,800 s.
+
+    1. Section 0 (closure to ramp): arriving A0 = 1,800 veh/h free, queued Q0 =
+       1,500 veh/h congested; the back moves at u0 = shock(A0, Q0) < 0 and
+       reaches the ramp after 1,000 / |u0| s.
+    2. Upstream of the ramp: arriving A1 = 1,500 veh/h (mainline only), queued
+       Q1 = 1,500 - 300 = 1,200 veh/h (the ramp's 300 enter in full); the back
+       moves at u1 = shock(A1, Q1).
+    3. At 10,800 s the closure ends; the recovery R0 = 3,720 veh/h travels
+       upstream at -w and becomes R1 = 3,720 - 300 = 3,420 veh/h past the ramp;
+       it meets the back where w (t - 10,800) = b(10,800) + |u1| (t - 10,800):
+       the longest queue.
+    4. The back then moves downstream at shock(A1, R1), reaches the ramp, and
+       then at shock(A0, R0) reaches the closure, when the point queue of
+       (1,800 - 1,500) x 2 h = 600 veh has cleared at 3,720 - 1,800 veh/h.
+
+    The engine (Newell's method by sections) must give the same back of the
+    queue at every vertex of the construction, to rounding.
+    """
     h = entrance_construction()
     # the construction closes on itself: the back reaches the closure when the
     # point queue clears (600 veh at 3,720 - 1,800 veh/h after 10,800 s)
@@ -189,28 +193,7 @@ def test_entrance_ramp_space_time_solver_agrees_within_its_resolution() -> None:
 
 
 def exit_construction(beta: float) -> dict[str, float]:
-    """Shock construction, exit ramp 1,000 m upstream, inside the queue.
-
-    Mainline 2,000 veh/h, a share ``beta`` leaves at the ramp (the closure
-    receives 2,000 (1 - beta)), closure 1,200 veh/h from 3,600 s to 10,800 s.
-
-    1. Section 0: A0 = 2,000 (1 - beta) free, Q0 = 1,200 congested; the back
-       reaches the ramp after 1,000 / |shock(A0, Q0)| s (t1).
-    2. Upstream: A1 = 2,000 free; first in, first out, the diverge passes 1,200
-       through and a share beta leaves, so Q1 = 1,200 / (1 - beta); the exits
-       fall from 2,000 beta to 1,200 beta / (1 - beta) veh/h: the exiting
-       traffic held in the queue grows at beta (2,000 - Q1) veh/h.
-    3. At 10,800 s the recovery R0 = 3,720 leaves the closure at -w; it reaches
-       the ramp at 10,800 + 1,000 / w (t_r), where R1 = 3,720 / (1 - beta) (below
-       the 4,000 veh/h capacity for beta < 7 %), and meets the back at t_m.
-    4. The back returns at shock(A1, R1) to the ramp (t2) -- meanwhile the held
-       exiting traffic drains at beta (R1 - 2,000) veh/h, to nothing at t2 --
-       and at shock(A0, R0) to the closure (t3).
-    Exiting traffic: the held count rises linearly from 0 at t1 to H at t_r and
-    falls linearly to 0 at t2: delay 0.5 H (t2 - t1); the longest extra time is
-    that of the vehicle leaving at t_r, H / (2,000 beta) (the free exit curve
-    rises at 2,000 beta veh/h).
-    """
+    """The shock construction of the exit-ramp test's docstring, step by step."""
     t_s, t_e, d = 3600.0, 10800.0, 1000.0
     a0, q1, r1 = 2000.0 * (1 - beta), 1200.0 / (1 - beta), OPEN_DISCHARGE / (1 - beta)
     u0 = shock(a0, k_free(a0), 1200, k_queued(1200))
@@ -232,6 +215,32 @@ def exit_construction(beta: float) -> dict[str, float]:
 
 
 def test_exit_ramp_inside_the_queue_matches_the_shock_construction() -> None:
+    """Lighthill-Whitham shock construction with an exit ramp inside the queue (beta 5 %).
+
+    Exit ramp 1,000 m upstream. Mainline 2,000 veh/h, a share ``beta`` leaves at
+    the ramp (the closure receives 2,000 (1 - beta)), closure 1,200 veh/h from
+    3,600 s to 10,800 s.
+
+    1. Section 0: A0 = 2,000 (1 - beta) free, Q0 = 1,200 congested; the back
+       reaches the ramp after 1,000 / |shock(A0, Q0)| s (t1).
+    2. Upstream: A1 = 2,000 free; first in, first out, the diverge passes 1,200
+       through and a share beta leaves, so Q1 = 1,200 / (1 - beta); the exits
+       fall from 2,000 beta to 1,200 beta / (1 - beta) veh/h: the exiting
+       traffic held in the queue grows at beta (2,000 - Q1) veh/h.
+    3. At 10,800 s the recovery R0 = 3,720 leaves the closure at -w; it reaches
+       the ramp at 10,800 + 1,000 / w (t_r), where R1 = 3,720 / (1 - beta) (below
+       the 4,000 veh/h capacity for beta < 7 %), and meets the back at t_m.
+    4. The back returns at shock(A1, R1) to the ramp (t2) -- meanwhile the held
+       exiting traffic drains at beta (R1 - 2,000) veh/h, to nothing at t2 --
+       and at shock(A0, R0) to the closure (t3).
+    Exiting traffic: the held count rises linearly from 0 at t1 to H at t_r and
+    falls linearly to 0 at t2: delay 0.5 H (t2 - t1); the longest extra time is
+    that of the vehicle leaving at t_r, H / (2,000 beta) (the free exit curve
+    rises at 2,000 beta veh/h).
+
+    The engine must give the back of the queue at every vertex, the exiting
+    traffic's delay and its longest extra time, to rounding.
+    """
     beta = 0.05
     h = exit_construction(beta)
     assert h["drained"] == pytest.approx(h["held"], rel=1e-12)  # the construction closes
