@@ -120,8 +120,9 @@ ON_RAMP = Landmark("Ash Lane on-ramp", 1000.0, "entrance-ramp", ramp_veh_h=(300.
 def test_entrance_ramp_inside_the_queue_matches_the_shock_construction() -> None:
     """Lighthill-Whitham shock construction with an entrance ramp inside the queue.
 
-    Entrance ramp 1,000 m upstream. Mainline 1,500 veh/h, ramp 300 veh/h (the closure receives 1,800 veh/h),
-    closure 1,500 veh/h from t = 3,600 s to 10,800 s.
+    Entrance ramp 1,000 m upstream. Mainline 1,500 veh/h, ramp 300 veh/h (the
+    closure receives 1,800 veh/h), closure 1,500 veh/h from t = 3,600 s to
+    10,800 s.
 
     1. Section 0 (closure to ramp): arriving A0 = 1,800 veh/h free, queued Q0 =
        1,500 veh/h congested; the back moves at u0 = shock(A0, Q0) < 0 and
