@@ -639,3 +639,19 @@ def test_show_lists_the_landmarks(tmp_path: Path) -> None:
     # (checked by hand above); here the table must say a time, not "never"
     line = next(x for x in text.splitlines() if x.strip().startswith("Ash Lane on-ramp"))
     assert "Mon 2027-05-03" in line
+
+
+@pytest.mark.parametrize("method", ["newell", "shockwave"])
+def test_an_entrance_ramp_above_the_queues_flow_is_flagged(method: str) -> None:
+    # the closure passes 800 veh/h; 1,000 veh/h enter 500 m upstream: upstream of the
+    # ramp the queue would have to carry 800 - 1,000 < 0 veh/h (the ramp would queue)
+    ramp = Landmark("Quarry Rd on-ramp", 500.0, "entrance-ramp", ramp_veh_h=(1000.0,) * 6)
+    plan = closure_plan(500.0, ramp, 800.0)
+    plan = Plan(plan.site, plan.demand, plan.closures, approach=plan.approach,
+                options=Options(queue_length_method=method))  # fmt: skip
+    (w,) = [w for w in wzq.analyse(plan).warnings if "entrance ramp" in w]
+    assert "'Quarry Rd on-ramp'" in w and "traffic would queue on the ramp too" in w
+    # with 300 veh/h on the ramp nothing is flagged
+    quiet = Landmark("Quarry Rd on-ramp", 500.0, "entrance-ramp", ramp_veh_h=(300.0,) * 6)
+    plan = closure_plan(500.0, quiet, 800.0)
+    assert not [w for w in wzq.analyse(plan).warnings if "entrance ramp" in w]
