@@ -285,7 +285,8 @@ class ExitDelay:
 
     ``delay_veh_s`` per hour of the run (at the ramp's clock), ``max_wait_s``
     the longest extra time one exiting vehicle spent (``None`` with the
-    single-state relation, which follows no vehicle).
+    single-state relation, which follows no vehicle, or when no exiting vehicle
+    both arrives and leaves within the run).
     """
 
     name: str
@@ -463,6 +464,8 @@ def _exit_delay(
     ay = _at(act_x, act_y, x)
     levels = np.unique(np.concatenate((fy, ay)))
     levels = levels[(levels >= max(fy[0], ay[0])) & (levels <= min(fy[-1], ay[-1]))]
+    if len(levels) == 0:  # no exiting vehicle both arrives and leaves within the run
+        return ExitDelay(name, distance, per_hour, None)
     wait = _earliest(x, ay, levels) - _earliest(x, fy, levels)
     return ExitDelay(name, distance, per_hour, float(max(wait.max(), 0.0)))
 
