@@ -408,20 +408,25 @@ def test_no_drop_discharge_at_approach_capacity_window_agrees_with_analyse() -> 
 def test_reported_windows_pass_analyse_and_cannot_be_extended(case, data) -> None:
     site, demand, limits, options, config = case
     result = W.find_windows(site, demand, limits, [config], options=options)
-    ws = result.sets[0]
+    check_verdicts(result.sets[0], lambda s, e: _passes(*case, s, e), data)
+
+
+def check_verdicts(ws: W.WindowSet, passes, data, top: int = 5) -> None:
+    """Up to ``top`` reported windows pass ``passes(s, e)`` (analyse's verdict) and
+    cannot be extended; four random candidates get analyse's verdict."""
     n = ws.n
     windows = ws.maximal()
-    if len(windows) > 5:
-        windows = data.draw(st.permutations(windows))[:5]
+    if len(windows) > top:
+        windows = data.draw(st.permutations(windows))[:top]
     for s, e in windows:
-        assert _passes(*case, s, e), (s, e)
-        assert s == 0 or not _passes(*case, s - 1, e), (s, e)
-        assert e == n or not _passes(*case, s, e + 1), (s, e)
+        assert passes(s, e), (s, e)
+        assert s == 0 or not passes(s - 1, e), (s, e)
+        assert e == n or not passes(s, e + 1), (s, e)
     # any candidate, allowed or not, gets the same verdict as analyse()
     for _ in range(4):
         s = data.draw(st.integers(0, n - 1))
         e = data.draw(st.integers(s + 1, n))
-        assert bool(ws.allowed[s, e]) == _passes(*case, s, e), (s, e)
+        assert bool(ws.allowed[s, e]) == passes(s, e), (s, e)
 
 
 @settings(max_examples=20, deadline=None, suppress_health_check=[HealthCheck.too_slow])

@@ -10,9 +10,11 @@ the local agency's rules.
 
 from wzq.analysis import Result, analyse
 from wzq.plan import (
+    Approach,
     Closure,
     Costs,
     Demand,
+    Landmark,
     Meta,
     Options,
     Plan,
@@ -31,9 +33,11 @@ CAUTION = (
 
 __all__ = [
     "CAUTION",
+    "Approach",
     "Closure",
     "Costs",
     "Demand",
+    "Landmark",
     "Meta",
     "Options",
     "Plan",

@@ -25,11 +25,21 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
+from wzq import approach, newell, plausibility, units
 from wzq import capacity as cap
 from wzq import costs as road_user_costs
-from wzq import newell, plausibility
-from wzq.flow import FundamentalDiagram, Triangular, make_diagram
-from wzq.plan import NIGHT_END_HOUR, NIGHT_START_HOUR, Closure, Plan, Site, Thresholds
+from wzq.flow import PIECEWISE_LINEAR, FundamentalDiagram, Trapezoidal, make_diagram
+from wzq.plan import (
+    HCM_DENSITY_AT_CAPACITY_PC_MI_LN,
+    NIGHT_END_HOUR,
+    NIGHT_START_HOUR,
+    Closure,
+    Plan,
+    PlanError,
+    Problem,
+    Site,
+    Thresholds,
+)
 from wzq.queueing import QueueRun, solve, waits
 from wzq.shockwave import stored_density
 from wzq.units import FOOT, HOUR, LONG_LENGTH, MILE, MPH, per_mile_to_per_m
@@ -79,7 +89,9 @@ def site_model(site: Site, diagram: str = "triangular") -> SiteModel:
     if k_j is None:
         k_j = per_mile_to_per_m(JAM_DENSITY_PC_MI_LN) * f_hv
     c_ln = base * f_hv * f_p / HOUR  # veh/s/ln
-    if diagram == "triangular":
+    if diagram == "triangular" and site.congested_branch != "derived":
+        fd = calibrated_diagram(site, ffs, k_j, c_ln, f_hv)
+    elif diagram == "triangular":
         fd = make_diagram("triangular", free_speed=ffs, jam_density=k_j, capacity=c_ln)
     elif diagram == "greenshields":
         fd = make_diagram("greenshields", free_speed=ffs, jam_density=k_j)
@@ -91,6 +103,75 @@ def site_model(site: Site, diagram: str = "triangular") -> SiteModel:
             speed_cap=min(site.work_zone_speed_limit, ffs),
         )
     return SiteModel(ffs, f_hv, f_p, base, k_j, fd)
+
+
+def calibrated_diagram(
+    site: Site, ffs: float, k_j: float, c_ln: float, heavy_factor: float
+) -> Trapezoidal:
+    """The triangular diagram with the site's own congested branch (a trapezoid).
+
+    The congested branch runs from the density at capacity ``k_c`` (at the
+    capacity ``C``) to the jam density, so ``w = C / (k_j - k_c)`` and
+    ``k_c = k_j - C / w``: ``k_c`` is the HCM basic-segment density at capacity,
+    45 pc/mi/ln times the heavy-vehicle factor (HCM 7th ed. ch. 12), or the
+    site's density at capacity, or follows from its backward wave speed.
+    Capacity, free-flow speed and jam density stay as they are; where the
+    free branch reaches the capacity before ``k_c`` the diagram has a plateau
+    at capacity (:class:`wzq.flow.Trapezoidal`).
+
+    Raises :class:`PlanError` when the branch cannot reach the capacity.
+    """
+    system = site.unit_system
+    speed_unit = units.SPEED[system][0]
+    density_unit = units.DENSITY[system][0]
+    k_1 = c_ln / ffs
+    if site.congested_branch == "wave-speed":
+        w = float(site.wave_speed or 0.0)
+        k_c = k_j - c_ln / w
+        where = "site.wave_speed"
+    else:
+        if site.congested_branch == "hcm":
+            k_c = units.per_mile_to_per_m(HCM_DENSITY_AT_CAPACITY_PC_MI_LN) * heavy_factor
+        else:
+            k_c = float(site.density_at_capacity or 0.0)
+        where = (
+            "site.density_at_capacity"
+            if site.congested_branch != "hcm"
+            else ("site.congested_branch")
+        )
+        if k_c >= k_j:
+            raise PlanError(
+                Problem(
+                    where,
+                    f"the density at capacity ({units.per_m_to_density(k_c, system):,.1f} "
+                    f"{density_unit}) is not below the jam density "
+                    f"({units.per_m_to_density(k_j, system):,.1f} {density_unit}); "
+                    "lower it or raise the jam density",
+                )
+            )
+        w = c_ln / (k_j - k_c)
+    if k_c < k_1 * (1.0 - 1e-9):
+        w_min = c_ln / (k_j - k_1)
+        if site.congested_branch == "wave-speed":
+            given = f"a backward wave speed of {units.mps_to_speed(w, system):,.1f} {speed_unit}"
+        else:
+            given = (
+                f"{'the HCM ' if site.congested_branch == 'hcm' else 'a '}density at capacity "
+                f"of {units.per_m_to_density(k_c, system):,.1f} {density_unit}"
+            )
+        raise PlanError(
+            Problem(
+                where,
+                f"with {given} the congested branch meets the free-flow branch below the "
+                "capacity, so the road could not carry its capacity (free-flowing traffic "
+                f"reaches it at {units.per_m_to_density(k_1, system):,.1f} {density_unit}); "
+                f"use a backward wave speed of at least {units.mps_to_speed(w_min, system):,.1f} "
+                f"{speed_unit} (a density at capacity of at least "
+                f"{units.per_m_to_density(k_1, system):,.1f} {density_unit}) or a higher jam "
+                "density",
+            )
+        )
+    return Trapezoidal(free_speed=ffs, capacity=c_ln, jam_density=k_j, backward_wave_speed=w)
 
 
 def closure_capacity(
@@ -236,6 +317,7 @@ class Run:
     length_end: np.ndarray
     work_zone_delay: np.ndarray
     back_of_queue: newell.NewellQueue | None = None
+    sections: approach.SectionsRun | None = None  # the approach's ramps, when it has any
 
     @property
     def length_method(self) -> str:
@@ -418,10 +500,19 @@ def evaluate(plan: Plan) -> Run:
     site = plan.site
     model, t, ci, di, pre, qdr, extra, lanes_open = interval_arrays(plan)
     dur = np.diff(t)
-    lam = plan.demand.flows_veh_h[di]
+    ramps = approach.ramps_on_grid(plan, di)
+    # the flow arriving at the closure: the mainline plus the entrance ramps minus the exits
+    lam = plan.demand.flows_veh_h[di] if ramps is None else ramps.section[0]
     run = solve(dur, lam / HOUR, pre / HOUR, qdr / HOUR, t=t)
     nq = None
-    if plan.options.queue_length_method == "newell" and isinstance(model.diagram, Triangular):
+    newell_ok = plan.options.queue_length_method == "newell" and isinstance(
+        model.diagram, PIECEWISE_LINEAR
+    )
+    if ramps is not None:
+        return _evaluate_with_ramps(
+            plan, model, ramps, newell_ok, run, ci, lanes_open, lam, pre, qdr, extra
+        )
+    if newell_ok:
         nq = newell.from_queue(run, model.diagram, site.lanes) if run.busy.any() else _no_queue(t)
         length_start, length_end = nq.at_boundaries[:-1], nq.at_boundaries[1:]
     else:
@@ -432,6 +523,51 @@ def evaluate(plan: Plan) -> Run:
     return Run(
         plan, model, t, ci, lanes_open, lam, pre, qdr, run, length_start, length_end, wz_delay, nq
     )
+
+
+def _evaluate_with_ramps(
+    plan: Plan,
+    model: SiteModel,
+    ramps: approach.Ramps,
+    newell_ok: bool,
+    run: QueueRun,
+    ci: np.ndarray,
+    lanes_open: np.ndarray,
+    lam: np.ndarray,
+    pre: np.ndarray,
+    qdr: np.ndarray,
+    extra: np.ndarray,
+) -> Run:
+    """:func:`evaluate`'s last steps on an approach with ramps (:mod:`wzq.approach`).
+
+    Newell's method by sections, or the single-state relation by sections. When
+    a ramp holds the closure's traffic back (first in, first out at a diverge)
+    the queue of the closure's traffic is found on a finer grid; the per-interval
+    arrays then follow it.
+    """
+    lanes = plan.site.lanes
+    if newell_ok:
+        sec = approach.by_sections(run, ramps, model.diagram, lanes, pre / HOUR, qdr / HOUR)
+        if sec.queue is not run:
+            mid = 0.5 * (sec.queue.t[:-1] + sec.queue.t[1:])
+            idx = np.clip(np.searchsorted(run.t, mid, side="right") - 1, 0, len(run.t) - 2)
+            ci, lanes_open, lam = ci[idx], lanes_open[idx], lam[idx]
+            pre, qdr, extra = pre[idx], qdr[idx], extra[idx]
+            run = sec.queue
+        # (a section over capacity has its own warning: _approach_warnings)
+        nq = approach.newell_queue(sec.times, sec.distance, run.t, False)
+        length_start, length_end = nq.at_boundaries[:-1], nq.at_boundaries[1:]
+    else:
+        nq = None
+        state = queue_state_discharge(run, qdr)
+        length_start, length_end, sec = approach.single_state(
+            run, ramps, model.diagram, lanes, state
+        )
+    wz_delay = run.departures * extra
+    return Run(
+        plan, model, run.t, ci, lanes_open, lam, pre, qdr, run, length_start, length_end,
+        wz_delay, nq, sec,
+    )  # fmt: skip
 
 
 @dataclass(frozen=True)
@@ -452,6 +588,7 @@ class Summary:
     queue_at_end_veh: float
     hours_failing: tuple[dt.datetime, ...]
     total_cost: float | None = None
+    exit_ramp_delay_veh_h: float = 0.0  # traffic for exit ramps held in the queue
 
 
 @dataclass
@@ -497,6 +634,62 @@ class Result:
     def summary(self) -> Summary:
         return summarise(self.run, self.hourly)
 
+    @cached_property
+    def landmark_results(self) -> tuple[approach.LandmarkResult, ...]:
+        """Per landmark of the approach: where the back of the queue stood against it."""
+        return landmark_results(self.run, self.hourly)
+
+    @cached_property
+    def landmarks(self) -> pd.DataFrame:
+        """One row per landmark (nearest the closure first): ``name``, ``kind``,
+        ``distance_m``, ``first_reached`` (local clock, ``NaT``: never),
+        ``time_beyond_h``, ``max_beyond_m``, ``hours_beyond`` (how many hours
+        the back of the queue was beyond it at some instant)."""
+        rows = sorted(self.landmark_results, key=lambda r: r.landmark.distance)
+        first = [
+            None if r.first_reached_s is None else _clock(self.run, r.first_reached_s) for r in rows
+        ]
+        return pd.DataFrame(
+            {
+                "name": [r.landmark.name for r in rows],
+                "kind": [r.landmark.kind for r in rows],
+                "distance_m": np.array([r.landmark.distance for r in rows], dtype=float),
+                "first_reached": pd.to_datetime(pd.Series(first, dtype=object)),
+                "time_beyond_h": np.array([r.time_beyond_s / HOUR for r in rows], dtype=float),
+                "max_beyond_m": np.array([r.max_beyond_m for r in rows], dtype=float),
+                "hours_beyond": np.array([int(r.hours_beyond.sum()) for r in rows], dtype=int),
+            }
+        )
+
+    @cached_property
+    def landmark_hours(self) -> pd.DataFrame:
+        """Per hour, per landmark (a column named after it): the back of the queue
+        was beyond it at some instant of the hour."""
+        cols: dict[str, object] = {"hour_start": self.hourly["hour_start"]}
+        for r in sorted(self.landmark_results, key=lambda r: r.landmark.distance):
+            cols[r.landmark.name] = r.hours_beyond
+        return pd.DataFrame(cols)
+
+    @cached_property
+    def exit_ramps(self) -> pd.DataFrame:
+        """Per exit ramp the queue reached or not: ``name``, ``distance_m``,
+        ``delay_veh_h`` (the exiting traffic held in the queue) and
+        ``max_wait_min`` (the longest extra time of one exiting vehicle; NaN with
+        the single-state relation)."""
+        sec = self.run.sections
+        exits = () if sec is None else sec.exits
+        return pd.DataFrame(
+            {
+                "name": [e.name for e in exits],
+                "distance_m": np.array([e.distance for e in exits], dtype=float),
+                "delay_veh_h": np.array([e.total_veh_h for e in exits], dtype=float),
+                "max_wait_min": np.array(
+                    [np.nan if e.max_wait_s is None else e.max_wait_s / 60.0 for e in exits],
+                    dtype=float,
+                ),
+            }
+        )
+
 
 #: Slack on the limits, absorbing rounding of long sums (m, s, ratio).
 LENGTH_TOLERANCE_M = 1e-9
@@ -505,8 +698,15 @@ RATIO_TOLERANCE = 1e-12
 
 
 #: The per-hour pass/fail columns :func:`hour_checks` may add to the table.
-CHECK_COLUMNS = ("queue_ok", "delay_ok", "demand_capacity_ok")
-_QUEUE_OK, _DELAY_OK, _DEMAND_CAPACITY_OK = CHECK_COLUMNS
+CHECK_COLUMNS = ("queue_ok", "delay_ok", "demand_capacity_ok", "landmark_ok")
+_QUEUE_OK, _DELAY_OK, _DEMAND_CAPACITY_OK, _LANDMARK_OK = CHECK_COLUMNS
+
+
+def landmark_limit(plan: Plan) -> tuple[str, float] | None:
+    """The landmark the queue must not pass, as ``(name, distance m)``, or ``None``."""
+    name = plan.thresholds.queue_must_not_pass
+    lm = None if name is None else plan.approach.landmark(name)
+    return None if lm is None else (lm.name, lm.distance)
 
 
 def hour_checks(
@@ -516,13 +716,16 @@ def hour_checks(
     lmax: np.ndarray,
     delay_veh_h: np.ndarray,
     closed: np.ndarray,
+    landmark: tuple[str, float] | None = None,
 ) -> tuple[np.ndarray, np.ndarray, list[tuple[str, str, np.ndarray]]]:
     """Average delay (min/veh), demand/capacity and each hour's checks against the limits.
 
     Longest queue ``<=`` limit; average delay (queue plus work-zone travel delay
     over the hour's arrivals) ``<=`` limit; demand/capacity ``<=`` limit in closure
-    hours only. The one rule for the per-hour table and the closure-window search.
-    Returns ``(average_delay_min, demand_capacity, [(column, label, ok), ...])``.
+    hours only; the back of the queue not beyond the landmark ``(name, distance
+    m)`` the queue must not pass. The one rule for the per-hour table and the
+    closure-window search. Returns ``(average_delay_min, demand_capacity,
+    [(column, label, ok), ...])``.
     """
     with np.errstate(divide="ignore", invalid="ignore"):
         avg = np.where(
@@ -539,6 +742,9 @@ def hour_checks(
     if th.max_demand_capacity is not None:
         ok = ~closed | (dc <= th.max_demand_capacity + RATIO_TOLERANCE)
         checks.append((_DEMAND_CAPACITY_OK, "demand/capacity", ok))
+    if landmark is not None:
+        ok = lmax <= landmark[1] + LENGTH_TOLERANCE_M
+        checks.append((_LANDMARK_OK, f"queue passes {landmark[0]}", ok))
     return avg, dc, checks
 
 
@@ -571,7 +777,11 @@ def hourly_table(r: Run) -> pd.DataFrame:
     else:
         lmax = top(np.maximum(r.length_start, r.length_end), first)
     closed = top((r.closure >= 0).view(np.int8), first).astype(bool)
-    avg, dc, checks = hour_checks(r.plan.thresholds, arrivals, capacity, lmax, delay, closed)
+    avg, dc, checks = hour_checks(
+        r.plan.thresholds, arrivals, capacity, lmax, delay, closed, landmark_limit(r.plan)
+    )
+    exits = () if r.sections is None else r.sections.exits
+    exit_delay = sum((e.delay_veh_s for e in exits), np.zeros(n_hours)) / HOUR
     max_wait = np.zeros(n_hours)
     if q.busy.any():
         cand, w = waits(q)
@@ -595,8 +805,10 @@ def hourly_table(r: Run) -> pd.DataFrame:
         "delay_veh_h": delay,
         "average_delay_min": avg,
         "max_queue_wait_min": max_wait,
-        "road_user_cost": road_user_costs.plan_delay_cost(r.plan, delay),
+        "road_user_cost": road_user_costs.plan_delay_cost(r.plan, delay + exit_delay),
     }
+    if exits:  # the traffic for exit ramps held in the queue (not in the delay per vehicle)
+        cols["exit_ramp_delay_veh_h"] = exit_delay
     code = np.zeros(n_hours, dtype=np.int64)
     for bit, (name, _, ok) in enumerate(checks):
         cols[name] = ok
@@ -634,12 +846,13 @@ def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
     )
     qd = float(q.delay.sum()) / HOUR
     wd = float(r.work_zone_delay.sum()) / HOUR
+    xd = 0.0 if r.sections is None else float(sum(e.total_veh_h for e in r.sections.exits))
     return Summary(
         max_queue_length_m=lmax,
         max_queue_length_at=_clock(r, lmax_at) if lmax > 0 and lmax_at is not None else None,
         max_queue_veh=float(q.queue[j]),
         max_queue_veh_at=_clock(r, r.t[j]) if q.queue[j] > 0 else None,
-        total_delay_veh_h=qd + wd,
+        total_delay_veh_h=qd + wd + xd,
         queue_delay_veh_h=qd,
         work_zone_delay_veh_h=wd,
         vehicles_affected=float((q.arrival_rate * q.busy).sum()),
@@ -648,8 +861,29 @@ def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
         last_queue_clears=last_clear,
         queue_at_end_veh=float(q.queue[-1]),
         hours_failing=failing,
-        total_cost=float(road_user_costs.plan_delay_cost(r.plan, qd + wd)),
+        total_cost=float(road_user_costs.plan_delay_cost(r.plan, qd + wd + xd)),
+        exit_ramp_delay_veh_h=xd,
     )
+
+
+def queue_trajectory(r: Run) -> tuple[np.ndarray, np.ndarray]:
+    """The back of the queue against time (s, m), piecewise linear: Newell's
+    trajectory, or the single-state lengths joined within each interval."""
+    if r.back_of_queue is not None:
+        return r.back_of_queue.times, r.back_of_queue.distance
+    if r.sections is not None:
+        return r.sections.times, r.sections.distance
+    return approach.trajectory_of_lengths(r.queue, r.length_start, r.length_end)
+
+
+def landmark_results(r: Run, hourly: pd.DataFrame) -> tuple[approach.LandmarkResult, ...]:
+    """:func:`wzq.approach.landmark_results` for a run and its per-hour table."""
+    landmarks = r.plan.approach.landmarks
+    if not landmarks:
+        return ()
+    times, dist = queue_trajectory(r)
+    lmax = hourly["queue_length_max_m"].to_numpy(dtype=float)
+    return approach.landmark_results(landmarks, times, dist, lmax)
 
 
 def _clock(r: Run, seconds: float) -> dt.datetime:
@@ -703,7 +937,11 @@ def _longest_queue(r: Run) -> tuple[float, float]:
 
 def _long_queue_warning(r: Run) -> str | None:
     """A warning when the queue reaches beyond the advance warning signs
-    (:data:`ADVANCE_WARNING_REACH_M`), whatever the agency's own limit."""
+    (:data:`ADVANCE_WARNING_REACH_M`), whatever the agency's own limit. A plan whose
+    approach names the end of its advance warning signing is checked against that
+    site's own distance instead (:func:`_approach_warnings`), so only one is given."""
+    if any(lm.kind == "warning-signs-end" for lm in r.plan.approach.landmarks):
+        return None
     longest, at = _longest_queue(r)
     if longest <= ADVANCE_WARNING_REACH_M:
         return None
@@ -739,6 +977,57 @@ def _long_plan(plan: Plan) -> list[str]:
     return [f"{where}: {too_long_text(n, plan.demand.interval_s, option)}"]
 
 
+def _approach_warnings(result: Result) -> list[str]:
+    """Warnings about the approach: ramps the model cannot follow, and a queue
+    beyond the end of the advance warning signing."""
+    out: list[str] = []
+    r = result.run
+    sec = r.sections
+    system = r.plan.site.unit_system
+    unit, per = units.LONG_LENGTH[system]
+    if sec is not None:
+        for name in sec.limited_by:
+            out.append(
+                f"exit ramp '{name}': the traffic leaving there is held in the queue with "
+                "everyone else (first in, first out), and the flow the queue passes there "
+                "would need more than the road's capacity upstream of the ramp; that stretch "
+                "discharges at capacity and holds the traffic for the closure back (counted "
+                "in its delay)"
+            )
+        for name in sec.ramp_over:
+            out.append(
+                f"entrance ramp '{name}': its flow is more than the queue lets through there, "
+                "so traffic would queue on the ramp too; the model lets the ramp's traffic in "
+                "and does not show that queue, so the queue upstream of the ramp is not reliable"
+            )
+        if sec.capacity_limited:
+            out.append(
+                "a section of the approach was given more traffic than the road's capacity "
+                "(mainline and entrance ramps); the excess is held back and not shown as queue"
+            )
+        if not sec.settled:
+            out.append(
+                "the ramps' effect on the closure's arrivals did not settle; the queue near "
+                "the closure and the delay may be off; please report this plan"
+            )
+    limit = r.plan.thresholds.queue_must_not_pass
+    for lr in result.landmark_results:
+        lm = lr.landmark
+        if lm.kind != "warning-signs-end" or lm.name == limit or lr.first_reached_s is None:
+            continue
+        if lr.max_beyond_m <= 0:
+            continue
+        out.append(
+            f"the queue passes the end of the advance warning signing ('{lm.name}', "
+            f"{lm.distance / per:,.2f} {unit} upstream) from "
+            f"{_clock(r, lr.first_reached_s):%Y-%m-%d %H:%M}, for {lr.time_beyond_s / HOUR:.1f} "
+            f"h in all and up to {lr.max_beyond_m / per:,.2f} {unit} beyond it: drivers meet "
+            "it without warning; extend the signing or change the closure (common practice, "
+            "no source)"
+        )
+    return out
+
+
 def analyse(plan: Plan) -> Result:
     """Analyse a plan: capacity, exact queue, queue length and delay, hour by hour.
 
@@ -746,4 +1035,7 @@ def analyse(plan: Plan) -> Result:
     itself shows (long overloads, a queue left standing at the end ...).
     """
     run = evaluate(plan)
-    return Result(run, [*input_warnings(plan), *_warnings(run)])
+    result = Result(run, [*input_warnings(plan), *_warnings(run)])
+    if run.sections is not None or plan.approach.landmarks:
+        result.warnings += _approach_warnings(result)
+    return result

@@ -22,7 +22,13 @@ from wzq.analysis import Result
 from wzq.plan import Plan, PlanError
 from wzq.planio import load_plan
 from wzq.printable import printable, safe_streams
-from wzq.tables import hourly_columns, hourly_display, summary_lines
+from wzq.tables import (
+    exit_ramp_display,
+    hourly_columns,
+    hourly_display,
+    landmark_display,
+    summary_lines,
+)
 from wzq.terminal import TermColumn, console_width, print_table
 
 EXIT_OK = 0
@@ -138,10 +144,23 @@ def print_result(result: Result, *, all_hours: bool = False, out=None) -> None:
             f"\n  ({hidden} open-road hours without a queue not shown; --all-hours shows them)",
             file=out,
         )
+    print_approach(result, out)
     for w in result.warnings:
         print("", file=out)
         print(textwrap.fill(f"warning: {w}", width, subsequent_indent="  "), file=out)
     print(f"\n{wzq.CAUTION}", file=out)  # one line, as in every other output
+
+
+def print_approach(result: Result, out) -> None:
+    """Per landmark of the approach: when the queue reached it, how long and how far beyond."""
+    if not result.plan.approach.landmarks:
+        return
+    print("\nLandmarks upstream of the start of the taper:", file=out)
+    with pd.option_context("display.width", 250, "display.max_columns", 20):
+        print(landmark_display(result).to_string(index=False), file=out)
+        if not result.exit_ramps.empty:
+            print("", file=out)
+            print(exit_ramp_display(result).to_string(index=False), file=out)
 
 
 def cmd_demo(args: argparse.Namespace) -> int:

@@ -58,10 +58,12 @@ import numpy.typing as npt
 
 __all__ = [
     "DIAGRAMS",
+    "PIECEWISE_LINEAR",
     "ROUNDING_TOLERANCE",
     "CappedGreenshields",
     "FundamentalDiagram",
     "Greenshields",
+    "Trapezoidal",
     "Triangular",
     "make_diagram",
 ]
@@ -403,6 +405,97 @@ class Triangular(FundamentalDiagram):
 
     def _density_congested(self, q: FloatArray) -> FloatArray:
         return self.jam_density - q / self.backward_wave_speed
+
+
+@dataclass(frozen=True)
+class Trapezoidal(FundamentalDiagram):
+    """Triangular diagram with its congested branch set on its own: a trapezoid.
+
+    ``q = min(v_f k, C, w (k_j - k))`` (the trapezoidal diagram of the cell
+    transmission model, Daganzo 1994): the free branch at the free-flow speed
+    up to ``k_1 = C / v_f``, a plateau at capacity ``C`` up to the density at
+    capacity of the congested branch ``k_c = k_j - C / w``, and the congested
+    branch from ``(k_c, C)`` to ``(k_j, 0)`` with backward wave speed ``w``.
+    This is how a site's calibrated wave speed, or the HCM basic-segment
+    density at capacity (45 pc/mi/ln, HCM 7th ed. ch. 12), is used without
+    changing the free-flow speed, the capacity or the jam density. With
+    ``k_c = k_1`` it is the :class:`Triangular` diagram.
+
+    * ``critical_density`` is ``k_c``, where the congested branch starts;
+    * ``dq/dk`` is ``v_f`` below ``k_1``, 0 on the plateau, ``-w`` above ``k_c``
+      (the left-hand slope at a kink);
+    * the two terms of Newell's simplified method (Newell 1993) carry over
+      unchanged: free-flow waves at ``v_f``, congested waves at ``-w`` holding
+      ``k_j`` vehicles per metre, because every queued state lies on the
+      congested branch.
+
+    Parameters: ``free_speed`` (m/s), ``capacity`` (veh/s/ln), ``jam_density``
+    (veh/m/ln), ``backward_wave_speed`` ``w`` (m/s, positive; a field here, a
+    derived property of :class:`Triangular`). The congested branch must
+    meet the capacity at or beyond the free branch (``C / v_f <= k_j - C / w``),
+    otherwise the road could not carry its capacity.
+    """
+
+    free_speed: float
+    capacity: float
+    jam_density: float
+    backward_wave_speed: float
+
+    def __post_init__(self) -> None:
+        for name in ("free_speed", "capacity", "jam_density", "backward_wave_speed"):
+            _require_positive(name, getattr(self, name))
+        k_1 = self.capacity / self.free_speed
+        k_c = self.jam_density - self.capacity / self.backward_wave_speed
+        if k_c < k_1 * (1.0 - ROUNDING_TOLERANCE):
+            raise ValueError(
+                f"the congested branch (wave speed {self.backward_wave_speed!r} m/s) reaches the "
+                f"capacity at {k_c!r} veh/m/ln, below the free branch's {k_1!r} veh/m/ln; "
+                "the road could not carry its capacity -- use a faster wave or a higher "
+                "jam density"
+            )
+
+    @property
+    def free_capacity_density(self) -> float:
+        """``k_1 = C / v_f`` (veh/m/ln): where the free branch reaches capacity."""
+        return self.capacity / self.free_speed
+
+    @property
+    def critical_density(self) -> float:  # type: ignore[override]
+        """``k_c = k_j - C / w`` (veh/m/ln): the density at capacity of the congested branch."""
+        return max(
+            self.jam_density - self.capacity / self.backward_wave_speed, self.free_capacity_density
+        )
+
+    def _flow(self, k: FloatArray) -> FloatArray:
+        return np.minimum(
+            np.minimum(self.free_speed * k, self.capacity),
+            self.backward_wave_speed * (self.jam_density - k),
+        )
+
+    def _speed(self, k: FloatArray) -> FloatArray:
+        cap = np.minimum(self.capacity, self.backward_wave_speed * (self.jam_density - k))
+        return np.where(
+            k <= self.free_capacity_density,
+            self.free_speed,
+            cap / np.maximum(k, self.free_capacity_density),
+        )
+
+    def _wave_speed(self, k: FloatArray) -> FloatArray:
+        return np.where(
+            k <= self.free_capacity_density,
+            self.free_speed,
+            np.where(k <= self.critical_density, 0.0, -self.backward_wave_speed),
+        )
+
+    def _density_free(self, q: FloatArray) -> FloatArray:
+        return q / self.free_speed
+
+    def _density_congested(self, q: FloatArray) -> FloatArray:
+        return self.jam_density - q / self.backward_wave_speed
+
+
+PIECEWISE_LINEAR: Final = (Triangular, Trapezoidal)
+"""Diagrams with a straight congested branch: Newell's simplified method applies."""
 
 
 @dataclass(frozen=True)

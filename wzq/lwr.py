@@ -72,6 +72,7 @@ import numpy as np
 import numpy.typing as npt
 import pandas as pd
 
+from wzq import approach
 from wzq.analysis import Result, Run, evaluate, hourly_table, queue_state_discharge
 from wzq.flow import CappedGreenshields, FundamentalDiagram, Greenshields, Triangular
 from wzq.plan import Plan
@@ -332,6 +333,10 @@ class _Scheme:
         self.s += self._right
         self.s -= self._left
 
+    def add(self, i: int, dk: float) -> None:
+        """Add ``dk`` (veh/m/ln) to the density of cell ``i`` (a ramp's point source or sink)."""
+        self.s[i] += dk
+
 
 class _GreenshieldsScheme(_Scheme):
     """Greenshields in closed form.
@@ -371,6 +376,9 @@ class _GreenshieldsScheme(_Scheme):
 
     def deficit(self, flux: float) -> float:
         return self.r * self.scale * (self.capacity - flux)
+
+    def add(self, i: int, dk: float) -> None:
+        self.s[i] += self.scale * dk
 
     def flows(self, h: FloatArray) -> FloatArray:
         return self.capacity - h / (self.r * self.scale)
@@ -500,6 +508,157 @@ def _fill_demand_supply(diagram: FundamentalDiagram) -> Fill:
     return fill_any
 
 
+# --------------------------------------------------------------------------- ramps
+
+
+@dataclass(frozen=True)
+class Junction:
+    """A ramp at an inner cell boundary of :func:`solve`'s stretch.
+
+    ``boundary`` ``b`` (1 to ``n - 1``) lies between cell ``b - 1`` (upstream)
+    and cell ``b``. The junction rules are those of the cell transmission model
+    for networks (Daganzo 1995):
+
+    * entrance ramp (``entrance`` True), a point source: its demand ``rate``
+      (veh/s per lane of the stretch, one value per step) enters first, up to
+      the receiving capacity (supply) of cell ``b`` -- the merge rule with the
+      ramp's priority share at least its flow; what cannot enter waits in a
+      point queue on the ramp; the mainline sends ``min(D(k_{b-1}), S(k_b) -
+      ramp flow)``;
+    * exit ramp, a point sink, first in, first out: cell ``b - 1`` sends
+      ``min(D(k_{b-1}), S(k_b) / (1 - beta))`` where ``beta`` is the share of its
+      vehicles bound for this exit; that share leaves, the rest goes on. The
+      exit itself takes any flow.
+
+    ``exit_shares`` (entrance ramps only): per exit of the stretch (in the
+    order of the exit junctions) and per step, the share of the ramp's traffic
+    bound for that exit.
+    """
+
+    boundary: int
+    entrance: bool
+    rate: npt.ArrayLike | None = None
+    exit_shares: npt.ArrayLike | None = None
+    name: str = ""
+
+
+class _Ramps:
+    """The junctions of :func:`solve` and the exit-bound traffic they need.
+
+    The traffic bound for each exit is carried as its own density (a passive
+    share of the stream: its flux across a boundary is the flow times the share
+    of the sending cell), so that the exit takes only the vehicles bound for it,
+    in the order they arrive (Daganzo 1995, the multi-commodity form).
+    """
+
+    def __init__(
+        self,
+        junctions: tuple[Junction, ...],
+        n: int,
+        steps: int,
+        dt: float,
+        dx: float,
+        exit_shares_in: npt.ArrayLike | None,
+        exit_density0: npt.ArrayLike | None,
+    ) -> None:
+        self.junctions = junctions
+        self.dt, self.r = dt, dt / dx
+        exits = [i for i, j in enumerate(junctions) if not j.entrance]
+        self.exit_of = {i: e for e, i in enumerate(exits)}
+        n_e = len(exits)
+        for jn in junctions:
+            if not 1 <= int(jn.boundary) <= n - 1:
+                raise ValueError(f"junction boundary {jn.boundary} must lie within 1..{n - 1}")
+        self.rate = [
+            _per_step(jn.rate, steps, f"rate of junction {i}") if jn.entrance else None
+            for i, jn in enumerate(junctions)
+        ]
+        self.shares = [
+            None
+            if not jn.entrance or n_e == 0
+            else _shares(jn.exit_shares, n_e, steps, f"exit_shares of junction {i}")
+            for i, jn in enumerate(junctions)
+        ]
+        self.shares_in = _shares(exit_shares_in, n_e, steps, "exit_shares_in") if n_e else None
+        self.bound = np.zeros((n_e, n))
+        if n_e and exit_density0 is not None:
+            self.bound[:] = np.asarray(exit_density0, dtype=np.float64)
+        self.queue = np.zeros(len(junctions))
+        self.flow = np.zeros((len(junctions), steps))
+        self.queue_rec = np.zeros((len(junctions), steps + 1))
+        self.f_in = np.empty(n + 1)
+        self.e_out = np.empty(n + 1)
+        self.comp = np.empty(n + 1)
+
+    def apply(self, scheme: _Scheme, h: FloatArray, k: FloatArray, step: int) -> list:
+        """Flows through the junctions this step: ``h`` at their boundaries, the
+        exit-bound traffic carried, and the source and sink terms to add after
+        the update (cell, density change)."""
+        flows = scheme.flows(h)  # flow leaving the upstream cell of each boundary
+        f_in = self.f_in
+        f_in[:] = flows
+        extra = []
+        ramp_bound = []
+        for i, jn in enumerate(self.junctions):
+            b = int(jn.boundary)
+            ku, kd = float(k[b - 1]), float(k[b])
+            supply = scheme.supply(kd)
+            if jn.entrance:
+                rate = float(self.rate[i][step])
+                want = rate + self.queue[i] / self.dt
+                ramp = min(want, supply)
+                self.queue[i] = max(self.queue[i] + (rate - ramp) * self.dt, 0.0)
+                main = max(min(scheme.demand(ku), supply - ramp), 0.0)
+                flows[b] = main
+                f_in[b] = main + ramp
+                h[b] = scheme.deficit(main)
+                extra.append((b, self.r * ramp))
+                ramp_bound.append((b, i, ramp))
+            else:
+                e = self.exit_of[i]
+                beta = min(float(self.bound[e, b - 1]) / ku, 1.0) if ku > 0 else 0.0
+                limit = supply / (1.0 - beta) if beta < 1.0 else np.inf
+                out = min(scheme.demand(ku), limit)
+                ramp = beta * out
+                flows[b] = out
+                f_in[b] = out - ramp
+                h[b] = scheme.deficit(out - ramp)
+                extra.append((b - 1, -self.r * ramp))
+            self.flow[i, step] = ramp
+            self.queue_rec[i, step + 1] = self.queue[i]
+        if len(self.bound):
+            self._carry(flows, k, step, ramp_bound)
+        return extra
+
+    def _carry(self, flows: FloatArray, k: FloatArray, step: int, ramp_bound: list) -> None:
+        """Move the exit-bound traffic with the stream (upwind: the sending cell's share)."""
+        comp, e_out = self.comp, self.e_out
+        safe = np.where(k > 0, k, 1.0)
+        for e in range(len(self.bound)):
+            comp[0] = self.shares_in[e, step]
+            np.divide(self.bound[e], safe, out=comp[1:])
+            comp[1:][k <= 0] = 0.0
+            np.multiply(flows, comp, out=e_out)
+            e_in = e_out.copy()
+            for i, jn in enumerate(self.junctions):
+                if not jn.entrance and self.exit_of[i] == e:
+                    e_in[int(jn.boundary)] = 0.0  # it leaves here
+            for b, i, ramp in ramp_bound:
+                e_in[b] += ramp * self.shares[i][e, step]
+            self.bound[e] += self.r * (e_in[:-1] - e_out[1:])
+            np.maximum(self.bound[e], 0.0, out=self.bound[e])
+
+
+def _shares(values: npt.ArrayLike | None, n_exits: int, steps: int, name: str) -> FloatArray:
+    """Shares bound for each exit per step: ``(n_exits, steps)`` values in [0, 1]."""
+    if values is None:
+        return np.zeros((n_exits, steps))
+    a = np.asarray(values, dtype=np.float64)
+    if a.shape != (n_exits, steps) or not np.all(np.isfinite(a)) or np.any(a < 0) or np.any(a > 1):
+        raise ValueError(f"{name} needs shares 0..1 of shape ({n_exits}, {steps})")
+    return a
+
+
 # --------------------------------------------------------------------------- the solver
 
 SHOCK_WINDOW: Final = 3
@@ -539,7 +698,10 @@ class Field:
     stretch, veh m/s per lane: distance travelled per second) and ``back`` (the
     upstream edge of the queued region, m from the upstream end, NaN when no
     cell is queued). Per step (``steps`` values): ``inflow`` and ``outflow``
-    (veh/s/ln through the two ends).
+    (veh/s/ln through the two ends). With junctions: ``ramp_flow`` (one row per
+    junction, per step: the flow entering from or leaving by the ramp, veh/s
+    per lane of the stretch) and ``ramp_queue`` (per junction and time level:
+    vehicles per lane waiting on an entrance ramp).
     """
 
     diagram: FundamentalDiagram
@@ -556,6 +718,8 @@ class Field:
     vehicles: FloatArray | None = None
     travel: FloatArray | None = None
     back: FloatArray | None = None
+    ramp_flow: FloatArray | None = None
+    ramp_queue: FloatArray | None = None
 
     @property
     def length(self) -> float:
@@ -602,6 +766,9 @@ def solve(
     exit_discharge: npt.ArrayLike | None = None,
     record_every: int | None = None,
     track: bool = False,
+    junctions: tuple[Junction, ...] = (),
+    exit_shares_in: npt.ArrayLike | None = None,
+    exit_density0: npt.ArrayLike | None = None,
 ) -> Field:
     """March the LWR model ``steps`` steps by Godunov's scheme (demand-supply form).
 
@@ -619,6 +786,12 @@ def solve(
       uncongested and ``exit_discharge`` once it is congested (density above
       ``k_c``) -- our own simple rule, mirroring the engine's point queue
       (:mod:`wzq.queueing`); plain LWR has no capacity drop.
+
+    ``junctions``: ramps at inner cell boundaries (:class:`Junction`, merge and
+    first-in-first-out diverge of Daganzo 1995); ``exit_shares_in`` the share of
+    the inflow bound for each exit per step (``(exits, steps)``) and
+    ``exit_density0`` the initial density of the traffic bound for each exit
+    (``(exits, n)``).
 
     ``record_every`` (default: only the start and the end) sets how often the
     density is kept. ``track`` keeps, at every time level, the vehicles on the
@@ -648,8 +821,16 @@ def solve(
 
     scheme = _scheme(diagram, n, dt / dx)
     scheme.load(k)
+    ramps = (
+        _Ramps(tuple(junctions), n, steps, dt, dx, exit_shares_in, exit_density0)
+        if junctions
+        else None
+    )
     h = scheme.h
-    congested = float(diagram.critical_density) + 1e-9 * float(diagram.jam_density)
+    # the bottleneck is active once the last cell is beyond the free branch (on a
+    # trapezoid, at its capacity plateau already)
+    k_busy = getattr(diagram, "free_capacity_density", diagram.critical_density)
+    congested = float(k_busy) + 1e-9 * float(diagram.jam_density)
     k_queue = queue_density(diagram)
     density = np.empty(n)
     flow = np.empty(n)
@@ -714,7 +895,11 @@ def solve(
             h[n] = scheme.deficit(flow_out)
         h_in[step] = h[0]
         h_out[step] = h[n]
+        extra = None if ramps is None else ramps.apply(scheme, h, scheme.density(density), step)
         scheme.update()
+        if extra:
+            for cell, dk in extra:
+                scheme.add(cell, dk)
         if track:
             observe(step + 1)
         if (step + 1) % every == 0 or step + 1 == steps:
@@ -739,6 +924,8 @@ def solve(
         vehicles=vehicles,
         travel=travel,
         back=back,
+        ramp_flow=None if ramps is None else ramps.flow,
+        ramp_queue=None if ramps is None else ramps.queue_rec,
     )
 
 
@@ -846,6 +1033,32 @@ class Simulation:
     shift_s: float
     capacity_drop: bool
     warnings: list[str] = dataclass_field(default_factory=list)
+    ramps: approach.Ramps | None = None
+
+    @cached_property
+    def exit_delay_veh_h(self) -> dict[str, float]:
+        """Per exit ramp: the delay of the traffic leaving there (veh-h, all lanes),
+        the area between its free-flow exit curve (the ramp's flow on the closure's
+        clock, ``d / v0`` seconds earlier at the ramp) and the flow the simulation
+        let off."""
+        r, f = self.ramps, self.field
+        if r is None or f.ramp_flow is None:
+            return {}
+        v0 = float(self.diagram.speed(0.0))
+        lev = self.levels
+        out = {}
+        for j in range(r.count):
+            if r.entrance[j]:
+                continue
+            free = np.interp(
+                lev + r.distance[j] / v0, self.run.t, _cumulative(self.run.t, r.rate[j] / HOUR)
+            )
+            free -= free[0]
+            actual = np.zeros(len(lev))
+            np.cumsum(f.ramp_flow[j] * f.dt * self.lanes, out=actual[1:])
+            gap = free - actual
+            out[r.names[j]] = float(np.sum(0.5 * (gap[:-1] + gap[1:])) * f.dt) / HOUR
+        return out
 
     # -- geometry and time --
 
@@ -1075,6 +1288,94 @@ class Simulation:
         )
 
 
+def _run_ramps(run: Run) -> approach.Ramps | None:
+    """The plan's ramps on the run's grid (``None`` without ramps)."""
+    plan = run.plan
+    if not plan.approach.ramps:
+        return None
+    mid = 0.5 * (run.t[:-1] + run.t[1:])
+    n = len(plan.demand.flows_veh_h)
+    di = np.minimum((mid // plan.demand.interval_s).astype(np.intp), n - 1)
+    return approach.ramps_for(plan.demand, plan.approach, di)
+
+
+def _bound_shares(ramps: approach.Ramps, exits: list[int], beyond: float) -> FloatArray:
+    """Per exit (indices into the ramps) and grid interval: the share of the traffic
+    passing the point ``beyond`` metres upstream that is bound for that exit -- its
+    split there times the shares going on past the exits in between (first in,
+    first out, every vehicle reaching an exit at a time leaves in the same share)."""
+    beta = np.where(
+        ramps.section[1:] > 0, ramps.rate / np.where(ramps.section[1:] > 0, ramps.section[1:], 1), 0
+    )  # split of ramp j: its flow over the flow arriving there
+    out = np.zeros((len(exits), ramps.rate.shape[1]))
+    for e, j in enumerate(exits):
+        if ramps.distance[j] >= beyond:
+            continue
+        share = beta[j].copy()
+        for jj in exits:
+            if ramps.distance[j] < ramps.distance[jj] < beyond:
+                share *= 1.0 - beta[jj]
+        out[e] = share
+    return out
+
+
+def _ramp_inputs(
+    run: Run,
+    ramps: approach.Ramps,
+    fd: FundamentalDiagram,
+    lanes: int,
+    levels: FloatArray,
+    length_m: float,
+    dx: float,
+    v0: float,
+    reach: FloatArray,
+) -> tuple[FloatArray, dict]:
+    """Initial densities and the :func:`solve` arguments for the plan's ramps.
+
+    Each ramp sits at the cell boundary nearest its distance; flows are stated on
+    the closure's clock, so a ramp's traffic enters ``d / v0`` seconds before it
+    would reach the closure. The road starts in free flow, each cell at the flow
+    of its own section.
+    """
+    cells = len(reach)
+    x = (np.arange(cells, dtype=np.float64) + 0.5) * dx
+    upstream = length_m - x  # distance of each cell centre from the closure
+    section = np.searchsorted(ramps.distance, upstream)  # ramps downstream of the cell
+    flows = ramps.section[section, np.clip(np.searchsorted(run.t, reach, "right") - 1, 0,
+                                           len(run.t) - 2)]  # fmt: skip
+    k0 = np.asarray(fd.density_free(np.minimum(flows / HOUR / lanes, fd.capacity)), np.float64)
+    exits = [j for j in range(ramps.count) if not ramps.entrance[j]]
+    lead = levels[:-1]
+    junctions = []
+    for j in range(ramps.count):
+        b = int(np.clip(round((length_m - ramps.distance[j]) / dx), 1, cells - 1))
+        clock = lead + ramps.distance[j] / v0
+        if ramps.entrance[j]:
+            cum = _cumulative(run.t, ramps.rate[j] / HOUR)
+            rate = _step_average(run.t, cum, levels + ramps.distance[j] / v0) / lanes
+            shares = _bound_shares(ramps, exits, float(ramps.distance[j]))
+            junctions.append(
+                Junction(b, True, rate, _rate_at(run.t, shares.T, clock).T, ramps.names[j])
+            )
+        else:
+            junctions.append(Junction(b, False, name=ramps.names[j]))
+    # the traffic bound for each exit: at the upstream end and in the first cells
+    far = float(ramps.distance[-1]) + length_m
+    shares_far = _bound_shares(ramps, exits, far)
+    shares_in = _rate_at(run.t, shares_far.T, lead + length_m / v0).T
+    density0 = np.zeros((len(exits), cells))
+    for s in np.unique(section):
+        in_s = np.flatnonzero(section == s)
+        shares = _bound_shares(ramps, exits, float(upstream[in_s[0]]))
+        density0[:, in_s] = k0[in_s] * _rate_at(run.t, shares.T, reach[in_s]).T
+    nodes = {
+        "junctions": tuple(junctions),
+        "exit_shares_in": shares_in if exits else None,
+        "exit_density0": density0 if exits else None,
+    }
+    return k0, nodes
+
+
 def _as_run(source: Plan | Result | Run) -> Run:
     """The engine's run of a plan, a result or a run."""
     if isinstance(source, Run):
@@ -1095,10 +1396,11 @@ def _rate_at(t: FloatArray, rate: FloatArray, seconds: FloatArray) -> FloatArray
 def default_length(run: Run, window: tuple[float, float]) -> float:
     """Approach length (m) for :func:`simulate`: room for the engine's longest queue.
 
-    1.5 times the engine's longest queue in the window plus 1 km, rounded up
-    to 500 m, at least 2 km (our own rule of thumb: room for a queue the
-    engine's method underestimates, e.g. the single-state length after
-    capacity returns, or a diagram other than the triangular).
+    1.5 times the engine's longest queue in the window (or the farthest
+    landmark of the approach, if farther) plus 1 km, rounded up to 500 m, at
+    least 2 km (our own rule of thumb: room for a queue the engine's method
+    underestimates, e.g. the single-state length after capacity returns, or a
+    diagram other than the triangular).
     """
     a, b = window
     newell = getattr(run, "back_of_queue", None)
@@ -1111,6 +1413,8 @@ def default_length(run: Run, window: tuple[float, float]) -> float:
         sel = (run.t[1:] > a) & (run.t[:-1] < b)
         if sel.any():
             longest = float(max(run.length_start[sel].max(), run.length_end[sel].max()))
+    farthest = max((lm.distance for lm in run.plan.approach.landmarks), default=0.0)
+    longest = max(longest, farthest)
     return max(2000.0, math.ceil((1.5 * longest + 1000.0) / 500.0) * 500.0)
 
 
@@ -1186,7 +1490,9 @@ def simulate(
     shift = length_m / v0
     levels = a + np.arange(steps + 1, dtype=np.float64) * dt
 
-    cum_demand = _cumulative(run.t, run.demand_veh_h / HOUR)
+    ramps = _run_ramps(run)
+    mainline = run.demand_veh_h if ramps is None else ramps.section[-1]
+    cum_demand = _cumulative(run.t, mainline / HOUR)
     inflow = _step_average(run.t, cum_demand, levels + shift) / lanes
     pre = _step_average(run.t, _cumulative(run.t, run.prebreakdown_veh_h / HOUR), levels) / lanes
     dis = _step_average(run.t, _cumulative(run.t, run.discharge_veh_h / HOUR), levels) / lanes
@@ -1194,8 +1500,12 @@ def simulate(
 
     x = (np.arange(cells, dtype=np.float64) + 0.5) * dx
     reach = a + (length_m - x) / v0  # when the traffic now in each cell reaches the closure
-    q0 = np.minimum(_rate_at(run.t, run.demand_veh_h, reach) / HOUR / lanes, fd.capacity)
-    k0 = np.asarray(fd.density_free(q0), dtype=np.float64)
+    if ramps is None:
+        q0 = np.minimum(_rate_at(run.t, run.demand_veh_h, reach) / HOUR / lanes, fd.capacity)
+        k0 = np.asarray(fd.density_free(q0), dtype=np.float64)
+        nodes: dict = {}
+    else:
+        k0, nodes = _ramp_inputs(run, ramps, fd, lanes, levels, length_m, dx, v0, reach)
 
     every = max(1, math.ceil(steps / max(int(records), 1)))
     result = solve(
@@ -1209,8 +1519,9 @@ def simulate(
         exit_discharge=dis if drop else None,
         record_every=every,
         track=True,
+        **nodes,
     )
-    sim = Simulation(run, result, lanes, (a, b), shift, drop)
+    sim = Simulation(run, result, lanes, (a, b), shift, drop, ramps=ramps)
     queued_at_start = float(sim.engine_queue_veh(np.array([a]))[0])
     if queued_at_start > 0:
         sim.warnings.append(

@@ -97,7 +97,7 @@ from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
-from wzq.flow import FundamentalDiagram, Triangular
+from wzq.flow import PIECEWISE_LINEAR, FundamentalDiagram
 from wzq.queueing import QueueRun
 from wzq.units import HOUR
 
@@ -384,6 +384,11 @@ def _vertices(
     dd = v * w * (u - s) / (v + w)
     # A step along a flat stretch can run below d = 0 (flows at capacity with no queue
     # at the bottleneck); the back is then max(edge, 0), kinked where the edge crosses 0.
+    return _clip_at_zero(tt, dd)
+
+
+def _clip_at_zero(tt: np.ndarray, dd: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """``max(dd, 0)`` of a piecewise-linear curve, with its crossings of 0 as vertices."""
     cross = np.flatnonzero(((dd[:-1] > 0) & (dd[1:] < 0)) | ((dd[:-1] < 0) & (dd[1:] > 0)))
     if len(cross):
         frac = dd[cross] / (dd[cross] - dd[cross + 1])
@@ -621,11 +626,11 @@ def from_queue(
     """Newell back of queue for a point-queue run on a triangular diagram.
 
     ``queue`` from :func:`wzq.queueing.solve` (times in s, rates in veh/s),
-    ``diagram`` the approach's :class:`~wzq.flow.Triangular` diagram (per lane,
-    SI), ``lanes`` the approach's lanes in normal operation. Hours are counted
-    from ``queue.t[0]``.
+    ``diagram`` the approach's :class:`~wzq.flow.Triangular` (or
+    :class:`~wzq.flow.Trapezoidal`) diagram (per lane, SI), ``lanes`` the
+    approach's lanes in normal operation. Hours are counted from ``queue.t[0]``.
     """
-    if not isinstance(diagram, Triangular):
+    if not isinstance(diagram, PIECEWISE_LINEAR):
         raise TypeError(
             "Newell's simplified kinematic-wave method needs the triangular diagram, "
             f"not {type(diagram).__name__}; use the single-state relation (wzq.shockwave)"

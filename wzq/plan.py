@@ -31,6 +31,10 @@ CapacityMethod = Literal["hcm7", "hcm2000"]
 Diagram = Literal["triangular", "greenshields", "capped-greenshields"]
 QueueLengthMethod = Literal["newell", "shockwave"]
 OverrideMeaning = Literal["both", "discharge", "prebreakdown"]
+CongestedBranch = Literal["derived", "hcm", "wave-speed", "density-at-capacity"]
+LandmarkKind = Literal[
+    "exit-ramp", "entrance-ramp", "signal", "structure", "warning-signs-end", "other"
+]
 
 TERRAINS: tuple[str, ...] = ("level", "rolling")
 AREA_TYPES: tuple[str, ...] = ("urban", "rural")
@@ -44,6 +48,25 @@ QUEUE_LENGTH_METHODS: tuple[str, ...] = ("newell", "shockwave")
 #: rate, or the pre-breakdown capacity (the other then follows from the work-zone
 #: capacity drop, HCM 6th/7th ed., Ch. 10).
 OVERRIDE_MEANINGS: tuple[str, ...] = ("both", "discharge", "prebreakdown")
+#: How the congested branch of the triangular diagram is set: ``derived`` from
+#: capacity, free-flow speed and jam density (the default), through the HCM
+#: basic-segment density at capacity (``hcm``), or from a calibrated backward
+#: wave speed or density at capacity.
+CONGESTED_BRANCHES: tuple[str, ...] = ("derived", "hcm", "wave-speed", "density-at-capacity")
+#: Landmarks upstream of the closure: exit ramp, entrance ramp, signal or
+#: intersection, bridge or structure, end of the advance warning signing, other.
+LANDMARK_KINDS: tuple[str, ...] = (
+    "exit-ramp",
+    "entrance-ramp",
+    "signal",
+    "structure",
+    "warning-signs-end",
+    "other",
+)
+RAMP_KINDS: tuple[str, ...] = ("exit-ramp", "entrance-ramp")
+#: Density at capacity of a basic freeway segment, pc/mi/ln (HCM 7th ed. ch. 12,
+#: the speed-flow curves end at 45 pc/mi/ln at capacity).
+HCM_DENSITY_AT_CAPACITY_PC_MI_LN = 45.0
 
 #: Hours counted as night-time for the HCM work-zone day/night term when a
 #: closure does not say (19:00 to 06:00; common practice, no source).
@@ -85,6 +108,15 @@ class Site:
     lengths metres, ``jam_density`` veh/m per lane (``None``: 190 pc/mi/ln times
     the heavy-vehicle factor, HCM 7th ed.). ``free_flow_speed`` ``None`` means
     speed limit + 5 mi/h (HCM 7th ed. default).
+
+    ``congested_branch`` sets the congested branch of the triangular diagram
+    (:data:`CONGESTED_BRANCHES`): ``"derived"`` from capacity, free-flow speed
+    and jam density; ``"hcm"`` through the HCM basic-segment density at
+    capacity, 45 pc/mi/ln times the heavy-vehicle factor (HCM 7th ed. ch. 12);
+    ``"wave-speed"`` from ``wave_speed`` (the backward wave speed, m/s,
+    positive); ``"density-at-capacity"`` from ``density_at_capacity`` (veh/m
+    per lane). Capacity, free-flow speed and jam density are kept, so the
+    other quantity follows: ``w = C / (k_j - k_c)``.
     """
 
     lanes: int
@@ -109,6 +141,9 @@ class Site:
     name: str = ""
     direction: str = ""
     unit_system: UnitSystem = "us"
+    congested_branch: CongestedBranch = "derived"
+    wave_speed: float | None = None  # m/s, with congested_branch "wave-speed"
+    density_at_capacity: float | None = None  # veh/m/ln, with "density-at-capacity"
 
 
 @dataclass(frozen=True)
@@ -156,12 +191,15 @@ class Thresholds:
     """Agency limits. ``None`` switches a check off.
 
     ``max_queue_length`` in metres, ``max_average_delay`` in seconds per vehicle,
-    ``max_demand_capacity`` as a ratio.
+    ``max_demand_capacity`` as a ratio. ``queue_must_not_pass`` names a
+    landmark of the approach (:class:`Landmark`) the back of the queue must not
+    pass.
     """
 
     max_queue_length: float | None = None
     max_average_delay: float | None = None
     max_demand_capacity: float | None = None
+    queue_must_not_pass: str | None = None
 
 
 @dataclass(frozen=True)
@@ -230,6 +268,109 @@ class RiskOptions:
 
 
 @dataclass(frozen=True)
+class Landmark:
+    """A point on the approach upstream of the closure.
+
+    ``distance`` is measured upstream from the start of the taper (m, above 0);
+    ``kind`` one of :data:`LANDMARK_KINDS`. A ramp (``exit-ramp`` or
+    ``entrance-ramp``) carries its traffic: ``ramp_veh_h`` one flow per hour
+    of the demand period (veh/h), or ``ramp_share`` a fraction of the mainline
+    flow arriving at the ramp (for an exit ramp the share of the traffic that
+    leaves there, below 1). Ramp flows are stated, like the demand, on the
+    clock of the closure: the traffic that would reach the closure (or, for an
+    exit ramp, the ramp) in each hour in free flow.
+    """
+
+    name: str
+    distance: float
+    kind: LandmarkKind = "other"
+    ramp_veh_h: tuple[float, ...] | None = None
+    ramp_share: float | None = None
+
+    def __post_init__(self) -> None:
+        if self.ramp_veh_h is not None:
+            object.__setattr__(self, "ramp_veh_h", tuple(float(v) for v in self.ramp_veh_h))
+
+    @property
+    def is_ramp(self) -> bool:
+        return self.kind in RAMP_KINDS
+
+
+@dataclass(frozen=True)
+class Approach:
+    """The road upstream of the closure: its landmarks (ramps among them).
+
+    Every section between ramps has the site's lanes and fundamental diagram.
+    The plan's demand is the mainline flow upstream of every ramp; the flow
+    arriving at the closure is that flow plus the entrance ramps minus the exit
+    ramps (:func:`ramp_flows`).
+    """
+
+    landmarks: tuple[Landmark, ...] = ()
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "landmarks", tuple(self.landmarks))
+
+    @property
+    def ramps(self) -> tuple[Landmark, ...]:
+        """The ramps, nearest the closure first (at one distance, an entrance
+        ramp is taken as downstream of an exit ramp, as at a diamond interchange)."""
+        ramps = [lm for lm in self.landmarks if lm.is_ramp]
+        return tuple(sorted(ramps, key=lambda r: (r.distance, r.kind != "entrance-ramp")))
+
+    def landmark(self, name: str) -> Landmark | None:
+        for lm in self.landmarks:
+            if lm.name == name:
+                return lm
+        return None
+
+
+@dataclass(frozen=True)
+class RampFlows:
+    """Ramp and section flows per demand interval (veh/h, on the closure's clock).
+
+    ``ramps`` nearest the closure first; ``rates[j]`` the flow of ramp ``j``
+    (entering or leaving); ``sections[i]`` the flow on the mainline between
+    ramp ``i`` and ramp ``i + 1`` (``sections[0]`` arrives at the closure,
+    ``sections[-1]`` is the plan's mainline demand upstream of every ramp).
+    """
+
+    ramps: tuple[Landmark, ...]
+    rates: np.ndarray
+    sections: np.ndarray
+
+
+def ramp_flows(demand: Demand, approach: Approach) -> RampFlows:
+    """Every ramp's flow and the mainline flow in every section, per demand interval.
+
+    From the mainline demand downstream: an entrance ramp adds its flow, an
+    exit ramp takes its flow (a share is of the flow arriving at the ramp).
+    Hourly ramp flows hold for every demand interval of their hour.
+    """
+    ramps = approach.ramps
+    flows = np.asarray(demand.flows_veh_h, dtype=float)
+    n = len(flows)
+    per_hour = max(3600 // max(int(demand.interval_s), 1), 1)
+    hour = np.arange(n) // per_hour
+    rates = np.zeros((len(ramps), n))
+    sections = np.zeros((len(ramps) + 1, n))
+    current = flows.copy()
+    sections[-1] = current
+    for j in range(len(ramps) - 1, -1, -1):
+        r = ramps[j]
+        if r.ramp_share is not None:
+            rate = r.ramp_share * current
+        elif r.ramp_veh_h is not None and n and len(r.ramp_veh_h) > int(hour[-1]):
+            rate = np.asarray(r.ramp_veh_h, dtype=float)[hour]
+        else:
+            rate = np.zeros(n)
+        rates[j] = rate
+        current = current + rate if r.kind == "entrance-ramp" else current - rate
+        sections[j] = current
+    return RampFlows(ramps, rates, sections)
+
+
+@dataclass(frozen=True)
 class Plan:
     """A complete closure plan for one direction of one site.
 
@@ -257,6 +398,7 @@ class Plan:
     locations: Mapping[str, str] = field(default_factory=dict, compare=False, repr=False)
     history: DemandHistory | None = None
     risk: RiskOptions | None = None
+    approach: Approach = field(default_factory=Approach)
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "closures", tuple(self.closures))
@@ -371,6 +513,8 @@ def validate(plan: Plan) -> list[Problem]:
         v = getattr(t, name)
         if v is not None and (not np.isfinite(v) or v <= 0):
             out.append(Problem(f"thresholds.{name}", "must be a positive number or blank"))
+    out += _validate_congested_branch(plan)
+    out += _validate_approach(plan)
     if plan.costs is not None:
         c = plan.costs
         for name in ("car_value_per_person_h", "car_occupancy", "truck_value_per_veh_h"):
@@ -379,6 +523,159 @@ def validate(plan: Plan) -> list[Problem]:
                 out.append(Problem(f"costs.{name}", "must be zero or a positive number"))
         if c.truck_share is not None and not 0 <= c.truck_share <= 1:
             out.append(Problem("costs.truck_share", "must be a fraction between 0 and 1"))
+    return out
+
+
+def _validate_congested_branch(plan: Plan) -> list[Problem]:
+    s = plan.site
+    out: list[Problem] = []
+    if s.congested_branch not in CONGESTED_BRANCHES:
+        _check_choice(s.congested_branch, CONGESTED_BRANCHES, "site.congested_branch", out)
+        return out
+    for name, branch, what in (
+        ("wave_speed", "wave-speed", "a positive speed"),
+        ("density_at_capacity", "density-at-capacity", "a positive density"),
+    ):
+        v = getattr(s, name)
+        if s.congested_branch == branch:
+            if v is None or not np.isfinite(v) or v <= 0:
+                out.append(Problem(f"site.{name}", f"congested branch '{branch}' needs {what}"))
+        elif v is not None:
+            out.append(
+                Problem(
+                    f"site.{name}",
+                    f"given, but the congested branch is '{s.congested_branch}'; set the "
+                    f"congested branch to '{branch}' or leave this blank",
+                )
+            )
+    if (
+        s.density_at_capacity is not None
+        and s.jam_density is not None
+        and s.density_at_capacity >= s.jam_density
+    ):
+        out.append(Problem("site.density_at_capacity", "must be below the jam density; check both"))
+    if s.congested_branch != "derived" and plan.options.diagram != "triangular":
+        out.append(
+            Problem(
+                "site.congested_branch",
+                f"the congested branch can be set only on the triangular diagram, not "
+                f"'{plan.options.diagram}'; choose the triangular diagram or 'derived'",
+            )
+        )
+    if s.congested_branch != "derived" and not out:
+        # the branch must reach the site's capacity: checked with the capacity model
+        from wzq.analysis import site_model  # imported late: the engine imports this module
+
+        try:
+            site_model(s, "triangular")
+        except PlanError as e:
+            out += e.problems
+        except ValueError:
+            pass  # another site value is wrong; reported on its own
+    return out
+
+
+def _validate_approach(plan: Plan) -> list[Problem]:
+    """Landmarks, ramp flows and the landmark limit."""
+    out: list[Problem] = []
+    d = plan.demand
+    n_hours = len(d.flows_veh_h) * d.interval_s // 3600 if d.interval_s > 0 else 0
+    seen: set[str] = set()
+    bad_ramp = False
+    for i, lm in enumerate(plan.approach.landmarks):
+        where = f"approach.landmarks[{i}]"
+        if not isinstance(lm.name, str) or not lm.name.strip():
+            out.append(Problem(f"{where}.name", "give the landmark a name"))
+        elif lm.name in seen:
+            out.append(Problem(f"{where}.name", f"'{lm.name}' is used twice; names must differ"))
+        seen.add(lm.name)
+        if not np.isfinite(lm.distance) or lm.distance <= 0:
+            out.append(
+                Problem(f"{where}.distance", "must be a distance above 0 upstream of the taper")
+            )
+        if lm.kind not in LANDMARK_KINDS:
+            _check_choice(lm.kind, LANDMARK_KINDS, f"{where}.kind", out)
+            continue
+        has_flows, has_share = lm.ramp_veh_h is not None, lm.ramp_share is not None
+        if not lm.is_ramp:
+            if has_flows or has_share:
+                out.append(Problem(where, f"a {lm.kind} carries no traffic; remove its ramp flows"))
+            continue
+        if has_flows == has_share:
+            out.append(
+                Problem(
+                    where,
+                    f"give the {lm.kind.replace('-', ' ')}'s flows hour by hour or as a share "
+                    "of the mainline flow (one of them)",
+                )
+            )
+            bad_ramp = True
+        elif has_share:
+            top = 1.0 if lm.kind == "entrance-ramp" else 1.0 - 1e-12
+            if (
+                lm.ramp_share is None
+                or not np.isfinite(lm.ramp_share)
+                or not 0 <= lm.ramp_share <= top
+            ):
+                out.append(
+                    Problem(
+                        f"{where}.share",
+                        "must be a fraction from 0 up to 1"
+                        + (" (an exit ramp cannot take all the traffic)" if top < 1 else ""),
+                    )
+                )
+                bad_ramp = True
+        else:
+            flows = np.asarray(lm.ramp_veh_h, dtype=float)
+            if len(flows) != n_hours:
+                out.append(
+                    Problem(
+                        f"{where}.veh_h",
+                        f"{len(flows)} hourly flows given; the demand covers {n_hours} hours, "
+                        "give one flow per hour",
+                    )
+                )
+                bad_ramp = True
+            elif not np.all(np.isfinite(flows)) or np.any(flows < 0):
+                k = int(np.flatnonzero(~np.isfinite(flows) | (flows < 0))[0])
+                out.append(Problem(f"{where}.veh_h[{k}]", "must be a flow of 0 veh/h or more"))
+                bad_ramp = True
+    if not bad_ramp and plan.approach.ramps and len(d.flows_veh_h) and not out:
+        out += _validate_exit_flows(plan)
+    name = plan.thresholds.queue_must_not_pass
+    if name is not None and plan.approach.landmark(name) is None:
+        known = ", ".join(f"'{lm.name}'" for lm in plan.approach.landmarks) or "none"
+        out.append(
+            Problem(
+                "thresholds.queue_must_not_pass",
+                f"no landmark is named '{name}' (landmarks: {known}); name one of them",
+            )
+        )
+    return out
+
+
+def _validate_exit_flows(plan: Plan) -> list[Problem]:
+    """An exit ramp must leave traffic on the mainline whenever traffic arrives."""
+    out: list[Problem] = []
+    rf = ramp_flows(plan.demand, plan.approach)
+    index = {id(lm): i for i, lm in enumerate(plan.approach.landmarks)}
+    step = dt.timedelta(seconds=plan.demand.interval_s)
+    for j, r in enumerate(rf.ramps):
+        if r.kind != "exit-ramp":
+            continue
+        arriving = rf.sections[j + 1]
+        bad = np.flatnonzero((arriving > 0) & (rf.rates[j] >= arriving))
+        if len(bad):
+            k = int(bad[0])
+            at = plan.demand.start + k * step
+            out.append(
+                Problem(
+                    f"approach.landmarks[{index[id(r)]}]",
+                    f"exit ramp '{r.name}' takes {rf.rates[j][k]:,.0f} veh/h from "
+                    f"{at:%Y-%m-%d %H:%M} but only {arriving[k]:,.0f} veh/h arrive there; an "
+                    "exit ramp must leave some traffic on the mainline",
+                )
+            )
     return out
 
 

@@ -3,8 +3,9 @@
 The JSON states its unit system once (``"units": "us"`` or ``"metric"``) and
 every value is in that system: speeds mi/h or km/h, work-zone length mi or km,
 lateral clearance ft or m, jam density veh/mi/ln or veh/km/ln, ramp density per
-mi or per km, queue-length limit mi or km. Flows are veh/h, delays minutes,
-shares percent. The README documents the schema.
+mi or per km, queue-length limit mi or km, landmark distances mi or km, backward
+wave speed mi/h or km/h, density at capacity veh/mi/ln or veh/km/ln. Flows are
+veh/h, delays minutes, shares percent. The README documents the schema.
 """
 
 from __future__ import annotations
@@ -18,9 +19,11 @@ import numpy as np
 
 from wzq import units as u
 from wzq.plan import (
+    Approach,
     Closure,
     Costs,
     Demand,
+    Landmark,
     Meta,
     Options,
     Plan,
@@ -55,6 +58,9 @@ SITE_KEYS = {
     "capacity_drop_percent_open",
     "work_intensity_pc_h_ln",
     "ramp_adjustment_pc_h_ln",
+    "congested_branch",
+    "wave_speed",
+    "density_at_capacity",
 }
 CLOSURE_KEYS = {
     "start",
@@ -77,6 +83,14 @@ TOP_KEYS = {
     "costs",
     "options",
     "risk",
+    "approach",
+}
+LANDMARK_KEYS = {"name", "distance", "kind", "veh_h", "share_percent"}
+THRESHOLD_KEYS = {
+    "max_queue_length",
+    "max_average_delay_min",
+    "max_demand_capacity",
+    "queue_must_not_pass",
 }
 
 
@@ -173,6 +187,24 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
     lanes = r.number(s, "lanes", "site")
     ffs = r.number(s, "free_flow_speed", "site", None, lo=0)
     jam = r.number(s, "jam_density", "site", None, lo=0)
+    wave = r.number(s, "wave_speed", "site", None, lo=0)
+    k_cap = r.number(s, "density_at_capacity", "site", None, lo=0)
+    branch = s.get("congested_branch")
+    if branch is None:
+        if wave is not None and k_cap is not None:
+            r.bad(
+                "site.wave_speed",
+                "give the backward wave speed or the density at capacity, not both "
+                "(the other follows from the capacity and the jam density)",
+            )
+        branch = "derived"
+        if wave is not None:
+            branch = "wave-speed"
+        elif k_cap is not None:
+            branch = "density-at-capacity"
+    elif not isinstance(branch, str):
+        r.bad("site.congested_branch", f"expected text, got {branch!r}")
+        branch = "derived"
     site_kw: dict[str, Any] = dict(
         name=r.text(s, "name", "site", ""),
         direction=r.text(s, "direction", "site", ""),
@@ -198,6 +230,9 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
         work_intensity_pc_h_ln=r.number(s, "work_intensity_pc_h_ln", "site", 0.0),
         ramp_adjustment_pc_h_ln=r.number(s, "ramp_adjustment_pc_h_ln", "site", 0.0),
         unit_system=system,
+        congested_branch=branch,
+        wave_speed=spd(wave),
+        density_at_capacity=None if k_cap is None else u.density_to_per_m(k_cap, system),
     )
     d = data.get("demand") or {}
     if not isinstance(d, dict):
@@ -264,14 +299,22 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
             )
         )
     t = data.get("thresholds") or {}
-    r.unknown(t, {"max_queue_length", "max_average_delay_min", "max_demand_capacity"}, "thresholds")
+    r.unknown(t, THRESHOLD_KEYS, "thresholds")
+    must_not_pass = t.get("queue_must_not_pass")
+    if must_not_pass is not None and not isinstance(must_not_pass, str):
+        r.bad(
+            "thresholds.queue_must_not_pass", f"expected a landmark's name, got {must_not_pass!r}"
+        )
+        must_not_pass = None
     qmax = r.number(t, "max_queue_length", "thresholds", None, lo=0)
     dmax = r.number(t, "max_average_delay_min", "thresholds", None, lo=0)
     thresholds = Thresholds(
         max_queue_length=None if qmax is None else u.long_length_to_m(qmax, system),
         max_average_delay=None if dmax is None else dmax * u.MINUTE,
         max_demand_capacity=r.number(t, "max_demand_capacity", "thresholds", None, lo=0),
+        queue_must_not_pass=must_not_pass,
     )
+    approach = _approach_from_dict(r, data.get("approach"), system)
     costs = None
     if data.get("costs"):
         c = data["costs"]
@@ -330,9 +373,55 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
             meta=meta,
             history=history,
             risk=risk,
+            approach=approach,
         )
     except PlanError as e:
         raise PlanError([Problem(f"{source}: {p.where}", p.message) for p in e.problems]) from None
+
+
+def _approach_from_dict(r: _Reader, a: Any, system: u.UnitSystem) -> Approach:
+    """The ``approach`` object: its landmarks, ramps with their flows."""
+    if a is None:
+        return Approach()
+    if not isinstance(a, dict):
+        r.bad("approach", "expected an object with a list of landmarks")
+        return Approach()
+    r.unknown(a, {"landmarks"}, "approach")
+    raw = a.get("landmarks") or []
+    if not isinstance(raw, list):
+        r.bad("approach.landmarks", "expected a list")
+        return Approach()
+    out = []
+    for i, lm in enumerate(raw):
+        path = f"approach.landmarks[{i}]"
+        if not isinstance(lm, dict):
+            r.bad(path, "expected an object")
+            continue
+        r.unknown(lm, LANDMARK_KEYS, path)
+        flows = lm.get("veh_h")
+        hourly: tuple[float, ...] | None = None
+        if flows is not None:
+            if not isinstance(flows, list):
+                r.bad(f"{path}.veh_h", "expected a list of hourly flows in veh/h")
+            else:
+                values = []
+                for k, v in enumerate(flows):
+                    if isinstance(v, bool) or not isinstance(v, int | float) or not np.isfinite(v):
+                        r.bad(f"{path}.veh_h[{k}]", f"expected a flow in veh/h, got {v!r}")
+                        v = 0.0
+                    values.append(float(v))
+                hourly = tuple(values)
+        share = r.number(lm, "share_percent", path, None, lo=0)
+        out.append(
+            Landmark(
+                name=r.text(lm, "name", path),
+                distance=u.long_length_to_m(r.number(lm, "distance", path, lo=0), system),
+                kind=r.text(lm, "kind", path, "other"),
+                ramp_veh_h=hourly,
+                ramp_share=None if share is None else share / 100.0,
+            )
+        )
+    return Approach(tuple(out))
 
 
 def load_plan(path: str | Path) -> Plan:
@@ -440,6 +529,22 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
         from wzq.historyio import risk_to_dict
 
         out["risk"] = risk_to_dict(plan.risk)
+    if s.congested_branch != "derived":
+        out["site"]["congested_branch"] = s.congested_branch
+        out["site"]["wave_speed"] = rnd(
+            None if s.wave_speed is None else u.mps_to_speed(s.wave_speed, system)
+        )
+        out["site"]["density_at_capacity"] = rnd(
+            None
+            if s.density_at_capacity is None
+            else u.per_m_to_density(s.density_at_capacity, system)
+        )
+    if plan.thresholds.queue_must_not_pass is not None:
+        out["thresholds"]["queue_must_not_pass"] = plan.thresholds.queue_must_not_pass
+    if plan.approach.landmarks:
+        out["approach"] = {
+            "landmarks": [_landmark_dict(lm, system) for lm in plan.approach.landmarks]
+        }
     if plan.costs is not None:
         c = plan.costs
         out["costs"] = {
@@ -450,6 +555,19 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
             "currency": c.currency,
             "dollar_year": c.dollar_year,
         }
+    return out
+
+
+def _landmark_dict(lm: Landmark, system: u.UnitSystem) -> dict[str, Any]:
+    out: dict[str, Any] = {
+        "name": lm.name,
+        "distance": round(u.m_to_long_length(lm.distance, system), 6),
+        "kind": lm.kind,
+    }
+    if lm.ramp_veh_h is not None:
+        out["veh_h"] = list(lm.ramp_veh_h)
+    if lm.ramp_share is not None:
+        out["share_percent"] = round(lm.ramp_share * 100.0, 9)
     return out
 
 

@@ -96,7 +96,8 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
         (
             "Total delay",
             f"{s.total_delay_veh_h:,.1f} veh-h "
-            f"(queue {s.queue_delay_veh_h:,.1f}, work zone {s.work_zone_delay_veh_h:,.1f})",
+            f"(queue {s.queue_delay_veh_h:,.1f}, work zone {s.work_zone_delay_veh_h:,.1f}"
+            + (f", exit ramps {s.exit_ramp_delay_veh_h:,.1f})" if s.exit_ramp_delay_veh_h else ")"),
         ),
         ("Highest hourly average delay", f"{s.max_average_delay_min:,.1f} min/veh"),
         ("Vehicles that met a queue", f"{s.vehicles_affected:,.0f}"),
@@ -123,6 +124,8 @@ def limits_text(plan: Plan) -> str:
         parts.append(f"average delay {th.max_average_delay / u.MINUTE:,.1f} min/veh")
     if th.max_demand_capacity is not None:
         parts.append(f"demand/capacity {th.max_demand_capacity:.2f} in closure hours")
+    if th.queue_must_not_pass is not None:
+        parts.append(f"queue not past {th.queue_must_not_pass}")
     return ", ".join(parts) if parts else "none set"
 
 
@@ -181,3 +184,50 @@ def episode_title(result: Result, ep: Episode) -> str:
     t1 = start + dt.timedelta(seconds=round(ep.end))
     end = f"{t1:%H:%M}" if t1.date() == t0.date() else f"{t1:%a %H:%M}"
     return f"Queue {hour_label(t0)} to {end}"
+
+
+#: Plain words for the kinds of landmark (:data:`wzq.plan.LANDMARK_KINDS`).
+LANDMARK_KIND_LABELS = {
+    "exit-ramp": "exit ramp",
+    "entrance-ramp": "entrance ramp",
+    "signal": "signal or intersection",
+    "structure": "bridge or structure",
+    "warning-signs-end": "end of advance warning signing",
+    "other": "other",
+}
+
+
+def landmark_display(result: Result) -> pd.DataFrame:
+    """Per landmark, nearest the closure first: how far the queue reached it, in plan units."""
+    long_name, long_m = u.LONG_LENGTH[result.plan.site.unit_system]
+    lm = result.landmarks
+    return pd.DataFrame(
+        {
+            "Landmark": lm["name"],
+            "Kind": [LANDMARK_KIND_LABELS.get(k, k) for k in lm["kind"]],
+            f"Upstream ({long_name})": [rounded(v / long_m, 2) for v in lm["distance_m"]],
+            "Queue first reaches it": [
+                "never" if pd.isna(t) else hour_label(t)[:-5] + f"{t:%H:%M}"
+                for t in lm["first_reached"]
+            ],
+            "Time beyond it (h)": [rounded(v, 2) for v in lm["time_beyond_h"]],
+            f"Farthest beyond ({long_name})": [rounded(v / long_m, 2) for v in lm["max_beyond_m"]],
+            "Hours beyond": lm["hours_beyond"].to_numpy(),
+        }
+    )
+
+
+def exit_ramp_display(result: Result) -> pd.DataFrame:
+    """Per exit ramp: the delay of the traffic leaving there while the queue holds it."""
+    long_name, long_m = u.LONG_LENGTH[result.plan.site.unit_system]
+    ex = result.exit_ramps
+    return pd.DataFrame(
+        {
+            "Exit ramp": ex["name"],
+            f"Upstream ({long_name})": [rounded(v / long_m, 2) for v in ex["distance_m"]],
+            "Delay of exiting traffic (veh-h)": [rounded(v, 1) for v in ex["delay_veh_h"]],
+            "Longest extra wait (min)": [
+                "-" if pd.isna(v) else rounded(v, 1) for v in ex["max_wait_min"]
+            ],
+        }
+    )

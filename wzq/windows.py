@@ -62,6 +62,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from wzq import approach as ap
 from wzq import costs as rc
 from wzq import newell
 from wzq.analysis import (
@@ -72,9 +73,10 @@ from wzq.analysis import (
     queue_state_discharge,
     site_model,
 )
-from wzq.flow import Triangular
+from wzq.flow import PIECEWISE_LINEAR
 from wzq.plan import (
     BARRIERS,
+    Approach,
     Barrier,
     Costs,
     Demand,
@@ -180,7 +182,7 @@ LENGTH_METHODS: dict[str, LengthFn] = {"shockwave": shockwave_lengths, "newell":
 def length_method(options: Options, model: SiteModel) -> LengthFn:
     """The plan's queue-length function; Newell's needs the triangular diagram, as in
     :func:`wzq.analysis.evaluate` (otherwise the single-state relation)."""
-    if options.queue_length_method == "newell" and not isinstance(model.diagram, Triangular):
+    if options.queue_length_method == "newell" and not isinstance(model.diagram, PIECEWISE_LINEAR):
         return shockwave_lengths
     return LENGTH_METHODS[options.queue_length_method]
 
@@ -252,6 +254,9 @@ class _Grid:
     model: SiteModel
     thresholds: Thresholds
     length_fn: LengthFn
+    ramps: ap.Ramps | None = None  # the approach's ramps on this grid
+    by_sections: bool = False  # Newell's method by sections (else the single-state relation)
+    landmark: tuple[str, float] | None = None  # the landmark the queue must not pass
 
 
 @dataclass(frozen=True)
@@ -272,7 +277,7 @@ class _Eval:
 
 
 def _checks(
-    th: Thresholds,
+    g: _Grid,
     arrivals: np.ndarray,
     capacity: np.ndarray,
     lmax: np.ndarray,
@@ -281,7 +286,8 @@ def _checks(
 ) -> np.ndarray:
     """All of :func:`wzq.analysis.hour_checks` passed, hour by hour."""
     ok = np.ones(len(arrivals), dtype=bool)
-    for _, _, passed in hour_checks(th, arrivals, capacity, lmax, delay_veh_h, closed)[2]:
+    checks = hour_checks(g.thresholds, arrivals, capacity, lmax, delay_veh_h, closed, g.landmark)
+    for _, _, passed in checks[2]:
         ok &= passed
     return ok
 
@@ -300,8 +306,12 @@ def _evaluate(g: _Grid, s: int, e: int, screen: bool = False) -> _Eval:
     qdr = np.where(closed, g.qdr_closed, g.qdr_open)
     run = solve(g.dur, g.lam / HOUR, pre / HOUR, qdr / HOUR)
     if screen:
+        # with ramps too: the closure's queued traffic holds at least this much road,
+        # and the delay of the plain point queue is no more than with the ramps
         densest = g.lanes * float(g.model.diagram.jam_density) * (1.0 + SCREEN_MARGIN)
         length = np.maximum(run.queue[:-1], run.queue[1:]) / densest
+    elif g.ramps is not None:
+        run, length = _ramp_run(g, run, pre, qdr)
     else:
         length = g.length_fn(g.model, g.lanes, g.lam, qdr, run)
     wz = run.departures * np.where(closed, g.extra_closed, 0.0)
@@ -312,8 +322,22 @@ def _evaluate(g: _Grid, s: int, e: int, screen: bool = False) -> _Eval:
     lmax = np.maximum.reduceat(length, first)
     delay = np.add.reduceat(run.delay, first) / HOUR + np.add.reduceat(wz, first) / HOUR
     closed_h = np.maximum.reduceat(closed.astype(np.int8), first).astype(bool)
-    ok = _checks(g.thresholds, arrivals, capacity, lmax, delay, closed_h)
+    ok = _checks(g, arrivals, capacity, lmax, delay, closed_h)
     return _Eval(run.queue, ok, run.arrivals, cap_i, length, run.delay, wz)
+
+
+def _ramp_run(
+    g: _Grid, run: QueueRun, pre: np.ndarray, qdr: np.ndarray
+) -> tuple[QueueRun, np.ndarray]:
+    """The closure traffic's queue and the longest queue per interval on an approach
+    with ramps, by :mod:`wzq.approach` as :func:`wzq.analysis.evaluate` finds them."""
+    assert g.ramps is not None
+    if g.by_sections:
+        sec = ap.by_sections(run, g.ramps, g.model.diagram, g.lanes, pre / HOUR, qdr / HOUR)
+        return ap.coarsen(sec.queue, run.t), newell.hourly_max(sec.times, sec.distance, run.t)
+    state = queue_state_discharge(run, qdr)
+    l_start, l_end, _ = ap.single_state(run, g.ramps, g.model.diagram, g.lanes, state)
+    return run, np.maximum(l_start, l_end)
 
 
 def _mixed_hours_ok(
@@ -343,7 +367,7 @@ def _mixed_hours_ok(
         + pick(r.wz_delay, b.wz_delay, 0.0).sum(axis=1) / HOUR
     )
     closed = np.ones(len(hours), dtype=bool)
-    return _checks(g.thresholds, arrivals, capacity, lmax, delay, closed)
+    return _checks(g, arrivals, capacity, lmax, delay, closed)
 
 
 def _first_failure_end(g: _Grid, ok: np.ndarray) -> int:
@@ -363,6 +387,7 @@ def _allowed(g: _Grid, exhaustive: bool = False) -> tuple[np.ndarray, _Eval]:
         th.max_queue_length is None
         and th.max_average_delay is None
         and th.max_demand_capacity is None
+        and g.landmark is None
     ):
         # no limit at all: every closure passes (the caller adds a note)
         return np.triu(np.ones((n, n + 1), dtype=bool), 1), base
@@ -531,7 +556,10 @@ class WindowSet:
         )
 
     def added_delay_veh_h(self, s: int, e: int) -> float:
-        """Delay the closure ``[s, e)`` adds to the all-lanes-open run (veh-h), exactly."""
+        """Delay the closure ``[s, e)`` adds to the all-lanes-open run (veh-h), exactly.
+
+        The delay of the traffic through the closure (queue and work zone); with
+        exit ramps, the delay of the traffic leaving there is not counted."""
         return _evaluate(self._grid, s, e).total_delay_veh_h - self._base.total_delay_veh_h
 
     def window(self, s: int, e: int) -> Window:
@@ -580,6 +608,7 @@ def _grid(
     config: Configuration,
     options: Options,
     length_fn: LengthFn,
+    approach: Approach | None = None,
 ) -> _Grid:
     n = len(demand.flows_veh_h)
     step = demand.interval_s
@@ -606,10 +635,15 @@ def _grid(
     first = np.searchsorted(t, np.arange(n_hours) * HOUR).astype(np.int64)
     hour_end = np.append(first[1:], n).astype(np.int64)
     hour_of = np.searchsorted(first, np.arange(n), side="right") - 1
+    ramps = None if approach is None else ap.ramps_for(demand, approach, np.arange(n))
+    limit = None
+    if approach is not None and thresholds.queue_must_not_pass is not None:
+        lm = approach.landmark(thresholds.queue_must_not_pass)
+        limit = None if lm is None else (lm.name, lm.distance)
     return _Grid(
         n,
         dur,
-        demand.flows_veh_h.astype(float),
+        demand.flows_veh_h.astype(float) if ramps is None else ramps.section[0],
         arrays["po"],
         arrays["qo"],
         arrays["pc"],
@@ -622,6 +656,9 @@ def _grid(
         model,
         thresholds,
         length_fn,
+        ramps,
+        length_fn is newell_lengths,
+        limit,
     )
 
 
@@ -631,11 +668,12 @@ def _check_inputs(
     thresholds: Thresholds,
     configs: Sequence[Configuration],
     options: Options,
+    approach: Approach,
 ) -> None:
     problems: list[Problem] = []
     for d in day_types:
         try:
-            Plan(site, d.demand, (), thresholds, options=options)
+            Plan(site, d.demand, (), thresholds, options=options, approach=approach)
         except PlanError as e:
             problems += [Problem(f"{d.name}: {p.where}", p.message) for p in e.problems]
             continue
@@ -694,6 +732,7 @@ def find_windows(
     costs: Costs | None = None,
     queue_length: LengthFn | None = None,
     exhaustive: bool = False,
+    approach: Approach | None = None,
 ) -> WindowsResult:
     """Every closure period that keeps the whole run within the limits, per configuration.
 
@@ -709,6 +748,11 @@ def find_windows(
         costs: road-user value of time; default :data:`wzq.costs.DEFAULT_COSTS`.
         queue_length: the queue-length function; default by ``options``.
         exhaustive: judge every candidate with a full run (for checking).
+        approach: the approach's landmarks and ramps (:class:`wzq.plan.Approach`);
+            the queue is then found as :func:`wzq.analyse` finds it
+            (:mod:`wzq.approach`), and the limit ``queue_must_not_pass`` is
+            checked. Hourly ramp flows must cover every demand searched (one per
+            hour); for typical days give ramp flows as a share of the mainline.
 
     Raises:
         PlanError: the inputs cannot be searched (each problem says where and what to do).
@@ -723,7 +767,10 @@ def find_windows(
     if configurations is None:
         configurations = default_configurations(site)
     configs = [c if isinstance(c, Configuration) else Configuration(int(c)) for c in configurations]
-    _check_inputs(site, day_types, thresholds, configs, options)
+    approach = approach or Approach()
+    if approach.ramps and queue_length is not None:
+        raise ValueError("a queue-length function of your own cannot follow the ramps")
+    _check_inputs(site, day_types, thresholds, configs, options, approach)
     model = site_model(site, options.diagram)
     length_fn = queue_length or length_method(options, model)
     used_costs = rc.costs_or_default(costs)
@@ -735,6 +782,7 @@ def find_windows(
             thresholds.max_queue_length,
             thresholds.max_average_delay,
             thresholds.max_demand_capacity,
+            thresholds.queue_must_not_pass,
         )
     ):
         notes.append("no limits are set, so every closure passes; enter the agency's limits")
@@ -742,7 +790,7 @@ def find_windows(
     for day in day_types:
         in_full_note = False
         for config in configs:
-            g = _grid(site, model, day.demand, thresholds, config, options, length_fn)
+            g = _grid(site, model, day.demand, thresholds, config, options, length_fn, approach)
             # Newell's construction holds flows above the approach's capacity back beyond
             # its upstream end; there the trajectory is not a function of the recent past
             # alone, so the search's shortcuts are off and every candidate is run in full.
@@ -784,7 +832,8 @@ def find_windows(
 def _beyond_approach(g: _Grid) -> bool:
     """Demand at or above, or a closure's capacity above, the approach's capacity ``n c``."""
     n_c = float(g.model.diagram.capacity) * g.lanes * HOUR  # veh/h
-    return bool(np.any(g.lam >= n_c * (1.0 - 1e-9)) or np.any(g.pre_closed > n_c * (1.0 + 1e-9)))
+    sections = g.lam if g.ramps is None else g.ramps.section
+    return bool(np.any(sections >= n_c * (1.0 - 1e-9)) or np.any(g.pre_closed > n_c * (1.0 + 1e-9)))
 
 
 def _period_name(demand: Demand) -> str:
@@ -867,6 +916,7 @@ def plan_windows(
         options=plan.options,
         costs=plan.costs,
         exhaustive=exhaustive,
+        approach=plan.approach,
     )
 
 
