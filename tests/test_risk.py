@@ -408,6 +408,30 @@ def test_bad_options_and_scenarios_are_located() -> None:
     assert any("Only one scenario" in n for n in one.notes)
 
 
+def test_plans_the_scenarios_cannot_follow_exactly_are_refused_with_their_keys() -> None:
+    # ramps, a landmark limit and a set congested branch change how analyse solves the
+    # plan (wzq.approach); the scenario engine does not follow them, so it refuses
+    plan, _ = hand_weeks()
+    ramp = wzq.Landmark("Elm Road on-ramp", 800.0, "entrance-ramp", ramp_share=0.1)
+    sign = wzq.Landmark("end of signing", 1500.0, "warning-signs-end")
+    odd = dataclasses.replace(
+        plan,
+        approach=wzq.Approach((ramp, sign)),
+        thresholds=dataclasses.replace(plan.thresholds, queue_must_not_pass="end of signing"),
+        site=dataclasses.replace(plan.site, congested_branch="hcm"),
+    )
+    with pytest.raises(PlanError) as e:
+        R.run_scenarios(odd, R.Scenarios(("a",), np.ones((1, 168))))
+    assert [p.where for p in e.value.problems] == [
+        "approach",
+        "thresholds.queue_must_not_pass",
+        "site.congested_branch",
+    ]
+    # landmarks without ramp flows are fine
+    fine = dataclasses.replace(plan, approach=wzq.Approach((sign,)))
+    assert len(R.run_scenarios(fine, R.Scenarios(("a",), np.full((1, 168), 100.0)))) == 1
+
+
 # ---------------------------------------------------------------------------------------------
 # The JSON plan and the command line
 # ---------------------------------------------------------------------------------------------

@@ -386,6 +386,39 @@ class ScenarioRuns:
         return pd.DataFrame(cols)
 
 
+def _refuse_approach(plan: Plan) -> None:
+    """The scenarios are solved on the closure's own arrivals with a triangular diagram
+    or the single-state relation; a plan that needs the approach road's sections
+    (:mod:`wzq.approach`) is refused rather than assessed differently from ``analyse``."""
+    problems = []
+    if plan.approach.ramps:
+        problems.append(
+            Problem(
+                "approach",
+                "the risk is not yet assessed for an approach with ramps; assess the plan "
+                "without its ramps (landmarks without ramp flows are fine)",
+            )
+        )
+    if plan.thresholds.queue_must_not_pass is not None:
+        problems.append(
+            Problem(
+                "thresholds.queue_must_not_pass",
+                "the risk is not yet assessed against a landmark the queue must not pass; "
+                "use the queue-length limit for the risk run",
+            )
+        )
+    if plan.site.congested_branch != "derived":
+        problems.append(
+            Problem(
+                "site.congested_branch",
+                "the risk is assessed with the congested branch derived from capacity and "
+                "jam density only; leave the congested branch at its default for the risk run",
+            )
+        )
+    if problems:
+        raise PlanError(problems)
+
+
 def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
     """Every scenario of ``plan`` through the engine, exactly, solved together (module notes).
 
@@ -401,6 +434,7 @@ def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
         )
     if not np.all(np.isfinite(flows)) or np.any(flows < 0):
         raise PlanError("a scenario's demand is missing or negative", where="scenarios")
+    _refuse_approach(plan)
     ia = interval_arrays(plan)
     site = plan.site
     t = ia.t
