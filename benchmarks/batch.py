@@ -5,7 +5,7 @@ Prints, measured side by side in one run on N generated one-week plan workbooks
 closure every night):
 
 - the read floor: opening every workbook the way the plan reader does
-  (``wzq.workbook.reader.load_book``, openpyxl), one after another in this
+  (``wzq.io.workbook.reader.load_book``, openpyxl), one after another in this
   process, per plan;
 - ``run_batch`` with 1 local worker, without write-back (read, validate,
   analyse, summary row, summary workbook and CSV), per plan, and its ratio to
@@ -40,10 +40,10 @@ sys.path.insert(0, str(ROOT / "tests"))  # the template filler used by the tests
 
 from workbook_helpers import fill_template  # noqa: E402
 
-from wzq.batch import run_batch  # noqa: E402
-from wzq.plan import Closure, Demand, Plan  # noqa: E402
-from wzq.planio import load_plan  # noqa: E402
-from wzq.workbook.reader import load_book  # noqa: E402
+from wzq.engine.plan import Closure, Demand, Plan  # noqa: E402
+from wzq.io.batch.runner import run_batch  # noqa: E402
+from wzq.io.jsonplan import load_plan  # noqa: E402
+from wzq.io.workbook.reader import load_book  # noqa: E402
 
 DAY = [700, 480, 400, 420, 650, 1500, 3600, 5200, 5000, 4100, 3700, 3800,
        3900, 3900, 4200, 4800, 5300, 5400, 4600, 3500, 2800, 2400, 1900, 1300]  # fmt: skip

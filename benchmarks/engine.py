@@ -5,7 +5,7 @@ Prints, measured side by side in one run:
   arrays, and with the per-hour table built) against a straightforward
   minute-by-minute loop over the same demand and capacities, and the ratio;
 - the time per 48-hour plan (the unit of work of closure-window searches):
-  per candidate plan inside :func:`wzq.windows.find_windows` over every start
+  per candidate plan inside :func:`wzq.engine.windows.find_windows` over every start
   and end of a 48-hour demand, and one plan on its own through ``wzq.analyse``.
 
 Targets (issue: queue engine): at least 300 times faster than the minute
@@ -24,11 +24,11 @@ import time
 import numpy as np
 
 from wzq import Closure, Demand, Plan, Site, analyse
-from wzq.analysis import closure_capacity, evaluate, site_model
-from wzq.plan import Approach, Landmark, Thresholds
-from wzq.queueing import solve
+from wzq.engine.evaluate import closure_capacity, evaluate, site_model
+from wzq.engine.plan import Approach, Landmark, Thresholds
+from wzq.engine.windows import Configuration, find_windows
+from wzq.models.queueing import solve
 from wzq.units import MILE, MINUTE, MPH
-from wzq.windows import Configuration, find_windows
 
 #: An invented approach: an entrance ramp 700 m and an exit ramp 1.6 km upstream.
 RAMPS = Approach(

@@ -39,8 +39,8 @@ from test_hostile_files import (  # noqa: E402
 )
 from workbook_helpers import fill_template  # noqa: E402
 
-from wzq.planio import load_plan  # noqa: E402
-from wzq.workbook.safety import LIMITS  # noqa: E402
+from wzq.io.jsonplan import load_plan  # noqa: E402
+from wzq.io.workbook.safety import LIMITS  # noqa: E402
 
 
 def shared_strings_at_full_size(base: bytes) -> bytes:

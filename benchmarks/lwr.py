@@ -1,4 +1,4 @@
-"""Speed of the LWR solver (wzq.lwr.solve) against clawpack's first-order solver.
+"""Speed of the LWR solver (wzq.engine.lwr.simulation.solve) against clawpack's first-order solver.
 
 Both march the same Greenshields Riemann problem (a released dense platoon, a
 transonic fan) on 10,000 cells with the same fixed time step and transmissive
@@ -20,8 +20,8 @@ import time
 
 import numpy as np
 
-from wzq import lwr
-from wzq.flow import Greenshields
+from wzq.engine.lwr import simulation as lwr
+from wzq.models.flow import Greenshields
 
 FREE_SPEED = 30.0  # m/s, invented
 JAM_DENSITY = 0.12  # veh/m/ln, invented
@@ -101,8 +101,8 @@ def main() -> None:
 
     print("                               M cell-steps/s (best, median of the runs)")
     for name, times in (
-        ("wzq.lwr.solve", ours),
-        ("wzq.lwr.solve (track=True)", tracked),
+        ("wzq.engine.lwr.simulation.solve", ours),
+        ("wzq.engine.lwr.simulation.solve (track=True)", tracked),
         ("clawpack ClawSolver1D order 1", theirs),
     ):
         if times:

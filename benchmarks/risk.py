@@ -6,7 +6,7 @@ of night closures on the fictional Larkspur Vale Expressway,
 
 1. 52 weekly demand scenarios (made by the documented process of
    ``examples/build_count_history.py``: day-type profiles, season, weekly,
-   daily and hourly variation) through :func:`wzq.risk.run_scenarios`, against
+   daily and hourly variation) through :func:`wzq.engine.risk.run_scenarios`, against
    :func:`wzq.analyse` on each scenario's plan one by one (with its per-hour
    table, which the risk needs); the per-hour verdicts of the two are compared;
 2. 1,000 draws of the work-zone capacity (coefficient of variation 0.08) on
@@ -37,9 +37,9 @@ from pathlib import Path
 import numpy as np
 
 import wzq
-from wzq.analysis import configuration
-from wzq.planio import load_plan
-from wzq.risk import Scenarios, capacity_draws, run_scenarios
+from wzq.engine.evaluate import configuration
+from wzq.engine.risk import Scenarios, capacity_draws, run_scenarios
+from wzq.io.jsonplan import load_plan
 
 ROOT = Path(__file__).resolve().parents[1]
 PLAN = ROOT / "examples" / "larkspur_vale_week.json"

@@ -1,6 +1,6 @@
 """Closure-window search against analysing the same closures one by one.
 
-Prints, side by side in one run, the time :func:`wzq.windows.find_windows`
+Prints, side by side in one run, the time :func:`wzq.engine.windows.find_windows`
 takes to judge every closure period (every start and end on the demand grid)
 for three lane configurations over a 7-day week, and the time
 :func:`wzq.analyse` takes for the same candidates one plan at a time, with the
@@ -27,9 +27,9 @@ import time
 import numpy as np
 
 import wzq
-from wzq.plan import Closure, Demand, Plan, Site, Thresholds
+from wzq.engine.plan import Closure, Demand, Plan, Site, Thresholds
+from wzq.engine.windows import Configuration, find_windows
 from wzq.units import MILE, MINUTE, MPH
-from wzq.windows import Configuration, find_windows
 
 WEEKDAY = [
     900, 600, 500, 520, 800, 1900, 4300, 6300, 6100, 5000, 4500, 4600,

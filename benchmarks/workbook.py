@@ -1,6 +1,6 @@
 """``wzq run`` against the bare floor of loading and saving the same workbook.
 
-Prints, side by side in one run, the time of :func:`wzq.workbook.run.run_workbook`
+Prints, side by side in one run, the time of :func:`wzq.io.workbook.run.run_workbook`
 (read the plan, analyse, write the output sheets and charts, save atomically) on
 a one-week hourly plan, and the time openpyxl alone takes to load and save that
 same workbook, and their ratio. Target: at most 1.5 times the floor.
@@ -32,8 +32,8 @@ sys.path.insert(0, str(ROOT / "tests"))  # the helper that types a plan into a t
 from workbook_helpers import fill_template  # noqa: E402
 
 import wzq  # noqa: E402
-from wzq.planio import load_plan  # noqa: E402
-from wzq.workbook.run import run_workbook  # noqa: E402
+from wzq.io.jsonplan import load_plan  # noqa: E402
+from wzq.io.workbook.run import run_workbook  # noqa: E402
 
 TARGET = 1.5
 

@@ -30,12 +30,12 @@ import openpyxl  # noqa: E402
 from office_session import Office, uno_python  # noqa: E402
 from workbook_helpers import table_cell  # noqa: E402
 
-from wzq.office.build import script_url  # noqa: E402
-from wzq.office.commands import office_env  # noqa: E402
-from wzq.office.icons import draw  # noqa: E402
-from wzq.planio import plan_from_dict  # noqa: E402
-from wzq.workbook import layout  # noqa: E402
-from wzq.workbook.run import write_filled_workbook  # noqa: E402
+from wzq.cli.calc import office_env  # noqa: E402
+from wzq.io.jsonplan import plan_from_dict  # noqa: E402
+from wzq.io.office.build import script_url  # noqa: E402
+from wzq.io.office.icons import draw  # noqa: E402
+from wzq.io.workbook import layout  # noqa: E402
+from wzq.io.workbook.run import write_filled_workbook  # noqa: E402
 
 OUT = ROOT / "docs" / "img"
 
@@ -130,7 +130,7 @@ def main() -> None:
     python = uno_python()
     if not (shutil.which("soffice") and shutil.which("unopkg") and python):
         sys.exit("needs LibreOffice (soffice, unopkg) and a Python with uno")
-    from wzq.planio import save_plan
+    from wzq.io.jsonplan import save_plan
 
     with tempfile.TemporaryDirectory(prefix="wzq-calc-docs-") as tmp:
         folder = Path(tmp)

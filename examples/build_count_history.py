@@ -8,7 +8,7 @@ demand and a risk of breaking the limits.
 The station counts the eastbound direction of a three-lane expressway, lane by
 lane, every hour of 2026, and the file is written as FHWA Traffic Monitoring
 Guide hourly traffic volume records (TMG 2013 layout, 143 columns; see
-:mod:`wzq.counts`), one record per lane and day, state code ``00`` (no state).
+:mod:`wzq.io.counts`), one record per lane and day, state code ``00`` (no state).
 
 The process, seeded so it gives the same file every time:
 

@@ -21,8 +21,8 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from wzq.planio import load_plan
-from wzq.workbook.run import write_filled_workbook
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook.run import write_filled_workbook
 
 HERE = Path(__file__).resolve().parent
 PLANS = ("kestrel_ridge_weeknight", "fenwick_downs_weekend", "ashgrove_bypass_week")

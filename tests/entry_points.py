@@ -53,14 +53,14 @@ def run_jobs(jobs: list[dict], timeout: float) -> dict[str, dict]:
 
 def _preload() -> None:
     """Import every module a command imports, so the children only run the command."""
-    import wzq.batch_cli
     import wzq.cli
-    import wzq.lwr_cli
-    import wzq.report
-    import wzq.report_cli
-    import wzq.windows_cli
-    import wzq.workbook.commands
-    import wzq.workbook.run
+    import wzq.cli.batch
+    import wzq.cli.new
+    import wzq.cli.report
+    import wzq.cli.spacetime
+    import wzq.cli.windows
+    import wzq.io.report
+    import wzq.io.workbook.run
 
     wzq.cli._load_extras()
 

@@ -1,6 +1,6 @@
 """An in-memory stand-in for the part of xlwings' object model the live backend uses.
 
-Excel does not run on Linux, so :mod:`wzq.workbook.live` is tested against
+Excel does not run on Linux, so :mod:`wzq.io.live.backend` is tested against
 these classes. They carry xlwings' own class, method and attribute names
 (``Book.sheets``, ``Sheets.add``, ``Range.value``, ``Range.number_format``,
 ``Chart.set_source_data`` ...), and they behave the way Excel behaves through

@@ -34,10 +34,9 @@ import numpy as np
 import pytest
 
 import wzq
-from wzq import lwr
 from wzq.cli import main
-from wzq.flow import Trapezoidal
-from wzq.plan import (
+from wzq.engine.lwr import simulation as lwr
+from wzq.engine.plan import (
     Approach,
     Closure,
     Demand,
@@ -48,7 +47,8 @@ from wzq.plan import (
     Site,
     Thresholds,
 )
-from wzq.planio import plan_from_dict, plan_to_dict
+from wzq.io.jsonplan import plan_from_dict, plan_to_dict
+from wzq.models.flow import Trapezoidal
 from wzq.units import HOUR, MILE, MPH
 
 START = dt.datetime(2027, 5, 3)  # invented

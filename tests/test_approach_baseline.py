@@ -19,8 +19,8 @@ import numpy as np
 import pytest
 
 import wzq
-from wzq import lwr
-from wzq.windows import plan_windows
+from wzq.engine.lwr import simulation as lwr
+from wzq.engine.windows import plan_windows
 
 DATA = Path(__file__).parent / "data"
 BASELINE = json.loads((DATA / "no_approach_baseline.json").read_text(encoding="utf-8"))

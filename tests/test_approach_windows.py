@@ -20,8 +20,8 @@ from hypothesis import strategies as st
 from test_windows import cases, check_verdicts
 
 import wzq
-from wzq import windows as W
-from wzq.plan import Approach, Closure, Demand, Landmark, Plan, PlanError, Site, Thresholds
+from wzq.engine import windows as W
+from wzq.engine.plan import Approach, Closure, Demand, Landmark, Plan, PlanError, Site, Thresholds
 from wzq.units import MPH
 
 

@@ -25,9 +25,11 @@ import pytest
 from workbook_helpers import fill_template, set_named, table_cell
 
 import wzq
-from wzq import batch
-from wzq.batch import Outcome, Task, analyse_file, find_plans, run_batch
-from wzq.batch_summary import (
+from wzq.cli import main
+from wzq.engine.plan import Closure, Costs, Demand, Plan, Site, Thresholds
+from wzq.io.batch import runner as batch
+from wzq.io.batch.runner import Outcome, Task, analyse_file, find_plans, run_batch
+from wzq.io.batch.summary import (
     COLUMNS,
     HEADER_ROW,
     PLANS_SHEET,
@@ -35,11 +37,9 @@ from wzq.batch_summary import (
     STATE_SHEET,
     csv_text,
 )
-from wzq.cli import main
-from wzq.plan import Closure, Costs, Demand, Plan, Site, Thresholds
-from wzq.planio import load_plan, save_plan
+from wzq.io.jsonplan import load_plan, save_plan
+from wzq.io.workbook import layout
 from wzq.units import MPH
-from wzq.workbook import layout
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"
@@ -590,7 +590,7 @@ def test_run_problems_exit_2_and_write_nothing(tmp_path: Path, capsys) -> None:
 
 
 def test_progress_bar_only_on_a_terminal(small_folder: Path) -> None:
-    from wzq.batch_cli import _Bar
+    from wzq.cli.batch import _Bar
 
     class Terminal(io.StringIO):
         def isatty(self) -> bool:
@@ -606,8 +606,8 @@ def test_progress_bar_only_on_a_terminal(small_folder: Path) -> None:
 
 
 def test_paper_sizes_match_the_report() -> None:
-    from wzq.batch_cli import PAPERS
-    from wzq.report import PAPERS as REPORT_PAPERS
+    from wzq.cli.batch import PAPERS
+    from wzq.io.report import PAPERS as REPORT_PAPERS
 
     assert set(PAPERS) == set(REPORT_PAPERS)
 

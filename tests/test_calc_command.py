@@ -34,10 +34,16 @@ from office_session import SOFFICE, Office, uno_python
 from workbook_helpers import fill_template, table_cell
 
 import wzq
-from wzq.office.build import script_url
-from wzq.office.commands import office_env
-from wzq.planio import load_plan
-from wzq.tables import (
+from wzq.cli.calc import office_env
+from wzq.io.jsonplan import load_plan
+from wzq.io.office.build import script_url
+from wzq.io.workbook import layout
+from wzq.io.workbook.reader import read_plan
+from wzq.io.workbook.run import run_workbook
+from wzq.io.workbook.safety import inspect_file
+from wzq.io.workbook.save import lock_files, own_office_lock
+from wzq.io.workbook.writer import RUN_TIME_CELL, permit_columns
+from wzq.present.tables import (
     episode_title,
     hour_label,
     hourly_columns,
@@ -45,12 +51,6 @@ from wzq.tables import (
     shown_episodes,
     summary_lines,
 )
-from wzq.workbook import layout
-from wzq.workbook.reader import read_plan
-from wzq.workbook.run import run_workbook
-from wzq.workbook.safety import inspect_file
-from wzq.workbook.save import lock_files, own_office_lock
-from wzq.workbook.writer import RUN_TIME_CELL, permit_columns
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 UNOPKG = shutil.which("unopkg")

@@ -1,4 +1,4 @@
-"""Tests for wzq.capacity against published values and hand arithmetic.
+"""Tests for wzq.models.capacity against published values and hand arithmetic.
 
 Every check against something outside the project names its source beside it.
 """
@@ -12,7 +12,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from wzq import capacity as cap
+from wzq.models import capacity as cap
 
 # ---------------------------------------------------------------------------------------------
 # Lane closure severity index

@@ -11,7 +11,7 @@ import pytest
 
 import wzq
 from wzq.cli import main
-from wzq.planio import load_plan
+from wzq.io.jsonplan import load_plan
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 

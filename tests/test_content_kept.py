@@ -30,10 +30,10 @@ from PIL import Image
 from workbook_helpers import closure_row, demand_rows, plan_values
 from xlsxwriter.utility import xl_cell_to_rowcol
 
-from wzq.planio import load_plan
-from wzq.workbook import safety
-from wzq.workbook.run import run_to
-from wzq.workbook.template import build_template
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import safety
+from wzq.io.workbook.run import run_to
+from wzq.io.workbook.template import build_template
 
 ROOT = Path(__file__).resolve().parents[1]
 KESTREL = ROOT / "examples" / "kestrel_ridge_weeknight.json"

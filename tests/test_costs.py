@@ -1,4 +1,4 @@
-"""Tests for wzq.costs (road-user delay cost).
+"""Tests for wzq.engine.costs (road-user delay cost).
 
 Every check against something outside the project names its source beside it.
 """
@@ -11,8 +11,8 @@ import numpy as np
 import pytest
 
 import wzq
-from wzq import costs as rc
-from wzq.plan import Closure, Costs, Demand, Plan, Site
+from wzq.engine import costs as rc
+from wzq.engine.plan import Closure, Costs, Demand, Plan, Site
 
 START = dt.datetime(2027, 5, 3)  # invented dates
 

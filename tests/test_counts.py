@@ -1,4 +1,4 @@
-"""Tests for wzq.counts: the TMG hourly volume record, CSV and Excel count tables.
+"""Tests for wzq.io.counts: the TMG hourly volume record, CSV and Excel count tables.
 
 TMG records are built here field by field from the published layouts, typed
 again from the tables (not taken from the code):
@@ -26,8 +26,8 @@ import numpy as np
 import openpyxl
 import pytest
 
-from wzq import counts as C
-from wzq.plan import PlanError
+from wzq.engine.plan import PlanError
+from wzq.io import counts as C
 
 # (field, first column, last column) -- TMG 2013 Table 7-9, typed from the table
 LAYOUT_2013 = [

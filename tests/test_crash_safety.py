@@ -24,20 +24,20 @@ import pytest
 from workbook_helpers import fill_template
 
 from wzq import cli
-from wzq.plan import PlanError
-from wzq.planio import load_plan
-from wzq.workbook import layout
-from wzq.workbook import run as run_module
-from wzq.workbook import save as save_module
-from wzq.workbook.run import run_workbook
-from wzq.workbook.save import (
+from wzq.engine.plan import PlanError
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout
+from wzq.io.workbook import run as run_module
+from wzq.io.workbook import save as save_module
+from wzq.io.workbook.run import run_workbook
+from wzq.io.workbook.save import (
     clean_stray_temp_files,
     lock_files,
     save_atomic,
     stray_temp_files,
     temp_name,
 )
-from wzq.workbook.writer import RUN_LOG, input_fingerprint
+from wzq.io.workbook.writer import RUN_LOG, input_fingerprint
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"

@@ -1,4 +1,4 @@
-"""Tests for wzq.design_demand: day types, windows, growth, the statistic and the scenarios.
+"""Tests for wzq.engine.design_demand: day types, windows, growth, the statistic and the scenarios.
 
 Histories are built by hand so every expected value can be worked out on
 paper. Dates: 4 May 2026 is a Monday (calendar fact).
@@ -11,8 +11,8 @@ import datetime as dt
 import numpy as np
 import pytest
 
-from wzq import design_demand as D
-from wzq.plan import PlanError
+from wzq.engine import design_demand as D
+from wzq.engine.plan import PlanError
 
 MON = dt.date(2026, 5, 4)
 

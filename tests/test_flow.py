@@ -1,6 +1,6 @@
-"""Tests for wzq.flow: fundamental diagrams of the LWR model (SI, per lane).
+"""Tests for wzq.models.flow: fundamental diagrams of the LWR model (SI, per lane).
 
-Units inside wzq.flow: density veh/m/ln, flow veh/s/ln, speed m/s. Values quoted
+Units inside wzq.models.flow: density veh/m/ln, flow veh/s/ln, speed m/s. Values quoted
 in trade units are converted with wzq.units.
 
 Hand-calculated expected values are worked out in the comment beside each check
@@ -17,7 +17,7 @@ from hypothesis import assume, given
 from hypothesis import strategies as st
 
 from wzq import units
-from wzq.flow import (
+from wzq.models.flow import (
     DIAGRAMS,
     CappedGreenshields,
     FundamentalDiagram,

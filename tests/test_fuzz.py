@@ -10,7 +10,7 @@ merged cells, hidden rows, values in extra columns, rows inserted without the
 names following them, and so on.
 
 The property: reading gives either a plan that :func:`wzq.analyse` turns into
-a complete, finite result, or :class:`wzq.plan.PlanError` whose every problem
+a complete, finite result, or :class:`wzq.engine.plan.PlanError` whose every problem
 names a sheet (with its cell where there is one) and says what to do. No other
 exception, ever.
 
@@ -53,10 +53,10 @@ from openpyxl.worksheet.table import TableList
 
 import wzq
 from wzq import cli
-from wzq.plan import PlanError, Problem
-from wzq.workbook import layout as L
-from wzq.workbook.reader import book_from_bytes, read_plan, read_plan_from_book
-from wzq.workbook.safety import OLE_MAGIC
+from wzq.engine.plan import PlanError, Problem
+from wzq.io.workbook import layout as L
+from wzq.io.workbook.reader import book_from_bytes, read_plan, read_plan_from_book
+from wzq.io.workbook.safety import OLE_MAGIC
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 TEMPLATE = Path(__file__).resolve().parents[1] / "workbook_templates" / "closure_plan.xlsx"
@@ -873,7 +873,7 @@ def test_hostile_files_are_refused_by_every_command(hostile, command, tmp_path, 
 
 
 def test_hostile_files_in_a_bulk_run_are_listed_not_fatal(hostile, tmp_path) -> None:
-    from wzq.batch import run_batch
+    from wzq.io.batch.runner import run_batch
 
     folder = tmp_path / "plans"
     folder.mkdir()

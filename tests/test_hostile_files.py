@@ -35,8 +35,8 @@ from entry_points import AVAILABLE, run_jobs
 from fake_xlwings import open_book
 from workbook_helpers import fill_template, named_cell
 
-from wzq.planio import load_plan
-from wzq.workbook import layout, live
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout, live
 
 ROOT = Path(__file__).resolve().parents[1]
 KESTREL = ROOT / "examples" / "kestrel_ridge_weeknight.json"

@@ -27,12 +27,12 @@ from pypdf import PdfReader
 from workbook_helpers import fill_template
 
 import wzq
-from wzq.batch import run_batch
-from wzq.planio import load_plan, plan_to_dict
-from wzq.report import write_report
-from wzq.workbook import layout
-from wzq.workbook.run import run_workbook
-from wzq.workbook.writer import CELL_TEXT_LIMIT, put_text
+from wzq.io.batch.runner import run_batch
+from wzq.io.jsonplan import load_plan, plan_to_dict
+from wzq.io.report import write_report
+from wzq.io.workbook import layout
+from wzq.io.workbook.run import run_workbook
+from wzq.io.workbook.writer import CELL_TEXT_LIMIT, put_text
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"

@@ -22,10 +22,10 @@ import pytest
 from workbook_helpers import fill_template
 
 import wzq
-from wzq.planio import load_plan
-from wzq.workbook import layout
-from wzq.workbook import writer as w
-from wzq.workbook.run import run_workbook
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout
+from wzq.io.workbook import writer as w
+from wzq.io.workbook.run import run_workbook
 
 SOFFICE = shutil.which("soffice") or shutil.which("libreoffice")
 PDFTOTEXT = shutil.which("pdftotext")

@@ -40,14 +40,14 @@ from workbook_helpers import fill_template
 
 import wzq
 from wzq.cli import main
-from wzq.planio import load_plan, plan_to_dict
-from wzq.workbook import layout, live
-from wzq.workbook.link import ENTRY_MARKER, entry_path, suggest_name
-from wzq.workbook.live_charts import Ref, SeriesPlan, series_formula, source_group
-from wzq.workbook.live_sheets import excel_literal, rectangles
-from wzq.workbook.reader import read_plan, read_plan_from_book
-from wzq.workbook.run import run_workbook
-from wzq.workbook.writer import RESULTS_HEADER_ROW
+from wzq.io.jsonplan import load_plan, plan_to_dict
+from wzq.io.live.charts import Ref, SeriesPlan, series_formula, source_group
+from wzq.io.live.sheets import excel_literal, rectangles
+from wzq.io.workbook import layout, live
+from wzq.io.workbook.link import ENTRY_MARKER, entry_path, suggest_name
+from wzq.io.workbook.reader import read_plan, read_plan_from_book
+from wzq.io.workbook.run import run_workbook
+from wzq.io.workbook.writer import RESULTS_HEADER_ROW
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"
@@ -667,7 +667,7 @@ def test_new_xlsm_writes_the_entry_module_and_explains_it(tmp_path, capsys):
     assert sorted(tmp_path.iterdir()) == [py, path]
     text = py.read_text()
     assert text.splitlines()[0].startswith(ENTRY_MARKER)
-    assert text.splitlines()[1] == "from wzq.workbook.live import main  # noqa: F401"
+    assert text.splitlines()[1] == "from wzq.io.live.backend import main  # noqa: F401"
     assert len(text.splitlines()) == 2
     assert f"wrote {py}" in out and "wzq link" in out and "desktop Excel" in out
     assert "wzq run kestrel_nights.xlsm" in out
@@ -727,9 +727,9 @@ def test_link_after_a_rename(tmp_path, capsys):
     assert "already in place" in capsys.readouterr().out
     assert renamed.read_bytes() == workbook  # the workbook is only read
     # an old entry module that wzq wrote may be rewritten
-    py.write_text(ENTRY_MARKER + " (older wording)\nfrom wzq.workbook.live import main\n")
+    py.write_text(ENTRY_MARKER + " (older wording)\nfrom wzq.io.live.backend import main\n")
     assert main(["link", str(renamed)]) == 0
-    assert py.read_text().splitlines()[1].startswith("from wzq.workbook.live import main")
+    assert py.read_text().splitlines()[1].startswith("from wzq.io.live.backend import main")
 
 
 @pytest.mark.parametrize(

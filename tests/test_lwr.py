@@ -1,4 +1,4 @@
-"""Tests for wzq.lwr: the Godunov / cell-transmission solver of the LWR model.
+"""Tests for wzq.engine.lwr.simulation: the Godunov / cell-transmission solver of the LWR model.
 
 What is checked, and against what:
 
@@ -31,10 +31,10 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import wzq
-from wzq import lwr
 from wzq import units as u
-from wzq.flow import CappedGreenshields, Greenshields, Triangular
-from wzq.planio import load_plan
+from wzq.engine.lwr import simulation as lwr
+from wzq.io.jsonplan import load_plan
+from wzq.models.flow import CappedGreenshields, Greenshields, Triangular
 
 # Invented diagrams (SI, per lane): v_f 30 m/s, k_j 0.12 veh/m/ln.
 GS = Greenshields(free_speed=30.0, jam_density=0.12)  # capacity 0.9 veh/s at k_c 0.06
@@ -97,7 +97,7 @@ def test_riemann_fan_from_standing_jam_greenshields():
 
 
 def test_riemann_fan_with_plateau_speed_capped():
-    # Capped Greenshields, cap u' = 20, k_b = 0.04 (derivation in wzq.flow): the fan
+    # Capped Greenshields, cap u' = 20, k_b = 0.04 (derivation in wzq.models.flow): the fan
     # follows the parabola's inverse k_j/2 (1 - xi/v_f) from xi = -30 to
     # Q'(k_b) = 2u' - v_f = 10, holds the kink density 0.04 (the plateau) for
     # 10 < xi < 20, then jumps to 0 at the cap speed 20 (a contact: every light
@@ -177,7 +177,7 @@ class PlainTriangular(Triangular):
 def test_general_form_matches_the_closed_form():
     # Any diagram other than the three built-in types is solved with its own
     # demand()/supply(); on the same triangle it must give the closed form's
-    # answer (wzq.lwr scheme docstrings) to rounding.
+    # answer (wzq.engine.lwr.simulation scheme docstrings) to rounding.
     other = PlainTriangular(free_speed=30.0, capacity=0.6, jam_density=0.12)
     rng = np.random.default_rng(3)
     k0 = rng.uniform(0.0, 0.12, 60)
@@ -452,7 +452,7 @@ def test_back_of_queue_keeps_growing_after_the_closure_ends(larkspur_sim):
     back_speed = (q_a - q_q) / (k_q - k_a)
     l_t = back_speed * 1800.0
     l_max = l_t * w / (w - back_speed)
-    # The engine's wave-following length (wzq.newell) is exact; its single-state
+    # The engine's wave-following length (wzq.models.newell) is exact; its single-state
     # option stops at L_T, the length at the end of the closure.
     assert sim.engine_method == "newell"
     assert result.summary.max_queue_length_m == pytest.approx(l_max, rel=1e-9)

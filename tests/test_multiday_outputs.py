@@ -24,12 +24,12 @@ from matplotlib.backends.backend_agg import FigureCanvasAgg
 from pypdf import PdfReader
 
 import wzq
-from wzq import report_charts as rc
-from wzq.lwr import simulate
-from wzq.planio import load_plan
-from wzq.report import MARGIN_BOTTOM, MARGIN_TOP, build_report
-from wzq.spacetime import space_time_figure
-from wzq.workbook.run import write_filled_workbook
+from wzq.engine.lwr.simulation import simulate
+from wzq.io.jsonplan import load_plan
+from wzq.io.report import MARGIN_BOTTOM, MARGIN_TOP, build_report
+from wzq.io.workbook.run import write_filled_workbook
+from wzq.present import figures as rc
+from wzq.present.spacetime import space_time_figure
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 WEEK = EXAMPLES / "ashgrove_bypass_week.json"

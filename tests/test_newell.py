@@ -1,4 +1,4 @@
-"""Back of queue by Newell's simplified kinematic-wave method (wzq.newell).
+"""Back of queue by Newell's simplified kinematic-wave method (wzq.models.newell).
 
 Sources of the expected values:
 
@@ -31,10 +31,10 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from wzq import newell
-from wzq.flow import Greenshields, Triangular
-from wzq.queueing import solve
-from wzq.shockwave import queue_length
+from wzq.models import newell
+from wzq.models.flow import Greenshields, Triangular
+from wzq.models.queueing import solve
+from wzq.models.shockwave import queue_length
 
 N_LANES = 2
 V_F = 30.0
@@ -88,7 +88,7 @@ def test_single_state_is_the_stored_density_relation() -> None:
     q = 0.3 * at  # point queue (D/D/1)
     assert got == pytest.approx(q / (0.14 - 0.03), rel=REL)
     assert got == pytest.approx(30.0 / 11.0 * at, rel=REL)
-    # same as the single-state relation of wzq.shockwave (flows in veh/h, total)
+    # same as the single-state relation of wzq.models.shockwave (flows in veh/h, total)
     single = queue_length(q, DIAGRAM, np.full(3, 3240.0), np.full(3, 2160.0), N_LANES)
     assert got == pytest.approx(single, rel=REL)
 
@@ -414,7 +414,7 @@ def _long_closure_plan():
     # above its discharge rate (about 1515 veh/h) until the closure ends.
     import datetime as dt
 
-    from wzq.plan import Closure, Demand, Plan, Site
+    from wzq.engine.plan import Closure, Demand, Plan, Site
     from wzq.units import MPH
 
     day = dt.datetime(2027, 5, 8)
@@ -436,7 +436,7 @@ def test_from_run_on_an_engine_plan() -> None:
     # until the recovery wave from the front meets it (shockwave analysis, textbooks
     # above), so the longest queue comes after the closure and is longer than any
     # single-state length at the interval boundaries.
-    from wzq.analysis import evaluate
+    from wzq.engine.evaluate import evaluate
 
     run = evaluate(_long_closure_plan())
     assert run.queue.queue[14] > 0  # queued vehicles at 14:00 (setting, not a result)
@@ -484,7 +484,7 @@ def test_wrong_inputs_are_refused() -> None:
 
 
 def test_agrees_with_the_godunov_lwr_solver() -> None:
-    # wzq.lwr solves the same kinematic-wave problem numerically (Godunov / cell
+    # wzq.engine.lwr.simulation solves the same kinematic-wave problem numerically (Godunov / cell
     # transmission scheme, Daganzo 1994; Lebacque 1996 -- from memory), per lane, on a
     # 24 km approach starting in the arriving state (0.45 veh/s/ln, k 0.015) with the
     # bottleneck of test_closure_then_capacity_restored (0.3 then 0.54 veh/s/ln, no
@@ -496,7 +496,7 @@ def test_agrees_with_the_godunov_lwr_solver() -> None:
     # schemes, LeVeque 1992 ch. 11 -- from memory); after its 3000 s trip to the back the
     # smear is about sqrt(2 D 3000 s), which bounds the difference near the peak, and
     # it shrinks as the cells do.
-    from wzq import lwr
+    from wzq.engine.lwr import simulation as lwr
 
     t, a = hand_curve([0, 3600, 9600, 14400], [0, 3240, 8640, 12960])
     _, d = hand_curve([0, 3600, 9600, 14400], [0, 2160, 8640, 12960])
@@ -542,7 +542,7 @@ def _full_construction(run, lanes=N_LANES):
 @pytest.mark.parametrize("seed", range(40))
 def test_busy_periods_alone_give_the_same_trajectory(seed: int) -> None:
     # The trajectory depends only on the knots of the busy periods when every flow is
-    # below the approach capacity (module notes of wzq.newell): computed from those
+    # below the approach capacity (module notes of wzq.models.newell): computed from those
     # knots it must equal the construction over every knot, vertex for vertex. Random
     # invented days: 24-96 intervals, quiet stretches between closures, capacity drop
     # on or off (no drop means the open road discharges at n c: the full path).

@@ -33,14 +33,14 @@ from openpyxl.worksheet.datavalidation import DataValidation
 from workbook_helpers import fill_template, named_cell
 
 from wzq import cli
-from wzq.plan import PlanError
-from wzq.planio import load_plan
-from wzq.workbook import layout
-from wzq.workbook.reader import read_plan
-from wzq.workbook.run import run_to, run_workbook
-from wzq.workbook.safety import inspect_file
-from wzq.workbook.template import vba_project_bytes
-from wzq.workbook.writer import MARKER_NAME, input_fingerprint
+from wzq.engine.plan import PlanError
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout
+from wzq.io.workbook.reader import read_plan
+from wzq.io.workbook.run import run_to, run_workbook
+from wzq.io.workbook.safety import inspect_file
+from wzq.io.workbook.template import vba_project_bytes
+from wzq.io.workbook.writer import MARKER_NAME, input_fingerprint
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"

@@ -39,13 +39,13 @@ from workbook_helpers import (
 import wzq
 from wzq import cli
 from wzq import units as u
-from wzq.batch import run_batch
-from wzq.plan import Closure, Demand, Plan, PlanError, Site
-from wzq.planio import load_plan, plan_from_dict
-from wzq.report import build_report
-from wzq.workbook import layout as L
-from wzq.workbook.reader import read_plan
-from wzq.workbook.run import run_to
+from wzq.engine.plan import Closure, Demand, Plan, PlanError, Site
+from wzq.io.batch.runner import run_batch
+from wzq.io.jsonplan import load_plan, plan_from_dict
+from wzq.io.report import build_report
+from wzq.io.workbook import layout as L
+from wzq.io.workbook.reader import read_plan
+from wzq.io.workbook.run import run_to
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"
@@ -81,7 +81,7 @@ def check_output(args: list[str], capsys: pytest.CaptureFixture[str]) -> tuple[i
     return code, out.out, out.err
 
 
-def same_numbers(a: wzq.analysis.Result, b: wzq.analysis.Result) -> None:
+def same_numbers(a: wzq.engine.evaluate.Result, b: wzq.engine.evaluate.Result) -> None:
     """Two results agree hour by hour (queue, length, delay, capacity) and in the summary."""
     cols = ["demand_veh_h", "capacity_veh_h", "queue_max_veh", "queue_length_max_m", "delay_veh_h"]
     np.testing.assert_allclose(a.hourly[cols].to_numpy(), b.hourly[cols].to_numpy(), rtol=1e-9)
@@ -451,7 +451,7 @@ def test_case_05_formula_on_an_output_sheet_is_refused_naming_the_cell(
 def test_case_05_what_a_formula_depends_on_is_followed_through_cells_names_and_text() -> None:
     from openpyxl.workbook.defined_name import DefinedName
 
-    from wzq.workbook.formula_values import Precedents
+    from wzq.io.workbook.formula_values import Precedents
 
     wb = openpyxl.Workbook()
     site = wb.active
@@ -582,7 +582,7 @@ def test_case_06_the_meaning_is_stated_on_the_sheet_in_json_readme_and_report(
     assert "queue discharge rate" in wb[L.CLOSURES]["A4"].value  # the Closures sheet says
     assert "both" in wb[L.CLOSURES]["A4"].value
     # JSON: the key, round trip
-    from wzq.planio import plan_to_dict
+    from wzq.io.jsonplan import plan_to_dict
 
     data = plan_to_dict(plan)
     assert data["site"]["capacity_override_is"] == "discharge"
@@ -593,7 +593,7 @@ def test_case_06_the_meaning_is_stated_on_the_sheet_in_json_readme_and_report(
     assert "is its queue discharge rate; its pre-breakdown capacity is 100 QDR / (100 − α)" in text
 
 
-def report_text(result: wzq.analysis.Result) -> str:
+def report_text(result: wzq.engine.evaluate.Result) -> str:
     import io
 
     from pypdf import PdfReader
@@ -649,7 +649,7 @@ def test_case_08_blank_cost_cells_mean_the_published_defaults_everywhere(
     note = named_cell(wb, "cost_car_value").offset(0, 2).value
     assert "blank: published defaults" in note and "skip" not in note
     result = wzq.analyse(read_plan(path))
-    # 2017 TTI memo values (wzq.costs): cars 28.69, trucks 36.28 per veh-h, 8 % trucks
+    # 2017 TTI memo values (wzq.engine.costs): cars 28.69, trucks 36.28 per veh-h, 8 % trucks
     value = 0.92 * 28.69 + 0.08 * 36.28
     assert result.summary.total_cost == pytest.approx(result.summary.total_delay_veh_h * value)
     code, out, _ = check_output(["show", str(path)], capsys)

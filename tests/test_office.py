@@ -26,14 +26,14 @@ from workbook_helpers import fill_template, table_cell
 
 import wzq
 from wzq import cli
-from wzq.office import build, commands, runner
-from wzq.plan import PlanError
-from wzq.planio import load_plan
-from wzq.tables import summary_lines
-from wzq.workbook import layout
-from wzq.workbook.reader import read_plan
-from wzq.workbook.run import run_to
-from wzq.workbook.save import check_writable, lock_files, own_office_lock
+from wzq.engine.plan import PlanError
+from wzq.io.jsonplan import load_plan
+from wzq.io.office import build, commands, runner
+from wzq.io.workbook import layout
+from wzq.io.workbook.reader import read_plan
+from wzq.io.workbook.run import run_to
+from wzq.io.workbook.save import check_writable, lock_files, own_office_lock
+from wzq.present.tables import summary_lines
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = ROOT / "examples"
@@ -189,7 +189,7 @@ def test_runner_puts_an_unexpected_error_in_the_log_not_in_the_answer(
     def broken(*args, **kwargs):
         raise RuntimeError("disk on fire")
 
-    monkeypatch.setattr("wzq.workbook.run.run_to", broken)
+    monkeypatch.setattr("wzq.io.workbook.run.run_to", broken)
     log = tmp_path / "calc.log"
     assert runner.main([str(plan_path), "--log", str(log)]) == cli.EXIT_FAILURE
     outcome = json.loads(capsys.readouterr().out.strip()[len(runner.MARK) :])
@@ -208,7 +208,7 @@ def test_runner_puts_an_unexpected_error_in_the_log_not_in_the_answer(
 def _me() -> tuple[str, str]:
     import socket
 
-    from wzq.workbook.save import _login
+    from wzq.io.workbook.save import _login
 
     return _login(), socket.gethostname()
 

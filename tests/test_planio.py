@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 from wzq import PlanError, analyse
-from wzq.planio import load_plan, parse_datetime, plan_from_dict, plan_to_dict, save_plan
+from wzq.io.jsonplan import load_plan, parse_datetime, plan_from_dict, plan_to_dict, save_plan
 from wzq.units import FOOT, KMH, MILE, MPH
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"

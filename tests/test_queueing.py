@@ -16,7 +16,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from wzq.queueing import queue_at_boundaries, solve, waits
+from wzq.models.queueing import queue_at_boundaries, solve, waits
 
 H = 3600.0
 

@@ -34,11 +34,11 @@ from workbook_helpers import (
 
 from wzq import units as u
 from wzq.cli import main
-from wzq.plan import Closure, Demand, Plan, PlanError, Problem
-from wzq.planio import load_plan
-from wzq.workbook import layout as L
-from wzq.workbook.reader import read_plan, read_plan_from_book
-from wzq.workbook.writer import MARKER_NAME
+from wzq.engine.plan import Closure, Demand, Plan, PlanError, Problem
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout as L
+from wzq.io.workbook.reader import read_plan, read_plan_from_book
+from wzq.io.workbook.writer import MARKER_NAME
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"
@@ -716,7 +716,7 @@ def test_plan_level_problems_map_back_to_cells(
     kestrel_book: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     """The plan's own validation (keys like ``closures[1]``) is reported at sheet cells."""
-    import wzq.plan
+    import wzq.engine.plan
 
     fake = [
         Problem("closures[1].barrier", "barrier problem"),
@@ -725,7 +725,7 @@ def test_plan_level_problems_map_back_to_cells(
         Problem("thresholds.max_queue_length", "limit problem"),
         Problem("options.something_new", "other problem"),
     ]
-    monkeypatch.setattr(wzq.plan, "validate", lambda plan: list(fake))
+    monkeypatch.setattr(wzq.engine.plan, "validate", lambda plan: list(fake))
     with pytest.raises(PlanError) as e:
         read_plan(kestrel_book)
     assert [(p.where, p.message) for p in e.value.problems] == [

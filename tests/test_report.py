@@ -1,7 +1,7 @@
 """The printed permit report: text, pages, charts and the ``wzq report`` command.
 
 The numbers printed in the hourly table are checked against
-``wzq.tables.hourly_display`` (the shared display rounding) by reading the PDF
+``wzq.present.tables.hourly_display`` (the shared display rounding) by reading the PDF
 back with pypdf. The deterministic-queue checks use the closed-form D/D/1
 results of the traffic-engineering textbooks (e.g. Mannering & Washburn,
 *Principles of Highway Engineering and Traffic Analysis*, chapter on queueing
@@ -29,11 +29,11 @@ import pytest
 from pypdf import PdfReader
 
 import wzq
-from wzq import report_charts as rc
 from wzq.cli import main
-from wzq.planio import load_plan, plan_from_dict
-from wzq.report import build_report, svg_available, write_report
-from wzq.tables import hourly_columns, hourly_display
+from wzq.io.jsonplan import load_plan, plan_from_dict
+from wzq.io.report import build_report, svg_available, write_report
+from wzq.present import figures as rc
+from wzq.present.tables import hourly_columns, hourly_display
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLE = ROOT / "examples" / "kestrel_ridge_weeknight.json"
@@ -239,7 +239,7 @@ def test_open_road_metric_report(open_metric) -> None:
     assert "OVER" not in table and "No agency limits were entered" in flat(table)
     assert len(table_rows(texts, 10)) == 12  # 48 quarter-hours = 12 hours
     assert "no queue forms" in flat(" ".join(texts)).lower()
-    # no costs entered: priced at the published defaults (wzq.costs.DEFAULT_COSTS);
+    # no costs entered: priced at the published defaults (wzq.engine.costs.DEFAULT_COSTS);
     # an open road with no queue and no closure costs nothing
     assert (
         "Road-user delay cost 0 USD (2017 prices; published defaults, as no values of time "
@@ -318,7 +318,7 @@ def test_title_block_summary_and_sign_off(one_day) -> None:
         f"Caution: {wzq.CAUTION}",
     ):
         assert value in first, value
-    for label, value in wzq.tables.summary_lines(result):
+    for label, value in wzq.present.tables.summary_lines(result):
         assert f"{label}\n{value}" in first or flat(f"{label} {value}") in flat(first), label
 
 
@@ -527,7 +527,7 @@ def test_textbook_plan_report_numbers() -> None:
     assert ends == [1000, 2000, 1000, 0, 0, 0]
     assert "4,000.0 veh-h" in texts[0]
     assert "HCM 2000, Chapter 22" in flat(texts[-1])
-    # no costs entered: priced at the published defaults (wzq.costs.DEFAULT_COSTS)
+    # no costs entered: priced at the published defaults (wzq.engine.costs.DEFAULT_COSTS)
     assert "FHWA-HOP-12-005" in flat(texts[-1])
     assert "published defaults" in flat(texts[-1])
 
@@ -630,8 +630,8 @@ def test_cli_refuses_to_overwrite_plan_or_non_pdf(tmp_path, capsys, target) -> N
 
 
 def test_allowable_closure_hours_section_matches_the_windows_search() -> None:
-    # the report's windows page shows wzq.windows' own answer for this plan
-    from wzq.windows import longest_windows, plan_windows
+    # the report's windows page shows wzq.engine.windows' own answer for this plan
+    from wzq.engine.windows import longest_windows, plan_windows
 
     plan = load_plan(EXAMPLE)
     result = wzq.analyse(plan)

@@ -1,4 +1,4 @@
-"""Tests for wzq.risk: scenarios solved together, exactly, and the risk estimates.
+"""Tests for wzq.engine.risk: scenarios solved together, exactly, and the risk estimates.
 
 1. Each scenario's result equals ``wzq.analyse`` of that scenario's plan (the
    vectorised path against the plain one, on random plans).
@@ -33,11 +33,11 @@ from hypothesis import strategies as st
 from scipy import stats
 
 import wzq
-from wzq import risk as R
 from wzq.cli import main
-from wzq.design_demand import CountHistory, DemandHistory, DemandRule
-from wzq.plan import Closure, Demand, Options, Plan, PlanError, RiskOptions, Site, Thresholds
-from wzq.planio import load_plan, plan_from_dict, plan_to_dict
+from wzq.engine import risk as R
+from wzq.engine.design_demand import CountHistory, DemandHistory, DemandRule
+from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, RiskOptions, Site, Thresholds
+from wzq.io.jsonplan import load_plan, plan_from_dict, plan_to_dict
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 DEMO = EXAMPLES / "larkspur_vale_week.json"
@@ -410,7 +410,7 @@ def test_bad_options_and_scenarios_are_located() -> None:
 
 def test_plans_the_scenarios_cannot_follow_exactly_are_refused_with_their_keys() -> None:
     # ramps, a landmark limit and a set congested branch change how analyse solves the
-    # plan (wzq.approach); the scenario engine does not follow them, so it refuses
+    # plan (wzq.engine.approach); the scenario engine does not follow them, so it refuses
     plan, _ = hand_weeks()
     ramp = wzq.Landmark("Elm Road on-ramp", 800.0, "entrance-ramp", ramp_share=0.1)
     sign = wzq.Landmark("end of signing", 1500.0, "warning-signs-end")

@@ -23,14 +23,14 @@ from workbook_helpers import fill_template, named_cell, set_named
 
 import wzq
 from wzq import cli
-from wzq.planio import load_plan
-from wzq.tables import hourly_display
-from wzq.workbook import layout
-from wzq.workbook import writer as w
-from wzq.workbook.reader import read_plan
-from wzq.workbook.run import run_workbook, write_demo_workbook, write_filled_workbook
-from wzq.workbook.save import lock_file
-from wzq.workbook.template import vba_project_bytes
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout
+from wzq.io.workbook import writer as w
+from wzq.io.workbook.reader import read_plan
+from wzq.io.workbook.run import run_workbook, write_demo_workbook, write_filled_workbook
+from wzq.io.workbook.save import lock_file
+from wzq.io.workbook.template import vba_project_bytes
+from wzq.present.tables import hourly_display
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 FENWICK = EXAMPLES / "fenwick_downs_weekend.json"

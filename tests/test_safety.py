@@ -11,8 +11,8 @@ from pathlib import Path
 import openpyxl
 import pytest
 
-from wzq.plan import PlanError
-from wzq.workbook.safety import OLE_MAGIC, Limits, inspect_file
+from wzq.engine.plan import PlanError
+from wzq.io.workbook.safety import OLE_MAGIC, Limits, inspect_file
 
 LAUGHS = (
     b'<?xml version="1.0"?><!DOCTYPE lolz [<!ENTITY lol "lol">'

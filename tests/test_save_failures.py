@@ -32,11 +32,11 @@ import pytest
 from workbook_helpers import fill_template, named_cell
 
 from wzq import cli
-from wzq.batch import Task, analyse_file
-from wzq.planio import load_plan
-from wzq.workbook import layout
-from wzq.workbook import run as run_module
-from wzq.workbook import save as save_module
+from wzq.io.batch.runner import Task, analyse_file
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout
+from wzq.io.workbook import run as run_module
+from wzq.io.workbook import save as save_module
 
 ROOT = Path(__file__).resolve().parents[1]
 KESTREL = ROOT / "examples" / "kestrel_ridge_weeknight.json"
@@ -133,7 +133,7 @@ def test_an_unchanged_file_is_still_written_in_place(original, tmp_path) -> None
 
 _FULL_DISK = """
 import errno, sys
-from wzq.workbook import save
+from wzq.io.workbook import save
 
 class Full:
     '''The temporary file on a disk that fills up after {room} bytes.'''

@@ -41,8 +41,8 @@ def _book(path: Path) -> Path:
 
 
 def test_saved_results_come_back_typed_as_openpyxl_types_a_typed_value(tmp_path) -> None:
-    from wzq.workbook.formula_values import saved_results
-    from wzq.workbook.saved_values import SharedStrings, typed
+    from wzq.io.workbook.formula_values import saved_results
+    from wzq.io.workbook.saved_values import SharedStrings, typed
 
     data = _book(tmp_path / "formulas.xlsx").read_bytes()
     saved = saved_results(data)
@@ -66,8 +66,8 @@ def test_saved_results_come_back_typed_as_openpyxl_types_a_typed_value(tmp_path)
 
 
 def test_a_result_kept_in_the_shared_strings_is_looked_up(tmp_path) -> None:
-    from wzq.workbook.formula_values import Saved
-    from wzq.workbook.saved_values import SharedStrings, typed
+    from wzq.io.workbook.formula_values import Saved
+    from wzq.io.workbook.saved_values import SharedStrings, typed
 
     path = tmp_path / "strings.xlsx"
     wb = xlsxwriter.Workbook(str(path))
@@ -98,7 +98,7 @@ def test_case2_a_value_at_the_last_cell_costs_nothing_to_read_past(tmp_path) -> 
         f"""
         import json
         from pathlib import Path
-        from wzq.workbook.reader import _BookReader, book_from_bytes
+        from wzq.io.workbook.reader import _BookReader, book_from_bytes
         path = Path({str(path)!r})
         data = path.read_bytes()
         book = book_from_bytes(data, path)

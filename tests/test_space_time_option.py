@@ -11,8 +11,8 @@ from pypdf import PdfReader
 
 import wzq
 from wzq.cli import main
-from wzq.planio import load_plan, plan_from_dict, plan_to_dict
-from wzq.report import build_report
+from wzq.io.jsonplan import load_plan, plan_from_dict, plan_to_dict
+from wzq.io.report import build_report
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 

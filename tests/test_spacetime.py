@@ -1,4 +1,5 @@
-"""Tests for wzq.spacetime (the space-time picture) and ``wzq spacetime`` (wzq.lwr_cli).
+"""Tests for wzq.present.spacetime (the space-time picture) and ``wzq spacetime``
+(wzq.cli.spacetime).
 
 The picture is checked by what it shows: the pixels inside the simulated
 queue are dark and those in free flow light, the traced lines are the
@@ -18,10 +19,11 @@ import numpy as np
 import pytest
 
 import wzq
-from wzq import cli, lwr
+from wzq import cli
 from wzq import units as u
-from wzq.planio import plan_to_dict
-from wzq.spacetime import DPI, FIGSIZE, space_time_figure, space_time_png
+from wzq.engine.lwr import simulation as lwr
+from wzq.io.jsonplan import plan_to_dict
+from wzq.present.spacetime import DPI, FIGSIZE, space_time_figure, space_time_png
 
 START = dt.datetime(2031, 3, 4, 0, 0)
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"

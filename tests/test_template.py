@@ -13,9 +13,9 @@ from openpyxl import load_workbook
 
 import wzq
 from wzq.cli import main
-from wzq.workbook import layout as L
-from wzq.workbook.template import build_template, template_folder
-from wzq.workbook.template import main as template_main
+from wzq.io.workbook import layout as L
+from wzq.io.workbook.template import build_template, template_folder
+from wzq.io.workbook.template import main as template_main
 
 COMMITTED = Path(__file__).resolve().parent.parent / "workbook_templates"
 
@@ -194,14 +194,14 @@ def test_rebuild_gives_the_same_parts(built: dict[bool, Path], tmp_path: Path) -
 @pytest.mark.parametrize("macro", [False, True])
 def test_committed_templates_match_a_fresh_build(built: dict[bool, Path], macro: bool) -> None:
     committed = COMMITTED / L.TEMPLATE_FILES[macro]
-    assert committed.exists(), "regenerate with: python -m wzq.workbook.template"
+    assert committed.exists(), "regenerate with: python -m wzq.io.workbook.template"
     old, new = parts(committed), parts(built[macro])
     assert set(old) == set(new)
     for name in new:
         if name.endswith(".xml") and (
             name.startswith(("xl/worksheets/", "xl/tables/")) or name in WORKBOOK_PARTS
         ):
-            assert old[name] == new[name], f"{name} differs; python -m wzq.workbook.template"
+            assert old[name] == new[name], f"{name} differs; python -m wzq.io.workbook.template"
 
 
 WORKBOOK_PARTS = ("xl/workbook.xml", "xl/sharedStrings.xml")

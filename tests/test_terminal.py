@@ -11,7 +11,7 @@ from pathlib import Path
 
 import pytest
 
-from wzq.terminal import TermColumn, fit, wrap_items
+from wzq.present.terminal import TermColumn, fit, wrap_items
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 WEEK = EXAMPLES / "ashgrove_bypass_week.json"

@@ -16,7 +16,7 @@ import openpyxl
 from workbook_helpers import fill_template, named_cell
 
 from wzq import cli
-from wzq.planio import load_plan
+from wzq.io.jsonplan import load_plan
 
 ROOT = Path(__file__).resolve().parents[1]
 KESTREL = ROOT / "examples" / "kestrel_ridge_weeknight.json"
@@ -30,7 +30,7 @@ def _raw_controls(text: str) -> list[str]:
 
 
 def test_printable_escapes_every_control_character() -> None:
-    from wzq.printable import SafeStream, printable
+    from wzq.present.printable import SafeStream, printable
 
     assert printable(f"plan{RETITLE}.xlsx") == "plan\\x1b]0;all plans approved\\x07.xlsx"
     assert printable("a\nb\tc\rd") == "a\\x0ab\\x09c\\x0dd"  # one value stays on one line

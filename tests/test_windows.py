@@ -1,4 +1,4 @@
-"""Tests for wzq.windows (allowable closure windows) and the ``wzq windows`` command.
+"""Tests for wzq.engine.windows (allowable closure windows) and the ``wzq windows`` command.
 
 Hand-checkable profiles whose windows are known in closed form, then generated
 profiles on which every reported window is checked with ``wzq.analyse()``.
@@ -27,11 +27,11 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import wzq
-from wzq import windows as W
 from wzq.cli import demo_plan, main
-from wzq.plan import Closure, Demand, Options, Plan, PlanError, Site, Thresholds
-from wzq.planio import plan_to_dict
-from wzq.workbook.windows_sheet import SHEET, write_windows_sheet
+from wzq.engine import windows as W
+from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, Site, Thresholds
+from wzq.io.jsonplan import plan_to_dict
+from wzq.io.workbook.windows_sheet import SHEET, write_windows_sheet
 
 START = dt.datetime(2027, 5, 3)  # a Monday (invented dates)
 V_F = 25.0  # m/s
@@ -386,7 +386,7 @@ def _passes(site, demand, limits, options, config, s: int, e: int) -> bool:
 
 def test_no_drop_discharge_at_approach_capacity_window_agrees_with_analyse() -> None:
     # Found by the property test below: no capacity drop, so the open road discharges
-    # at exactly the approach's capacity n c (the case wzq.newell's notes single out),
+    # at exactly the approach's capacity n c (the case wzq.models.newell's notes single out),
     # and the search's differenced curves put that flow a rounding error below n c.
     # Every window it reports must still pass analyse and be maximal.
     site = Site(lanes=2, speed_limit=55 * 0.44704, work_zone_speed_limit=45 * 0.44704,

@@ -25,11 +25,11 @@ from openpyxl.comments import Comment
 from openpyxl.styles import Font, PatternFill
 
 import wzq
-from wzq.planio import load_plan, plan_to_dict
-from wzq.tables import hourly_display
-from wzq.workbook import charts, layout
-from wzq.workbook import writer as w
-from wzq.workbook.save import check_writable, lock_file, save_atomic
+from wzq.io.jsonplan import load_plan, plan_to_dict
+from wzq.io.workbook import charts, layout
+from wzq.io.workbook import writer as w
+from wzq.io.workbook.save import check_writable, lock_file, save_atomic
+from wzq.present.tables import hourly_display
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 FENWICK = EXAMPLES / "fenwick_downs_weekend.json"

@@ -22,9 +22,9 @@ from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.worksheet.table import Table
 
 from wzq import units as u
-from wzq.plan import Closure, Plan
-from wzq.workbook import layout as L
-from wzq.workbook.template import build_template
+from wzq.engine.plan import Closure, Plan
+from wzq.io.workbook import layout as L
+from wzq.io.workbook.template import build_template
 
 
 def named_cell(wb: Workbook, name: str) -> Cell:

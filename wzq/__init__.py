@@ -8,8 +8,8 @@ Results support, and never replace, the judgement of a qualified engineer and
 the local agency's rules.
 """
 
-from wzq.analysis import Result, analyse
-from wzq.plan import (
+from wzq.engine.evaluate import Result, analyse
+from wzq.engine.plan import (
     Approach,
     Closure,
     Costs,

@@ -28,9 +28,9 @@ from pathlib import Path
 import numpy as np
 
 import wzq
-from wzq import lwr
-from wzq.planio import load_plan
-from wzq.windows import plan_windows
+from wzq.engine.lwr import simulation as lwr
+from wzq.engine.windows import plan_windows
+from wzq.io.jsonplan import load_plan
 
 ROOT = Path(__file__).resolve().parents[2]
 OUT = Path(__file__).with_name("no_approach_baseline.json")

@@ -1,11 +1,5 @@
-"""The Recalculate plan command in LibreOffice Calc.
+"""Compatibility only: LibreOffice extensions installed before the layered layout run
+``python -m wzq.office.runner``; :mod:`wzq.office.runner` keeps that working. The
+extension's sources are in :mod:`wzq.io.office`, the runner is :mod:`wzq.cli.calc_runner`."""
 
-* ``extension/`` — the sources of the LibreOffice extension: its description,
-  manifest, menu and toolbar (``Addons.xcu``), settings (``Settings.xcs``) and
-  the macro ``python/wzq_calc.py``, which runs in LibreOffice's own Python;
-* :mod:`wzq.office.build` — builds the ``.oxt`` from them (icons by
-  :mod:`wzq.office.icons`);
-* :mod:`wzq.office.runner` — what the macro runs in the user's Python: the
-  file backend of ``wzq run``;
-* :mod:`wzq.office.commands` — ``wzq calc install|remove|build``.
-"""
+__all__: list[str] = []

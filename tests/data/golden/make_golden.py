@@ -56,12 +56,12 @@ sys.path.insert(0, str(ROOT / "tests"))  # the independent helper that types a p
 
 import wzq  # noqa: E402
 from wzq.cli import main as cli_main  # noqa: E402
-from wzq.planio import load_plan  # noqa: E402
-from wzq.report import write_report  # noqa: E402
-from wzq.risk import assess  # noqa: E402
-from wzq.windows import longest_windows, plan_windows, too_long, windows_table  # noqa: E402
-from wzq.workbook.reader import read_plan  # noqa: E402
-from wzq.workbook.run import run_workbook  # noqa: E402
+from wzq.engine.risk import assess  # noqa: E402
+from wzq.engine.windows import longest_windows, plan_windows, too_long, windows_table  # noqa: E402
+from wzq.io.jsonplan import load_plan  # noqa: E402
+from wzq.io.report import write_report  # noqa: E402
+from wzq.io.workbook.reader import read_plan  # noqa: E402
+from wzq.io.workbook.run import run_workbook  # noqa: E402
 
 JSON_PLANS = (
     "kestrel_ridge_weeknight",
@@ -227,7 +227,7 @@ def workbook_outputs(path: Path, tmp: Path) -> dict:
     """Every cell of every output sheet and each chart's title, after ``wzq run``."""
     from openpyxl import load_workbook
 
-    from wzq.workbook.writer import written_sheets
+    from wzq.io.workbook.writer import written_sheets
 
     run_workbook(path, run_time=RUN_TIME)
     book = load_workbook(path)

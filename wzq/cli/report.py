@@ -1,0 +1,120 @@
+"""The ``wzq report`` sub-command: the printable PDF report of one plan.
+
+Importing this module adds the command to :data:`wzq.cli.EXTRA_COMMANDS`.
+"""
+
+from __future__ import annotations
+
+import argparse
+import dataclasses
+from pathlib import Path
+
+import wzq
+from wzq.cli import EXIT_OK, EXTRA_COMMANDS, load_any
+from wzq.engine.plan import PlanError, Problem
+from wzq.io.report import PAPERS, write_report
+
+DESCRIPTION = """\
+Analyse a plan (a .json plan or a .xlsx/.xlsm workbook) and write the printable
+report: title block with prepared-by and checked-by lines, the inputs with
+units, the hour-by-hour queue and delay table with each hour checked against
+the agency's limits, charts, and a note on the method and its sources. Pages
+are landscape. The plan file is only read, never changed.
+"""
+
+
+def default_output(source: Path) -> Path:
+    """``plan.json`` -> ``plan_report.pdf`` in the same folder."""
+    return source.with_name(f"{source.stem}_report.pdf")
+
+
+def output_path(source: Path, output: str | None) -> Path:
+    """Where the report goes; refuses to write over the plan itself."""
+    if output is None:
+        out = default_output(source)
+    else:
+        out = Path(output)
+        if out.is_dir():
+            out = out / default_output(source).name
+    if out.exists() and out.resolve() == source.resolve():
+        raise PlanError(
+            [Problem("-o", f"{out} is the plan itself; choose another name for the report")]
+        )
+    if out.suffix.lower() != ".pdf":
+        raise PlanError(
+            [Problem("-o", f"'{out.name}' is not a .pdf name; end the report's name in .pdf")]
+        )
+    return out
+
+
+def cmd_report(args: argparse.Namespace) -> int:
+    source = Path(args.path)
+    plan = load_any(source)
+    if args.space_time is not None:
+        plan = dataclasses.replace(
+            plan, options=dataclasses.replace(plan.options, space_time=args.space_time)
+        )
+    if args.windows is not None:
+        plan = dataclasses.replace(
+            plan, options=dataclasses.replace(plan.options, closure_windows=args.windows)
+        )
+    out = output_path(source, args.output)
+    result = wzq.analyse(plan)
+    try:
+        write_report(result, out, paper=args.paper, source=source.name)
+    except OSError as e:
+        raise PlanError(
+            [
+                Problem(
+                    str(out),
+                    f"cannot write the report ({e.strerror or e}); check the folder and "
+                    "close the file if another program has it open",
+                )
+            ]
+        ) from None
+    print(f"wrote {out}")
+    return EXIT_OK
+
+
+def register(sub: argparse._SubParsersAction) -> None:
+    """Add ``wzq report`` to the command line."""
+    p = sub.add_parser(
+        "report",
+        help="write the printable PDF report (hourly table, charts, inputs, sign-off)",
+        description=DESCRIPTION,
+        epilog=wzq.CAUTION,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    p.add_argument("path", help="a .json plan or a .xlsx/.xlsm workbook")
+    p.add_argument(
+        "-o",
+        "--output",
+        metavar="REPORT.pdf",
+        help="where to write the report (default: PLAN_report.pdf beside the plan; "
+        "a folder puts it there)",
+    )
+    p.add_argument(
+        "--paper",
+        choices=tuple(PAPERS),
+        default="letter",
+        help="paper size, used in landscape (default: letter)",
+    )
+    p.add_argument(
+        "--space-time",
+        action=argparse.BooleanOptionalAction,
+        default=None,
+        help="add (or leave out) the space-time check, an LWR simulation of the approach "
+        "(default: as the plan says)",
+    )
+    p.add_argument(
+        "--windows",
+        action=argparse.BooleanOptionalAction,
+        default=None,
+        help="add (or leave out) the page of allowable closure hours "
+        "(default: as the plan says: 'Closure windows sheet' on the Limits sheet)",
+    )
+    p.set_defaults(func=cmd_report)
+
+
+if register not in EXTRA_COMMANDS:
+    EXTRA_COMMANDS.append(register)

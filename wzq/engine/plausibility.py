@@ -1,0 +1,141 @@
+"""Plausibility checks: values an engineer would query before trusting a result.
+
+None of these refuses a plan: each returns a warning that names where the value
+was typed (:meth:`wzq.engine.plan.Plan.where`: the sheet and cell of a workbook, the key
+of a JSON plan) and what to check. :func:`wzq.engine.evaluate.analyse` puts them in the
+result's warnings, so they reach every output (terminal, Run log, Summary sheet,
+report, bulk summary), and ``wzq check`` prints them.
+
+Pure functions, no I/O.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+
+import numpy as np
+
+from wzq import units as u
+from wzq.engine.plan import Plan
+from wzq.models.capacity import LATERAL_DISTANCE_RANGE_FT
+
+#: Clock hours counted as daytime for the near-zero demand check, 06:00 to 22:00
+#: (common practice, no source).
+DAY_START_HOUR, DAY_END_HOUR = 6, 22
+#: A demand interval is "near zero" below this share of the busier of its
+#: neighbours on each side (common practice, no source).
+NEAR_ZERO_SHARE = 0.1
+#: Neighbours count as busy from this flow per lane in normal operation
+#: (common practice, no source).
+BUSY_VEH_H_LN = 100.0
+#: Neighbouring intervals looked at on each side.
+NEIGHBOURS = 2
+#: Work zones longer than this are queried as a possible unit mistake
+#: (16 km; common practice, no source).
+LONG_WORK_ZONE_MI = 10.0
+#: Warnings of one kind listed one by one before the rest are counted.
+MAX_LISTED = 5
+
+
+def _when(t: dt.datetime) -> str:
+    return t.strftime("%a %Y-%m-%d %H:%M")
+
+
+def demand_key(i: int) -> str:
+    """The JSON-form key of demand interval ``i`` (what :meth:`Plan.where` looks up)."""
+    return f"demand.veh_h[{i}]"
+
+
+def _listed(lines: list[str], what: str) -> list[str]:
+    if len(lines) <= MAX_LISTED:
+        return lines
+    return [*lines[:MAX_LISTED], f"... and {len(lines) - MAX_LISTED} more {what}"]
+
+
+def near_zero_demand(plan: Plan) -> list[str]:
+    """Daytime intervals with (near) zero demand between busy ones.
+
+    Interval ``i`` is queried when its clock hour is daytime
+    (:data:`DAY_START_HOUR` to :data:`DAY_END_HOUR`), the busiest of the
+    :data:`NEIGHBOURS` intervals on each side carries at least
+    :data:`BUSY_VEH_H_LN` per lane, and its own flow is below
+    :data:`NEAR_ZERO_SHARE` of the smaller of those two.
+    """
+    d = plan.demand
+    q = d.flows_veh_h
+    n = len(q)
+    busy = BUSY_VEH_H_LN * plan.site.lanes
+    lines = []
+    for i in range(NEIGHBOURS, n - 1):
+        t = d.start + dt.timedelta(seconds=i * d.interval_s)
+        if not DAY_START_HOUR <= t.hour < DAY_END_HOUR:
+            continue
+        left = float(q[max(i - NEIGHBOURS, 0) : i].max())
+        right = float(q[i + 1 : i + 1 + NEIGHBOURS].max())
+        side = min(left, right)
+        if side >= busy and q[i] < NEAR_ZERO_SHARE * side:
+            lines.append(
+                f"{plan.where(demand_key(i))}: demand {q[i]:,.0f} veh/h at {_when(t)} is near "
+                f"zero between {left:,.0f} and {right:,.0f} veh/h around it; check the count "
+                "(a missing count typed as 0, or a formula pointing at an empty cell?)"
+            )
+    return _listed(lines, "daytime intervals with near-zero demand")
+
+
+def above_open_road(plan: Plan, open_capacity_veh_h: float) -> list[str]:
+    """Demand above the open road's own capacity (all lanes open, no work zone).
+
+    Such a queue forms upstream of the work zone whatever the closure does; the
+    model holds it at the closure, so part of the queue it shows is not the
+    closure's. Often a two-way count or a count in the wrong unit.
+    """
+    d = plan.demand
+    over = np.flatnonzero(d.flows_veh_h > open_capacity_veh_h * (1 + 1e-9))
+    if not len(over):
+        return []
+    i = int(over[0])
+    t = d.start + dt.timedelta(seconds=i * d.interval_s)
+    more = f" ({len(over)} intervals in all)" if len(over) > 1 else ""
+    return [
+        f"{plan.where(demand_key(i))}: demand {d.flows_veh_h[i]:,.0f} veh/h at {_when(t)} "
+        f"exceeds the open road's own capacity ({open_capacity_veh_h:,.0f} veh/h on "
+        f"{plan.site.lanes} lanes){more}; part of that queue is not caused by the closure. "
+        "Check the count is for this direction only"
+    ]
+
+
+def site_ranges(plan: Plan) -> list[str]:
+    """Site values outside the range of the published model that uses them."""
+    s = plan.site
+    system = s.unit_system
+    out = []
+    lo, hi = LATERAL_DISTANCE_RANGE_FT
+    lateral_ft = s.lateral_clearance / u.FOOT
+    if s.capacity_method == "hcm7" and lateral_ft > hi + 1e-9:
+        shown = u.m_to_short_length(s.lateral_clearance, system)
+        short = u.unit_label("short", system)
+        hi_shown = u.m_to_short_length(hi * u.FOOT, system)
+        out.append(
+            f"{plan.where('site.lateral_clearance')}: lateral distance {shown:,.1f} {short} is "
+            f"beyond the {lo:g}-{hi_shown:,.1f} {short} of the data behind the HCM work-zone "
+            f"capacity equation (HCM 6th/7th ed., Ch. 10); it is used as {hi_shown:,.1f} {short}"
+        )
+    miles = s.work_zone_length / u.MILE
+    if miles > LONG_WORK_ZONE_MI:
+        shown = u.m_to_long_length(s.work_zone_length, system)
+        long_ = u.unit_label("long", system)
+        out.append(
+            f"{plan.where('site.work_zone_length')}: a work zone {shown:,.1f} {long_} long is "
+            "unusual for a lane closure; check the value and its unit"
+        )
+    return out
+
+
+def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
+    """Every plausibility warning for ``plan``; ``open_capacity_veh_h`` is the open
+    road's pre-breakdown capacity with all lanes open (veh/h)."""
+    return [
+        *site_ranges(plan),
+        *above_open_road(plan, open_capacity_veh_h),
+        *near_zero_demand(plan),
+    ]

@@ -1,0 +1,576 @@
+"""Plans as plain JSON: read, write, and the conversion of units at the edge.
+
+The JSON states its unit system once (``"units": "us"`` or ``"metric"``) and
+every value is in that system: speeds mi/h or km/h, work-zone length mi or km,
+lateral clearance ft or m, jam density veh/mi/ln or veh/km/ln, ramp density per
+mi or per km, queue-length limit mi or km, landmark distances mi or km, backward
+wave speed mi/h or km/h, density at capacity veh/mi/ln or veh/km/ln. Flows are
+veh/h, delays minutes, shares percent. The README documents the schema.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from wzq import units as u
+from wzq.engine.plan import (
+    Approach,
+    Closure,
+    Costs,
+    Demand,
+    Landmark,
+    Meta,
+    Options,
+    Plan,
+    PlanError,
+    Problem,
+    Site,
+    Thresholds,
+)
+
+FORMAT = "wzq-plan"
+VERSION = 1
+
+SITE_KEYS = {
+    "name",
+    "direction",
+    "lanes",
+    "speed_limit",
+    "work_zone_speed_limit",
+    "free_flow_speed",
+    "work_zone_length",
+    "heavy_vehicle_percent",
+    "terrain",
+    "area_type",
+    "lateral_clearance",
+    "driver_population",
+    "jam_density",
+    "ramp_density",
+    "capacity_method",
+    "capacity_override_is",
+    "base_capacity_pc_h_ln",
+    "capacity_drop_percent_work_zone",
+    "capacity_drop_percent_open",
+    "work_intensity_pc_h_ln",
+    "ramp_adjustment_pc_h_ln",
+    "congested_branch",
+    "wave_speed",
+    "density_at_capacity",
+}
+CLOSURE_KEYS = {
+    "start",
+    "end",
+    "lanes_closed",
+    "barrier",
+    "night",
+    "capacity_override_veh_h_ln",
+    "note",
+}
+TOP_KEYS = {
+    "format",
+    "version",
+    "units",
+    "meta",
+    "site",
+    "demand",
+    "closures",
+    "thresholds",
+    "costs",
+    "options",
+    "risk",
+    "approach",
+}
+LANDMARK_KEYS = {"name", "distance", "kind", "veh_h", "share_percent"}
+THRESHOLD_KEYS = {
+    "max_queue_length",
+    "max_average_delay_min",
+    "max_demand_capacity",
+    "queue_must_not_pass",
+}
+
+
+def parse_datetime(text: str) -> dt.datetime:
+    """ISO date-time; ``24:00`` means midnight at the end of that day."""
+    text = text.strip()
+    if text.endswith(("T24:00", " 24:00", "T24:00:00", " 24:00:00")):
+        day = dt.date.fromisoformat(text[:10])
+        return dt.datetime.combine(day + dt.timedelta(days=1), dt.time())
+    return dt.datetime.fromisoformat(text)
+
+
+class _Reader:
+    """Pulls typed values out of nested dicts, collecting every problem."""
+
+    def __init__(self, source: str) -> None:
+        self.source = source
+        self.problems: list[Problem] = []
+
+    def where(self, key: str) -> str:
+        return f"{self.source}: {key}"
+
+    def bad(self, key: str, message: str) -> None:
+        self.problems.append(Problem(self.where(key), message))
+
+    def unknown(self, d: dict[str, Any], allowed: set[str], path: str) -> None:
+        for k in d:
+            if k not in allowed:
+                self.bad(
+                    f"{path}.{k}" if path else k,
+                    f"unknown key; allowed: {', '.join(sorted(allowed))}",
+                )
+
+    def number(
+        self, d: dict[str, Any], key: str, path: str, default: Any = ..., lo: float | None = None
+    ) -> Any:
+        full = f"{path}.{key}"
+        if key not in d or d[key] is None:
+            if default is ...:
+                self.bad(full, "required number is missing")
+                return float("nan")
+            return default
+        v = d[key]
+        if isinstance(v, bool) or not isinstance(v, int | float) or not np.isfinite(v):
+            self.bad(full, f"expected a number, got {v!r}")
+            return float("nan") if default is ... or default is None else default
+        if lo is not None and v < lo:
+            self.bad(full, f"must be at least {lo}, got {v}")
+        return float(v)
+
+    def text(self, d: dict[str, Any], key: str, path: str, default: str | None = None) -> str:
+        v = d.get(key, default)
+        if v is None:
+            self.bad(f"{path}.{key}", "required text is missing")
+            return ""
+        if not isinstance(v, str):
+            self.bad(f"{path}.{key}", f"expected text, got {v!r}")
+            return str(v)
+        return v
+
+    def when(self, d: dict[str, Any], key: str, path: str) -> dt.datetime:
+        v = d.get(key)
+        try:
+            if not isinstance(v, str):
+                raise ValueError
+            return parse_datetime(v)
+        except ValueError:
+            self.bad(f"{path}.{key}", f"expected a date-time like 2027-05-03T21:00, got {v!r}")
+            return dt.datetime(2000, 1, 1)
+
+
+def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None = None) -> Plan:
+    """Build a :class:`Plan` from the JSON structure, reporting every problem at once.
+
+    ``base`` is the folder a count history's file is named relative to (the
+    plan file's folder; default the current folder).
+    """
+    r = _Reader(source)
+    if not isinstance(data, dict):
+        raise PlanError([Problem(source, "the file must hold one JSON object")])
+    r.unknown(data, TOP_KEYS, "")
+    if data.get("format", FORMAT) != FORMAT:
+        r.bad("format", f"expected '{FORMAT}'")
+    system = data.get("units")
+    if system not in u.UNIT_SYSTEMS:
+        r.bad("units", "state the unit system: 'us' or 'metric'")
+        system = "us"
+    s = data.get("site") or {}
+    if not isinstance(s, dict):
+        r.bad("site", "expected an object")
+        s = {}
+    r.unknown(s, SITE_KEYS, "site")
+    spd = lambda v: None if v is None else u.speed_to_mps(v, system)  # noqa: E731
+    lanes = r.number(s, "lanes", "site")
+    ffs = r.number(s, "free_flow_speed", "site", None, lo=0)
+    jam = r.number(s, "jam_density", "site", None, lo=0)
+    wave = r.number(s, "wave_speed", "site", None, lo=0)
+    k_cap = r.number(s, "density_at_capacity", "site", None, lo=0)
+    branch = s.get("congested_branch")
+    if branch is None:
+        if wave is not None and k_cap is not None:
+            r.bad(
+                "site.wave_speed",
+                "give the backward wave speed or the density at capacity, not both "
+                "(the other follows from the capacity and the jam density)",
+            )
+        branch = "derived"
+        if wave is not None:
+            branch = "wave-speed"
+        elif k_cap is not None:
+            branch = "density-at-capacity"
+    elif not isinstance(branch, str):
+        r.bad("site.congested_branch", f"expected text, got {branch!r}")
+        branch = "derived"
+    site_kw: dict[str, Any] = dict(
+        name=r.text(s, "name", "site", ""),
+        direction=r.text(s, "direction", "site", ""),
+        lanes=int(lanes) if np.isfinite(lanes) else 0,
+        speed_limit=spd(r.number(s, "speed_limit", "site", lo=0)),
+        work_zone_speed_limit=spd(r.number(s, "work_zone_speed_limit", "site", lo=0)),
+        free_flow_speed=spd(ffs),
+        work_zone_length=u.long_length_to_m(r.number(s, "work_zone_length", "site", lo=0), system),
+        heavy_vehicle_share=r.number(s, "heavy_vehicle_percent", "site", 5.0, lo=0) / 100.0,
+        terrain=r.text(s, "terrain", "site", "level"),
+        area_type=r.text(s, "area_type", "site", "urban"),
+        lateral_clearance=u.short_length_to_m(
+            r.number(s, "lateral_clearance", "site", 0.0, lo=0), system
+        ),
+        driver_population=r.text(s, "driver_population", "site", "commuter"),
+        jam_density=None if jam is None else u.density_to_per_m(jam, system),
+        ramp_density=r.number(s, "ramp_density", "site", 0.0, lo=0) / u.LONG_LENGTH[system][1],
+        capacity_method=r.text(s, "capacity_method", "site", "hcm7"),
+        capacity_override_is=r.text(s, "capacity_override_is", "site", "both"),
+        base_capacity_pc_h_ln=r.number(s, "base_capacity_pc_h_ln", "site", None),
+        capacity_drop_pct_work_zone=r.number(s, "capacity_drop_percent_work_zone", "site", 13.4),
+        capacity_drop_pct_open=r.number(s, "capacity_drop_percent_open", "site", 7.0),
+        work_intensity_pc_h_ln=r.number(s, "work_intensity_pc_h_ln", "site", 0.0),
+        ramp_adjustment_pc_h_ln=r.number(s, "ramp_adjustment_pc_h_ln", "site", 0.0),
+        unit_system=system,
+        congested_branch=branch,
+        wave_speed=spd(wave),
+        density_at_capacity=None if k_cap is None else u.density_to_per_m(k_cap, system),
+    )
+    d = data.get("demand") or {}
+    if not isinstance(d, dict):
+        r.bad("demand", "expected an object")
+        d = {}
+    r.unknown(d, {"start", "interval_minutes", "veh_h", "hours", "history"}, "demand")
+    start = r.when(d, "start", "demand")
+    interval = r.number(d, "interval_minutes", "demand", 60.0)
+    history = risk = None
+    if "history" in d and not r.problems:  # demand from a count history (wzq.io.jsonhistory)
+        from wzq.io.jsonhistory import history_demand
+
+        try:
+            designed, history = history_demand(d, start, source, base)
+            d = {"veh_h": designed.flows_veh_h.tolist()}
+            interval = designed.interval_s / 60
+        except PlanError as e:
+            r.problems += e.problems
+            d = {"veh_h": [0.0]}
+    elif "hours" in d:
+        r.bad("demand.hours", "used only with a count history; give veh_h alone")
+    if data.get("risk") is not None:
+        from wzq.io.jsonhistory import risk_from_dict
+
+        try:
+            risk = risk_from_dict(data["risk"], source)
+        except PlanError as e:
+            r.problems += e.problems
+    flows = d.get("veh_h")
+    if not isinstance(flows, list) or not flows:
+        r.bad("demand.veh_h", "expected a list of hourly (or 15-minute) flows in veh/h")
+        flows = [0.0]
+    arr = np.zeros(len(flows))
+    for i, v in enumerate(flows):
+        if isinstance(v, bool) or not isinstance(v, int | float) or not np.isfinite(v) or v < 0:
+            r.bad(f"demand.veh_h[{i}]", f"expected a flow of 0 veh/h or more, got {v!r}")
+        else:
+            arr[i] = v
+    closures = []
+    raw = data.get("closures") or []
+    if not isinstance(raw, list):
+        r.bad("closures", "expected a list")
+        raw = []
+    for i, c in enumerate(raw):
+        path = f"closures[{i}]"
+        if not isinstance(c, dict):
+            r.bad(path, "expected an object")
+            continue
+        r.unknown(c, CLOSURE_KEYS, path)
+        night = c.get("night")
+        if night is not None and not isinstance(night, bool):
+            r.bad(f"{path}.night", "expected true, false or null (derived from the clock)")
+            night = None
+        lc = r.number(c, "lanes_closed", path, lo=0)
+        closures.append(
+            Closure(
+                start=r.when(c, "start", path),
+                end=r.when(c, "end", path),
+                lanes_closed=int(lc) if np.isfinite(lc) else 0,
+                barrier=r.text(c, "barrier", path, "soft"),
+                night=night,
+                capacity_override_veh_h_ln=r.number(c, "capacity_override_veh_h_ln", path, None),
+                note=r.text(c, "note", path, ""),
+            )
+        )
+    t = data.get("thresholds") or {}
+    r.unknown(t, THRESHOLD_KEYS, "thresholds")
+    must_not_pass = t.get("queue_must_not_pass")
+    if must_not_pass is not None and not isinstance(must_not_pass, str):
+        r.bad(
+            "thresholds.queue_must_not_pass", f"expected a landmark's name, got {must_not_pass!r}"
+        )
+        must_not_pass = None
+    qmax = r.number(t, "max_queue_length", "thresholds", None, lo=0)
+    dmax = r.number(t, "max_average_delay_min", "thresholds", None, lo=0)
+    thresholds = Thresholds(
+        max_queue_length=None if qmax is None else u.long_length_to_m(qmax, system),
+        max_average_delay=None if dmax is None else dmax * u.MINUTE,
+        max_demand_capacity=r.number(t, "max_demand_capacity", "thresholds", None, lo=0),
+        queue_must_not_pass=must_not_pass,
+    )
+    approach = _approach_from_dict(r, data.get("approach"), system)
+    costs = None
+    if data.get("costs"):
+        c = data["costs"]
+        r.unknown(
+            c,
+            {
+                "car_value_per_person_h",
+                "car_occupancy",
+                "truck_value_per_veh_h",
+                "truck_percent",
+                "currency",
+                "dollar_year",
+            },
+            "costs",
+        )
+        tp = r.number(c, "truck_percent", "costs", None, lo=0)
+        costs = Costs(
+            car_value_per_person_h=r.number(c, "car_value_per_person_h", "costs", lo=0),
+            car_occupancy=r.number(c, "car_occupancy", "costs", lo=0),
+            truck_value_per_veh_h=r.number(c, "truck_value_per_veh_h", "costs", lo=0),
+            truck_share=None if tp is None else tp / 100.0,
+            currency=r.text(c, "currency", "costs", "USD"),
+            dollar_year=int(r.number(c, "dollar_year", "costs", 2017)),
+        )
+    o = data.get("options") or {}
+    r.unknown(
+        o,
+        {"capacity_drop", "diagram", "queue_length_method", "space_time", "closure_windows"},
+        "options",
+    )
+    options = Options(
+        capacity_drop=bool(o.get("capacity_drop", True)),
+        diagram=o.get("diagram", "triangular"),
+        queue_length_method=o.get("queue_length_method", "newell"),
+        space_time=bool(o.get("space_time", False)),
+        closure_windows=bool(o.get("closure_windows", False)),
+    )
+    m = data.get("meta") or {}
+    r.unknown(m, {"title", "project", "route", "prepared_by", "checked_by", "notes"}, "meta")
+    meta = Meta(
+        **{
+            k: str(m.get(k, ""))
+            for k in ("title", "project", "route", "prepared_by", "checked_by", "notes")
+        }
+    )
+    if r.problems:
+        raise PlanError(r.problems)
+    try:
+        return Plan(
+            site=Site(**site_kw),
+            demand=Demand(start, round(interval * 60), arr),
+            closures=tuple(closures),
+            thresholds=thresholds,
+            costs=costs,
+            options=options,
+            meta=meta,
+            history=history,
+            risk=risk,
+            approach=approach,
+        )
+    except PlanError as e:
+        raise PlanError([Problem(f"{source}: {p.where}", p.message) for p in e.problems]) from None
+
+
+def _approach_from_dict(r: _Reader, a: Any, system: u.UnitSystem) -> Approach:
+    """The ``approach`` object: its landmarks, ramps with their flows."""
+    if a is None:
+        return Approach()
+    if not isinstance(a, dict):
+        r.bad("approach", "expected an object with a list of landmarks")
+        return Approach()
+    r.unknown(a, {"landmarks"}, "approach")
+    raw = a.get("landmarks") or []
+    if not isinstance(raw, list):
+        r.bad("approach.landmarks", "expected a list")
+        return Approach()
+    out = []
+    for i, lm in enumerate(raw):
+        path = f"approach.landmarks[{i}]"
+        if not isinstance(lm, dict):
+            r.bad(path, "expected an object")
+            continue
+        r.unknown(lm, LANDMARK_KEYS, path)
+        flows = lm.get("veh_h")
+        hourly: tuple[float, ...] | None = None
+        if flows is not None:
+            if not isinstance(flows, list):
+                r.bad(f"{path}.veh_h", "expected a list of hourly flows in veh/h")
+            else:
+                values = []
+                for k, v in enumerate(flows):
+                    if isinstance(v, bool) or not isinstance(v, int | float) or not np.isfinite(v):
+                        r.bad(f"{path}.veh_h[{k}]", f"expected a flow in veh/h, got {v!r}")
+                        v = 0.0
+                    values.append(float(v))
+                hourly = tuple(values)
+        share = r.number(lm, "share_percent", path, None, lo=0)
+        out.append(
+            Landmark(
+                name=r.text(lm, "name", path),
+                distance=u.long_length_to_m(r.number(lm, "distance", path, lo=0), system),
+                kind=r.text(lm, "kind", path, "other"),
+                ramp_veh_h=hourly,
+                ramp_share=None if share is None else share / 100.0,
+            )
+        )
+    return Approach(tuple(out))
+
+
+def load_plan(path: str | Path) -> Plan:
+    """Read a JSON plan file."""
+    path = Path(path)
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError) as e:
+        raise PlanError([Problem(str(path), f"cannot read the file: {e}")]) from None
+    except json.JSONDecodeError as e:
+        raise PlanError(
+            [Problem(f"{path.name}: line {e.lineno}", f"not valid JSON ({e.msg}); fix the syntax")]
+        ) from None
+    return plan_from_dict(data, path.name, path.parent)
+
+
+def _iso(t: dt.datetime) -> str:
+    return t.isoformat(timespec="minutes")
+
+
+def plan_to_dict(plan: Plan) -> dict[str, Any]:
+    """The JSON structure of a plan, in the plan's own unit system."""
+    s = plan.site
+    system = s.unit_system
+    rnd = lambda x: None if x is None else round(float(x), 6)  # noqa: E731
+    out: dict[str, Any] = {
+        "format": FORMAT,
+        "version": VERSION,
+        "units": system,
+        "meta": {
+            k: getattr(plan.meta, k)
+            for k in ("title", "project", "route", "prepared_by", "checked_by", "notes")
+        },
+        "site": {
+            "name": s.name,
+            "direction": s.direction,
+            "lanes": s.lanes,
+            "speed_limit": rnd(u.mps_to_speed(s.speed_limit, system)),
+            "work_zone_speed_limit": rnd(u.mps_to_speed(s.work_zone_speed_limit, system)),
+            "free_flow_speed": rnd(
+                None if s.free_flow_speed is None else u.mps_to_speed(s.free_flow_speed, system)
+            ),
+            "work_zone_length": rnd(u.m_to_long_length(s.work_zone_length, system)),
+            "heavy_vehicle_percent": rnd(s.heavy_vehicle_share * 100),
+            "terrain": s.terrain,
+            "area_type": s.area_type,
+            "lateral_clearance": rnd(u.m_to_short_length(s.lateral_clearance, system)),
+            "driver_population": s.driver_population,
+            "jam_density": rnd(
+                None if s.jam_density is None else u.per_m_to_density(s.jam_density, system)
+            ),
+            "ramp_density": rnd(s.ramp_density * u.LONG_LENGTH[system][1]),
+            "capacity_method": s.capacity_method,
+            "capacity_override_is": s.capacity_override_is,
+            "base_capacity_pc_h_ln": s.base_capacity_pc_h_ln,
+            "capacity_drop_percent_work_zone": s.capacity_drop_pct_work_zone,
+            "capacity_drop_percent_open": s.capacity_drop_pct_open,
+            "work_intensity_pc_h_ln": s.work_intensity_pc_h_ln,
+            "ramp_adjustment_pc_h_ln": s.ramp_adjustment_pc_h_ln,
+        },
+        "demand": {
+            "start": _iso(plan.demand.start),
+            "interval_minutes": plan.demand.interval_s / 60,
+            "veh_h": [float(v) for v in plan.demand.flows_veh_h],
+        },
+        "closures": [
+            {
+                "start": _iso(c.start),
+                "end": _iso(c.end),
+                "lanes_closed": c.lanes_closed,
+                "barrier": c.barrier,
+                "night": c.night,
+                "capacity_override_veh_h_ln": c.capacity_override_veh_h_ln,
+                "note": c.note,
+            }
+            for c in plan.closures
+        ],
+        "thresholds": {
+            "max_queue_length": rnd(
+                None
+                if plan.thresholds.max_queue_length is None
+                else u.m_to_long_length(plan.thresholds.max_queue_length, system)
+            ),
+            "max_average_delay_min": rnd(
+                None
+                if plan.thresholds.max_average_delay is None
+                else plan.thresholds.max_average_delay / u.MINUTE
+            ),
+            "max_demand_capacity": plan.thresholds.max_demand_capacity,
+        },
+        "options": {
+            "capacity_drop": plan.options.capacity_drop,
+            "diagram": plan.options.diagram,
+            "queue_length_method": plan.options.queue_length_method,
+            "space_time": plan.options.space_time,
+            "closure_windows": plan.options.closure_windows,
+        },
+    }
+    if plan.history is not None and plan.history.file:  # the count history, not the flows
+        from wzq.io.jsonhistory import history_to_dict
+
+        hours = len(plan.demand.flows_veh_h) * plan.demand.interval_s / 3600
+        out["demand"] = history_to_dict(plan.history, plan.demand.start, round(hours))
+    if plan.risk is not None:
+        from wzq.io.jsonhistory import risk_to_dict
+
+        out["risk"] = risk_to_dict(plan.risk)
+    if s.congested_branch != "derived":
+        out["site"]["congested_branch"] = s.congested_branch
+        out["site"]["wave_speed"] = rnd(
+            None if s.wave_speed is None else u.mps_to_speed(s.wave_speed, system)
+        )
+        out["site"]["density_at_capacity"] = rnd(
+            None
+            if s.density_at_capacity is None
+            else u.per_m_to_density(s.density_at_capacity, system)
+        )
+    if plan.thresholds.queue_must_not_pass is not None:
+        out["thresholds"]["queue_must_not_pass"] = plan.thresholds.queue_must_not_pass
+    if plan.approach.landmarks:
+        out["approach"] = {
+            "landmarks": [_landmark_dict(lm, system) for lm in plan.approach.landmarks]
+        }
+    if plan.costs is not None:
+        c = plan.costs
+        out["costs"] = {
+            "car_value_per_person_h": c.car_value_per_person_h,
+            "car_occupancy": c.car_occupancy,
+            "truck_value_per_veh_h": c.truck_value_per_veh_h,
+            "truck_percent": None if c.truck_share is None else c.truck_share * 100,
+            "currency": c.currency,
+            "dollar_year": c.dollar_year,
+        }
+    return out
+
+
+def _landmark_dict(lm: Landmark, system: u.UnitSystem) -> dict[str, Any]:
+    out: dict[str, Any] = {
+        "name": lm.name,
+        "distance": round(u.m_to_long_length(lm.distance, system), 6),
+        "kind": lm.kind,
+    }
+    if lm.ramp_veh_h is not None:
+        out["veh_h"] = list(lm.ramp_veh_h)
+    if lm.ramp_share is not None:
+        out["share_percent"] = round(lm.ramp_share * 100.0, 9)
+    return out
+
+
+def save_plan(plan: Plan, path: str | Path) -> None:
+    """Write a plan as JSON (UTF-8, indented)."""
+    Path(path).write_text(json.dumps(plan_to_dict(plan), indent=2) + "\n", encoding="utf-8")

@@ -1,0 +1,82 @@
+"""Physical queue length from queued vehicles by shockwave analysis.
+
+The point queue of :mod:`wzq.models.queueing` counts vehicles; the road holds them
+upstream of the taper in the congested state. Between the arriving state A
+(uncongested branch of the fundamental diagram at the demand flow) and the
+queued state Q (congested branch at the discharge flow) the back of the queue
+is a shock moving at the Rankine-Hugoniot speed
+
+    u = (q_Q - q_A) / (k_Q - k_A)              (Lighthill & Whitham, 1955)
+
+and, while both states hold, the vehicles stored in a queue of length L over
+``n`` lanes are ``N = L * n * (k_Q - k_A)``. Dividing by the jam density alone
+would give a queue that is too short, because arriving traffic already has
+density ``k_A``.
+
+This single-state relation is exact only while the whole queue is in one
+state; it is the standard method of traffic-engineering texts (e.g. Mannering
+& Washburn, shockwave analysis chapter; May, *Traffic Flow Fundamentals*, 1990,
+ch. 6 — from memory).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from wzq.models.flow import FundamentalDiagram
+from wzq.units import HOUR
+
+
+def queue_states(
+    diagram: FundamentalDiagram,
+    arrival_veh_h: np.ndarray,
+    discharge_veh_h: np.ndarray,
+    lanes: int,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Densities (veh/m/ln) and flows (veh/s/ln) of the arriving and queued states.
+
+    Flows above the diagram's capacity are held at capacity: the arriving
+    state cannot carry more than the road, and the excess is reported by the
+    analysis as a warning, not here.
+    """
+    cap = float(diagram.capacity)
+    q_a = np.minimum(np.asarray(arrival_veh_h, dtype=float) / HOUR / lanes, cap)
+    q_q = np.minimum(np.asarray(discharge_veh_h, dtype=float) / HOUR / lanes, cap)
+    k_a = np.asarray(diagram.density_free(q_a), dtype=float)
+    k_q = np.asarray(diagram.density_congested(q_q), dtype=float)
+    return k_a, q_a, k_q, q_q
+
+
+def stored_density(
+    diagram: FundamentalDiagram,
+    arrival_veh_h: np.ndarray,
+    discharge_veh_h: np.ndarray,
+    lanes: int,
+) -> np.ndarray:
+    """Vehicles stored per metre of queue: ``n * (k_Q - k_A)`` (veh/m)."""
+    k_a, _, k_q, _ = queue_states(diagram, arrival_veh_h, discharge_veh_h, lanes)
+    return lanes * np.maximum(k_q - k_a, 1e-9)
+
+
+def queue_length(
+    queue_veh: np.ndarray,
+    diagram: FundamentalDiagram,
+    arrival_veh_h: np.ndarray,
+    discharge_veh_h: np.ndarray,
+    lanes: int,
+) -> np.ndarray:
+    """Length (m) of a queue of ``queue_veh`` vehicles: ``N / (n (k_Q - k_A))``."""
+    return np.asarray(queue_veh, dtype=float) / stored_density(
+        diagram, arrival_veh_h, discharge_veh_h, lanes
+    )
+
+
+def back_of_queue_speed(
+    diagram: FundamentalDiagram,
+    arrival_veh_h: np.ndarray,
+    discharge_veh_h: np.ndarray,
+    lanes: int,
+) -> np.ndarray:
+    """Speed of the back of the queue (m/s; negative = travelling upstream)."""
+    k_a, q_a, k_q, q_q = queue_states(diagram, arrival_veh_h, discharge_veh_h, lanes)
+    return (q_q - q_a) / np.maximum(k_q - k_a, 1e-9)

@@ -1,0 +1,233 @@
+"""Display tables: the per-hour table in the plan's own units, rounded as shown.
+
+The workbook writer, the printed report, the command line and the bulk
+summary all show these same numbers, so the rounding lives here once; and the
+queues one at a time (busy periods), which the workbook's and the report's
+cumulative charts draw one panel each.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from wzq import units as u
+from wzq.engine import costs as road_user_costs
+from wzq.engine.evaluate import Result
+from wzq.engine.plan import Plan
+
+#: Most queues (busy periods) drawn one chart each (the largest are kept).
+MAX_PANELS = 6
+
+
+@dataclass(frozen=True)
+class Column:
+    """One displayed column: header, source column, scale, decimals."""
+
+    header: str
+    source: str
+    decimals: int
+    scale: float = 1.0
+
+
+def hourly_columns(system: u.UnitSystem) -> list[Column]:
+    """The permit table's columns, in the unit system of the plan."""
+    long_name, long_m = u.LONG_LENGTH[system]
+    return [
+        Column("Lanes open", "lanes_open", 0),
+        Column("Demand (veh/h)", "demand_veh_h", 0),
+        Column("Capacity (veh/h)", "capacity_veh_h", 0),
+        Column("Queue discharge rate (veh/h)", "discharge_veh_h", 0),
+        Column("Demand / capacity", "demand_capacity", 2),
+        Column("Queue at end of hour (veh)", "queue_end_veh", 0),
+        Column("Longest queue (veh)", "queue_max_veh", 0),
+        Column(f"Longest queue ({long_name})", "queue_length_max_m", 2, 1.0 / long_m),
+        Column("Delay (veh-h)", "delay_veh_h", 1),
+        Column("Average delay (min/veh)", "average_delay_min", 1),
+        Column("Longest wait in queue (min)", "max_queue_wait_min", 1),
+    ]
+
+
+def hour_label(t: dt.datetime | pd.Timestamp) -> str:
+    """``Mon 2027-05-03 21:00``."""
+    return pd.Timestamp(t).strftime("%a %Y-%m-%d %H:%M")
+
+
+def rounded(value: float, decimals: int) -> float | int:
+    """Round half away from zero as a person would (not banker's rounding)."""
+    if pd.isna(value):
+        return value
+    q = 10**decimals
+    x = abs(float(value)) * q + 0.5 + 1e-9
+    r = int(x) / q
+    r = r if value >= 0 else -r
+    return int(r) if decimals == 0 else r
+
+
+def hourly_display(result: Result) -> pd.DataFrame:
+    """The per-hour table with display headers, plan units and display rounding."""
+    system = result.plan.site.unit_system
+    h = result.hourly
+    out = pd.DataFrame({"Hour": [hour_label(t) for t in h["hour_start"]]})
+    for col in hourly_columns(system):
+        out[col.header] = [rounded(v * col.scale, col.decimals) for v in h[col.source]]
+    out["Status"] = h["status"].to_numpy()
+    return out
+
+
+def summary_lines(result: Result) -> list[tuple[str, str]]:
+    """Headline figures as (label, text) pairs in the plan's units."""
+    s = result.summary
+    system = result.plan.site.unit_system
+    long_name, long_m = u.LONG_LENGTH[system]
+    when = lambda t: "-" if t is None else hour_label(t)[:-5] + f"{t:%H:%M}"  # noqa: E731
+    lines = [
+        (
+            "Longest queue",
+            f"{s.max_queue_length_m / long_m:,.2f} {long_name}, at {when(s.max_queue_length_at)}",
+        ),
+        (
+            "Most vehicles queued",
+            f"{s.max_queue_veh:,.0f} veh, at {when(s.max_queue_veh_at)}",
+        ),
+        (
+            "Total delay",
+            f"{s.total_delay_veh_h:,.1f} veh-h "
+            f"(queue {s.queue_delay_veh_h:,.1f}, work zone {s.work_zone_delay_veh_h:,.1f}"
+            + (f", exit ramps {s.exit_ramp_delay_veh_h:,.1f})" if s.exit_ramp_delay_veh_h else ")"),
+        ),
+        ("Highest hourly average delay", f"{s.max_average_delay_min:,.1f} min/veh"),
+        ("Vehicles that met a queue", f"{s.vehicles_affected:,.0f}"),
+        ("Last queue clears", when(s.last_queue_clears)),
+        ("Hours over a limit", str(len(s.hours_failing))),
+    ]
+    if s.total_cost is not None:
+        c = road_user_costs.plan_costs(result.plan)
+        basis = f"{c.dollar_year} prices"
+        if result.plan.costs is None:  # blank values of time: priced at the defaults, said so
+            basis += f"; {road_user_costs.DEFAULTS_NOTE}"
+        lines.insert(3, ("Road-user delay cost", f"{s.total_cost:,.0f} {c.currency} ({basis})"))
+    return lines
+
+
+def limits_text(plan: Plan) -> str:
+    """The agency limits in the plan's units, one line (``none set`` when there are none)."""
+    th = plan.thresholds
+    long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
+    parts = []
+    if th.max_queue_length is not None:
+        parts.append(f"longest queue {th.max_queue_length / long_m:,.2f} {long_name}")
+    if th.max_average_delay is not None:
+        parts.append(f"average delay {th.max_average_delay / u.MINUTE:,.1f} min/veh")
+    if th.max_demand_capacity is not None:
+        parts.append(f"demand/capacity {th.max_demand_capacity:.2f} in closure hours")
+    if th.queue_must_not_pass is not None:
+        parts.append(f"queue not past {th.queue_must_not_pass}")
+    return ", ".join(parts) if parts else "none set"
+
+
+# --- queues, one at a time (the cumulative charts draw one panel each) ----------------------
+
+
+@dataclass(frozen=True)
+class Episode:
+    """One queue: from the instant it forms to the instant it clears (s)."""
+
+    start: float
+    end: float
+    max_queue_veh: float
+    max_at: float
+
+
+def queue_episodes(result: Result) -> list[Episode]:
+    """Every busy period of the run, in time order."""
+    r = result.run
+    q = r.queue
+    busy = q.busy > 0
+    out: list[Episode] = []
+    if not busy.any():
+        return out
+    edges = np.diff(np.concatenate(([0], busy.astype(np.int8), [0])))
+    for a, b in zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1), strict=True):
+        end = float(r.t[b - 1] + q.busy[b - 1])
+        seg = q.queue[a : b + 1]
+        j = int(np.argmax(seg))
+        out.append(Episode(float(r.t[a]), end, float(seg[j]), float(r.t[a + j])))
+    return out
+
+
+def episode_window(result: Result, ep: Episode, context_h: float) -> tuple[float, float]:
+    """The span (s) drawn around a queue: ``context_h`` hours either side, within the data."""
+    total = float(result.run.t[-1])
+    return max(0.0, ep.start - context_h * 3600.0), min(total, ep.end + context_h * 3600.0)
+
+
+def shown_episodes(result: Result, limit: int = MAX_PANELS) -> tuple[list[Episode], int]:
+    """The queues drawn in the cumulative diagram and how many there are in all.
+
+    At most ``limit`` are drawn: the largest, in time order.
+    """
+    eps = queue_episodes(result)
+    if len(eps) <= limit:
+        return eps, len(eps)
+    keep = sorted(eps, key=lambda e: e.max_queue_veh, reverse=True)[:limit]
+    return sorted(keep, key=lambda e: e.start), len(eps)
+
+
+def episode_title(result: Result, ep: Episode) -> str:
+    """``Queue Tue 2027-05-04 22:00 to Wed 00:26`` (the day repeated only when it changes)."""
+    start = result.plan.demand.start
+    t0 = start + dt.timedelta(seconds=round(ep.start))
+    t1 = start + dt.timedelta(seconds=round(ep.end))
+    end = f"{t1:%H:%M}" if t1.date() == t0.date() else f"{t1:%a %H:%M}"
+    return f"Queue {hour_label(t0)} to {end}"
+
+
+#: Plain words for the kinds of landmark (:data:`wzq.engine.plan.LANDMARK_KINDS`).
+LANDMARK_KIND_LABELS = {
+    "exit-ramp": "exit ramp",
+    "entrance-ramp": "entrance ramp",
+    "signal": "signal or intersection",
+    "structure": "bridge or structure",
+    "warning-signs-end": "end of advance warning signing",
+    "other": "other",
+}
+
+
+def landmark_display(result: Result) -> pd.DataFrame:
+    """Per landmark, nearest the closure first: how far the queue reached it, in plan units."""
+    long_name, long_m = u.LONG_LENGTH[result.plan.site.unit_system]
+    lm = result.landmarks
+    return pd.DataFrame(
+        {
+            "Landmark": lm["name"],
+            "Kind": [LANDMARK_KIND_LABELS.get(k, k) for k in lm["kind"]],
+            f"Upstream ({long_name})": [rounded(v / long_m, 2) for v in lm["distance_m"]],
+            "Queue first reaches it": [
+                "never" if pd.isna(t) else hour_label(t)[:-5] + f"{t:%H:%M}"
+                for t in lm["first_reached"]
+            ],
+            "Time beyond it (h)": [rounded(v, 2) for v in lm["time_beyond_h"]],
+            f"Farthest beyond ({long_name})": [rounded(v / long_m, 2) for v in lm["max_beyond_m"]],
+            "Hours beyond": lm["hours_beyond"].to_numpy(),
+        }
+    )
+
+
+def exit_ramp_display(result: Result) -> pd.DataFrame:
+    """Per exit ramp: the delay of the traffic leaving there while the queue holds it."""
+    long_name, long_m = u.LONG_LENGTH[result.plan.site.unit_system]
+    ex = result.exit_ramps
+    return pd.DataFrame(
+        {
+            "Exit ramp": ex["name"],
+            f"Upstream ({long_name})": [rounded(v / long_m, 2) for v in ex["distance_m"]],
+            "Delay of exiting traffic (veh-h)": [rounded(v, 1) for v in ex["delay_veh_h"]],
+            "Longest extra wait (min)": [
+                "-" if pd.isna(v) else rounded(v, 1) for v in ex["max_wait_min"]
+            ],
+        }
+    )
