@@ -36,7 +36,8 @@ from fake_xlwings import open_book
 from workbook_helpers import fill_template, named_cell
 
 from wzq.io.jsonplan import load_plan
-from wzq.io.workbook import layout, live
+from wzq.io.live import backend as live
+from wzq.io.workbook import layout
 
 ROOT = Path(__file__).resolve().parents[1]
 KESTREL = ROOT / "examples" / "kestrel_ridge_weeknight.json"

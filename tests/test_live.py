@@ -41,9 +41,10 @@ from workbook_helpers import fill_template
 import wzq
 from wzq.cli import main
 from wzq.io.jsonplan import load_plan, plan_to_dict
+from wzq.io.live import backend as live
 from wzq.io.live.charts import Ref, SeriesPlan, series_formula, source_group
 from wzq.io.live.sheets import excel_literal, rectangles
-from wzq.io.workbook import layout, live
+from wzq.io.workbook import layout
 from wzq.io.workbook.link import ENTRY_MARKER, entry_path, suggest_name
 from wzq.io.workbook.reader import read_plan, read_plan_from_book
 from wzq.io.workbook.run import run_workbook

@@ -26,9 +26,11 @@ from workbook_helpers import fill_template, table_cell
 
 import wzq
 from wzq import cli
+from wzq.cli import calc as commands
+from wzq.cli import calc_runner as runner
 from wzq.engine.plan import PlanError
 from wzq.io.jsonplan import load_plan
-from wzq.io.office import build, commands, runner
+from wzq.io.office import build
 from wzq.io.workbook import layout
 from wzq.io.workbook.reader import read_plan
 from wzq.io.workbook.run import run_to
