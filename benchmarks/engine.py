@@ -24,8 +24,9 @@ import time
 import numpy as np
 
 from wzq import Closure, Demand, Plan, Site, analyse
-from wzq.engine.evaluate import closure_capacity, evaluate, site_model
+from wzq.engine.evaluate import evaluate
 from wzq.engine.plan import Approach, Landmark, Thresholds
+from wzq.engine.site import closure_capacity, site_model
 from wzq.engine.windows import Configuration, find_windows
 from wzq.models.queueing import solve
 from wzq.units import MILE, MINUTE, MPH

@@ -37,8 +37,8 @@ from pathlib import Path
 import numpy as np
 
 import wzq
-from wzq.engine.evaluate import configuration
 from wzq.engine.risk import Scenarios, capacity_draws, run_scenarios
+from wzq.engine.site import configuration
 from wzq.io.jsonplan import load_plan
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -284,7 +284,7 @@ def test_a_queue_beyond_the_advance_warning_signs_is_warned_of() -> None:
     exceeds capacity for two hours only (the long-overload warning needs six)."""
     from pathlib import Path
 
-    from wzq.engine.evaluate import ADVANCE_WARNING_REACH_M
+    from wzq.engine.warnings import ADVANCE_WARNING_REACH_M
     from wzq.io.jsonplan import load_plan
 
     assert ADVANCE_WARNING_REACH_M / MILE == pytest.approx(5140 / 5280)
@@ -332,12 +332,13 @@ def test_each_interval_gets_the_capacity_of_the_closure_in_force(seed: int) -> N
     # same mapping is done the plain way, one interval at a time: the closure whose
     # [start, end) holds the interval's midpoint, night by the clock (wzq.engine.plan.is_night:
     # 19:00-06:00, common practice, no source) unless the closure says otherwise, and
-    # the capacity of that configuration (wzq.engine.evaluate.configuration, checked against
+    # the capacity of that configuration (wzq.engine.site.configuration, checked against
     # the HCM in test_capacity.py). Random invented plans: hourly or 15-minute demand,
     # closures starting and ending on any minute, some with an override or a given
     # day/night.
-    from wzq.engine.evaluate import configuration, evaluate
+    from wzq.engine.evaluate import evaluate
     from wzq.engine.plan import is_night
+    from wzq.engine.site import configuration
 
     rng = np.random.default_rng(seed)
     step = int(rng.choice([900, 3600]))

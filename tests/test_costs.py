@@ -13,6 +13,7 @@ import pytest
 import wzq
 from wzq.engine import costs as rc
 from wzq.engine.plan import Closure, Costs, Demand, Plan, Site
+from wzq.models import costs as published
 
 START = dt.datetime(2027, 5, 3)  # invented dates
 
@@ -53,18 +54,18 @@ def test_delay_cost_scalar_and_array() -> None:
 def test_person_value_from_wage_uses_usdot_shares() -> None:
     # USDOT value-of-travel-time guidance: local personal travel 50 % of the hourly wage,
     # business travel 100 % (checked, REFERENCES.md)
-    assert rc.person_value_from_wage(30.0) == pytest.approx(15.0)
-    assert rc.person_value_from_wage(30.0, business_fraction=1.0) == pytest.approx(30.0)
-    assert rc.person_value_from_wage(30.0, business_fraction=0.2) == pytest.approx(18.0)
+    assert published.person_value_from_wage(30.0) == pytest.approx(15.0)
+    assert published.person_value_from_wage(30.0, business_fraction=1.0) == pytest.approx(30.0)
+    assert published.person_value_from_wage(30.0, business_fraction=0.2) == pytest.approx(18.0)
     with pytest.raises(ValueError, match="business_fraction"):
-        rc.person_value_from_wage(30.0, business_fraction=1.5)
+        published.person_value_from_wage(30.0, business_fraction=1.5)
 
 
 def test_escalate_by_price_index() -> None:
     # value x index_to / index_from (common practice, no source)
-    assert rc.escalate(28.69, 200.0, 250.0) == pytest.approx(35.8625)
+    assert published.escalate(28.69, 200.0, 250.0) == pytest.approx(35.8625)
     with pytest.raises(ValueError):
-        rc.escalate(1.0, 0.0, 1.0)
+        published.escalate(1.0, 0.0, 1.0)
 
 
 def dd1_plan(costs: Costs | None) -> Plan:

@@ -437,10 +437,11 @@ def test_from_run_on_an_engine_plan() -> None:
     # above), so the longest queue comes after the closure and is longer than any
     # single-state length at the interval boundaries.
     from wzq.engine.evaluate import evaluate
+    from wzq.engine.queue_length import newell_of_run
 
     run = evaluate(_long_closure_plan())
     assert run.queue.queue[14] > 0  # queued vehicles at 14:00 (setting, not a result)
-    nq = newell.from_run(run)
+    nq = newell_of_run(run)
     assert nq.extent.at_s > 14 * 3600.0
     assert nq.extent.max_m > max(run.length_start.max(), run.length_end.max())
     # the queue dissolves in space when the point queue clears (D/D/1 instants)

@@ -81,7 +81,7 @@ def check_output(args: list[str], capsys: pytest.CaptureFixture[str]) -> tuple[i
     return code, out.out, out.err
 
 
-def same_numbers(a: wzq.engine.evaluate.Result, b: wzq.engine.evaluate.Result) -> None:
+def same_numbers(a: wzq.engine.results.Result, b: wzq.engine.results.Result) -> None:
     """Two results agree hour by hour (queue, length, delay, capacity) and in the summary."""
     cols = ["demand_veh_h", "capacity_veh_h", "queue_max_veh", "queue_length_max_m", "delay_veh_h"]
     np.testing.assert_allclose(a.hourly[cols].to_numpy(), b.hourly[cols].to_numpy(), rtol=1e-9)
@@ -593,7 +593,7 @@ def test_case_06_the_meaning_is_stated_on_the_sheet_in_json_readme_and_report(
     assert "is its queue discharge rate; its pre-breakdown capacity is 100 QDR / (100 − α)" in text
 
 
-def report_text(result: wzq.engine.evaluate.Result) -> str:
+def report_text(result: wzq.engine.results.Result) -> str:
     import io
 
     from pypdf import PdfReader

@@ -8,7 +8,7 @@ Results support, and never replace, the judgement of a qualified engineer and
 the local agency's rules.
 """
 
-from wzq.engine.evaluate import Result, analyse
+from wzq.engine.evaluate import analyse
 from wzq.engine.plan import (
     Approach,
     Closure,
@@ -23,6 +23,7 @@ from wzq.engine.plan import (
     Site,
     Thresholds,
 )
+from wzq.engine.results import Result
 
 __version__ = "0.1.0"
 

@@ -18,8 +18,8 @@ import numpy as np
 import pandas as pd
 
 import wzq
-from wzq.engine.evaluate import Result
 from wzq.engine.plan import Plan, PlanError
+from wzq.engine.results import Result
 from wzq.io.jsonplan import load_plan
 from wzq.present.printable import printable, safe_streams
 from wzq.present.tables import (

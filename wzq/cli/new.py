@@ -129,7 +129,7 @@ def cmd_link(args: argparse.Namespace) -> int:
 
 
 def cmd_check(args: argparse.Namespace) -> int:
-    from wzq.engine.evaluate import input_warnings
+    from wzq.engine.warnings import input_warnings
 
     path = Path(args.path)
     plan = cli.load_any(path)

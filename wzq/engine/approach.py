@@ -709,7 +709,7 @@ def single_state(
     """Queue lengths by the single-state relation, section by section (module notes).
 
     ``queued_discharge_veh_h``: the discharge that sets the queued state on
-    each interval (:func:`wzq.engine.evaluate.queue_state_discharge`). Returns the
+    each interval (:func:`wzq.engine.queue_length.queue_state_discharge`). Returns the
     lengths at the start and end of each interval (m) and a
     :class:`SectionsRun` with the trajectory (piecewise linear in time, jumps
     where the states change) and the exit ramps' delay.

@@ -18,6 +18,8 @@ from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
+from wzq.engine.problems import PlanError, Problem
+from wzq.engine.site import site_model
 from wzq.units import UnitSystem
 
 if TYPE_CHECKING:
@@ -64,37 +66,11 @@ LANDMARK_KINDS: tuple[str, ...] = (
     "other",
 )
 RAMP_KINDS: tuple[str, ...] = ("exit-ramp", "entrance-ramp")
-#: Density at capacity of a basic freeway segment, pc/mi/ln (HCM 7th ed. ch. 12,
-#: the speed-flow curves end at 45 pc/mi/ln at capacity).
-HCM_DENSITY_AT_CAPACITY_PC_MI_LN = 45.0
 
 #: Hours counted as night-time for the HCM work-zone day/night term when a
 #: closure does not say (19:00 to 06:00; common practice, no source).
 NIGHT_START_HOUR = 19
 NIGHT_END_HOUR = 6
-
-
-@dataclass
-class Problem:
-    """One thing wrong with the input: where it is and what to do."""
-
-    where: str
-    message: str
-
-    def __str__(self) -> str:
-        return f"{self.where}: {self.message}"
-
-
-class PlanError(ValueError):
-    """Input a user can fix. Carries one or more :class:`Problem` entries."""
-
-    def __init__(self, problems: list[Problem] | Problem | str, where: str = "plan") -> None:
-        if isinstance(problems, str):
-            problems = [Problem(where, problems)]
-        elif isinstance(problems, Problem):
-            problems = [problems]
-        self.problems: list[Problem] = list(problems)
-        super().__init__("\n".join(str(p) for p in self.problems))
 
 
 @dataclass(frozen=True)
@@ -564,8 +540,6 @@ def _validate_congested_branch(plan: Plan) -> list[Problem]:
         )
     if s.congested_branch != "derived" and not out:
         # the branch must reach the site's capacity: checked with the capacity model
-        from wzq.engine.evaluate import site_model  # imported late: the engine imports this module
-
         try:
             site_model(s, "triangular")
         except PlanError as e:

@@ -11,9 +11,9 @@ and percentiles of the longest queue and the delay.
 
 Every scenario is run exactly as :func:`wzq.analyse` runs a plan: the same grid,
 capacity, capacity drop, queue carried over from hour to hour, queue length by
-the plan's method and the per-hour checks of :func:`wzq.engine.evaluate.hour_checks`;
+the plan's method and the per-hour checks of :func:`wzq.engine.hourly.hour_checks`;
 the tests check the results against :func:`wzq.analyse` scenario by scenario.
-What is shared is computed once (:func:`wzq.engine.evaluate.interval_arrays`), and the
+What is shared is computed once (:func:`wzq.engine.grid.interval_arrays`), and the
 scenarios are solved together as rows of arrays:
 
 * the exact queue by Lindley's recursion along each row (the closed form of
@@ -68,8 +68,10 @@ import pandas as pd
 from scipy import stats
 
 from wzq.engine.design_demand import DemandHistory, historical_scenarios
-from wzq.engine.evaluate import hour_checks, interval_arrays, queue_state_discharge
+from wzq.engine.grid import interval_arrays
+from wzq.engine.hourly import hour_checks
 from wzq.engine.plan import Plan, PlanError, Problem, RiskOptions
+from wzq.engine.queue_length import queue_state_discharge, uses_newell
 from wzq.models import newell
 from wzq.models.flow import Triangular
 from wzq.models.queueing import QueueRun, _lindley
@@ -91,7 +93,7 @@ JOIN = 64
 #: Newell's method on its own (a stricter margin than :mod:`wzq.models.newell`'s).
 _APPROACH_MARGIN = 1e-6
 
-#: The limits by check column of :func:`wzq.engine.evaluate.hour_checks`, in words.
+#: The limits by check column of :func:`wzq.engine.hourly.hour_checks`, in words.
 LIMIT_WORDS = {
     "queue_ok": "queue length",
     "delay_ok": "average delay",
@@ -471,7 +473,7 @@ def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
 
         queue_end = rows.q[:, last_b]
     model = ia.model
-    if plan.options.queue_length_method == "newell" and isinstance(model.diagram, Triangular):
+    if uses_newell(plan.options, model.diagram):
         lmax = _newell_hourly(rows, model.diagram, site.lanes, n_hours)
     else:
         fake = _Flat(rows)
@@ -505,7 +507,7 @@ def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
 
 
 class _Flat:
-    """The rows joined as one sequence for :func:`wzq.engine.evaluate.queue_state_discharge`.
+    """The rows joined as one sequence for :func:`wzq.engine.queue_length.queue_state_discharge`.
 
     That function groups intervals into busy periods that start where a queue
     forms from nothing; every row starts with no queue, so joined rows keep

@@ -15,13 +15,13 @@ demand against the capacity each configuration leaves, and a limit on queue
 length, added delay or demand/capacity (FHWA work-zone fact sheets; see
 REFERENCES.md, "Agency limits for allowing closures"). Here each candidate is
 judged by the engine itself: capacity, discharge rate and work-zone travel time
-from :func:`wzq.engine.evaluate.configuration` (HCM 6th/7th ed. ch. 10 or HCM 2000
+from :func:`wzq.engine.site.configuration` (HCM 6th/7th ed. ch. 10 or HCM 2000
 short-term work zones, the night-time term from the clock as :func:`wzq.analyse`
 does), the exact deterministic queue with the capacity drop
 (:func:`wzq.models.queueing.solve`), the queue length by the plan's method (Newell's
 kinematic wave, :func:`newell_lengths`, or the single-state shockwave relation,
 :func:`shockwave_lengths`) and the per-hour checks of
-:func:`wzq.engine.evaluate.hourly_table`. The verdict for a window is the verdict
+:func:`wzq.engine.hourly.hourly_table`. The verdict for a window is the verdict
 :func:`wzq.analyse` gives a plan with that one closure.
 
 Speed without approximation. Three facts about the run make testing every
@@ -56,7 +56,7 @@ from __future__ import annotations
 
 import datetime as dt
 import math
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -64,14 +64,8 @@ import pandas as pd
 
 from wzq.engine import approach as ap
 from wzq.engine import costs as rc
-from wzq.engine.evaluate import (
-    SiteModel,
-    configuration,
-    hour_checks,
-    night_by_clock,
-    queue_state_discharge,
-    site_model,
-)
+from wzq.engine.grid import night_by_clock
+from wzq.engine.hourly import hour_checks
 from wzq.engine.plan import (
     BARRIERS,
     Approach,
@@ -85,10 +79,10 @@ from wzq.engine.plan import (
     Site,
     Thresholds,
 )
+from wzq.engine.queue_length import LengthFn, length_method, newell_lengths, queue_state_discharge
+from wzq.engine.site import SiteModel, configuration, site_model
 from wzq.models import newell
-from wzq.models.flow import PIECEWISE_LINEAR
 from wzq.models.queueing import QueueRun, solve
-from wzq.models.shockwave import stored_density
 from wzq.units import HOUR
 
 #: Longest demand series the search accepts, in intervals (the allowed set is an
@@ -119,73 +113,6 @@ def too_long_text(n: int, interval_s: int, option: str) -> str:
 #: Relative margin by which the jam-density screen of :func:`_evaluate` stays below
 #: any queue length a method can give (rounding).
 SCREEN_MARGIN = 1e-9
-
-#: (model, lanes in normal operation, demand veh/h, discharge veh/h, queue run)
-#: -> the longest queue (m) within each interval of the run; never shorter than the
-#: queued vehicles packed at the diagram's jam density over every lane.
-LengthFn = Callable[[SiteModel, int, np.ndarray, np.ndarray, QueueRun], np.ndarray]
-
-
-def shockwave_lengths(
-    model: SiteModel,
-    lanes: int,
-    demand_veh_h: np.ndarray,
-    discharge_veh_h: np.ndarray,
-    run: QueueRun,
-) -> np.ndarray:
-    """Longest queue in each interval by the single-state shockwave relation.
-
-    ``N / (n (k_Q - k_A))`` with the queued state at the most restrictive
-    discharge since the queue formed (:func:`wzq.engine.evaluate.queue_state_discharge`;
-    Lighthill & Whitham 1955 for the back-of-queue shock, single-state relation
-    of the traffic-engineering texts), as :func:`wzq.engine.evaluate.evaluate`; the
-    queue is linear within an interval, so its longest is at an end.
-    """
-    stored = stored_density(
-        model.diagram, demand_veh_h, queue_state_discharge(run, discharge_veh_h), lanes
-    )
-    return np.maximum(run.queue[:-1], run.queue[1:]) / stored
-
-
-def newell_lengths(
-    model: SiteModel,
-    lanes: int,
-    demand_veh_h: np.ndarray,
-    discharge_veh_h: np.ndarray,
-    run: QueueRun,
-) -> np.ndarray:
-    """Longest queue in each interval by Newell's simplified kinematic-wave method.
-
-    The exact back-of-queue trajectory of :mod:`wzq.models.newell` (Newell 1993, part
-    I, on the triangular diagram), its maximum taken over each interval, peaks
-    inside an interval included, as :func:`wzq.engine.evaluate.evaluate` does per hour.
-    """
-    fd = model.diagram
-    t, a, d = newell.curves(run)
-    times, dist = newell.trajectory(
-        t,
-        a,
-        d,
-        lanes=lanes,
-        free_speed=fd.free_speed,
-        wave_speed=fd.backward_wave_speed,
-        jam_density=fd.jam_density,
-    )
-    return newell.hourly_max(times, dist, run.t)
-
-
-#: Queue-length method of :class:`wzq.engine.plan.Options` -> the function the search calls.
-#: A new method is added here in one line.
-LENGTH_METHODS: dict[str, LengthFn] = {"shockwave": shockwave_lengths, "newell": newell_lengths}
-
-
-def length_method(options: Options, model: SiteModel) -> LengthFn:
-    """The plan's queue-length function; Newell's needs the triangular diagram, as in
-    :func:`wzq.engine.evaluate.evaluate` (otherwise the single-state relation)."""
-    if options.queue_length_method == "newell" and not isinstance(model.diagram, PIECEWISE_LINEAR):
-        return shockwave_lengths
-    return LENGTH_METHODS[options.queue_length_method]
-
 
 # ---------------------------------------------------------------------------------------------
 # Inputs
@@ -284,7 +211,7 @@ def _checks(
     delay_veh_h: np.ndarray,
     closed: np.ndarray,
 ) -> np.ndarray:
-    """All of :func:`wzq.engine.evaluate.hour_checks` passed, hour by hour."""
+    """All of :func:`wzq.engine.hourly.hour_checks` passed, hour by hour."""
     ok = np.ones(len(arrivals), dtype=bool)
     checks = hour_checks(g.thresholds, arrivals, capacity, lmax, delay_veh_h, closed, g.landmark)
     for _, _, passed in checks[2]:

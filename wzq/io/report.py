@@ -20,7 +20,7 @@ orientation keeps printing and binding simple). Text is set in DejaVu Sans,
 the font shipped with matplotlib, embedded as a subset, so any name a user
 types (accents, other scripts DejaVu covers) prints as typed.
 
-This module is an adapter: it reads a :class:`wzq.engine.evaluate.Result` and writes
+This module is an adapter: it reads a :class:`wzq.engine.results.Result` and writes
 a file; it computes nothing the engine does not.
 """
 
@@ -64,8 +64,8 @@ from reportlab.platypus.doctemplate import LayoutError
 
 import wzq
 from wzq import units as u
-from wzq.engine.evaluate import Result
 from wzq.engine.plan import PlanError, Problem, Site
+from wzq.engine.results import Result
 from wzq.io.workbook import layout as L
 from wzq.models.capacity import METHOD_LABELS
 from wzq.present import figures as charts

@@ -30,6 +30,9 @@ FREEWAY_CAPACITY_SLOPE = 10.0  # pc/h/ln per mi/h of FFS above 50
 FREEWAY_REFERENCE_FFS_MPH = 50.0
 FREEWAY_MAX_CAPACITY_PC_H_LN = 2400.0
 FREEWAY_FFS_RANGE_MPH = (55.0, 75.0)  # range the equation was calibrated for
+#: Density at capacity of a basic freeway segment, pc/mi/ln (HCM 7th ed. ch. 12,
+#: the speed-flow curves end at 45 pc/mi/ln at capacity).
+HCM_DENSITY_AT_CAPACITY_PC_MI_LN = 45.0
 
 # --- HCM 7th ed., Ch. 12: multilane highway segments ----------------------------------------
 MULTILANE_BASE_CAPACITY_PC_H_LN = 1900.0  # capacity at FFS 45 mi/h

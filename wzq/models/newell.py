@@ -93,16 +93,13 @@ References (bibliographic details from memory):
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Literal
+from typing import Literal
 
 import numpy as np
 
 from wzq.models.flow import PIECEWISE_LINEAR, FundamentalDiagram
 from wzq.models.queueing import QueueRun
 from wzq.units import HOUR
-
-if TYPE_CHECKING:
-    from wzq.engine.evaluate import Run
 
 __all__ = [
     "ZERO_M",
@@ -115,7 +112,6 @@ __all__ = [
     "dissolve_times",
     "extent",
     "from_queue",
-    "from_run",
     "hourly_max",
     "trajectory",
 ]
@@ -660,8 +656,3 @@ def from_queue(
         dissolved_s=dissolve_times(times, dist),
         capacity_limited=limited,
     )
-
-
-def from_run(run: Run, *, after_end: AfterEnd = "rate") -> NewellQueue:
-    """:func:`from_queue` for an engine run (:func:`wzq.engine.evaluate.evaluate`)."""
-    return from_queue(run.queue, run.model.diagram, run.plan.site.lanes, after_end=after_end)

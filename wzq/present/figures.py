@@ -30,7 +30,7 @@ from matplotlib.figure import Figure
 from matplotlib.patches import Patch
 
 from wzq import units as u
-from wzq.engine.evaluate import Result
+from wzq.engine.results import Result
 from wzq.present.tables import (  # noqa: F401  (re-exported: the report's names)
     MAX_PANELS,
     Episode,

@@ -37,9 +37,9 @@ from matplotlib.lines import Line2D
 
 import wzq
 from wzq import units as u
-from wzq.engine.evaluate import Result, Run
 from wzq.engine.lwr.simulation import Simulation, simulate
 from wzq.engine.plan import Plan
+from wzq.engine.results import Result, Run
 from wzq.present.figures import time_axis
 
 __all__ = ["SPEED_SHADES", "space_time_figure", "space_time_png"]

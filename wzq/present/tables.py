@@ -16,8 +16,8 @@ import pandas as pd
 
 from wzq import units as u
 from wzq.engine import costs as road_user_costs
-from wzq.engine.evaluate import Result
 from wzq.engine.plan import Plan
+from wzq.engine.results import Result
 
 #: Most queues (busy periods) drawn one chart each (the largest are kept).
 MAX_PANELS = 6

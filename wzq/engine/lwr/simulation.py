@@ -73,8 +73,11 @@ import numpy.typing as npt
 import pandas as pd
 
 from wzq.engine import approach
-from wzq.engine.evaluate import Result, Run, evaluate, hourly_table, queue_state_discharge
+from wzq.engine.evaluate import evaluate
+from wzq.engine.hourly import hourly_table
 from wzq.engine.plan import Plan
+from wzq.engine.queue_length import queue_state_discharge
+from wzq.engine.results import Result, Run
 from wzq.models.flow import CappedGreenshields, FundamentalDiagram, Greenshields, Triangular
 from wzq.models.shockwave import stored_density
 from wzq.units import HOUR
@@ -1246,7 +1249,7 @@ class Simulation:
     def hourly(self) -> pd.DataFrame:
         """Hour by hour over the window: the engine's figures beside the LWR ones.
 
-        ``engine_*`` columns are the engine's (:func:`wzq.engine.evaluate.hourly_table`;
+        ``engine_*`` columns are the engine's (:func:`wzq.engine.hourly.hourly_table`;
         its queue length by the method in :attr:`engine_method`; its delay here
         is the queueing delay only, without the extra travel time through the
         work zone, which the approach model does not see);

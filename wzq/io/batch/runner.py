@@ -46,8 +46,8 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import wzq
-from wzq.engine.evaluate import Result
 from wzq.engine.plan import PlanError, Problem
+from wzq.engine.results import Result
 from wzq.io.batch.summary import (
     STATE_SHEET,
     Issue,

@@ -39,7 +39,7 @@ from typing import Any, Literal
 
 import wzq
 from wzq import units as u
-from wzq.engine.evaluate import Result
+from wzq.engine.results import Result
 from wzq.present.tables import rounded
 
 PLANS_SHEET = "Plans"

@@ -44,8 +44,8 @@ from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.table import Table, TableColumn
 
 import wzq
-from wzq.engine.evaluate import Result
 from wzq.engine.plan import PlanError, Problem
+from wzq.engine.results import Result
 from wzq.io.live.charts import add_charts
 from wzq.io.live.sheets import Skipped, excel_literal, write_sheet
 from wzq.io.workbook import layout

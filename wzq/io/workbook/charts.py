@@ -49,7 +49,7 @@ from openpyxl.utils.datetime import to_excel
 from openpyxl.worksheet.pagebreak import Break
 
 from wzq import units as u
-from wzq.engine.evaluate import Result
+from wzq.engine.results import Result
 from wzq.io.workbook import writer as w
 from wzq.present.tables import Episode, episode_title, episode_window, rounded, shown_episodes
 

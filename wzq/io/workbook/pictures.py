@@ -17,7 +17,7 @@ from openpyxl.utils import get_column_letter
 from openpyxl.utils.cell import range_boundaries
 from openpyxl.worksheet.pagebreak import Break
 
-from wzq.engine.evaluate import Result
+from wzq.engine.results import Result
 from wzq.io.workbook import layout
 
 DPI = 110

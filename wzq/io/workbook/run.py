@@ -27,8 +27,8 @@ from openpyxl.workbook.workbook import Workbook
 
 import wzq
 from wzq import cli
-from wzq.engine.evaluate import Result
 from wzq.engine.plan import Plan, PlanError, Problem
+from wzq.engine.results import Result
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.workbook import layout
 from wzq.io.workbook.formula_values import WithSavedResults
@@ -275,16 +275,14 @@ def run_to(
         fresh = book_from_bytes(data, src, keep_links=True, rich_text=True)  # a saved book's
         write(fresh, notes)  # pictures cannot be saved again by openpyxl
         save_atomic(WithSavedResults(fresh, data), copy)  # formulas keep their results
-        result.warnings.extend(extra)
-        return RunOutcome(result, copy, notes, True)
+        return RunOutcome(result.with_warnings(extra), copy, notes, True)
 
     if in_place and report.unkept:  # known before writing: the copy at once
         return to_copy(_kept_words(src, _unkept_text(report.unkept)))
     write(book, notes)
     if not in_place:
         save_atomic(WithSavedResults(book, data), target, office_profile=office_profile)
-        result.warnings.extend(extra)
-        return RunOutcome(result, target, notes, False)
+        return RunOutcome(result.with_warnings(extra), target, notes, False)
     try:
         save_atomic(
             WithSavedResults(book, data),
@@ -306,8 +304,7 @@ def run_to(
             f"{src.name} changed on disk while wzq ran (the results are for the version it "
             "read; run wzq again for your new version)"
         )
-    result.warnings.extend(extra)
-    return RunOutcome(result, target, notes, False)
+    return RunOutcome(result.with_warnings(extra), target, notes, False)
 
 
 def run_workbook(

@@ -46,8 +46,8 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 import wzq
 from wzq import units as u
-from wzq.engine.evaluate import Result
 from wzq.engine.plan import Closure, Plan, PlanError, Problem
+from wzq.engine.results import Result
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.workbook import layout
 from wzq.present.tables import Column, hour_label, hourly_columns, rounded, summary_lines

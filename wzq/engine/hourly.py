@@ -1,0 +1,198 @@
+"""The per-hour table, each hour's checks against the limits, and the summary of a run."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from wzq.engine import costs as road_user_costs
+from wzq.engine.plan import Plan, Thresholds
+from wzq.engine.results import Run, Summary, clock
+from wzq.models.queueing import waits
+from wzq.units import HOUR
+
+__all__ = [
+    "CHECK_COLUMNS",
+    "DELAY_TOLERANCE_S",
+    "LENGTH_TOLERANCE_M",
+    "RATIO_TOLERANCE",
+    "hour_checks",
+    "hourly_table",
+    "landmark_limit",
+    "summarise",
+]
+
+
+#: Slack on the limits, absorbing rounding of long sums (m, s, ratio).
+LENGTH_TOLERANCE_M = 1e-9
+DELAY_TOLERANCE_S = 1e-9
+RATIO_TOLERANCE = 1e-12
+
+
+#: The per-hour pass/fail columns :func:`hour_checks` may add to the table.
+CHECK_COLUMNS = ("queue_ok", "delay_ok", "demand_capacity_ok", "landmark_ok")
+_QUEUE_OK, _DELAY_OK, _DEMAND_CAPACITY_OK, _LANDMARK_OK = CHECK_COLUMNS
+
+
+def landmark_limit(plan: Plan) -> tuple[str, float] | None:
+    """The landmark the queue must not pass, as ``(name, distance m)``, or ``None``."""
+    name = plan.thresholds.queue_must_not_pass
+    lm = None if name is None else plan.approach.landmark(name)
+    return None if lm is None else (lm.name, lm.distance)
+
+
+def hour_checks(
+    th: Thresholds,
+    arrivals: np.ndarray,
+    capacity: np.ndarray,
+    lmax: np.ndarray,
+    delay_veh_h: np.ndarray,
+    closed: np.ndarray,
+    landmark: tuple[str, float] | None = None,
+) -> tuple[np.ndarray, np.ndarray, list[tuple[str, str, np.ndarray]]]:
+    """Average delay (min/veh), demand/capacity and each hour's checks against the limits.
+
+    Longest queue ``<=`` limit; average delay (queue plus work-zone travel delay
+    over the hour's arrivals) ``<=`` limit; demand/capacity ``<=`` limit in closure
+    hours only; the back of the queue not beyond the landmark ``(name, distance
+    m)`` the queue must not pass. The one rule for the per-hour table and the
+    closure-window search. Returns ``(average_delay_min, demand_capacity,
+    [(column, label, ok), ...])``.
+    """
+    with np.errstate(divide="ignore", invalid="ignore"):
+        avg = np.where(
+            arrivals > 0, delay_veh_h * 60.0 / np.where(arrivals > 0, arrivals, 1.0), 0.0
+        )
+        dc = np.where(capacity > 0, arrivals / np.where(capacity > 0, capacity, 1.0), np.nan)
+    checks: list[tuple[str, str, np.ndarray]] = []
+    if th.max_queue_length is not None:
+        ok = lmax <= th.max_queue_length + LENGTH_TOLERANCE_M
+        checks.append((_QUEUE_OK, "queue length", ok))
+    if th.max_average_delay is not None:
+        ok = avg * 60.0 <= th.max_average_delay + DELAY_TOLERANCE_S
+        checks.append((_DELAY_OK, "delay", ok))
+    if th.max_demand_capacity is not None:
+        ok = ~closed | (dc <= th.max_demand_capacity + RATIO_TOLERANCE)
+        checks.append((_DEMAND_CAPACITY_OK, "demand/capacity", ok))
+    if landmark is not None:
+        ok = lmax <= landmark[1] + LENGTH_TOLERANCE_M
+        checks.append((_LANDMARK_OK, f"queue passes {landmark[0]}", ok))
+    return avg, dc, checks
+
+
+def _per_hour_identity(values: np.ndarray, _first: None) -> np.ndarray:
+    """Per-hour sum, maximum or minimum when each interval is a whole hour."""
+    return values
+
+
+def hourly_table(r: Run) -> pd.DataFrame:
+    """Per-hour demand, capacity, queue, length, delay and threshold checks."""
+    q = r.queue
+    dur = r.duration
+    n_hours = round(r.t[-1] / HOUR)
+    bounds = np.arange(n_hours + 1) * HOUR
+    if len(r.t) == n_hours + 1:  # the grid is the hours: each interval is its hour
+        first = last_b = None
+        add = top = low = _per_hour_identity
+    else:
+        first = np.searchsorted(r.t, bounds[:-1])
+        last_b = np.searchsorted(r.t, bounds[1:])
+        add, top, low = np.add.reduceat, np.maximum.reduceat, np.minimum.reduceat
+
+    arrivals = add(q.arrivals, first)
+    capacity = add(r.prebreakdown_veh_h * dur, first) / HOUR
+    queue_delay = add(q.delay, first) / HOUR
+    wz_delay = add(r.work_zone_delay, first) / HOUR
+    delay = queue_delay + wz_delay
+    if r.back_of_queue is not None:
+        lmax = r.back_of_queue.hourly_max_m  # exact, peaks inside intervals included
+    else:
+        lmax = top(np.maximum(r.length_start, r.length_end), first)
+    closed = top((r.closure >= 0).view(np.int8), first).astype(bool)
+    avg, dc, checks = hour_checks(
+        r.plan.thresholds, arrivals, capacity, lmax, delay, closed, landmark_limit(r.plan)
+    )
+    exits = () if r.sections is None else r.sections.exits
+    exit_delay = sum((e.delay_veh_s for e in exits), np.zeros(n_hours)) / HOUR
+    max_wait = np.zeros(n_hours)
+    if q.busy.any():
+        cand, w = waits(q)
+        hour_of = np.clip((cand // HOUR).astype(np.int64), 0, n_hours - 1)
+        np.maximum.at(max_wait, hour_of, w / 60.0)
+    cols: dict[str, object] = {
+        "hour_start": pd.date_range(r.plan.demand.start, periods=n_hours, freq="h"),
+        "lanes_open": low(r.lanes_open, first),
+        "closure": closed,
+        "demand_veh_h": arrivals,
+        "capacity_veh_h": capacity,
+        "discharge_veh_h": add(r.discharge_veh_h * dur, first) / HOUR,
+        "demand_capacity": dc,
+        "arrivals_veh": arrivals,
+        "departures_veh": add(q.departures, first),
+        "queue_end_veh": q.queue[1:] if last_b is None else q.queue[last_b],
+        "queue_max_veh": top(np.maximum(q.queue[:-1], q.queue[1:]), first),
+        "queue_length_max_m": lmax,
+        "queue_delay_veh_h": queue_delay,
+        "work_zone_delay_veh_h": wz_delay,
+        "delay_veh_h": delay,
+        "average_delay_min": avg,
+        "max_queue_wait_min": max_wait,
+        "road_user_cost": road_user_costs.plan_delay_cost(r.plan, delay + exit_delay),
+    }
+    if exits:  # the traffic for exit ramps held in the queue (not in the delay per vehicle)
+        cols["exit_ramp_delay_veh_h"] = exit_delay
+    code = np.zeros(n_hours, dtype=np.int64)
+    for bit, (name, _, ok) in enumerate(checks):
+        cols[name] = ok
+        code |= (~ok).astype(np.int64) << bit
+    labels = []
+    for c in range(1 << len(checks)):
+        failed = [label for bit, (_, label, _) in enumerate(checks) if c >> bit & 1]
+        labels.append("over limit: " + ", ".join(failed) if failed else "ok")
+    cols["status"] = np.array(labels, dtype=object)[code]
+    return pd.DataFrame(cols)
+
+
+def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
+    """Maximum queue and when, totals, last clearance, failing hours."""
+    q = r.queue
+    if r.back_of_queue is not None:
+        ext = r.back_of_queue.extent
+        lmax, lmax_at = ext.max_m, ext.at_s
+    else:
+        lengths = np.concatenate((r.length_start, r.length_end))
+        times = np.concatenate((r.t[:-1], r.t[1:]))
+        i = int(np.argmax(lengths))
+        lmax, lmax_at = float(lengths[i]), float(times[i])
+    j = int(np.argmax(q.queue))
+    clears = q.clear_times()
+    last_clear = None
+    if len(clears) and q.queue[-1] == 0:
+        last_clear = clock(r, float(clears.max()))
+    over = np.zeros(len(hourly), dtype=bool)
+    for name in CHECK_COLUMNS:
+        if name in hourly:
+            over |= ~hourly[name].to_numpy(dtype=bool)
+    failing = (
+        tuple(pd.DatetimeIndex(hourly["hour_start"][over]).to_pydatetime()) if over.any() else ()
+    )
+    qd = float(q.delay.sum()) / HOUR
+    wd = float(r.work_zone_delay.sum()) / HOUR
+    xd = 0.0 if r.sections is None else float(sum(e.total_veh_h for e in r.sections.exits))
+    return Summary(
+        max_queue_length_m=lmax,
+        max_queue_length_at=clock(r, lmax_at) if lmax > 0 and lmax_at is not None else None,
+        max_queue_veh=float(q.queue[j]),
+        max_queue_veh_at=clock(r, r.t[j]) if q.queue[j] > 0 else None,
+        total_delay_veh_h=qd + wd + xd,
+        queue_delay_veh_h=qd,
+        work_zone_delay_veh_h=wd,
+        vehicles_affected=float((q.arrival_rate * q.busy).sum()),
+        max_average_delay_min=float(hourly["average_delay_min"].max()),
+        max_queue_wait_min=float(hourly["max_queue_wait_min"].max()),
+        last_queue_clears=last_clear,
+        queue_at_end_veh=float(q.queue[-1]),
+        hours_failing=failing,
+        total_cost=float(road_user_costs.plan_delay_cost(r.plan, qd + wd + xd)),
+        exit_ramp_delay_veh_h=xd,
+    )

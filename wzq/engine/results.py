@@ -1,0 +1,226 @@
+"""What the engine returns: the arrays on the time grid (:class:`Run`), the headline
+figures (:class:`Summary`) and the result of an analysis (:class:`Result`), all frozen.
+
+A :class:`Result` holds named outputs: the per-hour table (``hourly``), the
+intervals of the exact solution (``intervals``), the back-of-queue trajectory
+(``back_of_queue``), the summary, the warnings, and the landmark and exit-ramp
+tables. Outputs (sheets, charts, report, terminal) read those.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass, replace
+from functools import cached_property
+
+import numpy as np
+import pandas as pd
+
+from wzq.engine import approach
+from wzq.engine.plan import Plan
+from wzq.engine.site import SiteModel
+from wzq.models import newell
+from wzq.models.queueing import QueueRun
+from wzq.units import HOUR
+
+__all__ = [
+    "Result",
+    "Run",
+    "Summary",
+    "clock",
+    "landmark_results",
+    "queue_trajectory",
+]
+
+
+@dataclass(frozen=True)
+class Run:
+    """The engine's arrays on the time grid (``m`` intervals, ``m+1`` boundaries).
+
+    Times are seconds from the start of the demand; flows veh/h; queue in
+    vehicles; lengths metres; delays vehicle-seconds.
+    """
+
+    plan: Plan
+    model: SiteModel
+    t: np.ndarray
+    closure: np.ndarray  # index into plan.closures, -1 when open
+    lanes_open: np.ndarray
+    demand_veh_h: np.ndarray
+    prebreakdown_veh_h: np.ndarray
+    discharge_veh_h: np.ndarray
+    queue: QueueRun
+    length_start: np.ndarray
+    length_end: np.ndarray
+    work_zone_delay: np.ndarray
+    back_of_queue: newell.NewellQueue | None = None
+    sections: approach.SectionsRun | None = None  # the approach's ramps, when it has any
+
+    @property
+    def length_method(self) -> str:
+        """``"newell"`` or ``"shockwave"``: how queue lengths were found."""
+        return "shockwave" if self.back_of_queue is None else "newell"
+
+    @property
+    def duration(self) -> np.ndarray:
+        return np.diff(self.t)
+
+    def clock(self, seconds: np.ndarray | float) -> pd.DatetimeIndex:
+        return pd.Timestamp(self.plan.demand.start) + pd.to_timedelta(seconds, unit="s")
+
+
+@dataclass(frozen=True)
+class Summary:
+    """Headline figures of a run (SI; times as local clock)."""
+
+    max_queue_length_m: float
+    max_queue_length_at: dt.datetime | None
+    max_queue_veh: float
+    max_queue_veh_at: dt.datetime | None
+    total_delay_veh_h: float
+    queue_delay_veh_h: float
+    work_zone_delay_veh_h: float
+    vehicles_affected: float
+    max_average_delay_min: float
+    max_queue_wait_min: float
+    last_queue_clears: dt.datetime | None
+    queue_at_end_veh: float
+    hours_failing: tuple[dt.datetime, ...]
+    total_cost: float | None = None
+    exit_ramp_delay_veh_h: float = 0.0  # traffic for exit ramps held in the queue
+
+
+@dataclass(frozen=True, eq=False)
+class Result:
+    """What :func:`wzq.analyse` returns: the per-hour table, the summary and the
+    warnings, and (computed when first asked for) the intervals, the back-of-queue
+    trajectory and the landmark and exit-ramp tables.
+
+    ``run`` holds the engine's arrays on its time grid; outputs read the named
+    tables instead. Frozen: :meth:`with_warnings` gives a result with more warnings.
+    """
+
+    run: Run
+    hourly: pd.DataFrame
+    summary: Summary
+    warnings: tuple[str, ...] = ()
+
+    @property
+    def plan(self) -> Plan:
+        return self.run.plan
+
+    def with_warnings(self, more: list[str] | tuple[str, ...]) -> Result:
+        """The same result with ``more`` warnings after its own (notes of a save ...)."""
+        return replace(self, warnings=(*self.warnings, *more))
+
+    @cached_property
+    def back_of_queue(self) -> pd.DataFrame:
+        """The back of the queue against time, piecewise linear: ``time`` (local clock),
+        ``seconds`` (from the start of the demand) and ``distance_m`` upstream of the
+        taper (Newell's trajectory, or the single-state lengths joined within each
+        interval)."""
+        times, dist = queue_trajectory(self.run)
+        return pd.DataFrame({"time": self.run.clock(times), "seconds": times, "distance_m": dist})
+
+    @cached_property
+    def intervals(self) -> pd.DataFrame:
+        """One row per interval of the exact solution (for cumulative-curve charts)."""
+        r = self.run
+        q = r.queue
+        return pd.DataFrame(
+            {
+                "start": r.clock(r.t[:-1]),
+                "end": r.clock(r.t[1:]),
+                "lanes_open": r.lanes_open,
+                "demand_veh_h": r.demand_veh_h,
+                "capacity_veh_h": r.prebreakdown_veh_h,
+                "discharge_veh_h": r.discharge_veh_h,
+                "queue_start_veh": q.queue[:-1],
+                "queue_end_veh": q.queue[1:],
+                "queue_length_start_m": r.length_start,
+                "queue_length_end_m": r.length_end,
+                "arrivals_cum_veh": q.arrivals_cum[1:],
+                "departures_cum_veh": q.departures_cum[1:],
+                "delay_veh_h": (q.delay + r.work_zone_delay) / HOUR,
+            }
+        )
+
+    @cached_property
+    def landmark_results(self) -> tuple[approach.LandmarkResult, ...]:
+        """Per landmark of the approach: where the back of the queue stood against it."""
+        return landmark_results(self.run, self.hourly)
+
+    @cached_property
+    def landmarks(self) -> pd.DataFrame:
+        """One row per landmark (nearest the closure first): ``name``, ``kind``,
+        ``distance_m``, ``first_reached`` (local clock, ``NaT``: never),
+        ``time_beyond_h``, ``max_beyond_m``, ``hours_beyond`` (how many hours
+        the back of the queue was beyond it at some instant)."""
+        rows = sorted(self.landmark_results, key=lambda r: r.landmark.distance)
+        first = [
+            None if r.first_reached_s is None else clock(self.run, r.first_reached_s) for r in rows
+        ]
+        return pd.DataFrame(
+            {
+                "name": [r.landmark.name for r in rows],
+                "kind": [r.landmark.kind for r in rows],
+                "distance_m": np.array([r.landmark.distance for r in rows], dtype=float),
+                "first_reached": pd.to_datetime(pd.Series(first, dtype=object)),
+                "time_beyond_h": np.array([r.time_beyond_s / HOUR for r in rows], dtype=float),
+                "max_beyond_m": np.array([r.max_beyond_m for r in rows], dtype=float),
+                "hours_beyond": np.array([int(r.hours_beyond.sum()) for r in rows], dtype=int),
+            }
+        )
+
+    @cached_property
+    def landmark_hours(self) -> pd.DataFrame:
+        """Per hour, per landmark (a column named after it): the back of the queue
+        was beyond it at some instant of the hour."""
+        cols: dict[str, object] = {"hour_start": self.hourly["hour_start"]}
+        for r in sorted(self.landmark_results, key=lambda r: r.landmark.distance):
+            cols[r.landmark.name] = r.hours_beyond
+        return pd.DataFrame(cols)
+
+    @cached_property
+    def exit_ramps(self) -> pd.DataFrame:
+        """Per exit ramp the queue reached or not: ``name``, ``distance_m``,
+        ``delay_veh_h`` (the exiting traffic held in the queue) and
+        ``max_wait_min`` (the longest extra time of one exiting vehicle; NaN with
+        the single-state relation)."""
+        sec = self.run.sections
+        exits = () if sec is None else sec.exits
+        return pd.DataFrame(
+            {
+                "name": [e.name for e in exits],
+                "distance_m": np.array([e.distance for e in exits], dtype=float),
+                "delay_veh_h": np.array([e.total_veh_h for e in exits], dtype=float),
+                "max_wait_min": np.array(
+                    [np.nan if e.max_wait_s is None else e.max_wait_s / 60.0 for e in exits],
+                    dtype=float,
+                ),
+            }
+        )
+
+
+def queue_trajectory(r: Run) -> tuple[np.ndarray, np.ndarray]:
+    """The back of the queue against time (s, m), piecewise linear: Newell's
+    trajectory, or the single-state lengths joined within each interval."""
+    if r.back_of_queue is not None:
+        return r.back_of_queue.times, r.back_of_queue.distance
+    if r.sections is not None:
+        return r.sections.times, r.sections.distance
+    return approach.trajectory_of_lengths(r.queue, r.length_start, r.length_end)
+
+
+def landmark_results(r: Run, hourly: pd.DataFrame) -> tuple[approach.LandmarkResult, ...]:
+    """:func:`wzq.engine.approach.landmark_results` for a run and its per-hour table."""
+    landmarks = r.plan.approach.landmarks
+    if not landmarks:
+        return ()
+    times, dist = queue_trajectory(r)
+    lmax = hourly["queue_length_max_m"].to_numpy(dtype=float)
+    return approach.landmark_results(landmarks, times, dist, lmax)
+
+
+def clock(r: Run, seconds: float) -> dt.datetime:
+    return r.plan.demand.start + dt.timedelta(seconds=round(float(seconds), 3))
