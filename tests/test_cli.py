@@ -49,7 +49,7 @@ def test_bad_plan_exits_2_without_traceback(tmp_path: Path) -> None:
     p.write_text(json.dumps(data))
     before = p.read_bytes()
     proc = subprocess.run(
-        [sys.executable, "-m", "wzq.cli", "show", str(p)], capture_output=True, text=True
+        [sys.executable, "-m", "wzq", "show", str(p)], capture_output=True, text=True
     )
     assert proc.returncode == 2
     assert "Traceback" not in proc.stderr

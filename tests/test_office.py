@@ -39,7 +39,7 @@ from wzq.present.tables import summary_lines
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = ROOT / "examples"
-SOURCES = ROOT / "wzq" / "office" / "extension"
+SOURCES = ROOT / "wzq" / "io" / "office" / "extension"
 PROFILE = "file:///home/ana/.config/libreoffice/4"
 
 

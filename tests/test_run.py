@@ -24,6 +24,7 @@ from workbook_helpers import fill_template, named_cell, set_named
 import wzq
 from wzq import cli
 from wzq.io.jsonplan import load_plan
+from wzq.io.plans import demo_plan
 from wzq.io.workbook import layout
 from wzq.io.workbook import writer as w
 from wzq.io.workbook.reader import read_plan
@@ -416,7 +417,7 @@ def test_a_closure_note_typed_as_a_formula_is_not_evaluated(tmp_path):
 def test_demo_workbook_is_the_shipped_example_with_its_results(tmp_path):
     path = write_demo_workbook(tmp_path)
     assert path.parent == tmp_path and path.suffix == ".xlsx"
-    assert w.input_fingerprint(read_plan(path)) == w.input_fingerprint(cli.demo_plan())
+    assert w.input_fingerprint(read_plan(path)) == w.input_fingerprint(demo_plan())
     book = openpyxl.load_workbook(path)
     assert book.sheetnames[-len(layout.OUTPUT_SHEETS) :] == list(layout.OUTPUT_SHEETS)
     log = {r[0]: r[1] for r in book[layout.RUN_LOG].iter_rows(min_row=3, values_only=True)}

@@ -23,7 +23,7 @@ def wzq_cli(*args: str, columns: int | None = None) -> subprocess.CompletedProce
     if columns is not None:
         env["COLUMNS"] = str(columns)
     return subprocess.run(
-        [sys.executable, "-m", "wzq.cli", *args],
+        [sys.executable, "-m", "wzq", *args],
         capture_output=True,
         text=True,
         env=env,

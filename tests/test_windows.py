@@ -27,10 +27,11 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import wzq
-from wzq.cli import demo_plan, main
+from wzq.cli import main
 from wzq.engine import windows as W
 from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, Site, Thresholds
 from wzq.io.jsonplan import plan_to_dict
+from wzq.io.plans import demo_plan
 from wzq.io.workbook.windows_sheet import SHEET, write_windows_sheet
 
 START = dt.datetime(2027, 5, 3)  # a Monday (invented dates)

@@ -14,7 +14,7 @@ from pathlib import Path
 from typing import TextIO
 
 import wzq
-from wzq.cli import EXTRA_COMMANDS
+from wzq.cli import EXIT_FAILURE, EXIT_INPUT, EXIT_OK, explain
 from wzq.engine.plan import PlanError, Problem
 from wzq.io.batch.runner import DEFAULT_RETRIES, DEFAULT_SUMMARY, BatchResult, Outcome, run_batch
 from wzq.present.printable import printable, unwrapped
@@ -179,14 +179,13 @@ def cmd_batch(args: argparse.Namespace) -> int:
     finally:
         bar.stop()
     closing_summary(result, sys.stdout, sys.stderr)
-    return result.exit_status
+    return batch_status(result)
 
 
-def register(sub: argparse._SubParsersAction) -> None:
-    """Add ``wzq batch`` to the command line."""
-    p = sub.add_parser(
-        "batch",
-        help="analyse every plan in a folder and write one summary workbook and CSV",
+def configure(p: argparse.ArgumentParser) -> None:
+    """The description and arguments of ``wzq batch``."""
+    explain(
+        p,
         description=DESCRIPTION,
         epilog=EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
@@ -245,8 +244,15 @@ def register(sub: argparse._SubParsersAction) -> None:
         metavar="N",
         help=f"times a plan is tried again when its worker dies (default: {DEFAULT_RETRIES})",
     )
-    p.set_defaults(func=cmd_batch)
 
 
-if register not in EXTRA_COMMANDS:
-    EXTRA_COMMANDS.append(register)
+run = cmd_batch
+
+
+def batch_status(result: BatchResult) -> int:
+    """The exit status of a folder run: 0 every plan analysed (and written back or
+    reported when asked); 2 some plans need fixing (all listed); 1 an unexpected error
+    or a worker that kept dying."""
+    if result.unexpected:
+        return EXIT_FAILURE
+    return EXIT_INPUT if result.need_fixing else EXIT_OK

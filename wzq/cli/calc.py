@@ -21,7 +21,7 @@ import tempfile
 from pathlib import Path
 
 import wzq
-from wzq import cli
+from wzq.cli import EXIT_OK, explain
 from wzq.engine.plan import PlanError, Problem
 from wzq.io.office.build import IDENTIFIER, OXT_NAME, build_extension
 
@@ -230,22 +230,19 @@ def cmd_calc(args: argparse.Namespace) -> int:
     else:
         remove(all_users=args.all_users, profile=args.profile, unopkg=args.unopkg)
         print(f"removed the Recalculate plan command from LibreOffice Calc for {scope}")
-    return cli.EXIT_OK
+    return EXIT_OK
 
 
-def register(sub: argparse._SubParsersAction) -> None:
-    """Add ``wzq calc`` to the command's sub-commands."""
-    p = sub.add_parser(
-        "calc",
-        help="add (or remove) the Recalculate plan command in LibreOffice Calc",
-        description=(
-            "Add the Recalculate plan command to LibreOffice Calc (a wzq menu and a toolbar "
-            "button): it saves the plan open in Calc (asking first), analyses it with this "
-            "Python and wzq, and reloads it with the results; problems are listed with "
-            "their sheet and cell. `install` and `remove` use LibreOffice's own extension "
-            "tool, unopkg; close LibreOffice first. `build` only writes the extension file "
-            f"{OXT_NAME}."
-        ),
+def configure(p: argparse.ArgumentParser) -> None:
+    """The description and arguments of ``wzq calc``."""
+    explain(
+        p,
+        description="Add the Recalculate plan command to LibreOffice Calc (a wzq menu and a "
+        "toolbar button): it saves the plan open in Calc (asking first), analyses it with this "
+        "Python and wzq, and reloads it with the results; problems are listed with "
+        "their sheet and cell. `install` and `remove` use LibreOffice's own extension "
+        "tool, unopkg; close LibreOffice first. `build` only writes the extension file "
+        f"{OXT_NAME}.",
         epilog=wzq.CAUTION,
     )
     p.add_argument("action", choices=("install", "remove", "build"), help="what to do")
@@ -272,8 +269,6 @@ def register(sub: argparse._SubParsersAction) -> None:
         "for a portable LibreOffice or a test profile",
     )
     p.add_argument("--unopkg", metavar="PATH", help="LibreOffice's unopkg, if not found")
-    p.set_defaults(func=cmd_calc)
 
 
-if register not in cli.EXTRA_COMMANDS:
-    cli.EXTRA_COMMANDS.append(register)
+run = cmd_calc

@@ -10,8 +10,9 @@ import dataclasses
 from pathlib import Path
 
 import wzq
-from wzq.cli import EXIT_OK, EXTRA_COMMANDS, load_any
+from wzq.cli import EXIT_OK, explain
 from wzq.engine.plan import PlanError, Problem
+from wzq.io.plans import load_any
 from wzq.io.report import PAPERS, write_report
 
 DESCRIPTION = """\
@@ -76,11 +77,10 @@ def cmd_report(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
-def register(sub: argparse._SubParsersAction) -> None:
-    """Add ``wzq report`` to the command line."""
-    p = sub.add_parser(
-        "report",
-        help="write the printable PDF report (hourly table, charts, inputs, sign-off)",
+def configure(p: argparse.ArgumentParser) -> None:
+    """The description and arguments of ``wzq report``."""
+    explain(
+        p,
         description=DESCRIPTION,
         epilog=wzq.CAUTION,
         formatter_class=argparse.RawDescriptionHelpFormatter,
@@ -113,8 +113,6 @@ def register(sub: argparse._SubParsersAction) -> None:
         help="add (or leave out) the page of allowable closure hours "
         "(default: as the plan says: 'Closure windows sheet' on the Limits sheet)",
     )
-    p.set_defaults(func=cmd_report)
 
 
-if register not in EXTRA_COMMANDS:
-    EXTRA_COMMANDS.append(register)
+run = cmd_report

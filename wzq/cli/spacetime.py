@@ -19,9 +19,10 @@ import numpy as np
 
 import wzq
 from wzq import units as u
-from wzq.cli import EXIT_OK, EXTRA_COMMANDS, load_any
+from wzq.cli import EXIT_OK, explain
 from wzq.engine.lwr.simulation import Simulation, focus_window, simulate
 from wzq.engine.plan import PlanError, Problem
+from wzq.io.plans import load_any
 from wzq.present.tables import hour_label
 from wzq.present.terminal import TermColumn, console_width, print_table
 
@@ -223,11 +224,10 @@ def cmd_spacetime(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
-def register(sub: argparse._SubParsersAction) -> None:
-    """Add ``wzq spacetime`` to the command line."""
-    p = sub.add_parser(
-        "spacetime",
-        help="simulate the approach (LWR) and draw the queue in space and time as a PNG",
+def configure(p: argparse.ArgumentParser) -> None:
+    """The description and arguments of ``wzq spacetime``."""
+    explain(
+        p,
         description=DESCRIPTION,
         formatter_class=argparse.RawDescriptionHelpFormatter,
         epilog=wzq.CAUTION,
@@ -256,7 +256,6 @@ def register(sub: argparse._SubParsersAction) -> None:
         metavar="N",
         help="cells along the approach (default: one per 1/100 of it, at least 20 m long)",
     )
-    p.set_defaults(func=cmd_spacetime)
 
 
-EXTRA_COMMANDS.append(register)
+run = cmd_spacetime

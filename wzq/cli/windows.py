@@ -17,7 +17,7 @@ import pandas as pd
 
 import wzq
 from wzq import units as u
-from wzq.cli import EXIT_OK, EXTRA_COMMANDS, load_any
+from wzq.cli import EXIT_OK, explain
 from wzq.engine import costs as rc
 from wzq.engine.plan import NIGHT_END_HOUR, NIGHT_START_HOUR, Plan, PlanError, Problem
 from wzq.engine.windows import (
@@ -28,6 +28,7 @@ from wzq.engine.windows import (
     intervals_for,
     plan_windows,
 )
+from wzq.io.plans import load_any
 from wzq.present.tables import limits_text
 from wzq.present.terminal import TermColumn, console_width, print_table
 
@@ -246,11 +247,10 @@ def cmd_windows(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
-def register(sub: argparse._SubParsersAction) -> None:
-    """Add ``wzq windows`` to the command line."""
-    p = sub.add_parser(
-        "windows",
-        help="find the hours in which each lane closure may be in place",
+def configure(p: argparse.ArgumentParser) -> None:
+    """The description and arguments of ``wzq windows``."""
+    explain(
+        p,
         description=DESCRIPTION,
         epilog=wzq.CAUTION,
         formatter_class=argparse.RawDescriptionHelpFormatter,
@@ -295,7 +295,6 @@ def register(sub: argparse._SubParsersAction) -> None:
         metavar="N",
         help="longest windows to list per configuration (default 5)",
     )
-    p.set_defaults(func=cmd_windows)
 
 
-EXTRA_COMMANDS.append(register)
+run = cmd_windows

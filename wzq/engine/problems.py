@@ -23,6 +23,10 @@ class Problem:
 class PlanError(ValueError):
     """Input a user can fix. Carries one or more :class:`Problem` entries."""
 
+    #: Whether the user can fix it in the input (the command's exit status 2); a save that
+    #: failed (a full disk ...) is not the input's fault (status 1).
+    input_fault: bool = True
+
     def __init__(self, problems: list[Problem] | Problem | str, where: str = "plan") -> None:
         if isinstance(problems, str):
             problems = [Problem(where, problems)]

@@ -76,10 +76,6 @@ IN_FLIGHT_PER_WORKER = 2
 #: How long to wait for a Dask scheduler to answer.
 SCHEDULER_TIMEOUT = "10s"
 
-EXIT_OK = 0
-EXIT_FAILURE = 1
-EXIT_INPUT = 2
-
 
 @dataclass(frozen=True)
 class Task:
@@ -142,7 +138,7 @@ def _issues(file: str, stage: str, problems: Iterable[Problem]) -> tuple[Issue, 
 
 
 def _load(path: Path):
-    from wzq.cli import load_any
+    from wzq.io.plans import load_any
 
     return load_any(path)
 
@@ -528,12 +524,14 @@ class BatchResult:
         return sum(o.reused for o in self.outcomes)
 
     @property
-    def exit_status(self) -> int:
-        """0 every plan analysed (and written back / reported when asked); 2 some plans
-        need fixing (all listed); 1 an unexpected error or a worker that kept dying."""
-        if any(o.unexpected for o in self.outcomes):
-            return EXIT_FAILURE
-        return EXIT_INPUT if any(o.issues for o in self.outcomes) else EXIT_OK
+    def unexpected(self) -> bool:
+        """Some plan met an unexpected error, or its worker kept dying."""
+        return any(o.unexpected for o in self.outcomes)
+
+    @property
+    def need_fixing(self) -> bool:
+        """Some plans need fixing (all listed with their problems)."""
+        return any(o.issues for o in self.outcomes)
 
 
 def _report_paths(folder: Path, files: Sequence[Path], reports: Path) -> list[Path]:

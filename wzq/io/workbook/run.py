@@ -13,7 +13,6 @@ Importing this module adds the ``run`` sub-command to the ``wzq`` command.
 
 from __future__ import annotations
 
-import argparse
 import datetime as dt
 import io
 import os
@@ -26,10 +25,10 @@ from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.workbook.workbook import Workbook
 
 import wzq
-from wzq import cli
 from wzq.engine.plan import Plan, PlanError, Problem
 from wzq.engine.results import Result
 from wzq.io.jsonplan import plan_to_dict
+from wzq.io.plans import demo_plan
 from wzq.io.workbook import layout
 from wzq.io.workbook.formula_values import WithSavedResults
 from wzq.io.workbook.kept import ContentLost, keeps_everything
@@ -44,7 +43,6 @@ from wzq.io.workbook.save import (
     save_atomic,
 )
 from wzq.io.workbook.writer import put_text, write_results
-from wzq.present.tables import summary_lines
 
 #: Workbook types wzq reads and writes (an ``.xlsm`` keeps its VBA project).
 SUFFIXES = (".xlsx", ".xlsm")
@@ -508,75 +506,5 @@ def write_demo_workbook(path: str | Path = ".") -> Path:
         while target.exists() or lock_file(target).exists():
             n += 1
             target = target.with_name(f"{stem}-{n}{suffix}")
-    write_filled_workbook(cli.demo_plan(), target)
+    write_filled_workbook(demo_plan(), target)
     return target
-
-
-# --- the command --------------------------------------------------------------------------
-
-
-def cmd_run(args: argparse.Namespace) -> int:
-    """``wzq run PATH [-o OUT]``."""
-    outcome = run_to(
-        args.path, args.output, space_time=args.space_time, windows=args.windows, force=args.force
-    )
-    result = outcome.result
-    for note in outcome.notes:
-        print(f"warning: {note}")
-    print(f"wrote the results to {outcome.target}")
-    width = max(len(k) for k, _ in summary_lines(result))
-    for label, text in summary_lines(result):
-        print(f"  {label:<{width}}  {text}")
-    for w in result.warnings:
-        print(f"warning: {w}")
-    return cli.EXIT_OK
-
-
-def register(sub: argparse._SubParsersAction) -> None:
-    """Add ``wzq run`` to the command's sub-commands."""
-    sheets = ", ".join(layout.OUTPUT_SHEETS)
-    p = sub.add_parser(
-        "run",
-        help="analyse a plan workbook and write the results into it",
-        description=(
-            "Read the plan from a workbook (.xlsx or .xlsm), analyse it, and write the "
-            f"sheets {sheets} into it, replacing the ones from the previous run. Input "
-            "sheets, your own sheets, formulas, styles and macros are kept. The file is "
-            "replaced in one step, so it is never left half-written; when the input needs "
-            "fixing nothing is written and every problem is listed with its sheet and cell."
-        ),
-        epilog=wzq.CAUTION,
-    )
-    p.add_argument("path", metavar="PATH", help="the plan workbook (.xlsx or .xlsm)")
-    p.add_argument(
-        "-o",
-        "--output",
-        metavar="OUT",
-        help="write the workbook with its results to OUT and leave PATH as it is "
-        "(same file type as PATH); an existing OUT is replaced only when it holds results "
-        "of PATH (see --force)",
-    )
-    p.add_argument(
-        "--force",
-        action="store_true",
-        help="replace OUT even when it is not a results file of PATH",
-    )
-    p.add_argument(
-        "--space-time",
-        action=argparse.BooleanOptionalAction,
-        default=None,
-        help="add (or leave out) the space-time picture of an LWR simulation of the "
-        "approach on the Charts sheet (default: as the Site sheet says)",
-    )
-    p.add_argument(
-        "--windows",
-        action=argparse.BooleanOptionalAction,
-        default=None,
-        help="fill (or leave empty) the Closure windows sheet: when may each lane "
-        "configuration be in place at all (default: as the Limits sheet says)",
-    )
-    p.set_defaults(func=cmd_run)
-
-
-if register not in cli.EXTRA_COMMANDS:
-    cli.EXTRA_COMMANDS.append(register)

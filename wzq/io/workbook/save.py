@@ -73,11 +73,11 @@ class Saveable(Protocol):
 class SaveError(PlanError):
     """Writing the new file failed (a full disk, a file-size limit, any I/O error).
 
-    Nothing the user typed is wrong, so the ``wzq`` command prints the one
-    line and exits with status 1 (:attr:`exit_status`), not 2.
+    Nothing the user typed is wrong (:attr:`input_fault` false), so the ``wzq``
+    command prints the one line and exits with status 1, not 2.
     """
 
-    exit_status = 1
+    input_fault = False
 
 
 class ChangedSinceRead(PlanError):

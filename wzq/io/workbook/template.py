@@ -527,7 +527,7 @@ def build_template(path: Path, *, macro: bool) -> None:
 
 def template_folder() -> Path:
     """``workbook_templates/`` of a source checkout."""
-    return Path(__file__).resolve().parents[2] / "workbook_templates"
+    return Path(__file__).resolve().parents[3] / "workbook_templates"
 
 
 def main(argv: Sequence[str] | None = None) -> int:

@@ -1,0 +1,79 @@
+"""``import wzq``, ``wzq --version`` and ``wzq --help`` start at once: they import none of
+the heavy libraries (the registry of commands names each command's module without
+importing it). Checked on ``sys.modules`` in a fresh Python, not by timing (the times are
+measured side by side by ``benchmarks/startup.py``)."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+
+import pytest
+
+HEAVY = ("numpy", "pandas", "openpyxl", "matplotlib", "reportlab", "scipy", "xlsxwriter", "rich")
+
+PROBE = """
+import sys
+{code}
+heavy = [m for m in {heavy!r} if m in sys.modules]
+print(",".join(heavy))
+"""
+
+
+def _heavy_after(code: str) -> list[str]:
+    done = subprocess.run(
+        [sys.executable, "-c", PROBE.format(code=code, heavy=HEAVY)],
+        capture_output=True,
+        text=True,
+        check=True,
+    )
+    last = done.stdout.strip().splitlines()[-1] if done.stdout.strip() else ""
+    return [m for m in last.split(",") if m]
+
+
+CALL = """
+import contextlib, io
+from wzq.cli import main
+with contextlib.redirect_stdout(io.StringIO()):
+    try:
+        main({argv!r})
+    except SystemExit:
+        pass
+"""
+
+
+@pytest.mark.parametrize(
+    "code",
+    [
+        "import wzq",
+        "import wzq; wzq.CAUTION; wzq.__version__",
+        CALL.format(argv=["--version"]),
+        CALL.format(argv=["--help"]),
+        CALL.format(argv=[]),
+    ],
+    ids=["import wzq", "constants", "--version", "--help", "no command"],
+)
+def test_starting_imports_no_heavy_library(code: str) -> None:
+    assert _heavy_after(code) == []
+
+
+def test_a_command_imports_what_it_needs_when_asked() -> None:
+    # the probe is a real one: the same check sees numpy once the engine is used
+    assert "numpy" in _heavy_after("import wzq; wzq.Plan")
+
+
+def test_every_command_module_is_in_the_registry_and_has_its_two_functions() -> None:
+    import importlib
+    import pkgutil
+
+    import wzq.cli as cli
+
+    modules = {
+        m.name
+        for m in pkgutil.iter_modules(cli.__path__, "wzq.cli.")
+        if m.name not in ("wzq.cli.calc_runner", "wzq.cli.__main__")
+    }
+    assert modules == {module for module, _ in cli.COMMANDS.values()}
+    for module, _ in cli.COMMANDS.values():
+        loaded = importlib.import_module(module)
+        assert callable(loaded.configure) and callable(loaded.run), module

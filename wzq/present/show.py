@@ -1,0 +1,121 @@
+"""A result as the terminal shows it (``wzq show``, ``wzq demo``): the title, the summary,
+the hourly table as wide as the terminal allows, the landmarks, the warnings and the caution."""
+
+from __future__ import annotations
+
+import re
+import sys
+import textwrap
+
+import numpy as np
+import pandas as pd
+
+import wzq
+from wzq.engine.results import Result
+from wzq.present.tables import (
+    exit_ramp_display,
+    hourly_columns,
+    hourly_display,
+    landmark_display,
+    summary_lines,
+)
+from wzq.present.terminal import TermColumn, console_width, print_table
+
+__all__ = [
+    "TERMINAL_PRIORITY",
+    "hourly_terminal_columns",
+    "print_approach",
+    "print_result",
+    "terminal_header",
+]
+
+
+#: Terminal priority of each hourly column (1 is kept longest; see :mod:`wzq.present.terminal`).
+TERMINAL_PRIORITY = {
+    "demand_veh_h": 1,
+    "capacity_veh_h": 1,
+    "discharge_veh_h": 1,
+    "queue_length_max_m": 1,
+    "queue_max_veh": 2,
+    "average_delay_min": 2,
+    "delay_veh_h": 3,
+    "lanes_open": 3,
+    "max_queue_wait_min": 4,
+    "demand_capacity": 4,
+    "queue_end_veh": 5,
+}
+
+
+def terminal_header(header: str, width: int = 10) -> str:
+    """A display header in short lines, its unit on a line of its own:
+    ``Queue discharge rate (veh/h)`` -> ``Queue\ndischarge\nrate\n(veh/h)``."""
+    name, _, unit = header.partition(" (")
+    lines = textwrap.wrap(name, width) or [name]
+    return "\n".join(lines + ([f"({unit}"] if unit else []))
+
+
+def hourly_terminal_columns(result: Result, keep: np.ndarray | None = None) -> list[TermColumn]:
+    """The hourly table (:func:`wzq.present.tables.hourly_display`) as terminal columns."""
+    table = hourly_display(result)
+    if keep is not None:
+        table = table[keep]
+    cols = [TermColumn("Hour", list(table["Hour"]), 1, right=False)]
+    for c in hourly_columns(result.plan.site.unit_system):
+        cells = ["" if pd.isna(v) else f"{v:,.{c.decimals}f}" for v in table[c.header].to_numpy()]
+        cols.append(TermColumn(terminal_header(c.header), cells, TERMINAL_PRIORITY[c.source]))
+    status = list(table["Status"])
+    # wrap a status only between its items ("over limit:", "queue length,", "delay")
+    items = [x for text in status for x in re.split(r"(?<=[:,]) ", text)]
+    least = max((len(x) for x in items), default=2)
+    cols.append(TermColumn("Status", status, 1, right=False, wrap=True, min_width=least))
+    return cols
+
+
+def print_result(result: Result, *, all_hours: bool = False, out=None) -> None:
+    """A readable report of a result on the terminal, as wide as the terminal."""
+    out = out or sys.stdout
+    plan = result.plan
+    title = plan.meta.title or plan.site.name or "Lane-closure plan"
+    width = console_width(out)
+    for line in textwrap.wrap(title, width):
+        print(line, file=out)
+    if plan.site.name and plan.meta.title:
+        print(f"{plan.site.name}, {plan.site.direction}".rstrip(", "), file=out)
+    print("", file=out)
+    label_width = max(len(k) for k, _ in summary_lines(result))
+    indent = " " * (label_width + 4)
+    for label, text in summary_lines(result):
+        lines = textwrap.wrap(text, max(width - len(indent), 20)) or [""]
+        print(f"  {label:<{label_width}}  {lines[0]}", file=out)
+        for more in lines[1:]:
+            print(indent + more, file=out)
+    print("", file=out)
+    h = result.hourly
+    if not all_hours:
+        keep = (h["closure"] | (h["queue_max_veh"] > 0) | (h["status"] != "ok")).to_numpy()
+        hidden = int((~keep).sum())
+    else:
+        keep, hidden = None, 0
+    print_table(hourly_terminal_columns(result, keep), out, what="hourly table")
+    if hidden:
+        print(
+            f"\n  ({hidden} open-road hours without a queue not shown; --all-hours shows them)",
+            file=out,
+        )
+    print_approach(result, out)
+    for w in result.warnings:
+        print("", file=out)
+        print(textwrap.fill(f"warning: {w}", width, subsequent_indent="  "), file=out)
+    print(f"\n{wzq.CAUTION}", file=out)  # one line, as in every other output
+
+
+def print_approach(result: Result, out) -> None:
+    """Per landmark of the approach: when the queue reached it, how long and how far beyond."""
+    if not result.plan.approach.landmarks:
+        return
+    print("\nLandmarks upstream of the start of the taper:", file=out)
+    with pd.option_context("display.width", 250, "display.max_columns", 20):
+        print(landmark_display(result).to_string(index=False), file=out)
+        if not result.exit_ramps.empty:
+            print("", file=out)
+            print(exit_ramp_display(result).to_string(index=False), file=out)
