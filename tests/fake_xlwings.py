@@ -412,6 +412,7 @@ class FakeSheet(Recorded):
         self._merged: list[str] = []
         self._tables: list[FakeTable] = []
         self._charts: list[FakeChart] = []
+        self._pictures: list[FakePicture] = []
         self._print_area: str | None = None
         self._gridlines = True
 
@@ -464,6 +465,10 @@ class FakeSheet(Recorded):
     @property
     def charts(self) -> FakeCharts:
         return FakeCharts(self)
+
+    @property
+    def pictures(self) -> FakePictures:
+        return FakePictures(self)
 
     @property
     def names(self) -> FakeNames:
@@ -925,6 +930,46 @@ class FakeCharts(Recorded):
         if source is not None:
             chart._source(source, plot_by)
         return chart
+
+
+class FakePictures(Recorded):
+    XL = "Pictures"
+
+    def __init__(self, sheet: FakeSheet) -> None:
+        self._sheet = sheet
+
+    def __len__(self) -> int:
+        self._touch("__len__")
+        return len(self._sheet._pictures)
+
+    def add(
+        self, image: Any, link_to_file: bool = False, save_with_document: bool = True,
+        left: float | None = None, top: float | None = None, width: float | None = None,
+        height: float | None = None, name: str | None = None, update: bool = False,
+        scale: float | None = None, format: str | None = None, anchor: Any = None,
+        export_options: dict | None = None,
+    ) -> FakePicture:  # fmt: skip
+        """Excel reads the file when the picture is added (a path, as wzq gives it)."""
+        picture = FakePicture(
+            name or f"Picture {len(self._sheet._pictures) + 1}",
+            Path(image).read_bytes(),
+            (float(left or 0), float(top or 0), float(width or 0), float(height or 0)),
+        )
+        self._sheet._pictures.append(picture)
+        return picture
+
+
+class FakePicture(Recorded):
+    XL = "Picture"
+
+    def __init__(self, name: str, data: bytes, geometry: tuple[float, float, float, float]):
+        self._name = name
+        self._data = data
+        self._geometry = geometry
+
+    @property
+    def name(self) -> str:
+        return self._name
 
 
 class FakeChart(Recorded):

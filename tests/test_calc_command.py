@@ -38,11 +38,12 @@ from wzq.cli.calc import office_env
 from wzq.io.jsonplan import load_plan
 from wzq.io.office.build import script_url
 from wzq.io.workbook import layout
+from wzq.io.workbook.permit_sheet import permit_columns
 from wzq.io.workbook.reader import read_plan
 from wzq.io.workbook.run import run_workbook
 from wzq.io.workbook.safety import inspect_file
 from wzq.io.workbook.save import lock_files, own_office_lock
-from wzq.io.workbook.writer import RUN_TIME_CELL, permit_columns
+from wzq.io.workbook.writer import RUN_TIME_CELL
 from wzq.present.tables import (
     episode_title,
     hour_label,

@@ -25,6 +25,7 @@ import wzq
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout
 from wzq.io.workbook import writer as w
+from wzq.io.workbook.permit_sheet import permit_columns
 from wzq.io.workbook.run import run_workbook
 
 SOFFICE = shutil.which("soffice") or shutil.which("libreoffice")
@@ -121,7 +122,7 @@ def test_permit_table_prints_on_one_page_with_its_numbers(tmp_path):
     assert " ".join(wzq.CAUTION.split()[:8]) in " ".join(text.split())
     rows = _permit_rows(src)
     assert len(rows) == 12
-    columns = w.permit_columns(plan.site.unit_system)
+    columns = permit_columns(plan.site.unit_system)
     lines = text.splitlines()
     for row in rows:
         line = next(line for line in lines if line.strip().startswith(row[0]))

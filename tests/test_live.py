@@ -46,6 +46,7 @@ from wzq.io.live.charts import Ref, SeriesPlan, series_formula, source_group
 from wzq.io.live.sheets import excel_literal, rectangles
 from wzq.io.workbook import layout
 from wzq.io.workbook.link import ENTRY_MARKER, entry_path, suggest_name
+from wzq.io.workbook.pictures import WIDTH_PX
 from wzq.io.workbook.reader import read_plan, read_plan_from_book
 from wzq.io.workbook.run import run_workbook
 from wzq.io.workbook.writer import RESULTS_HEADER_ROW
@@ -793,3 +794,22 @@ def test_case_02_percent_sign_cells_read_the_same_live(filled, tmp_path):
     assert from_file.site.heavy_vehicle_share == pytest.approx(0.12)
     assert from_live.site.heavy_vehicle_share == pytest.approx(0.12)
     assert not [w for w in from_live.input_warnings if "did you mean" in w]
+
+
+def test_the_button_draws_the_space_time_picture_when_the_site_sheet_asks(both):
+    # Ashgrove's Site sheet says yes to the space-time check (kestrel's says no): the
+    # button places the picture where the file backend does, at the same size
+    wb, book, outcome = both["ashgrove"]
+    assert outcome.ok and outcome.skipped == []
+    (picture,) = book.sheets[layout.CHARTS]._pictures
+    (image,) = wb[layout.CHARTS]._images
+    anchor = image.anchor._from  # zero-based row and column of the file's picture
+    cell = book.sheets[layout.CHARTS].range((anchor.row + 1, anchor.col + 1))
+    assert picture._geometry[:2] == (cell.left, cell.top)
+    # as wide as the writer shows it (its WIDTH_PX, 0.75 points to the pixel), aspect kept
+    width, height = picture._geometry[2:]
+    assert width == pytest.approx(WIDTH_PX * 0.75)
+    assert height / width == pytest.approx(image.height / image.width, rel=0.01)
+    assert picture._data[:8] == b"\x89PNG\r\n\x1a\n"
+    _, plain, _ = both["kestrel"]
+    assert plain.sheets[layout.CHARTS]._pictures == []

@@ -36,11 +36,12 @@ from wzq import cli
 from wzq.engine.plan import PlanError
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout
+from wzq.io.workbook.layout import MARKER_NAME
 from wzq.io.workbook.reader import read_plan
 from wzq.io.workbook.run import run_to, run_workbook
 from wzq.io.workbook.safety import inspect_file
 from wzq.io.workbook.template import vba_project_bytes
-from wzq.io.workbook.writer import MARKER_NAME, input_fingerprint
+from wzq.io.workbook.writer import input_fingerprint
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"

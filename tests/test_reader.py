@@ -37,8 +37,8 @@ from wzq.cli import main
 from wzq.engine.plan import Closure, Demand, Plan, PlanError, Problem
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout as L
+from wzq.io.workbook.layout import MARKER_NAME
 from wzq.io.workbook.reader import read_plan, read_plan_from_book
-from wzq.io.workbook.writer import MARKER_NAME
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"

@@ -325,7 +325,7 @@ def test_user_work_and_the_vba_project_survive_two_runs(filled, tmp_path):
     lanes = named_cell(book, "site_lanes")
     assert lanes.font.b and lanes.comment.text == "checked on site"
     names_after = {n: d.attr_text for n, d in book.defined_names.items()}
-    assert names_after == {**names_before, w.MARKER_NAME: names_after[w.MARKER_NAME]}
+    assert names_after == {**names_before, layout.MARKER_NAME: names_after[layout.MARKER_NAME]}
     assert names_after["my_limit"] == "'My checks'!$B$1"
     validations_after = {
         ws.title: sorted(str(v.sqref) for v in ws.data_validations.dataValidation)

@@ -60,17 +60,17 @@ def users_new_version(original: bytes) -> bytes:
 
 def saved_mid_run(monkeypatch, path: Path, new: bytes, *, keep_time: bool = False) -> None:
     """Save ``new`` over ``path`` after wzq read the plan and before it writes the results."""
-    real = run_module.write_results
+    real = run_module.write_outputs
 
-    def write_results(book, result, **kw):
+    def write_outputs(book, outputs, **kw):
         if path.read_bytes() != new:
             st = path.stat()
             path.write_bytes(new)
             if keep_time:  # a save within the file system's clock tick: only the hash tells
                 os.utime(path, ns=(st.st_atime_ns, st.st_mtime_ns))
-        return real(book, result, **kw)
+        return real(book, outputs, **kw)
 
-    monkeypatch.setattr(run_module, "write_results", write_results)
+    monkeypatch.setattr(run_module, "write_outputs", write_outputs)
 
 
 def test_case7_a_version_saved_while_wzq_runs_survives_and_the_results_go_to_a_copy(

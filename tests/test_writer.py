@@ -28,6 +28,7 @@ import wzq
 from wzq.io.jsonplan import load_plan, plan_to_dict
 from wzq.io.workbook import charts, layout
 from wzq.io.workbook import writer as w
+from wzq.io.workbook.outputs import write_results
 from wzq.io.workbook.save import check_writable, lock_file, save_atomic
 from wzq.present.tables import hourly_display
 
@@ -42,7 +43,7 @@ def _write(plan_path: Path, out: Path, *, run_time: str = RUN_TIME) -> wzq.Resul
     book = openpyxl.Workbook()
     book.active.title = "My inputs"
     book.active["A1"] = "kept"
-    w.write_results(book, result, source=plan_path.name, run_time=run_time)
+    write_results(book, result, source=plan_path.name, run_time=run_time)
     save_atomic(book, out)
     return result
 
@@ -85,7 +86,7 @@ def test_sheets_are_appended_in_order_after_the_users_sheets(fenwick):
     _, book, _ = fenwick
     assert book.sheetnames == ["My inputs", *layout.OUTPUT_SHEETS]
     assert book["My inputs"]["A1"].value == "kept"
-    assert w.written_sheets(book) == list(layout.OUTPUT_SHEETS)
+    assert layout.written_sheets(book) == list(layout.OUTPUT_SHEETS)
     # one tab selected only (several selected tabs open as a group in Excel)
     assert [ws.title for ws in book.worksheets if ws.sheet_view.tabSelected] == [layout.SUMMARY]
 
@@ -285,7 +286,7 @@ def test_permit_table_breaks_pages_every_so_many_hours(tmp_path):
     """A week with a closure every night: 7 nights x 8 hours = 56 listed hours."""
     plan = _week_plan()
     book = openpyxl.Workbook()
-    refs = w.write_results(book, wzq.analyse(plan), run_time=RUN_TIME)
+    refs = write_results(book, wzq.analyse(plan), run_time=RUN_TIME)
     ws = book[layout.PERMIT_TABLE]
     ref = refs[layout.PERMIT_TABLE]
     assert ref.last_row - ref.first_row + 1 == 56
@@ -398,7 +399,7 @@ def test_three_native_charts_with_axis_titles_and_units(fenwick):
 def test_chart_objects_are_built_from_sheet_cells(fenwick):
     result, _, _ = fenwick
     book = openpyxl.Workbook()
-    w.write_results(book, result, run_time=RUN_TIME)
+    write_results(book, result, run_time=RUN_TIME)
     made = book[layout.CHARTS]._charts
     assert [type(c) for c in made] == [ScatterChart, BarChart, ScatterChart]
     for chart in made:
@@ -476,7 +477,7 @@ def test_user_text_that_looks_like_a_formula_is_written_as_text(tmp_path):
         closures=(dataclasses.replace(base.closures[0], note=t["note"]), base.closures[1]),
     )
     book = openpyxl.Workbook()
-    w.write_results(book, wzq.analyse(plan), source="=evil.xlsx", run_time=RUN_TIME)
+    write_results(book, wzq.analyse(plan), source="=evil.xlsx", run_time=RUN_TIME)
     out = tmp_path / "text.xlsx"
     save_atomic(book, out)
     with zipfile.ZipFile(out) as z:
@@ -524,7 +525,7 @@ def test_running_twice_gives_the_same_workbook(tmp_path):
     snapshots = []
     for stamp in ("2027-01-01T00:00:00Z", "2027-01-02T09:30:00Z"):
         book = openpyxl.load_workbook(path)
-        w.write_results(book, result, source="twice.xlsx", run_time=stamp)
+        write_results(book, result, source="twice.xlsx", run_time=stamp)
         save_atomic(book, path)
         back = openpyxl.load_workbook(path)
         assert back[layout.RUN_LOG][w.RUN_TIME_CELL].value == stamp
@@ -548,7 +549,7 @@ def test_a_users_sheet_with_an_output_name_is_never_replaced():
     book.create_sheet("Results")["A1"] = "my own notes"
     book.create_sheet("Run log")
     with pytest.raises(wzq.PlanError) as e:
-        w.write_results(book, wzq.analyse(load_plan(KESTREL)))
+        write_results(book, wzq.analyse(load_plan(KESTREL)))
     wheres = [p.where for p in e.value.problems]
     assert wheres == ["sheet 'Results'", "sheet 'Run log'"]
     assert "rename it" in e.value.problems[0].message
@@ -577,7 +578,7 @@ def test_user_cells_styles_comments_validation_and_names_survive_in_a_plain_book
     result = wzq.analyse(load_plan(KESTREL))
     for _ in range(2):
         book = openpyxl.load_workbook(path)
-        w.write_results(book, result, run_time=RUN_TIME)
+        write_results(book, result, run_time=RUN_TIME)
         save_atomic(book, path)
     back = openpyxl.load_workbook(path)
     ws = back["Inputs"]

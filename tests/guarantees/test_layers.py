@@ -12,7 +12,10 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[2]
 #: `lint-imports` in this Python (its console script, run through the interpreter).
-LINT = "import sys; from importlinter.cli import lint_imports_command; sys.exit(lint_imports_command())"
+LINT = (
+    "import sys; from importlinter.cli import lint_imports_command; "
+    "sys.exit(lint_imports_command())"
+)
 
 
 def _lint(root: Path) -> subprocess.CompletedProcess:

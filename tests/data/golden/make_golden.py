@@ -227,7 +227,7 @@ def workbook_outputs(path: Path, tmp: Path) -> dict:
     """Every cell of every output sheet and each chart's title, after ``wzq run``."""
     from openpyxl import load_workbook
 
-    from wzq.io.workbook.writer import written_sheets
+    from wzq.io.workbook.layout import written_sheets
 
     run_workbook(path, run_time=RUN_TIME)
     book = load_workbook(path)

@@ -33,8 +33,11 @@ from __future__ import annotations
 import contextlib
 import datetime as dt
 import sys
+import tempfile
 import traceback
 from dataclasses import dataclass, field
+from functools import partial
+from pathlib import Path
 from typing import Any
 
 from openpyxl import Workbook
@@ -49,15 +52,11 @@ from wzq.engine.results import Result
 from wzq.io.live.charts import add_charts
 from wzq.io.live.sheets import Skipped, excel_literal, write_sheet
 from wzq.io.workbook import layout
+from wzq.io.workbook.layout import MARKER_NAME, written_sheets
+from wzq.io.workbook.outputs import decide_outputs, write_outputs
 from wzq.io.workbook.reader import read_plan_from_book
 from wzq.io.workbook.safety import LIMITS
-from wzq.io.workbook.writer import (
-    MARKER_NAME,
-    check_output_sheets,
-    put_text,
-    write_results,
-    written_sheets,
-)
+from wzq.io.workbook.writer import check_output_sheets, put_text
 
 #: The sheet that lists input problems after a Recalculate that could not run.
 PROBLEMS_SHEET = "Problems"
@@ -340,6 +339,42 @@ def replace_output_sheets(book: Any, out: Workbook) -> Skipped:
     return skipped
 
 
+#: Points per pixel of a picture (96 pixels to the inch, 72 points).
+POINTS_PER_PIXEL = 0.75
+
+
+def _place_picture(sheet: Any, anchor: str, image: Any, name: str) -> None:
+    """One picture of the writer's (an openpyxl ``Image``) at its cell and size, through a
+    temporary PNG file Excel reads."""
+    cell = sheet.range(anchor)
+    with tempfile.TemporaryDirectory() as folder:
+        path = Path(folder) / "wzq-picture.png"
+        path.write_bytes(image._data())
+        sheet.pictures.add(
+            str(path),
+            left=cell.left,
+            top=cell.top,
+            width=image.width * POINTS_PER_PIXEL,
+            height=image.height * POINTS_PER_PIXEL,
+            name=name,
+        )
+
+
+def _add_pictures(book: Any, out: Workbook, skipped: Skipped) -> None:
+    """The pictures the writer placed in ``out`` (the space-time picture on the Charts
+    sheet) into the live workbook."""
+    for ws in out.worksheets:
+        if ws.title not in layout.OUTPUT_SHEETS or not ws._images:
+            continue
+        sheet = book.sheets[ws.title]
+        for image in ws._images:
+            anchor = image.anchor if isinstance(image.anchor, str) else "A1"
+            skipped.attempt(
+                f"the picture on {ws.title}",
+                partial(_place_picture, sheet, anchor, image, f"wzq {ws.title} picture"),
+            )
+
+
 def _append_rows(sheet: Any, first_row: int, rows: list[list[Any]]) -> None:
     """Write rows of text (each kept as text) from column A of ``first_row``."""
     if not rows:
@@ -525,12 +560,13 @@ def recalculate(book: Any = None, *, run_time: str | None = None) -> Outcome:
         mirror = mirror_book(book)
         plan = read_plan_from_book(mirror, book.name)
         check_output_sheets(mirror)  # the writer's ownership rule, before anything changes
-        result = wzq.analyse(plan)
+        outputs = decide_outputs(wzq.analyse(plan))  # the Site sheet's space-time option too
         out = Workbook()
-        write_results(out, result, source=book.name, run_time=run_time)
+        write_outputs(out, outputs, source=book.name, run_time=run_time)
         skipped = replace_output_sheets(book, out)
+        _add_pictures(book, out, skipped)
         _note_skipped(book, skipped)
-        return Outcome(result=result, skipped=list(skipped))
+        return Outcome(result=outputs.result, skipped=list(skipped))
     except PlanError as e:
         _screen(book, True)
         show_problems(book, e.problems)

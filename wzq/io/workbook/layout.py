@@ -633,3 +633,21 @@ TIME_FORMAT = "hh:mm"
 #: ``To`` shows 24:00 (Excel's value 1.0) as 24:00, not 00:00, and a full date-time
 #: (a closure longer than a day) as a date and time.
 END_TIME_FORMAT = "[<=1][hh]:mm;yyyy-mm-dd hh:mm"
+
+
+#: Hidden workbook-scoped defined name listing the sheets wzq wrote.
+MARKER_NAME = "wzq_output_sheets"
+#: Between the sheet names in :data:`MARKER_NAME`.
+MARKER_SEPARATOR = "|"
+
+
+def written_sheets(book) -> list[str]:
+    """The sheets the marker says wzq wrote (empty for a workbook never run); ``book``
+    is an openpyxl workbook."""
+    dn = book.defined_names.get(MARKER_NAME)
+    if dn is None or not dn.attr_text:
+        return []
+    text = dn.attr_text.strip()
+    if len(text) >= 2 and text[0] == text[-1] == '"':
+        text = text[1:-1]
+    return [s for s in text.split(MARKER_SEPARATOR) if s]

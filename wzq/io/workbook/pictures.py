@@ -17,8 +17,10 @@ from openpyxl.utils import get_column_letter
 from openpyxl.utils.cell import range_boundaries
 from openpyxl.worksheet.pagebreak import Break
 
+from wzq.engine.lwr.simulation import simulate
 from wzq.engine.results import Result
 from wzq.io.workbook import layout
+from wzq.present.spacetime import space_time_png
 
 DPI = 110
 #: Width (pixels) the picture is shown at: the printed columns A to O at the default
@@ -27,14 +29,15 @@ WIDTH_PX = 15 * 64
 ROW_PX = 20
 
 
-def add_space_time(book: Workbook, result: Result) -> list[str]:
-    """Put the space-time picture on the Charts sheet, on a printed page of its own
-    below the charts; return the simulation's warnings."""
-    from wzq.engine.lwr.simulation import simulate
-    from wzq.present.spacetime import space_time_png
-
+def space_time_picture(result: Result) -> tuple[bytes, list[str]]:
+    """The space-time picture of ``result`` (PNG) and the warnings its LWR simulation raised."""
     sim = simulate(result)
-    png = space_time_png(sim, dpi=DPI)
+    return space_time_png(sim, dpi=DPI), list(sim.warnings)
+
+
+def place_space_time(book: Workbook, png: bytes) -> None:
+    """Put the space-time picture on the Charts sheet, on a printed page of its own
+    below the charts, and extend the sheet's print area to take it in."""
     ws = book[layout.CHARTS]
     image = Image(io.BytesIO(png))
     scale = WIDTH_PX / image.width
@@ -46,4 +49,3 @@ def add_space_time(book: Workbook, result: Result) -> list[str]:
     ws.add_image(image, f"A{first}")
     last = first + math.ceil(image.height / ROW_PX) + 1
     ws.print_area = f"{get_column_letter(min_col)}{min_row}:{get_column_letter(max_col)}{last}"
-    return list(sim.warnings)

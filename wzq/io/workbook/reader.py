@@ -1077,9 +1077,7 @@ class _BookReader:
     def check_sheet_names(self) -> None:
         """Refuse a sheet of the user's that carries the name of one of wzq's output sheets
         (``wzq run`` would have to replace it)."""
-        from wzq.io.workbook.writer import written_sheets  # the marker of sheets wzq wrote
-
-        ours = set(written_sheets(self.wb))
+        ours = set(L.written_sheets(self.wb))
         names = ", ".join(f"'{n}'" for n in L.OUTPUT_SHEETS)
         for ws in self.wb.worksheets:
             clash = [n for n in L.OUTPUT_SHEETS if n.casefold() == ws.title.casefold()]

@@ -32,6 +32,7 @@ from wzq.io.plans import demo_plan
 from wzq.io.workbook import layout
 from wzq.io.workbook.formula_values import WithSavedResults
 from wzq.io.workbook.kept import ContentLost, keeps_everything
+from wzq.io.workbook.outputs import decide_outputs, write_outputs
 from wzq.io.workbook.reader import book_from_bytes, read_plan_from_book
 from wzq.io.workbook.safety import PackageReport, read_checked
 from wzq.io.workbook.save import (
@@ -42,7 +43,7 @@ from wzq.io.workbook.save import (
     lock_files,
     save_atomic,
 )
-from wzq.io.workbook.writer import put_text, write_results
+from wzq.io.workbook.writer import put_text
 
 #: Workbook types wzq reads and writes (an ``.xlsm`` keeps its VBA project).
 SUFFIXES = (".xlsx", ".xlsm")
@@ -119,13 +120,14 @@ def results_source(path: Path) -> str | None:
     (not a workbook, never run by wzq, or unreadable)."""
     from openpyxl import load_workbook
 
-    from wzq.io.workbook.writer import written_sheets
-
     try:
         data, _ = read_checked(path)
         book = load_workbook(io.BytesIO(data), read_only=True)
         try:
-            if layout.RUN_LOG not in written_sheets(book) or layout.RUN_LOG not in book.sheetnames:
+            if (
+                layout.RUN_LOG not in layout.written_sheets(book)
+                or layout.RUN_LOG not in book.sheetnames
+            ):
                 return None
             for label, value, *_ in book[layout.RUN_LOG].iter_rows(
                 max_row=40, max_col=2, values_only=True
@@ -253,17 +255,11 @@ def run_to(
     check_writable(target, office_profile=office_profile)
     plan = read_plan_from_book(book, src.name, src, data=data)
     result = wzq.analyse(plan)
-    picture = plan.options.space_time if space_time is None else space_time
-    extra: list[str] = []
+    outputs = decide_outputs(result, space_time=space_time, windows=windows)
+    result = outputs.result  # with the space-time simulation's warnings, as every sheet shows
 
     def write(book: Workbook, notes: list[str]) -> None:
-        write_results(
-            book, result, source=src.name, run_time=run_time, notes=notes, windows=windows
-        )
-        if picture:
-            from wzq.io.workbook.pictures import add_space_time
-
-            extra[:] = add_space_time(book, result)
+        write_outputs(book, outputs, source=src.name, run_time=run_time, notes=notes)
 
     def to_copy(why: str) -> RunOutcome:
         copy = copy_path(src)
@@ -273,14 +269,14 @@ def run_to(
         fresh = book_from_bytes(data, src, keep_links=True, rich_text=True)  # a saved book's
         write(fresh, notes)  # pictures cannot be saved again by openpyxl
         save_atomic(WithSavedResults(fresh, data), copy)  # formulas keep their results
-        return RunOutcome(result.with_warnings(extra), copy, notes, True)
+        return RunOutcome(result, copy, notes, True)
 
     if in_place and report.unkept:  # known before writing: the copy at once
         return to_copy(_kept_words(src, _unkept_text(report.unkept)))
     write(book, notes)
     if not in_place:
         save_atomic(WithSavedResults(book, data), target, office_profile=office_profile)
-        return RunOutcome(result.with_warnings(extra), target, notes, False)
+        return RunOutcome(result, target, notes, False)
     try:
         save_atomic(
             WithSavedResults(book, data),
@@ -302,7 +298,7 @@ def run_to(
             f"{src.name} changed on disk while wzq ran (the results are for the version it "
             "read; run wzq again for your new version)"
         )
-    return RunOutcome(result.with_warnings(extra), target, notes, False)
+    return RunOutcome(result, target, notes, False)
 
 
 def run_workbook(

@@ -1,0 +1,158 @@
+"""The one place that decides and writes every output of a run into a workbook.
+
+:func:`decide_outputs` settles, once per run, what goes in: the Closure windows
+sheet (the plan's option unless the command says otherwise) and the LWR
+space-time picture (likewise), which is drawn first, so the warnings its
+simulation raises are part of the result every sheet shows (the Summary and
+the Run log included) and the command prints. :func:`write_outputs` then
+replaces wzq's output sheets (one module per sheet) and places the picture; it
+may be called for more than one book (a copy) without drawing again. The file
+backend (:mod:`wzq.io.workbook.run`) and the Recalculate button
+(:mod:`wzq.io.live.backend`) both go through here.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from openpyxl.workbook.workbook import Workbook
+
+import wzq
+from wzq.engine.results import Result
+from wzq.engine.windows import plan_windows, too_long, too_long_text
+from wzq.io.workbook import layout
+from wzq.io.workbook.charts import write_charts
+from wzq.io.workbook.permit_sheet import write_permit_sheet
+from wzq.io.workbook.pictures import place_space_time, space_time_picture
+from wzq.io.workbook.results_sheet import write_results_sheet
+from wzq.io.workbook.run_log_sheet import write_run_log
+from wzq.io.workbook.summary_sheet import write_summary_sheet
+from wzq.io.workbook.windows_sheet import write_windows_sheet
+from wzq.io.workbook.writer import (
+    CHARTS,
+    PERMIT,
+    RESULTS,
+    RUN_LOG,
+    SUMMARY,
+    SheetWriter,
+    Styler,
+    TableRef,
+    check_output_sheets,
+    input_fingerprint,
+    put_text,
+    replace_sheets,
+    select,
+    utc_now,
+)
+
+__all__ = ["Outputs", "decide_outputs", "write_outputs", "write_results"]
+
+
+@dataclass(frozen=True)
+class Outputs:
+    """Every output of one run, decided once: the result (its warnings include the
+    space-time simulation's), whether the Closure windows sheet is filled, and the
+    space-time picture (PNG bytes) or ``None``."""
+
+    result: Result
+    windows: bool
+    picture: bytes | None = None
+
+
+def decide_outputs(
+    result: Result, *, space_time: bool | None = None, windows: bool | None = None
+) -> Outputs:
+    """What a run writes: ``space_time`` and ``windows`` as given, else as the plan's
+    options say (the Site sheet's space-time check, the Limits sheet's Closure windows
+    sheet). The picture is drawn here, its warnings added to the result."""
+    options = result.plan.options
+    picture = None
+    if options.space_time if space_time is None else space_time:
+        picture, warnings = space_time_picture(result)
+        result = result.with_warnings(warnings)
+    return Outputs(result, options.closure_windows if windows is None else windows, picture)
+
+
+def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
+    """The allowable closure hours of each configuration on this plan's demand."""
+    if not wanted:
+        put_text(
+            book[layout.WINDOWS],
+            1,
+            1,
+            "Allowable closure hours were not computed in this run: set 'Closure windows "
+            "sheet' to yes on the Limits sheet, or run `wzq run PLAN --windows`.",
+        )
+        return
+    d = result.plan.demand
+    if too_long(d):  # a long plan runs; its windows are left out, and the sheet says why
+        where = result.plan.where("options.closure_windows")
+        option = f"'Closure windows sheet' ({where}) to no, or run `wzq run PLAN --no-windows`"
+        put_text(
+            book[layout.WINDOWS], 1, 1, too_long_text(len(d.flows_veh_h), d.interval_s, option)
+        )
+        return
+    # replaces the empty sheet made by replace_sheets, at the same position
+    write_windows_sheet(book, plan_windows(result.plan), result.plan)
+
+
+def write_outputs(
+    book: Workbook,
+    outputs: Outputs,
+    *,
+    source: str = "",
+    run_time: str | None = None,
+    notes: Sequence[str] = (),
+) -> dict[str, TableRef]:
+    """Replace wzq's output sheets in ``book`` with those of ``outputs``, the picture
+    placed on the Charts sheet.
+
+    Touches nothing else: no input cell, style, name or sheet of the user's.
+    ``run_time`` (UTC, ISO 8601) defaults to now; ``notes`` go to the Run log.
+    Returns where the Results and Permit tables sit.
+    """
+    result = outputs.result
+    check_output_sheets(book)
+    run_time = run_time or utc_now()
+    fingerprint = input_fingerprint(result.plan)
+    stamp = (
+        f"Computed by wzq {wzq.__version__} at {run_time}"
+        + (f" from {source}" if source else "")
+        + f"; input fingerprint {fingerprint[:16]}."
+    )
+    sheets = replace_sheets(book)
+    style = Styler()
+    out = {name: SheetWriter(ws, style) for name, ws in sheets.items()}
+    refs = {RESULTS: write_results_sheet(out[RESULTS], result)}
+    write_summary_sheet(out[SUMMARY], result)
+    write_charts(out[CHARTS], result, refs[RESULTS])
+    refs[PERMIT] = write_permit_sheet(out[PERMIT], result, stamp)
+    write_run_log(
+        out[RUN_LOG],
+        result,
+        source=source,
+        fingerprint=fingerprint,
+        run_time=run_time,
+        notes=notes,
+    )
+    _windows_sheet(book, result, outputs.windows)
+    if outputs.picture is not None:
+        place_space_time(book, outputs.picture)
+    select(book, sheets[SUMMARY])
+    return refs
+
+
+def write_results(
+    book: Workbook,
+    result: Result,
+    *,
+    source: str = "",
+    run_time: str | None = None,
+    notes: Sequence[str] = (),
+    windows: bool | None = None,
+    space_time: bool | None = None,
+) -> dict[str, TableRef]:
+    """:func:`decide_outputs` and :func:`write_outputs` in one step (one book)."""
+    outputs = decide_outputs(result, space_time=space_time, windows=windows)
+    return write_outputs(book, outputs, source=source, run_time=run_time, notes=notes)
