@@ -15,6 +15,7 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
+from budget import examples
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from test_windows import cases, check_verdicts
@@ -64,13 +65,13 @@ def _search(case, **kw) -> W.WindowSet:
     return result.sets[0]
 
 
-@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(25), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(approach_cases(), st.data())
 def test_search_verdicts_equal_analyse_with_ramps_and_landmarks(case, data) -> None:
     check_verdicts(_search(case), lambda s, e: _passes(*case, s, e), data, top=3)
 
 
-@settings(max_examples=10, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(10), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(approach_cases(max_hours=7))
 def test_fast_search_equals_exhaustive_search_with_ramps(case) -> None:
     fast = _search(case)

@@ -41,6 +41,7 @@ from typing import Any
 
 import numpy as np
 import pytest
+from budget import examples
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from openpyxl import Workbook, load_workbook
@@ -54,6 +55,7 @@ from openpyxl.worksheet.table import TableList
 import wzq
 from wzq import cli
 from wzq.engine.plan import PlanError, Problem
+from wzq.io import fields as F
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.reader import book_from_bytes, read_plan, read_plan_from_book
 from wzq.io.workbook.safety import OLE_MAGIC
@@ -61,7 +63,7 @@ from wzq.io.workbook.safety import OLE_MAGIC
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 TEMPLATE = Path(__file__).resolve().parents[1] / "workbook_templates" / "closure_plan.xlsx"
 BASES = ("kestrel_ridge_weeknight", "fenwick_downs_weekend")
-FIELD_NAMES = sorted(L.FIELDS_BY_NAME)
+FIELD_NAMES = sorted(F.FIELDS_BY_NAME)
 TABLES = (L.DEMAND_TABLE, L.CLOSURE_TABLE, L.SHARE_TABLE)
 ERRORS = ("#REF!", "#VALUE!", "#DIV/0!", "#N/A", "#NAME?", "#NUM!", "#NULL!")
 WORDS = sorted(
@@ -462,7 +464,7 @@ def edit_swap_rows(book: Workbook, draw: Callable) -> str:
 
 
 def edit_units(book: Workbook, draw: Callable) -> str:
-    loc = name_cell(book, L.UNIT_SYSTEM.name)
+    loc = name_cell(book, F.UNIT_SYSTEM.name)
     if loc is None:
         return "units (gone)"
     set_value(*loc, ("s", draw(st.sampled_from([w for w, _ in L.UNIT_WORDS]))))
@@ -471,7 +473,7 @@ def edit_units(book: Workbook, draw: Callable) -> str:
 
 def edit_aadt(book: Workbook, draw: Callable) -> str:
     """Switch the demand to 'from AADT' and type (mostly sensible) AADT inputs."""
-    loc = name_cell(book, L.DEMAND_MODE.name)
+    loc = name_cell(book, F.DEMAND_MODE.name)
     if loc is None:
         return "aadt (gone)"
     set_value(*loc, ("s", "from AADT"))
@@ -487,7 +489,7 @@ def edit_aadt(book: Workbook, draw: Callable) -> str:
     }
     if draw(st.booleans()):  # and something odd in the hourly shares
         edit_table_cell_of(book, draw, L.SHARE_TABLE)
-    for f in L.AADT_FIELDS:
+    for f in F.AADT_FIELDS:
         where = name_cell(book, f.name)
         if where is not None:
             set_value(
@@ -609,8 +611,10 @@ def test_location_parsing() -> None:
     assert sheet_of("Site!notacell") is None
 
 
+#: Generated workbooks: 2,000 on the ci profile (the guarantee), a tenth locally.
+N_BOOKS = examples(2000)
 FUZZ = settings(
-    max_examples=2000,
+    max_examples=N_BOOKS,
     deadline=None,
     derandomize=True,
     database=None,
@@ -632,12 +636,12 @@ def test_two_thousand_workbooks_analyse_or_say_where() -> None:
         seen[outcome_of(book, f"{name}.xlsx")] += 1
 
     one()
-    assert sum(seen.values()) >= 2000
+    assert sum(seen.values()) >= N_BOOKS
     # both outcomes are well represented: the edits neither always break the plan
     # nor never do
-    assert seen["analysed"] >= 200, seen
-    assert seen["refused"] >= 500, seen
-    assert len(edits) >= 15, edits
+    assert seen["analysed"] >= N_BOOKS // 10, seen
+    assert seen["refused"] >= N_BOOKS // 4, seen
+    assert len(edits) >= (15 if N_BOOKS >= 2000 else 8), edits
 
 
 # --- through files and the command -----------------------------------------------------------
@@ -648,7 +652,7 @@ def _digest(path: Path) -> str:
 
 
 @settings(
-    max_examples=30,
+    max_examples=examples(30),
     deadline=None,
     derandomize=True,
     database=None,

@@ -22,6 +22,7 @@ import openpyxl
 import pytest
 import xlwings
 import xlwings.main as xw
+from budget import examples
 from fake_xlwings import (
     STAND_INS,
     TOUCHED,
@@ -538,14 +539,14 @@ def test_the_stand_in_reads_typed_entries_as_excel_does():
     assert from_serial(1.0) == dt.datetime(1899, 12, 31)  # 24:00 read back
 
 
-@settings(max_examples=300, deadline=None)
+@settings(max_examples=examples(300), deadline=None)
 @given(st.text(max_size=30))
 def test_any_text_entered_through_excel_literal_comes_back_unchanged(text):
     stored, _ = typed(excel_literal(text)) if text else (text, None)
     assert stored == text
 
 
-@settings(max_examples=200, deadline=None)
+@settings(max_examples=examples(200), deadline=None)
 @given(st.sets(st.tuples(st.integers(1, 12), st.integers(1, 8)), max_size=60))
 def test_rectangles_cover_exactly_the_cells_without_overlap(cells):
     covered: list[tuple[int, int]] = []

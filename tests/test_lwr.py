@@ -27,6 +27,7 @@ import textwrap
 
 import numpy as np
 import pytest
+from budget import examples
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -129,7 +130,7 @@ def test_speed_limit_turns_arriving_shocks_into_contacts():
 densities = st.floats(min_value=0.0, max_value=1.0, allow_nan=False)
 
 
-@settings(max_examples=150, deadline=None)
+@settings(max_examples=examples(150), deadline=None)
 @given(a=densities, b=densities, which=st.sampled_from([0, 1, 2]))
 def test_godunov_flux_is_the_flow_of_the_exact_solution_at_the_interface(a, b, which):
     # Lebacque (1996): min(D(k_u), S(k_d)) equals Q of the exact Riemann solution
@@ -146,7 +147,7 @@ def test_godunov_flux_is_the_flow_of_the_exact_solution_at_the_interface(a, b, w
 # --------------------------------------------------------------------------- the scheme
 
 
-@settings(max_examples=40, deadline=None)
+@settings(max_examples=examples(40), deadline=None)
 @given(
     ks=st.lists(densities, min_size=3, max_size=30),
     which=st.sampled_from([0, 1, 2]),

@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from budget import examples
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -111,7 +112,7 @@ def schedules(draw):
     return dur, lam, pre, pre * (1 - drop), q0
 
 
-@settings(max_examples=300, deadline=None)
+@settings(max_examples=examples(300), deadline=None)
 @given(schedules())
 def test_properties_conservation_and_nonnegative(s) -> None:
     dur, lam, pre, qdr, q0 = s
@@ -124,7 +125,7 @@ def test_properties_conservation_and_nonnegative(s) -> None:
     assert np.all(run.departures <= np.maximum(pre, qdr) * dur + run.queue[:-1] + 1e-6)
 
 
-@settings(max_examples=300, deadline=None)
+@settings(max_examples=examples(300), deadline=None)
 @given(schedules())
 def test_property_no_queue_when_demand_within_capacity(s) -> None:
     dur, lam, pre, qdr, _ = s
@@ -134,7 +135,7 @@ def test_property_no_queue_when_demand_within_capacity(s) -> None:
     assert run.total_delay == 0
 
 
-@settings(max_examples=300, deadline=None)
+@settings(max_examples=examples(300), deadline=None)
 @given(schedules(), st.floats(0.3, 1.0))
 def test_property_lower_capacity_never_shortens_queue_or_delay(s, f) -> None:
     dur, lam, pre, qdr, q0 = s
@@ -144,7 +145,7 @@ def test_property_lower_capacity_never_shortens_queue_or_delay(s, f) -> None:
     assert b.total_delay >= a.total_delay - 1e-6
 
 
-@settings(max_examples=300, deadline=None)
+@settings(max_examples=examples(300), deadline=None)
 @given(schedules(), st.integers(2, 5))
 def test_property_splitting_intervals_changes_nothing(s, k) -> None:
     dur, lam, pre, qdr, q0 = s
@@ -174,7 +175,7 @@ def minute_loop(dur, lam, pre, qdr, q0=0.0, step=1.0):
     return np.array(out), delay
 
 
-@settings(max_examples=40, deadline=None)
+@settings(max_examples=examples(40), deadline=None)
 @given(schedules())
 def test_agrees_with_a_one_second_loop(s) -> None:
     dur, lam, pre, qdr, q0 = s
@@ -216,7 +217,7 @@ def long_schedules(draw):
     return dur, lam, pre, qdr, q0
 
 
-@settings(max_examples=200, deadline=None)
+@settings(max_examples=examples(200), deadline=None)
 @given(long_schedules())
 def test_queue_equals_the_rule_applied_interval_by_interval(s) -> None:
     # the vectorised solution (bound, stretches, fixed point) against the

@@ -35,6 +35,7 @@ from workbook_helpers import (
 from wzq import units as u
 from wzq.cli import main
 from wzq.engine.plan import Closure, Demand, Plan, PlanError, Problem
+from wzq.io import fields as F
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.layout import MARKER_NAME
@@ -505,8 +506,8 @@ def broken_name(wb: Any) -> tuple[str, str]:
 
 def missing_sheet(wb: Any) -> tuple[str, str]:
     """The Limits sheet deleted: its names now point at #REF! as a spreadsheet leaves them."""
-    for f in L.ALL_FIELDS:
-        if L.FIELD_SHEET[f.name] == L.LIMITS:
+    for f in F.ALL_FIELDS:
+        if F.FIELD_SHEET[f.name] == L.LIMITS:
             wb.defined_names[f.name].attr_text = "#REF!$B$6"
     del wb[L.LIMITS]
     return "Limits (sheet)", "the input sheet 'Limits' is missing"

@@ -28,6 +28,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from budget import examples
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from scipy import stats
@@ -180,7 +181,7 @@ def scenario_plan(plan: Plan, flows: np.ndarray, factors: np.ndarray | None) -> 
     return p
 
 
-@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(40), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(cases())
 def test_each_scenario_equals_analyse_of_its_plan(case) -> None:
     plan, flows, factors = case

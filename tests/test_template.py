@@ -13,6 +13,7 @@ from openpyxl import load_workbook
 
 import wzq
 from wzq.cli import main
+from wzq.io import fields as F
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.template import build_template, template_folder
 from wzq.io.workbook.template import main as template_main
@@ -41,11 +42,11 @@ def test_sheets_names_and_tables(built: dict[bool, Path], macro: bool) -> None:
     assert wb.sheetnames == list(L.INPUT_SHEETS)
     assert not set(wb.sheetnames) & set(L.OUTPUT_SHEETS)
     # one workbook-scoped name per input value, each on its own sheet, one cell each
-    assert set(wb.defined_names) == {f.name for f in L.ALL_FIELDS}
-    for f in L.ALL_FIELDS:
+    assert set(wb.defined_names) == {f.name for f in F.ALL_FIELDS}
+    for f in F.ALL_FIELDS:
         (sheet, coord), *rest = list(wb.defined_names[f.name].destinations)
         assert not rest
-        assert sheet == L.FIELD_SHEET[f.name]
+        assert sheet == F.FIELD_SHEET[f.name]
         assert re.fullmatch(r"\$[A-Z]+\$\d+", coord)
     tables = {t.name: (ws.title, t) for ws in wb for t in ws.tables.values()}
     assert set(tables) == set(L.TABLE_COLUMNS)
@@ -62,15 +63,15 @@ def test_sheets_names_and_tables(built: dict[bool, Path], macro: bool) -> None:
 def test_value_cells_have_labels_units_and_input_colour(built: dict[bool, Path]) -> None:
     wb = load_workbook(built[False])
     fill = L.COLOURS["input_fill"].lstrip("#").upper()
-    for f in L.ALL_FIELDS:
+    for f in F.ALL_FIELDS:
         sheet, coord = next(iter(wb.defined_names[f.name].destinations))
         ws = wb[sheet]
         cell = ws[coord.replace("$", "")]
         assert cell.fill.fgColor.rgb[-6:] == fill, f.name
         assert ws.cell(cell.row, cell.column - 1).value == f.label
         unit = ws.cell(cell.row, cell.column + 1).value
-        if f.unit in L.UNIT_KINDS:
-            us, metric = L.UNIT_KINDS[f.unit]
+        if f.unit in F.UNIT_KINDS:
+            us, metric = F.UNIT_KINDS[f.unit]
             assert unit == f'=IF(unit_system="metric","{metric}","{us}")'
         elif f.unit:
             assert unit == f.unit
@@ -88,7 +89,7 @@ def test_dropdowns_list_our_words(built: dict[bool, Path]) -> None:
             assert dv.type == "list"
             for rng in str(dv.sqref).split():
                 lists[f"{ws.title}!{rng}"] = dv.formula1
-    for f in L.ALL_FIELDS:
+    for f in F.ALL_FIELDS:
         if f.kind != "choice":
             continue
         sheet, coord = next(iter(wb.defined_names[f.name].destinations))

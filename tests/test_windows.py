@@ -23,6 +23,7 @@ from pathlib import Path
 import numpy as np
 import openpyxl
 import pytest
+from budget import examples
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -404,7 +405,7 @@ def test_no_drop_discharge_at_approach_capacity_window_agrees_with_analyse() -> 
         assert e == ws.n or not _passes(*case, s, e + 1), (s, e)
 
 
-@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(40), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(cases(), st.data())
 def test_reported_windows_pass_analyse_and_cannot_be_extended(case, data) -> None:
     site, demand, limits, options, config = case
@@ -430,7 +431,7 @@ def check_verdicts(ws: W.WindowSet, passes, data, top: int = 5) -> None:
         assert bool(ws.allowed[s, e]) == passes(s, e), (s, e)
 
 
-@settings(max_examples=20, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(20), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(cases(max_hours=8))
 def test_fast_search_equals_exhaustive_search(case) -> None:
     site, demand, limits, options, config = case

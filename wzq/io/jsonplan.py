@@ -32,36 +32,12 @@ from wzq.engine.plan import (
     Site,
     Thresholds,
 )
+from wzq.io import fields as F
 
 FORMAT = "wzq-plan"
 VERSION = 1
 
-SITE_KEYS = {
-    "name",
-    "direction",
-    "lanes",
-    "speed_limit",
-    "work_zone_speed_limit",
-    "free_flow_speed",
-    "work_zone_length",
-    "heavy_vehicle_percent",
-    "terrain",
-    "area_type",
-    "lateral_clearance",
-    "driver_population",
-    "jam_density",
-    "ramp_density",
-    "capacity_method",
-    "capacity_override_is",
-    "base_capacity_pc_h_ln",
-    "capacity_drop_percent_work_zone",
-    "capacity_drop_percent_open",
-    "work_intensity_pc_h_ln",
-    "ramp_adjustment_pc_h_ln",
-    "congested_branch",
-    "wave_speed",
-    "density_at_capacity",
-}
+SITE_KEYS = F.json_keys("site")
 CLOSURE_KEYS = {
     "start",
     "end",
@@ -86,12 +62,10 @@ TOP_KEYS = {
     "approach",
 }
 LANDMARK_KEYS = {"name", "distance", "kind", "veh_h", "share_percent"}
-THRESHOLD_KEYS = {
-    "max_queue_length",
-    "max_average_delay_min",
-    "max_demand_capacity",
-    "queue_must_not_pass",
-}
+THRESHOLD_KEYS = {*F.json_keys("thresholds"), "queue_must_not_pass"}
+COST_KEYS = F.json_keys("costs")
+OPTION_KEYS = F.json_keys("options")
+META_KEYS = F.json_keys("meta")
 
 
 def parse_datetime(text: str) -> dt.datetime:
@@ -162,6 +136,25 @@ class _Reader:
             return dt.datetime(2000, 1, 1)
 
 
+def _read_section(r: _Reader, d: dict[str, Any], section: str, system: str) -> dict[str, Any]:
+    """The plan values of one JSON section, by the schema (:mod:`wzq.io.fields`): each
+    key read as its kind, with its default and least value, converted to the plan's
+    units. The site's congested branch (JSON-only, read with its own rules) is left out."""
+    out: dict[str, Any] = {}
+    for f in F.section_inputs(section):
+        if f in F.JSON_ONLY_FIELDS:
+            continue
+        key = f.key.split(".", 1)[1]
+        if f.kind in ("text", "choice"):
+            value = r.text(d, key, section, f.json_default)
+        else:
+            x = r.number(d, key, section, f.json_default, lo=f.json_lo)
+            value = (int(x) if np.isfinite(x) else 0) if f.kind == "int" else x
+            value = F.to_plan(f, value, system)
+        out[f.attribute.split(".", 1)[1]] = value
+    return out
+
+
 def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None = None) -> Plan:
     """Build a :class:`Plan` from the JSON structure, reporting every problem at once.
 
@@ -184,9 +177,6 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
         s = {}
     r.unknown(s, SITE_KEYS, "site")
     spd = lambda v: None if v is None else u.speed_to_mps(v, system)  # noqa: E731
-    lanes = r.number(s, "lanes", "site")
-    ffs = r.number(s, "free_flow_speed", "site", None, lo=0)
-    jam = r.number(s, "jam_density", "site", None, lo=0)
     wave = r.number(s, "wave_speed", "site", None, lo=0)
     k_cap = r.number(s, "density_at_capacity", "site", None, lo=0)
     branch = s.get("congested_branch")
@@ -205,30 +195,8 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
     elif not isinstance(branch, str):
         r.bad("site.congested_branch", f"expected text, got {branch!r}")
         branch = "derived"
-    site_kw: dict[str, Any] = dict(
-        name=r.text(s, "name", "site", ""),
-        direction=r.text(s, "direction", "site", ""),
-        lanes=int(lanes) if np.isfinite(lanes) else 0,
-        speed_limit=spd(r.number(s, "speed_limit", "site", lo=0)),
-        work_zone_speed_limit=spd(r.number(s, "work_zone_speed_limit", "site", lo=0)),
-        free_flow_speed=spd(ffs),
-        work_zone_length=u.long_length_to_m(r.number(s, "work_zone_length", "site", lo=0), system),
-        heavy_vehicle_share=r.number(s, "heavy_vehicle_percent", "site", 5.0, lo=0) / 100.0,
-        terrain=r.text(s, "terrain", "site", "level"),
-        area_type=r.text(s, "area_type", "site", "urban"),
-        lateral_clearance=u.short_length_to_m(
-            r.number(s, "lateral_clearance", "site", 0.0, lo=0), system
-        ),
-        driver_population=r.text(s, "driver_population", "site", "commuter"),
-        jam_density=None if jam is None else u.density_to_per_m(jam, system),
-        ramp_density=r.number(s, "ramp_density", "site", 0.0, lo=0) / u.LONG_LENGTH[system][1],
-        capacity_method=r.text(s, "capacity_method", "site", "hcm7"),
-        capacity_override_is=r.text(s, "capacity_override_is", "site", "both"),
-        base_capacity_pc_h_ln=r.number(s, "base_capacity_pc_h_ln", "site", None),
-        capacity_drop_pct_work_zone=r.number(s, "capacity_drop_percent_work_zone", "site", 13.4),
-        capacity_drop_pct_open=r.number(s, "capacity_drop_percent_open", "site", 7.0),
-        work_intensity_pc_h_ln=r.number(s, "work_intensity_pc_h_ln", "site", 0.0),
-        ramp_adjustment_pc_h_ln=r.number(s, "ramp_adjustment_pc_h_ln", "site", 0.0),
+    site_kw = _read_section(r, s, "site", system)
+    site_kw.update(
         unit_system=system,
         congested_branch=branch,
         wave_speed=spd(wave),
@@ -306,59 +274,32 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
             "thresholds.queue_must_not_pass", f"expected a landmark's name, got {must_not_pass!r}"
         )
         must_not_pass = None
-    qmax = r.number(t, "max_queue_length", "thresholds", None, lo=0)
-    dmax = r.number(t, "max_average_delay_min", "thresholds", None, lo=0)
     thresholds = Thresholds(
-        max_queue_length=None if qmax is None else u.long_length_to_m(qmax, system),
-        max_average_delay=None if dmax is None else dmax * u.MINUTE,
-        max_demand_capacity=r.number(t, "max_demand_capacity", "thresholds", None, lo=0),
-        queue_must_not_pass=must_not_pass,
+        **_read_section(r, t, "thresholds", system), queue_must_not_pass=must_not_pass
     )
     approach = _approach_from_dict(r, data.get("approach"), system)
     costs = None
     if data.get("costs"):
         c = data["costs"]
-        r.unknown(
-            c,
-            {
-                "car_value_per_person_h",
-                "car_occupancy",
-                "truck_value_per_veh_h",
-                "truck_percent",
-                "currency",
-                "dollar_year",
-            },
-            "costs",
-        )
-        tp = r.number(c, "truck_percent", "costs", None, lo=0)
-        costs = Costs(
-            car_value_per_person_h=r.number(c, "car_value_per_person_h", "costs", lo=0),
-            car_occupancy=r.number(c, "car_occupancy", "costs", lo=0),
-            truck_value_per_veh_h=r.number(c, "truck_value_per_veh_h", "costs", lo=0),
-            truck_share=None if tp is None else tp / 100.0,
-            currency=r.text(c, "currency", "costs", "USD"),
-            dollar_year=int(r.number(c, "dollar_year", "costs", 2017)),
-        )
+        r.unknown(c, COST_KEYS, "costs")
+        costs = Costs(**_read_section(r, c, "costs", system))
     o = data.get("options") or {}
-    r.unknown(
-        o,
-        {"capacity_drop", "diagram", "queue_length_method", "space_time", "closure_windows"},
-        "options",
-    )
+    r.unknown(o, OPTION_KEYS, "options")
     options = Options(
-        capacity_drop=bool(o.get("capacity_drop", True)),
-        diagram=o.get("diagram", "triangular"),
-        queue_length_method=o.get("queue_length_method", "newell"),
-        space_time=bool(o.get("space_time", False)),
-        closure_windows=bool(o.get("closure_windows", False)),
+        **{
+            f.attribute.split(".", 1)[1]: (
+                bool(o.get(k, f.json_default))
+                if isinstance(f.json_default, bool)
+                else o.get(k, f.json_default)
+            )
+            for f in F.section_inputs("options")
+            for k in [f.key.split(".", 1)[1]]
+        }
     )
     m = data.get("meta") or {}
-    r.unknown(m, {"title", "project", "route", "prepared_by", "checked_by", "notes"}, "meta")
+    r.unknown(m, META_KEYS, "meta")
     meta = Meta(
-        **{
-            k: str(m.get(k, ""))
-            for k in ("title", "project", "route", "prepared_by", "checked_by", "notes")
-        }
+        **{k: str(m.get(k, "")) for k in (f.key.split(".", 1)[1] for f in F.section_inputs("meta"))}
     )
     if r.problems:
         raise PlanError(r.problems)
@@ -442,46 +383,34 @@ def _iso(t: dt.datetime) -> str:
     return t.isoformat(timespec="minutes")
 
 
+def _rounded(x: Any) -> Any:
+    return None if x is None else round(float(x), 6)
+
+
+def _write_section(obj: Any, section: str, system: str, json_only: bool = False) -> dict[str, Any]:
+    """One JSON section of a plan object (``plan.site`` ...), by the schema
+    (:mod:`wzq.io.fields`): each input in the file's units, rounded where the schema
+    says. The site's congested branch (the JSON-only inputs, ``json_only``) is written
+    only when it is set."""
+    out: dict[str, Any] = {}
+    for f in F.section_inputs(section):
+        if (f in F.JSON_ONLY_FIELDS) != json_only:
+            continue
+        value = F.to_file(f, getattr(obj, f.attribute.split(".", 1)[1]), system)
+        out[f.key.split(".", 1)[1]] = _rounded(value) if f.rounded else value
+    return out
+
+
 def plan_to_dict(plan: Plan) -> dict[str, Any]:
     """The JSON structure of a plan, in the plan's own unit system."""
     s = plan.site
     system = s.unit_system
-    rnd = lambda x: None if x is None else round(float(x), 6)  # noqa: E731
     out: dict[str, Any] = {
         "format": FORMAT,
         "version": VERSION,
         "units": system,
-        "meta": {
-            k: getattr(plan.meta, k)
-            for k in ("title", "project", "route", "prepared_by", "checked_by", "notes")
-        },
-        "site": {
-            "name": s.name,
-            "direction": s.direction,
-            "lanes": s.lanes,
-            "speed_limit": rnd(u.mps_to_speed(s.speed_limit, system)),
-            "work_zone_speed_limit": rnd(u.mps_to_speed(s.work_zone_speed_limit, system)),
-            "free_flow_speed": rnd(
-                None if s.free_flow_speed is None else u.mps_to_speed(s.free_flow_speed, system)
-            ),
-            "work_zone_length": rnd(u.m_to_long_length(s.work_zone_length, system)),
-            "heavy_vehicle_percent": rnd(s.heavy_vehicle_share * 100),
-            "terrain": s.terrain,
-            "area_type": s.area_type,
-            "lateral_clearance": rnd(u.m_to_short_length(s.lateral_clearance, system)),
-            "driver_population": s.driver_population,
-            "jam_density": rnd(
-                None if s.jam_density is None else u.per_m_to_density(s.jam_density, system)
-            ),
-            "ramp_density": rnd(s.ramp_density * u.LONG_LENGTH[system][1]),
-            "capacity_method": s.capacity_method,
-            "capacity_override_is": s.capacity_override_is,
-            "base_capacity_pc_h_ln": s.base_capacity_pc_h_ln,
-            "capacity_drop_percent_work_zone": s.capacity_drop_pct_work_zone,
-            "capacity_drop_percent_open": s.capacity_drop_pct_open,
-            "work_intensity_pc_h_ln": s.work_intensity_pc_h_ln,
-            "ramp_adjustment_pc_h_ln": s.ramp_adjustment_pc_h_ln,
-        },
+        "meta": _write_section(plan.meta, "meta", system),
+        "site": _write_section(s, "site", system),
         "demand": {
             "start": _iso(plan.demand.start),
             "interval_minutes": plan.demand.interval_s / 60,
@@ -499,26 +428,8 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
             }
             for c in plan.closures
         ],
-        "thresholds": {
-            "max_queue_length": rnd(
-                None
-                if plan.thresholds.max_queue_length is None
-                else u.m_to_long_length(plan.thresholds.max_queue_length, system)
-            ),
-            "max_average_delay_min": rnd(
-                None
-                if plan.thresholds.max_average_delay is None
-                else plan.thresholds.max_average_delay / u.MINUTE
-            ),
-            "max_demand_capacity": plan.thresholds.max_demand_capacity,
-        },
-        "options": {
-            "capacity_drop": plan.options.capacity_drop,
-            "diagram": plan.options.diagram,
-            "queue_length_method": plan.options.queue_length_method,
-            "space_time": plan.options.space_time,
-            "closure_windows": plan.options.closure_windows,
-        },
+        "thresholds": _write_section(plan.thresholds, "thresholds", system),
+        "options": _write_section(plan.options, "options", system),
     }
     if plan.history is not None and plan.history.file:  # the count history, not the flows
         from wzq.io.jsonhistory import history_to_dict
@@ -530,15 +441,7 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
 
         out["risk"] = risk_to_dict(plan.risk)
     if s.congested_branch != "derived":
-        out["site"]["congested_branch"] = s.congested_branch
-        out["site"]["wave_speed"] = rnd(
-            None if s.wave_speed is None else u.mps_to_speed(s.wave_speed, system)
-        )
-        out["site"]["density_at_capacity"] = rnd(
-            None
-            if s.density_at_capacity is None
-            else u.per_m_to_density(s.density_at_capacity, system)
-        )
+        out["site"].update(_write_section(s, "site", system, json_only=True))
     if plan.thresholds.queue_must_not_pass is not None:
         out["thresholds"]["queue_must_not_pass"] = plan.thresholds.queue_must_not_pass
     if plan.approach.landmarks:
@@ -546,15 +449,7 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
             "landmarks": [_landmark_dict(lm, system) for lm in plan.approach.landmarks]
         }
     if plan.costs is not None:
-        c = plan.costs
-        out["costs"] = {
-            "car_value_per_person_h": c.car_value_per_person_h,
-            "car_occupancy": c.car_occupancy,
-            "truck_value_per_veh_h": c.truck_value_per_veh_h,
-            "truck_percent": None if c.truck_share is None else c.truck_share * 100,
-            "currency": c.currency,
-            "dollar_year": c.dollar_year,
-        }
+        out["costs"] = _write_section(plan.costs, "costs", system)
     return out
 
 

@@ -49,6 +49,7 @@ from openpyxl.worksheet.table import Table, TableColumn
 import wzq
 from wzq.engine.plan import PlanError, Problem
 from wzq.engine.results import Result
+from wzq.io import fields as F
 from wzq.io.live.charts import add_charts
 from wzq.io.live.sheets import Skipped, excel_literal, write_sheet
 from wzq.io.workbook import layout
@@ -227,7 +228,7 @@ def _block(text: str) -> tuple[int, int, int, int] | None:
 def _percent_cells(mirror: Workbook) -> list[tuple[str, tuple[int, int, int, int]]]:
     """(sheet, block) of the inputs asked for in percent: named cells and the share columns."""
     out = []
-    for f in layout.ALL_FIELDS:
+    for f in F.ALL_FIELDS:
         dn = mirror.defined_names.get(f.name)
         if f.unit.startswith("%") and dn is not None:
             with contextlib.suppress(Exception):

@@ -42,7 +42,6 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.formula import ArrayFormula, DataTableFormula
 from openpyxl.worksheet.worksheet import Worksheet
 
-from wzq import units as u
 from wzq.engine.plan import (
     Closure,
     Costs,
@@ -55,6 +54,7 @@ from wzq.engine.plan import (
     Site,
     Thresholds,
 )
+from wzq.io import fields as F
 from wzq.io.workbook import formula_values as FV
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.safety import read_checked
@@ -83,68 +83,27 @@ _ISO_DATE = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})$")
 _ISO_DATETIME = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})[ T](\d{1,2}):(\d{2})$")
 _CLOCK = re.compile(r"^(\d{1,2}):(\d{2})(?::(\d{2}))?$")
 
-#: Where the plan's own field names (``wzq.engine.plan.validate``) live in the workbook.
+#: Where a plan check (``wzq.engine.plan.validate``) locates a problem -> the defined name.
 _PLAN_KEYS: dict[str, str] = {
-    "site.lanes": "site_lanes",
-    "site.speed_limit": "site_speed_limit",
-    "site.work_zone_speed_limit": "site_work_zone_speed_limit",
-    "site.free_flow_speed": "site_free_flow_speed",
-    "site.work_zone_length": "site_work_zone_length",
-    "site.heavy_vehicle_share": "site_heavy_vehicle_percent",
-    "site.lateral_clearance": "site_lateral_clearance",
-    "site.jam_density": "site_jam_density",
-    "site.base_capacity_pc_h_ln": "site_base_capacity",
-    "site.capacity_drop_pct": "site_capacity_drop_work_zone",
-    "site.work_intensity_pc_h_ln": "site_work_intensity",
-    "site.ramp_density": "site_ramp_density",
-    "site.terrain": "site_terrain",
-    "site.area_type": "site_area_type",
-    "site.driver_population": "site_driver_population",
-    "site.capacity_method": "site_capacity_method",
-    "site.capacity_override_is": "site_override_is",
-    "options.diagram": "opt_diagram",
-    "options.queue_length_method": "opt_queue_length_method",
-    "thresholds.max_queue_length": "limit_queue_length",
-    "thresholds.max_average_delay": "limit_average_delay",
-    "thresholds.max_demand_capacity": "limit_demand_capacity",
-    "costs.car_value_per_person_h": "cost_car_value",
-    "costs.car_occupancy": "cost_car_occupancy",
-    "costs.truck_value_per_veh_h": "cost_truck_value",
-    "costs.truck_share": "cost_truck_percent",
+    **{f.attribute: f.name for f in F.PLAN_INPUTS if f.name},
+    **{a: F.BY_ATTRIBUTE[b].name for a, b in F.LOCATION_ALIASES.items()},
 }
+#: Defined name -> the JSON-form plan key (:meth:`wzq.engine.plan.Plan.where`).
+_JSON_KEYS: dict[str, str] = {f.name: f.key for f in F.ALL_FIELDS if f.key}
 
-
-#: JSON-form plan keys (:meth:`wzq.engine.plan.Plan.where`) of named cells not spelt
-#: ``site.``/``meta.`` + the rest of the defined name.
-_JSON_KEYS: dict[str, str] = {
-    "site_capacity_drop_work_zone": "site.capacity_drop_percent_work_zone",
-    "site_capacity_drop_open": "site.capacity_drop_percent_open",
-    "site_base_capacity": "site.base_capacity_pc_h_ln",
-    "site_work_intensity": "site.work_intensity_pc_h_ln",
-    "site_ramp_adjustment": "site.ramp_adjustment_pc_h_ln",
-    "site_override_is": "site.capacity_override_is",
-    "limit_queue_length": "thresholds.max_queue_length",
-    "limit_average_delay": "thresholds.max_average_delay_min",
-    "limit_demand_capacity": "thresholds.max_demand_capacity",
-    "cost_car_value": "costs.car_value_per_person_h",
-    "cost_car_occupancy": "costs.car_occupancy",
-    "cost_truck_value": "costs.truck_value_per_veh_h",
-    "cost_truck_percent": "costs.truck_percent",
-    "opt_closure_windows": "options.closure_windows",
-}
 
 #: Table columns checked like named values (blank handling, type, range).
-_FLOW = L.Field("demand", "Demand", "number", "veh/h", bounds=(0.0, float("inf")))
-_SHARES = {h: L.Field(h, h, "number", "%", bounds=(0.0, 100.0)) for h in L.SHARE_COLUMNS[1:]}
-_LANES_CLOSED = L.Field(
+_FLOW = F.Field("demand", "Demand", "number", "veh/h", bounds=(0.0, float("inf")))
+_SHARES = {h: F.Field(h, h, "number", "%", bounds=(0.0, 100.0)) for h in L.SHARE_COLUMNS[1:]}
+_LANES_CLOSED = F.Field(
     "lanes_closed", "Lanes closed", "int", bounds=(0, 7), note="0 is a shoulder closure"
 )
-_BARRIER = L.Field("barrier", "Barrier", "choice", choices=L.BARRIER_WORDS)
-_NIGHT = L.Field("night", "Night work", "choice", blank=None, choices=L.NIGHT_WORDS)
-_OVERRIDE = L.Field(
+_BARRIER = F.Field("barrier", "Barrier", "choice", choices=L.BARRIER_WORDS)
+_NIGHT = F.Field("night", "Night work", "choice", blank=None, choices=L.NIGHT_WORDS)
+_OVERRIDE = F.Field(
     "override", "Capacity override", "number", "veh/h/ln", blank=None, bounds=(100.0, 3000.0)
 )
-_NOTE = L.Field("note", "Note", "text", blank="")
+_NOTE = F.Field("note", "Note", "text", blank="")
 
 
 def cell_ref(sheet: str, row: int, col: int) -> str:
@@ -476,10 +435,10 @@ class _BookReader:
 
     # -- defined names ----------------------------------------------------------------------
 
-    def locate(self, field: L.Field) -> tuple[Worksheet, int, int] | None:
+    def locate(self, field: F.Field) -> tuple[Worksheet, int, int] | None:
         """The cell a defined name points at, or ``None`` (problem recorded)."""
         name = field.name
-        home = L.FIELD_SHEET.get(name, "workbook")
+        home = F.FIELD_SHEET.get(name, "workbook")
         dn = self.wb.defined_names.get(name)
         if dn is None:
             for ws in self.wb.worksheets:
@@ -545,9 +504,9 @@ class _BookReader:
         self.where_of[name] = cell_ref(sheet, min_row, min_col)
         return ws, min_row, min_col
 
-    def field(self, field: L.Field) -> Any:
+    def field(self, field: F.Field) -> Any:
         """The typed value of a named input cell (``_MISSING`` after a problem)."""
-        if field.name in L.OPTIONAL_NAMES and self.wb.defined_names.get(field.name) is None:
+        if field.name in F.OPTIONAL_NAMES and self.wb.defined_names.get(field.name) is None:
             return self.convert(field.template, field, field.name)
         loc = self.locate(field)
         if loc is None:
@@ -567,7 +526,7 @@ class _BookReader:
         return cell is not None and _percent_format(getattr(cell, "number_format", None))
 
     def convert(
-        self, v: Any, field: L.Field, where: str, *, percent_cell: bool = False, hint: bool = True
+        self, v: Any, field: F.Field, where: str, *, percent_cell: bool = False, hint: bool = True
     ) -> Any:
         """A cell value as ``field`` asks for it (``_MISSING`` after a problem).
 
@@ -605,7 +564,7 @@ class _BookReader:
             return _MISSING
         return int(x) if kind == "int" else x
 
-    def fraction_hint(self, x: float, field: L.Field, where: str) -> None:
+    def fraction_hint(self, x: float, field: F.Field, where: str) -> None:
         """Warn when a percentage typed in a plain cell looks like a fraction (0.08 for 8 %)."""
         small = abs(x) < FRACTION_GROWTH if field.unit != "%" else 0 < x <= 1
         if x and small:
@@ -616,7 +575,7 @@ class _BookReader:
                 f"to get a percent-formatted cell); ignore this if {_fmt(x)} % is right",
             )
 
-    def _fill_hint(self, field: L.Field) -> str:
+    def _fill_hint(self, field: F.Field) -> str:
         if field.kind == "choice":
             return "pick one from the dropdown list"
         if field.kind == "date":
@@ -656,8 +615,8 @@ class _BookReader:
             where, f"{label}: {_show(v)} {what}; type only the number, without its unit"
         )
 
-    def in_range(self, x: float, field: L.Field, where: str) -> bool:
-        if field.unit in L.UNIT_KINDS and self.system is None:
+    def in_range(self, x: float, field: F.Field, where: str) -> bool:
+        if field.unit in F.UNIT_KINDS and self.system is None:
             return True
         system = self.system or "us"
         limits = field.limits(system)
@@ -676,7 +635,7 @@ class _BookReader:
             lo_s = f"above {_fmt(lo)}" if field.open_lo else f"{_fmt(lo)}"
             hi_s = f"below {_fmt(hi)}" if field.open_hi else f"{_fmt(hi)}"
             what = f"must be {lo_s} to {hi_s}{unit_s} (got {_fmt(x)})"
-        check = "check the value and its unit" if field.unit in L.UNIT_KINDS else "check the value"
+        check = "check the value and its unit" if field.unit in F.UNIT_KINDS else "check the value"
         self.bad(where, f"{field.label} {what}; {check}")
         return False
 
@@ -966,7 +925,7 @@ class _BookReader:
         """(sheet, row, column) of every named input cell."""
         if self._named_cells is None:
             found = set()
-            for f in L.ALL_FIELDS:
+            for f in F.ALL_FIELDS:
                 dn = self.wb.defined_names.get(f.name)
                 try:
                     dests = [] if dn is None else list(dn.destinations)
@@ -1045,7 +1004,7 @@ class _BookReader:
 
     def plan(self) -> Plan:
         ours = {t.casefold() for t in L.TABLE_COLUMNS}
-        if not any(self.wb.defined_names.get(f.name) is not None for f in L.ALL_FIELDS) and not any(
+        if not any(self.wb.defined_names.get(f.name) is not None for f in F.ALL_FIELDS) and not any(
             t.casefold() in ours for ws in self.wb.worksheets for t in ws.tables
         ):
             raise PlanError(
@@ -1053,12 +1012,12 @@ class _BookReader:
                 "workbook made by `wzq new` and copy your inputs into it",
                 where=self.source,
             )
-        system = self.field(L.UNIT_SYSTEM)
+        system = self.field(F.UNIT_SYSTEM)
         self.system = None if system is _MISSING else system
-        site_fields = (f for s in L.SITE_SECTIONS for f in s.fields)
+        site_fields = (f for s in F.SITE_SECTIONS for f in s.fields)
         values = {
             f.name: self.field(f)
-            for f in (*L.META_FIELDS, *site_fields, *L.THRESHOLD_FIELDS, *L.OPTION_FIELDS)
+            for f in (*F.META_FIELDS, *site_fields, *F.THRESHOLD_FIELDS, *F.OPTION_FIELDS)
         }
         self.check_speeds(values)
         self.check_sheet_names()
@@ -1116,8 +1075,6 @@ class _BookReader:
         out = {}
         for name, where in self.where_of.items():
             key = _JSON_KEYS.get(name)
-            if key is None and name.startswith(("site_", "meta_")):
-                key = name.replace("_", ".", 1)
             if key is not None:
                 out[key] = where
         for i, where in enumerate(self._demand_rows):
@@ -1138,14 +1095,14 @@ class _BookReader:
 
     def costs(self) -> Any:
         """Road-user costs; ``None`` when the three main values are all blank."""
-        locs = {f.name: self.locate(f) for f in L.COST_FIELDS}
-        main = {n: _MISSING if locs[n] is None else self.raw(*locs[n]) for n in L.COST_MAIN}
+        locs = {f.name: self.locate(f) for f in F.COST_FIELDS}
+        main = {n: _MISSING if locs[n] is None else self.raw(*locs[n]) for n in F.COST_MAIN}
         if any(v is _MISSING for v in main.values()):
             return _MISSING
         if all(_blank(v) for v in main.values()):
             return None  # no road-user costs
         got: dict[str, Any] = {}
-        for f in L.COST_FIELDS:
+        for f in F.COST_FIELDS:
             loc = locs[f.name]
             if loc is None:
                 got[f.name] = _MISSING
@@ -1163,20 +1120,17 @@ class _BookReader:
                 got[f.name] = self.convert(v, f, where)
         if any(v is _MISSING for v in got.values()):
             return _MISSING
-        tp = got["cost_truck_percent"]
         return Costs(
-            car_value_per_person_h=got["cost_car_value"],
-            car_occupancy=got["cost_car_occupancy"],
-            truck_value_per_veh_h=got["cost_truck_value"],
-            truck_share=None if tp is None else tp / 100.0,
-            currency=got["cost_currency"],
-            dollar_year=got["cost_dollar_year"],
+            **{
+                f.attribute.split(".", 1)[1]: F.to_plan(f, got[f.name], self.system)
+                for f in F.COST_FIELDS
+            }
         )
 
     # -- demand -----------------------------------------------------------------------------
 
     def demand(self, lanes: Any) -> Demand | None:
-        mode = self.field(L.DEMAND_MODE)
+        mode = self.field(F.DEMAND_MODE)
         if mode is _MISSING:
             return None
         self.unused_demand(mode)
@@ -1186,7 +1140,7 @@ class _BookReader:
 
     def unused_demand(self, mode: str) -> None:
         """Warn when the demand input that the mode leaves unused is filled in."""
-        switch = self.where_of.get(L.DEMAND_MODE.name, L.DEMAND_MODE.name)
+        switch = self.where_of.get(F.DEMAND_MODE.name, F.DEMAND_MODE.name)
         word = L.word_for(L.DEMAND_MODE_WORDS, mode)
         other = L.word_for(L.DEMAND_MODE_WORDS, L.HOURLY if mode == L.AADT else L.AADT)
         if mode == L.AADT:
@@ -1213,7 +1167,7 @@ class _BookReader:
                     f"'{other}'",
                 )
             return
-        for f in (L.AADT_FIELDS[0], L.AADT_FIELDS[4]):  # the AADT and the first day
+        for f in (F.AADT_FIELDS[0], F.AADT_FIELDS[4]):  # the AADT and the first day
             loc = self.peek(f.name)
             if loc is not None and not _blank(getattr(loc[0]._cells.get(loc[1:]), "value", None)):
                 self.note(
@@ -1380,7 +1334,7 @@ class _BookReader:
         return Demand(first[0], interval, np.array([e[1] for e in unique]))
 
     def demand_from_aadt(self) -> Demand | None:
-        v = {f.name: self.field(f) for f in L.AADT_FIELDS}
+        v = {f.name: self.field(f) for f in F.AADT_FIELDS}
         shares = self.hourly_shares()
         if any(x is _MISSING for x in v.values()) or shares is None:
             return None
@@ -1571,53 +1525,19 @@ class _BookReader:
     ) -> dict[str, Any]:
         system = self.system
         assert system is not None and demand is not None and closures is not None
-        spd = lambda x: None if x is None else u.speed_to_mps(x, system)  # noqa: E731
-        jam = v["site_jam_density"]
-        site = Site(
-            lanes=v["site_lanes"],
-            speed_limit=spd(v["site_speed_limit"]),
-            work_zone_speed_limit=spd(v["site_work_zone_speed_limit"]),
-            work_zone_length=u.long_length_to_m(v["site_work_zone_length"], system),
-            free_flow_speed=spd(v["site_free_flow_speed"]),
-            heavy_vehicle_share=v["site_heavy_vehicle_percent"] / 100.0,
-            terrain=v["site_terrain"],
-            area_type=v["site_area_type"],
-            lateral_clearance=u.short_length_to_m(v["site_lateral_clearance"], system),
-            driver_population=v["site_driver_population"],
-            jam_density=None if jam is None else u.density_to_per_m(jam, system),
-            ramp_density=v["site_ramp_density"] / u.LONG_LENGTH[system][1],
-            capacity_method=v["site_capacity_method"],
-            capacity_override_is=v["site_override_is"],
-            base_capacity_pc_h_ln=v["site_base_capacity"],
-            capacity_drop_pct_work_zone=v["site_capacity_drop_work_zone"],
-            capacity_drop_pct_open=v["site_capacity_drop_open"],
-            work_intensity_pc_h_ln=v["site_work_intensity"],
-            ramp_adjustment_pc_h_ln=v["site_ramp_adjustment"],
-            name=v["site_name"],
-            direction=v["site_direction"],
-            unit_system=system,
-        )
-        q, d = v["limit_queue_length"], v["limit_average_delay"]
-        thresholds = Thresholds(
-            max_queue_length=None if q is None else u.long_length_to_m(q, system),
-            max_average_delay=None if d is None else d * u.MINUTE,
-            max_demand_capacity=v["limit_demand_capacity"],
-        )
-        options = Options(
-            capacity_drop=v["opt_capacity_drop"],
-            diagram=v["opt_diagram"],
-            queue_length_method=v["opt_queue_length_method"],
-            space_time=v["site_space_time"],
-            closure_windows=v["opt_closure_windows"],
-        )
-        meta = Meta(
-            title=v["meta_title"],
-            project=v["meta_project"],
-            route=v["meta_route"],
-            prepared_by=v["meta_prepared_by"],
-            checked_by=v["meta_checked_by"],
-            notes=v["meta_notes"],
-        )
+        parts = {
+            section: {
+                f.attribute.split(".", 1)[1]: F.to_plan(f, v[f.name], system)
+                for f in F.section_inputs(section)
+                if f.name
+            }
+            for section in ("site", "thresholds", "options", "meta")
+        }
+        parts["site"]["unit_system"] = system
+        site = Site(**parts["site"])
+        thresholds = Thresholds(**parts["thresholds"])
+        options = Options(**parts["options"])
+        meta = Meta(**parts["meta"])
         return dict(
             site=site,
             demand=demand,

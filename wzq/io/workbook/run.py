@@ -27,6 +27,7 @@ from openpyxl.workbook.workbook import Workbook
 import wzq
 from wzq.engine.plan import Plan, PlanError, Problem
 from wzq.engine.results import Result
+from wzq.io import fields as F
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.plans import demo_plan
 from wzq.io.workbook import layout
@@ -319,50 +320,12 @@ def run_workbook(
 # --- the demo workbook ------------------------------------------------------------------
 
 #: Where each value of a plan's JSON form (:func:`wzq.io.jsonplan.plan_to_dict`, already
-#: in the plan's unit system) is typed in the template: (section, key) -> defined
-#: name, with the dropdown words for a choice.
+#: in the plan's unit system) is typed in the template: (section, key) -> (defined name,
+#: dropdown words or ``None``), for every plan input with a cell (:mod:`wzq.io.fields`).
 _TYPED: dict[tuple[str, str], tuple[str, layout.Choices | None]] = {
-    **{("meta", f.name.removeprefix("meta_")): (f.name, None) for f in layout.META_FIELDS},
-    **{
-        ("site", k): (f"site_{k}", None)
-        for k in (
-            "name",
-            "direction",
-            "lanes",
-            "speed_limit",
-            "work_zone_speed_limit",
-            "free_flow_speed",
-            "work_zone_length",
-            "heavy_vehicle_percent",
-            "lateral_clearance",
-            "ramp_density",
-            "jam_density",
-        )
-    },
-    ("site", "terrain"): ("site_terrain", layout.TERRAIN_WORDS),
-    ("site", "area_type"): ("site_area_type", layout.AREA_WORDS),
-    ("site", "driver_population"): ("site_driver_population", layout.DRIVER_WORDS),
-    ("site", "capacity_method"): ("site_capacity_method", layout.METHOD_WORDS),
-    ("site", "capacity_override_is"): ("site_override_is", layout.OVERRIDE_WORDS),
-    ("site", "base_capacity_pc_h_ln"): ("site_base_capacity", None),
-    ("site", "capacity_drop_percent_work_zone"): ("site_capacity_drop_work_zone", None),
-    ("site", "capacity_drop_percent_open"): ("site_capacity_drop_open", None),
-    ("site", "work_intensity_pc_h_ln"): ("site_work_intensity", None),
-    ("site", "ramp_adjustment_pc_h_ln"): ("site_ramp_adjustment", None),
-    ("thresholds", "max_queue_length"): ("limit_queue_length", None),
-    ("thresholds", "max_average_delay_min"): ("limit_average_delay", None),
-    ("thresholds", "max_demand_capacity"): ("limit_demand_capacity", None),
-    ("costs", "car_value_per_person_h"): ("cost_car_value", None),
-    ("costs", "car_occupancy"): ("cost_car_occupancy", None),
-    ("costs", "truck_value_per_veh_h"): ("cost_truck_value", None),
-    ("costs", "truck_percent"): ("cost_truck_percent", None),
-    ("costs", "currency"): ("cost_currency", None),
-    ("costs", "dollar_year"): ("cost_dollar_year", None),
-    ("options", "capacity_drop"): ("opt_capacity_drop", layout.YES_NO_WORDS),
-    ("options", "diagram"): ("opt_diagram", layout.DIAGRAM_WORDS),
-    ("options", "queue_length_method"): ("opt_queue_length_method", layout.QUEUE_METHOD_WORDS),
-    ("options", "space_time"): ("site_space_time", layout.YES_NO_WORDS),
-    ("options", "closure_windows"): ("opt_closure_windows", layout.YES_NO_WORDS),
+    tuple(f.key.split(".", 1)): (f.name, f.choices if f.kind == "choice" else None)
+    for f in F.PLAN_INPUTS
+    if f.name and f.key != "units"
 }
 
 
@@ -397,10 +360,8 @@ def type_plan(book: Workbook, plan: Plan) -> None:
     rows of their Excel tables.
     """
     data = plan_to_dict(plan)
-    _named_cell(book, layout.UNIT_SYSTEM.name).value = layout.word_for(
-        layout.UNIT_WORDS, data["units"]
-    )
-    _named_cell(book, layout.DEMAND_MODE.name).value = layout.word_for(
+    _named_cell(book, F.UNIT_SYSTEM.name).value = layout.word_for(layout.UNIT_WORDS, data["units"])
+    _named_cell(book, F.DEMAND_MODE.name).value = layout.word_for(
         layout.DEMAND_MODE_WORDS, layout.HOURLY
     )
     for (section, key), (name, words) in _TYPED.items():

@@ -36,6 +36,7 @@ from xlsxwriter.format import Format
 from xlsxwriter.worksheet import Worksheet
 
 import wzq
+from wzq.io import fields as F
 from wzq.io.workbook import layout as L
 
 #: Fixed document time, so that a rebuild gives the same parts.
@@ -174,18 +175,18 @@ def _formats(wb: xlsxwriter.Workbook) -> dict[str, Format]:
     }
 
 
-def _unit_cell(ws: Worksheet, row: int, col: int, field: L.Field, fmt: Format) -> None:
+def _unit_cell(ws: Worksheet, row: int, col: int, field: F.Field, fmt: Format) -> None:
     """The unit beside a value: follows the unit system through a formula."""
-    if field.unit in L.UNIT_KINDS:
-        us, metric = L.UNIT_KINDS[field.unit]
-        formula = f'=IF({L.UNIT_SYSTEM.name}="metric","{metric}","{us}")'
+    if field.unit in F.UNIT_KINDS:
+        us, metric = F.UNIT_KINDS[field.unit]
+        formula = f'=IF({F.UNIT_SYSTEM.name}="metric","{metric}","{us}")'
         ws.write_formula(row, col, formula, fmt, us)
     elif field.unit:
         ws.write_string(row, col, field.unit, fmt)
 
 
 def _value_cell(
-    wb: xlsxwriter.Workbook, ws: Worksheet, row: int, col: int, field: L.Field, f: dict
+    wb: xlsxwriter.Workbook, ws: Worksheet, row: int, col: int, field: F.Field, f: dict
 ) -> None:
     """The input cell of one field, its defined name and (for choices) its dropdown."""
     fmt = {
@@ -222,7 +223,7 @@ def _value_cell(
 def _sections(
     wb: xlsxwriter.Workbook,
     ws: Worksheet,
-    sections: Sequence[L.Section],
+    sections: Sequence[F.Section],
     row: int,
     f: dict,
     col: int = 0,
@@ -241,7 +242,7 @@ def _sections(
 
 
 def _field_row(
-    wb: xlsxwriter.Workbook, ws: Worksheet, row: int, col: int, field: L.Field, f: dict
+    wb: xlsxwriter.Workbook, ws: Worksheet, row: int, col: int, field: F.Field, f: dict
 ) -> None:
     """label | value | unit | note of one field, from column ``col``."""
     ws.write_string(row, col, field.label, f["label"])
@@ -287,7 +288,7 @@ def _start_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict, macro: bool) -
     ws.merge_range(row, 1, row, 3, wzq.CAUTION, f["caution"])
     ws.set_row(row, 30)
     row += 2
-    _sections(wb, ws, L.START_SECTIONS, row, f)
+    _sections(wb, ws, F.START_SECTIONS, row, f)
     if macro:
         ws.insert_button(
             row,
@@ -323,9 +324,9 @@ def _demand_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
     ws.set_column(6, 6, 18)
     ws.set_column(7, 7, 46)
     # the mode switch
-    ws.write_string(3, 0, L.DEMAND_MODE.label, f["label"])
-    _value_cell(wb, ws, 3, 1, L.DEMAND_MODE, f)
-    ws.write_string(3, 2, L.DEMAND_MODE.note, f["note"])
+    ws.write_string(3, 0, F.DEMAND_MODE.label, f["label"])
+    _value_cell(wb, ws, 3, 1, F.DEMAND_MODE, f)
+    ws.write_string(3, 2, F.DEMAND_MODE.note, f["note"])
     # hourly counts
     ws.write_string(5, 0, "Hourly counts", f["section"])
     for k in (1, 2):
@@ -362,7 +363,7 @@ def _demand_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
         f["note"],
     )
     row = 7
-    for field in L.AADT_FIELDS:
+    for field in F.AADT_FIELDS:
         _field_row(wb, ws, row, 4, field, f)
         row += 1
     row += 1
@@ -404,7 +405,7 @@ def _demand_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
 
 
 def _override_label() -> str:
-    return next(f.label for s in L.SITE_SECTIONS for f in s.fields if f.name == "site_override_is")
+    return next(f.label for s in F.SITE_SECTIONS for f in s.fields if f.name == "site_override_is")
 
 
 def _closure_sheet(ws: Worksheet, f: dict) -> None:
@@ -508,7 +509,7 @@ def build_template(path: Path, *, macro: bool) -> None:
         "sheet.",
         f,
     )
-    _sections(wb, sheets[L.SITE], L.SITE_SECTIONS, row, f)
+    _sections(wb, sheets[L.SITE], F.SITE_SECTIONS, row, f)
     _demand_sheet(wb, sheets[L.DEMAND], f)
     _closure_sheet(sheets[L.CLOSURES], f)
     row = _field_sheet_header(
@@ -517,7 +518,7 @@ def build_template(path: Path, *, macro: bool) -> None:
         "Agency limits for each hour, road-user cost values and how the analysis runs.",
         f,
     )
-    _sections(wb, sheets[L.LIMITS], L.LIMITS_SECTIONS, row, f)
+    _sections(wb, sheets[L.LIMITS], F.LIMITS_SECTIONS, row, f)
     for ws in sheets.values():
         ws.set_landscape()
         ws.fit_to_pages(1, 0)
