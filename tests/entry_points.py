@@ -54,15 +54,11 @@ def run_jobs(jobs: list[dict], timeout: float) -> dict[str, dict]:
 def _preload() -> None:
     """Import every module a command imports, so the children only run the command."""
     import wzq.cli
-    import wzq.cli.batch
-    import wzq.cli.new
-    import wzq.cli.report
-    import wzq.cli.spacetime
-    import wzq.cli.windows
     import wzq.io.report
     import wzq.io.workbook.run
 
-    wzq.cli._load_extras()
+    for name in wzq.cli.COMMANDS:
+        wzq.cli.command_module(name)
 
 
 def _child(argv: list[str], out_fd: int, err_fd: int) -> None:

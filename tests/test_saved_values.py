@@ -98,11 +98,11 @@ def test_case2_a_value_at_the_last_cell_costs_nothing_to_read_past(tmp_path) -> 
         f"""
         import json
         from pathlib import Path
-        from wzq.io.workbook.reader import _BookReader, book_from_bytes
+        from wzq.io.workbook.reader import BookReader, book_from_bytes
         path = Path({str(path)!r})
         data = path.read_bytes()
         book = book_from_bytes(data, path)
-        reader = _BookReader(book, path.name, path, data)
+        reader = BookReader(book, path.name, path, data)
         print(json.dumps(reader.raw(book["Site"], 9, 2)))
         """
     )

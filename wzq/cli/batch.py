@@ -1,7 +1,6 @@
 """The ``wzq batch`` sub-command: every plan in a folder, one summary.
 
-Importing this module adds the command to :data:`wzq.cli.EXTRA_COMMANDS`. The
-work itself is :func:`wzq.io.batch.runner.run_batch`; this module only parses options,
+The work itself is :func:`wzq.io.batch.runner.run_batch`; this module only parses options,
 shows a progress bar when standard error is a terminal, and prints a short
 closing summary.
 """

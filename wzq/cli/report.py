@@ -1,6 +1,6 @@
 """The ``wzq report`` sub-command: the printable PDF report of one plan.
 
-Importing this module adds the command to :data:`wzq.cli.EXTRA_COMMANDS`.
+The report itself is :func:`wzq.io.report.write_report`.
 """
 
 from __future__ import annotations

@@ -1,7 +1,6 @@
 """``wzq spacetime PATH -o PNG``: simulate the approach and draw the space-time picture.
 
-Registers the sub-command with :data:`wzq.cli.EXTRA_COMMANDS` when imported;
-the simulation is :func:`wzq.engine.lwr.simulation.simulate`, the picture
+The simulation is :func:`wzq.engine.lwr.simulation.simulate`, the picture
 :func:`wzq.present.spacetime.space_time_png`. The plan file is only read.
 """
 

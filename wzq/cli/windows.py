@@ -1,7 +1,6 @@
 """``wzq windows PATH``: the hours in which each lane closure may be in place.
 
-Registers the sub-command with :data:`wzq.cli.EXTRA_COMMANDS` when imported;
-the search itself is :func:`wzq.engine.windows.plan_windows`.
+The search itself is :func:`wzq.engine.windows.plan_windows`.
 """
 
 from __future__ import annotations

@@ -1,0 +1,140 @@
+"""What every part of the reader shares: limits, the value that could not be read
+(:data:`_MISSING`), how a cell is named (:func:`cell_ref`), how values are shown in
+messages, and the shapes of tables and rows."""
+
+from __future__ import annotations
+
+import datetime as dt
+import re
+from dataclasses import dataclass
+from typing import Any
+
+from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.worksheet import Worksheet
+
+from wzq.io import fields as F
+from wzq.io.workbook import layout as L
+
+#: File suffixes read as workbooks.
+WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
+#: Hourly demand above this per lane in normal operation is taken for a typing or
+#: unit mistake (e.g. a two-way count or a daily total) (common practice, no source).
+MAX_DEMAND_VEH_H_LN = 3000.0
+DAY = 86_400  # seconds
+#: The last date-time serial a spreadsheet holds (9999-12-31 23:59:59, 1900 date system).
+MAX_SERIAL = 2_958_465.99999
+#: Years a closure plan's dates may fall in; anything else is a typing mistake, and it
+#: keeps date arithmetic far from the ends of the calendar (common practice, no source).
+FIRST_YEAR, LAST_YEAR = 1900, 2199
+#: Serial numbers below this are days of 1900: a small number typed where a date or
+#: time belongs, never a closure date (common practice, no source).
+DAYS_IN_1900 = 367
+#: A growth rate in percent per year smaller than this (in size) looks like a fraction
+#: typed for a percentage (0.02 for 2 %) (common practice, no source).
+FRACTION_GROWTH = 0.1
+
+_MISSING = object()  # a value that could not be read (its problem is already recorded)
+_ISO_DATE = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})$")
+_ISO_DATETIME = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})[ T](\d{1,2}):(\d{2})$")
+_CLOCK = re.compile(r"^(\d{1,2}):(\d{2})(?::(\d{2}))?$")
+
+#: Where a plan check (``wzq.engine.plan.validate``) locates a problem -> the defined name.
+_PLAN_KEYS: dict[str, str] = {
+    **{f.attribute: f.name for f in F.PLAN_INPUTS if f.name},
+    **{a: F.BY_ATTRIBUTE[b].name for a, b in F.LOCATION_ALIASES.items()},
+}
+#: Defined name -> the JSON-form plan key (:meth:`wzq.engine.plan.Plan.where`).
+_JSON_KEYS: dict[str, str] = {f.name: f.key for f in F.ALL_FIELDS if f.key}
+
+
+#: Table columns checked like named values (blank handling, type, range).
+_FLOW = F.Field("demand", "Demand", "number", "veh/h", bounds=(0.0, float("inf")))
+_SHARES = {h: F.Field(h, h, "number", "%", bounds=(0.0, 100.0)) for h in L.SHARE_COLUMNS[1:]}
+_LANES_CLOSED = F.Field(
+    "lanes_closed", "Lanes closed", "int", bounds=(0, 7), note="0 is a shoulder closure"
+)
+_BARRIER = F.Field("barrier", "Barrier", "choice", choices=L.BARRIER_WORDS)
+_NIGHT = F.Field("night", "Night work", "choice", blank=None, choices=L.NIGHT_WORDS)
+_OVERRIDE = F.Field(
+    "override", "Capacity override", "number", "veh/h/ln", blank=None, bounds=(100.0, 3000.0)
+)
+_NOTE = F.Field("note", "Note", "text", blank="")
+
+
+def cell_ref(sheet: str, row: int, col: int) -> str:
+    """``Site!B8``; a sheet name with spaces or punctuation is quoted as in a formula."""
+    name = sheet if re.fullmatch(r"[A-Za-z_][A-Za-z0-9_.]*", sheet) else f"'{sheet}'"
+    return f"{name}!{get_column_letter(col)}{row}"
+
+
+def _percent_format(fmt: str | None) -> bool:
+    """A number format that shows values times 100 with a percent sign (``0%``, ``0.0%``);
+    a percent sign in quotes or escaped (``0.0"%"``, ``0\\%``) does not scale."""
+    if not fmt or "%" not in fmt:
+        return False
+    plain = re.sub(r'"[^"]*"|\\.|\[[^\]]*\]', "", fmt)
+    return "%" in plain
+
+
+def _blank(v: Any) -> bool:
+    return v is None or (isinstance(v, str) and not v.strip())
+
+
+def _norm(text: str) -> str:
+    return " ".join(str(text).split()).casefold()
+
+
+def _fmt(x: float) -> str:
+    return f"{x:,.6g}" if abs(x) < 1e6 else f"{x:,.0f}"
+
+
+def _show(v: Any) -> str:
+    """A cell value as the user would recognise it in a message."""
+    if isinstance(v, str):
+        return f"'{v.strip()}'"
+    if isinstance(v, dt.datetime):
+        return v.strftime("%Y-%m-%d %H:%M")
+    if isinstance(v, float):
+        return _fmt(v)
+    return str(v)
+
+
+def _when(t: dt.datetime) -> str:
+    return t.strftime("%a %Y-%m-%d %H:%M")
+
+
+@dataclass(frozen=True)
+class _Clock:
+    """A time of day typed in a cell: seconds after midnight (86400 is 24:00)."""
+
+    seconds: int
+
+
+@dataclass
+class _Table:
+    name: str
+    ws: Worksheet
+    header_row: int
+    first_row: int  # first data row
+    last_row: int  # last data row
+    end_row: int  # last row of the table (its totals row, if it has one)
+    min_col: int
+    max_col: int
+    columns: dict[str, int]  # normalised header -> column number
+
+    def col(self, header: str) -> int:
+        return self.columns[_norm(header)]
+
+
+@dataclass
+class _Row:
+    """One non-blank table row: its sheet row and raw values by header."""
+
+    row: int
+    values: dict[str, Any]
+
+
+def _pad_iso(text: str) -> str:
+    """``2027-5-3`` -> ``2027-05-03``."""
+    y, m, d = text.split("-")
+    return f"{y}-{int(m):02d}-{int(d):02d}"
