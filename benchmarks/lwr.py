@@ -1,4 +1,4 @@
-"""Speed of the LWR solver (wzq.engine.lwr.simulation.solve) against clawpack's first-order solver.
+"""Speed of the LWR solver (wzq.engine.lwr.scheme.solve) against clawpack's first-order solver.
 
 Both march the same Greenshields Riemann problem (a released dense platoon, a
 transonic fan) on 10,000 cells with the same fixed time step and transmissive
@@ -20,7 +20,7 @@ import time
 
 import numpy as np
 
-from wzq.engine.lwr import simulation as lwr
+from wzq.engine import lwr
 from wzq.models.flow import Greenshields
 
 FREE_SPEED = 30.0  # m/s, invented
@@ -101,8 +101,8 @@ def main() -> None:
 
     print("                               M cell-steps/s (best, median of the runs)")
     for name, times in (
-        ("wzq.engine.lwr.simulation.solve", ours),
-        ("wzq.engine.lwr.simulation.solve (track=True)", tracked),
+        ("wzq.engine.lwr.scheme.solve", ours),
+        ("wzq.engine.lwr.scheme.solve (track=True)", tracked),
         ("clawpack ClawSolver1D order 1", theirs),
     ):
         if times:

@@ -35,7 +35,7 @@ import pytest
 
 import wzq
 from wzq.cli import main
-from wzq.engine.lwr import simulation as lwr
+from wzq.engine import lwr
 from wzq.engine.plan import (
     Approach,
     Closure,

@@ -19,7 +19,7 @@ import numpy as np
 import pytest
 
 import wzq
-from wzq.engine.lwr import simulation as lwr
+from wzq.engine import lwr
 from wzq.engine.windows import plan_windows
 
 DATA = Path(__file__).parent / "data"

@@ -33,7 +33,7 @@ from hypothesis import strategies as st
 
 import wzq
 from wzq import units as u
-from wzq.engine.lwr import simulation as lwr
+from wzq.engine import lwr
 from wzq.io.jsonplan import load_plan
 from wzq.models.flow import CappedGreenshields, Greenshields, Triangular
 

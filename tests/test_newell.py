@@ -497,7 +497,7 @@ def test_agrees_with_the_godunov_lwr_solver() -> None:
     # schemes, LeVeque 1992 ch. 11 -- from memory); after its 3000 s trip to the back the
     # smear is about sqrt(2 D 3000 s), which bounds the difference near the peak, and
     # it shrinks as the cells do.
-    from wzq.engine.lwr import simulation as lwr
+    from wzq.engine import lwr
 
     t, a = hand_curve([0, 3600, 9600, 14400], [0, 3240, 8640, 12960])
     _, d = hand_curve([0, 3600, 9600, 14400], [0, 2160, 8640, 12960])

@@ -21,7 +21,7 @@ import pytest
 import wzq
 from wzq import cli
 from wzq import units as u
-from wzq.engine.lwr import simulation as lwr
+from wzq.engine import lwr
 from wzq.io.jsonplan import plan_to_dict
 from wzq.present.spacetime import DPI, FIGSIZE, space_time_figure, space_time_png
 

@@ -28,7 +28,7 @@ from pathlib import Path
 import numpy as np
 
 import wzq
-from wzq.engine.lwr import simulation as lwr
+from wzq.engine import lwr
 from wzq.engine.windows import plan_windows
 from wzq.io.jsonplan import load_plan
 
