@@ -13,6 +13,39 @@ from __future__ import annotations
 
 from typing import Literal
 
+__all__ = [
+    "DENSITY",
+    "FOOT",
+    "HOUR",
+    "KILOMETRE",
+    "KMH",
+    "LONG_LENGTH",
+    "MILE",
+    "MINUTE",
+    "MPH",
+    "SHORT_LENGTH",
+    "SPEED",
+    "UNIT_SYSTEMS",
+    "UnitSystem",
+    "density_to_per_m",
+    "kmh_to_mps",
+    "long_length_to_m",
+    "m_to_long_length",
+    "m_to_short_length",
+    "mph_to_mps",
+    "mps_to_kmh",
+    "mps_to_mph",
+    "mps_to_speed",
+    "per_km_to_per_m",
+    "per_m_to_density",
+    "per_m_to_per_km",
+    "per_m_to_per_mile",
+    "per_mile_to_per_m",
+    "short_length_to_m",
+    "speed_to_mps",
+    "unit_label",
+]
+
 UnitSystem = Literal["us", "metric"]
 UNIT_SYSTEMS: tuple[UnitSystem, ...] = ("us", "metric")
 

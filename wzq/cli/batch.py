@@ -18,6 +18,18 @@ from wzq.engine.plan import PlanError, Problem
 from wzq.io.batch.runner import DEFAULT_RETRIES, DEFAULT_SUMMARY, BatchResult, Outcome, run_batch
 from wzq.present.printable import printable, unwrapped
 
+__all__ = [
+    "DESCRIPTION",
+    "EPILOG",
+    "LISTED_PROBLEMS",
+    "PAPERS",
+    "batch_status",
+    "closing_summary",
+    "cmd_batch",
+    "configure",
+    "run",
+]
+
 #: Paper sizes of the PDF report (the keys of :data:`wzq.io.report.PAPERS`, which is
 #: not imported here because the PDF library is slow to load).
 PAPERS = ("letter", "a4")

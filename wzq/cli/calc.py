@@ -25,6 +25,20 @@ from wzq.cli import EXIT_OK, explain
 from wzq.engine.plan import PlanError, Problem
 from wzq.io.office.build import IDENTIFIER, OXT_NAME, build_extension
 
+__all__ = [
+    "SYSTEM_PYTHONS",
+    "UNOPKG_PLACES",
+    "UNOPKG_TIMEOUT_S",
+    "cmd_calc",
+    "configure",
+    "find_unopkg",
+    "install",
+    "office_env",
+    "remove",
+    "run",
+    "unopkg_command",
+]
+
 #: Where LibreOffice puts ``unopkg`` when it is not on the PATH.
 UNOPKG_PLACES = (
     "/usr/lib/libreoffice/program/unopkg",

@@ -32,6 +32,13 @@ from wzq import cli
 from wzq.engine.plan import PlanError
 from wzq.present.tables import summary_lines
 
+__all__ = [
+    "MARK",
+    "PROTOCOL",
+    "main",
+    "outcome",
+]
+
 #: The line of the output that carries the outcome (the macro looks for it).
 MARK = "wzq-calc-outcome:"
 #: Raised when the outcome's format changes, so an old macro and a new wzq notice.

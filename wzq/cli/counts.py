@@ -11,6 +11,14 @@ from wzq.cli import EXIT_OK, explain
 from wzq.engine.plan import PlanError, Problem
 from wzq.io.counts import CountRead, read_counts
 
+__all__ = [
+    "COUNTS_DESCRIPTION",
+    "cmd_counts",
+    "configure",
+    "print_counts",
+    "run",
+]
+
 COUNTS_DESCRIPTION = """\
 Read a count file -- FHWA Traffic Monitoring Guide hourly volume records
 (2013 or 2001 layout, fixed columns or '|'-separated), or a CSV table in long

@@ -15,6 +15,15 @@ from wzq.engine.plan import PlanError, Problem
 from wzq.io.plans import load_any
 from wzq.io.report import PAPERS, write_report
 
+__all__ = [
+    "DESCRIPTION",
+    "cmd_report",
+    "configure",
+    "default_output",
+    "output_path",
+    "run",
+]
+
 DESCRIPTION = """\
 Analyse a plan (a .json plan or a .xlsx/.xlsm workbook) and write the printable
 report: title block with prepared-by and checked-by lines, the inputs with

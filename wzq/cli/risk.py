@@ -20,6 +20,14 @@ from wzq.engine.risk import PROBABILITY_COLUMNS, RiskResult, assess
 from wzq.io.plans import load_any
 from wzq.present.tables import limits_text
 
+__all__ = [
+    "RISK_DESCRIPTION",
+    "cmd_risk",
+    "configure",
+    "print_risk",
+    "run",
+]
+
 RISK_DESCRIPTION = """\
 How likely is it that the plan breaks the agency's limits? The plan is run by
 the engine on every scenario -- every historical period of the plan's count

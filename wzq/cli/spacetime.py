@@ -25,6 +25,18 @@ from wzq.io.plans import load_any
 from wzq.present.tables import hour_label
 from wzq.present.terminal import TermColumn, console_width, print_table
 
+__all__ = [
+    "DESCRIPTION",
+    "MAX_CELLS",
+    "cmd_spacetime",
+    "comparison_columns",
+    "configure",
+    "engine_in_window",
+    "lwr_stored_veh",
+    "print_comparison",
+    "run",
+]
+
 DESCRIPTION = """\
 Check the queue in space and time. The approach road upstream of the closure
 is simulated with the kinematic-wave (LWR) model, solved by Godunov's scheme

@@ -31,6 +31,16 @@ from wzq.io.plans import load_any
 from wzq.present.tables import limits_text
 from wzq.present.terminal import TermColumn, console_width, print_table
 
+__all__ = [
+    "BARRIER_HELP",
+    "DESCRIPTION",
+    "cmd_windows",
+    "configure",
+    "print_chart",
+    "print_windows",
+    "run",
+]
+
 DESCRIPTION = """\
 Find when each lane closure may be in place at all. For every lane
 configuration (lanes closed out of the lanes in normal operation) the plan's

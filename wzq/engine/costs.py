@@ -17,6 +17,21 @@ from wzq.models.costs import (
     mixed_value_per_veh_h,
 )
 
+__all__ = [
+    "DEFAULTS_NOTE",
+    "DEFAULT_COSTS",
+    "car_value_per_veh_h",
+    "cost_basis",
+    "costs_or_default",
+    "delay_cost",
+    "hourly_cost",
+    "plan_costs",
+    "plan_delay_cost",
+    "total_cost",
+    "truck_share",
+    "value_per_veh_h",
+]
+
 #: The defaults: the memo's values, the car value split into person-hour and occupancy.
 DEFAULT_COSTS = Costs(
     car_value_per_person_h=MEMO_CAR_VALUE_PER_VEH_H / MEMO_CAR_OCCUPANCY,

@@ -53,6 +53,30 @@ import numpy as np
 
 from wzq.engine.plan import Demand, PlanError, Problem
 
+__all__ = [
+    "DAYS_PER_YEAR",
+    "DAY_S",
+    "DAY_TYPE_GROUPINGS",
+    "HOLIDAY",
+    "WEEKDAY_NAMES",
+    "CountHistory",
+    "DayMatch",
+    "DemandHistory",
+    "DemandRule",
+    "DesignDemand",
+    "HistoricalScenarios",
+    "Period",
+    "day_type_name",
+    "day_types",
+    "days_from_same_date",
+    "design_demand",
+    "growth_factor",
+    "historical_scenarios",
+    "plan_period",
+    "rule_problems",
+    "weekday",
+]
+
 DAY_TYPE_GROUPINGS: tuple[str, ...] = ("by-name", "mon-thu")
 WEEKDAY_NAMES = ("Monday", "Tuesday", "Wednesday", "Thursday", "Friday", "Saturday", "Sunday")
 #: Day-type code of a listed holiday (weekdays are 0 = Monday ... 6 = Sunday).

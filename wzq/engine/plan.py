@@ -25,6 +25,49 @@ from wzq.units import UnitSystem
 if TYPE_CHECKING:
     from wzq.engine.design_demand import DemandHistory
 
+__all__ = [
+    "AREA_TYPES",
+    "BARRIERS",
+    "CAPACITY_METHODS",
+    "CONGESTED_BRANCHES",
+    "DIAGRAMS",
+    "DRIVER_POPULATIONS",
+    "LANDMARK_KINDS",
+    "NIGHT_END_HOUR",
+    "NIGHT_START_HOUR",
+    "OVERRIDE_MEANINGS",
+    "QUEUE_LENGTH_METHODS",
+    "RAMP_KINDS",
+    "TERRAINS",
+    "Approach",
+    "AreaType",
+    "Barrier",
+    "CapacityMethod",
+    "Closure",
+    "CongestedBranch",
+    "Costs",
+    "Demand",
+    "Diagram",
+    "DriverPopulation",
+    "Landmark",
+    "LandmarkKind",
+    "Meta",
+    "Options",
+    "OverrideMeaning",
+    "Plan",
+    "PlanError",
+    "Problem",
+    "QueueLengthMethod",
+    "RampFlows",
+    "RiskOptions",
+    "Site",
+    "Terrain",
+    "Thresholds",
+    "is_night",
+    "ramp_flows",
+    "validate",
+]
+
 Terrain = Literal["level", "rolling"]
 AreaType = Literal["urban", "rural"]
 Barrier = Literal["hard", "soft"]

@@ -19,6 +19,21 @@ from wzq import units as u
 from wzq.engine.plan import Plan
 from wzq.models.capacity import LATERAL_DISTANCE_RANGE_FT
 
+__all__ = [
+    "BUSY_VEH_H_LN",
+    "DAY_END_HOUR",
+    "DAY_START_HOUR",
+    "LONG_WORK_ZONE_MI",
+    "MAX_LISTED",
+    "NEAR_ZERO_SHARE",
+    "NEIGHBOURS",
+    "above_open_road",
+    "demand_key",
+    "near_zero_demand",
+    "site_ranges",
+    "warnings",
+]
+
 #: Clock hours counted as daytime for the near-zero demand check, 06:00 to 22:00
 #: (common practice, no source).
 DAY_START_HOUR, DAY_END_HOUR = 6, 22

@@ -85,6 +85,30 @@ from wzq.models import newell
 from wzq.models.queueing import QueueRun, solve
 from wzq.units import HOUR
 
+__all__ = [
+    "HOUR_COLUMNS",
+    "MAX_INTERVALS",
+    "SCREEN_MARGIN",
+    "SYMBOLS",
+    "Configuration",
+    "DayType",
+    "Window",
+    "WindowSet",
+    "WindowsResult",
+    "day_rows",
+    "days_allowed_by_hour",
+    "default_configurations",
+    "feasible_starts",
+    "find_windows",
+    "intervals_for",
+    "longest_windows",
+    "plan_windows",
+    "too_long",
+    "too_long_text",
+    "typical_days",
+    "windows_table",
+]
+
 #: Longest demand series the search accepts, in intervals (the allowed set is an
 #: ``n x (n+1)`` table; 4,032 is 24 weeks of hourly or 6 weeks of 15-minute data).
 MAX_INTERVALS = 6 * 7 * 24 * 4

@@ -72,6 +72,34 @@ import numpy as np
 from wzq.engine.design_demand import DAY_S, WEEKDAY_NAMES, CountHistory
 from wzq.engine.plan import PlanError, Problem
 
+__all__ = [
+    "DIRECTIONS",
+    "EDITIONS",
+    "EXCEL_SUFFIXES",
+    "LOW_DAY_SHARE",
+    "MAX_FILE_BYTES",
+    "MAX_FLOW_VEH_H_LN",
+    "MAX_LANES",
+    "RECORD_LENGTH",
+    "RESTRICTIONS",
+    "TMG_2001",
+    "TMG_2013",
+    "TMG_SUFFIXES",
+    "ZERO_RUN_HOURS",
+    "CountRead",
+    "Field",
+    "Row",
+    "VolumeRecord",
+    "exclude",
+    "parse_volume_record",
+    "read_counts",
+    "read_csv_text",
+    "read_sheet",
+    "read_table",
+    "read_tmg",
+    "tmg_day_of_week",
+]
+
 #: A flow no freeway lane carries: the HCM caps basic freeway capacity at
 #: 2,400 pc/h/ln (HCM 7th ed., ch. 12); counts above 3,000 veh/h per lane are
 #: taken as errors (common practice, no source).

@@ -34,6 +34,41 @@ from wzq.io.workbook.layout import (
     Choices,
 )
 
+__all__ = [
+    "AADT_FIELDS",
+    "ALL_FIELDS",
+    "BY_ATTRIBUTE",
+    "BY_KEY",
+    "COST_FIELDS",
+    "COST_MAIN",
+    "DEMAND_MODE",
+    "FIELDS_BY_NAME",
+    "FIELD_SHEET",
+    "JSON_ONLY_FIELDS",
+    "LIMITS_SECTIONS",
+    "LOCATION_ALIASES",
+    "META_FIELDS",
+    "OPTIONAL_NAMES",
+    "OPTION_FIELDS",
+    "PLAN_INPUTS",
+    "REQUIRED",
+    "SITE_SECTIONS",
+    "SPEED_METRIC",
+    "SPEED_US",
+    "START_SECTIONS",
+    "THRESHOLD_FIELDS",
+    "UNIT_KINDS",
+    "UNIT_SYSTEM",
+    "Convert",
+    "Field",
+    "Kind",
+    "Section",
+    "json_keys",
+    "section_inputs",
+    "to_file",
+    "to_plan",
+]
+
 # ---------------------------------------------------------------------------------------------
 # Single-value inputs: one defined name per value cell
 # ---------------------------------------------------------------------------------------------

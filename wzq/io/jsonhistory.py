@@ -24,6 +24,16 @@ from wzq.engine.design_demand import DemandHistory, DemandRule, design_demand, r
 from wzq.engine.plan import Demand, PlanError, Problem, RiskOptions
 from wzq.io.counts import read_counts
 
+__all__ = [
+    "READING_KEYS",
+    "RISK_KEYS",
+    "RULE_KEYS",
+    "history_demand",
+    "history_to_dict",
+    "risk_from_dict",
+    "risk_to_dict",
+]
+
 #: Keys of ``demand.history`` that say how to read the file.
 READING_KEYS = (
     "file",
@@ -217,7 +227,9 @@ def risk_from_dict(r: Any, source: str) -> RiskOptions:
         seed=int(seed),
         confidence=_number(r, "confidence", where, problems, 0.95),
     )
-    from wzq.engine.risk import options_problems  # the engine's own check of the values
+    # the engine's own check of the values (imported here: scipy is slow to import, and a
+    # plan without a risk block never needs it)
+    from wzq.engine.risk import options_problems
 
     problems += [Problem(f"{source}: {p.where}", p.message) for p in options_problems(options)]
     if problems:

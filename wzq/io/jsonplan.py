@@ -33,6 +33,25 @@ from wzq.engine.plan import (
     Thresholds,
 )
 from wzq.io import fields as F
+from wzq.io.jsonhistory import history_demand, history_to_dict, risk_from_dict, risk_to_dict
+
+__all__ = [
+    "CLOSURE_KEYS",
+    "COST_KEYS",
+    "FORMAT",
+    "LANDMARK_KEYS",
+    "META_KEYS",
+    "OPTION_KEYS",
+    "SITE_KEYS",
+    "THRESHOLD_KEYS",
+    "TOP_KEYS",
+    "VERSION",
+    "load_plan",
+    "parse_datetime",
+    "plan_from_dict",
+    "plan_to_dict",
+    "save_plan",
+]
 
 FORMAT = "wzq-plan"
 VERSION = 1
@@ -211,8 +230,6 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
     interval = r.number(d, "interval_minutes", "demand", 60.0)
     history = risk = None
     if "history" in d and not r.problems:  # demand from a count history (wzq.io.jsonhistory)
-        from wzq.io.jsonhistory import history_demand
-
         try:
             designed, history = history_demand(d, start, source, base)
             d = {"veh_h": designed.flows_veh_h.tolist()}
@@ -223,8 +240,6 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
     elif "hours" in d:
         r.bad("demand.hours", "used only with a count history; give veh_h alone")
     if data.get("risk") is not None:
-        from wzq.io.jsonhistory import risk_from_dict
-
         try:
             risk = risk_from_dict(data["risk"], source)
         except PlanError as e:
@@ -432,13 +447,9 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
         "options": _write_section(plan.options, "options", system),
     }
     if plan.history is not None and plan.history.file:  # the count history, not the flows
-        from wzq.io.jsonhistory import history_to_dict
-
         hours = len(plan.demand.flows_veh_h) * plan.demand.interval_s / 3600
         out["demand"] = history_to_dict(plan.history, plan.demand.start, round(hours))
     if plan.risk is not None:
-        from wzq.io.jsonhistory import risk_to_dict
-
         out["risk"] = risk_to_dict(plan.risk)
     if s.congested_branch != "derived":
         out["site"].update(_write_section(s, "site", system, json_only=True))

@@ -71,6 +71,53 @@ from wzq.models.capacity import METHOD_LABELS
 from wzq.present import figures as charts
 from wzq.present.tables import hour_label, hourly_columns, hourly_display, summary_lines
 
+__all__ = [
+    "BOX_FILL",
+    "CHECKS",
+    "FAIL_FILL",
+    "FONT",
+    "FONT_BOLD",
+    "FONT_ITALIC",
+    "GRID",
+    "MARGIN_BOTTOM",
+    "MARGIN_TOP",
+    "MARGIN_X",
+    "MAX_FIELD_CHARS",
+    "OVER",
+    "PAPERS",
+    "PASS",
+    "REPORT_KIND",
+    "SHORT_NOTES_CHARS",
+    "WINDOW_MARKS",
+    "CheckColumn",
+    "NumberedCanvas",
+    "Styles",
+    "build_report",
+    "caution_box",
+    "charts_section",
+    "check_columns",
+    "closures_block",
+    "hourly_rows",
+    "hourly_section",
+    "inputs_section",
+    "make_styles",
+    "method_section",
+    "number",
+    "page_size",
+    "register_fonts",
+    "sign_off",
+    "space_time_section",
+    "svg_available",
+    "text",
+    "text_problems",
+    "title_block",
+    "typed_capacity_text",
+    "warnings_block",
+    "windows_section",
+    "words",
+    "write_report",
+]
+
 #: Paper sizes offered (always used in landscape).
 PAPERS: dict[str, tuple[float, float]] = {"letter": LETTER, "a4": A4}
 

@@ -25,6 +25,14 @@ from functools import cached_property
 
 import numpy as np
 
+__all__ = [
+    "EMPTY",
+    "QueueRun",
+    "queue_at_boundaries",
+    "solve",
+    "waits",
+]
+
 #: Queues smaller than this (vehicles) are treated as empty, absorbing the
 #: rounding of long cumulative sums.
 EMPTY = 1e-6

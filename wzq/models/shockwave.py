@@ -26,6 +26,13 @@ import numpy as np
 from wzq.models.flow import FundamentalDiagram
 from wzq.units import HOUR
 
+__all__ = [
+    "back_of_queue_speed",
+    "queue_length",
+    "queue_states",
+    "stored_density",
+]
+
 
 def queue_states(
     diagram: FundamentalDiagram,

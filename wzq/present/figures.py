@@ -41,6 +41,34 @@ from wzq.present.tables import (  # noqa: F401  (re-exported: the report's names
 )
 from wzq.units import HOUR
 
+__all__ = [
+    "BOTTOM_IN",
+    "CLOCK_LABEL_IN",
+    "CLOSURE_FILL",
+    "CONTEXT_H",
+    "DAY_LABEL_IN",
+    "FONT_FAMILY",
+    "INK",
+    "LEFT_IN",
+    "LIGHT",
+    "MID",
+    "QUEUE_FILL",
+    "RC",
+    "RIGHT_IN",
+    "TICK_STEPS_H",
+    "TOP_IN",
+    "Profile",
+    "cumulative_figure",
+    "cumulative_profile",
+    "demand_capacity_figure",
+    "length_profile",
+    "queue_length_figure",
+    "queue_profile",
+    "render",
+    "tick_step_h",
+    "time_axis",
+]
+
 #: Line and fill shades (grey levels, black and white printing).
 INK = "0.0"
 MID = "0.35"

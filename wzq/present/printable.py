@@ -20,6 +20,13 @@ import sys
 from collections.abc import Iterator
 from typing import Any, TextIO
 
+__all__ = [
+    "SafeStream",
+    "printable",
+    "safe_streams",
+    "unwrapped",
+]
+
 #: C0 and C1 control characters, DEL, the line and paragraph separators and the
 #: bidirectional formatting characters (Unicode Standard Annex #9, section 2).
 _OTHER = r"\x7f-\x9f\u061c\u200e\u200f\u2028\u2029\u202a-\u202e\u2066-\u2069"

@@ -19,6 +19,25 @@ from wzq.engine import costs as road_user_costs
 from wzq.engine.plan import Plan
 from wzq.engine.results import Result
 
+__all__ = [
+    "LANDMARK_KIND_LABELS",
+    "MAX_PANELS",
+    "Column",
+    "Episode",
+    "episode_title",
+    "episode_window",
+    "exit_ramp_display",
+    "hour_label",
+    "hourly_columns",
+    "hourly_display",
+    "landmark_display",
+    "limits_text",
+    "queue_episodes",
+    "rounded",
+    "shown_episodes",
+    "summary_lines",
+]
+
 #: Most queues (busy periods) drawn one chart each (the largest are kept).
 MAX_PANELS = 6
 

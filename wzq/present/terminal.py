@@ -19,6 +19,18 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import TextIO
 
+from wzq.present.printable import printable, unwrapped
+
+__all__ = [
+    "DEFAULT_WIDTH",
+    "GAP",
+    "TermColumn",
+    "console_width",
+    "fit",
+    "print_table",
+    "wrap_items",
+]
+
 #: Characters between two columns.
 GAP = 1
 #: Width of a terminal when none can be found (rich's own default).
@@ -104,8 +116,6 @@ def print_table(columns: Sequence[TermColumn], out: TextIO, *, what: str = "tabl
     from rich import box
     from rich.console import Console
     from rich.table import Table
-
-    from wzq.present.printable import printable, unwrapped
 
     columns = [
         replace(

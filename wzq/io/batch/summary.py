@@ -42,6 +42,43 @@ from wzq import units as u
 from wzq.engine.results import Result
 from wzq.present.tables import rounded
 
+__all__ = [
+    "COLUMNS",
+    "CSV_FORMULA_STARTS",
+    "DATE_FORMAT",
+    "HEADER_ROW",
+    "LINE_HEIGHT",
+    "MAX_LINES",
+    "PLANS_SHEET",
+    "PROBLEMS_SHEET",
+    "PROBLEM_COLUMNS",
+    "RUN_SHEET",
+    "STAGE_WORDS",
+    "STATE_FORMAT",
+    "STATE_MARK",
+    "STATE_SHEET",
+    "STATUS_NO_LIMITS",
+    "STATUS_OK",
+    "STATUS_OVER",
+    "Issue",
+    "PlanRow",
+    "RunInfo",
+    "Stage",
+    "StateEntry",
+    "SummaryColumn",
+    "csv_rows",
+    "csv_text",
+    "plan_row",
+    "put",
+    "read_state",
+    "row_from_json",
+    "row_height",
+    "row_to_json",
+    "worst_first",
+    "write_csv",
+    "write_summary",
+]
+
 PLANS_SHEET = "Plans"
 PROBLEMS_SHEET = "Problems"
 RUN_SHEET = "Run"

@@ -59,6 +59,24 @@ from wzq.io.workbook.reader import read_plan_from_book
 from wzq.io.workbook.safety import LIMITS
 from wzq.io.workbook.writer import check_output_sheets, put_text
 
+__all__ = [
+    "ALERT_LINES",
+    "OLE_EPOCH",
+    "POINTS_PER_PIXEL",
+    "PROBLEMS_MARKER",
+    "PROBLEMS_SHEET",
+    "Outcome",
+    "as_read",
+    "main",
+    "mirror_book",
+    "owned_sheets",
+    "problems_text",
+    "recalculate",
+    "replace_output_sheets",
+    "report_crash",
+    "show_problems",
+]
+
 #: The sheet that lists input problems after a Recalculate that could not run.
 PROBLEMS_SHEET = "Problems"
 #: Defined name marking the problems sheet as written by wzq (so it may be replaced).

@@ -29,6 +29,21 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from wzq.io.live.sheets import Skipped, quote_sheet
 
+__all__ = [
+    "LEGEND_POSITIONS",
+    "POINTS_PER_CM",
+    "Ref",
+    "SeriesPlan",
+    "Source",
+    "add_chart",
+    "add_charts",
+    "add_native_series",
+    "chart_series",
+    "chart_type",
+    "series_formula",
+    "source_group",
+]
+
 #: Points per centimetre (openpyxl sizes charts in cm, Excel in points).
 POINTS_PER_CM = 72 / 2.54
 

@@ -36,6 +36,24 @@ from openpyxl.cell.cell import Cell
 from openpyxl.utils import column_index_from_string, get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 
+__all__ = [
+    "FORMULA_STARTS",
+    "HORIZONTAL",
+    "LOOKS",
+    "Rect",
+    "Skipped",
+    "address",
+    "column_widths",
+    "entry",
+    "excel_literal",
+    "look_groups",
+    "plain_value",
+    "quote_sheet",
+    "rectangles",
+    "value_block",
+    "write_sheet",
+]
+
 #: First characters that make Excel read an entry as a formula (or that Excel
 #: itself swallows: a leading apostrophe).
 FORMULA_STARTS = ("=", "+", "-", "@", "'")

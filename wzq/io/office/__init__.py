@@ -9,3 +9,5 @@
   file backend of ``wzq run``;
 * :mod:`wzq.cli.calc` — ``wzq calc install|remove|build``.
 """
+
+__all__ = []

@@ -19,6 +19,18 @@ from xml.sax.saxutils import escape
 import wzq
 from wzq.io.office.icons import icon_files
 
+__all__ = [
+    "IDENTIFIER",
+    "OXT_NAME",
+    "SCRIPT_FILE",
+    "SCRIPT_FUNCTION",
+    "TEMPLATED",
+    "ZIP_TIME",
+    "build_extension",
+    "extension_files",
+    "script_url",
+]
+
 #: The extension's file name; it is part of the script's address, so it never changes.
 OXT_NAME = "wzq-calc.oxt"
 #: The extension's identifier (what ``unopkg remove`` takes).

@@ -14,6 +14,18 @@ import math
 
 from PIL import Image, ImageDraw
 
+__all__ = [
+    "AMBER",
+    "BACKGROUND",
+    "GRID",
+    "SIZES",
+    "SUPERSAMPLE",
+    "WHITE",
+    "draw",
+    "icon_files",
+    "png",
+]
+
 #: Sizes in pixels: toolbar (small, large) and the Extension Manager.
 SIZES = {"recalculate_16.png": 16, "recalculate_26.png": 26, "wzq_42.png": 42}
 

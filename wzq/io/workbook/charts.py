@@ -53,6 +53,43 @@ from wzq.engine.results import Result
 from wzq.io.workbook import writer as w
 from wzq.present.tables import Episode, episode_title, episode_window, rounded, shown_episodes
 
+__all__ = [
+    "ARRIVALS_COLOUR",
+    "CAPACITY_COLOUR",
+    "CHART_ANCHORS",
+    "CHART_HEIGHT_CM",
+    "CHART_ROWS",
+    "CHART_WIDTH_CM",
+    "CONTEXT_H",
+    "CUM_COL",
+    "DATA_HEADER_ROW",
+    "DEMAND_COLOUR",
+    "DEPARTURES_COLOUR",
+    "DISCHARGE_COLOUR",
+    "LABEL_COL",
+    "LIMIT_COLOUR",
+    "MAX_LABELS",
+    "PANEL_COLUMNS",
+    "PANEL_HEIGHT_CM",
+    "PANEL_LABELS",
+    "PANEL_ROWS",
+    "PANEL_WIDTH_CM",
+    "PRINT_LAST_COL",
+    "QUEUES_ROW",
+    "QUEUE_COLOUR",
+    "STEP_COL",
+    "TICK_HOURS",
+    "cumulative_chart",
+    "cumulative_points",
+    "cumulative_points_all",
+    "demand_capacity_chart",
+    "episode_points",
+    "queue_chart",
+    "small_title",
+    "tick_hours",
+    "write_charts",
+]
+
 #: Columns of the data block (1-based) and where the charts sit.
 STEP_COL = 18  # R: time, demand, capacity, queue discharge rate
 LABEL_COL = 23  # W: hour label, queue-length limit

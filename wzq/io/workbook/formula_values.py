@@ -45,6 +45,26 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.formula import ArrayFormula, DataTableFormula
 
 from wzq.io.workbook import layout as L
+from wzq.io.workbook.cellref import cell_ref
+
+__all__ = [
+    "CHANGING_FUNCTIONS",
+    "MAIN_NS",
+    "PKG_REL_NS",
+    "REL_NS",
+    "TRACE_BUDGET",
+    "WIDE_COLUMNS",
+    "Area",
+    "Cell",
+    "Precedents",
+    "Saved",
+    "WithSavedResults",
+    "formula_parts",
+    "formula_text",
+    "put_back",
+    "saved_results",
+    "sheet_parts",
+]
 
 MAIN_NS = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 REL_NS = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
@@ -443,8 +463,6 @@ class Precedents:
 
 
 def _show_area(block: Area) -> str:
-    from wzq.io.workbook.reader import cell_ref  # the one way wzq names a cell
-
     if block.min_row is None or block.min_col is None:
         return f"the sheet '{block.sheet}'"
     return cell_ref(block.sheet, block.min_row, block.min_col)

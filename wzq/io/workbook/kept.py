@@ -40,6 +40,15 @@ from lxml import etree
 
 from wzq.engine.plan import PlanError, Problem
 
+__all__ = [
+    "DERIVED",
+    "WORDS",
+    "WRAPPERS",
+    "ContentLost",
+    "keeps_everything",
+    "lost_content",
+]
+
 _PKG_REL = "http://schemas.openxmlformats.org/package/2006/relationships"
 _CT = "http://schemas.openxmlformats.org/package/2006/content-types"
 _MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"

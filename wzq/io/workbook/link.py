@@ -32,6 +32,22 @@ from pathlib import Path
 
 from wzq.engine.plan import PlanError, Problem
 
+__all__ = [
+    "ENTRY_MARKER",
+    "MACRO_SUFFIX",
+    "RESERVED",
+    "VBA_PART",
+    "check_entry_free",
+    "check_macro_name",
+    "entry_module_text",
+    "entry_path",
+    "is_ours",
+    "link_workbook",
+    "name_problem",
+    "suggest_name",
+    "write_entry_module",
+]
+
 #: The first line of every entry module wzq writes (how wzq knows the file is its own).
 ENTRY_MARKER = "# wzq entry module"
 #: Modules the entry module itself needs; a workbook of that name would hide them.

@@ -20,7 +20,14 @@ from openpyxl.worksheet.pagebreak import Break
 from wzq.engine.lwr.simulation import simulate
 from wzq.engine.results import Result
 from wzq.io.workbook import layout
-from wzq.present.spacetime import space_time_png
+
+__all__ = [
+    "DPI",
+    "ROW_PX",
+    "WIDTH_PX",
+    "place_space_time",
+    "space_time_picture",
+]
 
 DPI = 110
 #: Width (pixels) the picture is shown at: the printed columns A to O at the default
@@ -31,6 +38,10 @@ ROW_PX = 20
 
 def space_time_picture(result: Result) -> tuple[bytes, list[str]]:
     """The space-time picture of ``result`` (PNG) and the warnings its LWR simulation raised."""
+    # imported here, not above: matplotlib is slow to import, and only a run that asks
+    # for the picture should pay for it
+    from wzq.present.spacetime import space_time_png
+
     sim = simulate(result)
     return space_time_png(sim, dpi=DPI), list(sim.warnings)
 

@@ -46,6 +46,21 @@ from wzq.io.workbook.save import (
 )
 from wzq.io.workbook.writer import put_text
 
+__all__ = [
+    "COPY_LABEL",
+    "DEMO_WORKBOOK",
+    "SUFFIXES",
+    "RunOutcome",
+    "copy_path",
+    "load_book",
+    "results_source",
+    "run_to",
+    "run_workbook",
+    "type_plan",
+    "write_demo_workbook",
+    "write_filled_workbook",
+]
+
 #: Workbook types wzq reads and writes (an ``.xlsm`` keeps its VBA project).
 SUFFIXES = (".xlsx", ".xlsm")
 

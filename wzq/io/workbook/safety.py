@@ -55,6 +55,25 @@ from openpyxl.utils.cell import column_index_from_string, get_column_letter
 
 from wzq.engine.plan import PlanError, Problem
 
+__all__ = [
+    "LIMITS",
+    "OLE_MAGIC",
+    "ZIP_MAGIC",
+    "Budget",
+    "Limits",
+    "PackageReport",
+    "enforce_defusedxml",
+    "inspect_bytes",
+    "inspect_file",
+    "read_checked",
+    "read_part_checked",
+    "read_small_part",
+    "require_defusedxml",
+    "shared_string_parts",
+    "sheet_parts",
+    "unkept_parts",
+]
+
 OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
 ZIP_MAGIC = b"PK\x03\x04"
 

@@ -57,6 +57,25 @@ from urllib.parse import unquote
 
 from wzq.engine.plan import PlanError, Problem
 
+__all__ = [
+    "STALE_AFTER_S",
+    "TEMP_MARK",
+    "TEMP_SUFFIX",
+    "ChangedSinceRead",
+    "FileState",
+    "SaveError",
+    "Saveable",
+    "check_writable",
+    "clean_stray_temp_files",
+    "lock_file",
+    "lock_files",
+    "own_office_lock",
+    "real_target",
+    "save_atomic",
+    "stray_temp_files",
+    "temp_name",
+]
+
 #: How the temporary files of a save are named: ``.<target name>`` + this + ``<pid>-<hex>.tmp``.
 TEMP_MARK = ".wzq-"
 TEMP_SUFFIX = ".tmp"

@@ -33,6 +33,11 @@ from openpyxl.utils.datetime import WINDOWS_EPOCH, from_excel
 from wzq.io.workbook.formula_values import Saved
 from wzq.io.workbook.safety import shared_string_parts
 
+__all__ = [
+    "SharedStrings",
+    "typed",
+]
+
 _MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 _SI, _T, _RPH = (f"{{{_MAIN}}}{n}" for n in ("si", "t", "rPh"))
 

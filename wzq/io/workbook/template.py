@@ -39,6 +39,25 @@ import wzq
 from wzq.io import fields as F
 from wzq.io.workbook import layout as L
 
+__all__ = [
+    "BUILD_TIME",
+    "BUTTON_SOURCE",
+    "INSTRUCTIONS",
+    "LABEL_WIDTH",
+    "MACRO_INSTRUCTION",
+    "NOTE_WIDTH",
+    "SAMPLE_MODULE",
+    "UNIT_WIDTH",
+    "VALUE_WIDTH",
+    "VBA_PART",
+    "XLWINGS_WORKBOOK",
+    "build_template",
+    "main",
+    "template_folder",
+    "vba_project_bytes",
+    "xlwings_workbook",
+]
+
 #: Fixed document time, so that a rebuild gives the same parts.
 BUILD_TIME = dt.datetime(2025, 1, 1, 0, 0, 0)
 #: The workbook in the installed xlwings package whose VBA project is embedded.

@@ -41,6 +41,30 @@ from wzq.io.workbook import layout
 from wzq.io.workbook.writer import print_setup, put_text
 from wzq.present.tables import limits_text
 
+__all__ = [
+    "CAUTION_FILL",
+    "CAUTION_FONT",
+    "CHART_HEIGHT_CM",
+    "CHART_ROWS",
+    "CHART_WIDTH_CM",
+    "DATETIME_FORMAT",
+    "HEADER_FILL",
+    "HEADER_FONT",
+    "HOUR_COL_WIDTH",
+    "NOTE_FONT",
+    "PAGE_ROWS",
+    "SECTION_FONT",
+    "SERIES_COLOURS",
+    "SHEET",
+    "STATE_FILLS",
+    "STATE_WORDS",
+    "TITLE_FONT",
+    "WINDOW_FIELDS",
+    "WINDOW_FIELDS_ONE_DAY_TYPE",
+    "Pages",
+    "write_windows_sheet",
+]
+
 SHEET = "Closure windows"
 
 #: Words and fills of the hours table (our own look).

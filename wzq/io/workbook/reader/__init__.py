@@ -34,6 +34,7 @@ from openpyxl.workbook.workbook import Workbook
 
 from wzq.engine.plan import Plan, PlanError, Problem
 from wzq.io.workbook import formula_values as FV
+from wzq.io.workbook.cellref import cell_ref
 from wzq.io.workbook.reader.cells import CellReader
 from wzq.io.workbook.reader.closures import ClosureReader
 from wzq.io.workbook.reader.demand import DemandReader

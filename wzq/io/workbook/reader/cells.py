@@ -43,6 +43,10 @@ from wzq.io.workbook.reader.values import (
 )
 from wzq.io.workbook.saved_values import SharedStrings, typed
 
+__all__ = [
+    "CellReader",
+]
+
 
 class CellReader:
     """Part of the workbook reader (:class:`wzq.io.workbook.reader.BookReader`)."""

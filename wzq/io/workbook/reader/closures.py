@@ -22,6 +22,10 @@ from wzq.io.workbook.reader.values import (
     _when,
 )
 
+__all__ = [
+    "ClosureReader",
+]
+
 
 class ClosureReader:
     """Part of the workbook reader (:class:`wzq.io.workbook.reader.BookReader`)."""

@@ -31,6 +31,10 @@ from wzq.io.workbook.reader.values import (
 )
 from wzq.models.demand import hourly_from_aadt
 
+__all__ = [
+    "DemandReader",
+]
+
 
 class DemandReader:
     """Part of the workbook reader (:class:`wzq.io.workbook.reader.BookReader`)."""

@@ -30,6 +30,10 @@ from wzq.io.workbook.reader.values import (
     cell_ref,
 )
 
+__all__ = [
+    "PlanReader",
+]
+
 
 class PlanReader:
     """Part of the workbook reader (:class:`wzq.io.workbook.reader.BookReader`)."""

@@ -19,6 +19,10 @@ from wzq.io.workbook.reader.values import (
     cell_ref,
 )
 
+__all__ = [
+    "TableReader",
+]
+
 
 class TableReader:
     """Part of the workbook reader (:class:`wzq.io.workbook.reader.BookReader`)."""

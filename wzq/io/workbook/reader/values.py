@@ -9,11 +9,23 @@ import re
 from dataclasses import dataclass
 from typing import Any
 
-from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 
 from wzq.io import fields as F
 from wzq.io.workbook import layout as L
+from wzq.io.workbook.cellref import cell_ref
+
+__all__ = [
+    "DAY",
+    "DAYS_IN_1900",
+    "FIRST_YEAR",
+    "FRACTION_GROWTH",
+    "LAST_YEAR",
+    "MAX_DEMAND_VEH_H_LN",
+    "MAX_SERIAL",
+    "WORKBOOK_SUFFIXES",
+    "cell_ref",
+]
 
 #: File suffixes read as workbooks.
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
@@ -59,12 +71,6 @@ _OVERRIDE = F.Field(
     "override", "Capacity override", "number", "veh/h/ln", blank=None, bounds=(100.0, 3000.0)
 )
 _NOTE = F.Field("note", "Note", "text", blank="")
-
-
-def cell_ref(sheet: str, row: int, col: int) -> str:
-    """``Site!B8``; a sheet name with spaces or punctuation is quoted as in a formula."""
-    name = sheet if re.fullmatch(r"[A-Za-z_][A-Za-z0-9_.]*", sheet) else f"'{sheet}'"
-    return f"{name}!{get_column_letter(col)}{row}"
 
 
 def _percent_format(fmt: str | None) -> bool:

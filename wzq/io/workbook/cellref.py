@@ -1,0 +1,15 @@
+"""The one way wzq names a cell in a message: ``Site!B8``, ``'Permit table'!A4``."""
+
+from __future__ import annotations
+
+import re
+
+from openpyxl.utils import get_column_letter
+
+__all__ = ["cell_ref"]
+
+
+def cell_ref(sheet: str, row: int, col: int) -> str:
+    """``Site!B8``; a sheet name with spaces or punctuation is quoted as in a formula."""
+    name = sheet if re.fullmatch(r"[A-Za-z_][A-Za-z0-9_.]*", sheet) else f"'{sheet}'"
+    return f"{name}!{get_column_letter(col)}{row}"
