@@ -196,7 +196,7 @@ def main() -> None:
         f"demand:\n    {n_cand} candidate plans in {t_search * 1e3:.1f} ms = "
         f"{t_search / n_cand * 1e3:.3f} ms per plan   target < 0.2 ms\n"
         f"    ({int(found.sets[0].allowed.sum())} allowed; each verdict equals wzq.analyse's "
-        "for that plan: tests/test_windows.py)"
+        "for that plan: tests/engine/test_windows.py)"
     )
     print(f"  one plan on its own, night closure ({len(run48.t) - 1} intervals, a queue forms):")
     print(f"    exact queue solve (the core)          {t_solve * 1e3:7.3f} ms")

@@ -1,6 +1,6 @@
 """Hostile files at full size: time and peak memory of every command's refusal.
 
-The test suite (``tests/test_hostile_files.py``) runs its corpus through every
+The test suite (``tests/guarantees/test_refused_before_parsing.py``) runs its corpus through every
 command and holds each refusal to 5 s and 500 MB. This script prints the same
 measurements as a table, and adds the cases at the size they were first seen,
 which the tests keep smaller to stay quick: 250 MiB of shared strings in a

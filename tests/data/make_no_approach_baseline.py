@@ -8,7 +8,7 @@ risk changes) -- to record what every result was then:
     python3 tests/data/make_no_approach_baseline.py
 
 It writes ``tests/data/no_approach_baseline.json``, which
-``tests/test_approach.py`` compares with today's engine: with no ramps and no
+``tests/engine/test_approach.py`` compares with today's engine: with no ramps and no
 landmarks every number must be the same (bit for bit, or within 1e-9). JSON
 floats are written with ``repr`` and read back exactly.
 

@@ -8,6 +8,7 @@ import shutil
 from pathlib import Path
 
 import openpyxl
+import pytest
 
 from wzq.engine.lwr import simulation
 from wzq.io.workbook import layout
@@ -16,6 +17,7 @@ from wzq.io.workbook.run import run_to
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 
 
+@pytest.mark.slow
 def test_the_space_time_warnings_reach_the_run_log_and_the_summary(tmp_path, monkeypatch):
     # Fenwick Downs' longest queue is about 23 km; simulated on a 2 km stretch (the
     # shortest the automatic length ever gives) the queue reaches its upstream end, and
