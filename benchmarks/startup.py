@@ -33,12 +33,13 @@ CASES = {
 
 
 def timed(cmd: list[str], root: Path | None = None) -> float:
-    """Wall time of one fresh process (with ``root`` first on the path); it must succeed."""
+    """Wall time of one fresh process run in ``root`` (so ``python -m wzq`` imports that
+    tree's wzq: ``-m`` puts the working folder first on the path); it must succeed."""
     env = dict(os.environ)
     if root is not None:
         env["PYTHONPATH"] = str(root)
     t0 = time.perf_counter()
-    done = subprocess.run(cmd, capture_output=True, text=True, env=env)
+    done = subprocess.run(cmd, capture_output=True, text=True, env=env, cwd=root or ROOT)
     seconds = time.perf_counter() - t0
     if done.returncode != 0:
         raise SystemExit(f"failed ({done.returncode}): {' '.join(cmd)}\n{done.stderr[-2000:]}")
