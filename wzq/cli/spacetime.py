@@ -218,7 +218,7 @@ def cmd_spacetime(args: argparse.Namespace) -> int:
             choose = f"pick 1 to {n}" if n else "it has none; leave --closure out"
             raise PlanError(f"the plan has {n} closures; {choose}", where="--closure")
         closure = args.closure - 1
-        window = focus_window(result.run, closure)
+        window = focus_window(result, closure)
     length = None
     if args.approach_length is not None:
         length = u.long_length_to_m(args.approach_length, plan.site.unit_system)

@@ -122,6 +122,102 @@ class Result:
         times, dist = queue_trajectory(self.run)
         return pd.DataFrame({"time": self.run.clock(times), "seconds": times, "distance_m": dist})
 
+    @property
+    def duration_s(self) -> float:
+        """Length of the analysed period (s, from the start of the demand)."""
+        return float(self.run.t[-1])
+
+    @property
+    def boundaries_s(self) -> np.ndarray:
+        """The boundaries of the intervals of :attr:`intervals` (s from the demand start)."""
+        return self.run.t
+
+    @property
+    def interval_closure(self) -> np.ndarray:
+        """Per row of :attr:`intervals`: the closure in force (index into
+        ``plan.closures``), -1 on the open road."""
+        return self.run.closure
+
+    @property
+    def length_method(self) -> str:
+        """``"newell"`` or ``"shockwave"``: how queue lengths were found."""
+        return self.run.length_method
+
+    @property
+    def site_model(self) -> SiteModel:
+        """Values derived from the site: free-flow speed, factors, base capacity, jam
+        density and the fundamental diagram."""
+        return self.run.model
+
+    def clock(self, seconds: np.ndarray | float) -> pd.DatetimeIndex:
+        """Seconds from the start of the demand as local clock times."""
+        return self.run.clock(seconds)
+
+    def _clearing(self) -> tuple[np.ndarray, np.ndarray]:
+        """Per interval: the instant (s) a standing queue clears inside it, else NaN; and a
+        mask."""
+        r = self.run
+        q = r.queue
+        q0, q1 = q.queue[:-1], q.queue[1:]
+        inside = (q0 > 0) & (q1 == 0) & (q.busy < r.duration)
+        return np.where(inside, r.t[:-1] + q.busy, np.nan), inside
+
+    @cached_property
+    def queue_profile(self) -> pd.DataFrame:
+        """The point queue (``queue_veh``) and its single-state length
+        (``queue_length_m``) against ``seconds``, as an exact polyline: each interval
+        gives its start, the instant its queue clears (when it clears inside it) and its
+        end; a change of queued state at a boundary is a vertical step in the length."""
+        r = self.run
+        q = r.queue
+        tc, inside = self._clearing()
+        zero_mid = np.where(inside, 0.0, np.nan)
+        t = _interleave(r.t[:-1], tc, r.t[1:])
+        veh = _interleave(q.queue[:-1], zero_mid, q.queue[1:])
+        length = _interleave(r.length_start, zero_mid, r.length_end)
+        keep = ~np.isnan(t)
+        return pd.DataFrame(
+            {"seconds": t[keep], "queue_veh": veh[keep], "queue_length_m": length[keep]}
+        )
+
+    @cached_property
+    def cumulative(self) -> pd.DataFrame:
+        """The exact corner points of the cumulative arrival and departure curves (veh)
+        over the whole period, against ``seconds``: the interval boundaries and the
+        instants a queue clears inside an interval (where the curves meet)."""
+        r = self.run
+        q = r.queue
+        t = r.t
+        times = list(t)
+        arr = list(q.arrivals_cum)
+        dep = list(q.departures_cum)
+        q0, q1 = q.queue[:-1], q.queue[1:]
+        inside = np.flatnonzero((q0 > 0) & (q1 == 0) & (q.busy < np.diff(t)))
+        extra_t = t[:-1][inside] + q.busy[inside]
+        extra_a = q.arrivals_cum[:-1][inside] + q.arrival_rate[inside] * q.busy[inside]
+        times += list(extra_t)
+        arr += list(extra_a)
+        dep += list(extra_a)  # the queue is empty at that instant
+        df = pd.DataFrame({"seconds": times, "arrivals": arr, "departures": dep})
+        return df.sort_values("seconds").drop_duplicates("seconds").reset_index(drop=True)
+
+    @cached_property
+    def queues(self) -> pd.DataFrame:
+        """Every busy period (from the instant a queue forms until it clears), in time
+        order: ``start_s``, ``end_s``, ``max_queue_veh`` and ``max_at_s``."""
+        r = self.run
+        q = r.queue
+        busy = q.busy > 0
+        rows: list[tuple[float, float, float, float]] = []
+        if busy.any():
+            edges = np.diff(np.concatenate(([0], busy.astype(np.int8), [0])))
+            for a, b in zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1), strict=True):
+                end = float(r.t[b - 1] + q.busy[b - 1])
+                seg = q.queue[a : b + 1]
+                j = int(np.argmax(seg))
+                rows.append((float(r.t[a]), end, float(seg[j]), float(r.t[a + j])))
+        return pd.DataFrame(rows, columns=["start_s", "end_s", "max_queue_veh", "max_at_s"])
+
     @cached_property
     def intervals(self) -> pd.DataFrame:
         """One row per interval of the exact solution (for cumulative-curve charts)."""
@@ -200,6 +296,11 @@ class Result:
                 ),
             }
         )
+
+
+def _interleave(start: np.ndarray, mid: np.ndarray, end: np.ndarray) -> np.ndarray:
+    """Rows ``(start_i, mid_i, end_i)`` flattened; ``mid`` is NaN where unused."""
+    return np.column_stack((start, mid, end)).ravel()
 
 
 def queue_trajectory(r: Run) -> tuple[np.ndarray, np.ndarray]:

@@ -477,7 +477,7 @@ def _fmt_long(x_m: float | None, system: u.UnitSystem, decimals: int = 2) -> str
 def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
     """Site, derived values, demand, limits, costs, options and the closures, in plan units."""
     plan = result.plan
-    s, model, system = plan.site, result.run.model, plan.site.unit_system
+    s, model, system = plan.site, result.site_model, plan.site.unit_system
     speed_name, _ = u.SPEED[system]
     short_name, _ = u.SHORT_LENGTH[system]
     dens_name, _ = u.DENSITY[system]
@@ -595,7 +595,7 @@ def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
     option_rows = [
         ("Capacity drop", "on" if o.capacity_drop else "off"),
         ("Fundamental diagram", words(L.DIAGRAM_WORDS, o.diagram)),
-        ("Queue length", words(L.QUEUE_METHOD_WORDS, result.run.length_method)),
+        ("Queue length", words(L.QUEUE_METHOD_WORDS, result.length_method)),
     ]
     half = (width - 12) / 2
     w2 = [0.36 * half, 0.64 * half]
@@ -648,7 +648,8 @@ def closures_block(result: Result, st: Styles, width: float) -> list[Flowable]:
     out: list[Flowable] = [Paragraph("Lane closures", st.h2)]
     if not plan.closures:
         return [*out, Paragraph("None: the open road only.", st.body)]
-    r = result.run
+    iv, in_force = result.intervals, result.interval_closure
+    pre, dis = iv["capacity_veh_h"].to_numpy(), iv["discharge_veh_h"].to_numpy()
     heads = [
         "No.",
         "Start",
@@ -664,7 +665,7 @@ def closures_block(result: Result, st: Styles, width: float) -> list[Flowable]:
     ]
     rows: list[list] = [[Paragraph(h, st.head) for h in heads]]
     for i, c in enumerate(plan.closures):
-        sel = r.closure == i
+        sel = in_force == i
         night = "from the clock" if c.night is None else ("night" if c.night else "day")
         rows.append(
             [
@@ -678,8 +679,8 @@ def closures_block(result: Result, st: Styles, width: float) -> list[Flowable]:
                 "-"
                 if c.capacity_override_veh_h_ln is None
                 else f"{c.capacity_override_veh_h_ln:,.0f}",
-                _range(r.prebreakdown_veh_h[sel]) if sel.any() else "-",
-                _range(r.discharge_veh_h[sel]) if sel.any() else "-",
+                _range(pre[sel]) if sel.any() else "-",
+                _range(dis[sel]) if sel.any() else "-",
                 Paragraph(text(c.note), st.small),
             ]
         )
@@ -862,7 +863,7 @@ def charts_section(
     )
     how = (
         "the back of the queue traced along the kinematic waves (Newell's method)"
-        if result.run.back_of_queue is not None
+        if result.length_method == "newell"
         else "the single-state shockwave relation"
     )
     cap2 = f"Figure 2. Queue length ({long_name}) over time: {how}{limit}{bars}.{shading}"
@@ -1104,7 +1105,7 @@ def method_section(result: Result, st: Styles, width: float) -> list[Flowable]:
         "long crowded roads”, Proceedings of the Royal Society A 229; Richards (1956), "
         "“Shock waves on the highway”, Operations Research 4"
     )
-    if result.run.back_of_queue is not None:
+    if result.length_method == "newell":
         p.append(
             "<b>Queue length.</b> The back of the queue follows the kinematic waves of the LWR "
             f"model ({lwr}), traced exactly by the simplified kinematic-wave method of Newell "

@@ -109,68 +109,44 @@ class Profile:
     values: dict[str, np.ndarray]
 
 
-def _interleave(start: np.ndarray, mid: np.ndarray, end: np.ndarray) -> np.ndarray:
-    """Rows ``(start_i, mid_i, end_i)`` flattened; ``mid`` is NaN where unused."""
-    return np.column_stack((start, mid, end)).ravel()
-
-
-def _clearing(result: Result) -> tuple[np.ndarray, np.ndarray]:
-    """Per interval: the instant (s) a standing queue clears inside it, else NaN; and a mask."""
-    r = result.run
-    q = r.queue
-    q0, q1 = q.queue[:-1], q.queue[1:]
-    inside = (q0 > 0) & (q1 == 0) & (q.busy < r.duration)
-    return np.where(inside, r.t[:-1] + q.busy, np.nan), inside
-
-
 def queue_profile(result: Result) -> Profile:
-    """Point queue (veh) and its single-state length (m) as an exact polyline.
-
-    Each interval contributes its start, the instant its queue clears (when it
-    clears inside the interval) and its end; a change of queued state at a
-    boundary shows as a vertical step in the length. The length here is the
-    single-state relation's; :func:`length_profile` gives the one the engine
-    reports.
+    """Point queue (veh) and its single-state length (m) as an exact polyline
+    (:attr:`wzq.Result.queue_profile`): each interval contributes its start, the
+    instant its queue clears (when it clears inside the interval) and its end; a
+    change of queued state at a boundary shows as a vertical step in the length. The
+    length here is the single-state relation's; :func:`length_profile` gives the one
+    the engine reports.
     """
-    r = result.run
-    q = r.queue
-    tc, inside = _clearing(result)
-    zero_mid = np.where(inside, 0.0, np.nan)
-    t = _interleave(r.t[:-1], tc, r.t[1:])
-    veh = _interleave(q.queue[:-1], zero_mid, q.queue[1:])
-    length = _interleave(r.length_start, zero_mid, r.length_end)
-    keep = ~np.isnan(t)
-    return Profile(t[keep], {"queue_veh": veh[keep], "queue_length_m": length[keep]})
+    p = result.queue_profile
+    return Profile(
+        p["seconds"].to_numpy(),
+        {"queue_veh": p["queue_veh"].to_numpy(), "queue_length_m": p["queue_length_m"].to_numpy()},
+    )
 
 
 def length_profile(result: Result) -> Profile:
     """Queue length (m) over time, as the engine computed it.
 
-    With Newell's method (the engine's ``back_of_queue``) this is the exact
-    back-of-queue trajectory, which can outlast the point queue because the
-    recovery wave takes time to reach the back; otherwise the single-state
-    polyline of :func:`queue_profile`.
+    With Newell's method this is the exact back-of-queue trajectory
+    (:attr:`wzq.Result.back_of_queue`), which can outlast the point queue because the
+    recovery wave takes time to reach the back; otherwise the single-state polyline
+    of :func:`queue_profile`.
     """
-    nq = result.run.back_of_queue
-    if nq is not None:
-        return Profile(np.asarray(nq.times), {"queue_length_m": np.asarray(nq.distance)})
+    if result.length_method == "newell":
+        b = result.back_of_queue
+        return Profile(b["seconds"].to_numpy(), {"queue_length_m": b["distance_m"].to_numpy()})
     prof = queue_profile(result)
     return Profile(prof.t, {"queue_length_m": prof.values["queue_length_m"]})
 
 
 def cumulative_profile(result: Result) -> Profile:
-    """Cumulative arrivals and departures (veh) as an exact polyline."""
-    r = result.run
-    q = r.queue
-    tc, _ = _clearing(result)
-    a0, a1 = q.arrivals_cum[:-1], q.arrivals_cum[1:]
-    # arrivals are linear inside an interval; at the clearing instant D = A
-    a_mid = a0 + q.arrival_rate * (tc - r.t[:-1])
-    t = _interleave(r.t[:-1], tc, r.t[1:])
-    arr = _interleave(a0, a_mid, a1)
-    dep = _interleave(q.departures_cum[:-1], a_mid, q.departures_cum[1:])
-    keep = ~np.isnan(t)
-    return Profile(t[keep], {"arrivals": arr[keep], "departures": dep[keep]})
+    """Cumulative arrivals and departures (veh) through their exact corner points
+    (:attr:`wzq.Result.cumulative`)."""
+    c = result.cumulative
+    return Profile(
+        c["seconds"].to_numpy(),
+        {"arrivals": c["arrivals"].to_numpy(), "departures": c["departures"].to_numpy()},
+    )
 
 
 def _dates(result: Result, seconds: np.ndarray) -> np.ndarray:
@@ -253,8 +229,7 @@ def _margins(fig: Figure, *, top_in: float = TOP_IN, wspace: float = 0.2) -> Non
 def demand_capacity_figure(result: Result, width_in: float, height_in: float) -> Figure:
     """Demand, capacity before breakdown and queue discharge rate (veh/h) by interval."""
     iv = result.intervals
-    r = result.run
-    x = _dates(result, r.t)
+    x = _dates(result, result.boundaries_s)
     with mpl.rc_context(RC):
         fig = Figure(figsize=(width_in, height_in))
         ax = fig.add_subplot()
@@ -288,7 +263,7 @@ def demand_capacity_figure(result: Result, width_in: float, height_in: float) ->
         ax.yaxis.set_major_formatter(mpl.ticker.StrMethodFormatter("{x:,.0f}"))
         _frame(ax)
         _margins(fig)
-        time_axis(ax, r.t[-1] / HOUR)
+        time_axis(ax, result.duration_s / HOUR)
     return fig
 
 
@@ -343,17 +318,17 @@ def queue_length_figure(result: Result, width_in: float, height_in: float) -> Fi
         if top <= 0:
             ax.text(0.5, 0.5, "No queue forms", transform=ax.transAxes, ha="center", va="center")
         ax.set_ylabel(f"Queue length ({long_name})")
-        ax.set_xlim(_dates(result, np.array([0.0, result.run.t[-1]])))
+        ax.set_xlim(_dates(result, np.array([0.0, result.duration_s])))
         _frame(ax)
         _margins(fig)
-        time_axis(ax, result.run.t[-1] / HOUR)
+        time_axis(ax, result.duration_s / HOUR)
     return fig
 
 
 def cumulative_figure(result: Result, width_in: float, height_in: float) -> Figure:
     """Cumulative arrivals and departures around each queue (input-output diagram)."""
     prof = cumulative_profile(result)
-    total = float(result.run.t[-1])
+    total = result.duration_s
     eps, _ = shown_episodes(result)
     windows = [(*episode_window(result, e, CONTEXT_H), e) for e in eps] or [(0.0, total, None)]
     n = len(windows)

@@ -11,7 +11,6 @@ from __future__ import annotations
 import datetime as dt
 from dataclasses import dataclass
 
-import numpy as np
 import pandas as pd
 
 from wzq import units as u
@@ -162,25 +161,13 @@ class Episode:
 
 
 def queue_episodes(result: Result) -> list[Episode]:
-    """Every busy period of the run, in time order."""
-    r = result.run
-    q = r.queue
-    busy = q.busy > 0
-    out: list[Episode] = []
-    if not busy.any():
-        return out
-    edges = np.diff(np.concatenate(([0], busy.astype(np.int8), [0])))
-    for a, b in zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1), strict=True):
-        end = float(r.t[b - 1] + q.busy[b - 1])
-        seg = q.queue[a : b + 1]
-        j = int(np.argmax(seg))
-        out.append(Episode(float(r.t[a]), end, float(seg[j]), float(r.t[a + j])))
-    return out
+    """Every busy period of the run, in time order (:attr:`wzq.Result.queues`)."""
+    return [Episode(*map(float, row)) for row in result.queues.itertuples(index=False)]
 
 
 def episode_window(result: Result, ep: Episode, context_h: float) -> tuple[float, float]:
     """The span (s) drawn around a queue: ``context_h`` hours either side, within the data."""
-    total = float(result.run.t[-1])
+    total = result.duration_s
     return max(0.0, ep.start - context_h * 3600.0), min(total, ep.end + context_h * 3600.0)
 
 

@@ -93,8 +93,9 @@ def busy_periods(run: Run) -> list[tuple[float, float]]:
     return out
 
 
-def focus_window(run: Run, closure: int | None = None) -> tuple[float, float]:
-    """A time window (s from the demand start) around the closures and their queues.
+def focus_window(source: Result | Run, closure: int | None = None) -> tuple[float, float]:
+    """A time window (s from the demand start) around the closures and their queues
+    of a result (or the engine's run).
 
     All closures and queues (``closure`` ``None``) or closure number
     ``closure`` (0-based) and the queue it leaves, with
@@ -102,6 +103,7 @@ def focus_window(run: Run, closure: int | None = None) -> tuple[float, float]:
     queue standing at either end, clipped to the demand period. With no
     closure and no queue, the whole demand period.
     """
+    run = source.run if isinstance(source, Result) else source
     plan = run.plan
     total = float(run.t[-1])
     start0 = plan.demand.start

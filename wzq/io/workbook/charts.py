@@ -286,36 +286,22 @@ def cumulative_points(result: Result) -> pd.DataFrame:
     clears, on whole hours (the whole period when no queue forms).
     """
     df = cumulative_points_all(result)
-    r = result.run
-    q = r.queue
-    t = r.t
-    busy = np.flatnonzero(q.busy > 0)
-    if len(busy):
-        lo = max(math.floor(t[busy[0]] / u.HOUR - 1) * u.HOUR, t[0])
-        hi = min(math.ceil((t[busy[-1]] + q.busy[busy[-1]]) / u.HOUR + 1) * u.HOUR, t[-1])
+    queues = result.queues
+    t = result.boundaries_s
+    if len(queues):
+        first, last = float(queues["start_s"].iloc[0]), float(queues["end_s"].iloc[-1])
+        lo = max(math.floor(first / u.HOUR - 1) * u.HOUR, t[0])
+        hi = min(math.ceil(last / u.HOUR + 1) * u.HOUR, t[-1])
         df = df[(df["t"] >= lo - 1e-6) & (df["t"] <= hi + 1e-6)].reset_index(drop=True)
-    df["time"] = r.clock(df["t"].to_numpy())
+    df["time"] = result.clock(df["t"].to_numpy())
     return df
 
 
 def cumulative_points_all(result: Result) -> pd.DataFrame:
     """Exact corner points of the cumulative curves over the whole period: interval
-    boundaries and the instants a queue clears inside an interval."""
-    r = result.run
-    q = r.queue
-    t = r.t
-    times = list(t)
-    arr = list(q.arrivals_cum)
-    dep = list(q.departures_cum)
-    q0, q1 = q.queue[:-1], q.queue[1:]
-    inside = np.flatnonzero((q0 > 0) & (q1 == 0) & (q.busy < np.diff(t)))
-    extra_t = t[:-1][inside] + q.busy[inside]
-    extra_a = q.arrivals_cum[:-1][inside] + q.arrival_rate[inside] * q.busy[inside]
-    times += list(extra_t)
-    arr += list(extra_a)
-    dep += list(extra_a)  # the queue is empty at that instant
-    df = pd.DataFrame({"t": times, "arrivals": arr, "departures": dep}).sort_values("t")
-    return df.drop_duplicates("t").reset_index(drop=True)
+    boundaries and the instants a queue clears inside an interval
+    (:attr:`wzq.Result.cumulative`, its time column named ``t``)."""
+    return result.cumulative.rename(columns={"seconds": "t"})
 
 
 def episode_points(result: Result, a: float, b: float) -> pd.DataFrame:
@@ -331,7 +317,7 @@ def episode_points(result: Result, a: float, b: float) -> pd.DataFrame:
     return pd.DataFrame(
         {
             "t": times,
-            "time": result.run.clock(times),
+            "time": result.clock(times),
             "arrivals": arr - base,
             "departures": dep - base,
         }
@@ -344,7 +330,7 @@ def cumulative_chart(
     """Cumulative arrivals and departures (veh) around one queue, against the clock;
     its data from ``first_row`` of the data block. Returns the chart and the next free row."""
     ws = out.ws
-    total = float(result.run.t[-1])
+    total = result.duration_s
     a, b = (0.0, total) if ep is None else episode_window(result, ep, CONTEXT_H)
     pts = episode_points(result, a, b)
     start = pd.Timestamp(pts["time"].iloc[0]).round("s").to_pydatetime()
