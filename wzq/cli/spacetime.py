@@ -22,6 +22,7 @@ from wzq.cli import EXIT_OK, explain
 from wzq.engine.lwr.simulation import Simulation, focus_window, simulate
 from wzq.engine.plan import PlanError, Problem
 from wzq.io.plans import load_any
+from wzq.io.workbook.save import write_atomically
 from wzq.present.tables import hour_label
 from wzq.present.terminal import TermColumn, console_width, print_table
 
@@ -228,7 +229,7 @@ def cmd_spacetime(args: argparse.Namespace) -> int:
         raise PlanError(str(e), where="spacetime") from None
     from wzq.present.spacetime import space_time_png  # imported late: matplotlib is slow to import
 
-    space_time_png(sim, out)
+    write_atomically(out, space_time_png(sim))  # never half a picture
     print_comparison(sim, sys.stdout)
     print(f"\nwrote {out}", file=sys.stdout)
     print(f"\n{wzq.CAUTION}", file=sys.stdout)

@@ -29,7 +29,6 @@ from __future__ import annotations
 import datetime as dt
 import io
 import os
-import tempfile
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -67,6 +66,7 @@ from wzq import units as u
 from wzq.engine.plan import PlanError, Problem, Site
 from wzq.engine.results import Result
 from wzq.io.workbook import layout as L
+from wzq.io.workbook.save import write_atomically
 from wzq.models.capacity import METHOD_LABELS
 from wzq.present import figures as charts
 from wzq.present.tables import hour_label, hourly_columns, hourly_display, summary_lines
@@ -1314,21 +1314,5 @@ def write_report(
             [Problem(str(path), f"the folder {path.parent} does not exist; create it first")]
         )
     data = build_report(result, paper, generated=generated, source=source, vector=vector)
-    mode = path.stat().st_mode & 0o777 if path.exists() else _default_mode()
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as f:
-            f.write(data)
-        os.chmod(tmp, mode)  # a temporary file is private; the report is an ordinary file
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+    write_atomically(path, data)  # an existing report keeps its permissions
     return path
-
-
-def _default_mode() -> int:
-    """Permissions of a newly created file under the current umask."""
-    mask = os.umask(0)
-    os.umask(mask)
-    return 0o666 & ~mask

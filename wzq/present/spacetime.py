@@ -22,9 +22,6 @@ km and km/h), converted with :mod:`wzq.units`.
 from __future__ import annotations
 
 import io
-import os
-import tempfile
-from pathlib import Path
 
 import matplotlib.dates as mdates
 import numpy as np
@@ -178,20 +175,17 @@ def space_time_figure(sim: Simulation, *, title: str | None = None, caution: boo
 
 def space_time_png(
     result_or_sim: Simulation | Result | Run | Plan,
-    path: str | os.PathLike[str] | None = None,
     *,
     dpi: int = DPI,
     title: str | None = None,
     caution: bool = True,
     **simulate_options: object,
 ) -> bytes:
-    """PNG bytes of the space-time picture; written to ``path`` too when given.
+    """PNG bytes of the space-time picture (the adapters write them to a file).
 
     ``result_or_sim`` is a :class:`~wzq.engine.lwr.simulation.Simulation`, or a result, run or
     plan that is simulated first with ``simulate_options`` (the keywords of
-    :func:`wzq.engine.lwr.simulation.simulate`). The file is written to a temporary file in the
-    same folder and then moved into place, so a failed run never leaves half a
-    picture.
+    :func:`wzq.engine.lwr.simulation.simulate`).
     """
     if isinstance(result_or_sim, Simulation):
         if simulate_options:
@@ -202,19 +196,4 @@ def space_time_png(
     fig = space_time_figure(sim, title=title, caution=caution)
     buf = io.BytesIO()
     fig.savefig(buf, format="png", dpi=dpi, metadata={"Software": f"wzq {wzq.__version__}"})
-    data = buf.getvalue()
-    if path is not None:
-        _write_atomically(Path(path), data)
-    return data
-
-
-def _write_atomically(path: Path, data: bytes) -> None:
-    """Write ``data`` to a temporary file beside ``path``, then replace ``path`` with it."""
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+    return buf.getvalue()

@@ -24,14 +24,11 @@ reading of the workbook at all.
 
 from __future__ import annotations
 
-import contextlib
 import csv
 import datetime as dt
 import io
 import json
 import math
-import os
-import tempfile
 from collections.abc import Iterable, Sequence
 from dataclasses import asdict, dataclass, field, fields
 from pathlib import Path
@@ -40,6 +37,7 @@ from typing import Any, Literal
 import wzq
 from wzq import units as u
 from wzq.engine.results import Result
+from wzq.io.workbook.save import write_atomically
 from wzq.present.tables import rounded
 
 __all__ = [
@@ -395,34 +393,12 @@ def put(ws: Any, row: int, col: int, value: Any) -> Any:
     return put_text(ws, row, col, value)
 
 
-def _atomic_write(target: Path, write: Any, suffix: str) -> None:
-    """Write through a temporary file in the same folder, then replace the target."""
-    fd, tmp = tempfile.mkstemp(prefix=".wzq-", suffix=suffix, dir=target.parent)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            write(fh)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.chmod(tmp, 0o666 & ~_umask())
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            os.unlink(tmp)
-        raise
-
-
-def _umask() -> int:
-    old = os.umask(0)
-    os.umask(old)
-    return old
-
-
 def write_csv(rows: Sequence[PlanRow], target: Path) -> None:
     """The rows as CSV (UTF-8 with a byte-order mark so spreadsheets read accents)."""
     buf = io.StringIO(newline="")
     csv.writer(buf).writerows(csv_rows(rows))
     data = buf.getvalue().encode("utf-8-sig")
-    _atomic_write(target, lambda fh: fh.write(data), ".csv")
+    write_atomically(target, data)
 
 
 @dataclass(frozen=True)
@@ -584,7 +560,7 @@ def write_summary(
         # an over-long record is not kept: that plan is simply analysed again next time
         put(st, i, 6, record if len(record) <= _CELL_LIMIT else "")
     book.active = 0
-    _atomic_write(target, book.save, target.suffix)
+    write_atomically(target, book.save)
     csv_path = target.with_suffix(".csv")
     write_csv(rows, csv_path)
     return csv_path

@@ -20,17 +20,15 @@ write (its first line is not :data:`ENTRY_MARKER`) is never overwritten.
 
 from __future__ import annotations
 
-import contextlib
 import importlib.util
 import keyword
-import os
 import re
 import sys
-import tempfile
 import zipfile
 from pathlib import Path
 
 from wzq.engine.plan import PlanError, Problem
+from wzq.io.workbook.save import write_atomically
 
 __all__ = [
     "ENTRY_MARKER",
@@ -183,15 +181,7 @@ def write_entry_module(path: str | Path) -> tuple[Path, bool]:
         return py, False
     folder = py.parent if str(py.parent) else Path(".")
     try:
-        fd, tmp = tempfile.mkstemp(prefix=".wzq-", suffix=".py", dir=folder)
-        try:
-            with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-                fh.write(text)
-            os.chmod(tmp, 0o644)
-            os.replace(tmp, py)
-        finally:
-            with contextlib.suppress(OSError):
-                os.unlink(tmp)
+        write_atomically(folder / py.name, text.encode("utf-8"), mode=0o644)
     except OSError as e:
         raise PlanError(
             [Problem(str(py), f"cannot write the file ({e.strerror or e}); check the folder")]

@@ -419,6 +419,45 @@ def _io_error(error: BaseException, guard: _GuardedFile) -> OSError | None:
     return None
 
 
+def write_atomically(
+    target: str | Path,
+    write: bytes | Callable[[BinaryIO], None],
+    *,
+    mode: int | None = None,
+    before_replace: Callable[[Path], None] | None = None,
+) -> Path:
+    """The one atomic write of wzq: ``write`` (bytes, or a function that writes to a file)
+    goes to a new temporary file beside ``target`` (:func:`temp_name`), is flushed and
+    synced to disk, given its permission bits (``mode``; default: an existing target's,
+    else a new file's under the umask), and then moved over ``target`` in one step
+    (``os.replace``). ``before_replace`` is called with the finished temporary file and
+    may raise to stop the write. On any failure the temporary file is removed and the
+    target is untouched; the error is raised as it came."""
+    target = Path(target)
+    folder = target.parent if str(target.parent) else Path(".")
+    tmp = folder / temp_name(target)
+    try:
+        with _open_temp(tmp) as fh:
+            if isinstance(write, bytes | bytearray):
+                fh.write(write)
+            else:
+                write(fh)
+            fh.flush()
+            os.fsync(fh.fileno())
+        if mode is None:
+            mode = stat.S_IMODE(target.stat().st_mode) if target.exists() else 0o666 & ~_umask()
+        os.chmod(tmp, mode)
+        if before_replace is not None:
+            before_replace(tmp)
+        os.replace(tmp, target)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            tmp.unlink()
+        raise
+    _fsync_folder(folder)
+    return target
+
+
 def save_atomic(
     book: Saveable,
     target: str | Path,
@@ -427,7 +466,7 @@ def save_atomic(
     expect: FileState | None = None,
     office_profile: str | None = None,
 ) -> Path:
-    """Save ``book`` to ``target`` through a temporary file and ``os.replace``.
+    """Save ``book`` to ``target`` by :func:`write_atomically`, checked.
 
     The temporary file sits in the target's folder (so the replace is a rename
     on one file system), and is flushed and synced to disk before it replaces
@@ -446,31 +485,26 @@ def save_atomic(
     target = real_target(shown)
     clean_stray_temp_files(target)
     info = target.stat() if target.exists() else None
-    folder = target.parent if str(target.parent) else Path(".")
-    tmp = folder / temp_name(target)
     guard: _GuardedFile | None = None
-    try:
-        with _open_temp(tmp) as fh:
-            guard = _GuardedFile(fh)
-            book.save(guard)
-            fh.flush()
-            os.fsync(fh.fileno())
+
+    def write(fh: BinaryIO) -> None:
+        nonlocal guard
+        guard = _GuardedFile(fh)
+        book.save(guard)
+
+    def checked(tmp: Path) -> None:
         # -- the finished temporary file: post-process and check it here, before the rename
         if verify is not None:
             verify(tmp)
-        if info is not None:
-            os.chmod(tmp, stat.S_IMODE(info.st_mode))
-            if hasattr(os, "chown"):
-                with contextlib.suppress(OSError):
-                    os.chown(tmp, info.st_uid, info.st_gid)
-        else:
-            os.chmod(tmp, 0o666 & ~_umask())
+        if info is not None and hasattr(os, "chown"):
+            with contextlib.suppress(OSError):
+                os.chown(tmp, info.st_uid, info.st_gid)
         if expect is not None and expect.changed(target):
             raise ChangedSinceRead([Problem(str(shown), _changed(target))])
-        os.replace(tmp, target)
+
+    try:
+        write_atomically(target, write, before_replace=checked)
     except BaseException as e:
-        with contextlib.suppress(OSError):
-            tmp.unlink()
         cause = _io_error(e, guard) if guard is not None else None
         if cause is None and isinstance(e, OSError):
             cause = e
@@ -478,7 +512,6 @@ def save_atomic(
         if cause is not None and not isinstance(e, PlanError | KeyboardInterrupt):
             raise SaveError([Problem(str(shown), _save_failed(cause, shown))]) from None
         raise
-    _fsync_folder(folder)
     return shown
 
 
