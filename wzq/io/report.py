@@ -69,7 +69,13 @@ from wzq.io.workbook import layout as L
 from wzq.io.workbook.save import write_atomically
 from wzq.models.capacity import METHOD_LABELS
 from wzq.present import figures as charts
-from wzq.present.tables import hour_label, hourly_columns, hourly_display, summary_lines
+from wzq.present.tables import (
+    hour_label,
+    hourly_columns,
+    hourly_display,
+    limit_values,
+    summary_lines,
+)
 
 __all__ = [
     "BOX_FILL",
@@ -556,20 +562,13 @@ def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
         ("Vehicles in the period", f"{float(flows.sum()) * d.interval_s / u.HOUR:,.0f}"),
     ]
     th = plan.thresholds
+    shown = limit_values(plan)
     limit_rows = [
-        (
-            "Queue length",
-            _fmt_long(th.max_queue_length, system) if th.max_queue_length else "not checked",
-        ),
-        (
-            "Average delay",
-            f"{th.max_average_delay / u.MINUTE:,.1f} min/veh"
-            if th.max_average_delay
-            else "not checked",
-        ),
+        ("Queue length", shown["queue_ok"] if th.max_queue_length else "not checked"),
+        ("Average delay", shown["delay_ok"] if th.max_average_delay else "not checked"),
         (
             "Demand / capacity",
-            f"{th.max_demand_capacity:,.2f} (closure hours)"
+            f"{shown['demand_capacity_ok']} (closure hours)"
             if th.max_demand_capacity
             else "not checked",
         ),
@@ -715,22 +714,17 @@ class CheckColumn:
 
 def check_columns(result: Result) -> list[CheckColumn]:
     """The limits that are set, as table columns (header names the limit in plan units)."""
-    th = result.plan.thresholds
-    system = result.plan.site.unit_system
-    out = []
-    if th.max_queue_length is not None:
-        out.append(CheckColumn("queue_ok", f"Queue ≤ {_fmt_long(th.max_queue_length, system)}"))
-    if th.max_average_delay is not None:
-        out.append(
-            CheckColumn("delay_ok", f"Average delay ≤ {th.max_average_delay / u.MINUTE:,.1f} min")
-        )
-    if th.max_demand_capacity is not None:
-        out.append(
-            CheckColumn(
-                "demand_capacity_ok", f"D/C ≤ {th.max_demand_capacity:,.2f} (closure hours)"
-            )
-        )
-    return out
+    shown = limit_values(result.plan)
+    heads = {
+        "queue_ok": "Queue ≤ {}",
+        "delay_ok": "Average delay ≤ {}",
+        "demand_capacity_ok": "D/C ≤ {} (closure hours)",
+    }
+    return [
+        CheckColumn(column, head.format(shown[column].removesuffix("/veh")))
+        for column, head in heads.items()
+        if column in shown
+    ]
 
 
 def hourly_rows(result: Result) -> tuple[list[str], list[list[str]], np.ndarray]:

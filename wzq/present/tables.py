@@ -30,6 +30,7 @@ __all__ = [
     "hourly_columns",
     "hourly_display",
     "landmark_display",
+    "limit_values",
     "limits_text",
     "queue_episodes",
     "rounded",
@@ -131,17 +132,33 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
     return lines
 
 
+def limit_values(plan: Plan) -> dict[str, str]:
+    """The one formatting of the agency limits: each limit that is set, by its check
+    column (``queue_ok``, ``delay_ok``, ``demand_capacity_ok``), as shown in the plan's
+    units: ``2.00 mi``, ``15.0 min/veh``, ``0.95``. Every output words it around these."""
+    th = plan.thresholds
+    long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
+    out = {}
+    if th.max_queue_length is not None:
+        out["queue_ok"] = f"{th.max_queue_length / long_m:,.2f} {long_name}"
+    if th.max_average_delay is not None:
+        out["delay_ok"] = f"{th.max_average_delay / u.MINUTE:,.1f} min/veh"
+    if th.max_demand_capacity is not None:
+        out["demand_capacity_ok"] = f"{th.max_demand_capacity:,.2f}"
+    return out
+
+
 def limits_text(plan: Plan) -> str:
     """The agency limits in the plan's units, one line (``none set`` when there are none)."""
     th = plan.thresholds
-    long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
+    shown = limit_values(plan)
     parts = []
-    if th.max_queue_length is not None:
-        parts.append(f"longest queue {th.max_queue_length / long_m:,.2f} {long_name}")
-    if th.max_average_delay is not None:
-        parts.append(f"average delay {th.max_average_delay / u.MINUTE:,.1f} min/veh")
-    if th.max_demand_capacity is not None:
-        parts.append(f"demand/capacity {th.max_demand_capacity:.2f} in closure hours")
+    if "queue_ok" in shown:
+        parts.append(f"longest queue {shown['queue_ok']}")
+    if "delay_ok" in shown:
+        parts.append(f"average delay {shown['delay_ok']}")
+    if "demand_capacity_ok" in shown:
+        parts.append(f"demand/capacity {shown['demand_capacity_ok']} in closure hours")
     if th.queue_must_not_pass is not None:
         parts.append(f"queue not past {th.queue_must_not_pass}")
     return ", ".join(parts) if parts else "none set"

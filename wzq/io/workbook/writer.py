@@ -32,12 +32,11 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 import wzq
-from wzq import units as u
 from wzq.engine.plan import Closure, Plan, PlanError, Problem
 from wzq.engine.results import Result
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.workbook import layout
-from wzq.present.tables import Column, hour_label, rounded
+from wzq.present.tables import Column, hour_label, limit_values, rounded
 
 __all__ = [
     "BAND_FILL",
@@ -276,19 +275,8 @@ CHECKS = [
 
 def limit_texts(plan: Plan) -> dict[str, str]:
     """Each threshold in the plan's units as text (``none`` when switched off)."""
-    t = plan.thresholds
-    long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
-    return {
-        "queue_ok": "none"
-        if t.max_queue_length is None
-        else f"{t.max_queue_length / long_m:,.2f} {long_name}",
-        "delay_ok": "none"
-        if t.max_average_delay is None
-        else f"{t.max_average_delay / u.MINUTE:,.1f} min/veh",
-        "demand_capacity_ok": "none"
-        if t.max_demand_capacity is None
-        else f"{t.max_demand_capacity:,.2f}",
-    }
+    shown = limit_values(plan)
+    return {k: shown.get(k, "none") for k in ("queue_ok", "delay_ok", "demand_capacity_ok")}
 
 
 def values(result: Result, columns: Iterable[Column]) -> list[list[float | int | None]]:
