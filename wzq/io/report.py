@@ -475,11 +475,6 @@ def warnings_block(result: Result, st: Styles) -> list[Flowable]:
     return out
 
 
-def _fmt_long(x_m: float | None, system: u.UnitSystem, decimals: int = 2) -> str:
-    name, per = u.LONG_LENGTH[system]
-    return "-" if x_m is None else f"{x_m / per:,.{decimals}f} {name}"
-
-
 def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
     """Site, derived values, demand, limits, costs, options and the closures, in plan units."""
     plan = result.plan
