@@ -89,7 +89,7 @@ OLE_EPOCH = dt.datetime(1899, 12, 30)
 _EXCEL_OWN_NAMES = ("print_area", "print_titles", "_filterdatabase")
 
 
-@dataclass
+@dataclass(frozen=True)
 class Outcome:
     """What one press of the button did (returned for scripts and tests)."""
 

@@ -184,7 +184,7 @@ def _unkept_text(unkept: list[str]) -> str:
     return "; ".join(unkept[:5]) + (f"; and {len(unkept) - 5} more" if len(unkept) > 5 else "")
 
 
-@dataclass
+@dataclass(frozen=True)
 class RunOutcome:
     """What :func:`run_to` did: the result, where it went, and why there if not asked."""
 
