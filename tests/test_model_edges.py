@@ -1,0 +1,281 @@
+"""Edges of the models that mutation testing found unguarded (see docs/mutation.md).
+
+Boundaries of the input checks (is zero allowed?), the words of the messages a
+user reads when an argument is wrong, options passed through to where they
+act, and the less travelled branches (data that does not start at midnight,
+weekends only, several lane configurations). Every expected value is worked by
+hand here from the rule the docstring cites.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+
+import numpy as np
+import pytest
+
+import wzq
+from wzq import capacity, costs, newell, units
+from wzq import windows as W
+from wzq.flow import FundamentalDiagram, Greenshields, Triangular
+from wzq.plan import Costs, Demand, PlanError, Site, Thresholds
+from wzq.queueing import solve
+
+START = dt.datetime(2027, 5, 3)  # a Monday (invented dates)
+
+
+# --- capacity: what a user is told ---------------------------------------------------------
+
+
+def test_capacity_messages_name_the_argument() -> None:
+    with pytest.raises(ValueError, match=r"^ffs_mph \(free-flow speed\) must be greater than zero"):
+        capacity.multilane_highway_capacity(0.0)
+    with pytest.raises(ValueError, match=r"^speed_limit_mph must be greater than zero"):
+        capacity.default_free_flow_speed(-55.0)
+    # HCM 7th ed. ch. 12: default FFS = speed limit + 5 mi/h
+    assert capacity.default_free_flow_speed(55.0) == 60.0
+
+
+# --- road-user costs ---------------------------------------------------------------------------
+
+
+def test_person_value_from_wage_bounds_and_shares() -> None:
+    # USDOT value of travel time guidance (2016 revision, from memory): personal travel at
+    # 50 % of the wage, business travel at 100 %
+    assert costs.person_value_from_wage(0.0) == 0.0  # zero is a wage, if an odd one
+    assert costs.person_value_from_wage(0.5) == 0.25
+    assert costs.person_value_from_wage(30.0, 0.2) == pytest.approx(30 * (0.8 * 0.5 + 0.2 * 1.0))
+    assert costs.person_value_from_wage(30.0, 1.0) == 30.0
+    with pytest.raises(ValueError, match=r"^hourly_wage must be zero or positive$"):
+        costs.person_value_from_wage(-1.0)
+    with pytest.raises(ValueError, match=r"^business_fraction must be between 0 and 1$"):
+        costs.person_value_from_wage(30.0, 1.5)
+
+
+def test_escalate_accepts_any_positive_index() -> None:
+    # value x index_to / index_from (common practice, no source)
+    assert costs.escalate(100.0, 0.5, 0.25) == 50.0
+    assert costs.escalate(100.0, 245.1, 300.0) == pytest.approx(100 * 300 / 245.1)
+    for bad in ((0.0, 1.0), (1.0, 0.0), (-1.0, 1.0)):
+        with pytest.raises(ValueError, match=r"^price indices must be positive$"):
+            costs.escalate(100.0, *bad)
+
+
+def test_hourly_and_total_cost_use_the_values_given() -> None:
+    site = Site(
+        lanes=2,
+        speed_limit=25.0,
+        work_zone_speed_limit=25.0,
+        work_zone_length=0.0,
+        free_flow_speed=25.0,
+        heavy_vehicle_share=0.2,
+        jam_density=0.125,
+        base_capacity_pc_h_ln=2000.0,
+        capacity_drop_pct_open=0.0,
+    )
+    closure = wzq.Closure(START + dt.timedelta(hours=1), START + dt.timedelta(hours=2), 1)
+    plan = wzq.Plan(
+        site,
+        Demand(START, 3600, np.array([1000.0, 2500.0, 1000.0])),
+        (closure,),
+        costs=Costs(20.0, 1.5, 40.0),
+    )
+    result = wzq.analyse(plan)
+    mine = Costs(10.0, 2.0, 50.0, truck_share=0.5)
+    # (1 - 0.5) x 10 x 2 + 0.5 x 50 = 35 per vehicle-hour (the given truck share wins)
+    series = costs.hourly_cost(result, mine)
+    delay = result.hourly["delay_veh_h"].to_numpy()
+    assert delay[1] > 0
+    assert series.tolist() == pytest.approx((delay * 35.0).tolist())
+    assert series.index.equals(result.hourly.index) and series.name == "road_user_cost"
+    assert costs.total_cost(result, mine) == pytest.approx(35.0 * result.summary.total_delay_veh_h)
+    # without values given, the plan's own: 0.8 x 20 x 1.5 + 0.2 x 40 = 32 (the site's 20 %)
+    assert costs.hourly_cost(result).tolist() == pytest.approx((delay * 32.0).tolist())
+    assert costs.total_cost(result) == pytest.approx(32.0 * result.summary.total_delay_veh_h)
+
+
+# --- units -------------------------------------------------------------------------------------
+
+
+def test_unit_labels() -> None:
+    expected = {
+        ("long", "us"): "mi",
+        ("long", "metric"): "km",
+        ("short", "us"): "ft",
+        ("short", "metric"): "m",
+        ("speed", "us"): "mi/h",
+        ("speed", "metric"): "km/h",
+        ("density", "us"): "veh/mi/ln",
+        ("density", "metric"): "veh/km/ln",
+    }
+    for (kind, system), label in expected.items():
+        assert units.unit_label(kind, system) == label
+
+
+# --- fundamental diagrams ----------------------------------------------------------------------
+
+
+def test_sending_flow_is_capacity_exactly_from_the_critical_density_on() -> None:
+    # w (k_j - k_c), with w = c / (k_j - k_c), need not give c back in floating point;
+    # the sending function (Daganzo 1994) must still say capacity at k_c, or a cell at
+    # capacity would send one unit in the last place less than it may
+    fd = Triangular(free_speed=25.0, capacity=0.5, jam_density=0.12)
+    k_c = fd.critical_density
+    assert fd.backward_wave_speed * (0.12 - k_c) < 0.5  # the rounding guarded against
+    assert fd.demand(k_c) == 0.5
+    assert fd.demand(np.array([k_c, 0.1])).tolist() == [0.5, 0.5]
+
+
+def test_the_generic_shock_speed_is_the_chord() -> None:
+    class Parabola(Greenshields):
+        """Greenshields' diagram with the base class's generic shock speed."""
+
+        _shock_speed = FundamentalDiagram._shock_speed
+
+    fd = Parabola(free_speed=25.0, jam_density=0.125)
+    # Greenshields: the chord between k1 and k2 is v_f (1 - (k1 + k2) / k_j)
+    # (Rankine-Hugoniot, Lighthill & Whitham 1955)
+    assert fd.shock_speed(0.02, 0.1) == pytest.approx(25 * (1 - 0.12 / 0.125), rel=1e-12)
+    assert fd.shock_speed(0.1, 0.02) == pytest.approx(25 * (1 - 0.12 / 0.125), rel=1e-12)
+    # equal states: the limit, the characteristic speed v_f (1 - 2k / k_j)
+    assert fd.shock_speed(0.05, 0.05) == pytest.approx(25 * (1 - 0.1 / 0.125), rel=1e-12)
+    both = fd.shock_speed(np.array([0.02, 0.05]), np.array([0.1, 0.05]))
+    assert both == pytest.approx([25 * (1 - 0.12 / 0.125), 25 * (1 - 0.1 / 0.125)], rel=1e-12)
+
+
+# --- Newell's counts after the data and outside it --------------------------------------------
+
+
+def _one_queue():
+    """Arrivals 0.6, 0.2 and 0.3 veh/s for 100 s each at a bottleneck of 0.5 veh/s.
+
+    The queue reaches 10 veh at 100 s and clears at 133.3 s (D/D/1): knots at 0, 100,
+    133.3, 200 and 300 s, arrivals 0, 60, 66.7, 80 and 110 veh.
+    """
+    run = solve(np.full(3, 100.0), np.array([0.6, 0.2, 0.3]), np.full(3, 0.5))
+    return newell.curves(run)
+
+
+WAVE = dict(lanes=1, free_speed=25.0, wave_speed=5.0, jam_density=0.125)
+
+
+def test_newell_counts_beyond_the_data_follow_the_last_rate_or_hold() -> None:
+    t, a, d = _one_queue()
+    # Asked 500 m upstream at 300 s, the arrivals term reads A(300 + 500/25 = 320 s):
+    # 110 + 0.3 x 20 = 116 veh at the last rate, 110 held; the departures term
+    # D(300 - 500/5) + 0.125 x 500 = 80 + 62.5 is larger (Newell 1993).
+    rate = newell.counts(t, a, d, distance=500, at=300, **WAVE)
+    hold = newell.counts(t, a, d, distance=500, at=300, after_end="hold", **WAVE)
+    assert (rate, hold) == pytest.approx((116.0, 110.0))
+    assert isinstance(newell.counts(t, a, d, distance=[0, 500], at=[200, 200], **WAVE), np.ndarray)
+    with pytest.raises(ValueError, match=r"^after_end must be 'rate' or 'hold', got 'keep'$"):
+        newell.counts(t, a, d, distance=0, at=0, after_end="keep", **WAVE)
+
+
+def test_newell_back_of_queue_refuses_times_outside_the_data() -> None:
+    t, a, d = _one_queue()
+    for at in (-1.0, 301.0):
+        with pytest.raises(ValueError, match=r"within 0 to 300 s, the span of the data"):
+            newell.back_of_queue(t, a, d, at=at, **WAVE)
+
+
+def test_from_run_passes_the_after_end_rule_on() -> None:
+    site = Site(
+        lanes=2,
+        speed_limit=25.0,
+        work_zone_speed_limit=25.0,
+        work_zone_length=0.0,
+        free_flow_speed=25.0,
+        heavy_vehicle_share=0.0,
+        jam_density=0.125,
+        base_capacity_pc_h_ln=2000.0,
+        capacity_drop_pct_open=0.0,
+    )
+    # a queue still standing when the data ends: after the end, arrivals go on at the
+    # last rate ("rate") or stop ("hold"), so the back of the queue differs at the end
+    closure = wzq.Closure(START, START + dt.timedelta(hours=2), 1, capacity_override_veh_h_ln=1500)
+    plan = wzq.Plan(site, Demand(START, 3600, np.array([1800.0, 1800.0])), (closure,))
+    run = wzq.analysis.evaluate(plan)
+    hold = newell.from_run(run, after_end="hold")
+    rate = newell.from_run(run)
+    assert hold.at_boundaries[-1] < rate.at_boundaries[-1]
+    direct = newell.from_queue(run.queue, run.model.diagram, 2, after_end="hold")
+    assert hold.at_boundaries.tolist() == direct.at_boundaries.tolist()
+
+
+# --- closure windows: typical days, durations, several configurations --------------------------
+
+
+def _hand_site() -> Site:
+    return Site(
+        lanes=2,
+        speed_limit=25.0,
+        work_zone_speed_limit=25.0,
+        work_zone_length=0.0,
+        free_flow_speed=25.0,
+        heavy_vehicle_share=0.0,
+        jam_density=0.125,
+        base_capacity_pc_h_ln=2000.0,
+        capacity_drop_pct_open=0.0,
+    )
+
+
+def test_typical_days_of_data_that_starts_in_the_morning() -> None:
+    # 06:00 Monday to 12:00 Wednesday: whole days are Tuesday only (Monday lacks its first
+    # six hours, Wednesday its last twelve); each hour's flow is 100 + the hour of day
+    start = dt.datetime(2027, 5, 3, 6)
+    hours = np.arange(18 + 24 + 12)
+    flows = 100.0 + (6 + hours) % 24
+    (day,) = W.typical_days(Demand(start, 3600, flows))
+    assert day.name == "weekday (average of 1 day)"
+    assert day.demand.start == dt.datetime(2027, 5, 4)
+    assert day.demand.flows_veh_h.tolist() == [100.0 + h for h in range(24)] * 2
+    assert (day.first_start, day.stop_start, day.fold) == (0, 24, True)
+
+
+def test_typical_days_of_a_weekend_alone_and_of_short_intervals() -> None:
+    sat = dt.datetime(2027, 5, 8)
+    flows = np.concatenate((np.full(24, 500.0), np.full(24, 700.0)))
+    (day,) = W.typical_days(Demand(sat, 3600, flows))
+    assert day.name == "weekend (average of 2 days)"
+    assert day.demand.flows_veh_h.tolist() == [600.0] * 48
+    # 15-second intervals (they divide the hour): 5,760 to a day
+    (day,) = W.typical_days(Demand(sat, 15, np.full(2 * 5760, 400.0)))
+    assert len(day.demand.flows_veh_h) == 2 * 5760 and day.stop_start == 5760
+    with pytest.raises(PlanError) as err:
+        W.typical_days(Demand(sat, 3600, np.full(12, 400.0)))
+    (problem,) = err.value.problems
+    assert problem.where == "demand"
+    assert problem.message.startswith("the demand holds no whole day from 00:00 to 24:00")
+
+
+def test_starts_for_a_duration_of_one_interval_and_of_too_many() -> None:
+    ws = W.find_windows(
+        _hand_site(),
+        Demand(START, 3600, np.full(4, 1000.0)),
+        Thresholds(max_demand_capacity=0.9),
+        [W.Configuration(1, capacity_override_veh_h_ln=1500.0)],
+    ).sets[0]
+    # 1,000 / 1,500 = 0.67 <= 0.9 every hour: every closure is allowed
+    assert ws.starts_for(3600) == [(0, 1), (1, 2), (2, 3), (3, 4)]
+    assert ws.starts_for(1.5 * 3600) == [(0, 2), (1, 3), (2, 4)]  # rounded up to 2 h
+    assert ws.starts_for(0) == [] and ws.starts_for(5 * 3600) == []
+
+
+def test_feasible_starts_lists_every_configuration() -> None:
+    result = W.find_windows(
+        Site(**{**_hand_site().__dict__, "lanes": 3}),
+        Demand(START, 3600, np.full(3, 900.0)),
+        Thresholds(max_demand_capacity=0.9),
+        [
+            W.Configuration(1, capacity_override_veh_h_ln=1500.0),
+            W.Configuration(2, capacity_override_veh_h_ln=1500.0),
+        ],
+    )
+    table = W.feasible_starts(result, 2.0)
+    # 900 / 3,000 and 900 / 1,500 are both within 0.9: two starts for each configuration
+    assert (
+        table["configuration"].tolist()
+        == ["1 of 3 lanes closed, 1,500 veh/h/ln"] * 2 + ["2 of 3 lanes closed, 1,500 veh/h/ln"] * 2
+    )
+    assert table["hours"].tolist() == [2.0] * 4
