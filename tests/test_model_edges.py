@@ -24,6 +24,23 @@ from wzq.queueing import solve
 START = dt.datetime(2027, 5, 3)  # a Monday (invented dates)
 
 
+def _hand_site(**kw) -> Site:
+    """Two lanes, v_f 25 m/s, k_j 0.125 veh/m/ln, 2,000 veh/h/ln, no capacity drop."""
+    values = dict(
+        lanes=2,
+        speed_limit=25.0,
+        work_zone_speed_limit=25.0,
+        work_zone_length=0.0,
+        free_flow_speed=25.0,
+        heavy_vehicle_share=0.0,
+        jam_density=0.125,
+        base_capacity_pc_h_ln=2000.0,
+        capacity_drop_pct_open=0.0,
+    )
+    values.update(kw)
+    return Site(**values)
+
+
 # --- capacity: what a user is told ---------------------------------------------------------
 
 
@@ -62,17 +79,7 @@ def test_escalate_accepts_any_positive_index() -> None:
 
 
 def test_hourly_and_total_cost_use_the_values_given() -> None:
-    site = Site(
-        lanes=2,
-        speed_limit=25.0,
-        work_zone_speed_limit=25.0,
-        work_zone_length=0.0,
-        free_flow_speed=25.0,
-        heavy_vehicle_share=0.2,
-        jam_density=0.125,
-        base_capacity_pc_h_ln=2000.0,
-        capacity_drop_pct_open=0.0,
-    )
+    site = _hand_site(heavy_vehicle_share=0.2)
     closure = wzq.Closure(START + dt.timedelta(hours=1), START + dt.timedelta(hours=2), 1)
     plan = wzq.Plan(
         site,
@@ -180,17 +187,7 @@ def test_newell_back_of_queue_refuses_times_outside_the_data() -> None:
 
 
 def test_from_run_passes_the_after_end_rule_on() -> None:
-    site = Site(
-        lanes=2,
-        speed_limit=25.0,
-        work_zone_speed_limit=25.0,
-        work_zone_length=0.0,
-        free_flow_speed=25.0,
-        heavy_vehicle_share=0.0,
-        jam_density=0.125,
-        base_capacity_pc_h_ln=2000.0,
-        capacity_drop_pct_open=0.0,
-    )
+    site = _hand_site()
     # a queue still standing when the data ends: after the end, arrivals go on at the
     # last rate ("rate") or stop ("hold"), so the back of the queue differs at the end
     closure = wzq.Closure(START, START + dt.timedelta(hours=2), 1, capacity_override_veh_h_ln=1500)
@@ -204,20 +201,6 @@ def test_from_run_passes_the_after_end_rule_on() -> None:
 
 
 # --- closure windows: typical days, durations, several configurations --------------------------
-
-
-def _hand_site() -> Site:
-    return Site(
-        lanes=2,
-        speed_limit=25.0,
-        work_zone_speed_limit=25.0,
-        work_zone_length=0.0,
-        free_flow_speed=25.0,
-        heavy_vehicle_share=0.0,
-        jam_density=0.125,
-        base_capacity_pc_h_ln=2000.0,
-        capacity_drop_pct_open=0.0,
-    )
 
 
 def test_typical_days_of_data_that_starts_in_the_morning() -> None:
@@ -264,7 +247,7 @@ def test_starts_for_a_duration_of_one_interval_and_of_too_many() -> None:
 
 def test_feasible_starts_lists_every_configuration() -> None:
     result = W.find_windows(
-        Site(**{**_hand_site().__dict__, "lanes": 3}),
+        _hand_site(lanes=3),
         Demand(START, 3600, np.full(3, 900.0)),
         Thresholds(max_demand_capacity=0.9),
         [
