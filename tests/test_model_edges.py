@@ -131,6 +131,30 @@ def test_sending_flow_is_capacity_exactly_from_the_critical_density_on() -> None
     assert fd.backward_wave_speed * (0.12 - k_c) < 0.5  # the rounding guarded against
     assert fd.demand(k_c) == 0.5
     assert fd.demand(np.array([k_c, 0.1])).tolist() == [0.5, 0.5]
+    # and a cell at k_c receives capacity (supply, the receiving function)
+    assert fd.supply(k_c) == 0.5
+    assert fd.supply(np.array([0.0, k_c])).tolist() == [0.5, 0.5]
+
+
+def test_capped_greenshields_messages_name_the_parameter() -> None:
+    from wzq.flow import CappedGreenshields
+
+    good = dict(free_speed=25.0, jam_density=0.125, speed_cap=20.0)
+    for name in good:
+        with pytest.raises(ValueError, match=rf"^{name} must be a finite number above zero"):
+            CappedGreenshields(**{**good, name: 0.0})
+
+
+def test_triangular_shock_speeds_on_each_branch_and_across_the_kink() -> None:
+    # Triangular (Newell 1993): v_f between free states, -w between congested ones, the
+    # chord (Q(k2) - Q(k1)) / (k2 - k1) across the kink; v_f 25, c 0.5, k_j 0.125: k_c 0.02,
+    # w = 0.5 / 0.105
+    fd = Triangular(free_speed=25.0, capacity=0.5, jam_density=0.125)
+    w = 0.5 / 0.105
+    assert fd.shock_speed(0.005, 0.015) == pytest.approx(25.0, rel=1e-12)
+    assert fd.shock_speed(0.05, 0.1) == pytest.approx(-w, rel=1e-12)
+    q1, q2 = 25 * 0.01, w * (0.125 - 0.08)
+    assert fd.shock_speed(0.08, 0.01) == pytest.approx((q2 - q1) / 0.07, rel=1e-12)
 
 
 def test_the_generic_shock_speed_is_the_chord() -> None:
@@ -262,3 +286,15 @@ def test_feasible_starts_lists_every_configuration() -> None:
         == ["1 of 3 lanes closed, 1,500 veh/h/ln"] * 2 + ["2 of 3 lanes closed, 1,500 veh/h/ln"] * 2
     )
     assert table["hours"].tolist() == [2.0] * 4
+
+
+def test_summary_lines_of_a_plan_without_a_queue() -> None:
+    from wzq.tables import summary_lines
+
+    plan = wzq.Plan(_hand_site(unit_system="metric"), Demand(START, 3600, np.full(2, 1000.0)))
+    lines = dict(summary_lines(wzq.analyse(plan)))
+    # nothing queues, so there is no instant to give: a dash, not a clock time
+    assert lines["Longest queue"] == "0.00 km, at -"
+    assert lines["Most vehicles queued"] == "0 veh, at -"
+    assert lines["Last queue clears"] == "-"
+    assert lines["Hours over a limit"] == "0"

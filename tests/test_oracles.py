@@ -532,9 +532,18 @@ def test_sheets_print_queue_lengths_in_miles_by_the_published_conversion(kestrel
     assert f"Queue limit {limit}" in header
     # the summary sheet's headline and limit
     texts = {r[0]: r[1] for r in book[layout.SUMMARY].iter_rows(values_only=True) if r[0]}
-    longest = result.summary.max_queue_length_m / NIST_MILE_M
-    assert texts["Longest queue"].startswith(f"{half_up(longest, 2):.2f} mi, at ")
+    s = result.summary
+    at = s.max_queue_length_at.strftime("%a %Y-%m-%d %H:%M")
+    assert (
+        texts["Longest queue"]
+        == f"{half_up(s.max_queue_length_m / NIST_MILE_M, 2):.2f} mi, at {at}"
+    )
     assert texts["Queue length"] == limit
+    assert texts["Most vehicles queued"] == (
+        f"{half_up(s.max_queue_veh, 0):,.0f} veh, at {s.max_queue_veh_at:%a %Y-%m-%d %H:%M}"
+    )
+    assert texts["Last queue clears"] == f"{s.last_queue_clears:%a %Y-%m-%d %H:%M}"
+    assert texts["Hours over a limit"] == str(len(s.hours_failing))
 
 
 def test_terminal_and_report_print_us_units_by_the_published_conversion(kestrel) -> None:
