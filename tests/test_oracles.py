@@ -544,6 +544,13 @@ def test_sheets_print_queue_lengths_in_miles_by_the_published_conversion(kestrel
     )
     assert texts["Last queue clears"] == f"{s.last_queue_clears:%a %Y-%m-%d %H:%M}"
     assert texts["Hours over a limit"] == str(len(s.hours_failing))
+    assert texts["Total delay"] == (
+        f"{s.total_delay_veh_h:,.1f} veh-h (queue {s.queue_delay_veh_h:,.1f}, "
+        f"work zone {s.work_zone_delay_veh_h:,.1f})"
+    )
+    assert texts["Highest hourly average delay"] == f"{s.max_average_delay_min:,.1f} min/veh"
+    assert texts["Vehicles that met a queue"] == f"{s.vehicles_affected:,.0f}"
+    assert texts["Road-user delay cost"] == f"{s.total_cost:,.0f} USD (2017 prices)"
 
 
 def test_terminal_and_report_print_us_units_by_the_published_conversion(kestrel) -> None:
