@@ -298,3 +298,52 @@ def test_summary_lines_of_a_plan_without_a_queue() -> None:
     assert lines["Most vehicles queued"] == "0 veh, at -"
     assert lines["Last queue clears"] == "-"
     assert lines["Hours over a limit"] == "0"
+
+
+def test_flow_never_reports_more_than_capacity_and_speed_at_the_kink() -> None:
+    # Triangular (Newell 1993): at k_c both branches give capacity in exact arithmetic;
+    # here w (k_j - k_c) rounds one unit in the last place above c = 0.45, and the
+    # flow must still not exceed capacity; at k_c the speed is v_f
+    fd = Triangular(free_speed=25.0, capacity=0.45, jam_density=0.13)
+    k_c = fd.critical_density
+    assert fd.backward_wave_speed * (0.13 - k_c) > 0.45  # the rounding guarded against
+    assert fd.flow(k_c) == 0.45
+    low = Triangular(free_speed=25.0, capacity=0.5, jam_density=0.12)
+    assert low.speed(low.critical_density) == 25.0
+    with pytest.raises(
+        ValueError, match=r"^density 0\.2 veh/m/ln is outside the range 0 to jam density = 0\.13"
+    ):
+        fd.flow(0.2)
+
+
+def test_short_term_capacity_messages_and_bounds() -> None:
+    cap = capacity.short_term_work_zone_capacity
+    # HCM 2000 ch. 22 (from memory): (1,600 + I - R) f_HV N
+    assert cap(n_open=2, heavy_vehicle_factor=1.0) == 3200.0
+    assert cap(n_open=1, heavy_vehicle_factor=0.5, work_intensity_pc_h_ln=-160) == 720.0
+    cases = [
+        (dict(n_open=0), r"^n_open \(lanes open through the work zone\)"),
+        (dict(heavy_vehicle_factor=float("nan")), r"^heavy_vehicle_factor must be a finite"),
+        (dict(heavy_vehicle_factor=0.0), r"^heavy_vehicle_factor must be in \(0, 1\]"),
+        (dict(work_intensity_pc_h_ln=float("nan")), r"^work_intensity_pc_h_ln must be a finite"),
+        (dict(work_intensity_pc_h_ln=161), r"^work_intensity_pc_h_ln must be within \+-160"),
+    ]
+    for change, message in cases:
+        with pytest.raises(ValueError, match=message):
+            cap(**{"n_open": 2, "heavy_vehicle_factor": 1.0, **change})
+
+
+def test_cost_basis_line_of_the_default_values() -> None:
+    # the default values (TTI memo to TxDOT, March 2018, 2017 dollars): cars 28.69 per
+    # vehicle-hour at 1.5 persons (28.69 / 1.5 = 19.13 per person-hour), trucks 36.28
+    line = costs.cost_basis(costs.DEFAULT_COSTS, 0.05)
+    assert line == (
+        "USD of 2017: cars 28.69 per vehicle-hour (19.13 per person-hour x 1.5 persons), "
+        "trucks 36.28 per vehicle-hour, 5% trucks "
+        "(default values of 2017; update them to the year of the work)"
+    )
+    own = costs.cost_basis(Costs(20.0, 1.2, 40.0, truck_share=0.1, dollar_year=2026), 0.05)
+    assert own == (
+        "USD of 2026: cars 24.00 per vehicle-hour (20.00 per person-hour x 1.2 persons), "
+        "trucks 40.00 per vehicle-hour, 10% trucks"
+    )
