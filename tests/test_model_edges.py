@@ -99,6 +99,8 @@ def test_hourly_and_total_cost_use_the_values_given() -> None:
     # without values given, the plan's own: 0.8 x 20 x 1.5 + 0.2 x 40 = 32 (the site's 20 %)
     assert costs.hourly_cost(result).tolist() == pytest.approx((delay * 32.0).tolist())
     assert costs.total_cost(result) == pytest.approx(32.0 * result.summary.total_delay_veh_h)
+    # the per-hour table prices delay with the plan's own values too
+    assert result.hourly["road_user_cost"].tolist() == pytest.approx((delay * 32.0).tolist())
 
 
 # --- units -------------------------------------------------------------------------------------
@@ -347,3 +349,55 @@ def test_cost_basis_line_of_the_default_values() -> None:
         "USD of 2026: cars 24.00 per vehicle-hour (20.00 per person-hour x 1.2 persons), "
         "trucks 40.00 per vehicle-hour, 10% trucks"
     )
+
+
+def test_congested_density_at_capacity_is_the_critical_density() -> None:
+    # k_j - c / w rounds below k_c for this diagram; the congested branch must still
+    # start at k_c (Newell 1993: both branches meet at capacity)
+    fd = Triangular(free_speed=25.0, capacity=0.5, jam_density=0.12)
+    assert 0.12 - 0.5 / fd.backward_wave_speed < fd.critical_density
+    assert fd.density_congested(0.5) == fd.critical_density
+
+
+def test_diagram_messages() -> None:
+    from wzq.flow import make_diagram
+
+    with pytest.raises(
+        ValueError, match=r"choose one of greenshields, triangular, capped-greenshields$"
+    ):
+        make_diagram("parabolic", free_speed=25.0, jam_density=0.125)
+    with pytest.raises(ValueError, match=r"use 'triangular' to set capacity directly$"):
+        make_diagram("greenshields", free_speed=25.0, jam_density=0.125, capacity=0.5)
+    with pytest.raises(ValueError, match=r"^the triangular diagram needs a capacity \(veh/s/ln\)$"):
+        make_diagram("triangular", free_speed=25.0, jam_density=0.125)
+    with pytest.raises(ValueError, match=r"^the capped-greenshields diagram needs a speed_cap"):
+        make_diagram("capped-greenshields", free_speed=25.0, jam_density=0.125)
+    for name, value in (("free_speed", 0.0), ("jam_density", -1.0)):
+        good = dict(free_speed=25.0, jam_density=0.125)
+        with pytest.raises(ValueError, match=rf"^{name} must be a finite number above zero"):
+            Greenshields(**{**good, name: value})
+
+
+def test_work_zone_capacity_messages_and_the_ramp_that_leaves_no_capacity() -> None:
+    with pytest.raises(ValueError, match=r"^qdr \(queue discharge rate\) must be greater"):
+        capacity.work_zone_prebreakdown_capacity(0.0)
+    with pytest.raises(ValueError, match=r"^lateral_ft must be a finite number"):
+        capacity.work_zone_queue_discharge_rate(
+            1.0, soft_barrier=True, rural=False, lateral_ft=float("inf"), night=False
+        )
+    cap = capacity.short_term_work_zone_capacity
+    # (1,600 + I - R) f_HV N (HCM 2000 ch. 22, from memory): R = 1,599.5 leaves 0.5 pc/h/ln
+    assert cap(n_open=2, heavy_vehicle_factor=1.0, ramp_adjustment_pc_h_ln=1599.5) == 1.0
+    with pytest.raises(
+        ValueError,
+        match=r"^ramp_adjustment_pc_h_ln \(1700\) leaves no capacity; it must be below "
+        r"1700 pc/h/ln$",
+    ):
+        cap(
+            n_open=2,
+            heavy_vehicle_factor=1.0,
+            work_intensity_pc_h_ln=100,
+            ramp_adjustment_pc_h_ln=1700,
+        )
+    with pytest.raises(ValueError, match=r"^ramp_adjustment_pc_h_ln must be a finite number"):
+        cap(n_open=2, heavy_vehicle_factor=1.0, ramp_adjustment_pc_h_ln=float("nan"))
