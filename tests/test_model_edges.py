@@ -401,3 +401,112 @@ def test_work_zone_capacity_messages_and_the_ramp_that_leaves_no_capacity() -> N
         )
     with pytest.raises(ValueError, match=r"^ramp_adjustment_pc_h_ln must be a finite number"):
         cap(n_open=2, heavy_vehicle_factor=1.0, ramp_adjustment_pc_h_ln=float("nan"))
+
+
+NAN = float("nan")
+WZ_FFS = dict(
+    speed_limit_ratio=1.1,
+    wz_speed_limit_mph=55.0,
+    lcsi=1.0,
+    soft_barrier=True,
+    night=False,
+    ramp_density_per_mi=0.0,
+)
+SECTION = dict(
+    method="hcm7",
+    n_normal=2,
+    n_open=1,
+    ffs_mph=70.0,
+    heavy_share=0.0,
+    terrain="level",
+    driver_population="commuter",
+    soft_barrier=True,
+    rural=False,
+    lateral_ft=0.0,
+    night=False,
+)
+
+
+@pytest.mark.parametrize(
+    ("call", "message"),
+    [
+        (lambda: capacity.basic_freeway_capacity(0), r"^ffs_mph \(free-flow speed\) must be"),
+        (lambda: capacity.lane_closure_severity_index(2, 3), r"^n_open \(3\) cannot exceed"),
+        (
+            lambda: capacity.work_zone_queue_discharge_rate(
+                0, soft_barrier=True, rural=False, lateral_ft=0, night=False
+            ),
+            r"^lcsi \(lane closure severity index\) must be greater than zero",
+        ),
+        (
+            lambda: capacity.driver_population_factor("tourists"),
+            r"; use one of commuter, familiar, balanced, unfamiliar$",
+        ),
+        (
+            lambda: capacity.pce_trucks(" Mountainous "),
+            r"^mountainous terrain has no general passenger-car equivalent in the HCM: "
+            r"compute a specific-grade PCE and enter it, or enter a capacity override$",
+        ),
+        (
+            lambda: capacity.pce_trucks("hilly"),
+            r"^unknown terrain 'hilly'; use one of level, rolling \(or a specific-grade PCE "
+            r"/ capacity override for mountainous terrain\)$",
+        ),
+        (lambda: capacity.heavy_vehicle_factor(NAN, 2), r"^share \(heavy-vehicle share\) must"),
+        (lambda: capacity.heavy_vehicle_factor(10, 2), r"; enter 10 % as 0\.10$"),
+        (lambda: capacity.heavy_vehicle_factor(0.1, NAN), r"^pce \(passenger-car equivalent\)"),
+        (lambda: capacity.heavy_vehicle_factor(0.1, 0.9), r"must be at least 1\.0, got 0\.9$"),
+        (
+            lambda: capacity.work_zone_prebreakdown_capacity(1800, 25),
+            r"^alpha_pct \(capacity drop\) must be a percentage in \[0, 20\)",
+        ),
+        (
+            lambda: capacity.work_zone_free_flow_speed(**{**WZ_FFS, "speed_limit_ratio": 0}),
+            r"^speed_limit_ratio must be greater than zero",
+        ),
+        (
+            lambda: capacity.work_zone_free_flow_speed(**{**WZ_FFS, "wz_speed_limit_mph": 0}),
+            r"^wz_speed_limit_mph \(work-zone speed limit\) must be greater than zero",
+        ),
+        (
+            lambda: capacity.work_zone_free_flow_speed(**{**WZ_FFS, "ramp_density_per_mi": NAN}),
+            r"^ramp_density_per_mi must be a finite number",
+        ),
+        (
+            lambda: capacity.work_zone_free_flow_speed(**{**WZ_FFS, "ffs_cap_mph": 0}),
+            r"^ffs_cap_mph must be greater than zero",
+        ),
+        (
+            # 9.95 + 33.49 x 1.1 + 0.53 x 55 - 5.60 - 3.84 = 66.50; - 8.70 x 9 gives -11.8
+            lambda: capacity.work_zone_free_flow_speed(**{**WZ_FFS, "ramp_density_per_mi": 9}),
+            r"gives -11\.8 mi/h for these inputs; "
+            r"check the ramp density and work-zone speed limit$",
+        ),
+        (
+            lambda: capacity.section_capacity(**{**SECTION, "method": "hcm1985"}),
+            r"^unknown capacity method 'hcm1985'; use one of hcm7, hcm2000, open$",
+        ),
+        (
+            lambda: capacity.section_capacity(**SECTION, override_veh_h_ln=0),
+            r"^override_veh_h_ln \(capacity override\) must be greater than zero",
+        ),
+        (
+            lambda: capacity.section_capacity(**SECTION, base_capacity_pc_h_ln=0),
+            r"^base_capacity_pc_h_ln must be greater than zero",
+        ),
+    ],
+)
+def test_capacity_messages(call, message) -> None:
+    with pytest.raises(ValueError, match=message):
+        call()
+
+
+def test_capacity_input_bounds_by_hand() -> None:
+    # f_HV = 1 / (1 + P_T (E_T - 1)) (HCM 7th ed. ch. 12): E_T = 1 is allowed (f_HV = 1)
+    assert capacity.heavy_vehicle_factor(0.3, 1.0) == 1.0
+    assert capacity.heavy_vehicle_factor(0.25, 1.5) == pytest.approx(1 / 1.125)
+    # the work-zone FFS equation at a small positive result is a speed, not an error:
+    # 66.50 - 8.70 TRD = 0.5 at TRD = 7.586
+    trd = (9.95 + 33.49 * 1.1 + 0.53 * 55 - 5.60 - 3.84 - 0.5) / 8.70
+    value = capacity.work_zone_free_flow_speed(**{**WZ_FFS, "ramp_density_per_mi": trd})
+    assert value == pytest.approx(0.5, rel=1e-9)
