@@ -510,3 +510,65 @@ def test_capacity_input_bounds_by_hand() -> None:
     trd = (9.95 + 33.49 * 1.1 + 0.53 * 55 - 5.60 - 3.84 - 0.5) / 8.70
     value = capacity.work_zone_free_flow_speed(**{**WZ_FFS, "ramp_density_per_mi": trd})
     assert value == pytest.approx(0.5, rel=1e-9)
+
+
+@pytest.mark.parametrize(
+    ("call", "message"),
+    [
+        (lambda: capacity.basic_freeway_capacity("fast"), r"^ffs_mph .* must be a number, got"),
+        (lambda: capacity.lane_closure_severity_index(True, 1), r"^n_normal \(lanes in normal "),
+        (lambda: capacity.lane_closure_severity_index("two", 1), r"must be a whole number of"),
+        (lambda: capacity.lane_closure_severity_index(2, 0), r"^n_open \(lanes open through"),
+        (
+            lambda: capacity.section_capacity(**{**SECTION, "method": "open"}),
+            r"below n_normal \(2\); choose a work-zone method \(hcm7, hcm2000\)$",
+        ),
+        (
+            lambda: capacity.section_capacity(
+                **{**SECTION, "method": "open", "n_open": 2}, alpha_open_pct=20
+            ),
+            r"^alpha_open_pct \(capacity drop outside work zones\) must be a percentage",
+        ),
+        (
+            lambda: capacity.section_capacity(**SECTION, base_capacity_pc_h_ln=-1),
+            r"^base_capacity_pc_h_ln must be greater than zero",
+        ),
+        (lambda: Triangular(free_speed="fast", capacity=0.5, jam_density=0.125), r"^free_speed "),
+        (lambda: Triangular(free_speed=25, capacity=0, jam_density=0.125), r"^capacity must be a"),
+        (lambda: Triangular(free_speed=25, capacity=0.5, jam_density=0), r"^jam_density must be"),
+        (
+            lambda: Triangular(free_speed=25, capacity=4, jam_density=0.125),
+            r"^capacity 4 veh/s/ln must be below free_speed x jam_density = 3\.125 veh/s/ln, "
+            r"otherwise the critical density would not lie below the jam density$",
+        ),
+        (
+            lambda: Triangular(free_speed=25, capacity=0.5, jam_density=0.125).density_free(0.6),
+            r"^flow 0\.6 veh/s/ln is outside the range 0 to capacity = 0\.5 veh/s/ln$",
+        ),
+    ],
+)
+def test_model_messages(call, message) -> None:
+    with pytest.raises(ValueError, match=message):
+        call()
+
+
+def test_densities_within_rounding_of_a_bound_are_taken_as_the_bound() -> None:
+    fd = Triangular(free_speed=25.0, capacity=0.5, jam_density=0.125)
+    tol = 1e-9 * 0.125  # ROUNDING_TOLERANCE (1e-9) of the bound k_j
+    assert fd.flow(-tol) == 0.0  # a rounding below zero is zero
+    assert fd.flow(0.125 + tol) == 0.0  # and one above k_j is k_j
+    with pytest.raises(ValueError, match="outside the range"):
+        fd.flow(0.125 + 3 * tol)
+
+
+def test_section_capacity_passes_every_adjustment_on() -> None:
+    common = {**SECTION, "n_normal": 3, "n_open": 2}
+    # HCM 2000 ch. 22 (from memory): (1,600 + I - R) f_HV N = (1,600 + 100 - 50) x 2
+    pair = capacity.section_capacity(
+        **{**common, "method": "hcm2000"}, work_intensity_pc_h_ln=100, ramp_adjustment_pc_h_ln=50
+    )
+    assert (pair.prebreakdown_veh_h, pair.discharge_veh_h) == (3300.0, 3300.0)
+    # HCM 6th/7th ed. ch. 10 QDR, rural and by night: LCSI = 1 / ((2/3) x 2) = 0.75;
+    # 2,093 - 154 x 0.75 - 194 - 179 - 59 = 1,545.5 pc/h/ln, x 2 lanes (f_HV = f_p = 1)
+    pair = capacity.section_capacity(**{**common, "rural": True, "night": True})
+    assert pair.discharge_veh_h == pytest.approx(2 * 1545.5)
