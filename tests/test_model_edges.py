@@ -572,3 +572,22 @@ def test_section_capacity_passes_every_adjustment_on() -> None:
     # 2,093 - 154 x 0.75 - 194 - 179 - 59 = 1,545.5 pc/h/ln, x 2 lanes (f_HV = f_p = 1)
     pair = capacity.section_capacity(**{**common, "rural": True, "night": True})
     assert pair.discharge_veh_h == pytest.approx(2 * 1545.5)
+
+
+def test_a_work_zone_free_flow_speed_of_exactly_zero_is_refused() -> None:
+    # 9.95 + 33.49 x 1.0 + 0.53 x 20 - 5.60 x 0.25 - 3.84 = 48.80, cancelled by the ramp
+    # term 8.70 TRD at TRD = 48.80 / 8.70: no speed at all, which the equation's data
+    # cannot support (HCM 6th/7th ed. ch. 10)
+    trd = (9.95 + 33.49 * 1.0 + 0.53 * 20 - 5.60 * 0.25 - 3.84) / 8.70
+    args = {**WZ_FFS, "speed_limit_ratio": 1.0, "wz_speed_limit_mph": 20.0, "lcsi": 0.25}
+    with pytest.raises(ValueError, match=r"gives -?0\.0 mi/h for these inputs"):
+        capacity.work_zone_free_flow_speed(**{**args, "ramp_density_per_mi": trd})
+
+
+def test_greenshields_speed_within_rounding_of_the_bounds() -> None:
+    # v = v_f (1 - k/k_j) (Greenshields 1935); a density a rounding below 0 or above
+    # k_j is taken as 0 or k_j, so the speed is exactly v_f or 0
+    fd = Greenshields(free_speed=25.0, jam_density=0.125)
+    tol = 1e-9 * 0.125
+    assert fd.speed(-tol) == 25.0
+    assert fd.speed(0.125 + tol) == 0.0
