@@ -735,3 +735,23 @@ def test_lwr_solver_inside_a_standing_queue() -> None:
     assert back_from_exit == pytest.approx(-u * steps * dt, abs=2 * dx)
     # deep inside the queue the density is the queued state's
     assert field.final[-10:] == pytest.approx(np.full(10, k_q), rel=1e-9)
+
+
+def test_configuration_of_a_rural_closure_by_the_hcm_discharge_equation() -> None:
+    # HCM 6th/7th ed. ch. 10: QDR = 2,093 - 154 LCSI - 194 f_Br - 179 f_AT + 9 f_LAT - 59 f_DN;
+    # one of two lanes open (LCSI = 2), cones, rural, by day: 2,093 - 308 - 194 - 179 = 1,412
+    # pc/h/ln on the one open lane (no heavy vehicles, commuters)
+    site = hand_site(capacity_method="hcm7", area_type="rural")
+    _, qdr, _ = analysis.configuration(site, "triangular", (1, "soft", None), False)
+    assert qdr == pytest.approx(1412.0)
+
+
+def test_a_queue_of_less_than_one_vehicle_still_clears_on_the_clock() -> None:
+    # 1,500.5 veh/h against the closure's 1,500 for an hour leaves half a vehicle, which
+    # the open road (4,000 veh/h, demand 1,200) clears in 0.5 / 2,800 h = 0.64 s (D/D/1)
+    flows = [1200.0, 1500.5, 1200.0]
+    plan = Plan(hand_site(), Demand(START, 3600, np.array(flows)), (closure(1, 2),))
+    s = wzq.analyse(plan).summary
+    assert s.max_queue_veh == pytest.approx(0.5)
+    clears = 2 * 3600 + 0.5 / 2800 * 3600
+    assert s.last_queue_clears == START + dt.timedelta(seconds=round(clears, 3))
