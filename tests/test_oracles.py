@@ -774,3 +774,17 @@ def test_configuration_uses_the_sites_capacity_drop_and_short_term_adjustments()
     site = hand_site(work_intensity_pc_h_ln=100.0, ramp_adjustment_pc_h_ln=50.0)
     pre, qdr, _ = analysis.configuration(site, "triangular", (1, "soft", None), False)
     assert (pre, qdr) == pytest.approx((1650.0, 1650.0))
+
+
+def test_hour_checks_demand_capacity_at_the_limit_and_without_capacity() -> None:
+    limits = Thresholds(max_demand_capacity=0.9)
+    # 900 / 1,000 is exactly the limit: a limit is met when reached; half a vehicle of
+    # capacity against one arrival is 2.0; no capacity at all gives no ratio (NaN), and
+    # a closure hour without capacity does not pass
+    arrivals = np.array([900.0, 1.0, 10.0, 10.0])
+    capacity = np.array([1000.0, 0.5, 0.0, 0.0])
+    closed = np.array([True, True, True, False])
+    zeros = np.zeros(4)
+    _, dc, checks = analysis.hour_checks(limits, arrivals, capacity, zeros, zeros, closed)
+    assert dc[:2].tolist() == [0.9, 2.0] and np.isnan(dc[2:]).all()
+    assert checks[0][2].tolist() == [True, False, False, True]
