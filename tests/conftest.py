@@ -13,6 +13,13 @@ a quick local run (DEVELOPERS.md, "Tests").
 This folder is put on ``sys.path`` by pytest (this file's folder), so the helpers
 beside it (``workbook_helpers``, ``fake_xlwings`` ...) import by name from the
 sub-folders too.
+
+The engine caches the site model and the capacity of each lane configuration
+(``functools.lru_cache`` in :mod:`wzq.engine.site`). Mutation testing runs each
+mutant's tests in a process forked from one that has already run the tests, so
+without a fresh start a mutated capacity function would never be called: the
+cache would answer with the unmutated values. Every test session starts with
+empty caches.
 """
 
 from __future__ import annotations
@@ -30,3 +37,10 @@ settings.load_profile(PROFILE)
 def pytest_report_header(config) -> str:
     given = os.environ.get("HYPOTHESIS_PROFILE", "")
     return f"hypothesis profile: {PROFILE} (HYPOTHESIS_PROFILE={given!r})"
+
+
+def pytest_sessionstart(session) -> None:
+    from wzq.engine import site
+
+    site.site_model.cache_clear()
+    site.configuration.cache_clear()

@@ -28,6 +28,7 @@ def cmd_run(args: argparse.Namespace) -> int:
         print(f"  {label:<{width}}  {text}")
     for w in result.warnings:
         print(f"warning: {w}")
+    print(f"\n{wzq.CAUTION}")  # one line, as in every other output
     return EXIT_OK
 
 

@@ -48,6 +48,7 @@ from openpyxl.utils import get_column_letter
 from openpyxl.utils.datetime import to_excel
 from openpyxl.worksheet.pagebreak import Break
 
+import wzq
 from wzq import units as u
 from wzq.engine.results import Result
 from wzq.io.workbook import writer as w
@@ -387,6 +388,7 @@ def write_charts(out: w.SheetWriter, result: Result, table: w.TableRef) -> int:
         f"Chart data written by wzq; the charts read these cells and the {table.sheet} sheet.",
         font=w.SMALL,
     )
+    out.put(2, 1, wzq.CAUTION, font=w.SMALL)  # row 2 is free: the first chart sits at A3
     for chart, anchor in zip(
         (demand_capacity_chart(out, result), queue_chart(out, result, table)),
         CHART_ANCHORS,

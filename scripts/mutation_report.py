@@ -1,0 +1,99 @@
+"""Print the mutation score per module from mutmut's results in ``mutants/``.
+
+The score is mutmut's own (as in ``mutmut export-cicd-stats`` and its badge):
+killed and timed-out mutants over all mutants tried, so a mutant in a function
+that no selected test reaches ("no tests") counts against the score. Mutants
+listed as equivalent in docs/mutation.md (``- `name` -- reason``) are reported
+separately and left out of the second score.
+
+    python3 scripts/mutation_report.py            # table per module
+    python3 scripts/mutation_report.py --survivors  # and every surviving mutant's name
+"""
+
+from __future__ import annotations
+
+import json
+import re
+import sys
+from collections import Counter
+from pathlib import Path
+
+#: the project whose mutants/ is read: the current folder (scripts/mutation.sh runs from the root)
+ROOT = Path.cwd()
+#: mutmut's exit codes (mutmut.stats.status_by_exit_code)
+KILLED, SURVIVED, NO_TESTS, TIMEOUT = {1, 3}, {0}, {5, 33}, {36, 24, -24, 152, 255}
+
+
+def equivalent_names(doc: Path = ROOT / "docs" / "mutation.md") -> set[str]:
+    """Mutant names listed as equivalent in the report (lines ``- `name` -- reason``)."""
+    if not doc.exists():
+        return set()
+    return set(re.findall(r"^- `([\w.ǁ]+__mutmut_\d+)`", doc.read_text(), flags=re.M))
+
+
+def results(root: Path = ROOT / "mutants") -> dict[str, dict[str, int | None]]:
+    out = {}
+    for meta in sorted(root.rglob("*.py.meta")):
+        module = str(meta.relative_to(root))[: -len(".meta")]
+        out[module] = json.loads(meta.read_text())["exit_code_by_key"]
+    return out
+
+
+def main() -> int:
+    equivalent = equivalent_names()
+    data = results()
+    if not data:
+        print("no results in mutants/: run scripts/mutation.sh first")
+        return 1
+    rows = []
+    total = Counter()
+    survivors = []
+    for module, codes in data.items():
+        c = Counter()
+        for name, code in codes.items():
+            kind = (
+                "killed"
+                if code in KILLED
+                else "timeout"
+                if code in TIMEOUT
+                else "survived"
+                if code in SURVIVED
+                else "no tests"
+                if code in NO_TESTS
+                else "not run"
+                if code is None
+                else "other"
+            )
+            c[kind] += 1
+            if kind in ("survived", "no tests"):
+                if name in equivalent:
+                    c["equivalent"] += 1
+                else:
+                    survivors.append((name, kind))
+        total.update(c)
+        rows.append((module, c))
+    rows.append(("all", total))
+    print(
+        f"{'module':24} {'mutants':>7} {'killed':>7} {'timeout':>7} {'survived':>8} "
+        f"{'no tests':>8} {'not run':>7} {'equiv.':>6} {'score':>6} {'excl. eq.':>9}"
+    )
+    for module, c in rows:
+        n = sum(c[k] for k in ("killed", "timeout", "survived", "no tests", "other", "not run"))
+        tried = n - c["not run"]
+        caught = c["killed"] + c["timeout"]
+        score = 100 * caught / tried if tried else float("nan")
+        net = tried - c["equivalent"]
+        score_eq = 100 * caught / net if net else float("nan")
+        print(
+            f"{module:24} {n:7d} {c['killed']:7d} {c['timeout']:7d} {c['survived']:8d} "
+            f"{c['no tests']:8d} {c['not run']:7d} {c['equivalent']:6d} {score:5.1f}% "
+            f"{score_eq:8.1f}%"
+        )
+    if "--survivors" in sys.argv:
+        for name, kind in survivors:
+            print(f"{kind:9} {name}")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
