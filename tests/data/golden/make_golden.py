@@ -1,7 +1,9 @@
 """Record what every example and benchmark plan gives, to hold a restructuring to it.
 
 Run on the code before the package layout was changed (main at 2511b9f, the flat
-``wzq/`` of 25 modules) to store what every output was then:
+``wzq/`` of 25 modules) to store what every output was then; recorded again after
+the merge of the mutation-testing work, whose one intended change is the caution
+line on every Charts sheet (one more cell per workbook, nothing else moved):
 
     python3 tests/data/golden/make_golden.py
 
