@@ -328,11 +328,17 @@ def _first_failure_end(g: _Grid, ok: np.ndarray) -> int:
     return int(g.hour_end[int(np.argmin(ok))])
 
 
-def _allowed(g: _Grid, exhaustive: bool = False) -> tuple[np.ndarray, _Eval]:
-    """``allowed[s, e]``: the closure ``[s, e)`` keeps every hour within the limits."""
+def _allowed(
+    g: _Grid, exhaustive: bool = False, known: np.ndarray | None = None
+) -> tuple[np.ndarray, _Eval]:
+    """``allowed[s, e]``: the closure ``[s, e)`` keeps every hour within the limits.
+
+    ``known``: the table found before for the same inputs (a cache), used as it is."""
     n = g.n
-    allowed = np.zeros((n, n + 1), dtype=bool)
     base = _evaluate(g, 0, 0)
+    if known is not None:
+        return known, base
+    allowed = np.zeros((n, n + 1), dtype=bool)
     th = g.thresholds
     if (
         th.max_queue_length is None
@@ -684,6 +690,7 @@ def find_windows(
     queue_length: LengthFn | None = None,
     exhaustive: bool = False,
     approach: Approach | None = None,
+    known: Sequence[np.ndarray] | None = None,
 ) -> WindowsResult:
     """Every closure period that keeps the whole run within the limits, per configuration.
 
@@ -704,6 +711,11 @@ def find_windows(
             (:mod:`wzq.engine.approach`), and the limit ``queue_must_not_pass`` is
             checked. Hourly ramp flows must cover every demand searched (one per
             hour); for typical days give ramp flows as a share of the mainline.
+        known: the ``allowed`` tables a search of the same inputs found before (one
+            per window set, day type by day type and configuration by configuration, as
+            :attr:`WindowsResult.sets` lists them), used in place of the search; the
+            caller vouches that the inputs are the same (a cache keyed by them). A
+            table of the wrong shape, or a list of the wrong length, is not used.
 
     Raises:
         PlanError: the inputs cannot be searched (each problem says where and what to do).
@@ -738,10 +750,15 @@ def find_windows(
     ):
         notes.append("no limits are set, so every closure passes; enter the agency's limits")
     sets: list[WindowSet] = []
+    if known is not None and len(known) != len(day_types) * len(configs):
+        known = None
     for day in day_types:
         in_full_note = False
         for config in configs:
             g = _grid(site, model, day.demand, thresholds, config, options, length_fn, approach)
+            table = None if known is None else known[len(sets)]
+            if table is not None and (table.shape != (g.n, g.n + 1) or table.dtype != bool):
+                table = None
             # Newell's construction holds flows above the approach's capacity back beyond
             # its upstream end; there the trajectory is not a function of the recent past
             # alone, so the search's shortcuts are off and every candidate is run in full.
@@ -752,7 +769,7 @@ def find_windows(
                     f"{day.name}: demand or a closure's capacity exceeds the approach's own "
                     "capacity, so every candidate closure was run in full (slower)"
                 )
-            allowed, base = _allowed(g, in_full)
+            allowed, base = _allowed(g, in_full, table)
             failing = tuple(
                 day.demand.start + dt.timedelta(seconds=int(g.first[h]) * day.demand.interval_s)
                 for h in np.flatnonzero(~base.ok)
@@ -849,8 +866,10 @@ def plan_windows(
     barrier: Barrier = "soft",
     typical: bool = False,
     exhaustive: bool = False,
+    known: Sequence[np.ndarray] | None = None,
 ) -> WindowsResult:
-    """:func:`find_windows` for a plan's site, demand, limits, options and costs.
+    """:func:`find_windows` for a plan's site, demand, limits, options and costs
+    (``known``: tables found before for the same inputs, as there).
 
     The plan's own closures are not used: the search places the closure.
     """
@@ -868,6 +887,7 @@ def plan_windows(
         costs=plan.costs,
         exhaustive=exhaustive,
         approach=plan.approach,
+        known=known,
     )
 
 

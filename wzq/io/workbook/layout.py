@@ -66,6 +66,7 @@ __all__ = [
     "WINDOWS",
     "YES_NO_WORDS",
     "Choices",
+    "marked_sheets",
     "word_for",
     "written_sheets",
 ]
@@ -232,7 +233,11 @@ MARKER_SEPARATOR = "|"
 def written_sheets(book) -> list[str]:
     """The sheets the marker says wzq wrote (empty for a workbook never run); ``book``
     is an openpyxl workbook."""
-    dn = book.defined_names.get(MARKER_NAME)
+    return marked_sheets(book.defined_names.get(MARKER_NAME))
+
+
+def marked_sheets(dn) -> list[str]:
+    """The sheet names held by the marker's defined name ``dn`` (``None``: no marker)."""
     if dn is None or not dn.attr_text:
         return []
     text = dn.attr_text.strip()

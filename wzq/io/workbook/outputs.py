@@ -28,6 +28,7 @@ from wzq.io.workbook.pictures import place_space_time, space_time_picture
 from wzq.io.workbook.results_sheet import write_results_sheet
 from wzq.io.workbook.run_log_sheet import write_run_log
 from wzq.io.workbook.summary_sheet import write_summary_sheet
+from wzq.io.workbook.windows_cache import cached_plan_windows
 from wzq.io.workbook.windows_sheet import write_windows_sheet
 from wzq.io.workbook.writer import (
     CHARTS,
@@ -74,7 +75,7 @@ def decide_outputs(
     return Outputs(result, options.closure_windows if windows is None else windows, picture)
 
 
-def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
+def _windows_sheet(book: Workbook, result: Result, wanted: bool, cache: bool) -> None:
     """The allowable closure hours of each configuration on this plan's demand."""
     if not wanted:
         put_text(
@@ -93,8 +94,10 @@ def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
             book[layout.WINDOWS], 1, 1, too_long_text(len(d.flows_veh_h), d.interval_s, option)
         )
         return
-    # replaces the empty sheet made by replace_sheets, at the same position
-    write_windows_sheet(book, plan_windows(result.plan), result.plan)
+    # replaces the empty sheet made by replace_sheets, at the same position; with ``cache``
+    # the search comes from the workbook's cache when its inputs are those of the last run
+    found = cached_plan_windows(result.plan, book) if cache else plan_windows(result.plan)
+    write_windows_sheet(book, found, result.plan)
 
 
 def write_outputs(
@@ -104,12 +107,15 @@ def write_outputs(
     source: str = "",
     run_time: str | None = None,
     notes: Sequence[str] = (),
+    cache: bool = False,
 ) -> dict[str, TableRef]:
     """Replace wzq's output sheets in ``book`` with those of ``outputs``, the picture
     placed on the Charts sheet.
 
     Touches nothing else: no input cell, style, name or sheet of the user's.
     ``run_time`` (UTC, ISO 8601) defaults to now; ``notes`` go to the Run log.
+    With ``cache`` the closure-window search is taken from, or kept in, the
+    workbook's cache sheet (:mod:`wzq.io.workbook.windows_cache`).
     Returns where the Results and Permit tables sit.
     """
     result = outputs.result
@@ -136,7 +142,7 @@ def write_outputs(
         run_time=run_time,
         notes=notes,
     )
-    _windows_sheet(book, result, outputs.windows)
+    _windows_sheet(book, result, outputs.windows, cache)
     if outputs.picture is not None:
         place_space_time(book, outputs.picture)
     select(book, sheets[SUMMARY])

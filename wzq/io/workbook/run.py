@@ -104,7 +104,8 @@ def _load(path: Path) -> tuple[Workbook, bytes, PackageReport, FileState]:
         raise PlanError([Problem(str(path), "no such file; check the path")])
     data, report = read_checked(path)
     state = FileState.of(path, data)  # to see, before replacing it, whether it changed since
-    book = book_from_bytes(data, path, keep_links=True, rich_text=True)
+    # wzq's own output sheets are replaced, so they are not parsed
+    book = book_from_bytes(data, path, skip_outputs=True, keep_links=True, rich_text=True)
     return book, data, report, state
 
 
@@ -275,15 +276,15 @@ def run_to(
     result = outputs.result  # with the space-time simulation's warnings, as every sheet shows
 
     def write(book: Workbook, notes: list[str]) -> None:
-        write_outputs(book, outputs, source=src.name, run_time=run_time, notes=notes)
+        write_outputs(book, outputs, source=src.name, run_time=run_time, notes=notes, cache=True)
 
     def to_copy(why: str) -> RunOutcome:
         copy = copy_path(src)
         notes.append(
             f"{why}, so it was left unchanged and the results were written to a copy: {copy.name}"
         )
-        fresh = book_from_bytes(data, src, keep_links=True, rich_text=True)  # a saved book's
-        write(fresh, notes)  # pictures cannot be saved again by openpyxl
+        fresh = book_from_bytes(data, src, skip_outputs=True, keep_links=True, rich_text=True)
+        write(fresh, notes)  # (a saved book's pictures cannot be saved again by openpyxl)
         save_atomic(WithSavedResults(fresh, data), copy)  # formulas keep their results
         return RunOutcome(result, copy, notes, True)
 

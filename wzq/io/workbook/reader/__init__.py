@@ -39,6 +39,7 @@ from wzq.io.workbook.reader.cells import CellReader
 from wzq.io.workbook.reader.closures import ClosureReader
 from wzq.io.workbook.reader.demand import DemandReader
 from wzq.io.workbook.reader.plan import PlanReader
+from wzq.io.workbook.reader.skip import load_skipping_outputs
 from wzq.io.workbook.reader.tables import TableReader
 from wzq.io.workbook.reader.values import WORKBOOK_SUFFIXES
 from wzq.io.workbook.safety import read_checked
@@ -65,7 +66,7 @@ def read_plan(path: str | Path) -> Plan:
     """
     path = Path(path)
     data = read_workbook_bytes(path)
-    wb = book_from_bytes(data, path)
+    wb = book_from_bytes(data, path, skip_outputs=True)  # wzq's output sheets are not read
     return read_plan_from_book(wb, path.name, path, data=data)
 
 
@@ -81,18 +82,23 @@ def read_workbook_bytes(path: Path) -> bytes:
     return data
 
 
-def book_from_bytes(data: bytes, path: Path, **options: Any) -> Workbook:
+def book_from_bytes(
+    data: bytes, path: Path, *, skip_outputs: bool = False, **options: Any
+) -> Workbook:
     """Parse checked workbook bytes with openpyxl; every way it can fail is a :class:`PlanError`.
 
     ``options`` go to :func:`openpyxl.load_workbook` (``keep_vba`` defaults to
-    whether ``path`` is an ``.xlsm``).
+    whether ``path`` is an ``.xlsm``). With ``skip_outputs`` the sheets wzq wrote
+    are left unparsed, empty stand-ins in their place (:mod:`.skip`): for reading a
+    plan, and for a run, which replaces them.
     """
     options.setdefault("keep_vba", path.suffix.lower() == ".xlsm")
     where = path.name
+    load = load_skipping_outputs if skip_outputs else load_workbook
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")  # openpyxl warns about extensions it drops on read
-            return load_workbook(io.BytesIO(data), **options)
+            return load(io.BytesIO(data), **options)
     except DefusedXmlException:
         raise PlanError(
             "a part of this workbook declares XML entities, which workbooks never need; refused",

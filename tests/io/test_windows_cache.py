@@ -1,0 +1,157 @@
+"""The closure-window search kept in the workbook (:mod:`wzq.io.workbook.windows_cache`).
+
+A run with the same site, demand, limits and options as the last one takes the
+search from the workbook; any change of those searches again; a cache whose cells
+were changed is not used. Whatever the cache, the Closure windows sheet is the one
+a fresh search gives.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import shutil
+from pathlib import Path
+
+import numpy as np
+import openpyxl
+import pytest
+from workbook_helpers import fill_template, set_named, table_cell
+
+from wzq.engine import windows as engine_windows
+from wzq.engine.plan import Thresholds
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout
+from wzq.io.workbook import windows_cache as wc
+from wzq.io.workbook.run import run_workbook
+
+EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
+RUN_TIME = "2027-01-01T00:00:00Z"
+
+
+def _plan():
+    """The Ashgrove week with the closure-window search on (limits: 1 mi, 15 min, 1.0)."""
+    plan = load_plan(EXAMPLES / "ashgrove_bypass_week.json")
+    return dataclasses.replace(
+        plan, options=dataclasses.replace(plan.options, closure_windows=True)
+    )
+
+
+@pytest.fixture(scope="module")
+def filled(tmp_path_factory) -> Path:
+    return fill_template(_plan(), tmp_path_factory.mktemp("cache") / "plan.xlsx")
+
+
+@pytest.fixture
+def searches(monkeypatch) -> list[bool]:
+    """Records, for every window search of a run, whether it was given cached tables."""
+    seen: list[bool] = []
+    real = wc.plan_windows
+
+    def spy(plan, **kw):
+        seen.append(kw.get("known") is not None)
+        return real(plan, **kw)
+
+    monkeypatch.setattr(wc, "plan_windows", spy)
+    return seen
+
+
+def _windows_cells(path: Path) -> list:
+    ws = openpyxl.load_workbook(path)[layout.WINDOWS]
+    return [c.value for row in ws.iter_rows() for c in row]
+
+
+def test_tables_round_trip_through_the_sheet():
+    rng = np.random.default_rng(3)
+    tables = [rng.random((50, 51)) < 0.3 for _ in range(3)]
+    book = openpyxl.Workbook()
+    wc.write_tables(book, "k" * 64, tables)
+    back = wc.read_tables(book, "k" * 64, 50)
+    assert back is not None and all(np.array_equal(a, b) for a, b in zip(back, tables))
+    assert wc.read_tables(book, "j" * 64, 50) is None  # other inputs
+    assert wc.read_tables(book, "k" * 64, 49) is None  # another length of demand
+    assert book[wc.CACHE_SHEET].sheet_state == "veryHidden"
+
+
+def test_the_key_follows_what_the_search_depends_on():
+    plan = _plan()
+    key = wc.windows_key(plan)
+    moved = dataclasses.replace(plan, closures=plan.closures[:1])
+    assert wc.windows_key(moved) == key  # the search never uses the plan's closures
+    tighter = dataclasses.replace(
+        plan, thresholds=dataclasses.replace(plan.thresholds, max_average_delay=600.0)
+    )
+    assert wc.windows_key(tighter) != key
+    flows = plan.demand.flows_veh_h.copy()
+    flows[30] += 1.0
+    busier = dataclasses.replace(plan, demand=dataclasses.replace(plan.demand, flows_veh_h=flows))
+    assert wc.windows_key(busier) != key
+
+
+@pytest.mark.slow  # whole runs of a week with the search
+def test_a_second_run_takes_the_search_from_the_workbook(filled, tmp_path, searches):
+    path = shutil.copy(filled, tmp_path / "plan.xlsx")
+    run_workbook(path, run_time=RUN_TIME)
+    first = _windows_cells(path)
+    book = openpyxl.load_workbook(path)
+    assert book[wc.CACHE_SHEET].sheet_state == "veryHidden"
+    lanes = table_cell(book, layout.CLOSURE_TABLE, 0, layout.CLOSURE_COLUMNS[3])
+    lanes.value = 2 if lanes.value == 1 else 1  # the closures change, the windows cannot
+    book.save(path)
+    run_workbook(path, run_time=RUN_TIME)
+    assert searches == [False, True]
+    assert _windows_cells(path) == first
+    fresh = tmp_path / "fresh.xlsx"
+    shutil.copy(filled, fresh)
+    run_workbook(fresh, run_time=RUN_TIME)  # searched from scratch
+    assert _windows_cells(fresh) == first
+
+
+@pytest.mark.slow  # whole runs of a week with the search
+def test_a_changed_limit_searches_again(filled, tmp_path, searches):
+    path = shutil.copy(filled, tmp_path / "plan.xlsx")
+    run_workbook(path, run_time=RUN_TIME)
+    book = openpyxl.load_workbook(path)
+    set_named(book, "limit_average_delay", 5)  # minutes: far fewer hours allowed
+    book.save(path)
+    run_workbook(path, run_time=RUN_TIME)
+    assert searches == [False, False]
+    plan = dataclasses.replace(
+        _plan(),
+        thresholds=Thresholds(
+            max_queue_length=_plan().thresholds.max_queue_length,
+            max_average_delay=300.0,
+            max_demand_capacity=_plan().thresholds.max_demand_capacity,
+        ),
+    )
+    other = fill_template(plan, tmp_path / "other.xlsx")
+    run_workbook(other, run_time=RUN_TIME)
+    assert _windows_cells(path) == _windows_cells(other)
+
+
+@pytest.mark.slow  # whole runs of a week with the search
+def test_a_cache_whose_cells_were_changed_is_not_used(filled, tmp_path, searches):
+    path = shutil.copy(filled, tmp_path / "plan.xlsx")
+    run_workbook(path, run_time=RUN_TIME)
+    first = _windows_cells(path)
+    book = openpyxl.load_workbook(path)
+    ws = book[wc.CACHE_SHEET]
+    text = ws["A3"].value
+    ws["A3"] = text[:-8] + ("A" * 8 if not text.endswith("A" * 8) else "B" * 8)
+    book.save(path)
+    run_workbook(path, run_time=RUN_TIME)
+    assert searches == [False, False]
+    assert _windows_cells(path) == first
+
+
+def test_cached_tables_are_the_search_itself():
+    plan = _plan()
+    found = engine_windows.plan_windows(plan)
+    again = engine_windows.plan_windows(plan, known=[s.allowed for s in found.sets])
+    for a, b in zip(found.sets, again.sets, strict=True):
+        assert np.array_equal(a.allowed, b.allowed)
+        assert a.longest(3) == b.longest(3)
+        s, e = a.longest(1)[0]
+        assert a.added_delay_veh_h(s, e) == b.added_delay_veh_h(s, e)
+    wrong = [np.zeros((3, 4), dtype=bool)] * len(found.sets)  # not this demand's shape
+    checked = engine_windows.plan_windows(plan, known=wrong)
+    assert all(np.array_equal(a.allowed, b.allowed) for a, b in zip(found.sets, checked.sets))

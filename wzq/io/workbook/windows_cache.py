@@ -1,0 +1,112 @@
+"""The closure-window search kept in the workbook, keyed by what it depends on.
+
+The search for allowable closure windows (:func:`wzq.engine.windows.plan_windows`)
+depends on the site, the demand, the limits, the options and the approach, never on
+the plan's own closures; it takes 0.1-3 s for a week or a month of demand, which a
+designer trying closure times would otherwise pay on every press. Its answer (one
+``allowed`` table per configuration, bits) is kept, compressed, on a very hidden
+sheet of wzq's (:data:`CACHE_SHEET`, a few cells), with the SHA-256 fingerprint of
+those inputs and of the wzq version, and the SHA-256 of the tables themselves. A
+later run with the same fingerprint uses the tables instead of searching (the
+delay and cost of each window are computed again as always); any change of those
+inputs, of wzq's version, or of the cells themselves means a new search. The sheet
+is not an output sheet: it is not in the marker of the sheets wzq wrote, the plan
+reader ignores it as it ignores every sheet that is not an input, and it sits just
+before the output sheets.
+"""
+
+from __future__ import annotations
+
+import base64
+import hashlib
+import json
+import zlib
+from collections.abc import Sequence
+
+import numpy as np
+from openpyxl.workbook.workbook import Workbook
+
+import wzq
+from wzq.engine.plan import Plan
+from wzq.engine.windows import WindowsResult, plan_windows
+from wzq.io.jsonplan import plan_to_dict
+from wzq.io.workbook import layout
+from wzq.io.workbook.writer import put_text
+
+__all__ = ["CACHE_SHEET", "cached_plan_windows", "read_tables", "windows_key", "write_tables"]
+
+#: The very hidden sheet that holds the cache.
+CACHE_SHEET = "wzq cache"
+#: Changed whenever what is stored changes meaning.
+FORMAT = 1
+#: Characters of base64 per cell (a cell holds 32,767).
+CHUNK = 32_000
+_TITLE = "wzq keeps the closure-window search here, keyed by its inputs; it rebuilds it."
+
+
+def windows_key(plan: Plan) -> str:
+    """SHA-256 of everything the window search of ``plan`` depends on: the plan's inputs
+    but its closures and descriptive text, wzq's version and this cache's format."""
+    data = plan_to_dict(plan)
+    for key in ("closures", "meta"):
+        data.pop(key, None)
+    data["cache"] = {"wzq": wzq.__version__, "format": FORMAT, "search": "plan_windows"}
+    text = json.dumps(data, sort_keys=True, separators=(",", ":"), default=str)
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def read_tables(book: Workbook, key: str, n: int) -> list[np.ndarray] | None:
+    """The tables stored under ``key`` (each ``n`` by ``n + 1``), or ``None`` when there
+    are none, they are for other inputs, or the cells do not hold them intact."""
+    if CACHE_SHEET not in book.sheetnames:
+        return None
+    ws = book[CACHE_SHEET]
+    try:
+        if ws["A2"].value != "windows" or ws["B2"].value != key:
+            return None
+        count, digest = int(ws["D2"].value), ws["C2"].value
+        text = "".join(str(v) for (v,) in ws.iter_rows(min_row=3, max_col=1, values_only=True) if v)
+        packed = zlib.decompress(base64.b64decode(text, validate=True))
+    except (TypeError, ValueError, zlib.error):
+        return None
+    if hashlib.sha256(packed).hexdigest() != digest:
+        return None
+    size = (n * (n + 1) + 7) // 8
+    if count < 1 or len(packed) != count * size:
+        return None
+    return [
+        np.unpackbits(np.frombuffer(packed, np.uint8, size, i * size), count=n * (n + 1))
+        .astype(bool)
+        .reshape(n, n + 1)
+        for i in range(count)
+    ]
+
+
+def write_tables(book: Workbook, key: str, tables: Sequence[np.ndarray]) -> None:
+    """Keep ``tables`` under ``key`` on the cache sheet (made, very hidden, just before
+    the output sheets when missing; its cells replaced when present)."""
+    packed = b"".join(np.packbits(t.ravel()).tobytes() for t in tables)
+    text = base64.b64encode(zlib.compress(packed, 6)).decode("ascii")
+    if CACHE_SHEET in book.sheetnames:
+        book.remove(book[CACHE_SHEET])
+    outputs = [i for i, ws in enumerate(book.worksheets) if ws.title in layout.OUTPUT_SHEETS]
+    ws = book.create_sheet(CACHE_SHEET, min(outputs, default=len(book.worksheets)))
+    ws.sheet_state = "veryHidden"
+    for col, value in enumerate(
+        ("windows", key, hashlib.sha256(packed).hexdigest(), len(tables)), start=1
+    ):
+        put_text(ws, 2, col, value)
+    put_text(ws, 1, 1, _TITLE)
+    for i in range(0, len(text), CHUNK):  # text always (a chunk may start with '=')
+        put_text(ws, 3 + i // CHUNK, 1, text[i : i + CHUNK])
+
+
+def cached_plan_windows(plan: Plan, book: Workbook) -> WindowsResult:
+    """:func:`plan_windows` of ``plan``, from ``book``'s cache when it holds this search's
+    tables, else searched and kept there for the next run."""
+    key = windows_key(plan)
+    known = read_tables(book, key, len(plan.demand.flows_veh_h))
+    found = plan_windows(plan, known=known)
+    if known is None or len(known) != len(found.sets):
+        write_tables(book, key, [s.allowed for s in found.sets])
+    return found
