@@ -46,11 +46,11 @@ from wzq.io.live import backend as live
 from wzq.io.live.charts import Ref, SeriesPlan, series_formula, source_group
 from wzq.io.live.sheets import excel_literal, rectangles
 from wzq.io.workbook import layout
-from wzq.io.workbook.windows_cache import CACHE_SHEET
 from wzq.io.workbook.link import ENTRY_MARKER, entry_path, suggest_name
 from wzq.io.workbook.pictures import WIDTH_PX
 from wzq.io.workbook.reader import read_plan, read_plan_from_book
 from wzq.io.workbook.run import run_workbook
+from wzq.io.workbook.windows_cache import CACHE_SHEET
 from wzq.io.workbook.writer import RESULTS_HEADER_ROW
 
 pytestmark = pytest.mark.slow  # workbooks, reports or processes end to end

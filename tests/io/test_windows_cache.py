@@ -66,7 +66,7 @@ def test_tables_round_trip_through_the_sheet():
     book = openpyxl.Workbook()
     wc.write_tables(book, "k" * 64, tables)
     back = wc.read_tables(book, "k" * 64, 50)
-    assert back is not None and all(np.array_equal(a, b) for a, b in zip(back, tables))
+    assert back is not None and all(np.array_equal(a, b) for a, b in zip(back, tables, strict=True))
     assert wc.read_tables(book, "j" * 64, 50) is None  # other inputs
     assert wc.read_tables(book, "k" * 64, 49) is None  # another length of demand
     assert book[wc.CACHE_SHEET].sheet_state == "veryHidden"
@@ -154,4 +154,6 @@ def test_cached_tables_are_the_search_itself():
         assert a.added_delay_veh_h(s, e) == b.added_delay_veh_h(s, e)
     wrong = [np.zeros((3, 4), dtype=bool)] * len(found.sets)  # not this demand's shape
     checked = engine_windows.plan_windows(plan, known=wrong)
-    assert all(np.array_equal(a.allowed, b.allowed) for a, b in zip(found.sets, checked.sets))
+    assert all(
+        np.array_equal(a.allowed, b.allowed) for a, b in zip(found.sets, checked.sets, strict=True)
+    )
