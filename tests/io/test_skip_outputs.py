@@ -18,10 +18,12 @@ import openpyxl
 import pytest
 
 from wzq import cli
+from wzq.engine.plan import PlanError
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.workbook import layout
-from wzq.io.workbook.reader import book_from_bytes, read_plan
+from wzq.io.workbook.reader import book_from_bytes, load_book, read_plan
 from wzq.io.workbook.run import run_workbook
+from wzq.io.workbook.safety import output_sheet_parts, read_checked
 
 EXAMPLE = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.xlsx"
 RUN_TIME = "2027-01-01T00:00:00Z"
@@ -116,3 +118,76 @@ def test_a_sheet_of_the_users_with_an_output_name_is_still_read_and_refused(tmp_
     skipped = book_from_bytes(path.read_bytes(), path, skip_outputs=True)
     assert skipped[layout.RESULTS].max_row > 1  # parsed: it is the user's
     assert cli.main(["check", str(path)]) == 2
+
+
+# --- the pre-parse checks leave out exactly the parts that are never parsed -----------------
+
+#: A sheet part that declares an XML entity: refused wherever it is parsed or scanned.
+ENTITY = (
+    b'<?xml version="1.0" encoding="UTF-8"?><!DOCTYPE worksheet [<!ENTITY e "x">]>'
+    b'<worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">'
+    b"<sheetData/></worksheet>"
+)
+
+
+def _parts_left_out(data: bytes) -> set[str]:
+    with zipfile.ZipFile(io.BytesIO(data)) as zf:
+        return output_sheet_parts(zf)
+
+
+def test_the_parts_left_out_are_the_output_sheets_the_marker_names():
+    data = EXAMPLE.read_bytes()
+    parts = _sheet_parts(data)
+    assert _parts_left_out(data) == {parts[name] for name in layout.OUTPUT_SHEETS}
+    assert parts[layout.SITE] not in _parts_left_out(data)
+
+
+def test_a_part_another_relationship_names_is_checked_after_all(tmp_path):
+    data = EXAMPLE.read_bytes()
+    results = _sheet_parts(data)[layout.RESULTS]
+    with zipfile.ZipFile(io.BytesIO(data)) as zf:
+        rels = next(n for n in zf.namelist() if n.startswith("xl/worksheets/_rels/"))
+        text = zf.read(rels)
+    extra = b'<Relationship Id="rIdX" Type="x" Target="%s"/>' % results.rsplit("/")[-1].encode()
+    odd = _with_part(
+        EXAMPLE, tmp_path / "odd.xlsx", rels, text.replace(b"</Rel", extra + b"</Rel", 1)
+    )
+    left_out = _parts_left_out(odd.read_bytes())
+    assert results not in left_out and left_out  # the others are still left out
+
+
+def test_a_hostile_output_part_is_never_opened_by_the_commands_that_skip_it(tmp_path):
+    part = _sheet_parts(EXAMPLE.read_bytes())[layout.RESULTS]
+    path = _with_part(EXAMPLE, tmp_path / "plan.xlsx", part, ENTITY)
+    with pytest.raises(PlanError, match="entities"):
+        read_checked(path)  # scanned in full: refused
+    with pytest.raises(PlanError, match="entities"):
+        load_book(path)  # parsed in full: refused
+    read_checked(path, skip_outputs=True)  # left out: neither inflated nor parsed
+    assert plan_to_dict(read_plan(path)) == plan_to_dict(read_plan(EXAMPLE))
+    run_workbook(path, run_time=RUN_TIME)  # replaced, never parsed
+    assert b"ENTITY" not in zipfile.ZipFile(path).read(part)
+
+
+def test_a_hostile_input_part_is_still_refused_on_the_ways_that_skip_outputs(tmp_path):
+    part = _sheet_parts(EXAMPLE.read_bytes())[layout.SITE]
+    path = _with_part(EXAMPLE, tmp_path / "plan.xlsx", part, ENTITY)
+    before = path.read_bytes()
+    for way in (lambda: read_checked(path, skip_outputs=True), lambda: read_plan(path)):
+        with pytest.raises(PlanError, match="entities"):
+            way()
+    with pytest.raises(PlanError, match="entities"):
+        run_workbook(path, run_time=RUN_TIME)
+    assert path.read_bytes() == before
+
+
+def test_a_user_sheet_with_an_output_name_is_scanned(tmp_path):
+    book = openpyxl.load_workbook(EXAMPLE)
+    del book.defined_names[layout.MARKER_NAME]  # as if wzq never wrote these sheets
+    plain = tmp_path / "mine.xlsx"
+    book.save(plain)
+    assert _parts_left_out(plain.read_bytes()) == set()
+    part = _sheet_parts(plain.read_bytes())[layout.RESULTS]
+    path = _with_part(plain, tmp_path / "hostile.xlsx", part, ENTITY)
+    with pytest.raises(PlanError, match="entities"):
+        read_checked(path, skip_outputs=True)

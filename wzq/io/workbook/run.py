@@ -102,7 +102,7 @@ def load_book(path: str | Path) -> Workbook:
 def _load(path: Path) -> tuple[Workbook, bytes, PackageReport, FileState]:
     if not path.exists():
         raise PlanError([Problem(str(path), "no such file; check the path")])
-    data, report = read_checked(path)
+    data, report = read_checked(path, skip_outputs=True)  # the output sheets: never parsed
     state = FileState.of(path, data)  # to see, before replacing it, whether it changed since
     # wzq's own output sheets are replaced, so they are not parsed
     book = book_from_bytes(data, path, skip_outputs=True, keep_links=True, rich_text=True)

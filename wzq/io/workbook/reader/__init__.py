@@ -65,20 +65,21 @@ def read_plan(path: str | Path) -> Plan:
     bytes that are parsed.
     """
     path = Path(path)
-    data = read_workbook_bytes(path)
+    data = read_workbook_bytes(path, skip_outputs=True)
     wb = book_from_bytes(data, path, skip_outputs=True)  # wzq's output sheets are not read
     return read_plan_from_book(wb, path.name, path, data=data)
 
 
-def read_workbook_bytes(path: Path) -> bytes:
+def read_workbook_bytes(path: Path, *, skip_outputs: bool = False) -> bytes:
     """The file's bytes after the pre-parse checks (:func:`wzq.io.workbook.safety.read_checked`:
-    empty, not a workbook, old ``.xls``, encrypted, zip bombs, cell limit, XML entities)."""
+    empty, not a workbook, old ``.xls``, encrypted, zip bombs, cell limit, XML entities);
+    ``skip_outputs`` leaves out wzq's output sheets, which must then not be parsed."""
     if path.suffix.lower() not in WORKBOOK_SUFFIXES and not path.is_dir():
         raise PlanError(
             f"'{path.suffix}' files are not read; save the workbook as .xlsx or .xlsm",
             where=path.name,
         )
-    data, _ = read_checked(path)
+    data, _ = read_checked(path, skip_outputs=skip_outputs)
     return data
 
 

@@ -5,7 +5,9 @@ every run and never reads them back, yet they hold most of a results workbook's
 cells (a year of hourly results is some 280,000 cells, ten times the inputs).
 :func:`load_skipping_outputs` loads a workbook as :func:`openpyxl.load_workbook`
 does, except that each sheet the marker (:data:`~wzq.io.workbook.layout.MARKER_NAME`)
-says wzq wrote is left unparsed: an empty sheet of the same name, state and
+says wzq wrote is left unparsed (exactly the parts
+:func:`wzq.io.workbook.safety.output_sheet_parts` names, which the pre-parse checks
+leave uninflated on these ways in): an empty sheet of the same name, state and
 position stands in for it, so sheet indices (the scope of sheet-level defined
 names), the active sheet and the order of sheets are as openpyxl would give
 them, and the writer replaces the stand-ins as it replaced the parsed sheets.
@@ -13,7 +15,7 @@ A sheet of the user's that merely carries an output sheet's name is not in the
 marker and is parsed (the reader then refuses it by name).
 
 The package-level guarantees do not depend on the parse: the pre-parse checks
-(:mod:`wzq.io.workbook.safety`) read every part's bytes, the comparison of the
+(:mod:`wzq.io.workbook.safety`) read every other part's bytes, the comparison of the
 package before and after a save (:mod:`wzq.io.workbook.kept`) leaves wzq's own
 sheets out, and the formula results put back after a save
 (:mod:`wzq.io.workbook.formula_values`) are those of the user's sheets only.
@@ -27,7 +29,7 @@ from openpyxl.reader.excel import ExcelReader
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
-from wzq.io.workbook import layout as L
+from wzq.io.workbook.safety import output_sheet_parts
 
 __all__ = ["load_skipping_outputs"]
 
@@ -36,9 +38,9 @@ class _SkippingReader(ExcelReader):
     """openpyxl's reader with wzq's output sheets left unparsed (empty stand-ins)."""
 
     def read_worksheets(self) -> None:
-        names = self.parser.defined_names.by_sheet().get("global", {})
-        skip = set(L.marked_sheets(names.get(L.MARKER_NAME))) & set(L.OUTPUT_SHEETS)
+        unread = output_sheet_parts(self.archive)  # the parts the pre-parse checks left out
         listed = list(self.parser.find_sheets())
+        skip = {sheet.name for sheet, rel in listed if rel.target in unread}
         if not skip:
             return super().read_worksheets()
         kept = [(sheet, rel) for sheet, rel in listed if sheet.name not in skip]
