@@ -9,6 +9,7 @@ a fresh search gives.
 from __future__ import annotations
 
 import dataclasses
+import datetime as dt
 import shutil
 from pathlib import Path
 
@@ -17,9 +18,11 @@ import openpyxl
 import pytest
 from workbook_helpers import fill_template, set_named, table_cell
 
+import wzq
 from wzq.engine import windows as engine_windows
-from wzq.engine.plan import Thresholds
-from wzq.io.jsonplan import load_plan
+from wzq.engine.design_demand import CountHistory, DemandHistory, DemandRule
+from wzq.engine.plan import Approach, Landmark, Thresholds
+from wzq.io.jsonplan import load_plan, plan_to_dict
 from wzq.io.workbook import layout
 from wzq.io.workbook import windows_cache as wc
 from wzq.io.workbook.run import run_workbook
@@ -157,3 +160,63 @@ def test_cached_tables_are_the_search_itself():
     assert all(
         np.array_equal(a.allowed, b.allowed) for a, b in zip(found.sets, checked.sets, strict=True)
     )
+
+
+def _changed(plan, part: str, **values):
+    return dataclasses.replace(plan, **{part: dataclasses.replace(getattr(plan, part), **values)})
+
+
+#: One change of each kind of input the search depends on (the site, the demand, the
+#: limits, the options, the costs, the approach); each must give another key.
+CHANGES = {
+    "site: lanes": lambda p: _changed(p, "site", lanes=p.site.lanes + 1),
+    "site: speed, by a millionth": lambda p: _changed(
+        p, "site", work_zone_speed_limit=p.site.work_zone_speed_limit * (1 + 1e-9)
+    ),
+    "site: heavy vehicles": lambda p: _changed(p, "site", heavy_vehicle_share=0.09),
+    "demand: start": lambda p: _changed(p, "demand", start=p.demand.start + dt.timedelta(days=1)),
+    "limits: queue length": lambda p: _changed(
+        p, "thresholds", max_queue_length=p.thresholds.max_queue_length + 1.0
+    ),
+    "limits: demand/capacity": lambda p: _changed(p, "thresholds", max_demand_capacity=0.95),
+    "options: capacity drop": lambda p: _changed(
+        p, "options", capacity_drop=not p.options.capacity_drop
+    ),
+    "options: queue length method": lambda p: _changed(
+        p, "options", queue_length_method="shockwave"
+    ),
+    "costs: value of time": lambda p: _changed(p, "costs", car_value_per_person_h=20.0),
+    "approach: a landmark": lambda p: dataclasses.replace(
+        p, approach=Approach((Landmark("Tallow Brook bridge", 900.0),))
+    ),
+}
+
+
+@pytest.mark.parametrize("change", CHANGES)
+def test_each_kind_of_input_changes_the_key(change):
+    plan = _plan()
+    assert wc.windows_key(CHANGES[change](plan)) != wc.windows_key(plan)
+
+
+def test_wzq_version_and_search_code_change_the_key(monkeypatch):
+    plan = _plan()
+    key = wc.windows_key(plan)
+    monkeypatch.setattr(wzq, "__version__", wzq.__version__ + ".post1")
+    assert wc.windows_key(plan) != key
+    monkeypatch.undo()
+    monkeypatch.setattr(wc, "code_digest", lambda: "0" * 64)
+    assert wc.windows_key(plan) != key
+
+
+def test_demand_designed_from_a_count_history_keys_on_its_flows():
+    """A plan file names the count file, not the flows it gave; the key holds the flows."""
+    plan = _plan()
+    n = len(plan.demand.flows_veh_h)
+    counts = CountHistory(plan.demand.start - dt.timedelta(weeks=5), 3600, np.full((35, 24), 900.0))
+    history = DemandHistory(counts, DemandRule(), file="counts.csv")
+    a = dataclasses.replace(plan, history=history)
+    flows = plan.demand.flows_veh_h.copy()
+    flows[n // 2] += 0.5
+    b = dataclasses.replace(a, demand=dataclasses.replace(plan.demand, flows_veh_h=flows))
+    assert plan_to_dict(a)["demand"] == plan_to_dict(b)["demand"]  # the file cannot tell
+    assert wc.windows_key(a) != wc.windows_key(b)

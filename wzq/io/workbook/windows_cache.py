@@ -6,10 +6,11 @@ the plan's own closures; it takes 0.1-3 s for a week or a month of demand, which
 designer trying closure times would otherwise pay on every press. Its answer (one
 ``allowed`` table per configuration, bits) is kept, compressed, on a very hidden
 sheet of wzq's (:data:`CACHE_SHEET`, a few cells), with the SHA-256 fingerprint of
-those inputs and of the wzq version, and the SHA-256 of the tables themselves. A
-later run with the same fingerprint uses the tables instead of searching (the
-delay and cost of each window are computed again as always); any change of those
-inputs, of wzq's version, or of the cells themselves means a new search. The sheet
+those inputs, of wzq's version and of the search's code (:func:`windows_key`), and
+the SHA-256 of the tables themselves. A later run with the same fingerprint uses the
+tables instead of searching (the delay and cost of each window are computed again as
+always); any change of those inputs, of wzq's version or code, or of the cells
+themselves means a new search. The sheet
 is not an output sheet: it is not in the marker of the sheets wzq wrote, the plan
 reader ignores it as it ignores every sheet that is not an input, and it sits just
 before the output sheets.
@@ -22,18 +23,28 @@ import hashlib
 import json
 import zlib
 from collections.abc import Sequence
+from functools import lru_cache
+from pathlib import Path
 
 import numpy as np
 from openpyxl.workbook.workbook import Workbook
 
 import wzq
+from wzq import engine, models
 from wzq.engine.plan import Plan
 from wzq.engine.windows import WindowsResult, plan_windows
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.workbook import layout
 from wzq.io.workbook.writer import put_text
 
-__all__ = ["CACHE_SHEET", "cached_plan_windows", "read_tables", "windows_key", "write_tables"]
+__all__ = [
+    "CACHE_SHEET",
+    "cached_plan_windows",
+    "code_digest",
+    "read_tables",
+    "windows_key",
+    "write_tables",
+]
 
 #: The very hidden sheet that holds the cache.
 CACHE_SHEET = "wzq cache"
@@ -46,13 +57,40 @@ _TITLE = "wzq keeps the closure-window search here, keyed by its inputs; it rebu
 
 def windows_key(plan: Plan) -> str:
     """SHA-256 of everything the window search of ``plan`` depends on: the plan's inputs
-    but its closures and descriptive text, wzq's version and this cache's format."""
+    but its closures and descriptive text (the inputs as written to a plan file, and
+    exactly: every number of the site, limits, options, costs and approach, and the
+    demand's own flows, which a plan designed from a count history does not write),
+    wzq's version, the code of the search (:func:`code_digest`) and this cache's format."""
     data = plan_to_dict(plan)
     for key in ("closures", "meta"):
         data.pop(key, None)
-    data["cache"] = {"wzq": wzq.__version__, "format": FORMAT, "search": "plan_windows"}
+    d = plan.demand
+    flows = np.ascontiguousarray(d.flows_veh_h, dtype=np.float64)
+    data["exact"] = {
+        "inputs": [repr(x) for x in (plan.site, plan.thresholds, plan.options, plan.costs)],
+        "approach": repr(plan.approach),
+        "demand": [d.start.isoformat(), d.interval_s, hashlib.sha256(flows).hexdigest()],
+    }
+    data["cache"] = {
+        "wzq": wzq.__version__,
+        "code": code_digest(),
+        "format": FORMAT,
+        "search": "plan_windows",
+    }
     text = json.dumps(data, sort_keys=True, separators=(",", ":"), default=str)
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+@lru_cache(maxsize=1)
+def code_digest() -> str:
+    """SHA-256 of the engine's and the models' source: a change of the search's code
+    (even within one version, as while developing) means a new search."""
+    h = hashlib.sha256()
+    for package in (engine, models):
+        root = Path(package.__file__).parent
+        for f in sorted(root.rglob("*.py")):
+            h.update(f.relative_to(root).as_posix().encode() + b"\0" + f.read_bytes())
+    return h.hexdigest()
 
 
 def read_tables(book: Workbook, key: str, n: int) -> list[np.ndarray] | None:
