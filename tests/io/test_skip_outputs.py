@@ -94,6 +94,15 @@ def test_read_only_commands_do_not_parse_the_output_sheets(broken_results, capsy
     assert plan_to_dict(read_plan(broken_results)) == plan_to_dict(read_plan(EXAMPLE))
     assert cli.main(["check", str(broken_results)]) == 0
     assert cli.main(["show", str(broken_results)]) == 0
+    assert cli.main(["windows", str(broken_results)]) == 0
+    capsys.readouterr()
+
+
+@pytest.mark.slow  # a whole report
+def test_the_report_does_not_parse_the_output_sheets(broken_results, tmp_path, capsys):
+    out = tmp_path / "report.pdf"
+    assert cli.main(["report", str(broken_results), "-o", str(out)]) == 0
+    assert out.read_bytes().startswith(b"%PDF")
     capsys.readouterr()
 
 

@@ -19,6 +19,7 @@ import pytest
 from workbook_helpers import fill_template, set_named, table_cell
 
 import wzq
+from wzq import cli
 from wzq.engine import windows as engine_windows
 from wzq.engine.design_demand import CountHistory, DemandHistory, DemandRule
 from wzq.engine.plan import Approach, Landmark, Thresholds
@@ -220,3 +221,36 @@ def test_demand_designed_from_a_count_history_keys_on_its_flows():
     b = dataclasses.replace(a, demand=dataclasses.replace(plan.demand, flows_veh_h=flows))
     assert plan_to_dict(a)["demand"] == plan_to_dict(b)["demand"]  # the file cannot tell
     assert wc.windows_key(a) != wc.windows_key(b)
+
+
+def test_what_the_plan_asks_to_add_to_the_outputs_is_no_input_of_the_search():
+    plan = _plan()
+    key = wc.windows_key(plan)
+    assert wc.windows_key(_changed(plan, "options", space_time=not plan.options.space_time)) == key
+    assert wc.windows_key(_changed(plan, "options", closure_windows=False)) == key
+
+
+def _pdf_text(path: Path) -> str:
+    pypdf = pytest.importorskip("pypdf")
+    return "\n".join(page.extract_text() for page in pypdf.PdfReader(path).pages)
+
+
+@pytest.mark.slow  # a run and two reports of a week with the search
+def test_the_report_takes_the_search_the_run_kept(filled, tmp_path, monkeypatch, capsys):
+    path = shutil.copy(filled, tmp_path / "plan.xlsx")
+    run_workbook(path, run_time=RUN_TIME)
+    seen: list[bool] = []
+    real = engine_windows.plan_windows
+
+    def spy(plan, *a, **kw):
+        seen.append(kw.get("known") is not None)
+        return real(plan, *a, **kw)
+
+    monkeypatch.setattr(engine_windows, "plan_windows", spy)
+    kept, fresh = tmp_path / "kept.pdf", tmp_path / "fresh.pdf"
+    assert cli.main(["report", str(path), "-o", str(kept)]) == 0
+    assert cli.main(["report", str(filled), "-o", str(fresh)]) == 0  # never run: no cache
+    capsys.readouterr()
+    assert seen == [True, False]
+    assert "Allowable closure hours" in _pdf_text(kept)
+    assert _pdf_text(kept) == _pdf_text(fresh)

@@ -895,8 +895,11 @@ def charts_section(
 WINDOW_MARKS = {"#": "yes", "+": "part", ".": "-"}
 
 
-def windows_section(result: Result, st: Styles, width: float) -> list[Flowable]:
-    """Allowable closure hours of each configuration on this plan's demand (wzq.engine.windows)."""
+def windows_section(
+    result: Result, st: Styles, width: float, known: Sequence[np.ndarray] | None = None
+) -> list[Flowable]:
+    """Allowable closure hours of each configuration on this plan's demand (wzq.engine.windows;
+    ``known``: the search's tables kept for these inputs, as there)."""
     from wzq.engine.windows import (
         longest_windows,
         plan_windows,
@@ -914,7 +917,7 @@ def windows_section(result: Result, st: Styles, width: float) -> list[Flowable]:
             Paragraph("Allowable closure hours", st.h1),
             Paragraph(text(too_long_text(len(d.flows_veh_h), d.interval_s, option)), st.body),
         ]
-    found = plan_windows(result.plan)
+    found = plan_windows(result.plan, known=known)
     table = windows_table(found, symbols=True)
     hours = [f"{h:02d}" for h in range(24)]
     head = ["Configuration", "Day", *hours]
@@ -1207,8 +1210,11 @@ def build_report(
     generated: dt.date | None = None,
     source: str | None = None,
     vector: bool | None = None,
+    windows: Sequence[np.ndarray] | None = None,
 ) -> bytes:
-    """The report as PDF bytes (see the module docstring for its contents)."""
+    """The report as PDF bytes (see the module docstring for its contents); ``windows``:
+    the closure-window search's tables kept for this plan's inputs (a workbook's cache),
+    used instead of searching again."""
     pagesize = page_size(paper)
     problems = text_problems(result)
     if problems:
@@ -1258,7 +1264,7 @@ def build_report(
     story += [soft, *hourly_section(result, st, width)]
     story += [PageBreak(), *charts_section(result, st, width, height, vector)]
     if plan.options.closure_windows:  # the windows page follows the plan's option
-        story += [soft, *windows_section(result, st, width)]
+        story += [soft, *windows_section(result, st, width, windows)]
     if plan.options.space_time:
         story += [PageBreak(), *space_time_section(result, st, width, height, vector)]
     story += [soft, *method_section(result, st, width)]
@@ -1285,6 +1291,7 @@ def write_report(
     generated: dt.date | None = None,
     source: str | None = None,
     vector: bool | None = None,
+    windows: Sequence[np.ndarray] | None = None,
 ) -> Path:
     """Write the PDF report of ``result`` to ``path`` and return the path.
 
@@ -1302,6 +1309,8 @@ def write_report(
         raise PlanError(
             [Problem(str(path), f"the folder {path.parent} does not exist; create it first")]
         )
-    data = build_report(result, paper, generated=generated, source=source, vector=vector)
+    data = build_report(
+        result, paper, generated=generated, source=source, vector=vector, windows=windows
+    )
     write_atomically(path, data)  # an existing report keeps its permissions
     return path

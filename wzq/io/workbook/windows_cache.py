@@ -19,6 +19,7 @@ before the output sheets.
 from __future__ import annotations
 
 import base64
+import dataclasses
 import hashlib
 import json
 import zlib
@@ -42,6 +43,7 @@ __all__ = [
     "cached_plan_windows",
     "code_digest",
     "read_tables",
+    "stored_tables",
     "windows_key",
     "write_tables",
 ]
@@ -61,6 +63,10 @@ def windows_key(plan: Plan) -> str:
     exactly: every number of the site, limits, options, costs and approach, and the
     demand's own flows, which a plan designed from a count history does not write),
     wzq's version, the code of the search (:func:`code_digest`) and this cache's format."""
+    # what the plan asks to add to the outputs is no input of the search
+    plan = dataclasses.replace(
+        plan, options=dataclasses.replace(plan.options, space_time=False, closure_windows=True)
+    )
     data = plan_to_dict(plan)
     for key in ("closures", "meta"):
         data.pop(key, None)
@@ -139,12 +145,17 @@ def write_tables(book: Workbook, key: str, tables: Sequence[np.ndarray]) -> None
         put_text(ws, 3 + i // CHUNK, 1, text[i : i + CHUNK])
 
 
+def stored_tables(plan: Plan, book: Workbook) -> list[np.ndarray] | None:
+    """The tables ``book``'s cache holds for the window search of ``plan`` (``None``: none
+    for these inputs); for commands that only read the workbook, such as the report."""
+    return read_tables(book, windows_key(plan), len(plan.demand.flows_veh_h))
+
+
 def cached_plan_windows(plan: Plan, book: Workbook) -> WindowsResult:
     """:func:`plan_windows` of ``plan``, from ``book``'s cache when it holds this search's
     tables, else searched and kept there for the next run."""
-    key = windows_key(plan)
-    known = read_tables(book, key, len(plan.demand.flows_veh_h))
+    known = stored_tables(plan, book)
     found = plan_windows(plan, known=known)
     if known is None or len(known) != len(found.sets):
-        write_tables(book, key, [s.allowed for s in found.sets])
+        write_tables(book, windows_key(plan), [s.allowed for s in found.sets])
     return found

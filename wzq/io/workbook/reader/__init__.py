@@ -52,6 +52,7 @@ __all__ = [
     "cell_ref",
     "load_book",
     "read_plan",
+    "read_plan_and_book",
     "read_plan_from_book",
     "read_workbook_bytes",
 ]
@@ -64,10 +65,15 @@ def read_plan(path: str | Path) -> Plan:
     The file is only read, and only once: the bytes that were inspected are the
     bytes that are parsed.
     """
+    return read_plan_and_book(path)[0]
+
+
+def read_plan_and_book(path: str | Path) -> tuple[Plan, Workbook]:
+    """:func:`read_plan`, and the workbook it was read from (output sheets unparsed)."""
     path = Path(path)
     data = read_workbook_bytes(path, skip_outputs=True)
     wb = book_from_bytes(data, path, skip_outputs=True)  # wzq's output sheets are not read
-    return read_plan_from_book(wb, path.name, path, data=data)
+    return read_plan_from_book(wb, path.name, path, data=data), wb
 
 
 def read_workbook_bytes(path: Path, *, skip_outputs: bool = False) -> bytes:
