@@ -42,7 +42,6 @@ from reportlab.lib.pagesizes import A4, LETTER, landscape
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import inch
 from reportlab.pdfbase import pdfmetrics
-from reportlab.pdfbase.ttfonts import TTFont
 from reportlab.pdfgen import canvas as rl_canvas
 from reportlab.platypus import (
     BaseDocTemplate,
@@ -65,6 +64,7 @@ import wzq
 from wzq import units as u
 from wzq.engine.plan import PlanError, Problem, Site
 from wzq.engine.results import Result
+from wzq.io.fontcache import load_ttfonts
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.save import write_atomically
 from wzq.models.capacity import METHOD_LABELS
@@ -166,7 +166,8 @@ MAX_FIELD_CHARS = 400
 
 
 def register_fonts() -> None:
-    """Register DejaVu Sans (shipped with matplotlib) under the report's font names.
+    """Register DejaVu Sans (shipped with matplotlib) under the report's font names,
+    once per process, the parsed fonts loaded from a cache (:mod:`wzq.io.fontcache`).
 
     With svglib installed, the charts' "DejaVu Sans" text is mapped to the same
     embedded font files, so chart labels stay real text in the very font that
@@ -181,17 +182,26 @@ def register_fonts() -> None:
         (FONT_ITALIC, "DejaVuSans-Oblique.ttf", "normal", "italic"),
         (f"{FONT}-BoldOblique", "DejaVuSans-BoldOblique.ttf", "bold", "italic"),
     )
+    fonts = load_ttfonts([(name, ttf / file) for name, file, _, _ in faces])
+    for font in fonts:
+        pdfmetrics.registerFont(font)
     try:
-        from svglib.fonts import register_font as svg_register_font
+        from svglib import fonts as svg_fonts
     except ImportError:
-        svg_register_font = None
-    for name, file, weight, style in faces:
-        path = str(ttf / file)
-        if svg_register_font is not None:
-            # registers the TrueType font with reportlab and maps the SVG family to it
-            svg_register_font(charts.FONT_FAMILY, path, weight, style, rlgFontName=name)
-        if name not in pdfmetrics.getRegisteredFontNames():
-            pdfmetrics.registerFont(TTFont(name, path))
+        svg_fonts = None
+    if svg_fonts is not None:
+        parsed = {f.fontName: f for f in fonts}
+        # svglib maps an SVG family only by registering a font file, which it parses
+        # with the TTFont it imported; it is handed the font already parsed instead
+        parse = svg_fonts.TTFont
+        svg_fonts.TTFont = lambda name, path, *a, **k: parsed.get(name) or parse(name, path)
+        try:
+            for name, file, weight, style in faces:
+                svg_fonts.register_font(
+                    charts.FONT_FAMILY, str(ttf / file), weight, style, rlgFontName=name
+                )
+        finally:
+            svg_fonts.TTFont = parse
     pdfmetrics.registerFontFamily(
         FONT, normal=FONT, bold=FONT_BOLD, italic=FONT_ITALIC, boldItalic=f"{FONT}-BoldOblique"
     )
