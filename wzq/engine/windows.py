@@ -58,9 +58,12 @@ import datetime as dt
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 from wzq.engine import approach as ap
 from wzq.engine import costs as rc
@@ -499,6 +502,8 @@ class WindowSet:
 
     def hour_flags(self) -> pd.DataFrame:
         """Per hour of the data: ``whole`` (a closure may be in place all hour), ``part``."""
+        import pandas as pd  # imported when used: slow to import
+
         g = self._grid
         last = self.last_end()
         reach = np.maximum.accumulate(last)  # latest end of a window starting at or before s
@@ -906,6 +911,8 @@ def day_rows(ws: WindowSet) -> list[tuple[str, list[str]]]:
     A state is ``whole``, ``part``, ``no`` or ``none`` (no data for that hour).
     Calendar days for a demand series; one row by hour of day for a typical day.
     """
+    import pandas as pd  # imported when used: slow to import
+
     flags = ws.hour_flags()
     state = np.where(flags["whole"], "whole", np.where(flags["part"], "part", "no"))
     starts = pd.to_datetime(flags["hour_start"])
@@ -931,6 +938,8 @@ def windows_table(result: WindowsResult, symbols: bool = False) -> pd.DataFrame:
     where there is no data), or with ``symbols`` the characters of
     :data:`SYMBOLS` (``+`` part of the hour).
     """
+    import pandas as pd  # imported when used: slow to import
+
     records = []
     for ws in result.sets:
         for label, row in day_rows(ws):
@@ -943,6 +952,8 @@ def windows_table(result: WindowsResult, symbols: bool = False) -> pd.DataFrame:
 
 def days_allowed_by_hour(result: WindowsResult) -> pd.DataFrame:
     """Hour of day (0-23) x configuration: days on which the whole hour may be closed."""
+    import pandas as pd  # imported when used: slow to import
+
     table = windows_table(result)
     out = table.groupby("configuration", sort=False)[list(HOUR_COLUMNS)].sum().T
     out.index = pd.Index(range(24), name="hour")
@@ -950,6 +961,8 @@ def days_allowed_by_hour(result: WindowsResult) -> pd.DataFrame:
 
 
 def _windows_frame(windows: list[Window]) -> pd.DataFrame:
+    import pandas as pd  # imported when used: slow to import
+
     cols = [
         "configuration",
         "day_type",
