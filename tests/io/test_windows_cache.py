@@ -254,3 +254,15 @@ def test_the_report_takes_the_search_the_run_kept(filled, tmp_path, monkeypatch,
     assert seen == [True, False]
     assert "Allowable closure hours" in _pdf_text(kept)
     assert _pdf_text(kept) == _pdf_text(fresh)
+
+
+def test_a_sheet_of_the_users_with_the_cache_name_is_never_touched():
+    book = openpyxl.Workbook()
+    mine = book.create_sheet(wc.CACHE_SHEET)
+    mine["A1"] = "my notes"
+    mine["A2"], mine["B2"] = "windows", "k" * 64  # even if it looks like a cache
+    tables = [np.ones((4, 5), dtype=bool)]
+    wc.write_tables(book, "k" * 64, tables)
+    assert book[wc.CACHE_SHEET] is mine and mine["A1"].value == "my notes"
+    assert mine.sheet_state == "visible"
+    assert wc.read_tables(book, "k" * 64, 4) is None

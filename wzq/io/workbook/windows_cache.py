@@ -99,10 +99,18 @@ def code_digest() -> str:
     return h.hexdigest()
 
 
+def _ours(book: Workbook) -> bool:
+    """The workbook holds a cache sheet that wzq made (very hidden, with its title)."""
+    if CACHE_SHEET not in book.sheetnames:
+        return False
+    ws = book[CACHE_SHEET]
+    return ws.sheet_state == "veryHidden" and ws["A1"].value == _TITLE
+
+
 def read_tables(book: Workbook, key: str, n: int) -> list[np.ndarray] | None:
     """The tables stored under ``key`` (each ``n`` by ``n + 1``), or ``None`` when there
     are none, they are for other inputs, or the cells do not hold them intact."""
-    if CACHE_SHEET not in book.sheetnames:
+    if not _ours(book):
         return None
     ws = book[CACHE_SHEET]
     try:
@@ -128,10 +136,13 @@ def read_tables(book: Workbook, key: str, n: int) -> list[np.ndarray] | None:
 
 def write_tables(book: Workbook, key: str, tables: Sequence[np.ndarray]) -> None:
     """Keep ``tables`` under ``key`` on the cache sheet (made, very hidden, just before
-    the output sheets when missing; its cells replaced when present)."""
+    the output sheets when missing; replaced when present; nothing is kept when a sheet
+    of the user's carries its name)."""
     packed = b"".join(np.packbits(t.ravel()).tobytes() for t in tables)
     text = base64.b64encode(zlib.compress(packed, 6)).decode("ascii")
     if CACHE_SHEET in book.sheetnames:
+        if not _ours(book):
+            return  # a sheet of the user's with this name is never touched: no cache
         book.remove(book[CACHE_SHEET])
     outputs = [i for i, ws in enumerate(book.worksheets) if ws.title in layout.OUTPUT_SHEETS]
     ws = book.create_sheet(CACHE_SHEET, min(outputs, default=len(book.worksheets)))
