@@ -20,6 +20,7 @@ from workbook_helpers import fill_template, set_named, table_cell
 
 import wzq
 from wzq import cli
+from wzq.cli import windows as cli_windows
 from wzq.engine import windows as engine_windows
 from wzq.engine.design_demand import CountHistory, DemandHistory, DemandRule
 from wzq.engine.plan import Approach, Landmark, Thresholds
@@ -235,10 +236,9 @@ def _pdf_text(path: Path) -> str:
     return "\n".join(page.extract_text() for page in pypdf.PdfReader(path).pages)
 
 
-@pytest.mark.slow  # a run and two reports of a week with the search
-def test_the_report_takes_the_search_the_run_kept(filled, tmp_path, monkeypatch, capsys):
-    path = shutil.copy(filled, tmp_path / "plan.xlsx")
-    run_workbook(path, run_time=RUN_TIME)
+@pytest.fixture
+def engine_searches(monkeypatch) -> list[bool]:
+    """As :func:`searches`, for the commands that call the engine's search themselves."""
     seen: list[bool] = []
     real = engine_windows.plan_windows
 
@@ -247,6 +247,32 @@ def test_the_report_takes_the_search_the_run_kept(filled, tmp_path, monkeypatch,
         return real(plan, *a, **kw)
 
     monkeypatch.setattr(engine_windows, "plan_windows", spy)
+    monkeypatch.setattr(cli_windows, "plan_windows", spy)
+    return seen
+
+
+@pytest.mark.slow  # a run and the windows command three times on a week
+def test_the_windows_command_takes_the_search_the_run_kept(
+    filled, tmp_path, engine_searches, capsys
+):
+    path = shutil.copy(filled, tmp_path / "plan.xlsx")
+    run_workbook(path, run_time=RUN_TIME)
+    capsys.readouterr()
+    assert cli.main(["windows", str(path)]) == 0
+    kept = capsys.readouterr().out
+    assert cli.main(["windows", str(filled)]) == 0  # never run: no cache
+    fresh = capsys.readouterr().out
+    assert cli.main(["windows", str(path), "--barrier", "hard"]) == 0  # another search
+    capsys.readouterr()
+    assert engine_searches == [True, False, False]
+    assert "Closure windows" in kept and kept == fresh
+
+
+@pytest.mark.slow  # a run and two reports of a week with the search
+def test_the_report_takes_the_search_the_run_kept(filled, tmp_path, engine_searches, capsys):
+    path = shutil.copy(filled, tmp_path / "plan.xlsx")
+    run_workbook(path, run_time=RUN_TIME)
+    seen = engine_searches
     kept, fresh = tmp_path / "kept.pdf", tmp_path / "fresh.pdf"
     assert cli.main(["report", str(path), "-o", str(kept)]) == 0
     assert cli.main(["report", str(filled), "-o", str(fresh)]) == 0  # never run: no cache

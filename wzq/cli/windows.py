@@ -27,7 +27,7 @@ from wzq.engine.windows import (
     intervals_for,
     plan_windows,
 )
-from wzq.io.plans import load_any
+from wzq.io.plans import load_any_and_book
 from wzq.present.tables import limits_text
 from wzq.present.terminal import TermColumn, console_width, print_table
 
@@ -234,7 +234,7 @@ def cmd_windows(args: argparse.Namespace) -> int:
         )
     if problems:
         raise PlanError(problems)
-    plan = load_any(Path(args.path))
+    plan, book = load_any_and_book(Path(args.path))
     if lanes is not None:
         bad = [k for k in lanes if not 1 <= k < plan.site.lanes]
         if bad:
@@ -243,7 +243,14 @@ def cmd_windows(args: argparse.Namespace) -> int:
                 f"lanes; use 1 to {plan.site.lanes - 1}",
                 where="--lanes-closed",
             )
-    result = plan_windows(plan, lanes, barrier=args.barrier, typical=args.typical)
+    known = None
+    if book is not None and lanes is None and args.barrier == "soft" and not args.typical:
+        # the search a run kept in the workbook (the same configurations, when its inputs
+        # are the plan's)
+        from wzq.io.workbook.windows_cache import stored_tables
+
+        known = stored_tables(plan, book)
+    result = plan_windows(plan, lanes, barrier=args.barrier, typical=args.typical, known=known)
     with pd.option_context("display.width", 250):
         print_windows(
             result,
