@@ -149,6 +149,13 @@ def plan_values(plan: Plan) -> dict[str, Any]:
     )
     if c is not None:
         v.update(cost_currency=c.currency, cost_dollar_year=c.dollar_year)
+    r = plan.risk
+    v.update(
+        risk_capacity_cv=None if r is None else r.capacity_cv,
+        risk_draws=1000 if r is None else r.draws,
+        risk_seed=1 if r is None else r.seed,
+        risk_window_percent=None if r is None or r.window_risk is None else r.window_risk * 100,
+    )
     return v
 
 

@@ -86,6 +86,7 @@ from wzq.models.queueing import QueueRun, solve
 from wzq.units import HOUR
 
 __all__ = [
+    "ALL_HOURS_RULE",
     "HOUR_COLUMNS",
     "MAX_INTERVALS",
     "SCREEN_MARGIN",
@@ -328,8 +329,15 @@ def _first_failure_end(g: _Grid, ok: np.ndarray) -> int:
     return int(g.hour_end[int(np.argmin(ok))])
 
 
-def _allowed(g: _Grid, exhaustive: bool = False) -> tuple[np.ndarray, _Eval]:
-    """``allowed[s, e]``: the closure ``[s, e)`` keeps every hour within the limits."""
+def _allowed(
+    g: _Grid, exhaustive: bool = False, starts: np.ndarray | None = None
+) -> tuple[np.ndarray, _Eval]:
+    """``allowed[s, e]``: the closure ``[s, e)`` keeps every hour within the limits.
+
+    ``starts`` (a mask over the starts): judge only these rows; the others are left
+    ``False`` (the search at a risk, :mod:`wzq.engine.risk_windows`, skips starts it
+    has already decided).
+    """
     n = g.n
     allowed = np.zeros((n, n + 1), dtype=bool)
     base = _evaluate(g, 0, 0)
@@ -344,6 +352,8 @@ def _allowed(g: _Grid, exhaustive: bool = False) -> tuple[np.ndarray, _Eval]:
         return np.triu(np.ones((n, n + 1), dtype=bool), 1), base
     if exhaustive:
         for s in range(n):
+            if starts is not None and not starts[s]:
+                continue
             for e in range(s + 1, n + 1):
                 allowed[s, e] = bool(_evaluate(g, s, e).ok.all())
         return allowed, base
@@ -353,6 +363,8 @@ def _allowed(g: _Grid, exhaustive: bool = False) -> tuple[np.ndarray, _Eval]:
     suffix_ok[:-1] = np.logical_and.accumulate(base.ok[::-1])[::-1]
     base_fail = _first_failure_end(g, base.ok)
     for s in range(min(n, base_fail)):
+        if starts is not None and not starts[s]:
+            continue
         # the closure from s that never ends; when even its screen fails by the end of
         # interval s, no closure starting at s can pass
         if _first_failure_end(g, _evaluate(g, s, n, screen=True).ok) <= s + 1:
@@ -526,6 +538,13 @@ class WindowSet:
         )
 
 
+#: What an allowed closure is, in words (the sheet and the report say it).
+ALL_HOURS_RULE = (
+    "A closure is allowed only if every hour of the run passes, the queue left "
+    "behind after it ends included; all lanes are open outside the closure."
+)
+
+
 @dataclass(frozen=True)
 class WindowsResult:
     """What :func:`find_windows` returns: one :class:`WindowSet` per configuration and day type."""
@@ -535,6 +554,8 @@ class WindowsResult:
     costs: Costs
     sets: tuple[WindowSet, ...]
     notes: tuple[str, ...] = ()
+    #: What "allowed" means, in one sentence (the search at a risk states its own).
+    rule: str = ALL_HOURS_RULE
 
     @property
     def configurations(self) -> list[str]:

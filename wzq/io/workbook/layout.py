@@ -25,7 +25,9 @@ __all__ = [
     "CLOSURE_TABLE",
     "CLOSURE_TEMPLATE_ROWS",
     "COLOURS",
+    "COUNTS",
     "DATE_FORMAT",
+    "DAY_TYPE_WORDS",
     "DEMAND",
     "DEMAND_COLUMNS",
     "DEMAND_MODE_WORDS",
@@ -34,6 +36,7 @@ __all__ = [
     "DIAGRAM_WORDS",
     "DRIVER_WORDS",
     "END_TIME_FORMAT",
+    "HISTORY",
     "HOURLY",
     "INPUT_COLOUR_WORD",
     "INPUT_SHEETS",
@@ -52,6 +55,7 @@ __all__ = [
     "SHARE_SUM_TOLERANCE",
     "SHARE_TABLE",
     "SITE",
+    "STAMP_WORDS",
     "START",
     "SUMMARY",
     "TABLE_COLUMNS",
@@ -79,8 +83,11 @@ SITE = "Site"
 DEMAND = "Demand"
 CLOSURES = "Closures"
 LIMITS = "Limits"
+#: Where a count history may be pasted (any sheet of the workbook may be named instead,
+#: or a count file).
+COUNTS = "Counts"
 #: Input sheets, in the order the template creates them.
-INPUT_SHEETS: tuple[str, ...] = (START, SITE, DEMAND, CLOSURES, LIMITS)
+INPUT_SHEETS: tuple[str, ...] = (START, SITE, DEMAND, CLOSURES, LIMITS, COUNTS)
 
 #: Output sheets, owned by the writer and replaced on every run; the reader ignores them.
 RESULTS = "Results"
@@ -156,7 +163,19 @@ OVERRIDE_WORDS: Choices = (
 )
 HOURLY = "hourly"
 AADT = "aadt"
-DEMAND_MODE_WORDS: Choices = (("hourly counts", HOURLY), ("from AADT", AADT))
+HISTORY = "history"
+DEMAND_MODE_WORDS: Choices = (
+    ("hourly counts", HOURLY),
+    ("from AADT", AADT),
+    ("from a count history", HISTORY),
+)
+#: How the historical days of one day type are grouped (:mod:`wzq.engine.design_demand`).
+DAY_TYPE_WORDS: Choices = (
+    ("each weekday on its own", "by-name"),
+    ("Monday-Thursday together", "mon-thu"),
+)
+#: Whether a count's time stamp is the start or the end of its interval.
+STAMP_WORDS: Choices = (("start of its interval", "start"), ("end of its interval", "end"))
 
 
 def word_for(choices: Choices, value: Any) -> str:

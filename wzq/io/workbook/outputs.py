@@ -20,12 +20,14 @@ from openpyxl.workbook.workbook import Workbook
 
 import wzq
 from wzq.engine.results import Result
-from wzq.engine.windows import plan_windows, too_long, too_long_text
+from wzq.engine.risk import RiskResult, plan_risk
+from wzq.engine.windows import too_long, too_long_text
 from wzq.io.workbook import layout
 from wzq.io.workbook.charts import write_charts
 from wzq.io.workbook.permit_sheet import write_permit_sheet
 from wzq.io.workbook.pictures import place_space_time, space_time_picture
 from wzq.io.workbook.results_sheet import write_results_sheet
+from wzq.io.workbook.risk_sheets import add_risk, closure_windows
 from wzq.io.workbook.run_log_sheet import write_run_log
 from wzq.io.workbook.summary_sheet import write_summary_sheet
 from wzq.io.workbook.windows_sheet import write_windows_sheet
@@ -58,6 +60,9 @@ class Outputs:
     result: Result
     windows: bool
     picture: bytes | None = None
+    #: The risk of breaking the limits, when the plan gives a count history (or a spread
+    #: of the work-zone capacity): extra columns, a Summary section, a fan chart.
+    risk: RiskResult | None = None
 
 
 def decide_outputs(
@@ -71,7 +76,8 @@ def decide_outputs(
     if options.space_time if space_time is None else space_time:
         picture, warnings = space_time_picture(result)
         result = result.with_warnings(warnings)
-    return Outputs(result, options.closure_windows if windows is None else windows, picture)
+    wanted = options.closure_windows if windows is None else windows
+    return Outputs(result, wanted, picture, plan_risk(result.plan))
 
 
 def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
@@ -94,7 +100,7 @@ def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
         )
         return
     # replaces the empty sheet made by replace_sheets, at the same position
-    write_windows_sheet(book, plan_windows(result.plan), result.plan)
+    write_windows_sheet(book, closure_windows(result.plan), result.plan)
 
 
 def write_outputs(
@@ -128,6 +134,8 @@ def write_outputs(
     write_summary_sheet(out[SUMMARY], result)
     write_charts(out[CHARTS], result, refs[RESULTS])
     refs[PERMIT] = write_permit_sheet(out[PERMIT], result, stamp)
+    if outputs.risk is not None:
+        add_risk(out, outputs.risk, result, refs)
     write_run_log(
         out[RUN_LOG],
         result,

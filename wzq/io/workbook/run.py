@@ -16,6 +16,7 @@ from __future__ import annotations
 import datetime as dt
 import io
 import os
+import shutil
 import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -32,6 +33,7 @@ from wzq.io.jsonplan import plan_to_dict
 from wzq.io.plans import demo_plan
 from wzq.io.workbook import layout
 from wzq.io.workbook.formula_values import WithSavedResults
+from wzq.io.workbook.history_typing import from_count_file, type_history
 from wzq.io.workbook.kept import ContentLost, keeps_everything
 from wzq.io.workbook.outputs import decide_outputs, write_outputs
 from wzq.io.workbook.reader import book_from_bytes, read_plan_from_book
@@ -391,7 +393,7 @@ def type_plan(book: Workbook, plan: Plan) -> None:
     d = plan.demand
     date_h, time_h, flow_h = layout.DEMAND_COLUMNS
     demand = []
-    for i, flow in enumerate(d.flows_veh_h):
+    for i, flow in enumerate(() if from_count_file(plan) else d.flows_veh_h):
         t = d.start + dt.timedelta(seconds=i * d.interval_s)
         demand.append(
             {
@@ -425,6 +427,8 @@ def type_plan(book: Workbook, plan: Plan) -> None:
             }
         )
     _table_rows(book, layout.CLOSURE_TABLE, closures)
+    if from_count_file(plan):
+        type_history(book, plan)
 
 
 #: File name of the demo workbook when ``wzq demo`` is given a folder.
@@ -456,7 +460,15 @@ def write_filled_workbook(
         book = load_book(blank)
         type_plan(book, plan)
         save_atomic(book, blank)
-        return run_workbook(blank, target, run_time=run_time)
+        if not from_count_file(plan):
+            return run_workbook(blank, target, run_time=run_time)
+        # the count file is named relative to the workbook: read and run it where it goes
+        shutil.copyfile(blank, target)
+        try:
+            return run_workbook(target, run_time=run_time)
+        except BaseException:
+            target.unlink(missing_ok=True)
+            raise
 
 
 #: File name of the demo workbook when ``wzq demo`` is given a folder.

@@ -42,6 +42,8 @@ from wzq.io.workbook import layout as L
 __all__ = [
     "BUILD_TIME",
     "BUTTON_SOURCE",
+    "HISTORY_COL",
+    "HISTORY_NOTES",
     "INSTRUCTIONS",
     "LABEL_WIDTH",
     "MACRO_INSTRUCTION",
@@ -75,8 +77,10 @@ INSTRUCTIONS: tuple[str, ...] = (
     "Limits; grey text beside a value explains it.",
     "2. Choose the unit system below first. Every value is in that system; its unit is shown "
     "beside it.",
-    "3. Demand: hourly (or 15-minute) counts in the table on the Demand sheet, or an AADT "
-    "with an hourly distribution, which wzq expands into hourly demand.",
+    "3. Demand: hourly (or 15-minute) counts in the table on the Demand sheet, an AADT "
+    "with an hourly distribution, which wzq expands into hourly demand, or the site's count "
+    f"history (the {L.COUNTS} sheet or a count file), from which wzq designs the demand and "
+    "the risk of breaking the limits.",
     "4. Closures: one row each. A 'To' time at or before 'From' ends the next day; 24:00 is "
     "midnight at the end of the date.",
     "5. You may insert rows, restyle and add sheets of your own: wzq finds the inputs by "
@@ -421,6 +425,56 @@ def _demand_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
         ws.write_formula(
             total, col, f"=SUM({letter}{row + 2}:{letter}{row + 25})", f["label"], sum(shares)
         )
+    _history_block(wb, ws, f)
+
+
+#: What the count-history block on the Demand sheet says above its inputs.
+HISTORY_NOTES: tuple[str, ...] = (
+    "For each day of the plan: the counted days of the same type within the window, grown to "
+    "the plan's dates; per hour their mean or a percentile.",
+    "wzq also runs the plan on every matching counted week (each a whole demand) and reports "
+    "the chance of breaking each limit (Limits sheet: the risk options).",
+    f"The {L.COUNTS} sheet takes the counts of one direction: a date, then 24 hourly counts "
+    "(one row a day, as laid out), or a date-time and a count per row.",
+)
+
+
+#: First column (0-based) of the count-history block on the Demand sheet: right of the
+#: AADT block (anything below one of the sheet's tables would be read as part of it).
+HISTORY_COL = 9
+
+
+def _history_block(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
+    """The count-history inputs, right of the AADT block."""
+    col = HISTORY_COL
+    ws.set_column(col - 1, col - 1, 4)
+    ws.set_column(col, col, LABEL_WIDTH - 10)
+    ws.set_column(col + 1, col + 1, VALUE_WIDTH)
+    ws.set_column(col + 2, col + 2, UNIT_WIDTH - 4)
+    ws.set_column(col + 3, col + 3, NOTE_WIDTH)
+    row = 5
+    ws.write_string(row, col, "From a count history", f["section"])
+    for k in (1, 2, 3):
+        ws.write_blank(row, col + k, None, f["section"])
+    row += 1
+    for line in HISTORY_NOTES:
+        ws.write_string(row, col, line, f["note"])
+        row += 1
+    _sections(wb, ws, F.HISTORY_SECTIONS, row + 1, f, col=col)
+
+
+def _counts_sheet(ws: Worksheet, f: dict) -> None:
+    """A sheet to paste a count history into: a header row, then one day a row (wide form).
+
+    Nothing but the table goes on it (:func:`wzq.io.counts.read_table` reads every row);
+    the instructions are on the Demand sheet.
+    """
+    heads = ["Date", *(f"{h:02d}:00" for h in range(24))]
+    for col, text in enumerate(heads):
+        ws.write_string(0, col, text, f["header"])
+    ws.set_column(0, 0, 16, f["in_date"])
+    ws.set_column(1, 24, 7, f["in_flow"])
+    ws.freeze_panes(1, 1)
 
 
 def _override_label() -> str:
@@ -531,6 +585,7 @@ def build_template(path: Path, *, macro: bool) -> None:
     _sections(wb, sheets[L.SITE], F.SITE_SECTIONS, row, f)
     _demand_sheet(wb, sheets[L.DEMAND], f)
     _closure_sheet(sheets[L.CLOSURES], f)
+    _counts_sheet(sheets[L.COUNTS], f)
     row = _field_sheet_header(
         sheets[L.LIMITS],
         "Limits",

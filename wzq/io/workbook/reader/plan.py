@@ -61,10 +61,12 @@ class PlanReader:
         self.check_sheet_names()
         costs = self.costs()
         demand = self.demand(values.get("site_lanes"))
+        risk = self.risk_options(self._history is not None)
         closures = self.closures(values.get("site_lanes"), demand)
         if self.problems:
             raise PlanError(self.explain_below(self.problems))
         plan_kw = self.assemble(values, costs, demand, closures)
+        plan_kw.update(history=self._history, risk=risk)
         try:
             return Plan(**plan_kw, input_warnings=tuple(self.warnings), locations=self.locations())
         except PlanError as e:
