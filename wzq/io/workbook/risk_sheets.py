@@ -58,6 +58,7 @@ __all__ = [
     "fan_chart",
     "fan_spans",
     "place_fan_charts",
+    "risk_note",
 ]
 
 #: First column of the fan chart's data block on the Charts sheet (after the others).
@@ -125,13 +126,26 @@ def _add_columns(
     return first_col + len(columns) - 1
 
 
+def risk_note(risk: RiskResult) -> str:
+    """What the risk columns are, in one line, beside them."""
+    level = f"{risk.options.confidence:.0%}"
+    return (
+        f"Chance: the share of {len(risk.runs):,} equally likely scenarios in which the hour "
+        f"breaks a limit, with its {level} Clopper-Pearson interval; queue percentiles over the "
+        "same scenarios. The Summary sheet states the method."
+    )
+
+
 def add_risk_to_results(out: w.SheetWriter, risk: RiskResult, table: w.TableRef) -> None:
     """The per-hour risk columns at the right of the Results table (every hour)."""
     ws = out.ws
     system = risk.plan.site.unit_system
     cols = risk_columns(risk, system)
     n = len(risk.hourly)
+    first_col = max(table.columns.values()) + 1
     last_col = _add_columns(out, table, cols, risk_values(risk, cols), np.arange(n))
+    # above the new columns (rows 1-3 hold the title, the site and the units)
+    out.put(2, first_col, risk_note(risk), font=w.SMALL)
     if n:
         ws.auto_filter.ref = f"A{table.header_row}:{get_column_letter(last_col)}{table.last_row}"
     c0, r0, _, r1 = _print_area(ws)
@@ -164,12 +178,7 @@ def add_risk_to_permit(
     for k in range(len(rows)):  # the interval text reads better centred
         ws.cell(table.first_row + k, table.columns["p_any_text"]).alignment = w.CENTRE
     ws.column_dimensions[get_column_letter(table.columns["p_any_text"])].width = 19
-    note = (
-        f"Chance: the share of {len(risk.runs):,} equally likely scenarios in which the hour "
-        f"breaks a limit, with its {level} Clopper-Pearson interval; queue percentiles over the "
-        "same scenarios. The Summary sheet states the method."
-    )
-    out.put(max(table.last_row, table.header_row) + 1, 1, note, font=w.SMALL)
+    out.put(max(table.last_row, table.header_row) + 1, 1, risk_note(risk), font=w.SMALL)
     c0, r0, _, r1 = _print_area(ws)
     _set_print_area(ws, c0, r0, last_col, r1)
 
