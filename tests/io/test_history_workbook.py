@@ -321,3 +321,17 @@ def test_a_csv_count_file_beside_the_workbook_is_read(tmp_path: Path) -> None:
     (tmp_path / "station.csv").write_text("\n".join(lines) + "\n")
     got = problems_of(path)
     assert any("line 5" in p for p in got), got
+
+
+@pytest.mark.slow
+def test_the_closure_windows_sheet_at_the_risk_typed_on_the_limits_sheet(tmp_path: Path) -> None:
+    path = history_book(
+        tmp_path,
+        risk_window_percent=40,
+        opt_closure_windows=L.word_for(L.YES_NO_WORDS, True),
+    )
+    assert read_plan(path).risk.window_risk == pytest.approx(0.4)
+    run_to(path, run_time="2027-01-01T00:00:00Z")
+    ws = openpyxl.load_workbook(path)[L.WINDOWS]
+    texts = " ".join(c.value for row in ws.iter_rows() for c in row if isinstance(c.value, str))
+    assert "is at most 40 %: 5 equally likely scenarios" in texts

@@ -44,10 +44,11 @@ import numpy as np
 from wzq.engine import windows as W
 from wzq.engine.plan import Barrier, Plan, PlanError, Problem, RiskOptions
 from wzq.engine.queue_length import newell_lengths
-from wzq.engine.risk import Scenarios, plan_scenarios, refuse_approach
+from wzq.engine.risk import Scenarios, asks_for_risk, plan_scenarios, refuse_approach
 
 __all__ = [
     "RiskWindows",
+    "closure_windows",
     "risk_rule",
     "risk_windows",
     "window_scenarios",
@@ -188,3 +189,22 @@ def risk_windows(
         rule=risk_rule(level, total, scenarios.source),
     )
     return RiskWindows(found, level, total, scenarios.source, tuple(failing))
+
+
+def closure_windows(
+    plan: Plan,
+    lanes_closed: Sequence[int] | None = None,
+    *,
+    barrier: Barrier = "soft",
+    level: float | None = None,
+) -> W.WindowsResult:
+    """The closure windows of a plan as every output shows them: at risk ``level`` (a
+    fraction; default the plan's ``risk.window_risk``) when one is given and the plan
+    has scenarios to judge it on (a count history or a capacity spread,
+    :func:`wzq.engine.risk.asks_for_risk`), else on the design demand
+    (:func:`wzq.engine.windows.plan_windows`)."""
+    if level is None and plan.risk is not None and asks_for_risk(plan):
+        level = plan.risk.window_risk
+    if level is None:
+        return W.plan_windows(plan, lanes_closed, barrier=barrier)
+    return risk_windows(plan, level, lanes_closed, barrier=barrier).windows

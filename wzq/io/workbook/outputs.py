@@ -21,13 +21,14 @@ from openpyxl.workbook.workbook import Workbook
 import wzq
 from wzq.engine.results import Result
 from wzq.engine.risk import RiskResult, plan_risk
+from wzq.engine.risk_windows import closure_windows
 from wzq.engine.windows import too_long, too_long_text
 from wzq.io.workbook import layout
 from wzq.io.workbook.charts import write_charts
 from wzq.io.workbook.permit_sheet import write_permit_sheet
 from wzq.io.workbook.pictures import place_space_time, space_time_picture
 from wzq.io.workbook.results_sheet import write_results_sheet
-from wzq.io.workbook.risk_sheets import add_risk, closure_windows
+from wzq.io.workbook.risk_sheets import add_risk
 from wzq.io.workbook.run_log_sheet import write_run_log
 from wzq.io.workbook.summary_sheet import write_summary_sheet
 from wzq.io.workbook.windows_sheet import write_windows_sheet

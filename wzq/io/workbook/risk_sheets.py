@@ -26,11 +26,8 @@ from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
 from wzq import units as u
-from wzq.engine.plan import Plan
 from wzq.engine.results import Result
-from wzq.engine.risk import RiskResult, asks_for_risk
-from wzq.engine.risk_windows import risk_windows
-from wzq.engine.windows import WindowsResult, plan_windows
+from wzq.engine.risk import RiskResult
 from wzq.io.workbook import charts as C
 from wzq.io.workbook import writer as w
 from wzq.present.risk import (
@@ -54,7 +51,6 @@ __all__ = [
     "add_risk_to_permit",
     "add_risk_to_results",
     "add_risk_to_summary",
-    "closure_windows",
     "fan_chart",
     "fan_spans",
     "place_fan_charts",
@@ -383,11 +379,3 @@ def add_risk(
     add_risk_to_permit(out[w.PERMIT], risk, result, refs[w.PERMIT])
     add_risk_to_summary(out[w.SUMMARY], risk)
     place_fan_charts(out[w.CHARTS], risk, result)
-
-
-def closure_windows(plan: Plan) -> WindowsResult:
-    """The closure windows the workbook shows: at the plan's risk level when it gives one
-    and a risk is assessed (:mod:`wzq.engine.risk_windows`), else on the design demand."""
-    if asks_for_risk(plan) and plan.risk is not None and plan.risk.window_risk is not None:
-        return risk_windows(plan).windows
-    return plan_windows(plan)
