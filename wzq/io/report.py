@@ -65,10 +65,13 @@ import wzq
 from wzq import units as u
 from wzq.engine.plan import PlanError, Problem, Site
 from wzq.engine.results import Result
+from wzq.engine.risk import RiskResult, plan_risk
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.save import write_atomically
+from wzq.io.workbook.writer import listed_hours
 from wzq.models.capacity import METHOD_LABELS
 from wzq.present import figures as charts
+from wzq.present.risk import risk_hour_table, risk_method, risk_summary_lines
 from wzq.present.tables import (
     hour_label,
     hourly_columns,
@@ -111,6 +114,7 @@ __all__ = [
     "number",
     "page_size",
     "register_fonts",
+    "risk_section",
     "sign_off",
     "space_time_section",
     "svg_available",
@@ -897,9 +901,10 @@ WINDOW_MARKS = {"#": "yes", "+": "part", ".": "-"}
 
 def windows_section(result: Result, st: Styles, width: float) -> list[Flowable]:
     """Allowable closure hours of each configuration on this plan's demand (wzq.engine.windows)."""
+    from wzq.engine.risk_windows import closure_windows
     from wzq.engine.windows import (
+        ALL_HOURS_RULE,
         longest_windows,
-        plan_windows,
         too_long,
         too_long_text,
         windows_table,
@@ -914,7 +919,7 @@ def windows_section(result: Result, st: Styles, width: float) -> list[Flowable]:
             Paragraph("Allowable closure hours", st.h1),
             Paragraph(text(too_long_text(len(d.flows_veh_h), d.interval_s, option)), st.body),
         ]
-    found = plan_windows(result.plan)
+    found = closure_windows(result.plan)
     table = windows_table(found, symbols=True)
     hours = [f"{h:02d}" for h in range(24)]
     head = ["Configuration", "Day", *hours]
@@ -974,6 +979,8 @@ def windows_section(result: Result, st: Styles, width: float) -> list[Flowable]:
         "with the delay they add and its cost to road users."
     )
     notes = [Paragraph(text(n), st.small) for n in found.notes] if hasattr(found, "notes") else []
+    if found.rule != ALL_HOURS_RULE:  # the search at a risk says what "allowed" is
+        notes.insert(0, Paragraph(text(found.rule), st.small))
     return [
         Paragraph("Allowable closure hours", st.h1),
         Paragraph(note, st.small),
@@ -1007,6 +1014,66 @@ def space_time_section(
         Paragraph("Space-time check", st.h1),
         KeepTogether([_chart(fig, width * scale, vector), Paragraph(caption, st.caption)]),
         *notes,
+    ]
+
+
+def risk_section(
+    result: Result, risk: RiskResult, st: Styles, width: float, height: float, vector: bool
+) -> list[Flowable]:
+    """The risk of breaking the limits over the plan's scenarios (:mod:`wzq.engine.risk`):
+    headline figures, the fan chart of the longest queue, the hours with a chance of
+    breaking a limit, and the method."""
+    from wzq.present.risk_figure import fan_figure  # matplotlib: imported for start-up speed
+
+    system = result.plan.site.unit_system
+    summary = _grid_table(
+        _label_rows([(k, text(v)) for k, v in risk_summary_lines(risk, system)], st),
+        [0.25 * width, 0.75 * width],
+    )
+    fig = fan_figure(risk, result, width / 72, min(3.4, (height - 200) / 72 / 2))
+    caption = (
+        f"Figure {5 if result.plan.options.space_time else 4}. The longest queue in each hour "
+        f"over {len(risk.runs):,} equally likely "
+        "scenarios: the darkest band reaches the median, the next the 85th percentile, the "
+        "palest the 95th; the line is the design demand's own longest queue (the rest of this "
+        "report)."
+    )
+    keep = (risk.hourly["p_any"].to_numpy() > 0) | listed_hours(result)
+    table = risk_hour_table(risk, system, keep)
+    heads = [Paragraph(text(c), st.head) for c in table.columns]
+    rows = [[text(v) for v in r] for r in table.itertuples(index=False)]
+    first = 95.0
+    each = (width - first) / (len(heads) - 1)
+    hours = LongTable([heads, *rows], colWidths=[first] + [each] * (len(heads) - 1), repeatRows=1)
+    hours.hAlign = "LEFT"
+    hours.setStyle(
+        TableStyle(
+            [
+                ("FONT", (0, 1), (-1, -1), FONT, 7),
+                ("ALIGN", (1, 1), (-1, -1), "RIGHT"),
+                ("LINEBELOW", (0, 0), (-1, 0), 0.9, colors.black),
+                ("LINEBELOW", (0, 1), (-1, -1), 0.3, GRID),
+                ("TOPPADDING", (0, 0), (-1, -1), 1),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 1),
+            ]
+        )
+    )
+    listed = (
+        "Hours with a chance of breaking a limit, and the hours the permit table lists. "
+        "Chance: the share of the scenarios in which the hour breaks the limit (percent)."
+    )
+    return [
+        Paragraph("Risk of breaking the limits", st.h1),
+        summary,
+        Spacer(1, 6),
+        KeepTogether([_chart(fig, width, vector), Paragraph(caption, st.caption)]),
+        Spacer(1, 6),
+        Paragraph("Hour by hour", st.h2),
+        Paragraph(listed, st.small),
+        Spacer(1, 3),
+        hours,
+        Paragraph("How the risk was found", st.h2),
+        *(Paragraph(text(line), st.method) for line in risk_method(risk)),
     ]
 
 
@@ -1261,6 +1328,9 @@ def build_report(
         story += [soft, *windows_section(result, st, width)]
     if plan.options.space_time:
         story += [PageBreak(), *space_time_section(result, st, width, height, vector)]
+    risk = plan_risk(plan)  # a count history or a capacity spread: the risk page
+    if risk is not None:
+        story += [PageBreak(), *risk_section(result, risk, st, width, height, vector)]
     story += [soft, *method_section(result, st, width)]
     try:
         doc.build(story, canvasmaker=NumberedCanvas)

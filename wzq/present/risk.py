@@ -151,11 +151,12 @@ def risk_method(risk: RiskResult) -> list[str]:
 
 
 def risk_hour_table(risk: RiskResult, system: u.UnitSystem, keep: np.ndarray) -> pd.DataFrame:
-    """The hours ``keep`` with their risk columns, headed and rounded as shown."""
+    """The hours ``keep`` with their risk columns, headed, as text with the decimals
+    shown (``-`` for a missing value)."""
     cols = risk_columns(risk, system)
     h = risk.hourly
     idx = np.flatnonzero(keep)
     out = pd.DataFrame({"Hour": [hour_label(h["hour_start"].iloc[i]) for i in idx]})
     for col, vals in zip(cols, risk_values(risk, cols), strict=True):
-        out[col.header] = [vals[i] for i in idx]
+        out[col.header] = ["-" if vals[i] is None else f"{vals[i]:,.{col.decimals}f}" for i in idx]
     return out

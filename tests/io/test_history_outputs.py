@@ -1,4 +1,5 @@
-"""The workbook's third way to give demand, from a count history, and the risk it shows.
+"""The third way to give demand, from a count history, and the risk it shows: the workbook
+and the printed report.
 
 The five hand-built weeks of tests/engine/test_risk.py (a two-lane road, 1,000 veh/h
 at every hour but Wednesday 10:00-14:00, where the five weeks carry 1,400, 1,600,
@@ -19,6 +20,7 @@ as a designer pastes a station's daily counts:
 from __future__ import annotations
 
 import datetime as dt
+import io
 from pathlib import Path
 from typing import Any
 
@@ -27,6 +29,7 @@ import openpyxl
 import pytest
 from workbook_helpers import fill_template, find_table, named_cell, set_named
 
+import wzq
 from wzq.engine.plan import (
     Closure,
     Demand,
@@ -36,6 +39,7 @@ from wzq.engine.plan import (
     Site,
     Thresholds,
 )
+from wzq.io.report import build_report
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.reader import read_plan
 from wzq.io.workbook.run import run_to
@@ -335,3 +339,36 @@ def test_the_closure_windows_sheet_at_the_risk_typed_on_the_limits_sheet(tmp_pat
     ws = openpyxl.load_workbook(path)[L.WINDOWS]
     texts = " ".join(c.value for row in ws.iter_rows() for c in row if isinstance(c.value, str))
     assert "is at most 40 %: 5 equally likely scenarios" in texts
+
+
+# ---------------------------------------------------------------------------------------------
+# The printed report's risk page
+# ---------------------------------------------------------------------------------------------
+
+
+def report_pages(plan: Plan) -> list[str]:
+    from pypdf import PdfReader
+
+    pdf = build_report(wzq.analyse(plan), generated=dt.date(2027, 1, 1), vector=False)
+    return [" ".join(p.extract_text().split()) for p in PdfReader(io.BytesIO(pdf)).pages]
+
+
+@pytest.mark.slow
+def test_the_report_page_gives_failing_weeks_over_weeks_and_the_method(tmp_path: Path) -> None:
+    plan = read_plan(history_book(tmp_path))
+    pages = report_pages(plan)
+    risk = [p for p in pages if "Risk of breaking the limits" in p or "How the risk" in p]
+    assert risk, "no risk page"
+    text = " ".join(risk)
+    # Wednesday 13:00: 3 of 5 weeks over the queue limit, 2 of 5 over the delay limit
+    # (tests/engine/test_risk.py, by hand); the 95 % interval of 3/5 is 14.7-94.7 %
+    # (scipy.stats.binomtest(3, 5).proportion_ci())
+    assert "Wed 2027-05-05 13:00 60.0 40.0 60.0 14.7 94.7" in text
+    assert "Wed 2027-05-05 11:00 40.0 0.0 40.0" in text
+    assert "in 60.0 % of the scenarios" in text  # some hour over a limit: 3 weeks of 5
+    assert "5 equally likely" in text and "Clopper-Pearson" in text
+    assert "Count history: sheet 'Counts'" in text
+    assert "The longest queue in each hour over 5 equally likely scenarios" in text
+    # a plan without a history has no risk page
+    plain = report_pages(hand_plan())
+    assert not any("Risk of breaking the limits" in p for p in plain)
