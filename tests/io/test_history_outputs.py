@@ -21,6 +21,7 @@ from __future__ import annotations
 
 import datetime as dt
 import io
+import json
 from pathlib import Path
 from typing import Any
 
@@ -39,6 +40,7 @@ from wzq.engine.plan import (
     Site,
     Thresholds,
 )
+from wzq.io.jsonplan import plan_to_dict
 from wzq.io.report import build_report
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.reader import read_plan
@@ -372,3 +374,35 @@ def test_the_report_page_gives_failing_weeks_over_weeks_and_the_method(tmp_path:
     # a plan without a history has no risk page
     plain = report_pages(hand_plan())
     assert not any("Risk of breaking the limits" in p for p in plain)
+
+
+# ---------------------------------------------------------------------------------------------
+# The bulk summary
+# ---------------------------------------------------------------------------------------------
+
+
+def write_csv_counts(path: Path, flows: np.ndarray) -> None:
+    lines = ["date," + ",".join(f"{h:02d}:00" for h in range(24))]
+    for k, day in enumerate(flows):
+        date = FIRST_COUNTED + dt.timedelta(days=k)
+        lines.append(f"{date:%Y-%m-%d}," + ",".join(f"{x:g}" for x in day))
+    path.write_text("\n".join(lines) + "\n")
+
+
+@pytest.mark.slow
+def test_the_bulk_summary_gives_the_chance_some_hour_breaks_a_limit(tmp_path: Path) -> None:
+    from wzq.io.batch.runner import run_batch
+
+    write_csv_counts(tmp_path / "station.csv", hand_flows())
+    data = plan_to_dict(hand_plan())
+    data["demand"] = {
+        "start": "2027-05-03T00:00",
+        "hours": 168,
+        "history": {"file": "station.csv", "day_types": "by-name"},
+    }
+    (tmp_path / "history.json").write_text(json.dumps(data))
+    (tmp_path / "plain.json").write_text(json.dumps(plan_to_dict(hand_plan())))
+    rows = {r.file: r for r in run_batch(tmp_path, workers=1).rows}
+    # some hour breaks a limit in the weeks of 1,600, 1,700 and 1,800 veh/h: 3 of 5
+    assert rows["history.json"].risk_any_percent == 60.0
+    assert rows["plain.json"].risk_any_percent is None

@@ -37,6 +37,7 @@ from typing import Any, Literal
 import wzq
 from wzq import units as u
 from wzq.engine.results import Result
+from wzq.engine.risk import plan_risk
 from wzq.io.workbook.save import write_atomically
 from wzq.present.tables import rounded
 
@@ -140,6 +141,9 @@ class PlanRow:
     notes: str
     #: Unrounded longest queue (m): the sort key, not shown.
     max_queue_m: float = field(default=0.0, repr=False)
+    #: With a count history or a capacity spread: the share of the scenarios in which
+    #: some hour breaks a limit (:mod:`wzq.engine.risk`), percent; else blank.
+    risk_any_percent: float | None = None
 
 
 @dataclass(frozen=True)
@@ -173,6 +177,7 @@ COLUMNS: tuple[SummaryColumn, ...] = (
     SummaryColumn("road_user_cost", "Road-user delay cost", 11, "#,##0"),
     SummaryColumn("cost_basis", "Cost basis", 9),
     SummaryColumn("hours_over_limit", "Hours over a limit", 8, "0"),
+    SummaryColumn("risk_any_percent", "Chance some hour over a limit (%)", 10, "0.0"),
     SummaryColumn("status", "Status", 11),
     SummaryColumn("warnings", "Warnings", 36, wrap=True),
     SummaryColumn("notes", "Notes", 24, wrap=True),
@@ -245,7 +250,15 @@ def plan_row(file: str, result: Result) -> PlanRow:
         warnings="; ".join(result.warnings),
         notes=plan.meta.notes,
         max_queue_m=float(s.max_queue_length_m),
+        risk_any_percent=_risk_percent(result),
     )
+
+
+def _risk_percent(result: Result) -> float | None:
+    """The share of the plan's scenarios with some hour over a limit (percent, as shown),
+    when the plan asks for a risk; ``None`` otherwise."""
+    risk = plan_risk(result.plan)
+    return None if risk is None else rounded(100 * risk.summary.p_any_hour, 1)
 
 
 def worst_first(rows: Iterable[PlanRow]) -> list[PlanRow]:
@@ -277,7 +290,7 @@ def row_to_json(row: PlanRow) -> dict[str, Any]:
 def row_from_json(data: dict[str, Any]) -> PlanRow:
     kw: dict[str, Any] = {}
     for f in fields(PlanRow):
-        v = data[f.name]
+        v = data.get(f.name) if f.name == "risk_any_percent" else data[f.name]
         if f.name in ("closure_start", "closure_end", "max_queue_at") and v is not None:
             v = dt.datetime.fromisoformat(v)
         kw[f.name] = v
