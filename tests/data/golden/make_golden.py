@@ -3,7 +3,11 @@
 Run on the code before the package layout was changed (main at 2511b9f, the flat
 ``wzq/`` of 25 modules) to store what every output was then; recorded again after
 the merge of the mutation-testing work, whose one intended change is the caution
-line on every Charts sheet (one more cell per workbook, nothing else moved):
+line on every Charts sheet (one more cell per workbook, nothing else moved); and
+again after the count history reached the workbook and the report, whose one
+intended change here is the report of the plan with a count history
+(larkspur_vale_week.json): a risk page before the method (its headline figures,
+fan chart, hours and method), so every later page number moves:
 
     python3 tests/data/golden/make_golden.py
 
