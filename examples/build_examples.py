@@ -11,7 +11,13 @@ table:
 - ``ashgrove_bypass_week.xlsx``: a week of hourly demand on the fictional
   Ashgrove Bypass (three lanes) with two night closures of two lanes and a
   Saturday daytime closure of one lane: several queues, one of them far longer
-  than the advance warning signs, and the space-time picture.
+  than the advance warning signs, and the space-time picture;
+- ``larkspur_vale_week.xlsx``: a week of evening closures on the fictional
+  Larkspur Vale Expressway whose demand is designed from an invented year of
+  counts (``larkspur_vale_eb_2026.vol``, named on the Demand sheet and read
+  from beside the workbook; made by ``build_count_history.py``): the risk
+  columns on the Results and Permit table sheets, the risk section of the
+  Summary and the fan chart of the longest queue on the Charts sheet.
 
     python examples/build_examples.py
 """
@@ -25,7 +31,12 @@ from wzq.io.jsonplan import load_plan
 from wzq.io.workbook.run import write_filled_workbook
 
 HERE = Path(__file__).resolve().parent
-PLANS = ("kestrel_ridge_weeknight", "fenwick_downs_weekend", "ashgrove_bypass_week")
+PLANS = (
+    "kestrel_ridge_weeknight",
+    "fenwick_downs_weekend",
+    "ashgrove_bypass_week",
+    "larkspur_vale_week",
+)
 
 
 def main() -> int:
