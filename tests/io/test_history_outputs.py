@@ -41,6 +41,7 @@ from wzq.engine.plan import (
     Thresholds,
 )
 from wzq.io.jsonplan import plan_to_dict
+from wzq.io.live.charts import chart_type
 from wzq.io.report import build_report
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.reader import read_plan
@@ -226,6 +227,24 @@ def test_results_and_permit_sheets_carry_failing_weeks_over_weeks(tmp_path: Path
     )
     texts = " ".join(c.value for row in ws.iter_rows() for c in row if isinstance(c.value, str))
     assert "Clopper-Pearson" in texts
+
+    # the fan chart on the Charts sheet: a stacked area chart (bands) over its data block;
+    # hour 13 on Wednesday, longest queue per week by hand (tests/engine/test_risk.py):
+    # 0, 0, 2,578, 5,194, 7,848 m -> median 2.58 km; 85th percentile (linear, rank 3.4)
+    # 5,194 + 0.4 x 2,654 = 6,255.6 m -> band 6.26 - 2.58 = 3.68 km (labels every 2 hours)
+    ws = wb[L.CHARTS]
+    fans = [c for c in ws._charts if c.tagname == "areaChart"]
+    assert len(fans) == 1 and fans[0].grouping == "stacked"
+    assert chart_type(fans[0]) == "area_stacked"  # as the Recalculate button redraws it
+    cells = {
+        (c.value, c.row): c.column for row in ws.iter_rows() for c in row if c.value is not None
+    }
+    head, median = next((r, col) for (v, r), col in cells.items() if v == "Median")
+    row = next(r for (v, r), _ in cells.items() if v == "12:00" and r > head) + 1  # 13:00
+    assert ws.cell(row, median).value == 2.58
+    assert ws.cell(row, median + 1).value == 3.68
+    # 95th percentile: rank 3.8 -> 5,194 + 0.8 x 2,654 = 7,317.2 m -> band 7.32 - 6.26
+    assert ws.cell(row, median + 2).value == 1.06
 
 
 @pytest.mark.slow

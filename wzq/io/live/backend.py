@@ -67,6 +67,7 @@ __all__ = [
     "PROBLEMS_SHEET",
     "Outcome",
     "as_read",
+    "book_folder",
     "main",
     "mirror_book",
     "owned_sheets",
@@ -555,6 +556,16 @@ def _screen(book: Any, on: bool) -> None:
         book.app.screen_updating = on
 
 
+def book_folder(book: Any) -> Path | None:
+    """The folder of the open workbook's file (where a count file named on its Demand sheet
+    is looked for); ``None`` for a workbook never saved or saved online."""
+    try:
+        folder = Path(str(book.fullname)).parent
+    except Exception:  # a workbook object without a file name
+        return None
+    return folder if folder.is_absolute() and folder.is_dir() else None
+
+
 def recalculate(book: Any = None, *, run_time: str | None = None) -> Outcome:
     """Analyse the plan in the open workbook ``book`` and write the results into it.
 
@@ -577,7 +588,7 @@ def recalculate(book: Any = None, *, run_time: str | None = None) -> Outcome:
     _screen(book, False)
     try:
         mirror = mirror_book(book)
-        plan = read_plan_from_book(mirror, book.name)
+        plan = read_plan_from_book(mirror, book.name, folder=book_folder(book))
         check_output_sheets(mirror)  # the writer's ownership rule, before anything changes
         outputs = decide_outputs(wzq.analyse(plan))  # the Site sheet's space-time option too
         out = Workbook()
