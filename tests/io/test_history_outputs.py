@@ -181,6 +181,36 @@ def test_monday_to_thursday_together_mixes_the_four_days(tmp_path: Path) -> None
     assert by_day(plan)[4, 10] == 1000.0  # Friday is a type of its own
 
 
+def test_counts_left_on_the_counts_sheet_with_another_mode_are_named(tmp_path: Path) -> None:
+    hourly = L.word_for(L.DEMAND_MODE_WORDS, L.HOURLY)
+    path = fill_template(hand_plan(), tmp_path / "plan.xlsx")
+    wb = openpyxl.load_workbook(path)
+    type_counts(wb, hand_flows())
+    wb.save(path)
+    plan = read_plan(path)
+    assert plan.history is None
+    said = [w for w in plan.input_warnings if w.startswith("Counts!A2")]
+    assert len(said) == 1 and f"is '{hourly}', so they are not used" in said[0], said
+
+
+def test_the_example_workbook_reads_as_its_json_plan() -> None:
+    # examples/larkspur_vale_week.xlsx was typed from larkspur_vale_week.json by
+    # examples/build_examples.py: the count file named on its Demand sheet, the choices
+    # beside it; read back, it gives the JSON plan's design demand and history
+    from wzq.io.jsonplan import load_plan
+
+    examples = Path(__file__).resolve().parents[2] / "examples"
+    book = read_plan(examples / "larkspur_vale_week.xlsx")
+    plan = load_plan(examples / "larkspur_vale_week.json")
+    np.testing.assert_array_equal(book.demand.flows_veh_h, plan.demand.flows_veh_h)
+    assert book.demand.start == plan.demand.start
+    assert book.history.rule == plan.history.rule
+    assert book.history.file == plan.history.file == "larkspur_vale_eb_2026.vol"
+    np.testing.assert_array_equal(book.history.counts.flows_veh_h, plan.history.counts.flows_veh_h)
+    assert book.risk == plan.risk
+    assert book.closures == plan.closures
+
+
 # ---------------------------------------------------------------------------------------------
 # The risk on the Results and Permit table sheets
 # ---------------------------------------------------------------------------------------------

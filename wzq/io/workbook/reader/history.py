@@ -270,9 +270,13 @@ class HistoryReader:
         return RiskOptions(**values)
 
     def unused_history(self, mode: str) -> None:
-        """Warn when the count history's first day is filled in but another mode is chosen."""
+        """Warn when the count history's first day, or the Counts sheet, is filled in but
+        another mode is chosen."""
+        if mode == L.HISTORY:
+            return
+        self.unused_counts_sheet(mode)
         loc = self.peek("history_first_day")
-        if mode == L.HISTORY or loc is None:
+        if loc is None:
             return
         if _blank(getattr(loc[0]._cells.get(loc[1:]), "value", None)):
             return
@@ -284,4 +288,23 @@ class HistoryReader:
             f"First day of the plan is filled in for the count history, but 'Demand is given "
             f"as' ({switch}) is '{word}', so the count history is not used; clear it, or "
             f"choose '{other}'",
+        )
+
+    def unused_counts_sheet(self, mode: str) -> None:
+        """Warn when the template's Counts sheet holds counts the demand mode leaves unused."""
+        ws = self.history_sheet(L.COUNTS)
+        if ws is None:
+            return
+        filled = sorted(
+            (r, c) for (r, c), cell in ws._cells.items() if r > 1 and not _blank(cell.value)
+        )
+        if not filled:
+            return
+        switch = self.where_of.get(F.DEMAND_MODE.name, F.DEMAND_MODE.name)
+        word = L.word_for(L.DEMAND_MODE_WORDS, mode)
+        other = L.word_for(L.DEMAND_MODE_WORDS, L.HISTORY)
+        self.note(
+            cell_ref(ws.title, *filled[0]),
+            f"the {L.COUNTS} sheet holds counts, but 'Demand is given as' ({switch}) is "
+            f"'{word}', so they are not used; choose '{other}' to design the demand from them",
         )
