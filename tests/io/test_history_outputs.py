@@ -455,3 +455,25 @@ def test_the_bulk_summary_gives_the_chance_some_hour_breaks_a_limit(tmp_path: Pa
     # some hour breaks a limit in the weeks of 1,600, 1,700 and 1,800 veh/h: 3 of 5
     assert rows["history.json"].risk_any_percent == 60.0
     assert rows["plain.json"].risk_any_percent is None
+
+
+def test_a_plan_the_workbook_cannot_hold_is_refused_before_typing(tmp_path: Path) -> None:
+    # the workbook's count history runs whole days from 00:00: a JSON plan from 06:00
+    # cannot be typed into it, and nothing is written
+    from wzq.io.jsonplan import load_plan
+    from wzq.io.workbook.run import write_filled_workbook
+
+    write_csv_counts(tmp_path / "station.csv", hand_flows())
+    data = plan_to_dict(hand_plan())
+    data["demand"] = {
+        "start": "2027-05-03T06:00",
+        "hours": 72,
+        "history": {"file": "station.csv"},
+    }
+    (tmp_path / "p.json").write_text(json.dumps(data))
+    plan = load_plan(tmp_path / "p.json")
+    target = tmp_path / "p.xlsx"
+    with pytest.raises(PlanError) as e:
+        write_filled_workbook(plan, target)
+    assert [p.where for p in e.value.problems] == ["demand.start"]
+    assert not target.exists()

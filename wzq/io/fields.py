@@ -768,7 +768,8 @@ RISK_FIELDS: tuple[Field, ...] = (
         bounds=(0.0, 100.0),
         open_hi=True,
         note="the chance that some hour of the closure's run breaks a limit, e.g. 10; blank: "
-        "windows on the design demand alone (Closure windows sheet)",
+        "windows on the design demand alone (Closure windows sheet); each scenario is "
+        "searched, so with the capacity drawn a week's search takes minutes",
         key="risk.window_risk_percent",
         attribute="risk.window_risk",
         convert="percent",
