@@ -19,6 +19,7 @@ as a designer pastes a station's daily counts:
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 import io
 import json
@@ -477,3 +478,37 @@ def test_a_plan_the_workbook_cannot_hold_is_refused_before_typing(tmp_path: Path
         write_filled_workbook(plan, target)
     assert [p.where for p in e.value.problems] == ["demand.start"]
     assert not target.exists()
+
+
+@pytest.mark.slow
+def test_a_capacity_spread_alone_gives_the_risk_columns(tmp_path: Path) -> None:
+    # hourly counts typed as usual, no history; a coefficient of variation on the Limits
+    # sheet: the risk is assessed on draws of the closure's capacity around the typed 1,500
+    # veh/h; with Wednesday 10:00-14:00 at 1,500 veh/h exactly, the hour breaks the delay
+    # limit in about half the draws (capacity below demand), never outside the closure
+    plan = hand_plan()
+    flows = plan.demand.flows_veh_h.copy()
+    flows[2 * 24 + 10 : 2 * 24 + 14] = 1500.0
+    plan = dataclasses.replace(
+        plan,
+        demand=Demand(PLAN_START, 3600, flows),
+        thresholds=Thresholds(max_queue_length=50.0),
+    )
+    path = fill_template(plan, tmp_path / "spread.xlsx")
+    wb = openpyxl.load_workbook(path)
+    set_named(wb, "risk_capacity_cv", 0.1)
+    set_named(wb, "risk_draws", 400)
+    wb.save(path)
+    read = read_plan(path)
+    assert read.history is None and read.risk.capacity_cv == 0.1 and read.risk.draws == 400
+    run_to(path, run_time="2027-01-01T00:00:00Z")
+    ws = openpyxl.load_workbook(path)[L.RESULTS]
+    head, cols = header_columns(ws, "Hour")
+    any_ = [ws.cell(head + 1 + h, cols["Chance over any limit (%)"]).value for h in range(168)]
+    wed = any_[2 * 24 + 10 : 2 * 24 + 14]
+    # a queue forms in the draws whose capacity is below 1,500 veh/h, half of a normal
+    # distribution around 1,500 (scipy.stats.norm.cdf(0) = 0.5), and 50 m of queue is
+    # about 8 vehicles, a few minutes of a 150 veh/h shortfall: about 50 %; 400 draws
+    # estimate it within 40-60 % (binomial standard deviation 2.5 points)
+    assert all(40 <= x <= 60 for x in wed[1:]), wed
+    assert sum(x for k, x in enumerate(any_) if not 2 * 24 + 10 <= k < 2 * 24 + 15) == 0
