@@ -1030,7 +1030,7 @@ def risk_section(
         _label_rows([(k, text(v)) for k, v in risk_summary_lines(risk, system)], st),
         [0.25 * width, 0.75 * width],
     )
-    fig = fan_figure(risk, result, width / 72, min(3.4, (height - 200) / 72 / 2))
+    fig = fan_figure(risk, result, width / 72, min(3.6, (height - 150) / 72 / 1.6))
     caption = (
         f"Figure {5 if result.plan.options.space_time else 4}. The longest queue in each hour "
         f"over {len(risk.runs):,} equally likely "

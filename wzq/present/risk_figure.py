@@ -20,10 +20,31 @@ from wzq.engine.results import Result
 from wzq.engine.risk import RiskResult
 from wzq.present import figures as F
 
-__all__ = ["BAND_SHADES", "fan_figure"]
+__all__ = ["BAND_SHADES", "CONTEXT_HOURS", "fan_figure"]
 
 #: Grey of the bands, from the median (darkest) out to the 95th percentile (palest).
-BAND_SHADES = ("0.45", "0.68", "0.86")
+BAND_SHADES = ("0.25", "0.5", "0.72")
+
+
+#: Hours drawn before the first closure and after the last queue (or closure) ends.
+CONTEXT_HOURS = 2
+
+
+def _span(risk: RiskResult) -> tuple[int, int]:
+    """The hours drawn, ``[a, b)``: from :data:`CONTEXT_HOURS` before the first closure
+    to as long after the last closure ends or the last 95th-percentile queue clears;
+    the whole period when there is no closure and no queue."""
+    h = risk.hourly
+    n = len(h)
+    start = risk.plan.demand.start
+    hours = [(c.start - start).total_seconds() / 3600 for c in risk.plan.closures]
+    ends = [(c.end - start).total_seconds() / 3600 for c in risk.plan.closures]
+    queued = np.flatnonzero(h["queue_length_p95_m"].to_numpy(float) > 0)
+    if not hours and not len(queued):
+        return 0, n
+    first = min([*hours, *(queued[:1] if len(queued) else [])])
+    last = max([*ends, *((queued[-1] + 1,) if len(queued) else ())])
+    return max(0, int(first) - CONTEXT_HOURS), min(n, int(np.ceil(last)) + CONTEXT_HOURS)
 
 
 def fan_figure(risk: RiskResult, design: Result, width_in: float, height_in: float) -> Figure:
@@ -89,9 +110,10 @@ def fan_figure(risk: RiskResult, design: Result, width_in: float, height_in: flo
                 va="center",
             )
         ax.set_ylim(0, top * 1.12 if top > 0 else 1.0)
-        ax.set_xlim(x[0], x[-1])
-        ax.set_ylabel(f"Longest queue in the hour ({long_name})")
+        a, b = _span(risk)
+        ax.set_xlim(x[a], x[b])
+        ax.set_ylabel(f"Longest queue ({long_name})")
         F._frame(ax)
         F._margins(fig, top_in=0.62)
-        F.time_axis(ax, (edges[-1] - edges[0]) / np.timedelta64(3600_000, "ms"))
+        F.time_axis(ax, float(b - a))
     return fig
