@@ -182,6 +182,26 @@ def test_monday_to_thursday_together_mixes_the_four_days(tmp_path: Path) -> None
     assert by_day(plan)[4, 10] == 1000.0  # Friday is a type of its own
 
 
+def test_a_day_far_below_its_weekday_is_queried_at_the_counts_cell(tmp_path: Path) -> None:
+    # Tuesday 2026-05-12 counted at 40 % of the other Tuesdays (a lane out? a fault?):
+    # used, and said once at 'Counts are on' with the day; listed as a holiday, not said
+    path = history_book(tmp_path)
+    wb = openpyxl.load_workbook(path)
+    ws = wb[L.COUNTS]
+    row = 2 + 8  # day 8 from Monday 2026-05-04
+    assert ws.cell(row, 1).value == dt.datetime(2026, 5, 12)
+    for c in range(2, 26):
+        ws.cell(row, c).value = 400.0
+    wb.save(path)
+    where = named_cell(wb, "history_source").coordinate
+    said = [w for w in read_plan(path).input_warnings if w.startswith(f"Demand!{where}")]
+    assert len(said) == 1 and "1 counted day of Counts look unusual: Tue 2026-05-12" in said[0]
+    wb = openpyxl.load_workbook(path)
+    set_named(wb, "history_holidays", "2026-05-12")
+    wb.save(path)
+    assert not any("look unusual" in w for w in read_plan(path).input_warnings)
+
+
 def test_counts_left_on_the_counts_sheet_with_another_mode_are_named(tmp_path: Path) -> None:
     hourly = L.word_for(L.DEMAND_MODE_WORDS, L.HOURLY)
     path = fill_template(hand_plan(), tmp_path / "plan.xlsx")
