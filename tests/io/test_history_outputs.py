@@ -4,7 +4,7 @@ and the printed report.
 The five hand-built weeks of tests/engine/test_risk.py (a two-lane road, 1,000 veh/h
 at every hour but Wednesday 10:00-14:00, where the five weeks carry 1,400, 1,600,
 1,800, 1,700 and 1,450 veh/h; one lane closed on Wednesday 10:00-14:00 at a typed
-capacity of 1,500 veh/h) are typed into the template's Counts sheet, one day a row,
+capacity of 1,500 veh/h) are typed into the template's Count history sheet, one day a row,
 as a designer pastes a station's daily counts:
 
 * the design demand read from the workbook is the mean (or the percentile) of the
@@ -103,7 +103,7 @@ def clear_demand_table(wb: Any) -> None:
 
 
 def type_counts(wb: Any, flows: np.ndarray, first: dt.date = FIRST_COUNTED) -> None:
-    """One counted day a row below the Counts sheet's header: a date, then 24 counts."""
+    """One counted day a row below the Count history sheet's header: a date, then 24 counts."""
     ws = wb[L.COUNTS]
     for k, day in enumerate(flows):
         ws.cell(2 + k, 1, dt.datetime.combine(first + dt.timedelta(days=k), dt.time()))
@@ -112,7 +112,7 @@ def type_counts(wb: Any, flows: np.ndarray, first: dt.date = FIRST_COUNTED) -> N
 
 
 def history_book(tmp_path: Path, **cells: Any) -> Path:
-    """The hand plan typed into a template with its demand from the Counts sheet."""
+    """The hand plan typed into a template with its demand from the Count history sheet."""
     path = fill_template(hand_plan(), tmp_path / "plan.xlsx")
     wb = openpyxl.load_workbook(path)
     clear_demand_table(wb)
@@ -195,7 +195,10 @@ def test_a_day_far_below_its_weekday_is_queried_at_the_counts_cell(tmp_path: Pat
     wb.save(path)
     where = named_cell(wb, "history_source").coordinate
     said = [w for w in read_plan(path).input_warnings if w.startswith(f"Demand!{where}")]
-    assert len(said) == 1 and "1 counted day of Counts look unusual: Tue 2026-05-12" in said[0]
+    assert (
+        len(said) == 1
+        and "1 counted day on sheet 'Count history' looks unusual: Tue 2026-05-12" in said[0]
+    )
     wb = openpyxl.load_workbook(path)
     set_named(wb, "history_holidays", "2026-05-12")
     wb.save(path)
@@ -210,7 +213,7 @@ def test_counts_left_on_the_counts_sheet_with_another_mode_are_named(tmp_path: P
     wb.save(path)
     plan = read_plan(path)
     assert plan.history is None
-    said = [w for w in plan.input_warnings if w.startswith("Counts!A2")]
+    said = [w for w in plan.input_warnings if w.startswith("'Count history'!A2")]
     assert len(said) == 1 and f"is '{hourly}', so they are not used" in said[0], said
 
 
@@ -327,7 +330,7 @@ def test_a_negative_count_is_named_by_its_cell_and_the_run_refused(tmp_path: Pat
     wb[L.COUNTS]["D5"] = -20  # 2026-05-07 (row 5), 02:00 (column D)
     wb.save(path)
     got = problems_of(path)
-    assert any(p.startswith("Counts!D5") for p in got), got
+    assert any(p.startswith("'Count history'!D5") for p in got), got
     before = path.read_bytes()
     with pytest.raises(PlanError):
         run_to(path, run_time="2027-01-01T00:00:00Z")
@@ -438,7 +441,7 @@ def test_the_report_page_gives_failing_weeks_over_weeks_and_the_method(tmp_path:
     assert "Wed 2027-05-05 11:00 40.0 0.0 40.0" in text
     assert "in 60.0 % of the scenarios" in text  # some hour over a limit: 3 weeks of 5
     assert "5 equally likely" in text and "Clopper-Pearson" in text
-    assert "Count history: sheet 'Counts'" in text
+    assert "Count history: sheet 'Count history'" in text
     assert "The longest queue in each hour over 5 equally likely scenarios" in text
     # a plan without a history has no risk page
     plain = report_pages(hand_plan())

@@ -18,6 +18,7 @@ from typing import Any, Literal
 from wzq import units as u
 from wzq.io.workbook.layout import (
     AREA_WORDS,
+    COUNTS,
     DAY_TYPE_WORDS,
     DEMAND,
     DEMAND_MODE_WORDS,
@@ -835,8 +836,8 @@ HISTORY_SECTIONS: tuple[Section, ...] = (
                 "history_source",
                 "Counts are on",
                 "text",
-                template="Counts",
-                note="a sheet of this workbook (the Counts sheet, or one of yours), or a count "
+                template=COUNTS,
+                note=f"a sheet of this workbook (the {COUNTS} sheet, or one of yours), or a count "
                 "file: its path relative to this workbook (TMG volume records, .csv or .xlsx)",
                 key="demand.history.file",
             ),

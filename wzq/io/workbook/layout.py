@@ -85,7 +85,7 @@ CLOSURES = "Closures"
 LIMITS = "Limits"
 #: Where a count history may be pasted (any sheet of the workbook may be named instead,
 #: or a count file).
-COUNTS = "Counts"
+COUNTS = "Count history"
 #: Input sheets, in the order the template creates them.
 INPUT_SHEETS: tuple[str, ...] = (START, SITE, DEMAND, CLOSURES, LIMITS, COUNTS)
 

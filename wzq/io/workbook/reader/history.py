@@ -1,7 +1,7 @@
 """The demand from a count history, and the risk options.
 
 The Demand sheet's third way to give demand ('from a count history'): the counts
-are read from a sheet of this workbook (the template's Counts sheet or one of the
+are read from a sheet of this workbook (the template's Count history sheet or one of the
 user's) or from a count file named on the Demand sheet, relative to the
 workbook's folder (:mod:`wzq.io.counts`: TMG volume records, CSV, Excel; long or
 wide form); the design demand is built by
@@ -237,11 +237,13 @@ class HistoryReader:
             return
         shown = "; ".join(found[:_UNUSUAL_SHOWN])
         more = f"; and {len(found) - _UNUSUAL_SHOWN} more" if len(found) > _UNUSUAL_SHOWN else ""
+        place = f"sheet '{self._history_sheet.title}'" if self._history_sheet else source
+        days = f"{len(found)} counted days" if len(found) != 1 else "1 counted day"
         self.note(
             self.where_of["history_source"],
-            f"{len(found)} counted day{'s' if len(found) != 1 else ''} of {source} look "
-            f"unusual: {shown}{more}. They are used; list any that is not real traffic in "
-            "'Days to leave out' (`wzq counts` shows the count history)",
+            f"{days} on {place} look{'s' if len(found) == 1 else ''} unusual: {shown}{more}. "
+            "They are used; list any that is not real traffic in 'Days to leave out' "
+            "(`wzq counts` shows a count file's history)",
         )
 
     # -- the risk options -------------------------------------------------------------------
@@ -270,7 +272,7 @@ class HistoryReader:
         return RiskOptions(**values)
 
     def unused_history(self, mode: str) -> None:
-        """Warn when the count history's first day, or the Counts sheet, is filled in but
+        """Warn when the count history's first day, or the Count history sheet, is filled in but
         another mode is chosen."""
         if mode == L.HISTORY:
             return
@@ -291,7 +293,8 @@ class HistoryReader:
         )
 
     def unused_counts_sheet(self, mode: str) -> None:
-        """Warn when the template's Counts sheet holds counts the demand mode leaves unused."""
+        """Warn when the template's Count history sheet holds counts the demand mode leaves
+        unused."""
         ws = self.history_sheet(L.COUNTS)
         if ws is None:
             return
