@@ -534,3 +534,20 @@ def test_a_capacity_spread_alone_gives_the_risk_columns(tmp_path: Path) -> None:
     # estimate it within 40-60 % (binomial standard deviation 2.5 points)
     assert all(40 <= x <= 60 for x in wed[1:]), wed
     assert sum(x for k, x in enumerate(any_) if not 2 * 24 + 10 <= k < 2 * 24 + 15) == 0
+
+
+@pytest.mark.slow
+def test_with_no_hour_listed_the_permit_message_stays_above_the_risk_note(tmp_path: Path) -> None:
+    path = history_book(tmp_path)
+    wb = openpyxl.load_workbook(path)
+    ws, table = find_table(wb, L.CLOSURE_TABLE)
+    c0, r0, c1, r1 = openpyxl.utils.range_boundaries(table.ref)
+    for r in range(r0 + 1, r1 + 1):
+        for c in range(c0, c1 + 1):
+            ws.cell(r, c).value = None
+    wb.save(path)
+    run_to(path, run_time="2027-01-01T00:00:00Z")
+    ws = openpyxl.load_workbook(path)[L.PERMIT_TABLE]
+    texts = [c.value for c in ws["A"] if isinstance(c.value, str)]
+    message = texts.index("No closure hours and no queue in the demand period.")
+    assert texts[message + 1].startswith("Chance: the share of 5 equally likely scenarios")

@@ -174,7 +174,9 @@ def add_risk_to_permit(
     for k in range(len(rows)):  # the interval text reads better centred
         ws.cell(table.first_row + k, table.columns["p_any_text"]).alignment = w.CENTRE
     ws.column_dimensions[get_column_letter(table.columns["p_any_text"])].width = 19
-    out.put(max(table.last_row, table.header_row) + 1, 1, risk_note(risk), font=w.SMALL)
+    # the row below the table is blank; with no hour listed, the one below its message
+    below = table.last_row + 1 if len(rows) else table.header_row + 2
+    out.put(below, 1, risk_note(risk), font=w.SMALL)
     c0, r0, _, r1 = _print_area(ws)
     _set_print_area(ws, c0, r0, last_col, r1)
 
