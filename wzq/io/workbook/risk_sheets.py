@@ -20,6 +20,7 @@ import numpy as np
 import pandas as pd
 from openpyxl.chart import AreaChart, LineChart, Reference
 from openpyxl.chart.axis import ChartLines
+from openpyxl.styles import Alignment
 from openpyxl.utils import get_column_letter
 from openpyxl.utils.cell import range_boundaries
 from openpyxl.worksheet.pagebreak import Break
@@ -57,6 +58,7 @@ __all__ = [
     "risk_note",
 ]
 
+RIGHT = Alignment(horizontal="right")
 #: First column of the fan chart's data block on the Charts sheet (after the others).
 FAN_COL = C.CUM_COL + 5
 #: Characters of text on one printed line of the Summary sheet: a value (columns B-G),
@@ -138,10 +140,10 @@ def add_risk_to_results(out: w.SheetWriter, risk: RiskResult, table: w.TableRef)
     system = risk.plan.site.unit_system
     cols = risk_columns(risk, system)
     n = len(risk.hourly)
-    first_col = max(table.columns.values()) + 1
     last_col = _add_columns(out, table, cols, risk_values(risk, cols), np.arange(n))
-    # above the new columns (rows 1-3 hold the title, the site and the units)
-    out.put(2, first_col, risk_note(risk), font=w.SMALL)
+    # above the new columns (rows 1-3 hold the title, the site and the units), ending at
+    # the last of them so that it prints: right-aligned text runs to the left
+    out.put(2, last_col, risk_note(risk), font=w.SMALL, alignment=RIGHT)
     if n:
         ws.auto_filter.ref = f"A{table.header_row}:{get_column_letter(last_col)}{table.last_row}"
     c0, r0, _, r1 = _print_area(ws)
