@@ -551,3 +551,17 @@ def test_with_no_hour_listed_the_permit_message_stays_above_the_risk_note(tmp_pa
     texts = [c.value for c in ws["A"] if isinstance(c.value, str)]
     message = texts.index("No closure hours and no queue in the demand period.")
     assert texts[message + 1].startswith("Chance: the share of 5 equally likely scenarios")
+
+
+@pytest.mark.slow
+def test_the_report_windows_page_is_at_the_plans_risk(tmp_path: Path) -> None:
+    plan = read_plan(
+        history_book(
+            tmp_path,
+            risk_window_percent=40,
+            opt_closure_windows=L.word_for(L.YES_NO_WORDS, True),
+        )
+    )
+    text = " ".join(report_pages(plan))
+    assert "Allowable closure hours" in text
+    assert "is at most 40 %: 5 equally likely scenarios" in text
