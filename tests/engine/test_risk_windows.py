@@ -38,7 +38,7 @@ from wzq.engine import risk as R
 from wzq.engine import windows as W
 from wzq.engine.design_demand import CountHistory, DemandHistory, DemandRule
 from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, RiskOptions, Site, Thresholds
-from wzq.engine.risk_windows import risk_windows, window_scenarios
+from wzq.engine.risk_windows import closure_windows, risk_windows, window_scenarios
 from wzq.io.jsonplan import load_plan, plan_to_dict
 
 V_F = 25.0
@@ -229,3 +229,32 @@ def test_the_json_window_risk_and_the_windows_command(tmp_path: Path) -> None:
     path.write_text(json.dumps(bad))
     with pytest.raises(PlanError, match=r"risk\.window_risk_percent"):
         load_plan(path)
+
+
+def test_a_plan_the_risk_is_not_assessed_for_gets_the_design_windows_with_the_reason(
+    tmp_path: Path,
+) -> None:
+    # a congested branch set by its wave speed: the scenarios are not solved for it yet,
+    # so the windows are those of the design demand, with a note; the workbook, the
+    # report and the bulk summary still show everything else
+    from wzq.io.batch.summary import plan_row
+    from wzq.io.report import build_report
+    from wzq.io.workbook.outputs import decide_outputs
+
+    wednesdays = np.full((5, 24), 500.0)
+    wednesdays[[1, 3, 4], 10] = 3000.0
+    plan = wednesday_plan(wednesdays, Thresholds(max_demand_capacity=1.0))
+    site = dataclasses.replace(plan.site, congested_branch="wave-speed", wave_speed=6.0)
+    plan = dataclasses.replace(plan, site=site, risk=RiskOptions(window_risk=0.4))
+    found = closure_windows(plan, [1])
+    assert found.rule == W.ALL_HOURS_RULE
+    assert any("not at a risk" in n and "congested branch" in n for n in found.notes)
+    (ws,) = found.sets
+    design = W.plan_windows(plan, [1])
+    np.testing.assert_array_equal(ws.allowed, design.sets[0].allowed)
+    result = wzq.analyse(plan)
+    out = decide_outputs(result, windows=False, space_time=False)
+    assert out.risk is None
+    assert any("risk of breaking the limits is not shown" in w for w in out.result.warnings)
+    assert plan_row("p.json", result).risk_any_percent is None
+    assert build_report(result, vector=False)[:4] == b"%PDF"

@@ -202,9 +202,18 @@ def closure_windows(
     fraction; default the plan's ``risk.window_risk``) when one is given and the plan
     has scenarios to judge it on (a count history or a capacity spread,
     :func:`wzq.engine.risk.asks_for_risk`), else on the design demand
-    (:func:`wzq.engine.windows.plan_windows`)."""
+    (:func:`wzq.engine.windows.plan_windows`). A plan the risk is not yet assessed for
+    (:func:`wzq.engine.risk.refuse_approach`) gets the design demand's windows with a
+    note that says why."""
     if level is None and plan.risk is not None and asks_for_risk(plan):
         level = plan.risk.window_risk
     if level is None:
         return W.plan_windows(plan, lanes_closed, barrier=barrier)
+    try:
+        refuse_approach(plan)
+    except PlanError as e:  # said beside the windows, which are on the design demand
+        found = W.plan_windows(plan, lanes_closed, barrier=barrier)
+        why = "; ".join(p.message for p in e.problems)
+        note = f"Windows on the design demand alone, not at a risk: {why}."
+        return replace(found, notes=(*found.notes, note))
     return risk_windows(plan, level, lanes_closed, barrier=barrier).windows

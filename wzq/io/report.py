@@ -1328,7 +1328,16 @@ def build_report(
         story += [soft, *windows_section(result, st, width)]
     if plan.options.space_time:
         story += [PageBreak(), *space_time_section(result, st, width, height, vector)]
-    risk = plan_risk(plan)  # a count history or a capacity spread: the risk page
+    try:
+        risk = plan_risk(plan)  # a count history or a capacity spread: the risk page
+    except PlanError as e:  # a plan the risk is not yet assessed for: the page says why
+        why = "; ".join(p.message for p in e.problems)
+        story += [
+            soft,
+            Paragraph("Risk of breaking the limits", st.h1),
+            Paragraph(text(f"Not shown: {why}."), st.body),
+        ]
+        risk = None
     if risk is not None:
         story += [PageBreak(), *risk_section(result, risk, st, width, height, vector)]
     story += [soft, *method_section(result, st, width)]

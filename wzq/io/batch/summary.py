@@ -36,6 +36,7 @@ from typing import Any, Literal
 
 import wzq
 from wzq import units as u
+from wzq.engine.problems import PlanError
 from wzq.engine.results import Result
 from wzq.engine.risk import plan_risk
 from wzq.io.workbook.save import write_atomically
@@ -257,7 +258,10 @@ def plan_row(file: str, result: Result) -> PlanRow:
 def _risk_percent(result: Result) -> float | None:
     """The share of the plan's scenarios with some hour over a limit (percent, as shown),
     when the plan asks for a risk; ``None`` otherwise."""
-    risk = plan_risk(result.plan)
+    try:
+        risk = plan_risk(result.plan)
+    except PlanError:  # a plan the risk is not yet assessed for (its workbook says why)
+        return None
     return None if risk is None else rounded(100 * risk.summary.p_any_hour, 1)
 
 

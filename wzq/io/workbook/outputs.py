@@ -19,6 +19,7 @@ from dataclasses import dataclass
 from openpyxl.workbook.workbook import Workbook
 
 import wzq
+from wzq.engine.problems import PlanError
 from wzq.engine.results import Result
 from wzq.engine.risk import RiskResult, plan_risk
 from wzq.engine.risk_windows import closure_windows
@@ -78,7 +79,13 @@ def decide_outputs(
         picture, warnings = space_time_picture(result)
         result = result.with_warnings(warnings)
     wanted = options.closure_windows if windows is None else windows
-    return Outputs(result, wanted, picture, plan_risk(result.plan))
+    try:
+        risk = plan_risk(result.plan)
+    except PlanError as e:  # a plan the risk is not yet assessed for: the rest still shows
+        risk = None
+        why = "; ".join(p.message for p in e.problems)
+        result = result.with_warnings([f"the risk of breaking the limits is not shown: {why}"])
+    return Outputs(result, wanted, picture, risk)
 
 
 def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
