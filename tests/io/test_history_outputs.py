@@ -565,3 +565,18 @@ def test_the_report_windows_page_is_at_the_plans_risk(tmp_path: Path) -> None:
     text = " ".join(report_pages(plan))
     assert "Allowable closure hours" in text
     assert "is at most 40 %: 5 equally likely scenarios" in text
+
+
+@pytest.mark.slow
+def test_the_button_reads_a_count_file_beside_the_open_workbook(tmp_path: Path) -> None:
+    # xlwings' Book.fullname gives the open workbook's folder, where the count file is
+    from fake_xlwings import open_book
+
+    from wzq.io.live import backend as live
+
+    write_csv_counts(tmp_path / "station.csv", hand_flows())
+    book = open_book(history_book(tmp_path, history_source="station.csv"))
+    outcome = live.recalculate(book, run_time="2027-01-01T00:00:00Z")
+    assert outcome.ok, outcome
+    assert outcome.result.plan.history.file == "station.csv"
+    assert outcome.result.plan.demand.flows_veh_h.reshape(7, 24)[2, 10] == 1590.0
