@@ -837,8 +837,8 @@ HISTORY_SECTIONS: tuple[Section, ...] = (
                 "Counts are on",
                 "text",
                 template=COUNTS,
-                note=f"a sheet of this workbook (the {COUNTS} sheet, or one of yours), or a count "
-                "file: its path relative to this workbook (TMG volume records, .csv or .xlsx)",
+                note=f"the {COUNTS} sheet, another sheet of this workbook, or a count file named "
+                "relative to it (TMG, .csv, .xlsx)",
                 key="demand.history.file",
             ),
             Field(
