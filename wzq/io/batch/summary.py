@@ -30,7 +30,7 @@ import io
 import json
 import math
 from collections.abc import Iterable, Sequence
-from dataclasses import asdict, dataclass, field, fields
+from dataclasses import MISSING, asdict, dataclass, field, fields
 from pathlib import Path
 from typing import Any, Literal
 
@@ -38,7 +38,7 @@ import wzq
 from wzq import units as u
 from wzq.engine.results import Result
 from wzq.io.workbook.save import write_atomically
-from wzq.present.tables import rounded
+from wzq.present.tables import farthest_passed, rounded
 
 __all__ = [
     "COLUMNS",
@@ -140,6 +140,8 @@ class PlanRow:
     notes: str
     #: Unrounded longest queue (m): the sort key, not shown.
     max_queue_m: float = field(default=0.0, repr=False)
+    #: The farthest landmark upstream the queue passed (``none``; blank: no landmarks).
+    landmark_passed: str = ""
 
 
 @dataclass(frozen=True)
@@ -173,6 +175,7 @@ COLUMNS: tuple[SummaryColumn, ...] = (
     SummaryColumn("road_user_cost", "Road-user delay cost", 11, "#,##0"),
     SummaryColumn("cost_basis", "Cost basis", 9),
     SummaryColumn("hours_over_limit", "Hours over a limit", 8, "0"),
+    SummaryColumn("landmark_passed", "Farthest landmark the queue passed", 18, wrap=True),
     SummaryColumn("status", "Status", 11),
     SummaryColumn("warnings", "Warnings", 36, wrap=True),
     SummaryColumn("notes", "Notes", 24, wrap=True),
@@ -208,7 +211,13 @@ def plan_row(file: str, result: Result) -> PlanRow:
     closures = plan.closures
     th = plan.thresholds
     checked = any(
-        v is not None for v in (th.max_queue_length, th.max_average_delay, th.max_demand_capacity)
+        v is not None
+        for v in (
+            th.max_queue_length,
+            th.max_average_delay,
+            th.max_demand_capacity,
+            th.queue_must_not_pass,
+        )
     )
     failing = len(s.hours_failing)
     status = STATUS_OVER if failing else (STATUS_OK if checked else STATUS_NO_LIMITS)
@@ -245,7 +254,16 @@ def plan_row(file: str, result: Result) -> PlanRow:
         warnings="; ".join(result.warnings),
         notes=plan.meta.notes,
         max_queue_m=float(s.max_queue_length_m),
+        landmark_passed=_landmark_passed(result),
     )
+
+
+def _landmark_passed(result: Result) -> str:
+    """The farthest landmark the queue passed, by name; ``none``; blank without landmarks."""
+    if not result.plan.approach.landmarks:
+        return ""
+    passed = farthest_passed(result)
+    return "none" if passed is None else passed.landmark.name
 
 
 def worst_first(rows: Iterable[PlanRow]) -> list[PlanRow]:
@@ -277,6 +295,8 @@ def row_to_json(row: PlanRow) -> dict[str, Any]:
 def row_from_json(data: dict[str, Any]) -> PlanRow:
     kw: dict[str, Any] = {}
     for f in fields(PlanRow):
+        if f.name not in data and f.default is not MISSING:  # a state written before it
+            continue
         v = data[f.name]
         if f.name in ("closure_start", "closure_end", "max_queue_at") and v is not None:
             v = dt.datetime.fromisoformat(v)

@@ -44,6 +44,7 @@ __all__ = [
     "BUTTON_SOURCE",
     "INSTRUCTIONS",
     "LABEL_WIDTH",
+    "LIST_SOURCES",
     "MACRO_INSTRUCTION",
     "NOTE_WIDTH",
     "SAMPLE_MODULE",
@@ -72,7 +73,8 @@ NOTE_WIDTH = 62
 
 INSTRUCTIONS: tuple[str, ...] = (
     f"1. Fill in the {L.INPUT_COLOUR_WORD} cells on the sheets Site, Demand, Closures and "
-    "Limits; grey text beside a value explains it.",
+    "Limits (and Approach, for ramps and landmarks upstream); grey text beside a value "
+    "explains it.",
     "2. Choose the unit system below first. Every value is in that system; its unit is shown "
     "beside it.",
     "3. Demand: hourly (or 15-minute) counts in the table on the Demand sheet, or an AADT "
@@ -147,9 +149,13 @@ def vba_project_bytes() -> bytes:
             return z.read(VBA_PART)
 
 
+#: The font and alignment every format of the template starts from.
+_BASE = {"font_name": "Calibri", "font_size": 11, "valign": "top"}
+
+
 def _formats(wb: xlsxwriter.Workbook) -> dict[str, Format]:
     c = L.COLOURS
-    base = {"font_name": "Calibri", "font_size": 11, "valign": "top"}
+    base = _BASE
     inp = {**base, "bg_color": c["input_fill"], "border": 1, "border_color": c["input_border"]}
     return {
         "title": wb.add_format({**base, "bold": True, "font_size": 16, "font_color": c["title"]}),
@@ -190,8 +196,14 @@ def _formats(wb: xlsxwriter.Workbook) -> dict[str, Format]:
         "in_end": wb.add_format({**inp, "num_format": L.END_TIME_FORMAT, "align": "left"}),
         "in_flow": wb.add_format({**inp, "num_format": "#,##0"}),
         "in_share": wb.add_format({**inp, "num_format": "0.0"}),
+        "in_distance": wb.add_format({**inp, "num_format": "0.00"}),
         "hour": wb.add_format({**base, "num_format": L.TIME_FORMAT, "align": "left"}),
     }
+
+
+#: Text inputs offered from a list elsewhere in the workbook (the dropdown still lets a
+#: name be typed that the list does not hold: the reader checks it).
+LIST_SOURCES: dict[str, str] = {"limit_landmark": f"={L.LANDMARK_NAMES}"}
 
 
 def _unit_cell(ws: Worksheet, row: int, col: int, field: F.Field, fmt: Format) -> None:
@@ -224,6 +236,20 @@ def _value_cell(
         ws.write_number(row, col, value, fmt)
     ref = xlsxwriter.utility.xl_rowcol_to_cell(row, col, row_abs=True, col_abs=True)
     wb.define_name(field.name, f"={ws.name}!{ref}")
+    if field.name in LIST_SOURCES:  # text offered from a list on another sheet
+        ws.data_validation(
+            row,
+            col,
+            row,
+            col,
+            {
+                "validate": "list",
+                "source": LIST_SOURCES[field.name],
+                "error_type": "warning",
+                "error_title": "Not in the list",
+                "error_message": "Type the name of a landmark on the Approach sheet.",
+            },
+        )
     if field.kind == "choice":
         ws.data_validation(
             row,
@@ -492,6 +518,109 @@ def _closure_sheet(ws: Worksheet, f: dict) -> None:
     ws.freeze_panes(top + 1, 0)
 
 
+def _approach_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
+    """Landmarks upstream of the closure (``LandmarkTable``, columns A-E) and the hourly
+    flows of ramps (``RampFlowTable``, from column G): side by side, so that nothing of
+    one lies below the other (a row typed below a table is read as part of it)."""
+    ws.write_string(0, 0, "Approach", f["title"])
+    ws.write_string(
+        1,
+        0,
+        "The road upstream of the closure in this direction: landmarks the queue may reach, "
+        "and ramps that feed or drain it. Leave it empty if there are none.",
+        f["subtitle"],
+    )
+    notes = (
+        "Distance: upstream from the start of the taper. The demand on the Demand sheet is "
+        "the mainline flow upstream of every ramp; flows are on the closure's clock.",
+        "Ramp flow: the ramp's share of the mainline flow arriving at it, in % (for an exit "
+        "ramp, the share that leaves there); or blank, with its hourly flows in the table on "
+        "the right.",
+        "A queue past the end of the advance warning signing is warned about; name a landmark "
+        "under 'Queue must not pass' on the Limits sheet to make it a limit.",
+    )
+    wrap = wb.add_format({**_BASE, "italic": True, "font_color": L.COLOURS["note_text"],
+                          "text_wrap": True})  # fmt: skip
+    for k, text in enumerate(notes):
+        ws.merge_range(2 + k, 0, 2 + k, len(L.LANDMARK_COLUMNS) - 1, text, wrap)
+        ws.set_row(2 + k, 30)
+    ws.set_row(0, 24)
+    top = 6
+    ws.write_string(top - 1, 0, "Units", f["unit"])
+    dist = F.Field("", "", "number", "long")
+    _unit_cell(ws, top - 1, 1, dist, f["unit"])
+    ws.write_string(top - 1, 3, "%", f["unit"])
+    n = L.LANDMARK_TEMPLATE_ROWS
+    fmts = (f["in_text"], f["in_distance"], f["in_choice"], f["in_share"], f["in_text"])
+    ws.add_table(
+        top,
+        0,
+        top + n,
+        len(L.LANDMARK_COLUMNS) - 1,
+        {
+            "name": L.LANDMARK_TABLE,
+            "style": None,
+            "autofilter": False,
+            "columns": [
+                {"header": h, "header_format": f["header"], "format": fm}
+                for h, fm in zip(L.LANDMARK_COLUMNS, fmts, strict=True)
+            ],
+        },
+    )
+    _blank_rows(ws, top + 1, n, fmts)
+    ws.data_validation(
+        top + 1,
+        2,
+        top + n,
+        2,
+        {
+            "validate": "list",
+            "source": [w for w, _ in L.LANDMARK_KIND_WORDS],
+            "error_title": "Not in the list",
+            "error_message": "Pick one of the words in the list.",
+        },
+    )
+    first = xlsxwriter.utility.xl_rowcol_to_cell(top + 1, 0, row_abs=True, col_abs=True)
+    last = xlsxwriter.utility.xl_rowcol_to_cell(top + n, 0, row_abs=True, col_abs=True)
+    wb.define_name(L.LANDMARK_NAMES, f"={ws.name}!{first}:{last}")
+    # hourly ramp flows, to the right
+    left = len(L.LANDMARK_COLUMNS) + 1
+    ws.write_string(top - 2, left, "Hourly ramp flows (veh/h)", f["section"])
+    for k in range(1, 2 + len(L.RAMP_FLOW_PLACEHOLDERS)):
+        ws.write_blank(top - 2, left + k, None, f["section"])
+    ws.write_string(
+        top - 1,
+        left,
+        "One row per hour of the demand; rename a column header to the ramp's name.",
+        f["note"],
+    )
+    rows = L.RAMP_FLOW_TEMPLATE_ROWS
+    heads = (*L.RAMP_FLOW_COLUMNS, *L.RAMP_FLOW_PLACEHOLDERS)
+    flow_fmts = (f["in_date"], f["in_time"], *([f["in_flow"]] * len(L.RAMP_FLOW_PLACEHOLDERS)))
+    ws.add_table(
+        top,
+        left,
+        top + rows,
+        left + len(heads) - 1,
+        {
+            "name": L.RAMP_FLOW_TABLE,
+            "style": None,
+            "autofilter": False,
+            "columns": [
+                {"header": h, "header_format": f["header"], "format": fm}
+                for h, fm in zip(heads, flow_fmts, strict=True)
+            ],
+        },
+    )
+    for r in range(top + 1, top + rows + 1):
+        for c, fm in enumerate(flow_fmts):
+            ws.write_blank(r, left + c, None, fm)
+    for col, width in enumerate((30, 16, 28, 14, 30, 3, 18, 10, 14, 14, 14, 14)):
+        ws.set_column(col, col, width)
+    ws.set_row(top, 45)
+    ws.freeze_panes(top + 1, 0)
+
+
 def build_template(path: Path, *, macro: bool) -> None:
     """Write a fresh, empty plan workbook to ``path`` (``.xlsm`` with macros if ``macro``).
 
@@ -538,6 +667,7 @@ def build_template(path: Path, *, macro: bool) -> None:
         f,
     )
     _sections(wb, sheets[L.LIMITS], F.LIMITS_SECTIONS, row, f)
+    _approach_sheet(wb, sheets[L.APPROACH], f)
     for ws in sheets.values():
         ws.set_landscape()
         ws.fit_to_pages(1, 0)
