@@ -11,7 +11,13 @@ table:
 - ``ashgrove_bypass_week.xlsx``: a week of hourly demand on the fictional
   Ashgrove Bypass (three lanes) with two night closures of two lanes and a
   Saturday daytime closure of one lane: several queues, one of them far longer
-  than the advance warning signs, and the space-time picture.
+  than the advance warning signs, and the space-time picture;
+- ``brackenholm_interchange_evening.xlsx``: an evening closure of two of three
+  lanes on the fictional Brackenholm Expressway below the Exit 12 interchange:
+  the Approach sheet lists two entrance ramps (one with hourly flows, one as a
+  share of the mainline), the Exit 12 off-ramp (a share) that the queue must not
+  pass, a bridge and the end of the advance warning signs; the congested branch
+  goes through the HCM density at capacity.
 
     python examples/build_examples.py
 """
@@ -25,7 +31,12 @@ from wzq.io.jsonplan import load_plan
 from wzq.io.workbook.run import write_filled_workbook
 
 HERE = Path(__file__).resolve().parent
-PLANS = ("kestrel_ridge_weeknight", "fenwick_downs_weekend", "ashgrove_bypass_week")
+PLANS = (
+    "kestrel_ridge_weeknight",
+    "fenwick_downs_weekend",
+    "ashgrove_bypass_week",
+    "brackenholm_interchange_evening",
+)
 
 
 def main() -> int:
