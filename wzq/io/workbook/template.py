@@ -237,32 +237,21 @@ def _value_cell(
     ref = xlsxwriter.utility.xl_rowcol_to_cell(row, col, row_abs=True, col_abs=True)
     wb.define_name(field.name, f"={ws.name}!{ref}")
     if field.name in LIST_SOURCES:  # text offered from a list on another sheet
-        ws.data_validation(
-            row,
-            col,
-            row,
-            col,
-            {
-                "validate": "list",
-                "source": LIST_SOURCES[field.name],
-                "error_type": "warning",
-                "error_title": "Not in the list",
-                "error_message": "Type the name of a landmark on the Approach sheet.",
-            },
-        )
-    if field.kind == "choice":
-        ws.data_validation(
-            row,
-            col,
-            row,
-            col,
-            {
-                "validate": "list",
-                "source": [w for w, _ in field.choices],
-                "error_title": "Not in the list",
-                "error_message": "Pick one of the words in the list.",
-            },
-        )
+        rule = {
+            "source": LIST_SOURCES[field.name],
+            "error_type": "warning",
+            "error_message": "Type the name of a landmark on the Approach sheet.",
+        }
+    elif field.kind == "choice":
+        rule = {
+            "source": [w for w, _ in field.choices],
+            "error_message": "Pick one of the words in the list.",
+        }
+    else:
+        return
+    ws.data_validation(
+        row, col, row, col, {"validate": "list", "error_title": "Not in the list", **rule}
+    )
 
 
 def _sections(
@@ -348,11 +337,41 @@ def _start_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict, macro: bool) -
         )
 
 
-def _blank_rows(ws: Worksheet, first: int, n: int, fmts: Sequence[Format]) -> None:
+def _blank_rows(ws: Worksheet, first: int, n: int, fmts: Sequence[Format], left: int = 0) -> None:
     """Styled empty rows of a table (a table's column format covers only written cells)."""
     for r in range(first, first + n):
         for c, fm in enumerate(fmts):
-            ws.write_blank(r, c, None, fm)
+            ws.write_blank(r, left + c, None, fm)
+
+
+def _input_table(
+    ws: Worksheet,
+    top: int,
+    left: int,
+    n: int,
+    name: str,
+    headers: Sequence[str],
+    fmts: Sequence[Format],
+    header: Format,
+) -> None:
+    """An empty input table: its header row at ``top`` from column ``left``, ``n``
+    styled blank rows below it."""
+    ws.add_table(
+        top,
+        left,
+        top + n,
+        left + len(headers) - 1,
+        {
+            "name": name,
+            "style": None,
+            "autofilter": False,
+            "columns": [
+                {"header": h, "header_format": header, "format": fm}
+                for h, fm in zip(headers, fmts, strict=True)
+            ],
+        },
+    )
+    _blank_rows(ws, top + 1, n, fmts, left)
 
 
 def _demand_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
@@ -380,22 +399,7 @@ def _demand_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
     top = 7
     n = L.DEMAND_TEMPLATE_ROWS
     fmts = (f["in_date"], f["in_time"], f["in_flow"])
-    ws.add_table(
-        top,
-        0,
-        top + n,
-        2,
-        {
-            "name": L.DEMAND_TABLE,
-            "style": None,
-            "autofilter": False,
-            "columns": [
-                {"header": h, "header_format": f["header"], "format": fm}
-                for h, fm in zip(L.DEMAND_COLUMNS, fmts, strict=True)
-            ],
-        },
-    )
-    _blank_rows(ws, top + 1, n, fmts)
+    _input_table(ws, top, 0, n, L.DEMAND_TABLE, L.DEMAND_COLUMNS, fmts, f["header"])
     ws.freeze_panes(top + 1, 0)
     # from AADT
     ws.write_string(5, 4, "From AADT", f["section"])
@@ -483,22 +487,7 @@ def _closure_sheet(ws: Worksheet, f: dict) -> None:
         f["in_flow"],
         f["in_text"],
     )
-    ws.add_table(
-        top,
-        0,
-        top + n,
-        len(L.CLOSURE_COLUMNS) - 1,
-        {
-            "name": L.CLOSURE_TABLE,
-            "style": None,
-            "autofilter": False,
-            "columns": [
-                {"header": h, "header_format": f["header"], "format": fm}
-                for h, fm in zip(L.CLOSURE_COLUMNS, fmts, strict=True)
-            ],
-        },
-    )
-    _blank_rows(ws, top + 1, n, fmts)
+    _input_table(ws, top, 0, n, L.CLOSURE_TABLE, L.CLOSURE_COLUMNS, fmts, f["header"])
     for col, words in ((4, L.BARRIER_WORDS), (5, L.NIGHT_WORDS)):
         ws.data_validation(
             top + 1,
@@ -552,22 +541,7 @@ def _approach_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
     ws.write_string(top - 1, 3, "%", f["unit"])
     n = L.LANDMARK_TEMPLATE_ROWS
     fmts = (f["in_text"], f["in_distance"], f["in_choice"], f["in_share"], f["in_text"])
-    ws.add_table(
-        top,
-        0,
-        top + n,
-        len(L.LANDMARK_COLUMNS) - 1,
-        {
-            "name": L.LANDMARK_TABLE,
-            "style": None,
-            "autofilter": False,
-            "columns": [
-                {"header": h, "header_format": f["header"], "format": fm}
-                for h, fm in zip(L.LANDMARK_COLUMNS, fmts, strict=True)
-            ],
-        },
-    )
-    _blank_rows(ws, top + 1, n, fmts)
+    _input_table(ws, top, 0, n, L.LANDMARK_TABLE, L.LANDMARK_COLUMNS, fmts, f["header"])
     ws.data_validation(
         top + 1,
         2,
@@ -597,24 +571,7 @@ def _approach_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
     rows = L.RAMP_FLOW_TEMPLATE_ROWS
     heads = (*L.RAMP_FLOW_COLUMNS, *L.RAMP_FLOW_PLACEHOLDERS)
     flow_fmts = (f["in_date"], f["in_time"], *([f["in_flow"]] * len(L.RAMP_FLOW_PLACEHOLDERS)))
-    ws.add_table(
-        top,
-        left,
-        top + rows,
-        left + len(heads) - 1,
-        {
-            "name": L.RAMP_FLOW_TABLE,
-            "style": None,
-            "autofilter": False,
-            "columns": [
-                {"header": h, "header_format": f["header"], "format": fm}
-                for h, fm in zip(heads, flow_fmts, strict=True)
-            ],
-        },
-    )
-    for r in range(top + 1, top + rows + 1):
-        for c, fm in enumerate(flow_fmts):
-            ws.write_blank(r, left + c, None, fm)
+    _input_table(ws, top, left, rows, L.RAMP_FLOW_TABLE, heads, flow_fmts, f["header"])
     for col, width in enumerate((30, 16, 28, 14, 30, 3, 18, 10, 14, 14, 14, 14)):
         ws.set_column(col, col, width)
     ws.set_row(top, 45)
