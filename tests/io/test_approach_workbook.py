@@ -42,7 +42,7 @@ from wzq.io.workbook import layout as L
 from wzq.io.workbook.charts import DATA_HEADER_ROW, LANDMARK_COL
 from wzq.io.workbook.landmark_tables import BEYOND
 from wzq.io.workbook.reader import read_plan
-from wzq.io.workbook.run import run_to
+from wzq.io.workbook.run import run_to, write_filled_workbook
 from wzq.present.figures import queue_length_figure
 from wzq.present.show import print_approach
 
@@ -295,6 +295,19 @@ def test_flows_under_a_column_no_ramp_is_named_after_warn(typed: Path, tmp_path:
     ), plan.input_warnings
 
 
+def test_the_limit_matches_a_landmark_regardless_of_case(typed: Path, tmp_path: Path) -> None:
+    def edit(wb):
+        set_named(wb, "limit_landmark", "  ash lane   BRIDGE ")
+
+    plan = read_plan(edited(typed, tmp_path, edit))
+    assert plan.thresholds.queue_must_not_pass == "Ash Lane bridge"
+    cell = named_cell(load_workbook(typed), "limit_landmark").coordinate
+    assert any(
+        w.startswith(f"Limits!{cell}") and "read as the landmark 'Ash Lane bridge'" in w
+        for w in plan.input_warnings
+    ), plan.input_warnings
+
+
 def test_the_congested_branch_reads_from_the_site_sheet(typed: Path, tmp_path: Path) -> None:
     """14 mi/h typed as the backward wave speed is 14 x 0.44704 = 6.25856 m/s (NIST SP
     811 appendix B: 1 mi/h = 0.44704 m/s exactly), above the site's derived 5.41 m/s."""
@@ -307,6 +320,29 @@ def test_the_congested_branch_reads_from_the_site_sheet(typed: Path, tmp_path: P
     assert plan.site.congested_branch == "wave-speed"
     assert plan.site.wave_speed == pytest.approx(6.25856, rel=1e-12)
     assert plan.site.density_at_capacity is None
+
+
+def test_a_json_plan_typed_into_a_workbook_reads_back(tmp_path: Path) -> None:
+    """Five ramps given hour by hour, one more than the template's ramp columns: the
+    table gets a column more, and the plan reads back as it was."""
+    ramps = tuple(
+        Landmark(f"Slip {k}", 600.0 * k, "entrance-ramp", ramp_veh_h=(10.0 * k,) * 6)
+        for k in range(1, 6)
+    )
+    plan = hand_plan(limit="Slip 3", landmarks=(*ramps, LANDMARKS[0]))
+    write_filled_workbook(plan, tmp_path / "typed.xlsx")
+    again = read_plan(tmp_path / "typed.xlsx")
+    assert [lm.name for lm in again.approach.landmarks] == [lm.name for lm in ramps] + [
+        "Ash Lane bridge"
+    ]
+    assert [lm.ramp_veh_h for lm in again.approach.landmarks[:5]] == [
+        (10.0 * k,) * 6 for k in range(1, 6)
+    ]
+    # typed in miles to 6 decimals, as the JSON form keeps them (under a millimetre)
+    assert [lm.distance for lm in again.approach.landmarks] == pytest.approx(
+        [round(lm.distance / u.MILE, 6) * u.MILE for lm in plan.approach.landmarks], rel=1e-12
+    )
+    assert again.thresholds.queue_must_not_pass == "Slip 3"
 
 
 # ----------------------------------------------------------------------------- results

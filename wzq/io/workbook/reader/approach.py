@@ -148,6 +148,24 @@ class ApproachReader:
             )
         )
 
+    def match_limit(self, v: dict[str, Any], approach: Any) -> None:
+        """The landmark the queue must not pass, as typed on the Limits sheet, matched to
+        a landmark's name regardless of case and spacing (as the names are told apart);
+        the landmark's own spelling is used, and said. A name no landmark has is left
+        for the plan's check, which lists the names."""
+        typed = v.get("limit_landmark")
+        if not isinstance(typed, str) or not isinstance(approach, Approach):
+            return
+        if approach.landmark(typed) is not None:
+            return
+        same = [lm for lm in approach.landmarks if _norm(lm.name) == _norm(typed)]
+        if len(same) == 1:
+            v["limit_landmark"] = same[0].name
+            self.note(
+                self.where_of.get("limit_landmark", L.LIMITS),
+                f"'Queue must not pass' is '{typed}': read as the landmark '{same[0].name}'",
+            )
+
     def landmark_rows(self, t: _Table) -> list[_Entry] | None:
         """Every landmark row, checked; ``None`` after a problem."""
         c_name, c_dist, c_kind, c_share, _ = L.LANDMARK_COLUMNS

@@ -64,6 +64,7 @@ class PlanReader:
         demand = self.demand(values.get("site_lanes"))
         closures = self.closures(values.get("site_lanes"), demand)
         approach = self.approach(demand)
+        self.match_limit(values, approach)
         if self.problems:
             raise PlanError(self.explain_below(self.problems))
         plan_kw = self.assemble(values, costs, demand, closures)
