@@ -45,6 +45,7 @@ from wzq.io.workbook.reader import read_plan
 from wzq.io.workbook.run import run_to, write_filled_workbook
 from wzq.present.figures import queue_length_figure
 from wzq.present.show import print_approach
+from wzq.present.tables import charted_landmarks
 
 START = dt.datetime(2027, 5, 3)  # invented
 V_F, K_J, C = 25.0, 0.125, 2000.0 / u.HOUR  # m/s, veh/m/ln, veh/s/ln
@@ -426,6 +427,19 @@ def test_queue_chart_draws_the_reached_landmark_and_the_next_one(ran) -> None:
         values = [ws.cell(DATA_HEADER_ROW + 1 + i, LANDMARK_COL + j).value for i in range(6)]
         assert values == [miles] * 6
     assert ws.cell(DATA_HEADER_ROW + 1, LANDMARK_COL + 2).value is None
+
+
+def test_charted_landmarks_leave_out_those_far_beyond_the_queue() -> None:
+    """The longest queue is b_m = 4.36 km: a landmark at 5 km (within twice that) is
+    charted, one at 9 km (beyond twice that) only when it is the limit."""
+    h = construction()
+    assert 5000.0 < 2 * h["b_m"] < 9000.0
+    far = Landmark("Kiln Road junction", 9000.0, "signal")
+    for limit, shown in ((None, ["Ash Lane bridge"]), (far.name, ["Ash Lane bridge", far.name])):
+        result = wzq.analyse(hand_plan(limit, (LANDMARKS[0], far)))
+        assert [lm.name for lm in charted_landmarks(result)] == shown
+    near = wzq.analyse(hand_plan(None))
+    assert [lm.name for lm in charted_landmarks(near)] == [lm.name for lm in LANDMARKS]
 
 
 def test_report_figure_and_space_time_picture_draw_the_landmarks(ran) -> None:

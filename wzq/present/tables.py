@@ -20,6 +20,7 @@ from wzq.engine.plan import Landmark, Plan
 from wzq.engine.results import Result
 
 __all__ = [
+    "BEYOND_CHARTED",
     "LANDMARK_KIND_LABELS",
     "MAX_PANELS",
     "Column",
@@ -282,15 +283,23 @@ def ramp_flow_text(lm: Landmark) -> str:
     return "-"
 
 
+#: The first landmark beyond the longest queue is charted when it lies within this many
+#: times the longest queue (the margin shows without squeezing the queue).
+BEYOND_CHARTED = 2.0
+
+
 def charted_landmarks(result: Result) -> list[Landmark]:
     """The landmarks drawn on the queue-length charts, nearest the closure first: those
-    the back of the queue reached, the first one beyond the farthest it reached (so the
-    margin shows), and the landmark the queue must not pass. Landmarks farther away would
-    squeeze the queue into the foot of the chart; the landmark table lists them all."""
+    the back of the queue reached, the first one beyond the farthest it reached when it
+    lies within :data:`BEYOND_CHARTED` times that reach (so the margin shows), and the
+    landmark the queue must not pass. Landmarks farther away would squeeze the queue
+    into the foot of the chart; the landmark table lists them all."""
     landmarks = sorted(result.plan.approach.landmarks, key=lambda lm: lm.distance)
     reach = float(result.back_of_queue["distance_m"].max()) if landmarks else 0.0
     limit = result.plan.thresholds.queue_must_not_pass
     beyond = next((lm for lm in landmarks if lm.distance > reach), None)
+    if beyond is not None and beyond.distance > BEYOND_CHARTED * reach:
+        beyond = None
     return [lm for lm in landmarks if lm.distance <= reach or lm is beyond or lm.name == limit]
 
 
