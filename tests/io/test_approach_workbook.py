@@ -36,6 +36,7 @@ from workbook_helpers import (
 
 import wzq
 from wzq import units as u
+from wzq.cli.check import describe
 from wzq.engine.plan import Approach, Closure, Demand, Landmark, Plan, PlanError, Site, Thresholds
 from wzq.io.batch.summary import plan_row
 from wzq.io.workbook import layout as L
@@ -462,6 +463,13 @@ def test_space_time_picture_names_the_landmarks() -> None:
     texts = [t.get_text() for ax in fig.axes for t in ax.texts]
     assert "Ash Lane bridge (0.62 mi): must not pass" in texts
     assert "end of the warning signs (3.11 mi)" in texts
+
+
+def test_check_counts_the_landmarks_and_ramps(typed: Path) -> None:
+    plan = read_plan(typed)
+    assert describe(plan).endswith("; 2 landmarks upstream")
+    ramp = Landmark("Holt Road on-ramp", 800.0, "entrance-ramp", ramp_share=0.06)
+    assert describe(hand_plan(None, (*LANDMARKS, ramp))).endswith("; 3 landmarks upstream (1 ramp)")
 
 
 def test_terminal_and_batch_summary_name_the_landmark_passed() -> None:
