@@ -239,7 +239,7 @@ NAME, DIST, KIND, SHARE, _NOTE = L.LANDMARK_COLUMNS
         ),
         (lambda wb: set_named(wb, "limit_landmark", "Elm Street"), "Limits!", "Elm Street"),
         (
-            lambda wb: set_named(wb, "site_congested_branch", "the backward wave speed below"),
+            lambda wb: set_named(wb, "site_congested_branch", "backward wave speed"),
             "Site!",
             "Backward wave speed is blank",
         ),
@@ -315,7 +315,7 @@ def test_the_congested_branch_reads_from_the_site_sheet(typed: Path, tmp_path: P
     811 appendix B: 1 mi/h = 0.44704 m/s exactly), above the site's derived 5.41 m/s."""
 
     def edit(wb):
-        set_named(wb, "site_congested_branch", "the backward wave speed below")
+        set_named(wb, "site_congested_branch", "backward wave speed")
         set_named(wb, "site_wave_speed", 14)
 
     plan = read_plan(edited(typed, tmp_path, edit))

@@ -534,9 +534,9 @@ SITE_SECTIONS: tuple[Section, ...] = (
         (
             Field(
                 "site_congested_branch",
-                "Congested branch set",
+                "Congested branch from",
                 "choice",
-                template="from capacity and jam density",
+                template="capacity, jam density",
                 choices=CONGESTED_WORDS,
                 note="the backward wave speed w = C / (k_j - k_c); calibrated values from the "
                 "site's detectors go below; HCM: k_c = 45 pc/mi/ln x heavy-vehicle factor",
@@ -553,7 +553,7 @@ SITE_SECTIONS: tuple[Section, ...] = (
                 bounds=(3.0, 40.0),
                 metric_bounds=(5.0, 65.0),
                 open_lo=True,
-                note="with 'the backward wave speed below'; the speed at which a stop "
+                note="with 'backward wave speed' above; the speed at which a stop "
                 "travels upstream, as measured on this road",
                 key="site.wave_speed",
                 attribute="site.wave_speed",
@@ -570,7 +570,7 @@ SITE_SECTIONS: tuple[Section, ...] = (
                 blank=None,
                 bounds=(15.0, 120.0),
                 metric_bounds=(10.0, 75.0),
-                note="with 'the density at capacity below'; below the jam density",
+                note="with 'density at capacity' above; below the jam density",
                 key="site.density_at_capacity",
                 attribute="site.density_at_capacity",
                 convert="density",

@@ -169,10 +169,10 @@ OVERRIDE_WORDS: Choices = (
 )
 #: How the congested branch of the triangular diagram is set (wzq.engine.plan.CONGESTED_BRANCHES).
 CONGESTED_WORDS: Choices = (
-    ("from capacity and jam density", "derived"),
-    ("HCM density at capacity (45 pc/mi/ln)", "hcm"),
-    ("the backward wave speed below", "wave-speed"),
-    ("the density at capacity below", "density-at-capacity"),
+    ("capacity, jam density", "derived"),
+    ("HCM, 45 pc/mi/ln", "hcm"),
+    ("backward wave speed", "wave-speed"),
+    ("density at capacity", "density-at-capacity"),
 )
 #: Kinds of landmark on the approach (wzq.engine.plan.LANDMARK_KINDS), in plain words.
 LANDMARK_KIND_WORDS: Choices = (

@@ -85,6 +85,7 @@ class ApproachReader:
         chosen = self.where_of.get("site_congested_branch", "Site")
         word = L.word_for(L.CONGESTED_WORDS, branch)
         derived = L.word_for(L.CONGESTED_WORDS, "derived")
+        branch_label = F.FIELDS_BY_NAME["site_congested_branch"].label
         for name, own in (
             ("site_wave_speed", "wave-speed"),
             ("site_density_at_capacity", "density-at-capacity"),
@@ -97,13 +98,13 @@ class ApproachReader:
             if branch == own and value is None:
                 self.bad(
                     where,
-                    f"{label} is blank, but 'Congested branch set' ({chosen}) is '{word}'; "
+                    f"{label} is blank, but '{branch_label}' ({chosen}) is '{word}'; "
                     f"type it, or choose '{derived}' there",
                 )
             elif branch != own and value is not None:
                 self.bad(
                     where,
-                    f"{label} is typed, but 'Congested branch set' ({chosen}) is '{word}', so "
+                    f"{label} is typed, but '{branch_label}' ({chosen}) is '{word}', so "
                     f"it would not be used; choose '{L.word_for(L.CONGESTED_WORDS, own)}' "
                     "there, or clear this cell",
                 )
