@@ -24,6 +24,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from openpyxl import load_workbook
+from test_report import flat, pages_text
 from workbook_helpers import (
     edited,
     fill_template,
@@ -39,6 +40,7 @@ from wzq import units as u
 from wzq.cli.check import describe
 from wzq.engine.plan import Approach, Closure, Demand, Landmark, Plan, PlanError, Site, Thresholds
 from wzq.io.batch.summary import plan_row
+from wzq.io.report import build_report
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.charts import DATA_HEADER_ROW, LANDMARK_COL
 from wzq.io.workbook.landmark_tables import BEYOND
@@ -414,6 +416,18 @@ def test_results_flag_the_hours_and_the_limit_breaches(ran) -> None:
     assert any(str(k).startswith("Not past Ash Lane bridge (0.62 mi upstream)") for k in heads)
 
 
+def test_summary_sheet_names_the_farthest_landmark_passed(ran) -> None:
+    h = construction()
+    _, path = ran
+    ws = load_workbook(path)[L.SUMMARY]
+    found = {row[0].value: row[1].value for row in ws.iter_rows() if row[0].value}
+    hours = (h["t3"] - h["t1"]) / 3600
+    assert found["Farthest landmark passed"] == (
+        f"Ash Lane bridge (0.62 mi upstream), for {hours:.2f} h"
+    )
+    assert found["Queue must not pass"] == "Ash Lane bridge (0.62 mi upstream)"
+
+
 def test_queue_chart_draws_the_reached_landmark_and_the_next_one(ran) -> None:
     """The landmark block of the Charts sheet holds each charted landmark's distance on
     every hour (0.62 mi and 5,000 m = 3.11 mi), and the queue chart draws them."""
@@ -463,6 +477,25 @@ def test_space_time_picture_names_the_landmarks() -> None:
     texts = [t.get_text() for ax in fig.axes for t in ax.texts]
     assert "Ash Lane bridge (0.62 mi): must not pass" in texts
     assert "end of the warning signs (3.11 mi)" in texts
+
+
+def test_report_page_of_the_approach() -> None:
+    """The report's approach page: the landmark table with the hand numbers, the
+    landmark limit as a check column, and the method note."""
+    h = construction()
+    result = wzq.analyse(hand_plan())
+    text = flat(" ".join(pages_text(build_report(result, "letter", generated=dt.date(2027, 4, 1)))))
+    row = (
+        f"Ash Lane bridge bridge or structure 0.62 Mon 2027-05-03 01:30 "
+        f"{(h['t3'] - h['t1']) / 3600:.2f} {(h['b_m'] - BRIDGE) / u.MILE:.2f} 3 -"
+    )
+    assert row in text
+    assert "end of the warning signs end of advance warning signing 3.11 never 0.00 0.00 0" in (
+        text
+    )
+    assert "The queue must not pass Ash Lane bridge" in text
+    assert "Not past Ash Lane bridge" in text
+    assert "Landmarks. The back of the queue is compared with each landmark" in text
 
 
 def test_check_counts_the_landmarks_and_ramps(typed: Path) -> None:
