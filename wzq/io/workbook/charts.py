@@ -357,9 +357,9 @@ def landmark_lines(out: w.SheetWriter, result: Result, cats: Reference) -> LineC
         )
         series = line.series[-1]
         is_limit = lm.name == limit
-        _line(series, LIMIT_COLOUR if is_limit else LANDMARK_COLOUR, 1.5 if is_limit else 1.0,
-              "dashDot")  # fmt: skip
-        # the landmark's name at the line's last point
+        colour, width = (LIMIT_COLOUR, 1.5) if is_limit else (LANDMARK_COLOUR, 1.0)
+        _line(series, colour, width, "dashDot")
+        # the landmark's name above its line, at the hour of label_hour
         off = dict(showVal=False, showCatName=False, showLegendKey=False, showPercent=False)
         text = RichText(
             bodyPr=RichTextProperties(wrap="none"),
