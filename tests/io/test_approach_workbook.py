@@ -18,6 +18,7 @@ taper; the end of the advance warning signs is 5,000 m upstream, beyond the queu
 from __future__ import annotations
 
 import datetime as dt
+import importlib.util
 import io
 from pathlib import Path
 
@@ -43,7 +44,7 @@ from wzq.io.batch.summary import plan_row
 from wzq.io.report import build_report
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.charts import DATA_HEADER_ROW, LANDMARK_COL
-from wzq.io.workbook.landmark_tables import BEYOND
+from wzq.io.workbook.landmark_tables import BEYOND, EXIT_DELAY_HEADER
 from wzq.io.workbook.reader import read_plan
 from wzq.io.workbook.run import run_to, write_filled_workbook
 from wzq.present.figures import queue_length_figure
@@ -414,6 +415,42 @@ def test_results_flag_the_hours_and_the_limit_breaches(ran) -> None:
     permit = load_workbook(path)[L.PERMIT_TABLE]
     _, heads = _rows(permit, "Hour")
     assert any(str(k).startswith("Not past Ash Lane bridge (0.62 mi upstream)") for k in heads)
+
+
+def _engine_constructions():
+    """The shock constructions of ``tests/engine/test_approach.py`` (loaded by path: the
+    test folders are not packages)."""
+    path = Path(__file__).parents[1] / "engine" / "test_approach.py"
+    spec = importlib.util.spec_from_file_location("approach_constructions", path)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+def test_exit_ramp_table_and_column_by_hand(tmp_path: Path) -> None:
+    """The exit-ramp construction of the engine's tests (a 5 % exit ramp 1,000 m up,
+    mainline 2,000 veh/h, closure 1,200 veh/h for two hours): the exiting traffic held
+    in the queue rises from 0 at t1 to H at t_r and drains to 0 at t2, so its delay is
+    0.5 H (t2 - t1) and its longest extra wait H / (2,000 x 5 %)."""
+    e = _engine_constructions()
+    h = e.exit_construction(0.05)
+    ramp = Landmark("Bell St off-ramp", 1000.0, "exit-ramp", ramp_share=0.05)
+    path = tmp_path / "exit.xlsx"
+    write_filled_workbook(e.closure_plan(2000.0, ramp, 1200.0), path)
+    wb = load_workbook(path)
+    permit = wb[L.PERMIT_TABLE]
+    r, cols = _rows(permit, "Exit ramp")
+    row = {head: permit.cell(r + 1, c).value for head, c in cols.items()}
+    assert row["Exit ramp"] == "Bell St off-ramp"
+    assert row["Delay of exiting traffic (veh-h)"] == round(h["exit_delay_veh_h"], 1)
+    assert row["Longest extra wait (min)"] == round(h["max_wait_min"], 1)
+    results = wb[L.RESULTS]
+    r, cols = _rows(results, "Hour")
+    hourly = [results.cell(r + 1 + i, cols[EXIT_DELAY_HEADER]).value for i in range(6)]
+    # per hour, rounded to 0.1 veh-h: the sum within half a tenth per hour
+    assert sum(hourly) == pytest.approx(h["exit_delay_veh_h"], abs=0.05 * 6)
+    assert hourly[0] == 0 and hourly[-1] == 0  # no queue before 01:00 nor after t3
+    assert h["t3"] < 5 * 3600
 
 
 def test_summary_sheet_names_the_farthest_landmark_passed(ran) -> None:
