@@ -42,8 +42,8 @@ _DISTANCE = F.Field(
     "Distance upstream of the taper",
     "number",
     "long",
-    bounds=(0.0, 30.0),
-    metric_bounds=(0.0, 50.0),
+    bounds=(0.0, 100.0),  # as the longest allowed queue
+    metric_bounds=(0.0, 160.0),
     open_lo=True,
     convert="long",
 )
