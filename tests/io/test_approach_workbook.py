@@ -17,6 +17,7 @@ taper; the end of the advance warning signs is 5,000 m upstream, beyond the queu
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 import importlib.util
 import io
@@ -348,6 +349,24 @@ def test_a_json_plan_typed_into_a_workbook_reads_back(tmp_path: Path) -> None:
         [round(lm.distance / u.MILE, 6) * u.MILE for lm in plan.approach.landmarks], rel=1e-12
     )
     assert again.thresholds.queue_must_not_pass == "Slip 3"
+
+
+def test_a_metric_workbook_reads_and_shows_kilometres(tmp_path: Path) -> None:
+    """In metric units the distances are typed and shown in km: 1,000 m is 1.00 km."""
+    plan = hand_plan()
+    plan = dataclasses.replace(plan, site=dataclasses.replace(plan.site, unit_system="metric"))
+    path = tmp_path / "metric.xlsx"
+    write_filled_workbook(plan, path)
+    wb = load_workbook(path)
+    assert table_cell(wb, L.LANDMARK_TABLE, 0, L.LANDMARK_COLUMNS[1]).value == 1.0
+    again = read_plan(path)
+    assert [lm.distance for lm in again.approach.landmarks] == [BRIDGE, SIGNS]
+    permit = wb[L.PERMIT_TABLE]
+    r, cols = _rows(permit, "Landmark")
+    assert permit.cell(r + 1, cols["Upstream (km)"]).value == 1.0
+    h = construction()
+    far = permit.cell(r + 1, cols["Farthest beyond (km)"]).value
+    assert far == round((h["b_m"] - BRIDGE) / 1000, 2)
 
 
 # ----------------------------------------------------------------------------- results
