@@ -873,7 +873,7 @@ def approach_section(result: Result, st: Styles, width: float) -> list[Flowable]
     intro = (
         "Landmarks upstream of the start of the taper, nearest first: when the back of the "
         "queue first reached each, how long it was beyond it in all, how far beyond at most, "
-        "and in how many hours (the hours are flagged on the Results sheet)."
+        "and in how many hours (in a workbook, the Results sheet flags each of them)."
     )
     if limit is not None:
         intro += f" The queue must not pass {text(limit)}: each hour is checked against it."
