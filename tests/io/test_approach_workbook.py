@@ -136,8 +136,12 @@ def type_approach(wb, landmarks, ramp_hours: dict[str, list[float]] | None = Non
             for lm in landmarks
         ],
     )
-    if not ramp_hours:
-        return
+    if ramp_hours:
+        type_ramp_flows(wb, ramp_hours)
+
+
+def type_ramp_flows(wb, ramp_hours: dict[str, list[float]], start: dt.datetime = START) -> None:
+    """Hourly flows into RampFlowTable from ``start``, one column per ramp (renamed)."""
     _, t = find_table(wb, L.RAMP_FLOW_TABLE)
     first = len(L.RAMP_FLOW_COLUMNS)
     for k, ramp in enumerate(ramp_hours):
@@ -149,7 +153,7 @@ def type_approach(wb, landmarks, ramp_hours: dict[str, list[float]] | None = Non
     n = len(next(iter(ramp_hours.values())))
     rows = []
     for i in range(n):
-        at = START + dt.timedelta(hours=i)
+        at = start + dt.timedelta(hours=i)
         row = {date: (dt.datetime.combine(at.date(), dt.time()), L.DATE_FORMAT)}
         row[time] = (at.time(), L.TIME_FORMAT)
         row.update({ramp: flows[i] for ramp, flows in ramp_hours.items()})
@@ -226,6 +230,30 @@ def _landmark(index: int, header: str, value):
 NAME, DIST, KIND, SHARE, _NOTE = L.LANDMARK_COLUMNS
 
 
+def _both_share_and_hours(wb) -> None:
+    _landmark(1, KIND, "entrance ramp")(wb)
+    _landmark(1, SHARE, 5)(wb)
+    type_ramp_flows(wb, {"end of the warning signs": [10.0] * 6})
+
+
+def _an_hour_twice(wb) -> None:
+    _landmark(1, KIND, "entrance ramp")(wb)
+    type_ramp_flows(wb, {"end of the warning signs": [10.0] * 6})
+    table_cell(wb, L.RAMP_FLOW_TABLE, 5, L.RAMP_FLOW_COLUMNS[1]).value = dt.time(4)
+
+
+def _no_ramp_flow_table(wb) -> None:
+    _landmark(1, KIND, "entrance ramp")(wb)
+    ws, _ = find_table(wb, L.RAMP_FLOW_TABLE)
+    del ws.tables[L.RAMP_FLOW_TABLE]
+
+
+def _wave_speed_on_greenshields(wb) -> None:
+    set_named(wb, "site_congested_branch", "backward wave speed")
+    set_named(wb, "site_wave_speed", 14)
+    set_named(wb, "opt_diagram", "Greenshields")
+
+
 @pytest.mark.parametrize(
     ("edit", "cell", "words"),
     [
@@ -252,6 +280,15 @@ NAME, DIST, KIND, SHARE, _NOTE = L.LANDMARK_COLUMNS
             "Site!",
             "would not be used",
         ),
+        (_both_share_and_hours, "Approach!D9", "has both a share here and hourly flows"),
+        (
+            lambda wb: type_ramp_flows(wb, {"Ash Lane bridge": [10.0] * 6}),
+            "Approach!I7",
+            "carries no traffic of its own",
+        ),
+        (_an_hour_twice, "Approach!H13", "the hour Mon 2027-05-03 04:00 is also in row 12"),
+        (_no_ramp_flow_table, "Approach!D9", "it is missing: copy it from a fresh workbook"),
+        (_wave_speed_on_greenshields, "Site!", "only on the triangular diagram"),
     ],
 )
 def test_bad_approach_input_is_named_by_sheet_and_cell(
@@ -297,6 +334,24 @@ def test_flows_under_a_column_no_ramp_is_named_after_warn(typed: Path, tmp_path:
     plan = read_plan(edited(typed, tmp_path, edit))
     assert any(
         "Approach!I7" in w and "Quarry Lane on-ramp" in w and "not used" in w
+        for w in plan.input_warnings
+    ), plan.input_warnings
+
+
+def test_ramp_rows_outside_the_demand_period_warn(typed: Path, tmp_path: Path) -> None:
+    """Eight hourly rows from 23:00 the day before for six hours of demand from 00:00:
+    the first row and the last one lie outside and are named; the six others are read."""
+    ramp = Landmark("Mere Street off-ramp", 2400.0, "exit-ramp")
+    flows = [999.0, 100.0, 110.0, 120.0, 130.0, 140.0, 150.0, 999.0]
+
+    def edit(wb):
+        type_approach(wb, (*LANDMARKS, ramp))
+        type_ramp_flows(wb, {ramp.name: flows}, start=START - dt.timedelta(hours=1))
+
+    plan = read_plan(edited(typed, tmp_path, edit))
+    assert plan.approach.landmarks[-1].ramp_veh_h == tuple(flows[1:-1])
+    assert any(
+        w.startswith("Approach!G8, Approach!G15: these rows") and "outside the demand period" in w
         for w in plan.input_warnings
     ), plan.input_warnings
 
