@@ -289,6 +289,20 @@ def _wave_speed_on_greenshields(wb) -> None:
         (_an_hour_twice, "Approach!H13", "the hour Mon 2027-05-03 04:00 is also in row 12"),
         (_no_ramp_flow_table, "Approach!D9", "it is missing: copy it from a fresh workbook"),
         (_wave_speed_on_greenshields, "Site!", "only on the triangular diagram"),
+        (
+            lambda wb: (
+                _landmark(1, KIND, "entrance ramp")(wb),
+                type_ramp_flows(
+                    wb,
+                    {
+                        "end of the warning signs": [1.0] * 6,
+                        "End of the warning signs (veh/h)": [2.0] * 6,
+                    },
+                ),
+            ),
+            "Approach!J7",
+            "and so is the column at Approach!I7",
+        ),
     ],
 )
 def test_bad_approach_input_is_named_by_sheet_and_cell(

@@ -257,7 +257,13 @@ class ApproachReader:
         for key, (shown, e) in columns.items():
             filled = any(not _blank(r.values[key]) for r in rows)
             head = cell_ref(t.ws.title, t.header_row, t.col(key))
-            if e is not None and e in hourly and e.name not in {x.name for x in wanted.values()}:
+            if e is not None and e in hourly and "veh_h" in e.cells:
+                self.bad(
+                    head,
+                    f"the column '{shown}' is for '{e.name}', and so is the column at "
+                    f"{e.cells['veh_h']}; keep one column per ramp",
+                )
+            elif e is not None and e in hourly:
                 wanted[key] = e
                 e.cells["veh_h"] = head
             elif e is not None and filled and e.kind in RAMP_KINDS:
