@@ -18,6 +18,7 @@ from typing import Any, Literal
 from wzq import units as u
 from wzq.io.workbook.layout import (
     AREA_WORDS,
+    CONGESTED_WORDS,
     COUNTS,
     DAY_TYPE_WORDS,
     DEMAND,
@@ -65,6 +66,7 @@ __all__ = [
     "THRESHOLD_FIELDS",
     "UNIT_KINDS",
     "UNIT_SYSTEM",
+    "WHEN_USED_KEYS",
     "Convert",
     "Field",
     "Kind",
@@ -533,6 +535,57 @@ SITE_SECTIONS: tuple[Section, ...] = (
             ),
         ),
     ),
+    Section(
+        "Queue length: congested branch of the triangular diagram",
+        (
+            Field(
+                "site_congested_branch",
+                "Congested branch from",
+                "choice",
+                template="capacity, jam density",
+                choices=CONGESTED_WORDS,
+                note="the backward wave speed w = C / (k_j - k_c); calibrated values from the "
+                "site's detectors go below; HCM: k_c = 45 pc/mi/ln x heavy-vehicle factor",
+                key="site.congested_branch",
+                attribute="site.congested_branch",
+                json_default="derived",
+            ),
+            Field(
+                "site_wave_speed",
+                "Backward wave speed",
+                "number",
+                "speed",
+                blank=None,
+                bounds=(3.0, 40.0),
+                metric_bounds=(5.0, 65.0),
+                open_lo=True,
+                note="with 'backward wave speed' above; the speed at which a stop "
+                "travels upstream, as measured on this road",
+                key="site.wave_speed",
+                attribute="site.wave_speed",
+                convert="speed",
+                rounded=True,
+                json_default=None,
+                json_lo=0,
+            ),
+            Field(
+                "site_density_at_capacity",
+                "Density at capacity",
+                "number",
+                "density",
+                blank=None,
+                bounds=(15.0, 120.0),
+                metric_bounds=(10.0, 75.0),
+                note="with 'density at capacity' above; below the jam density",
+                key="site.density_at_capacity",
+                attribute="site.density_at_capacity",
+                convert="density",
+                rounded=True,
+                json_default=None,
+                json_lo=0,
+            ),
+        ),
+    ),
 )
 #: Names a workbook made by an older template may lack; the reader then uses the
 #: template value instead of reporting a problem.
@@ -541,6 +594,10 @@ OPTIONAL_NAMES: frozenset[str] = frozenset(
         "site_space_time",
         "opt_closure_windows",
         "site_override_is",
+        "site_congested_branch",
+        "site_wave_speed",
+        "site_density_at_capacity",
+        "limit_landmark",
         "risk_capacity_cv",
         "risk_draws",
         "risk_seed",
@@ -597,6 +654,16 @@ THRESHOLD_FIELDS: tuple[Field, ...] = (
         attribute="thresholds.max_demand_capacity",
         json_default=None,
         json_lo=0,
+    ),
+    Field(
+        "limit_landmark",
+        "Queue must not pass",
+        "text",
+        blank=None,
+        note="a landmark's name from the Approach sheet; blank: not checked",
+        key="thresholds.queue_must_not_pass",
+        attribute="thresholds.queue_must_not_pass",
+        json_default=None,
     ),
 )
 #: The three values that switch road-user costs on (all blank: no costs).
@@ -999,41 +1066,19 @@ FIELD_SHEET: dict[str, str] = {
 }
 
 
-#: Site inputs a JSON plan may give that have no cell in the workbook: the congested
-#: branch of the triangular diagram (:attr:`wzq.engine.plan.Site.congested_branch`).
-JSON_ONLY_FIELDS: tuple[Field, ...] = (
-    Field(
-        "",
-        "Congested branch",
-        "text",
-        key="site.congested_branch",
-        attribute="site.congested_branch",
-        json_default=None,
-    ),
-    Field(
-        "",
-        "Backward wave speed",
-        "number",
-        "speed",
-        key="site.wave_speed",
-        attribute="site.wave_speed",
-        convert="speed",
-        rounded=True,
-        json_default=None,
-        json_lo=0,
-    ),
-    Field(
-        "",
-        "Density at capacity",
-        "number",
-        "density",
-        key="site.density_at_capacity",
-        attribute="site.density_at_capacity",
-        convert="density",
-        rounded=True,
-        json_default=None,
-        json_lo=0,
-    ),
+#: Plan inputs a JSON plan may give that have no cell in the workbook (none at present).
+JSON_ONLY_FIELDS: tuple[Field, ...] = ()
+#: Keys a JSON plan gives only when they are used, read by the JSON reader with rules of
+#: their own: the congested branch of the triangular diagram (the branch follows from
+#: the value given) and the landmark the queue must not pass (a landmark's name). They
+#: are written only when set, so a plan without them reads and writes as before.
+WHEN_USED_KEYS: frozenset[str] = frozenset(
+    {
+        "site.congested_branch",
+        "site.wave_speed",
+        "site.density_at_capacity",
+        "thresholds.queue_must_not_pass",
+    }
 )
 
 #: Every plan input (a plan attribute), workbook cells and JSON-only keys alike.

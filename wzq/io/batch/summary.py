@@ -30,7 +30,7 @@ import io
 import json
 import math
 from collections.abc import Iterable, Sequence
-from dataclasses import asdict, dataclass, field, fields
+from dataclasses import MISSING, asdict, dataclass, field, fields
 from pathlib import Path
 from typing import Any, Literal
 
@@ -40,7 +40,7 @@ from wzq.engine.problems import PlanError
 from wzq.engine.results import Result
 from wzq.engine.risk import plan_risk
 from wzq.io.workbook.save import write_atomically
-from wzq.present.tables import rounded
+from wzq.present.tables import farthest_passed, rounded
 
 __all__ = [
     "COLUMNS",
@@ -142,6 +142,8 @@ class PlanRow:
     notes: str
     #: Unrounded longest queue (m): the sort key, not shown.
     max_queue_m: float = field(default=0.0, repr=False)
+    #: The farthest landmark upstream the queue passed (``none``; blank: no landmarks).
+    landmark_passed: str = ""
     #: With a count history or a capacity spread: the share of the scenarios in which
     #: some hour breaks a limit (:mod:`wzq.engine.risk`), percent; else blank.
     risk_any_percent: float | None = None
@@ -178,6 +180,7 @@ COLUMNS: tuple[SummaryColumn, ...] = (
     SummaryColumn("road_user_cost", "Road-user delay cost", 11, "#,##0"),
     SummaryColumn("cost_basis", "Cost basis", 9),
     SummaryColumn("hours_over_limit", "Hours over a limit", 8, "0"),
+    SummaryColumn("landmark_passed", "Farthest landmark the queue passed", 18, wrap=True),
     SummaryColumn("risk_any_percent", "Chance some hour over a limit (%)", 10, "0.0"),
     SummaryColumn("status", "Status", 11),
     SummaryColumn("warnings", "Warnings", 36, wrap=True),
@@ -214,7 +217,13 @@ def plan_row(file: str, result: Result) -> PlanRow:
     closures = plan.closures
     th = plan.thresholds
     checked = any(
-        v is not None for v in (th.max_queue_length, th.max_average_delay, th.max_demand_capacity)
+        v is not None
+        for v in (
+            th.max_queue_length,
+            th.max_average_delay,
+            th.max_demand_capacity,
+            th.queue_must_not_pass,
+        )
     )
     failing = len(s.hours_failing)
     status = STATUS_OVER if failing else (STATUS_OK if checked else STATUS_NO_LIMITS)
@@ -251,8 +260,17 @@ def plan_row(file: str, result: Result) -> PlanRow:
         warnings="; ".join(result.warnings),
         notes=plan.meta.notes,
         max_queue_m=float(s.max_queue_length_m),
+        landmark_passed=_landmark_passed(result),
         risk_any_percent=_risk_percent(result),
     )
+
+
+def _landmark_passed(result: Result) -> str:
+    """The farthest landmark the queue passed, by name; ``none``; blank without landmarks."""
+    if not result.plan.approach.landmarks:
+        return ""
+    passed = farthest_passed(result)
+    return "none" if passed is None else passed.landmark.name
 
 
 def _risk_percent(result: Result) -> float | None:
@@ -294,7 +312,9 @@ def row_to_json(row: PlanRow) -> dict[str, Any]:
 def row_from_json(data: dict[str, Any]) -> PlanRow:
     kw: dict[str, Any] = {}
     for f in fields(PlanRow):
-        v = data.get(f.name) if f.name == "risk_any_percent" else data[f.name]
+        if f.name not in data and f.default is not MISSING:  # a state written before it
+            continue
+        v = data[f.name]
         if f.name in ("closure_start", "closure_end", "max_queue_at") and v is not None:
             v = dt.datetime.fromisoformat(v)
         kw[f.name] = v

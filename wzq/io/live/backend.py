@@ -244,8 +244,13 @@ def _block(text: str) -> tuple[int, int, int, int] | None:
     return None if None in bounds else bounds  # type: ignore[return-value]
 
 
+#: The column of ``LandmarkTable`` that asks for a percentage.
+LANDMARK_SHARE = layout.LANDMARK_COLUMNS[3]
+
+
 def _percent_cells(mirror: Workbook) -> list[tuple[str, tuple[int, int, int, int]]]:
-    """(sheet, block) of the inputs asked for in percent: named cells and the share columns."""
+    """(sheet, block) of the inputs asked for in percent: named cells, the hourly share
+    columns and the ramps' shares on the Approach sheet."""
     out = []
     for f in F.ALL_FIELDS:
         dn = mirror.defined_names.get(f.name)
@@ -258,11 +263,18 @@ def _percent_cells(mirror: Workbook) -> list[tuple[str, tuple[int, int, int, int
     for ws in mirror.worksheets:
         for name, ref in ws.tables.items():  # TableList.items(): (name, ref)
             block = _block(str(ref))
-            if name.casefold() != layout.SHARE_TABLE.casefold() or block is None:
+            if block is None or block[3] <= block[1]:
                 continue
             min_col, min_row, max_col, max_row = block
-            if max_row > min_row:  # the share columns, after the hour, below the header
+            if name.casefold() == layout.SHARE_TABLE.casefold():
+                # the share columns, after the hour, below the header
                 out.append((ws.title, (min_col + 1, min_row + 1, max_col, max_row)))
+            elif name.casefold() == layout.LANDMARK_TABLE.casefold():
+                # the ramps' shares of the mainline flow, in the column of that header
+                heads = [" ".join(c.name.split()).casefold() for c in ws.tables[name].tableColumns]
+                if LANDMARK_SHARE.casefold() in heads:
+                    col = min_col + heads.index(LANDMARK_SHARE.casefold())
+                    out.append((ws.title, (col, min_row + 1, col, max_row)))
     return out
 
 

@@ -18,12 +18,14 @@ import io
 import os
 import shutil
 import tempfile
+from copy import copy
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Literal
 
 from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.table import TableColumn
 
 import wzq
 from wzq.engine.plan import Plan, PlanError, Problem
@@ -47,6 +49,7 @@ from wzq.io.workbook.save import (
     save_atomic,
 )
 from wzq.io.workbook.writer import put_text
+from wzq.units import m_to_long_length
 
 __all__ = [
     "COPY_LABEL",
@@ -382,7 +385,10 @@ def type_plan(book: Workbook, plan: Plan) -> None:
         layout.DEMAND_MODE_WORDS, layout.HOURLY
     )
     for (section, key), (name, words) in _TYPED.items():
-        value = (data.get(section) or {}).get(key)
+        given = data.get(section) or {}
+        if key not in given and f"{section}.{key}" in F.WHEN_USED_KEYS:
+            continue  # not used by this plan: the template's value stands
+        value = given.get(key)
         cell = _named_cell(book, name)
         put_text(
             cell.parent,
@@ -429,6 +435,60 @@ def type_plan(book: Workbook, plan: Plan) -> None:
     _table_rows(book, layout.CLOSURE_TABLE, closures)
     if from_count_file(plan):
         type_history(book, plan)
+    _type_approach(book, plan)
+
+
+def _type_approach(book: Workbook, plan: Plan) -> None:
+    """The landmarks into ``LandmarkTable``, and the hourly flows of ramps into
+    ``RampFlowTable``: one row per hour, one column per ramp headed by its name (the
+    table gets more columns when the template's are too few)."""
+    landmarks = plan.approach.landmarks
+    if not landmarks:
+        return
+    system = plan.site.unit_system
+    name_h, dist_h, kind_h, share_h, _ = layout.LANDMARK_COLUMNS
+    _table_rows(
+        book,
+        layout.LANDMARK_TABLE,
+        [
+            {
+                name_h: (lm.name, None),
+                dist_h: (round(m_to_long_length(lm.distance, system), 6), None),
+                kind_h: (layout.word_for(layout.LANDMARK_KIND_WORDS, lm.kind), None),
+                share_h: (None if lm.ramp_share is None else round(lm.ramp_share * 100, 9), None),
+            }
+            for lm in landmarks
+        ],
+    )
+    hourly = [lm for lm in landmarks if lm.ramp_veh_h is not None]
+    if not hourly:
+        return
+    ws = next(ws for ws in book.worksheets if layout.RAMP_FLOW_TABLE in ws.tables)
+    t = ws.tables[layout.RAMP_FLOW_TABLE]
+    c0, r0, c1, r1 = range_boundaries(t.ref)
+    first = len(layout.RAMP_FLOW_COLUMNS)
+    for k, lm in enumerate(hourly):
+        col = c0 + first + k
+        if first + k < len(t.tableColumns):
+            t.tableColumns[first + k].name = lm.name
+        else:  # one more column, looking like the one before it
+            t.tableColumns.append(TableColumn(id=len(t.tableColumns) + 1, name=lm.name))
+            ws.cell(r0, col)._style = copy(ws.cell(r0, col - 1)._style)
+            c1 = col
+        put_text(ws, r0, col, lm.name)
+    t.ref = f"{get_column_letter(c0)}{r0}:{get_column_letter(c1)}{r1}"
+    date_h, time_h = layout.RAMP_FLOW_COLUMNS
+    start = plan.demand.start
+    rows = []
+    for h in range(len(hourly[0].ramp_veh_h or ())):
+        t_h = start + dt.timedelta(hours=h)
+        row = {
+            date_h: (dt.datetime.combine(t_h.date(), dt.time()), layout.DATE_FORMAT),
+            time_h: (t_h.time(), layout.TIME_FORMAT),
+        }
+        row.update({lm.name: ((lm.ramp_veh_h or ())[h], "#,##0") for lm in hourly})
+        rows.append(row)
+    _table_rows(book, layout.RAMP_FLOW_TABLE, rows)
 
 
 #: File name of the demo workbook when ``wzq demo`` is given a folder.

@@ -17,7 +17,8 @@ Demand "from AADT" is expanded into hourly demand by :mod:`wzq.models.demand`.
 
 The reader is split by concern: cells and values (:mod:`.cells`), tables
 (:mod:`.tables`), the demand (:mod:`.demand`), the closures (:mod:`.closures`) and
-the plan as a whole, assembled from the schema of inputs (:mod:`.plan`);
+the approach road (:mod:`.approach`) and the plan as a whole, assembled from the
+schema of inputs (:mod:`.plan`);
 :class:`BookReader` joins them.
 """
 
@@ -35,6 +36,7 @@ from openpyxl.workbook.workbook import Workbook
 from wzq.engine.plan import Plan, PlanError, Problem
 from wzq.io.workbook import formula_values as FV
 from wzq.io.workbook.cellref import cell_ref
+from wzq.io.workbook.reader.approach import ApproachReader
 from wzq.io.workbook.reader.cells import CellReader
 from wzq.io.workbook.reader.closures import ClosureReader
 from wzq.io.workbook.reader.demand import DemandReader
@@ -160,7 +162,15 @@ def read_plan_from_book(
     return BookReader(wb, source, path, data, folder=folder).plan()
 
 
-class BookReader(PlanReader, DemandReader, HistoryReader, ClosureReader, TableReader, CellReader):
+class BookReader(
+    PlanReader,
+    ApproachReader,
+    DemandReader,
+    HistoryReader,
+    ClosureReader,
+    TableReader,
+    CellReader,
+):
     """Pulls typed values out of the workbook, collecting every problem; its parts
     read by concern (cells and values, tables, demand, the count history, closures,
     the plan)."""
@@ -191,6 +201,7 @@ class BookReader(PlanReader, DemandReader, HistoryReader, ClosureReader, TableRe
         self._demand_rows: list[str] = []  # cell of each demand interval, in plan order
         self._closure_rows: list[str] = []  # cell of each closure, in plan order
         self._closure_notes: list[str] = []  # Note cell of each closure, in plan order
+        self._landmark_cells: list[dict[str, str]] = []  # cells of each landmark, in plan order
         self.warnings: list[str] = []  # what the user should know; said with every result
         self._precedents: FV.Precedents | None = None
         self._saved: dict[str, dict[tuple[int, int], FV.Saved]] = {}
