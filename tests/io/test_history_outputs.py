@@ -580,3 +580,19 @@ def test_the_button_reads_a_count_file_beside_the_open_workbook(tmp_path: Path) 
     assert outcome.ok, outcome
     assert outcome.result.plan.history.file == "station.csv"
     assert outcome.result.plan.demand.flows_veh_h.reshape(7, 24)[2, 10] == 1590.0
+
+
+def test_wzq_run_prints_the_risk_beside_the_design_result(tmp_path: Path, capsys) -> None:
+    """The terminal of ``wzq run`` carries the chance of breaking a limit, not only the
+    design result (a plan that passes on its design demand can fail in most weeks)."""
+    from wzq.cli import main
+
+    path = history_book(tmp_path)
+    assert main(["run", str(path)]) == 0
+    out = capsys.readouterr().out
+    # five hand weeks, three of them over a limit in some hour (test above): 3/5, with the
+    # 95 % Clopper-Pearson interval 14.7 % to 94.7 % (scipy.stats.binomtest(3, 5))
+    assert "Risk: scenarios" in out and "5 equally likely" in out
+    assert "Risk: some hour over a limit     in 60.0 % of the scenarios" in out
+    assert "14.7 % to 94.7 %" in out
+    assert "Risk: riskiest hour" in out and "13:00: over a limit in 60.0 %" in out

@@ -30,6 +30,7 @@ from openpyxl.worksheet.table import TableColumn
 import wzq
 from wzq.engine.plan import Plan, PlanError, Problem
 from wzq.engine.results import Result
+from wzq.engine.risk import RiskResult
 from wzq.io import fields as F
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.plans import demo_plan
@@ -200,6 +201,9 @@ class RunOutcome:
     #: True when the results went to a copy: the workbook holds content wzq cannot keep
     #: when it saves, or it changed on disk while wzq ran.
     copied: bool = False
+    #: The risk of breaking the limits, when the plan gives a count history or a spread
+    #: of the work-zone capacity (as on the sheets; ``None`` otherwise).
+    risk: RiskResult | None = None
 
 
 def _kept_words(src: Path, parts: str) -> str:
@@ -290,14 +294,14 @@ def run_to(
         fresh = book_from_bytes(data, src, keep_links=True, rich_text=True)  # a saved book's
         write(fresh, notes)  # pictures cannot be saved again by openpyxl
         save_atomic(WithSavedResults(fresh, data), copy)  # formulas keep their results
-        return RunOutcome(result, copy, notes, True)
+        return RunOutcome(result, copy, notes, True, outputs.risk)
 
     if in_place and report.unkept:  # known before writing: the copy at once
         return to_copy(_kept_words(src, _unkept_text(report.unkept)))
     write(book, notes)
     if not in_place:
         save_atomic(WithSavedResults(book, data), target, office_profile=office_profile)
-        return RunOutcome(result, target, notes, False)
+        return RunOutcome(result, target, notes, False, outputs.risk)
     try:
         save_atomic(
             WithSavedResults(book, data),
@@ -319,7 +323,7 @@ def run_to(
             f"{src.name} changed on disk while wzq ran (the results are for the version it "
             "read; run wzq again for your new version)"
         )
-    return RunOutcome(result, target, notes, False)
+    return RunOutcome(result, target, notes, False, outputs.risk)
 
 
 def run_workbook(
