@@ -10,7 +10,10 @@ and report are new entries, every entry recorded before is unchanged; and again
 after the count history reached the workbook and the report, whose one intended
 change here is the report of the plan with a count history
 (larkspur_vale_week.json): a risk page before the method (its headline figures,
-fan chart, hours and method), so every later page number moves:
+fan chart, hours and method), so every later page number moves; and again when
+the Closure windows sheet of a run without the search became one wrapped note
+with its own print area (it printed across two pages, cut mid-word): that sheet's
+print area is the one change:
 
     python3 tests/data/golden/make_golden.py
 

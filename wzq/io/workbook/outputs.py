@@ -16,7 +16,9 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
+from openpyxl.styles import Alignment
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
 
 import wzq
 from wzq.engine.problems import PlanError
@@ -88,13 +90,20 @@ def decide_outputs(
     return Outputs(result, wanted, picture, risk)
 
 
+def _note(ws: Worksheet, text: str) -> None:
+    """A sheet that holds only a note: wrapped in one wide cell, so it prints on one page
+    (a long line in a narrow cell spills over the next columns and splits across pages)."""
+    put_text(ws, 1, 1, text).alignment = Alignment(wrap_text=True, vertical="top")
+    ws.column_dimensions["A"].width = 75
+    ws.row_dimensions[1].height = 15 * (1 + len(text) // 65)  # points, about 65 characters a line
+    ws.print_area = "A1:A1"
+
+
 def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
     """The allowable closure hours of each configuration on this plan's demand."""
     if not wanted:
-        put_text(
+        _note(
             book[layout.WINDOWS],
-            1,
-            1,
             "Allowable closure hours were not computed in this run: set 'Closure windows "
             "sheet' to yes on the Limits sheet, or run `wzq run PLAN --windows`.",
         )
@@ -103,9 +112,7 @@ def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
     if too_long(d):  # a long plan runs; its windows are left out, and the sheet says why
         where = result.plan.where("options.closure_windows")
         option = f"'Closure windows sheet' ({where}) to no, or run `wzq run PLAN --no-windows`"
-        put_text(
-            book[layout.WINDOWS], 1, 1, too_long_text(len(d.flows_veh_h), d.interval_s, option)
-        )
+        _note(book[layout.WINDOWS], too_long_text(len(d.flows_veh_h), d.interval_s, option))
         return
     # replaces the empty sheet made by replace_sheets, at the same position
     write_windows_sheet(book, closure_windows(result.plan), result.plan)
