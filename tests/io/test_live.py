@@ -37,7 +37,7 @@ from fake_xlwings import (
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from oletools.olevba import VBA_Parser
-from workbook_helpers import fill_template
+from workbook_helpers import fill_template, find_table
 
 import wzq
 from wzq.cli import main
@@ -799,6 +799,25 @@ def test_case_02_percent_sign_cells_read_the_same_live(filled, tmp_path):
     from_live = read_plan_from_book(live.mirror_book(open_book(src)), src.name)
     assert from_file.site.heavy_vehicle_share == pytest.approx(0.12)
     assert from_live.site.heavy_vehicle_share == pytest.approx(0.12)
+    assert not [w for w in from_live.input_warnings if "did you mean" in w]
+
+
+def test_a_ramp_share_in_a_percent_cell_reads_the_same_live(filled, tmp_path):
+    """A ramp's share typed as 6 % on the Approach sheet (held as 0.06 in a percent cell)
+    is 6 % of the mainline flow live as from the file."""
+    src = tmp_path / "ramp.xlsx"
+    wb = openpyxl.load_workbook(filled["fenwick"])
+    ws, table = find_table(wb, layout.LANDMARK_TABLE)
+    first = ws[table.ref.split(":")[0]].row + 1
+    for col, value in enumerate(("Holt Road on-ramp", 0.4, "entrance ramp", 0.06), start=1):
+        ws.cell(first, col, value)
+    ws.cell(first, 4).number_format = "0%"
+    wb.save(src)
+    from_file = read_plan(src)
+    from_live = read_plan_from_book(live.mirror_book(open_book(src)), src.name)
+    for plan in (from_file, from_live):
+        (ramp,) = plan.approach.landmarks
+        assert ramp.ramp_share == pytest.approx(0.06)
     assert not [w for w in from_live.input_warnings if "did you mean" in w]
 
 

@@ -46,18 +46,24 @@ def filled(tmp_path_factory) -> Path:
     return fill_template(_plan(), tmp_path_factory.mktemp("cache") / "plan.xlsx")
 
 
+def _spy(monkeypatch, real, *places) -> list[bool]:
+    """Records, for every call of the search ``real`` made through ``places`` (module,
+    name), whether it was given cached tables."""
+    seen: list[bool] = []
+
+    def spy(plan, *a, **kw):
+        seen.append(kw.get("known") is not None)
+        return real(plan, *a, **kw)
+
+    for module, name in places:
+        monkeypatch.setattr(module, name, spy)
+    return seen
+
+
 @pytest.fixture
 def searches(monkeypatch) -> list[bool]:
-    """Records, for every window search of a run, whether it was given cached tables."""
-    seen: list[bool] = []
-    real = wc.plan_windows
-
-    def spy(plan, **kw):
-        seen.append(kw.get("known") is not None)
-        return real(plan, **kw)
-
-    monkeypatch.setattr(wc, "plan_windows", spy)
-    return seen
+    """For every window search of a run: was it given cached tables?"""
+    return _spy(monkeypatch, wc.closure_windows, (wc, "closure_windows"))
 
 
 def _windows_cells(path: Path) -> list:
@@ -239,16 +245,8 @@ def _pdf_text(path: Path) -> str:
 @pytest.fixture
 def engine_searches(monkeypatch) -> list[bool]:
     """As :func:`searches`, for the commands that call the engine's search themselves."""
-    seen: list[bool] = []
-    real = engine_windows.plan_windows
-
-    def spy(plan, *a, **kw):
-        seen.append(kw.get("known") is not None)
-        return real(plan, *a, **kw)
-
-    monkeypatch.setattr(engine_windows, "plan_windows", spy)
-    monkeypatch.setattr(cli_windows, "plan_windows", spy)
-    return seen
+    places = ((engine_windows, "plan_windows"), (cli_windows, "plan_windows"))
+    return _spy(monkeypatch, engine_windows.plan_windows, *places)
 
 
 @pytest.mark.slow  # a run and the windows command three times on a week
@@ -258,6 +256,7 @@ def test_the_windows_command_takes_the_search_the_run_kept(
     path = shutil.copy(filled, tmp_path / "plan.xlsx")
     run_workbook(path, run_time=RUN_TIME)
     capsys.readouterr()
+    engine_searches.clear()  # the run's own search
     assert cli.main(["windows", str(path)]) == 0
     kept = capsys.readouterr().out
     assert cli.main(["windows", str(filled)]) == 0  # never run: no cache
@@ -273,6 +272,7 @@ def test_the_report_takes_the_search_the_run_kept(filled, tmp_path, engine_searc
     path = shutil.copy(filled, tmp_path / "plan.xlsx")
     run_workbook(path, run_time=RUN_TIME)
     seen = engine_searches
+    seen.clear()  # the run's own search
     kept, fresh = tmp_path / "kept.pdf", tmp_path / "fresh.pdf"
     assert cli.main(["report", str(path), "-o", str(kept)]) == 0
     assert cli.main(["report", str(filled), "-o", str(fresh)]) == 0  # never run: no cache
@@ -292,3 +292,20 @@ def test_a_sheet_of_the_users_with_the_cache_name_is_never_touched():
     assert book[wc.CACHE_SHEET] is mine and mine["A1"].value == "my notes"
     assert mine.sheet_state == "visible"
     assert wc.read_tables(book, "k" * 64, 4) is None
+
+
+def test_a_search_at_a_risk_is_never_cached(searches):
+    """Larkspur Vale: a count history, so its windows are searched on the history's
+    scenarios (which the key does not hold); the design demand's tables are not them."""
+    plan = load_plan(EXAMPLES / "larkspur_vale_week.json")
+    book = openpyxl.Workbook()
+    first = wc.cached_plan_windows(plan, book)
+    assert wc.CACHE_SHEET not in book.sheetnames  # nothing kept
+    wc.cached_plan_windows(plan, book)
+    assert searches == [False, False]
+    design = engine_windows.plan_windows(plan)
+    wc.write_tables(book, wc.windows_key(plan), [s.allowed for s in design.sets])
+    assert wc.stored_tables(plan, book) is None  # even tables under its key are not used
+    again = wc.cached_plan_windows(plan, book)
+    for a, b in zip(first.sets, again.sets, strict=True):
+        assert np.array_equal(a.allowed, b.allowed)

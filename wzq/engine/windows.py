@@ -89,6 +89,7 @@ from wzq.models.queueing import QueueRun, solve
 from wzq.units import HOUR
 
 __all__ = [
+    "ALL_HOURS_RULE",
     "HOUR_COLUMNS",
     "MAX_INTERVALS",
     "SCREEN_MARGIN",
@@ -332,11 +333,18 @@ def _first_failure_end(g: _Grid, ok: np.ndarray) -> int:
 
 
 def _allowed(
-    g: _Grid, exhaustive: bool = False, known: np.ndarray | None = None
+    g: _Grid,
+    exhaustive: bool = False,
+    known: np.ndarray | None = None,
+    starts: np.ndarray | None = None,
 ) -> tuple[np.ndarray, _Eval]:
     """``allowed[s, e]``: the closure ``[s, e)`` keeps every hour within the limits.
 
-    ``known``: the table found before for the same inputs (a cache), used as it is."""
+    ``known``: the table found before for the same inputs (a cache), used as it is.
+    ``starts`` (a mask over the starts): judge only these rows; the others are left
+    ``False`` (the search at a risk, :mod:`wzq.engine.risk_windows`, skips starts it
+    has already decided).
+    """
     n = g.n
     base = _evaluate(g, 0, 0)
     if known is not None:
@@ -353,6 +361,8 @@ def _allowed(
         return np.triu(np.ones((n, n + 1), dtype=bool), 1), base
     if exhaustive:
         for s in range(n):
+            if starts is not None and not starts[s]:
+                continue
             for e in range(s + 1, n + 1):
                 allowed[s, e] = bool(_evaluate(g, s, e).ok.all())
         return allowed, base
@@ -362,6 +372,8 @@ def _allowed(
     suffix_ok[:-1] = np.logical_and.accumulate(base.ok[::-1])[::-1]
     base_fail = _first_failure_end(g, base.ok)
     for s in range(min(n, base_fail)):
+        if starts is not None and not starts[s]:
+            continue
         # the closure from s that never ends; when even its screen fails by the end of
         # interval s, no closure starting at s can pass
         if _first_failure_end(g, _evaluate(g, s, n, screen=True).ok) <= s + 1:
@@ -537,6 +549,13 @@ class WindowSet:
         )
 
 
+#: What an allowed closure is, in words (the sheet and the report say it).
+ALL_HOURS_RULE = (
+    "A closure is allowed only if every hour of the run passes, the queue left "
+    "behind after it ends included; all lanes are open outside the closure."
+)
+
+
 @dataclass(frozen=True)
 class WindowsResult:
     """What :func:`find_windows` returns: one :class:`WindowSet` per configuration and day type."""
@@ -546,6 +565,8 @@ class WindowsResult:
     costs: Costs
     sets: tuple[WindowSet, ...]
     notes: tuple[str, ...] = ()
+    #: What "allowed" means, in one sentence (the search at a risk states its own).
+    rule: str = ALL_HOURS_RULE
 
     @property
     def configurations(self) -> list[str]:

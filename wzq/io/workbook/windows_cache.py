@@ -1,8 +1,10 @@
 """The closure-window search kept in the workbook, keyed by what it depends on.
 
-The search for allowable closure windows (:func:`wzq.engine.windows.plan_windows`)
-depends on the site, the demand, the limits, the options and the approach, never on
-the plan's own closures; it takes 0.1-3 s for a week or a month of demand, which a
+The search for allowable closure windows on the design demand
+(:func:`wzq.engine.windows.plan_windows`, as
+:func:`wzq.engine.risk_windows.closure_windows` runs it for a plan not searched at a
+risk) depends on the site, the demand, the limits, the options and the approach, never
+on the plan's own closures; it takes 0.1-3 s for a week or a month of demand, which a
 designer trying closure times would otherwise pay on every press. Its answer (one
 ``allowed`` table per configuration, bits) is kept, compressed, on a very hidden
 sheet of wzq's (:data:`CACHE_SHEET`, a few cells), with the SHA-256 fingerprint of
@@ -10,10 +12,10 @@ those inputs, of wzq's version and of the search's code (:func:`windows_key`), a
 the SHA-256 of the tables themselves. A later run with the same fingerprint uses the
 tables instead of searching (the delay and cost of each window are computed again as
 always); any change of those inputs, of wzq's version or code, or of the cells
-themselves means a new search. The sheet
-is not an output sheet: it is not in the marker of the sheets wzq wrote, the plan
-reader ignores it as it ignores every sheet that is not an input, and it sits just
-before the output sheets.
+themselves means a new search. A search at a risk (on a count history's scenarios) is
+never cached. The sheet is not an output sheet: it is not in the marker of the sheets
+wzq wrote, the plan reader ignores it as it ignores every sheet that is not an input,
+and it sits just before the output sheets.
 """
 
 from __future__ import annotations
@@ -33,7 +35,9 @@ from openpyxl.workbook.workbook import Workbook
 import wzq
 from wzq import engine, models
 from wzq.engine.plan import Plan
-from wzq.engine.windows import WindowsResult, plan_windows
+from wzq.engine.risk import asks_for_risk
+from wzq.engine.risk_windows import closure_windows
+from wzq.engine.windows import WindowsResult
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.workbook import layout
 from wzq.io.workbook.writer import put_text
@@ -81,7 +85,7 @@ def windows_key(plan: Plan) -> str:
         "wzq": wzq.__version__,
         "code": code_digest(),
         "format": FORMAT,
-        "search": "plan_windows",
+        "search": "closure_windows on the design demand",
     }
     text = json.dumps(data, sort_keys=True, separators=(",", ":"), default=str)
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
@@ -156,17 +160,30 @@ def write_tables(book: Workbook, key: str, tables: Sequence[np.ndarray]) -> None
         put_text(ws, 3 + i // CHUNK, 1, text[i : i + CHUNK])
 
 
+def _at_risk(plan: Plan) -> bool:
+    """The plan's windows are searched at a risk (:func:`wzq.engine.risk_windows.
+    closure_windows`): on the count history's scenarios, which the key does not hold;
+    that search is never cached."""
+    return plan.risk is not None and asks_for_risk(plan)
+
+
 def stored_tables(plan: Plan, book: Workbook) -> list[np.ndarray] | None:
-    """The tables ``book``'s cache holds for the window search of ``plan`` (``None``: none
-    for these inputs); for commands that only read the workbook, such as the report."""
+    """The tables ``book``'s cache holds for the window search of ``plan`` on its design
+    demand (``None``: none for these inputs, or a search at a risk); for commands that
+    only read the workbook, such as the report."""
+    if _at_risk(plan):
+        return None
     return read_tables(book, windows_key(plan), len(plan.demand.flows_veh_h))
 
 
 def cached_plan_windows(plan: Plan, book: Workbook) -> WindowsResult:
-    """:func:`plan_windows` of ``plan``, from ``book``'s cache when it holds this search's
-    tables, else searched and kept there for the next run."""
+    """:func:`~wzq.engine.risk_windows.closure_windows` of ``plan``, from ``book``'s cache
+    when it holds this search's tables, else searched and kept there for the next run
+    (a search at a risk is neither taken from the cache nor kept)."""
+    if _at_risk(plan):
+        return closure_windows(plan)
     known = stored_tables(plan, book)
-    found = plan_windows(plan, known=known)
+    found = closure_windows(plan, known=known)
     if known is None or len(known) != len(found.sets):
         write_tables(book, windows_key(plan), [s.allowed for s in found.sets])
     return found

@@ -17,7 +17,8 @@ Demand "from AADT" is expanded into hourly demand by :mod:`wzq.models.demand`.
 
 The reader is split by concern: cells and values (:mod:`.cells`), tables
 (:mod:`.tables`), the demand (:mod:`.demand`), the closures (:mod:`.closures`) and
-the plan as a whole, assembled from the schema of inputs (:mod:`.plan`);
+the approach road (:mod:`.approach`) and the plan as a whole, assembled from the
+schema of inputs (:mod:`.plan`);
 :class:`BookReader` joins them.
 """
 
@@ -35,9 +36,11 @@ from openpyxl.workbook.workbook import Workbook
 from wzq.engine.plan import Plan, PlanError, Problem
 from wzq.io.workbook import formula_values as FV
 from wzq.io.workbook.cellref import cell_ref
+from wzq.io.workbook.reader.approach import ApproachReader
 from wzq.io.workbook.reader.cells import CellReader
 from wzq.io.workbook.reader.closures import ClosureReader
 from wzq.io.workbook.reader.demand import DemandReader
+from wzq.io.workbook.reader.history import HistoryReader
 from wzq.io.workbook.reader.plan import PlanReader
 from wzq.io.workbook.reader.skip import load_skipping_outputs
 from wzq.io.workbook.reader.tables import TableReader
@@ -154,29 +157,53 @@ def load_book(path: Path) -> Workbook:
 
 
 def read_plan_from_book(
-    wb: Workbook, source: str, path: Path | None = None, *, data: bytes | None = None
+    wb: Workbook,
+    source: str,
+    path: Path | None = None,
+    *,
+    data: bytes | None = None,
+    folder: Path | None = None,
 ) -> Plan:
     """Read and validate the plan in an already loaded openpyxl workbook.
 
     ``source`` names the workbook in messages about the file as a whole;
     ``data`` (the file's bytes) or else ``path`` (the file) is needed only to
     read the saved result of a formula typed in an input cell (loaded lazily,
-    once).
+    once). ``folder`` (default: ``path``'s) is where a count file named on the
+    Demand sheet is looked for.
     """
-    return BookReader(wb, source, path, data).plan()
+    return BookReader(wb, source, path, data, folder=folder).plan()
 
 
-class BookReader(PlanReader, DemandReader, ClosureReader, TableReader, CellReader):
+class BookReader(
+    PlanReader,
+    ApproachReader,
+    DemandReader,
+    HistoryReader,
+    ClosureReader,
+    TableReader,
+    CellReader,
+):
     """Pulls typed values out of the workbook, collecting every problem; its parts
-    read by concern (cells and values, tables, demand, closures, the plan)."""
+    read by concern (cells and values, tables, demand, the count history, closures,
+    the plan)."""
 
     def __init__(
-        self, wb: Workbook, source: str, path: Path | None, data: bytes | None = None
+        self,
+        wb: Workbook,
+        source: str,
+        path: Path | None,
+        data: bytes | None = None,
+        *,
+        folder: Path | None = None,
     ) -> None:
         self.wb = wb
         self.source = source
         self.path = path
         self.data = data
+        self.folder = folder if folder is not None else (path.parent if path else None)
+        self._history: Any = None  # the count history of the demand, when it is one
+        self._history_sheet: Any = None  # the sheet of this workbook it was read from
         self.epoch = wb.epoch
         self.problems: list[Problem] = []
         self.system: str | None = None  # None: unknown (unit-dependent ranges not checked)
@@ -187,6 +214,7 @@ class BookReader(PlanReader, DemandReader, ClosureReader, TableReader, CellReade
         self._demand_rows: list[str] = []  # cell of each demand interval, in plan order
         self._closure_rows: list[str] = []  # cell of each closure, in plan order
         self._closure_notes: list[str] = []  # Note cell of each closure, in plan order
+        self._landmark_cells: list[dict[str, str]] = []  # cells of each landmark, in plan order
         self.warnings: list[str] = []  # what the user should know; said with every result
         self._precedents: FV.Precedents | None = None
         self._saved: dict[str, dict[tuple[int, int], FV.Saved]] = {}
