@@ -111,3 +111,15 @@ def test_case2_a_value_at_the_last_cell_costs_nothing_to_read_past(tmp_path) -> 
     assert r["status"] == 0, r["stderr"][-2000:]
     assert json.loads(r["stdout"]) == 65
     assert r["peak_mib"] < 300, r["peak_mib"]  # no block of the sheet (the old reader aborted)
+
+
+@pytest.mark.parametrize("text", ["", "cones", "A&B <lane 2> 'x' \"y\"", "&amp; &lt;", "><&&<>"])
+def test_a_saved_text_result_is_escaped_as_the_standard_library_escapes_it(text: str) -> None:
+    # wzq escapes without importing xml.sax.saxutils (it pulls in urllib, http, ssl and
+    # email at every press); the text must come out as that module's escape gives it
+    from xml.sax.saxutils import escape
+
+    from wzq.io.workbook.formula_values import _escape
+
+    assert _escape(text) == escape(text)
+    assert _escape("a<b&c>d") == "a&lt;b&amp;c&gt;d"  # by hand: & first, so no double escape

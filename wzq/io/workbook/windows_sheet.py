@@ -38,7 +38,7 @@ from wzq.engine.windows import (
     longest_windows,
 )
 from wzq.io.workbook import layout
-from wzq.io.workbook.writer import print_setup, put_text
+from wzq.io.workbook.writer import Styler, print_setup, put_text
 from wzq.present.tables import limits_text
 
 __all__ = [
@@ -91,14 +91,18 @@ SECTION_FONT = Font(bold=True, size=12, color=_hex("section_text", "1F3A4D"))
 NOTE_FONT = Font(italic=True, color=_hex("note_text", "5F6B73"))
 CAUTION_FILL = PatternFill("solid", fgColor=_hex("caution_fill", "FBE3D6"))
 CAUTION_FONT = Font(bold=True, color=_hex("caution_text", "7A2E0E"))
+# made once: a cell's look is given through a Styler, which shares one style record per
+# kind of cell (making a Font, Fill or Alignment per cell is most of a sheet's cost)
+_BOLD = Font(bold=True)
+_CENTRE = Alignment(horizontal="center")
+_HEADER_ALIGN = Alignment(horizontal="center", vertical="center", wrap_text=True)
+_STATE_FILL = {state: PatternFill("solid", fgColor=colour) for state, colour in STATE_FILLS.items()}
 
 
-def _header(ws: Worksheet, row: int, texts: list[str], first_col: int = 1) -> None:
+def _header(ws: Worksheet, style: Styler, row: int, texts: list[str], first_col: int = 1) -> None:
     for i, text in enumerate(texts):
         cell = put_text(ws, row, first_col + i, text)
-        cell.fill = HEADER_FILL
-        cell.font = HEADER_FONT
-        cell.alignment = Alignment(horizontal="center", vertical="center", wrap_text=True)
+        style(cell, fill=HEADER_FILL, font=HEADER_FONT, alignment=_HEADER_ALIGN)
 
 
 def _fresh_sheet(wb: Workbook) -> Worksheet:
@@ -140,8 +144,9 @@ class Pages:
     would not fit on the current page, and before a table row that would not, with
     the table's header written again at the top of the new page."""
 
-    def __init__(self, ws: Worksheet) -> None:
+    def __init__(self, ws: Worksheet, style: Styler) -> None:
         self.ws = ws
+        self.style = style
         self.top = 1  # first row of the current page
 
     def room(self, row: int) -> int:
@@ -159,11 +164,13 @@ def _span_cells(ws: Worksheet, row: int, first: int, last: int) -> None:
         ws.merge_cells(start_row=row, start_column=first, end_row=row, end_column=last)
 
 
-def _window_header(ws: Worksheet, row: int, fields: tuple, currency: str, year: int) -> None:
+def _window_header(
+    ws: Worksheet, style: Styler, row: int, fields: tuple, currency: str, year: int
+) -> None:
     for text, first, last in fields:
         if text == "Road-user cost":
             text = f"Road-user cost ({currency} of {year})"
-        _header(ws, row, [text], first)
+        _header(ws, style, row, [text], first)
         _span_cells(ws, row, first, last)
     ws.row_dimensions[row].height = 30
 
@@ -183,7 +190,7 @@ def _windows_block(
     pages.keep(row, min(len(frame), 5) + 3)
     put_text(ws, row, 1, title).font = SECTION_FONT
     row += 1
-    _window_header(ws, row, fields, currency, year)
+    _window_header(ws, pages.style, row, fields, currency, year)
     row += 1
     if frame.empty:
         put_text(ws, row, 1, "none").font = NOTE_FONT
@@ -192,7 +199,7 @@ def _windows_block(
     for rec in frame.itertuples(index=False):
         if pages.room(row) < 1:
             pages.keep(row, PAGE_ROWS)
-            _window_header(ws, row, fields, currency, year)
+            _window_header(ws, pages.style, row, fields, currency, year)
             row += 1
         values: dict[str, tuple[Any, str | None]] = {
             "Configuration": (rec.configuration, None),
@@ -209,8 +216,7 @@ def _windows_block(
                 put_text(ws, row, first, value)
             else:
                 cell = ws.cell(row=row, column=first, value=value)
-                cell.number_format = fmt
-                cell.alignment = Alignment(horizontal="center")
+                pages.style(cell, number_format=fmt, alignment=_CENTRE)
             _span_cells(ws, row, first, last)
         row += 1
     return row + 1
@@ -230,20 +236,18 @@ def write_windows_sheet(
     long; ``top`` caps the longest windows listed per configuration and day type.
     """
     ws = _fresh_sheet(wb)
+    style = Styler()
     result = windows_result
     costs = result.costs
     n_cols = 2 + len(HOUR_COLUMNS)
 
     put_text(ws, 1, 1, "Closure windows").font = TITLE_FONT
-    put_text(ws, 2, 1, plan.meta.title or plan.site.name or "Lane-closure plan").font = Font(
-        bold=True
-    )
+    put_text(ws, 2, 1, plan.meta.title or plan.site.name or "Lane-closure plan").font = _BOLD
     site = f"{plan.site.name}, {plan.site.direction}".strip(", ")
     put_text(ws, 3, 1, site)
-    cell = put_text(ws, 4, 1, wzq.CAUTION)
-    cell.font = CAUTION_FONT
-    for col in range(1, n_cols + 1):
-        ws.cell(row=4, column=col).fill = CAUTION_FILL
+    style(put_text(ws, 4, 1, wzq.CAUTION), font=CAUTION_FONT, fill=CAUTION_FILL)
+    for col in range(2, n_cols + 1):
+        style(ws.cell(row=4, column=col), fill=CAUTION_FILL)
     put_text(ws, 5, 1, "Limits: " + limits_text(plan))
     put_text(ws, 6, 1, result.rule).font = NOTE_FONT
     put_text(
@@ -259,26 +263,25 @@ def write_windows_sheet(
         put_text(ws, row, 1, f"Demand period: {next(iter(day_types))}").font = NOTE_FONT
         row += 1
     row += 1
-    pages = Pages(ws)
+    pages = Pages(ws, style)
 
     # --- hours table -------------------------------------------------------------------------
     put_text(ws, row, 1, "Hours in which a closure may be in place").font = SECTION_FONT
     row += 1
     hours_head = ["Configuration", "Day", *HOUR_COLUMNS]
-    _header(ws, row, hours_head)
+    _header(ws, style, row, hours_head)
     row += 1
     for w in result.sets:
         for label, states in day_rows(w):
             if pages.room(row) < 1:
                 pages.keep(row, PAGE_ROWS)
-                _header(ws, row, hours_head)
+                _header(ws, style, row, hours_head)
                 row += 1
             put_text(ws, row, 1, w.label)
             put_text(ws, row, 2, label)
             for h, state in enumerate(states):
                 c = put_text(ws, row, 3 + h, STATE_WORDS[state])
-                c.fill = PatternFill("solid", fgColor=STATE_FILLS[state])
-                c.alignment = Alignment(horizontal="center")
+                style(c, fill=_STATE_FILL[state], alignment=_CENTRE)
             row += 1
     put_text(
         ws,
@@ -295,7 +298,7 @@ def write_windows_sheet(
     put_text(ws, row, 1, "Days on which the whole hour may be closed").font = SECTION_FONT
     row += 1
     head = row
-    _header(ws, row, ["Configuration", "Days", *HOUR_COLUMNS])
+    _header(ws, style, row, ["Configuration", "Days", *HOUR_COLUMNS])
     chart = BarChart()
     for k, label in enumerate(counts.columns):
         r = head + 1 + k
