@@ -681,3 +681,23 @@ def test_results_status_column_holds_the_longest_status(fenwick):
     assert longest == len("over limit: queue length, delay")
     width = ws.column_dimensions[openpyxl.utils.get_column_letter(j + 1)].width
     assert width >= longest * w.BOLD_CHAR  # bold on the hours over a limit
+
+
+def test_each_hour_lists_the_closures_in_force_during_it():
+    # worked by hand: a closure is in force during the hour from t0 when it starts before
+    # t0 + 1 h and ends after t0; closures 20:30-21:10, 21:40-22:00 and 23:00-23:10 give
+    # 19:00 none, 20:00 the first, 21:00 the first two, 22:00 none (the second ended at
+    # 22:00 sharp, the third starts at 23:00 sharp), 23:00 the third
+    plan = load_plan(KESTREL)
+    day = dt.datetime(2027, 5, 3)
+
+    def closure(a: float, b: float) -> wzq.Closure:
+        at = (day + dt.timedelta(minutes=a), day + dt.timedelta(minutes=b))
+        return dataclasses.replace(plan.closures[0], start=at[0], end=at[1])
+
+    three = (closure(1230, 1270), closure(1300, 1320), closure(1380, 1390))
+    plan = dataclasses.replace(plan, closures=three)
+    hours = [day + dt.timedelta(hours=x) for x in (19, 20, 21, 22, 23)]
+    assert w.hour_closures(plan, hours) == [None, 1, "1, 2", None, 3]
+    # the hours need not be in order (the permit table passes the hours it lists)
+    assert w.hour_closures(plan, [hours[4], hours[1], hours[2]]) == [3, 1, "1, 2"]

@@ -13,6 +13,7 @@ writes them all.
 
 from __future__ import annotations
 
+import bisect
 import datetime as dt
 import hashlib
 import json
@@ -36,7 +37,7 @@ from wzq.engine.plan import Closure, Plan, PlanError, Problem
 from wzq.engine.results import Result
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.workbook import layout
-from wzq.present.tables import Column, hour_label, limit_values, rounded
+from wzq.present.tables import Column, hour_label, limit_values, rounded_all
 
 __all__ = [
     "BAND_FILL",
@@ -244,14 +245,23 @@ def select(book: Workbook, ws: Worksheet) -> None:
 
 
 def hour_closures(plan: Plan, hour_starts: Sequence[pd.Timestamp]) -> list[int | str | None]:
-    """The closure number(s) in force during each hour (1-based; ``None`` when open)."""
-    out: list[int | str | None] = []
+    """The closure number(s) in force during each hour (1-based; ``None`` when open).
+
+    A closure is in force during the hour from ``t0`` when it starts before ``t0`` + 1 h
+    and ends after ``t0``: each closure finds its hours by bisection in the sorted hour
+    starts (a year of hours against hundreds of closures, without trying every pair).
+    """
     hour = dt.timedelta(hours=1)
-    for ts in hour_starts:
-        t0 = pd.Timestamp(ts).to_pydatetime()
-        ids = [i + 1 for i, c in enumerate(plan.closures) if c.start < t0 + hour and c.end > t0]
-        out.append(None if not ids else ids[0] if len(ids) == 1 else ", ".join(map(str, ids)))
-    return out
+    starts = [pd.Timestamp(ts).to_pydatetime() for ts in hour_starts]
+    order = sorted(range(len(starts)), key=starts.__getitem__)
+    ordered = [starts[k] for k in order]
+    ids: list[list[int]] = [[] for _ in starts]
+    for i, c in enumerate(plan.closures, start=1):  # in closure order, so each list is sorted
+        # c.start < t0 + hour  <=>  t0 > c.start - hour (exact: whole microseconds)
+        first = bisect.bisect_right(ordered, c.start - hour)
+        for k in order[first : bisect.bisect_left(ordered, c.end)]:
+            ids[k].append(i)
+    return [None if not n else n[0] if len(n) == 1 else ", ".join(map(str, n)) for n in ids]
 
 
 def listed_hours(result: Result) -> np.ndarray:
@@ -296,13 +306,10 @@ def limit_texts(plan: Plan) -> dict[str, str]:
 def values(result: Result, columns: Iterable[Column]) -> list[list[float | int | None]]:
     """Rounded display values, column by column (NaN written as a blank)."""
     h = result.hourly
-    out = []
-    for col in columns:
-        vals = []
-        for v in h[col.source].to_numpy(dtype=float):
-            vals.append(None if np.isnan(v) else rounded(v * col.scale, col.decimals))
-        out.append(vals)
-    return out
+    return [
+        rounded_all(h[col.source].to_numpy(dtype=float) * col.scale, col.decimals)
+        for col in columns
+    ]
 
 
 # --- writing cells with shared styles ----------------------------------------------------
