@@ -370,6 +370,81 @@ def test_queue_past_an_exit_ramp_that_holds_the_closure_traffic_back() -> None:
     del v
 
 
+def test_the_finer_grid_of_a_held_back_queue_keeps_each_hours_own_values() -> None:
+    """The exit-ramp case above (the ramp holds the closure's traffic back, so the queue
+    is found on a finer grid), with the last hour's mainline demand halved: every
+    per-interval value must follow the finer grid back to its own hour.
+
+    By hand: the closure receives 80 % of the mainline (2,000 -> 1,600 veh/h; the last
+    hour 1,000 -> 800); the open road carries 2 x 2,000 = 4,000 veh/h and discharges
+    93 % of it, 3,720; the closure (01:00-03:00) 1,200 veh/h both. The back of the
+    queue at the end of each hour follows the construction of the test above: it
+    reaches the ramp at t1 and moves on at ``u1`` until 10,800 s, and is longest (b_m)
+    at t_m, in the fourth hour; none in the last two.
+    """
+    t1 = 3600.0 + 1000.0 / -shock(1600, k_free(1600), 1200, k_queued(1200))
+    u1 = -shock(2000, k_free(2000), 1500, k_queued(1500))
+    t_r = 10800.0 + 1000.0 / W
+    b_r = 1000.0 + u1 * (t_r - t1)
+    t_m = t_r + (b_r - 1000.0) / (W - u1)
+    b_m = 1000.0 + W * (t_m - t_r)
+    ramp = Landmark("Bell St off-ramp", 1000.0, "exit-ramp", ramp_share=0.2)
+    closure = Closure(START + dt.timedelta(hours=1), START + dt.timedelta(hours=3), 1,
+                      capacity_override_veh_h_ln=1200.0)  # fmt: skip
+    demand = Demand(START, 3600, np.array([2000.0] * 5 + [1000.0]))
+    result = wzq.analyse(Plan(site(), demand, (closure,), approach=Approach((ramp,))))
+    h = result.hourly
+    assert list(h["lanes_open"]) == [2, 1, 1, 2, 2, 2]
+    assert list(h["closure"]) == [False, True, True, False, False, False]
+    np.testing.assert_allclose(h["demand_veh_h"], [1600, 1600, 1600, 1600, 1600, 800])
+    np.testing.assert_allclose(h["capacity_veh_h"], [4000, 1200, 1200, 4000, 4000, 4000])
+    np.testing.assert_allclose(h["discharge_veh_h"], [3720, 1200, 1200, 3720, 3720, 3720])
+    np.testing.assert_allclose(
+        h["queue_length_max_m"],
+        [0, 1000 + u1 * (7200 - t1), 1000 + u1 * (10800 - t1), b_m, 0, 0],
+        rtol=1e-9, atol=1e-6,
+    )  # fmt: skip
+    # the long queue (b_m = 7,500 m = 4.66 mi, at t_m = 12,187.5 s = 03:23) is warned of
+    # with the run's warnings, the ramp's with the approach's; no section of this approach
+    # is over the road's capacity upstream
+    assert b_m / 1609.344 == pytest.approx(4.66, abs=0.005)
+    assert any("queue reaches 4.7 mi upstream" in w and "03:23" in w for w in result.warnings)
+    assert any("exit ramp 'Bell St off-ramp'" in w for w in result.warnings)
+    assert not any("arrivals or discharge exceeded" in w for w in result.warnings)
+    # and interval by interval on the finer grid
+    iv = result.intervals
+    hour = ((iv["start"] - START).dt.total_seconds() // 3600).to_numpy()
+    closed = (hour >= 1) & (hour < 3)
+    np.testing.assert_allclose(iv["demand_veh_h"], np.where(hour == 5, 800.0, 1600.0))
+    np.testing.assert_allclose(iv["capacity_veh_h"], np.where(closed, 1200.0, 4000.0))
+    np.testing.assert_allclose(iv["discharge_veh_h"], np.where(closed, 1200.0, 3720.0))
+    assert list(iv["lanes_open"]) == list(np.where(closed, 1, 2))
+
+
+def test_the_window_search_finds_the_held_back_queue_by_hand() -> None:
+    """The window search on the exit-ramp case above: a closure from 01:00 to 03:00
+    makes a queue of b_m = 7,500 m at most (the construction of
+    ``test_queue_past_an_exit_ramp_that_holds_the_closure_traffic_back``), so it
+    passes a 7,600 m limit and fails a 7,400 m one."""
+    from wzq.engine import windows as wins
+
+    t1 = 3600.0 + 1000.0 / -shock(1600, k_free(1600), 1200, k_queued(1200))
+    u1 = -shock(2000, k_free(2000), 1500, k_queued(1500))
+    t_r = 10800.0 + 1000.0 / W
+    b_r = 1000.0 + u1 * (t_r - t1)
+    b_m = 1000.0 + W * ((b_r - 1000.0) / (W - u1))
+    assert b_m == pytest.approx(7500.0, rel=1e-9)
+    ramp = Landmark("Bell St off-ramp", 1000.0, "exit-ramp", ramp_share=0.2)
+    demand = Demand(START, 3600, np.full(6, 2000.0))
+    config = wins.Configuration(1, capacity_override_veh_h_ln=1200.0)
+    for limit, allowed in ((b_m + 100.0, True), (b_m - 100.0, False)):
+        ws = wins.find_windows(
+            site(), demand, Thresholds(max_queue_length=limit), [config],
+            approach=Approach((ramp,)),
+        )  # fmt: skip
+        assert bool(ws.sets[0].allowed[1, 3]) is allowed
+
+
 # --------------------------------------------------------------------------- landmarks
 
 
