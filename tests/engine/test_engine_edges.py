@@ -9,6 +9,7 @@ import datetime as dt
 from types import SimpleNamespace
 
 import numpy as np
+import pytest
 
 import wzq
 from wzq.engine.plan import Closure, Demand, Options, Plan, Site
@@ -89,7 +90,11 @@ def test_a_queue_left_by_a_closure_keeps_its_density_when_the_road_reopens() -> 
         (closure,),
         options=Options(queue_length_method="shockwave"),
     )
-    hourly = wzq.analyse(plan).hourly
+    result = wzq.analyse(plan)
+    hourly = result.hourly
+    # the 900 vehicles clear at 4,000 - 600 = 3,400 veh/h: 900 / 3,400 h = 952.94 s after 01:00
+    clears = result.summary.last_queue_clears
+    assert (clears - start).total_seconds() == pytest.approx(3600 + 900 / 3400 * 3600, abs=1e-3)
     np.testing.assert_allclose(
         hourly["queue_length_max_m"],
         [900 / (2 * (k_q - 2400 / 2 / 3600 / 25)), 900 / (2 * (k_q - 600 / 2 / 3600 / 25))],
