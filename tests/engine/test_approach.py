@@ -366,6 +366,10 @@ def test_queue_past_an_exit_ramp_that_holds_the_closure_traffic_back() -> None:
         hourly["exit_ramp_delay_veh_h"], [0, *np.array(exit_hours) / HOUR, 0, 0], rtol=1e-9
     )
     assert result.exit_ramps.loc[0, "max_wait_min"] == pytest.approx(24.375, rel=1e-9)
+    # the total: the closure's queue, plus the exiting traffic held (no work-zone length)
+    assert result.summary.total_delay_veh_h == pytest.approx(
+        (400 * 0.5 + (400 + 800) * 0.5 + queue_h3 / HOUR) + sum(exit_hours) / HOUR, rel=1e-9
+    )
     assert any("exit ramp 'Bell St off-ramp'" in w for w in result.warnings)
     del v
 

@@ -100,3 +100,32 @@ def test_a_queue_left_by_a_closure_keeps_its_density_when_the_road_reopens() -> 
         [900 / (2 * (k_q - 2400 / 2 / 3600 / 25)), 900 / (2 * (k_q - 600 / 2 / 3600 / 25))],
         rtol=1e-9,
     )
+
+
+def test_a_queue_shorter_than_a_car_still_has_its_time_and_none_has_none() -> None:
+    # The single-state hand site above, 1,500.1 veh/h against the 1,500 veh/h closure for
+    # an hour: 0.1 vehicle waits at 01:00, 0.1 / (2 (0.086458 - 1500.1/2/3600/25)) =
+    # 0.64 m of queue; both maxima are at 01:00. With 1,500 veh/h no queue forms: no time.
+    start = dt.datetime(2027, 5, 3)
+    site = Site(lanes=2, speed_limit=25.0, work_zone_speed_limit=25.0, work_zone_length=0.0,
+                free_flow_speed=25.0, heavy_vehicle_share=0.0, jam_density=0.125,
+                base_capacity_pc_h_ln=2000.0, capacity_drop_pct_open=0.0)  # fmt: skip
+    closure = Closure(start, start + dt.timedelta(hours=1), 1, capacity_override_veh_h_ln=1500.0)
+    options = Options(queue_length_method="shockwave")
+    w = (2000 / 3600) / (0.125 - 2000 / 3600 / 25)
+    k_q = 0.125 - 750 / 3600 / w
+    tiny = wzq.analyse(
+        Plan(site, Demand(start, 3600, np.array([1500.1, 600.0])), (closure,), options=options)
+    ).summary
+    assert tiny.max_queue_veh == pytest.approx(0.1, rel=1e-9)
+    assert tiny.max_queue_length_m == pytest.approx(
+        0.1 / (2 * (k_q - 1500.1 / 2 / 3600 / 25)), rel=1e-9
+    )
+    assert tiny.max_queue_length_m < 1.0
+    assert tiny.max_queue_veh_at == start + dt.timedelta(hours=1)
+    assert tiny.max_queue_length_at == start + dt.timedelta(hours=1)
+    none = wzq.analyse(
+        Plan(site, Demand(start, 3600, np.array([1500.0, 600.0])), (closure,), options=options)
+    ).summary
+    assert none.max_queue_length_m == 0.0 and none.max_queue_length_at is None
+    assert none.max_queue_veh_at is None and none.hours_failing == ()
