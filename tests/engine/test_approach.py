@@ -28,6 +28,7 @@ import datetime as dt
 import io
 import json
 from contextlib import redirect_stdout
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -39,6 +40,7 @@ from wzq.engine import lwr
 from wzq.engine.plan import (
     Approach,
     Closure,
+    Costs,
     Demand,
     Landmark,
     Options,
@@ -366,10 +368,12 @@ def test_queue_past_an_exit_ramp_that_holds_the_closure_traffic_back() -> None:
         hourly["exit_ramp_delay_veh_h"], [0, *np.array(exit_hours) / HOUR, 0, 0], rtol=1e-9
     )
     assert result.exit_ramps.loc[0, "max_wait_min"] == pytest.approx(24.375, rel=1e-9)
-    # the total: the closure's queue, plus the exiting traffic held (no work-zone length)
-    assert result.summary.total_delay_veh_h == pytest.approx(
-        (400 * 0.5 + (400 + 800) * 0.5 + queue_h3 / HOUR) + sum(exit_hours) / HOUR, rel=1e-9
-    )
+    # the total: the closure's queue, plus the exiting traffic held (no work-zone length);
+    # at 20 per person-hour, 1.5 persons per car and no trucks, 30 per vehicle-hour
+    total = (400 * 0.5 + (400 + 800) * 0.5 + queue_h3 / HOUR) + sum(exit_hours) / HOUR
+    assert result.summary.total_delay_veh_h == pytest.approx(total, rel=1e-9)
+    priced = wzq.analyse(replace(closure_plan(2000.0, ramp, 1200.0), costs=Costs(20.0, 1.5, 50.0)))
+    assert priced.summary.total_cost == pytest.approx(30.0 * total, rel=1e-9)
     assert any("exit ramp 'Bell St off-ramp'" in w for w in result.warnings)
     del v
 

@@ -94,6 +94,7 @@ def test_a_queue_left_by_a_closure_keeps_its_density_when_the_road_reopens() -> 
     hourly = result.hourly
     # the 900 vehicles clear at 4,000 - 600 = 3,400 veh/h: 900 / 3,400 h = 952.94 s after 01:00
     clears = result.summary.last_queue_clears
+    assert result.summary.queue_at_end_veh == 0.0
     assert (clears - start).total_seconds() == pytest.approx(3600 + 900 / 3400 * 3600, abs=1e-3)
     np.testing.assert_allclose(
         hourly["queue_length_max_m"],
