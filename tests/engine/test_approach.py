@@ -51,6 +51,7 @@ from wzq.engine.plan import (
 )
 from wzq.io.jsonplan import plan_from_dict, plan_to_dict
 from wzq.models.flow import Trapezoidal
+from wzq.present.tables import exit_ramp_display, landmark_display
 from wzq.units import HOUR, MILE, MPH
 
 START = dt.datetime(2027, 5, 3)  # invented
@@ -374,6 +375,19 @@ def test_queue_past_an_exit_ramp_that_holds_the_closure_traffic_back() -> None:
     assert result.summary.total_delay_veh_h == pytest.approx(total, rel=1e-9)
     priced = wzq.analyse(replace(closure_plan(2000.0, ramp, 1200.0), costs=Costs(20.0, 1.5, 50.0)))
     assert priced.summary.total_cost == pytest.approx(30.0 * total, rel=1e-9)
+    # as printed: 1,000 m = 0.621 mi (1 mi = 1,609.344 m); 24.375 min rounds half up
+    shown = exit_ramp_display(result).iloc[0]
+    assert shown["Upstream (mi)"] == 0.62
+    assert shown["Exit ramp"] == "Bell St off-ramp"
+    assert shown["Delay of exiting traffic (veh-h)"] == round(sum(exit_hours) / HOUR, 1) == 165.0
+    assert shown["Longest extra wait (min)"] == 24.4
+    metric = replace(closure_plan(2000.0, ramp, 1200.0), site=site(unit_system="metric"))
+    assert exit_ramp_display(wzq.analyse(metric)).iloc[0]["Upstream (km)"] == 1.0
+    # the single-state relation gives no single vehicle's wait: a dash
+    single = replace(
+        closure_plan(2000.0, ramp, 1200.0), options=Options(queue_length_method="shockwave")
+    )
+    assert exit_ramp_display(wzq.analyse(single)).iloc[0]["Longest extra wait (min)"] == "-"
     assert any("exit ramp 'Bell St off-ramp'" in w for w in result.warnings)
     del v
 
@@ -505,6 +519,18 @@ def test_landmark_results_by_hand_with_the_single_state_relation() -> None:
     assert table.loc[0, "hours_beyond"] == 2
     assert result.landmark_hours["Heron Creek bridge"].tolist() == [False, True, True, False]
     assert not any("warning signing" in w for w in result.warnings)
+    # as printed, in miles (1 mi = 1,609.344 m): 1,000 m = 0.62 mi, 8,000 m = 4.97 mi;
+    # first reached 01:09:45 (Mon 3 May 2027); (last - first) = 3,791.9 s = 1.05 h;
+    # farthest beyond 5,153.8 m = 3.20 mi
+    shown = landmark_display(result).to_dict("list")
+    assert shown["Landmark"] == ["Heron Creek bridge", "end of signs"]
+    assert shown["Kind"] == ["bridge or structure", "end of advance warning signing"]
+    assert shown["Upstream (mi)"] == [0.62, 4.97]
+    assert shown["Queue first reaches it"] == ["Mon 2027-05-03 01:09", "never"]
+    assert shown["Time beyond it (h)"] == [round((last - first) / HOUR, 2), 0.0]
+    assert shown["Time beyond it (h)"][0] == 1.05
+    assert shown["Farthest beyond (mi)"] == [3.2, 0.0]
+    assert shown["Hours beyond"] == [2, 0]
 
 
 def test_queue_past_the_end_of_the_warning_signs_warns() -> None:
