@@ -375,6 +375,11 @@ def test_queue_past_an_exit_ramp_that_holds_the_closure_traffic_back() -> None:
     assert result.summary.total_delay_veh_h == pytest.approx(total, rel=1e-9)
     priced = wzq.analyse(replace(closure_plan(2000.0, ramp, 1200.0), costs=Costs(20.0, 1.5, 50.0)))
     assert priced.summary.total_cost == pytest.approx(30.0 * total, rel=1e-9)
+    np.testing.assert_allclose(
+        priced.hourly["road_user_cost"],
+        30.0 * (hourly["queue_delay_veh_h"] + hourly["exit_ramp_delay_veh_h"]),
+        rtol=1e-9,
+    )
     # as printed: 1,000 m = 0.621 mi (1 mi = 1,609.344 m); 24.375 min rounds half up
     shown = exit_ramp_display(result).iloc[0]
     assert shown["Upstream (mi)"] == 0.62

@@ -93,6 +93,11 @@ def test_a_queue_left_by_a_closure_keeps_its_density_when_the_road_reopens() -> 
     result = wzq.analyse(plan)
     hourly = result.hourly
     # the 900 vehicles clear at 4,000 - 600 = 3,400 veh/h: 900 / 3,400 h = 952.94 s after 01:00
+    # the longest wait per hour, by the hour the vehicle arrives (FIFO): a vehicle arriving
+    # t h after 00:00 finds 900 t vehicles served at 1,500 veh/h until 01:00, then 4,000:
+    # it waits 0.6 t h while 900 t <= 1,500 (1 - t), i.e. up to t = 0.625 h (22.5 min),
+    # less after. (The second hour's 13.5 min is held in tests/models/test_wait_oracles.py.)
+    assert hourly["max_queue_wait_min"][0] == pytest.approx(22.5, rel=1e-9)
     clears = result.summary.last_queue_clears
     assert result.summary.queue_at_end_veh == 0.0
     assert (clears - start).total_seconds() == pytest.approx(3600 + 900 / 3400 * 3600, abs=1e-3)
