@@ -18,6 +18,14 @@ from wzq.engine.windows import too_long_text
 from wzq.models.newell import Extent
 
 
+def hand_site() -> Site:
+    """The hand site of test_approach.py: 2 lanes, v_f 25 m/s, k_j 0.125 veh/m/ln,
+    2,000 veh/h/ln, no heavy vehicles, no capacity drop."""
+    return Site(lanes=2, speed_limit=25.0, work_zone_speed_limit=25.0, work_zone_length=0.0,
+                free_flow_speed=25.0, heavy_vehicle_share=0.0, jam_density=0.125,
+                base_capacity_pc_h_ln=2000.0, capacity_drop_pct_open=0.0)  # fmt: skip
+
+
 def test_too_long_text_says_how_much_data_and_what_the_search_takes() -> None:
     # The search takes 6 weeks of 15-minute data: 6 x 7 x 24 x 4 = 4,032 intervals.
     # 5,000 intervals of 15 minutes = 5,000 x 900 / 86,400 = 52.08 days; with 5-minute
@@ -79,9 +87,7 @@ def test_a_queue_left_by_a_closure_keeps_its_density_when_the_road_reopens() -> 
     # its end, 900 / (2 (0.086458 - 2400/2/3600/25)) = 6,153.8 m.
     w = (2000 / 3600) / (0.125 - 2000 / 3600 / 25)
     k_q = 0.125 - 750 / 3600 / w
-    site = Site(lanes=2, speed_limit=25.0, work_zone_speed_limit=25.0, work_zone_length=0.0,
-                free_flow_speed=25.0, heavy_vehicle_share=0.0, jam_density=0.125,
-                base_capacity_pc_h_ln=2000.0, capacity_drop_pct_open=0.0)  # fmt: skip
+    site = hand_site()
     start = dt.datetime(2027, 5, 3)
     closure = Closure(start, start + dt.timedelta(hours=1), 1, capacity_override_veh_h_ln=1500.0)
     plan = Plan(
@@ -113,9 +119,7 @@ def test_a_queue_shorter_than_a_car_still_has_its_time_and_none_has_none() -> No
     # an hour: 0.1 vehicle waits at 01:00, 0.1 / (2 (0.086458 - 1500.1/2/3600/25)) =
     # 0.64 m of queue; both maxima are at 01:00. With 1,500 veh/h no queue forms: no time.
     start = dt.datetime(2027, 5, 3)
-    site = Site(lanes=2, speed_limit=25.0, work_zone_speed_limit=25.0, work_zone_length=0.0,
-                free_flow_speed=25.0, heavy_vehicle_share=0.0, jam_density=0.125,
-                base_capacity_pc_h_ln=2000.0, capacity_drop_pct_open=0.0)  # fmt: skip
+    site = hand_site()
     closure = Closure(start, start + dt.timedelta(hours=1), 1, capacity_override_veh_h_ln=1500.0)
     options = Options(queue_length_method="shockwave")
     w = (2000 / 3600) / (0.125 - 2000 / 3600 / 25)
