@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 import wzq
-from wzq.engine.plan import Closure, Demand, Options, Plan, Site
+from wzq.engine.plan import Closure, Demand, Options, Plan, Site, Thresholds
 from wzq.engine.queue_length import no_queue, queue_state_discharge
 from wzq.engine.windows import too_long_text
 from wzq.models.newell import Extent
@@ -139,3 +139,20 @@ def test_a_queue_shorter_than_a_car_still_has_its_time_and_none_has_none() -> No
     ).summary
     assert none.max_queue_length_m == 0.0 and none.max_queue_length_at is None
     assert none.max_queue_veh_at is None and none.hours_failing == ()
+
+
+def test_a_plan_without_closures_is_open_road_in_every_interval() -> None:
+    # No closure: every interval is open road (closure index -1, documented), no hour
+    # counts as a closure hour, and the demand/capacity limit (for closure hours only)
+    # does not judge 2,400 veh/h against 4,000 (0.6) over a limit of 0.5.
+    start = dt.datetime(2027, 5, 3)
+    plan = Plan(
+        hand_site(),
+        Demand(start, 900, np.full(8, 2400.0)),
+        thresholds=Thresholds(max_demand_capacity=0.5),
+    )
+    result = wzq.analyse(plan)
+    assert (result.interval_closure == -1).all() and len(result.interval_closure) == 8
+    assert list(result.hourly["closure"]) == [False, False]
+    assert list(result.hourly["status"]) == ["ok", "ok"]
+    np.testing.assert_allclose(result.hourly["demand_capacity"], [0.6, 0.6])
