@@ -13,6 +13,7 @@ import pytest
 
 import wzq
 from wzq.engine.plan import Closure, Demand, Options, Plan, Site, Thresholds
+from wzq.engine.grid import night_by_clock
 from wzq.engine.queue_length import no_queue, queue_state_discharge
 from wzq.engine.windows import too_long_text
 from wzq.models.newell import Extent
@@ -156,3 +157,10 @@ def test_a_plan_without_closures_is_open_road_in_every_interval() -> None:
     assert list(result.hourly["closure"]) == [False, False]
     assert list(result.hourly["status"]) == ["ok", "ok"]
     np.testing.assert_allclose(result.hourly["demand_capacity"], [0.6, 0.6])
+
+
+def test_night_by_the_clock_over_more_than_a_day() -> None:
+    # Night is 19:00-06:00 (common practice, no source; wzq.engine.plan). Hourly data from
+    # 18:00 for 25 hours: 18:00 day, 19:00-05:00 night (11 h), 06:00-18:00 day (13 h).
+    flags = night_by_clock(18, np.arange(25))
+    assert flags.tolist() == [False] + [True] * 11 + [False] * 13
