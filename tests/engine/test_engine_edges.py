@@ -12,8 +12,8 @@ import numpy as np
 import pytest
 
 import wzq
-from wzq.engine.plan import Closure, Demand, Options, Plan, Site, Thresholds
 from wzq.engine.grid import night_by_clock
+from wzq.engine.plan import Closure, Demand, Options, Plan, Site, Thresholds
 from wzq.engine.queue_length import no_queue, queue_state_discharge
 from wzq.engine.windows import too_long_text
 from wzq.models.newell import Extent
