@@ -461,6 +461,14 @@ def test_tables_for_the_report() -> None:
     assert table.loc[0, "06"] and not table.loc[0, "07"] and table.loc[0, "19"]
     counts = W.days_allowed_by_hour(result)
     assert counts["1 of 2 lanes closed"].tolist() == [2] * 7 + [0] * 12 + [2] * 5
+    assert counts.index.name == "hour" and list(counts.index) == list(range(24))
+    assert all(str(t) == "int64" for t in counts.dtypes)  # whole days, printed as counts
+    # one column per configuration, in the order they were searched (not alphabetical)
+    both = W.find_windows(plan.site, plan.demand, plan.thresholds, [0, 1])
+    assert list(W.days_allowed_by_hour(both).columns) == [
+        "shoulder closed, 2 lanes open",
+        "1 of 2 lanes closed",
+    ]
     longest = W.longest_windows(result, top=2)
     assert longest["hours"].tolist() == [12.0, 7.0]
     assert longest["start"].tolist()[0] == dt.datetime(2027, 5, 3, 19)
