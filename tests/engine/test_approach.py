@@ -380,19 +380,6 @@ def test_queue_past_an_exit_ramp_that_holds_the_closure_traffic_back() -> None:
         30.0 * (hourly["queue_delay_veh_h"] + hourly["exit_ramp_delay_veh_h"]),
         rtol=1e-9,
     )
-    # as printed: 1,000 m = 0.621 mi (1 mi = 1,609.344 m); 24.375 min rounds half up
-    shown = exit_ramp_display(result).iloc[0]
-    assert shown["Upstream (mi)"] == 0.62
-    assert shown["Exit ramp"] == "Bell St off-ramp"
-    assert shown["Delay of exiting traffic (veh-h)"] == round(sum(exit_hours) / HOUR, 1) == 165.0
-    assert shown["Longest extra wait (min)"] == 24.4
-    metric = replace(closure_plan(2000.0, ramp, 1200.0), site=site(unit_system="metric"))
-    assert exit_ramp_display(wzq.analyse(metric)).iloc[0]["Upstream (km)"] == 1.0
-    # the single-state relation gives no single vehicle's wait: a dash
-    single = replace(
-        closure_plan(2000.0, ramp, 1200.0), options=Options(queue_length_method="shockwave")
-    )
-    assert exit_ramp_display(wzq.analyse(single)).iloc[0]["Longest extra wait (min)"] == "-"
     assert any("exit ramp 'Bell St off-ramp'" in w for w in result.warnings)
     del v
 
@@ -524,18 +511,57 @@ def test_landmark_results_by_hand_with_the_single_state_relation() -> None:
     assert table.loc[0, "hours_beyond"] == 2
     assert result.landmark_hours["Heron Creek bridge"].tolist() == [False, True, True, False]
     assert not any("warning signing" in w for w in result.warnings)
-    # as printed, in miles (1 mi = 1,609.344 m): 1,000 m = 0.62 mi, 8,000 m = 4.97 mi;
-    # first reached 01:09:45 (Mon 3 May 2027); (last - first) = 3,791.9 s = 1.05 h;
-    # farthest beyond 5,153.8 m = 3.20 mi
+
+
+def test_the_landmark_and_exit_ramp_tables_as_printed() -> None:
+    """The printed tables, worked from the SI results (hand-checked in the tests above)
+    with 1 mi = 1,609.344 m, 1 km = 1,000 m, rounding half up."""
+    plan = one_busy_hour(
+        Landmark("Heron Creek bridge", 1000.0, "structure"),
+        Landmark("end of signs", 8000.0, "warning-signs-end"),
+    )
+    result = wzq.analyse(plan)
+    lm = result.landmarks
     shown = landmark_display(result).to_dict("list")
     assert shown["Landmark"] == ["Heron Creek bridge", "end of signs"]
     assert shown["Kind"] == ["bridge or structure", "end of advance warning signing"]
-    assert shown["Upstream (mi)"] == [0.62, 4.97]
+    assert shown["Upstream (mi)"] == [0.62, 4.97]  # 1,000 and 8,000 m
+    # first reached 01:09:45 (Mon 3 May 2027), minutes cut
+    assert lm.loc[0, "first_reached"] == START + dt.timedelta(hours=1, minutes=9, seconds=45)
     assert shown["Queue first reaches it"] == ["Mon 2027-05-03 01:09", "never"]
-    assert shown["Time beyond it (h)"] == [round((last - first) / HOUR, 2), 0.0]
-    assert shown["Time beyond it (h)"][0] == 1.05
+    assert lm.loc[0, "time_beyond_h"] == pytest.approx(1.0533, abs=1e-4)
+    assert shown["Time beyond it (h)"] == [1.05, 0.0]
+    assert lm.loc[0, "max_beyond_m"] / 1609.344 == pytest.approx(3.2024, abs=1e-4)
     assert shown["Farthest beyond (mi)"] == [3.2, 0.0]
     assert shown["Hours beyond"] == [2, 0]
+
+    ramp = Landmark("Bell St off-ramp", 1000.0, "exit-ramp", ramp_share=0.2)
+    result = wzq.analyse(closure_plan(2000.0, ramp, 1200.0))
+    ex = result.exit_ramps
+    shown = exit_ramp_display(result).iloc[0]
+    assert shown["Exit ramp"] == "Bell St off-ramp"
+    assert shown["Upstream (mi)"] == 0.62
+    assert ex.loc[0, "delay_veh_h"] == pytest.approx(165.04, abs=0.005)
+    assert shown["Delay of exiting traffic (veh-h)"] == 165.0
+    assert ex.loc[0, "max_wait_min"] == 24.375
+    assert shown["Longest extra wait (min)"] == 24.4
+    metric = replace(closure_plan(2000.0, ramp, 1200.0), site=site(unit_system="metric"))
+    assert exit_ramp_display(wzq.analyse(metric)).iloc[0]["Upstream (km)"] == 1.0
+    # the single-state relation gives no single vehicle's wait: a dash
+    single = replace(
+        closure_plan(2000.0, ramp, 1200.0), options=Options(queue_length_method="shockwave")
+    )
+    assert exit_ramp_display(wzq.analyse(single)).iloc[0]["Longest extra wait (min)"] == "-"
+
+
+def test_a_queue_that_just_reaches_the_landmark_does_not_pass_it() -> None:
+    # the hand case above: the longest queue is 900 / 0.14625 = 6,153.85 m, at 02:00;
+    # with the landmark exactly there (to rounding) the limit holds, 1 m nearer it fails
+    s1 = 2 * (k_queued(1500) - k_free(2400))
+    for at, ok in ((900.0 / s1, True), (900.0 / s1 - 1.0, False)):
+        plan = one_busy_hour(Landmark("gantry", at, "structure"), limit="gantry")
+        status = wzq.analyse(plan).hourly["status"]
+        assert bool((status == "ok").all()) is ok
 
 
 def test_queue_past_the_end_of_the_warning_signs_warns() -> None:
