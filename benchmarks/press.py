@@ -13,7 +13,10 @@ the command back to back, so both see the same machine load):
 - ``wzq report`` (absolute time, and against the bare start).
 
 Plans (invented): one day, one week, one month and one year of hourly demand and
-one week of 15-minute demand, typed into the template as a designer would.
+one week of 15-minute demand, typed into the template as a designer would, with
+the agency limits of the Ashgrove Bypass example and the template's default
+"Closure windows sheet: yes" (the search is left out of the year, over its size
+limit, with a note on the sheet).
 
 Medians of the paired runs, with the min-max of the ratios (this machine's
 speed drifts within a run). Targets: ``--version`` under 0.3 s above bare
@@ -21,13 +24,20 @@ Python; ``run`` on a week within 1.5x its floor, on a year within 1.3x; ``check`
 on a year within 1.5x of the load of its input sheets; ``report`` on a week
 under 1.2 s.
 
+``--compare PATH`` also times another checkout of wzq (for example main before a
+change) in the same pairs, each tree on its own copy of every workbook, run with
+``PYTHONPATH`` set to that tree: its rows follow each of this tree's, marked
+``(compared)``.
+
     python benchmarks/press.py [--repeat N] [--plans day,week,...] [--cases version,check,...]
+        [--compare OTHER_CHECKOUT]
 """
 
 from __future__ import annotations
 
 import argparse
 import dataclasses
+import os
 import shutil
 import statistics
 import subprocess
@@ -48,6 +58,7 @@ from engine import year_plan  # noqa: E402
 from workbook_helpers import fill_template  # noqa: E402
 
 import wzq  # noqa: E402
+from wzq.io.jsonplan import load_plan  # noqa: E402
 
 PY = sys.executable
 INPUT_SHEETS = ("Start", "Site", "Demand", "Closures", "Limits")
@@ -55,50 +66,62 @@ PLANS = ("day", "week", "month", "year", "week15")
 CASES = ("version", "help", "check", "run", "first-run", "report")
 
 
+def _hourly(name: str) -> wzq.Plan:
+    days = {"day": 1, "week": 7, "month": 30, "year": 365, "week15": 7}[name]
+    return year_plan(days=days)
+
+
 def plan_for(name: str) -> wzq.Plan:
-    """The invented benchmark plans (weekday/weekend profiles, nightly closures)."""
-    if name == "day":
-        return year_plan(days=1)
-    if name == "week":
-        return year_plan(days=7)
-    if name == "month":
-        return year_plan(days=30)
-    if name == "year":
-        return year_plan(days=365)
+    """The invented benchmark plans (weekday/weekend profiles, nightly closures), with the
+    limits of the Ashgrove Bypass example and the closure-window search on."""
+    plan = _hourly(name)
     if name == "week15":
-        week = year_plan(days=7)
-        flows = np.repeat(week.demand.flows_veh_h, 4)
-        demand = wzq.Demand(week.demand.start, 900, flows)
-        return dataclasses.replace(week, demand=demand)
-    raise ValueError(name)
+        flows = np.repeat(plan.demand.flows_veh_h, 4)
+        plan = dataclasses.replace(plan, demand=wzq.Demand(plan.demand.start, 900, flows))
+    limits = load_plan(ROOT / "examples" / "ashgrove_bypass_week.json").thresholds
+    options = dataclasses.replace(plan.options, closure_windows=True)
+    return dataclasses.replace(plan, thresholds=limits, options=options)
 
 
-def timed(cmd: list[str]) -> float:
-    """Wall time of one fresh process; it must succeed."""
+def timed(cmd: list[str], root: Path | None = None) -> float:
+    """Wall time of one fresh process (``python -m wzq`` imports the wzq of ``root``,
+    this tree by default); it must succeed."""
+    env = dict(os.environ)
+    if root is not None:
+        env["PYTHONPATH"] = str(root)
     t0 = time.perf_counter()
-    done = subprocess.run(cmd, capture_output=True, text=True)
+    done = subprocess.run(cmd, capture_output=True, text=True, env=env, cwd=root or ROOT)
     seconds = time.perf_counter() - t0
     if done.returncode != 0:
         raise SystemExit(f"failed ({done.returncode}): {' '.join(cmd)}\n{done.stderr[-2000:]}")
     return seconds
 
 
+Measured = tuple[float, float, float, float, float]
+
+
 def paired(
-    floor: Callable[[], float], cmd: Callable[[], float], repeat: int
-) -> tuple[float, float, float, float, float]:
-    """Median floor, median command, and median / min / max of the per-pair ratio."""
-    fs, cs = [], []
+    floor: Callable[[], float], cmds: dict[str, Callable[[], float]], repeat: int
+) -> dict[str, Measured]:
+    """Per tree: median floor, median command, and median / min / max of the per-pair
+    ratio; every round runs the floor, then each tree's command, back to back."""
+    fs: list[float] = []
+    cs: dict[str, list[float]] = {tree: [] for tree in cmds}
     for _ in range(repeat):
         fs.append(floor())
-        cs.append(cmd())
-    ratios = [c / f for f, c in zip(fs, cs, strict=True)]
-    return (
-        statistics.median(fs),
-        statistics.median(cs),
-        statistics.median(ratios),
-        min(ratios),
-        max(ratios),
-    )
+        for tree, cmd in cmds.items():
+            cs[tree].append(cmd())
+    out = {}
+    for tree, times in cs.items():
+        ratios = [c / f for f, c in zip(fs, times, strict=True)]
+        out[tree] = (
+            statistics.median(fs),
+            statistics.median(times),
+            statistics.median(ratios),
+            min(ratios),
+            max(ratios),
+        )
+    return out
 
 
 def bare() -> float:
@@ -116,12 +139,14 @@ def inputs_only(src: Path, dst: Path) -> Path:
     return dst
 
 
-def row(label: str, floor_label: str, m: tuple[float, ...], target: str) -> None:
-    f, c, r, lo, hi = m
-    print(
-        f"{label:<30}{floor_label:<22}{f:>8.3f}{c:>9.3f}{r:>7.2f}  "
-        f"({lo:.2f}-{hi:.2f})  +{c - f:.3f} s  {target}"
-    )
+def row(label: str, floor_label: str, ms: dict[str, Measured], target: str) -> None:
+    """One line per tree: this tree's with the target, then the compared tree's."""
+    for tree, (f, c, r, lo, hi) in ms.items():
+        name = label if tree == "this" else "  (compared)"
+        print(
+            f"{name:<30}{floor_label:<22}{f:>8.3f}{c:>9.3f}{r:>7.2f}  "
+            f"({lo:.2f}-{hi:.2f})  +{c - f:.3f} s  {target if tree == 'this' else ''}"
+        )
 
 
 def load(p: Path) -> Callable[[], float]:
@@ -137,41 +162,57 @@ def load_save(p: Path, out: Path) -> Callable[[], float]:
     return lambda: timed([PY, "-c", code])
 
 
-def wzq_cmd(*args: str) -> Callable[[], float]:
-    """One ``wzq`` command as a fresh process."""
-    return lambda: timed([PY, "-m", "wzq", *args])
+def wzq_cmd(*args: str, root: Path | None = None) -> Callable[[], float]:
+    """One ``wzq`` command as a fresh process (the wzq of ``root``, else this tree's)."""
+    return lambda: timed([PY, "-m", "wzq", *args], root)
 
 
-def bench_plan(name: str, folder: Path, cases: list[str], n: int) -> None:
-    """Every case of one plan, each against its floor."""
+def bench_plan(name: str, folder: Path, cases: list[str], n: int, trees: dict[str, Path]) -> None:
+    """Every case of one plan, each against its floor; every tree on its own copies."""
     fresh = fill_template(plan_for(name), folder / f"{name}-fresh.xlsx")
-    done = folder / f"{name}.xlsx"
-    shutil.copyfile(fresh, done)
-    wzq_cmd("run", str(done))()  # results present from here on
+    done = {}
+    for tree, root in trees.items():
+        done[tree] = folder / tree / f"{name}.xlsx"
+        done[tree].parent.mkdir(exist_ok=True)
+        shutil.copyfile(fresh, done[tree])
+        wzq_cmd("run", str(done[tree]), root=root)()  # results present from here on
     inputs = inputs_only(fresh, folder / f"{name}-inputs.xlsx")
     floor_out = folder / "floor-out.xlsx"
+
+    def each(*args: str) -> dict[str, Callable[[], float]]:
+        return {tree: wzq_cmd(*args, str(done[tree]), root=root) for tree, root in trees.items()}
+
     if "check" in cases:
-        check = wzq_cmd("check", str(done))
-        row(f"check {name}", "openpyxl load", paired(load(done), check, n), "")
+        row(f"check {name}", "openpyxl load", paired(load(done["this"]), each("check"), n), "")
         target = "<= 1.5x (year)" if name == "year" else ""
-        row(f"check {name}", "load input sheets", paired(load(inputs), check, n), target)
+        m = paired(load(inputs), each("check"), n)
+        row(f"check {name}", "load input sheets", m, target)
     if "run" in cases:
         target = {"week": "<= 1.5x", "year": "<= 1.3x"}.get(name, "")
-        m = paired(load_save(done, floor_out), wzq_cmd("run", str(done)), n)
+        m = paired(load_save(done["this"], floor_out), each("run"), n)
         row(f"run {name} (re-run)", "openpyxl load+save", m, target)
     if "first-run" in cases:
-        work = folder / f"{name}-work.xlsx"
 
-        def first() -> float:
-            shutil.copyfile(fresh, work)
-            return wzq_cmd("run", str(work))()
+        def first(tree: str, root: Path) -> Callable[[], float]:
+            work = folder / tree / f"{name}-work.xlsx"
 
-        m = paired(load_save(fresh, floor_out), first, n)
+            def go() -> float:
+                shutil.copyfile(fresh, work)
+                return wzq_cmd("run", str(work), root=root)()
+
+            return go
+
+        m = paired(load_save(fresh, floor_out), {t: first(t, r) for t, r in trees.items()}, n)
         row(f"run {name} (first run)", "openpyxl load+save", m, "")
     if "report" in cases and name in ("day", "week"):
-        report = wzq_cmd("report", str(done), "-o", str(folder / f"{name}.pdf"))
+        reports = {
+            tree: wzq_cmd(
+                "report", str(done[tree]), "-o", str(folder / tree / f"{name}.pdf"), root=root
+            )
+            for tree, root in trees.items()
+        }
         target = "< 1.2 s" if name == "week" else ""
-        row(f"report {name}", "python -c pass", paired(bare, report, n), target)
+        row(f"report {name}", "python -c pass", paired(bare, reports, n), target)
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -179,12 +220,18 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--repeat", type=int, default=5, help="timed pairs per case (default 5)")
     ap.add_argument("--plans", default=",".join(PLANS), help=f"subset of {','.join(PLANS)}")
     ap.add_argument("--cases", default=",".join(CASES), help=f"subset of {','.join(CASES)}")
+    ap.add_argument("--compare", type=Path, help="another wzq checkout, timed alongside")
     args = ap.parse_args(argv)
+    trees = {"this": ROOT}
+    if args.compare is not None:
+        trees["compared"] = args.compare.resolve()
     plans = [p for p in args.plans.split(",") if p]
     cases = [c for c in args.cases.split(",") if c]
     n = args.repeat
 
     print(f"wzq {wzq.__version__}, {n} pairs per case, fresh processes; medians, ratio (min-max)")
+    if args.compare is not None:
+        print(f"compared with the wzq in {trees['compared']} (rows marked '(compared)')")
     print(
         f"{'case':<30}{'floor':<22}{'floor s':>8}{'wzq s':>9}{'ratio':>7}  {'range':<13}"
         f"{'above floor':<13}target"
@@ -192,12 +239,12 @@ def main(argv: list[str] | None = None) -> int:
     for case in ("version", "help"):
         if case in cases:
             flag = f"--{case}"
-            m = paired(bare, lambda flag=flag: timed([PY, "-m", "wzq", flag]), n)
-            row(f"wzq {flag}", "python -c pass", m, "< 0.3 s above bare start")
+            cmds = {tree: wzq_cmd(flag, root=root) for tree, root in trees.items()}
+            row(f"wzq {flag}", "python -c pass", paired(bare, cmds, n), "< 0.3 s above bare start")
 
     with tempfile.TemporaryDirectory() as tmp:
         for name in plans:
-            bench_plan(name, Path(tmp), cases, n)
+            bench_plan(name, Path(tmp), cases, n, trees)
     return 0
 
 

@@ -266,10 +266,15 @@ class FakeBook(Recorded):
         self._sheets: list[FakeSheet] = []
         self._names: dict[str, FakeName] = {}
         self._active: FakeSheet | None = None
+        self._fullname = name  # the full path once opened from a file (xlwings Book.fullname)
 
     @property
     def name(self) -> str:
         return self._name
+
+    @property
+    def fullname(self) -> str:
+        return self._fullname
 
     @property
     def app(self) -> FakeApp:
@@ -308,6 +313,7 @@ class FakeBook(Recorded):
         path = Path(path)
         wb = load_workbook(path, data_only=True)
         book = cls(path.name, app)
+        book._fullname = str(path.resolve())
         for ws in wb.worksheets:
             sheet = book._add_sheet(ws.title)
             for (r, c), src in ws._cells.items():

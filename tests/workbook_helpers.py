@@ -133,6 +133,16 @@ def plan_values(plan: Plan) -> dict[str, Any]:
             None if t.max_average_delay is None else t.max_average_delay / u.MINUTE
         ),
         "limit_demand_capacity": t.max_demand_capacity,
+        "limit_landmark": t.queue_must_not_pass,
+        "site_congested_branch": L.word_for(L.CONGESTED_WORDS, s.congested_branch),
+        "site_wave_speed": _r(
+            None if s.wave_speed is None else u.mps_to_speed(s.wave_speed, system)
+        ),
+        "site_density_at_capacity": _r(
+            None
+            if s.density_at_capacity is None
+            else u.per_m_to_density(s.density_at_capacity, system)
+        ),
         "opt_capacity_drop": L.word_for(L.YES_NO_WORDS, o.capacity_drop),
         "opt_diagram": L.word_for(L.DIAGRAM_WORDS, o.diagram),
         "opt_queue_length_method": L.word_for(L.QUEUE_METHOD_WORDS, o.queue_length_method),
@@ -149,6 +159,13 @@ def plan_values(plan: Plan) -> dict[str, Any]:
     )
     if c is not None:
         v.update(cost_currency=c.currency, cost_dollar_year=c.dollar_year)
+    r = plan.risk
+    v.update(
+        risk_capacity_cv=None if r is None else r.capacity_cv,
+        risk_draws=1000 if r is None else r.draws,
+        risk_seed=1 if r is None else r.seed,
+        risk_window_percent=None if r is None or r.window_risk is None else r.window_risk * 100,
+    )
     return v
 
 

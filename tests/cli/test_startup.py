@@ -77,3 +77,13 @@ def test_every_command_module_is_in_the_registry_and_has_its_two_functions() -> 
     for module, _ in cli.COMMANDS.values():
         loaded = importlib.import_module(module)
         assert callable(loaded.configure) and callable(loaded.run), module
+
+
+def test_check_imports_no_pandas_nor_any_picture_library() -> None:
+    # ``wzq check`` reads and validates, it analyses nothing: openpyxl and numpy only
+    from pathlib import Path
+
+    example = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.xlsx"
+    heavy = _heavy_after(CALL.format(argv=["check", str(example)]))
+    assert "openpyxl" in heavy  # the probe is a real one: the workbook was read
+    assert set(heavy) <= {"numpy", "openpyxl"}, heavy

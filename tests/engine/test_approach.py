@@ -51,6 +51,7 @@ from wzq.engine.plan import (
 )
 from wzq.io.jsonplan import plan_from_dict, plan_to_dict
 from wzq.models.flow import Trapezoidal
+from wzq.present.show import terminal_header
 from wzq.present.tables import exit_ramp_display, landmark_display
 from wzq.units import HOUR, MILE, MPH
 
@@ -774,7 +775,9 @@ def test_show_lists_the_landmarks(tmp_path: Path) -> None:
     assert "Landmarks upstream of the start of the taper:" in text
     for name in ("Bell St off-ramp", "Ash Lane on-ramp", "Heron Creek bridge"):
         assert name in text
-    assert "Queue first reaches it" in text and "Delay of exiting traffic (veh-h)" in text
+    # the headers as the terminal tables wrap them (12 characters a line, unit below)
+    for header in ("Queue first reaches it", "Delay of exiting traffic (veh-h)"):
+        assert all(line in text for line in terminal_header(header, 12).splitlines()), header
     # the entrance ramp 0.4 km upstream is reached; when exactly is the engine's
     # (checked by hand above); here the table must say a time, not "never"
     line = next(x for x in text.splitlines() if x.strip().startswith("Ash Lane on-ramp"))

@@ -41,6 +41,7 @@ from wzq.io.workbook.reader import read_plan
 from wzq.io.workbook.run import run_to, run_workbook
 from wzq.io.workbook.safety import inspect_file
 from wzq.io.workbook.template import vba_project_bytes
+from wzq.io.workbook.windows_cache import CACHE_SHEET
 from wzq.io.workbook.writer import input_fingerprint
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
@@ -191,7 +192,10 @@ def checklist(path: Path) -> dict[str, object]:
         "charts": [c.title.tx.rich.p[0].r[0].t for c in ws._charts],
         "print": (ws.print_area, ws.page_setup.orientation),
         "hidden sheet": (book[HIDDEN].sheet_state, book[HIDDEN]["A1"].value),
-        "sheet order": [s for s in book.sheetnames if s not in layout.OUTPUT_SHEETS],
+        # wzq's own sheets left out: its output sheets and its very hidden cache sheet
+        "sheet order": [
+            s for s in book.sheetnames if s not in (*layout.OUTPUT_SHEETS, CACHE_SHEET)
+        ],
         "defined names": sorted(
             (n, d.attr_text) for n, d in book.defined_names.items() if n != MARKER_NAME
         ),
@@ -232,6 +236,9 @@ def test_every_item_of_the_users_work_survives_two_runs(users_workbook, tmp_path
             assert after[item] == value, f"run {run}: {item}"
         book = openpyxl.load_workbook(src, keep_vba=True)
         assert book.sheetnames[-len(layout.OUTPUT_SHEETS) :] == list(layout.OUTPUT_SHEETS)
+        # the cache (the plan asks for the closure windows) sits, very hidden, before them
+        assert book.sheetnames[-len(layout.OUTPUT_SHEETS) - 1] == CACHE_SHEET
+        assert book[CACHE_SHEET].sheet_state == "veryHidden"
     assert input_fingerprint(read_plan(src)) == input_fingerprint(load_plan(KESTREL))
 
 

@@ -29,9 +29,9 @@ def test_every_plan_attribute_a_user_types_has_one_input() -> None:
     assert len(attributes) == len(set(attributes))
     for section, cls in SECTIONS.items():
         have = {a.split(".", 1)[1] for a in attributes if a.startswith(f"{section}.")}
-        # what a plan computes or gets from elsewhere, not an input: the site's unit system
-        # is the workbook's (key "units"); the landmark limit belongs to the approach
-        wanted = {f.name for f in dataclasses.fields(cls)} - {"queue_must_not_pass"}
+        # every typed value, the landmark limit included (the unit system is the
+        # workbook's, key "units", and is checked with it)
+        wanted = {f.name for f in dataclasses.fields(cls)}
         assert have == wanted, section
     assert {a.split(".", 1)[1] for a in attributes if a.startswith("meta.")} == {
         f.name for f in dataclasses.fields(P.Meta)
@@ -59,6 +59,7 @@ def test_choices_are_the_plan_values_the_engine_accepts() -> None:
         "site.capacity_override_is": P.OVERRIDE_MEANINGS,
         "options.diagram": P.DIAGRAMS,
         "options.queue_length_method": P.QUEUE_LENGTH_METHODS,
+        "site.congested_branch": P.CONGESTED_BRANCHES,
     }
     for attribute, values in accepted.items():
         assert {v for _, v in F.BY_ATTRIBUTE[attribute].choices} == set(values), attribute
@@ -81,8 +82,9 @@ def test_the_json_form_is_the_schema() -> None:
     plan = load_plan(EXAMPLES / "kestrel_ridge_weeknight.json")
     data = plan_to_dict(plan)
     for section in ("site", "thresholds", "options", "meta"):
+        # the congested branch and the landmark limit are written only when used
         assert set(data[section]) == F.json_keys(section) - {
-            k.split(".", 1)[1] for k in (f.key for f in F.JSON_ONLY_FIELDS)
+            k.split(".", 1)[1] for k in F.WHEN_USED_KEYS if k.startswith(f"{section}.")
         }, section
     again = plan_from_dict(data)
     assert plan_to_dict(again) == data

@@ -44,6 +44,7 @@ from wzq.io.workbook.reader import read_plan, read_plan_from_book
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"
 FENWICK = EXAMPLES / "fenwick_downs_weekend.json"
+BRACKENHOLM = EXAMPLES / "brackenholm_interchange_evening.json"
 CLOSURE_START_ROW = 6  # first data row of ClosureTable in the template
 DEMAND_START_ROW = 9  # first data row of DemandTable in the template
 
@@ -327,6 +328,8 @@ def test_workbooks_saved_by_libreoffice_read_back(kestrel_book: Path, tmp_path: 
         name="formula.xlsx",
     )
     metric = fill_template(load_plan(FENWICK), tmp_path / "metric.xlsx")
+    approach = tmp_path / "approach.xlsx"  # landmarks, ramp shares and hourly ramp flows
+    shutil.copyfile(BRACKENHOLM.with_suffix(".xlsx"), approach)
     out = tmp_path / "saved"
     profile = (tmp_path / "profile").as_uri()
     subprocess.run(
@@ -340,6 +343,7 @@ def test_workbooks_saved_by_libreoffice_read_back(kestrel_book: Path, tmp_path: 
             str(out),
             str(src),
             str(metric),
+            str(approach),
         ],
         check=True,
         capture_output=True,
@@ -349,6 +353,9 @@ def test_workbooks_saved_by_libreoffice_read_back(kestrel_book: Path, tmp_path: 
     assert plan.site.speed_limit == pytest.approx(65 * u.MPH)
     assert_same_plan(plan, load_plan(KESTREL))
     assert_same_plan(read_plan(out / "metric.xlsx"), load_plan(FENWICK))
+    saved = read_plan(out / "approach.xlsx")
+    assert saved.approach == load_plan(BRACKENHOLM).approach
+    assert saved.thresholds.queue_must_not_pass == "Exit 12 off-ramp"
     # the unit beside each value is a formula on the unit system, computed by the program
     for name, unit in (("formula.xlsx", "mi/h"), ("metric.xlsx", "km/h")):
         wb = load_workbook(out / name, data_only=True)

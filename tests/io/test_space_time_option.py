@@ -68,6 +68,11 @@ def test_closure_windows_sheet_on_request(tmp_path: Path) -> None:
     assert main(["run", str(book), "--no-windows"]) == 0
     ws = openpyxl.load_workbook(book)["Closure windows"]
     assert "were not computed" in ws["A1"].value and not ws._charts
+    # the note prints whole on one portrait page: wrapped in one cell narrower than the
+    # page (a letter or A4 page holds about 90 character widths at 100 %, common practice)
+    assert ws["A1"].alignment.wrap_text and ws.print_area == "'Closure windows'!$A$1"
+    assert ws.column_dimensions["A"].width <= 80
+    assert ws.row_dimensions[1].height >= 15 * len(ws["A1"].value) / 75
     assert main(["run", str(book), "--windows"]) == 0
     ws = openpyxl.load_workbook(book)["Closure windows"]
     assert len(ws._charts) == 1

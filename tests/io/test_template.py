@@ -41,8 +41,12 @@ def test_sheets_names_and_tables(built: dict[bool, Path], macro: bool) -> None:
     wb = load_workbook(built[macro], keep_vba=macro)
     assert wb.sheetnames == list(L.INPUT_SHEETS)
     assert not set(wb.sheetnames) & set(L.OUTPUT_SHEETS)
-    # one workbook-scoped name per input value, each on its own sheet, one cell each
-    assert set(wb.defined_names) == {f.name for f in F.ALL_FIELDS}
+    # one workbook-scoped name per input value, each on its own sheet, one cell each, and
+    # the landmark names the Limits sheet's "Queue must not pass" offers
+    assert set(wb.defined_names) == {f.name for f in F.ALL_FIELDS} | {L.LANDMARK_NAMES}
+    assert wb.defined_names[L.LANDMARK_NAMES].attr_text == (
+        f"{L.APPROACH}!$A$8:$A${7 + L.LANDMARK_TEMPLATE_ROWS}"
+    )
     for f in F.ALL_FIELDS:
         (sheet, coord), *rest = list(wb.defined_names[f.name].destinations)
         assert not rest
@@ -53,11 +57,18 @@ def test_sheets_names_and_tables(built: dict[bool, Path], macro: bool) -> None:
     for name, columns in L.TABLE_COLUMNS.items():
         sheet, t = tables[name]
         assert sheet == L.TABLE_SHEET[name]
-        assert tuple(c.name for c in t.tableColumns) == columns
+        # the ramp flow table adds a column per ramp, headed by the user
+        extra = L.RAMP_FLOW_PLACEHOLDERS if name == L.RAMP_FLOW_TABLE else ()
+        assert tuple(c.name for c in t.tableColumns) == (*columns, *extra)
     demand = wb[L.DEMAND].tables[L.DEMAND_TABLE].ref
     closure = wb[L.CLOSURES].tables[L.CLOSURE_TABLE].ref
     assert demand == f"A8:C{8 + L.DEMAND_TEMPLATE_ROWS}"  # a week of empty hourly rows
     assert closure == f"A5:H{5 + L.CLOSURE_TEMPLATE_ROWS}"
+    # the landmarks and the hourly ramp flows side by side: nothing below either table
+    landmarks = wb[L.APPROACH].tables[L.LANDMARK_TABLE].ref
+    ramps = wb[L.APPROACH].tables[L.RAMP_FLOW_TABLE].ref
+    assert landmarks == f"A7:E{7 + L.LANDMARK_TEMPLATE_ROWS}"
+    assert ramps == f"G7:L{7 + L.RAMP_FLOW_TEMPLATE_ROWS}"
 
 
 def test_value_cells_have_labels_units_and_input_colour(built: dict[bool, Path]) -> None:
@@ -98,6 +109,10 @@ def test_dropdowns_list_our_words(built: dict[bool, Path]) -> None:
     last = 5 + L.CLOSURE_TEMPLATE_ROWS
     assert lists[f"Closures!E6:E{last}"] == '"cones or drums,concrete barrier"'
     assert lists[f"Closures!F6:F{last}"] == '"auto,yes,no"'
+    words = ",".join(w for w, _ in L.LANDMARK_KIND_WORDS)
+    assert lists[f"Approach!C8:C{7 + L.LANDMARK_TEMPLATE_ROWS}"] == f'"{words}"'
+    sheet, coord = next(iter(wb.defined_names["limit_landmark"].destinations))
+    assert lists[f"{sheet}!{coord.replace('$', '')}"] == L.LANDMARK_NAMES
 
 
 def test_start_sheet_has_caution_instructions_and_units(built: dict[bool, Path]) -> None:

@@ -23,12 +23,17 @@ def describe(plan: Plan) -> str:
     n = len(plan.closures)
     system = plan.site.unit_system
     words = {v: w for w, v in L.UNIT_WORDS}
-    return (
+    text = (
         f"{n} closure{'s' if n != 1 else ''}; demand {d.start:%a %Y-%m-%d %H:%M} to "
         f"{d.end:%a %Y-%m-%d %H:%M} ({hours:g} h in {d.interval_s // 60}-minute rows); "
         f"{plan.site.lanes} lanes; units {words.get(system, system)} "
         f"({unit_label('speed', system)}, {unit_label('long', system)})"
     )
+    landmarks, ramps = len(plan.approach.landmarks), len(plan.approach.ramps)
+    if landmarks:
+        text += f"; {landmarks} landmark{'s' if landmarks != 1 else ''} upstream"
+        text += f" ({ramps} ramp{'s' if ramps != 1 else ''})" if ramps else ""
+    return text
 
 
 def cmd_check(args: argparse.Namespace) -> int:

@@ -12,7 +12,7 @@ from pathlib import Path
 import wzq
 from wzq.cli import EXIT_OK, explain
 from wzq.engine.plan import PlanError, Problem
-from wzq.io.plans import load_any
+from wzq.io.plans import load_any_and_book
 from wzq.io.report import PAPERS, write_report
 
 __all__ = [
@@ -59,7 +59,7 @@ def output_path(source: Path, output: str | None) -> Path:
 
 def cmd_report(args: argparse.Namespace) -> int:
     source = Path(args.path)
-    plan = load_any(source)
+    plan, book = load_any_and_book(source)
     if args.space_time is not None:
         plan = dataclasses.replace(
             plan, options=dataclasses.replace(plan.options, space_time=args.space_time)
@@ -70,8 +70,13 @@ def cmd_report(args: argparse.Namespace) -> int:
         )
     out = output_path(source, args.output)
     result = wzq.analyse(plan)
+    windows = None
+    if book is not None and plan.options.closure_windows:  # the search the last run kept
+        from wzq.io.workbook.windows_cache import stored_tables
+
+        windows = stored_tables(plan, book)
     try:
-        write_report(result, out, paper=args.paper, source=source.name)
+        write_report(result, out, paper=args.paper, source=source.name, windows=windows)
     except OSError as e:
         raise PlanError(
             [

@@ -23,8 +23,16 @@ def cmd_run(args: argparse.Namespace) -> int:
     for note in outcome.notes:
         print(f"warning: {note}")
     print(f"wrote the results to {outcome.target}")
-    width = max(len(k) for k, _ in summary_lines(result))
-    for label, text in summary_lines(result):
+    lines = summary_lines(result)
+    if outcome.risk is not None:  # the chance of breaking the limits, as on the sheets
+        from wzq.present.risk import risk_summary_lines
+
+        lines += [
+            (f"Risk: {k[0].lower()}{k[1:]}", v)
+            for k, v in risk_summary_lines(outcome.risk, result.plan.site.unit_system)
+        ]
+    width = max(len(k) for k, _ in lines)
+    for label, text in lines:
         print(f"  {label:<{width}}  {text}")
     for w in result.warnings:
         print(f"warning: {w}")

@@ -19,7 +19,9 @@ from wzq import units as u
 from wzq.cli import EXIT_OK, explain
 from wzq.engine import costs as rc
 from wzq.engine.plan import NIGHT_END_HOUR, NIGHT_START_HOUR, Plan, PlanError, Problem
+from wzq.engine.risk_windows import closure_windows
 from wzq.engine.windows import (
+    ALL_HOURS_RULE,
     SYMBOLS,
     WindowSet,
     WindowsResult,
@@ -27,7 +29,7 @@ from wzq.engine.windows import (
     intervals_for,
     plan_windows,
 )
-from wzq.io.plans import load_any
+from wzq.io.plans import load_any_and_book
 from wzq.present.tables import limits_text
 from wzq.present.terminal import TermColumn, console_width, print_table
 
@@ -177,6 +179,8 @@ def print_windows(
         f"Closures behind {BARRIER_HELP[barrier]}; night-time capacity from the clock "
         f"({NIGHT_START_HOUR:02d}:00-{NIGHT_END_HOUR:02d}:00)"
     )
+    if result.rule != ALL_HOURS_RULE:
+        para(result.rule)
     para(f"Road-user cost in {rc.cost_basis(result.costs, plan.site.heavy_vehicle_share)}")
     currency = result.costs.currency
     for ws in result.sets:
@@ -232,9 +236,15 @@ def cmd_windows(args: argparse.Namespace) -> int:
         problems.append(
             Problem("--days", "--days picks calendar days and cannot be used with --typical")
         )
+    if args.risk is not None and not 0 <= args.risk < 100:
+        problems.append(Problem("--risk", "give the accepted chance in percent, 0 to under 100"))
+    if args.risk is not None and args.typical:
+        problems.append(
+            Problem("--risk", "the search at a risk runs on the calendar days; leave out --typical")
+        )
     if problems:
         raise PlanError(problems)
-    plan = load_any(Path(args.path))
+    plan, book = load_any_and_book(Path(args.path))
     if lanes is not None:
         bad = [k for k in lanes if not 1 <= k < plan.site.lanes]
         if bad:
@@ -243,7 +253,18 @@ def cmd_windows(args: argparse.Namespace) -> int:
                 f"lanes; use 1 to {plan.site.lanes - 1}",
                 where="--lanes-closed",
             )
-    result = plan_windows(plan, lanes, barrier=args.barrier, typical=args.typical)
+    if args.typical:
+        result = plan_windows(plan, lanes, barrier=args.barrier, typical=True)
+    else:
+        level = None if args.risk is None else args.risk / 100
+        known = None
+        if book is not None and lanes is None and args.barrier == "soft" and level is None:
+            # the search a run kept in the workbook (the same configurations, when its
+            # inputs are the plan's)
+            from wzq.io.workbook.windows_cache import stored_tables
+
+            known = stored_tables(plan, book)
+        result = closure_windows(plan, lanes, barrier=args.barrier, level=level, known=known)
     with pd.option_context("display.width", 250):
         print_windows(
             result,
@@ -296,6 +317,15 @@ def configure(p: argparse.ArgumentParser) -> None:
         metavar="DATE[,DATE...]",
         help="show only these calendar days (e.g. 2027-05-03,2027-05-04); the whole "
         "demand period is still searched",
+    )
+    p.add_argument(
+        "--risk",
+        type=float,
+        metavar="PERCENT",
+        help="allow a closure where the share of the plan's scenarios (its count history's "
+        "periods, times the capacity draws) in which some hour breaks a limit is at most "
+        "PERCENT, e.g. 10 (default: the plan's risk.window_risk_percent, else the design "
+        "demand alone)",
     )
     p.add_argument(
         "--top",

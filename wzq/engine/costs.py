@@ -4,8 +4,12 @@ priced."""
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
-import pandas as pd
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 from wzq.engine.plan import Costs, Plan
 from wzq.engine.results import Result
@@ -90,6 +94,8 @@ def plan_delay_cost(plan: Plan, delay_veh_h: float | np.ndarray) -> float | np.n
 def hourly_cost(result: Result, costs: Costs | None = None) -> pd.Series:
     """Road-user cost of each hour's delay (queue plus work-zone delay), aligned with
     ``result.hourly``; named ``road_user_cost``."""
+    import pandas as pd  # imported when used: slow to import
+
     plan = result.plan
     c = costs_or_default(costs if costs is not None else plan.costs)
     delay = result.hourly["delay_veh_h"].to_numpy(dtype=float)

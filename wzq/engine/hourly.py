@@ -2,8 +2,12 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
-import pandas as pd
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 from wzq.engine import costs as road_user_costs
 from wzq.engine.plan import Plan, Thresholds
@@ -87,6 +91,8 @@ def _per_hour_identity(values: np.ndarray, _first: None) -> np.ndarray:
 
 def hourly_table(r: Run) -> pd.DataFrame:
     """Per-hour demand, capacity, queue, length, delay and threshold checks."""
+    import pandas as pd  # imported when used: slow to import
+
     q = r.queue
     dur = r.duration
     n_hours = round(r.t[-1] / HOUR)
@@ -155,6 +161,8 @@ def hourly_table(r: Run) -> pd.DataFrame:
 
 def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
     """Maximum queue and when, totals, last clearance, failing hours."""
+    import pandas as pd  # imported when used: slow to import
+
     q = r.queue
     if r.back_of_queue is not None:
         ext = r.back_of_queue.extent

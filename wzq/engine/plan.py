@@ -277,13 +277,16 @@ class RiskOptions:
     closure's capacity drawn around the model's value (``None``: as the model
     gives it); ``draws``: Monte Carlo samples when it is drawn; ``seed`` makes
     the draws repeatable; ``confidence``: level of the intervals stated for the
-    estimated probabilities.
+    estimated probabilities; ``window_risk``: the closure-window search allows a
+    closure when the share of scenarios in which it breaks a limit is at most
+    this (a fraction, e.g. 0.10; ``None``: windows on the design demand alone).
     """
 
     capacity_cv: float | None = None
     draws: int = 1000
     seed: int = 1
     confidence: float = 0.95
+    window_risk: float | None = None
 
 
 @dataclass(frozen=True)

@@ -12,9 +12,12 @@ from __future__ import annotations
 import datetime as dt
 from dataclasses import dataclass, replace
 from functools import cached_property
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 from wzq.engine import approach
 from wzq.engine.plan import Plan
@@ -66,6 +69,8 @@ class Run:
         return np.diff(self.t)
 
     def clock(self, seconds: np.ndarray | float) -> pd.DatetimeIndex:
+        import pandas as pd  # imported when used: slow to import
+
         return pd.Timestamp(self.plan.demand.start) + pd.to_timedelta(seconds, unit="s")
 
 
@@ -119,6 +124,8 @@ class Result:
         ``seconds`` (from the start of the demand) and ``distance_m`` upstream of the
         taper (Newell's trajectory, or the single-state lengths joined within each
         interval)."""
+        import pandas as pd  # imported when used: slow to import
+
         times, dist = queue_trajectory(self.run)
         return pd.DataFrame({"time": self.run.clock(times), "seconds": times, "distance_m": dist})
 
@@ -168,6 +175,8 @@ class Result:
         (``queue_length_m``) against ``seconds``, as an exact polyline: each interval
         gives its start, the instant its queue clears (when it clears inside it) and its
         end; a change of queued state at a boundary is a vertical step in the length."""
+        import pandas as pd  # imported when used: slow to import
+
         r = self.run
         q = r.queue
         tc, inside = self._clearing()
@@ -185,6 +194,8 @@ class Result:
         """The exact corner points of the cumulative arrival and departure curves (veh)
         over the whole period, against ``seconds``: the interval boundaries and the
         instants a queue clears inside an interval (where the curves meet)."""
+        import pandas as pd  # imported when used: slow to import
+
         r = self.run
         q = r.queue
         t = r.t
@@ -205,6 +216,8 @@ class Result:
     def queues(self) -> pd.DataFrame:
         """Every busy period (from the instant a queue forms until it clears), in time
         order: ``start_s``, ``end_s``, ``max_queue_veh`` and ``max_at_s``."""
+        import pandas as pd  # imported when used: slow to import
+
         r = self.run
         q = r.queue
         busy = q.busy > 0
@@ -221,6 +234,8 @@ class Result:
     @cached_property
     def intervals(self) -> pd.DataFrame:
         """One row per interval of the exact solution (for cumulative-curve charts)."""
+        import pandas as pd  # imported when used: slow to import
+
         r = self.run
         q = r.queue
         return pd.DataFrame(
@@ -252,6 +267,8 @@ class Result:
         ``distance_m``, ``first_reached`` (local clock, ``NaT``: never),
         ``time_beyond_h``, ``max_beyond_m``, ``hours_beyond`` (how many hours
         the back of the queue was beyond it at some instant)."""
+        import pandas as pd  # imported when used: slow to import
+
         rows = sorted(self.landmark_results, key=lambda r: r.landmark.distance)
         first = [
             None if r.first_reached_s is None else clock(self.run, r.first_reached_s) for r in rows
@@ -272,6 +289,8 @@ class Result:
     def landmark_hours(self) -> pd.DataFrame:
         """Per hour, per landmark (a column named after it): the back of the queue
         was beyond it at some instant of the hour."""
+        import pandas as pd  # imported when used: slow to import
+
         cols: dict[str, object] = {"hour_start": self.hourly["hour_start"]}
         for r in sorted(self.landmark_results, key=lambda r: r.landmark.distance):
             cols[r.landmark.name] = r.hours_beyond
@@ -283,6 +302,8 @@ class Result:
         ``delay_veh_h`` (the exiting traffic held in the queue) and
         ``max_wait_min`` (the longest extra time of one exiting vehicle; NaN with
         the single-state relation)."""
+        import pandas as pd  # imported when used: slow to import
+
         sec = self.run.sections
         exits = () if sec is None else sec.exits
         return pd.DataFrame(

@@ -65,7 +65,6 @@ from functools import cached_property
 
 import numpy as np
 import pandas as pd
-from scipy import stats
 
 from wzq.engine.design_demand import DemandHistory, historical_scenarios
 from wzq.engine.grid import interval_arrays
@@ -123,6 +122,15 @@ def options_problems(options: RiskOptions, where: str = "risk") -> list[Problem]
         out.append(Problem(f"{where}.draws", f"give a whole number of draws, 1 to {MAX_DRAWS:,}"))
     if not 0.5 <= options.confidence < 1:
         out.append(Problem(f"{where}.confidence", "give a confidence level from 0.5 to 0.999"))
+    wr = options.window_risk
+    if wr is not None and not (np.isfinite(wr) and 0 <= wr < 1):
+        out.append(
+            Problem(
+                f"{where}.window_risk_percent",
+                "give the highest accepted chance of breaking a limit, 0 to under 100 %, "
+                "or leave it blank",
+            )
+        )
     return out
 
 
@@ -166,10 +174,29 @@ def capacity_draws(n_scenarios: int, n_closures: int, cv: float, seed: int) -> n
     return np.maximum(1.0 + cv * z, MIN_CAPACITY_FACTOR)
 
 
+def asks_for_risk(plan: Plan) -> bool:
+    """The plan gives a count history or a spread of the work-zone capacity, so the risk
+    of breaking its limits is assessed wherever its results are shown."""
+    return plan.history is not None or (plan.risk is not None and plan.risk.capacity_cv is not None)
+
+
+def plan_risk(plan: Plan) -> RiskResult | None:
+    """:func:`assess` of a plan that asks for it (:func:`asks_for_risk`), else ``None``."""
+    return assess(plan) if asks_for_risk(plan) else None
+
+
 def plan_scenarios(
-    plan: Plan, history: DemandHistory | None = None, options: RiskOptions | None = None
+    plan: Plan,
+    history: DemandHistory | None = None,
+    options: RiskOptions | None = None,
+    *,
+    n_closures: int | None = None,
 ) -> Scenarios:
     """The scenarios of a plan: its historical periods (or its own demand), times the draws.
+
+    ``n_closures`` (default: the plan's) is the number of closures each scenario
+    draws a capacity factor for (the closure-window search draws for its one
+    candidate closure).
 
     Raises:
         PlanError: bad options, a history on another grid, or no matching period.
@@ -198,7 +225,8 @@ def plan_scenarios(
         per = max(1, math.ceil(options.draws / len(labels)))
         flows = np.repeat(flows, per, axis=0)
         labels = tuple(f"{lab}, draw {k + 1}" for lab in labels for k in range(per))
-        factors = capacity_draws(len(labels), len(plan.closures), options.capacity_cv, options.seed)
+        k = len(plan.closures) if n_closures is None else n_closures
+        factors = capacity_draws(len(labels), k, options.capacity_cv, options.seed)
         source += (
             f", each with {per} draw{'s' if per != 1 else ''} of the work-zone capacity "
             f"(coefficient of variation {options.capacity_cv:g}, seed {options.seed})"
@@ -389,7 +417,7 @@ class ScenarioRuns:
         return pd.DataFrame(cols)
 
 
-def _refuse_approach(plan: Plan) -> None:
+def refuse_approach(plan: Plan) -> None:
     """The scenarios are solved on the closure's own arrivals with a triangular diagram
     or the single-state relation; a plan that needs the approach road's sections
     (:mod:`wzq.engine.approach`) is refused rather than assessed differently from ``analyse``."""
@@ -437,7 +465,7 @@ def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
         )
     if not np.all(np.isfinite(flows)) or np.any(flows < 0):
         raise PlanError("a scenario's demand is missing or negative", where="scenarios")
-    _refuse_approach(plan)
+    refuse_approach(plan)
     ia = interval_arrays(plan)
     site = plan.site
     t = ia.t
@@ -526,6 +554,8 @@ class _Flat:
 
 def clopper_pearson(k: np.ndarray, n: int, confidence: float) -> tuple[np.ndarray, np.ndarray]:
     """Clopper-Pearson interval of a binomial proportion ``k / n`` (module notes)."""
+    from scipy import stats  # imported here for start-up speed: scipy is slow to import
+
     k = np.asarray(k, dtype=float)
     a = 1.0 - confidence
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -669,13 +699,18 @@ def assess(
 
 
 __all__ = [
+    "LIMIT_WORDS",
+    "PROBABILITY_COLUMNS",
     "RiskResult",
     "RiskSummary",
     "ScenarioRuns",
     "Scenarios",
+    "asks_for_risk",
     "assess",
     "capacity_draws",
     "clopper_pearson",
+    "plan_risk",
     "plan_scenarios",
+    "refuse_approach",
     "run_scenarios",
 ]

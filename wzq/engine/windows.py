@@ -58,9 +58,12 @@ import datetime as dt
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 from wzq.engine import approach as ap
 from wzq.engine import costs as rc
@@ -86,6 +89,7 @@ from wzq.models.queueing import QueueRun, solve
 from wzq.units import HOUR
 
 __all__ = [
+    "ALL_HOURS_RULE",
     "HOUR_COLUMNS",
     "MAX_INTERVALS",
     "SCREEN_MARGIN",
@@ -328,11 +332,24 @@ def _first_failure_end(g: _Grid, ok: np.ndarray) -> int:
     return int(g.hour_end[int(np.argmin(ok))])
 
 
-def _allowed(g: _Grid, exhaustive: bool = False) -> tuple[np.ndarray, _Eval]:
-    """``allowed[s, e]``: the closure ``[s, e)`` keeps every hour within the limits."""
+def _allowed(
+    g: _Grid,
+    exhaustive: bool = False,
+    known: np.ndarray | None = None,
+    starts: np.ndarray | None = None,
+) -> tuple[np.ndarray, _Eval]:
+    """``allowed[s, e]``: the closure ``[s, e)`` keeps every hour within the limits.
+
+    ``known``: the table found before for the same inputs (a cache), used as it is.
+    ``starts`` (a mask over the starts): judge only these rows; the others are left
+    ``False`` (the search at a risk, :mod:`wzq.engine.risk_windows`, skips starts it
+    has already decided).
+    """
     n = g.n
-    allowed = np.zeros((n, n + 1), dtype=bool)
     base = _evaluate(g, 0, 0)
+    if known is not None:
+        return known, base
+    allowed = np.zeros((n, n + 1), dtype=bool)
     th = g.thresholds
     if (
         th.max_queue_length is None
@@ -344,6 +361,8 @@ def _allowed(g: _Grid, exhaustive: bool = False) -> tuple[np.ndarray, _Eval]:
         return np.triu(np.ones((n, n + 1), dtype=bool), 1), base
     if exhaustive:
         for s in range(n):
+            if starts is not None and not starts[s]:
+                continue
             for e in range(s + 1, n + 1):
                 allowed[s, e] = bool(_evaluate(g, s, e).ok.all())
         return allowed, base
@@ -353,6 +372,8 @@ def _allowed(g: _Grid, exhaustive: bool = False) -> tuple[np.ndarray, _Eval]:
     suffix_ok[:-1] = np.logical_and.accumulate(base.ok[::-1])[::-1]
     base_fail = _first_failure_end(g, base.ok)
     for s in range(min(n, base_fail)):
+        if starts is not None and not starts[s]:
+            continue
         # the closure from s that never ends; when even its screen fails by the end of
         # interval s, no closure starting at s can pass
         if _first_failure_end(g, _evaluate(g, s, n, screen=True).ok) <= s + 1:
@@ -493,6 +514,8 @@ class WindowSet:
 
     def hour_flags(self) -> pd.DataFrame:
         """Per hour of the data: ``whole`` (a closure may be in place all hour), ``part``."""
+        import pandas as pd  # imported when used: slow to import
+
         g = self._grid
         last = self.last_end()
         reach = np.maximum.accumulate(last)  # latest end of a window starting at or before s
@@ -526,6 +549,13 @@ class WindowSet:
         )
 
 
+#: What an allowed closure is, in words (the sheet and the report say it).
+ALL_HOURS_RULE = (
+    "A closure is allowed only if every hour of the run passes, the queue left "
+    "behind after it ends included; all lanes are open outside the closure."
+)
+
+
 @dataclass(frozen=True)
 class WindowsResult:
     """What :func:`find_windows` returns: one :class:`WindowSet` per configuration and day type."""
@@ -535,6 +565,8 @@ class WindowsResult:
     costs: Costs
     sets: tuple[WindowSet, ...]
     notes: tuple[str, ...] = ()
+    #: What "allowed" means, in one sentence (the search at a risk states its own).
+    rule: str = ALL_HOURS_RULE
 
     @property
     def configurations(self) -> list[str]:
@@ -684,6 +716,7 @@ def find_windows(
     queue_length: LengthFn | None = None,
     exhaustive: bool = False,
     approach: Approach | None = None,
+    known: Sequence[np.ndarray] | None = None,
 ) -> WindowsResult:
     """Every closure period that keeps the whole run within the limits, per configuration.
 
@@ -704,6 +737,11 @@ def find_windows(
             (:mod:`wzq.engine.approach`), and the limit ``queue_must_not_pass`` is
             checked. Hourly ramp flows must cover every demand searched (one per
             hour); for typical days give ramp flows as a share of the mainline.
+        known: the ``allowed`` tables a search of the same inputs found before (one
+            per window set, day type by day type and configuration by configuration, as
+            :attr:`WindowsResult.sets` lists them), used in place of the search; the
+            caller vouches that the inputs are the same (a cache keyed by them). A
+            table of the wrong shape, or a list of the wrong length, is not used.
 
     Raises:
         PlanError: the inputs cannot be searched (each problem says where and what to do).
@@ -738,10 +776,15 @@ def find_windows(
     ):
         notes.append("no limits are set, so every closure passes; enter the agency's limits")
     sets: list[WindowSet] = []
+    if known is not None and len(known) != len(day_types) * len(configs):
+        known = None
     for day in day_types:
         in_full_note = False
         for config in configs:
             g = _grid(site, model, day.demand, thresholds, config, options, length_fn, approach)
+            table = None if known is None else known[len(sets)]
+            if table is not None and (table.shape != (g.n, g.n + 1) or table.dtype != bool):
+                table = None
             # Newell's construction holds flows above the approach's capacity back beyond
             # its upstream end; there the trajectory is not a function of the recent past
             # alone, so the search's shortcuts are off and every candidate is run in full.
@@ -752,7 +795,7 @@ def find_windows(
                     f"{day.name}: demand or a closure's capacity exceeds the approach's own "
                     "capacity, so every candidate closure was run in full (slower)"
                 )
-            allowed, base = _allowed(g, in_full)
+            allowed, base = _allowed(g, in_full, table)
             failing = tuple(
                 day.demand.start + dt.timedelta(seconds=int(g.first[h]) * day.demand.interval_s)
                 for h in np.flatnonzero(~base.ok)
@@ -849,8 +892,10 @@ def plan_windows(
     barrier: Barrier = "soft",
     typical: bool = False,
     exhaustive: bool = False,
+    known: Sequence[np.ndarray] | None = None,
 ) -> WindowsResult:
-    """:func:`find_windows` for a plan's site, demand, limits, options and costs.
+    """:func:`find_windows` for a plan's site, demand, limits, options and costs
+    (``known``: tables found before for the same inputs, as there).
 
     The plan's own closures are not used: the search places the closure.
     """
@@ -868,6 +913,7 @@ def plan_windows(
         costs=plan.costs,
         exhaustive=exhaustive,
         approach=plan.approach,
+        known=known,
     )
 
 
@@ -886,6 +932,8 @@ def day_rows(ws: WindowSet) -> list[tuple[str, list[str]]]:
     A state is ``whole``, ``part``, ``no`` or ``none`` (no data for that hour).
     Calendar days for a demand series; one row by hour of day for a typical day.
     """
+    import pandas as pd  # imported when used: slow to import
+
     flags = ws.hour_flags()
     state = np.where(flags["whole"], "whole", np.where(flags["part"], "part", "no"))
     starts = pd.to_datetime(flags["hour_start"])
@@ -911,6 +959,8 @@ def windows_table(result: WindowsResult, symbols: bool = False) -> pd.DataFrame:
     where there is no data), or with ``symbols`` the characters of
     :data:`SYMBOLS` (``+`` part of the hour).
     """
+    import pandas as pd  # imported when used: slow to import
+
     records = []
     for ws in result.sets:
         for label, row in day_rows(ws):
@@ -923,6 +973,8 @@ def windows_table(result: WindowsResult, symbols: bool = False) -> pd.DataFrame:
 
 def days_allowed_by_hour(result: WindowsResult) -> pd.DataFrame:
     """Hour of day (0-23) x configuration: days on which the whole hour may be closed."""
+    import pandas as pd  # imported when used: slow to import
+
     table = windows_table(result)
     out = table.groupby("configuration", sort=False)[list(HOUR_COLUMNS)].sum().T
     out.index = pd.Index(range(24), name="hour")
@@ -930,6 +982,8 @@ def days_allowed_by_hour(result: WindowsResult) -> pd.DataFrame:
 
 
 def _windows_frame(windows: list[Window]) -> pd.DataFrame:
+    import pandas as pd  # imported when used: slow to import
+
     cols = [
         "configuration",
         "day_type",

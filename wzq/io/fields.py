@@ -18,6 +18,9 @@ from typing import Any, Literal
 from wzq import units as u
 from wzq.io.workbook.layout import (
     AREA_WORDS,
+    CONGESTED_WORDS,
+    COUNTS,
+    DAY_TYPE_WORDS,
     DEMAND,
     DEMAND_MODE_WORDS,
     DIAGRAM_WORDS,
@@ -27,6 +30,7 @@ from wzq.io.workbook.layout import (
     OVERRIDE_WORDS,
     QUEUE_METHOD_WORDS,
     SITE,
+    STAMP_WORDS,
     START,
     TERRAIN_WORDS,
     UNIT_WORDS,
@@ -44,6 +48,8 @@ __all__ = [
     "DEMAND_MODE",
     "FIELDS_BY_NAME",
     "FIELD_SHEET",
+    "HISTORY_FIELDS",
+    "HISTORY_SECTIONS",
     "JSON_ONLY_FIELDS",
     "LIMITS_SECTIONS",
     "LOCATION_ALIASES",
@@ -52,6 +58,7 @@ __all__ = [
     "OPTION_FIELDS",
     "PLAN_INPUTS",
     "REQUIRED",
+    "RISK_FIELDS",
     "SITE_SECTIONS",
     "SPEED_METRIC",
     "SPEED_US",
@@ -59,6 +66,7 @@ __all__ = [
     "THRESHOLD_FIELDS",
     "UNIT_KINDS",
     "UNIT_SYSTEM",
+    "WHEN_USED_KEYS",
     "Convert",
     "Field",
     "Kind",
@@ -527,11 +535,74 @@ SITE_SECTIONS: tuple[Section, ...] = (
             ),
         ),
     ),
+    Section(
+        "Queue length: congested branch of the triangular diagram",
+        (
+            Field(
+                "site_congested_branch",
+                "Congested branch from",
+                "choice",
+                template="capacity, jam density",
+                choices=CONGESTED_WORDS,
+                note="the backward wave speed w = C / (k_j - k_c); calibrated values from the "
+                "site's detectors go below; HCM: k_c = 45 pc/mi/ln x heavy-vehicle factor",
+                key="site.congested_branch",
+                attribute="site.congested_branch",
+                json_default="derived",
+            ),
+            Field(
+                "site_wave_speed",
+                "Backward wave speed",
+                "number",
+                "speed",
+                blank=None,
+                bounds=(3.0, 40.0),
+                metric_bounds=(5.0, 65.0),
+                open_lo=True,
+                note="with 'backward wave speed' above; the speed at which a stop "
+                "travels upstream, as measured on this road",
+                key="site.wave_speed",
+                attribute="site.wave_speed",
+                convert="speed",
+                rounded=True,
+                json_default=None,
+                json_lo=0,
+            ),
+            Field(
+                "site_density_at_capacity",
+                "Density at capacity",
+                "number",
+                "density",
+                blank=None,
+                bounds=(15.0, 120.0),
+                metric_bounds=(10.0, 75.0),
+                note="with 'density at capacity' above; below the jam density",
+                key="site.density_at_capacity",
+                attribute="site.density_at_capacity",
+                convert="density",
+                rounded=True,
+                json_default=None,
+                json_lo=0,
+            ),
+        ),
+    ),
 )
 #: Names a workbook made by an older template may lack; the reader then uses the
 #: template value instead of reporting a problem.
 OPTIONAL_NAMES: frozenset[str] = frozenset(
-    {"site_space_time", "opt_closure_windows", "site_override_is"}
+    {
+        "site_space_time",
+        "opt_closure_windows",
+        "site_override_is",
+        "site_congested_branch",
+        "site_wave_speed",
+        "site_density_at_capacity",
+        "limit_landmark",
+        "risk_capacity_cv",
+        "risk_draws",
+        "risk_seed",
+        "risk_window_percent",
+    }
 )
 
 # Limits sheet --------------------------------------------------------------------------------
@@ -583,6 +654,16 @@ THRESHOLD_FIELDS: tuple[Field, ...] = (
         attribute="thresholds.max_demand_capacity",
         json_default=None,
         json_lo=0,
+    ),
+    Field(
+        "limit_landmark",
+        "Queue must not pass",
+        "text",
+        blank=None,
+        note="a landmark's name from the Approach sheet; blank: not checked",
+        key="thresholds.queue_must_not_pass",
+        attribute="thresholds.queue_must_not_pass",
+        json_default=None,
     ),
 )
 #: The three values that switch road-user costs on (all blank: no costs).
@@ -701,10 +782,73 @@ OPTION_FIELDS: tuple[Field, ...] = (
         json_default=False,
     ),
 )
+#: How the risk of breaking the limits is assessed when the demand comes from a count
+#: history (:mod:`wzq.engine.risk`); the JSON keys are those of the plan's ``risk`` block,
+#: in the same units.
+RISK_FIELDS: tuple[Field, ...] = (
+    Field(
+        "risk_capacity_cv",
+        "Capacity coefficient of variation",
+        "number",
+        "ratio",
+        blank=None,
+        bounds=(0.0, 0.3),
+        open_lo=True,
+        note="blank: the model's capacity in every scenario; no published default: take it "
+        "from a field study of work zones like yours (e.g. 0.08); also gives a risk without "
+        "a count history",
+        key="risk.capacity_cv",
+        attribute="risk.capacity_cv",
+        json_default=None,
+    ),
+    Field(
+        "risk_draws",
+        "Draws of the capacity",
+        "int",
+        "draws",
+        blank=1000,
+        template=1000,
+        bounds=(1, 100_000),
+        note="Monte Carlo draws, shared equally among the historical periods",
+        key="risk.draws",
+        attribute="risk.draws",
+        json_default=1000,
+    ),
+    Field(
+        "risk_seed",
+        "Seed of the draws",
+        "int",
+        "",
+        blank=1,
+        template=1,
+        bounds=(0, 2**31 - 1),
+        note="the same seed gives the same draws",
+        key="risk.seed",
+        attribute="risk.seed",
+        json_default=1,
+    ),
+    Field(
+        "risk_window_percent",
+        "Windows allowed at a risk of at most",
+        "number",
+        "%",
+        blank=None,
+        bounds=(0.0, 100.0),
+        open_hi=True,
+        note="the chance that some hour of the closure's run breaks a limit, e.g. 10; blank: "
+        "windows on the design demand alone (Closure windows sheet); each scenario is "
+        "searched, so with the capacity drawn a week's search takes minutes",
+        key="risk.window_risk_percent",
+        attribute="risk.window_risk",
+        convert="percent",
+        json_default=None,
+    ),
+)
 LIMITS_SECTIONS: tuple[Section, ...] = (
     Section("Agency limits", THRESHOLD_FIELDS),
     Section("Road-user costs", COST_FIELDS),
     Section("Options", OPTION_FIELDS),
+    Section("Risk of breaking the limits (with a count history)", RISK_FIELDS),
 )
 
 # Demand sheet --------------------------------------------------------------------------------
@@ -715,7 +859,7 @@ DEMAND_MODE = Field(
     "choice",
     template="hourly counts",
     choices=DEMAND_MODE_WORDS,
-    note="hourly counts: the table below; from AADT: the inputs on the right",
+    note="hourly counts: the table below; from AADT or a count history: the inputs on the right",
 )
 AADT_FIELDS: tuple[Field, ...] = (
     Field(
@@ -749,12 +893,165 @@ AADT_FIELDS: tuple[Field, ...] = (
     Field("aadt_days", "Number of days", "int", "days", template=7, bounds=(1, 92)),
 )
 
+#: The design demand from a count history (:mod:`wzq.engine.design_demand`), read by
+#: :mod:`wzq.io.counts`; the JSON keys are those of the plan's ``demand.history`` block.
+HISTORY_SECTIONS: tuple[Section, ...] = (
+    Section(
+        "The counts",
+        (
+            Field(
+                "history_source",
+                "Counts are on",
+                "text",
+                template=COUNTS,
+                note=f"the {COUNTS} sheet, another sheet of this workbook, or a count file named "
+                "relative to it (TMG, .csv, .xlsx)",
+                key="demand.history.file",
+            ),
+            Field(
+                "history_file_sheet",
+                "Sheet of a count workbook",
+                "text",
+                blank=None,
+                note="a count file that is a workbook: the sheet with the counts (blank: its "
+                "first sheet)",
+                key="demand.history.sheet",
+            ),
+            Field(
+                "history_station",
+                "Station",
+                "text",
+                blank=None,
+                note="TMG records: the station ID (blank: the only one in the file)",
+                key="demand.history.station",
+            ),
+            Field(
+                "history_direction",
+                "Direction counted",
+                "text",
+                blank=None,
+                note="TMG records: north, east ..., NB, EB ... or the TMG code (blank: the only "
+                "one in the file)",
+                key="demand.history.direction",
+            ),
+            Field(
+                "history_lanes",
+                "Lanes counted",
+                "int",
+                "lanes",
+                blank=None,
+                bounds=(1, 8),
+                note="for the check of impossible counts (blank: up to 8)",
+                key="demand.history.lanes",
+            ),
+            Field(
+                "history_stamp",
+                "A time stamp is the",
+                "choice",
+                template="start of its interval",
+                choices=STAMP_WORDS,
+                note="long form (date-time, count) only",
+                key="demand.history.stamp",
+            ),
+            Field(
+                "history_exclude_days",
+                "Days to leave out",
+                "text",
+                blank="",
+                note="dates like 2026-07-04, separated by commas: a lane out, an event, works",
+                key="demand.history.exclude_days",
+            ),
+        ),
+    ),
+    Section(
+        "The design demand",
+        (
+            Field(
+                "history_first_day",
+                "First day of the plan",
+                "date",
+                "date",
+                note="the plan runs from 00:00 of this day",
+                key="demand.start",
+            ),
+            Field(
+                "history_days",
+                "Number of days",
+                "int",
+                "days",
+                template=7,
+                bounds=(1, 92),
+                key="demand.hours",
+            ),
+            Field(
+                "history_day_types",
+                "Grouping of the days",
+                "choice",
+                template="each weekday on its own",
+                choices=DAY_TYPE_WORDS,
+                note="Monday-Thursday together: more days, less seasonal detail; Friday, "
+                "Saturday and Sunday apart either way",
+                key="demand.history.day_types",
+            ),
+            Field(
+                "history_holidays",
+                "Holidays",
+                "text",
+                blank="",
+                note="dates like 2026-12-25, separated by commas, of the counted years and of "
+                "the plan: a day type of their own",
+                key="demand.history.holidays",
+            ),
+            Field(
+                "history_window_weeks",
+                "Window around the same date",
+                "number",
+                "weeks each side",
+                blank=None,
+                bounds=(0.0, 26.0),
+                note="in any year of the counts; blank: every date",
+                key="demand.history.window_weeks",
+            ),
+            Field(
+                "history_same_months",
+                "Only the plan's months",
+                "choice",
+                template="no",
+                choices=YES_NO_WORDS,
+                key="demand.history.same_months",
+            ),
+            Field(
+                "history_growth_percent",
+                "Growth to the plan's dates",
+                "number",
+                "% per year",
+                blank=0.0,
+                template=0,
+                bounds=(-20.0, 20.0),
+                key="demand.history.growth_percent_per_year",
+            ),
+            Field(
+                "history_percentile",
+                "Design demand in each hour",
+                "number",
+                "percentile",
+                blank=None,
+                bounds=(0.0, 100.0),
+                note="blank: the mean of the matching days; e.g. 85: their 85th percentile",
+                key="demand.history.percentile",
+            ),
+        ),
+    ),
+)
+HISTORY_FIELDS: tuple[Field, ...] = tuple(f for s in HISTORY_SECTIONS for f in s.fields)
+
 ALL_FIELDS: tuple[Field, ...] = (
     *(f for s in START_SECTIONS for f in s.fields),
     *(f for s in SITE_SECTIONS for f in s.fields),
     *(f for s in LIMITS_SECTIONS for f in s.fields),
     DEMAND_MODE,
     *AADT_FIELDS,
+    *HISTORY_FIELDS,
 )
 FIELDS_BY_NAME: dict[str, Field] = {f.name: f for f in ALL_FIELDS}
 
@@ -765,44 +1062,23 @@ FIELD_SHEET: dict[str, str] = {
     **{f.name: LIMITS for s in LIMITS_SECTIONS for f in s.fields},
     DEMAND_MODE.name: DEMAND,
     **{f.name: DEMAND for f in AADT_FIELDS},
+    **{f.name: DEMAND for f in HISTORY_FIELDS},
 }
 
 
-#: Site inputs a JSON plan may give that have no cell in the workbook: the congested
-#: branch of the triangular diagram (:attr:`wzq.engine.plan.Site.congested_branch`).
-JSON_ONLY_FIELDS: tuple[Field, ...] = (
-    Field(
-        "",
-        "Congested branch",
-        "text",
-        key="site.congested_branch",
-        attribute="site.congested_branch",
-        json_default=None,
-    ),
-    Field(
-        "",
-        "Backward wave speed",
-        "number",
-        "speed",
-        key="site.wave_speed",
-        attribute="site.wave_speed",
-        convert="speed",
-        rounded=True,
-        json_default=None,
-        json_lo=0,
-    ),
-    Field(
-        "",
-        "Density at capacity",
-        "number",
-        "density",
-        key="site.density_at_capacity",
-        attribute="site.density_at_capacity",
-        convert="density",
-        rounded=True,
-        json_default=None,
-        json_lo=0,
-    ),
+#: Plan inputs a JSON plan may give that have no cell in the workbook (none at present).
+JSON_ONLY_FIELDS: tuple[Field, ...] = ()
+#: Keys a JSON plan gives only when they are used, read by the JSON reader with rules of
+#: their own: the congested branch of the triangular diagram (the branch follows from
+#: the value given) and the landmark the queue must not pass (a landmark's name). They
+#: are written only when set, so a plan without them reads and writes as before.
+WHEN_USED_KEYS: frozenset[str] = frozenset(
+    {
+        "site.congested_branch",
+        "site.wave_speed",
+        "site.density_at_capacity",
+        "thresholds.queue_must_not_pass",
+    }
 )
 
 #: Every plan input (a plan attribute), workbook cells and JSON-only keys alike.

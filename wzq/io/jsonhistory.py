@@ -6,7 +6,8 @@ A plan may give its demand as a count history instead of a list of flows::
                "history": {"file": "counts.vol", "direction": "east",
                            "day_types": "by-name", "window_weeks": 6,
                            "growth_percent_per_year": 1.5, "percentile": null}},
-    "risk": {"capacity_cv": 0.08, "draws": 1000, "seed": 1, "confidence": 0.95}
+    "risk": {"capacity_cv": 0.08, "draws": 1000, "seed": 1, "confidence": 0.95,
+             "window_risk_percent": 10}
 
 The file is read by :mod:`wzq.io.counts` (relative to the plan file), the design
 demand is built by :func:`wzq.engine.design_demand.design_demand` and the history is
@@ -55,7 +56,7 @@ RULE_KEYS = (
     "growth_percent_per_year",
     "percentile",
 )
-RISK_KEYS = ("capacity_cv", "draws", "seed", "confidence")
+RISK_KEYS = ("capacity_cv", "draws", "seed", "confidence", "window_risk_percent")
 
 
 def _dates(value: Any, where: str, problems: list[Problem]) -> tuple[dt.date, ...]:
@@ -221,11 +222,13 @@ def risk_from_dict(r: Any, source: str) -> RiskOptions:
     seed = _number(r, "seed", where, problems, 1)
     if int(seed) != seed or seed < 0:
         problems.append(Problem(f"{where}.seed", "give a whole number, 0 or more"))
+    window = _number(r, "window_risk_percent", where, problems)
     options = RiskOptions(
         capacity_cv=_number(r, "capacity_cv", where, problems),
         draws=int(draws) if int(draws) == draws else draws,
         seed=int(seed),
         confidence=_number(r, "confidence", where, problems, 0.95),
+        window_risk=None if window is None else window / 100,
     )
     # the engine's own check of the values (imported here: scipy is slow to import, and a
     # plan without a risk block never needs it)
@@ -243,4 +246,9 @@ def risk_to_dict(options: RiskOptions) -> dict[str, Any]:
         "draws": options.draws,
         "seed": options.seed,
         "confidence": options.confidence,
+        **(
+            {}
+            if options.window_risk is None
+            else {"window_risk_percent": round(100 * options.window_risk, 9)}
+        ),
     }

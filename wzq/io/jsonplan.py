@@ -158,10 +158,11 @@ class _Reader:
 def _read_section(r: _Reader, d: dict[str, Any], section: str, system: str) -> dict[str, Any]:
     """The plan values of one JSON section, by the schema (:mod:`wzq.io.fields`): each
     key read as its kind, with its default and least value, converted to the plan's
-    units. The site's congested branch (JSON-only, read with its own rules) is left out."""
+    units. The inputs read with rules of their own (:data:`wzq.io.fields.WHEN_USED_KEYS`:
+    the site's congested branch, the landmark limit) are left out."""
     out: dict[str, Any] = {}
     for f in F.section_inputs(section):
-        if f in F.JSON_ONLY_FIELDS:
+        if f.key in F.WHEN_USED_KEYS:
             continue
         key = f.key.split(".", 1)[1]
         if f.kind in ("text", "choice"):
@@ -402,14 +403,14 @@ def _rounded(x: Any) -> Any:
     return None if x is None else round(float(x), 6)
 
 
-def _write_section(obj: Any, section: str, system: str, json_only: bool = False) -> dict[str, Any]:
+def _write_section(obj: Any, section: str, system: str, when_used: bool = False) -> dict[str, Any]:
     """One JSON section of a plan object (``plan.site`` ...), by the schema
     (:mod:`wzq.io.fields`): each input in the file's units, rounded where the schema
-    says. The site's congested branch (the JSON-only inputs, ``json_only``) is written
-    only when it is set."""
+    says. The inputs written only when used (:data:`wzq.io.fields.WHEN_USED_KEYS`)
+    are left out unless ``when_used``, which gives only those."""
     out: dict[str, Any] = {}
     for f in F.section_inputs(section):
-        if (f in F.JSON_ONLY_FIELDS) != json_only:
+        if (f.key in F.WHEN_USED_KEYS) != when_used:
             continue
         value = F.to_file(f, getattr(obj, f.attribute.split(".", 1)[1]), system)
         out[f.key.split(".", 1)[1]] = _rounded(value) if f.rounded else value
@@ -452,7 +453,7 @@ def plan_to_dict(plan: Plan) -> dict[str, Any]:
     if plan.risk is not None:
         out["risk"] = risk_to_dict(plan.risk)
     if s.congested_branch != "derived":
-        out["site"].update(_write_section(s, "site", system, json_only=True))
+        out["site"].update(_write_section(s, "site", system, when_used=True))
     if plan.thresholds.queue_must_not_pass is not None:
         out["thresholds"]["queue_must_not_pass"] = plan.thresholds.queue_must_not_pass
     if plan.approach.landmarks:

@@ -4,11 +4,12 @@ from __future__ import annotations
 
 from importlib import resources
 from pathlib import Path
+from typing import Any
 
 from wzq.engine.plan import Plan, PlanError
 from wzq.io.jsonplan import load_plan
 
-__all__ = ["DEMO_PLAN", "demo_plan", "load_any"]
+__all__ = ["DEMO_PLAN", "demo_plan", "load_any", "load_any_and_book"]
 
 #: The shipped invented example (package data).
 DEMO_PLAN = "kestrel_ridge_weeknight.json"
@@ -23,10 +24,16 @@ def demo_plan() -> Plan:
 
 def load_any(path: Path) -> Plan:
     """A plan from a JSON file or a workbook (:mod:`wzq.io.workbook.reader`)."""
+    return load_any_and_book(path)[0]
+
+
+def load_any_and_book(path: Path) -> tuple[Plan, Any]:
+    """:func:`load_any`, and the openpyxl workbook of a workbook plan (``None`` for JSON)."""
     if not path.exists():
         raise PlanError(f"no such file; check the path: {path}", where=str(path))
     if path.suffix.lower() == ".json":
-        return load_plan(path)
-    from wzq.io.workbook.reader import read_plan  # imported late: openpyxl is slow to import
+        return load_plan(path), None
+    # imported late: openpyxl is slow to import
+    from wzq.io.workbook.reader import read_plan_and_book
 
-    return read_plan(path)
+    return read_plan_and_book(path)

@@ -36,13 +36,13 @@ from xml.sax.saxutils import escape
 
 import matplotlib
 import numpy as np
+import pandas as pd
 from reportlab.lib import colors
 from reportlab.lib.enums import TA_CENTER
 from reportlab.lib.pagesizes import A4, LETTER, landscape
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import inch
 from reportlab.pdfbase import pdfmetrics
-from reportlab.pdfbase.ttfonts import TTFont
 from reportlab.pdfgen import canvas as rl_canvas
 from reportlab.platypus import (
     BaseDocTemplate,
@@ -65,15 +65,23 @@ import wzq
 from wzq import units as u
 from wzq.engine.plan import PlanError, Problem, Site
 from wzq.engine.results import Result
+from wzq.engine.risk import RiskResult, plan_risk
+from wzq.io.fontcache import load_ttfonts
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.save import write_atomically
+from wzq.io.workbook.writer import listed_hours
 from wzq.models.capacity import METHOD_LABELS
 from wzq.present import figures as charts
+from wzq.present.risk import risk_hour_table, risk_method, risk_summary_lines
 from wzq.present.tables import (
+    charted_landmarks,
+    exit_ramp_display,
     hour_label,
     hourly_columns,
     hourly_display,
+    landmark_display,
     limit_values,
+    ramp_flow_text,
     summary_lines,
 )
 
@@ -98,11 +106,14 @@ __all__ = [
     "CheckColumn",
     "NumberedCanvas",
     "Styles",
+    "approach_method",
+    "approach_section",
     "build_report",
     "caution_box",
     "charts_section",
     "check_columns",
     "closures_block",
+    "congested_branch_rows",
     "hourly_rows",
     "hourly_section",
     "inputs_section",
@@ -111,6 +122,7 @@ __all__ = [
     "number",
     "page_size",
     "register_fonts",
+    "risk_section",
     "sign_off",
     "space_time_section",
     "svg_available",
@@ -166,7 +178,8 @@ MAX_FIELD_CHARS = 400
 
 
 def register_fonts() -> None:
-    """Register DejaVu Sans (shipped with matplotlib) under the report's font names.
+    """Register DejaVu Sans (shipped with matplotlib) under the report's font names,
+    once per process, the parsed fonts loaded from a cache (:mod:`wzq.io.fontcache`).
 
     With svglib installed, the charts' "DejaVu Sans" text is mapped to the same
     embedded font files, so chart labels stay real text in the very font that
@@ -181,17 +194,26 @@ def register_fonts() -> None:
         (FONT_ITALIC, "DejaVuSans-Oblique.ttf", "normal", "italic"),
         (f"{FONT}-BoldOblique", "DejaVuSans-BoldOblique.ttf", "bold", "italic"),
     )
+    fonts = load_ttfonts([(name, ttf / file) for name, file, _, _ in faces])
+    for font in fonts:
+        pdfmetrics.registerFont(font)
     try:
-        from svglib.fonts import register_font as svg_register_font
+        from svglib import fonts as svg_fonts
     except ImportError:
-        svg_register_font = None
-    for name, file, weight, style in faces:
-        path = str(ttf / file)
-        if svg_register_font is not None:
-            # registers the TrueType font with reportlab and maps the SVG family to it
-            svg_register_font(charts.FONT_FAMILY, path, weight, style, rlgFontName=name)
-        if name not in pdfmetrics.getRegisteredFontNames():
-            pdfmetrics.registerFont(TTFont(name, path))
+        svg_fonts = None
+    if svg_fonts is not None:
+        parsed = {f.fontName: f for f in fonts}
+        # svglib maps an SVG family only by registering a font file, which it parses
+        # with the TTFont it imported; it is handed the font already parsed instead
+        parse = svg_fonts.TTFont
+        svg_fonts.TTFont = lambda name, path, *a, **k: parsed.get(name) or parse(name, path)
+        try:
+            for name, file, weight, style in faces:
+                svg_fonts.register_font(
+                    charts.FONT_FAMILY, str(ttf / file), weight, style, rlgFontName=name
+                )
+        finally:
+            svg_fonts.TTFont = parse
     pdfmetrics.registerFontFamily(
         FONT, normal=FONT, bold=FONT_BOLD, italic=FONT_ITALIC, boldItalic=f"{FONT}-BoldOblique"
     )
@@ -568,6 +590,8 @@ def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
             else "not checked",
         ),
     ]
+    if "landmark_ok" in shown:
+        limit_rows.append(("Queue must not pass", text(shown["landmark_ok"])))
     from wzq.engine.costs import plan_costs
 
     c = plan_costs(plan)
@@ -591,6 +615,7 @@ def inputs_section(result: Result, st: Styles, width: float) -> list[Flowable]:
         ("Fundamental diagram", words(L.DIAGRAM_WORDS, o.diagram)),
         ("Queue length", words(L.QUEUE_METHOD_WORDS, result.length_method)),
     ]
+    option_rows += congested_branch_rows(result)
     half = (width - 12) / 2
     w2 = [0.36 * half, 0.64 * half]
 
@@ -714,7 +739,10 @@ def check_columns(result: Result) -> list[CheckColumn]:
         "queue_ok": "Queue ≤ {}",
         "delay_ok": "Average delay ≤ {}",
         "demand_capacity_ok": "D/C ≤ {} (closure hours)",
+        "landmark_ok": "Not past {}",
     }
+    limit = result.plan.thresholds.queue_must_not_pass
+    shown = {**shown, "landmark_ok": limit} if "landmark_ok" in shown else shown
     return [
         CheckColumn(column, head.format(shown[column].removesuffix("/veh")))
         for column, head in heads.items()
@@ -800,6 +828,136 @@ def hourly_section(result: Result, st: Styles, width: float) -> list[Flowable]:
     return [Paragraph("Hour by hour", st.h1), Paragraph(notes, st.small), Spacer(1, 4), table]
 
 
+def congested_branch_rows(result: Result) -> list[tuple[str, str]]:
+    """The congested branch of the diagram, when it is not derived from capacity and jam
+    density: how it was set and the backward wave speed it gives."""
+    s = result.plan.site
+    if s.congested_branch == "derived":
+        return []
+    diagram = result.site_model.diagram
+    w = getattr(diagram, "backward_wave_speed", None)
+    speed_name, _ = u.SPEED[s.unit_system]
+    shown = words(L.CONGESTED_WORDS, s.congested_branch)
+    if w is not None:
+        shown += f"; backward wave speed {u.mps_to_speed(w, s.unit_system):,.1f} {speed_name}"
+    return [("Congested branch", shown)]
+
+
+def _display_table(
+    table: pd.DataFrame, decimals: Sequence[int | None], st: Styles, widths: Sequence[float]
+) -> Table:
+    """A display table of :mod:`wzq.present.tables`: text wraps, numbers right-aligned."""
+    rows: list[list] = [[Paragraph(text(h), st.head) for h in table.columns]]
+    for values in table.itertuples(index=False):
+        rows.append(
+            [
+                Paragraph(text(v), st.cell) if d is None or isinstance(v, str) else number(v, d)
+                for v, d in zip(values, decimals, strict=True)
+            ]
+        )
+    t = Table(rows, colWidths=list(widths), hAlign="LEFT", repeatRows=1)
+    numeric = [j for j, d in enumerate(decimals) if d is not None]
+    style = [
+        ("FONT", (0, 1), (-1, -1), FONT, 8),
+        ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+        ("LINEBELOW", (0, 0), (-1, 0), 0.9, colors.black),
+        ("LINEBELOW", (0, 1), (-1, -1), 0.3, GRID),
+        ("LEFTPADDING", (0, 0), (-1, -1), 3),
+        ("RIGHTPADDING", (0, 0), (-1, -1), 4),
+    ]
+    style += [("ALIGN", (j, 1), (j, -1), "RIGHT") for j in numeric]
+    t.setStyle(TableStyle(style))
+    return t
+
+
+def approach_section(result: Result, st: Styles, width: float) -> list[Flowable]:
+    """Where the back of the queue reached on the approach: per landmark (with its kind
+    and, for a ramp, its flow) when it was first reached, how long and how far the queue
+    was beyond it and in how many hours; per exit ramp, the delay of the traffic leaving
+    there while the queue held it."""
+    plan = result.plan
+    table = landmark_display(result)
+    by_name = {lm.name: lm for lm in plan.approach.landmarks}
+    table["Ramp flow"] = [ramp_flow_text(by_name[n]) for n in table["Landmark"]]
+    limit = plan.thresholds.queue_must_not_pass
+    fixed = [150.0, 56.0, 100.0, 60.0, 66.0, 48.0]
+    rest = (width - sum(fixed)) / 2  # kind and ramp flow
+    widths = [fixed[0], rest, *fixed[1:], rest]
+    landmarks = _display_table(table, (None, None, 2, None, 2, 2, 0, None), st, widths)
+    intro = (
+        "Landmarks upstream of the start of the taper, nearest first: when the back of the "
+        "queue first reached each, how long it was beyond it in all, how far beyond at most, "
+        "and in how many hours (in a workbook, the Results sheet flags each of them)."
+    )
+    if limit is not None:
+        intro += f" The queue must not pass {text(limit)}: each hour is checked against it."
+    elif any(lm.kind == "warning-signs-end" for lm in plan.approach.landmarks):
+        intro += (
+            " A queue past the end of the advance warning signing is warned about (common "
+            "practice, no source)."
+        )
+    out: list[Flowable] = [
+        Paragraph("The approach: where the queue reached", st.h1),
+        Paragraph(intro, st.small),
+        Spacer(1, 4),
+        landmarks,
+    ]
+    if not result.exit_ramps.empty:
+        ramps = _display_table(
+            exit_ramp_display(result), (None, 2, 1, 1), st, [150.0, 70.0, 110.0, 90.0]
+        )
+        note = (
+            "Traffic for an exit ramp inside the queue waits with everyone else, first in, "
+            "first out, until it reaches the ramp (Daganzo 1995; Newell 1993, part III). Its "
+            "delay is counted in the total delay and the road-user cost, not in the average "
+            "delay per vehicle through the closure."
+        )
+        out += [
+            Paragraph("Exit ramps: the delay of the traffic leaving there", st.h2),
+            KeepTogether([ramps, Spacer(1, 3), Paragraph(note, st.small)]),
+        ]
+    return out
+
+
+def approach_method(result: Result) -> list[str]:
+    """The method notes of the approach road: ramps, landmarks and a congested branch
+    set for the site (nothing for a plan without them)."""
+    plan = result.plan
+    out = []
+    if plan.approach.ramps:
+        out.append(
+            "<b>Ramps.</b> The demand is the mainline flow upstream of every ramp; entrance "
+            "ramps add their flow and exit ramps take theirs. The queue length follows the "
+            "change of flow at each ramp by Newell's method section by section (Newell 1993, "
+            "parts I and III), or the single-state relation section by section. An entrance "
+            "ramp's traffic joins the queue in full; at an exit ramp inside the queue the "
+            "exiting traffic waits with everyone else, first in, first out (Daganzo 1995, "
+            "“The cell transmission model, part II: network traffic”, Transportation Research "
+            "Part B 29), and its delay is reported per ramp."
+        )
+    if plan.approach.landmarks:
+        out.append(
+            "<b>Landmarks.</b> The back of the queue is compared with each landmark exactly "
+            "along its piecewise-linear trajectory: when it first reaches it, how long and how "
+            "far it is beyond it. A queue beyond the end of the advance warning signing is "
+            "warned about unless it is the agency's limit (common practice, no source)."
+        )
+    s = plan.site
+    if s.congested_branch != "derived":
+        how = {
+            "hcm": "through the HCM basic-segment density at capacity, 45 pc/mi/ln times the "
+            "heavy-vehicle factor (HCM 7th edition, Chapter 12)",
+            "wave-speed": "from the backward wave speed entered for this site",
+            "density-at-capacity": "from the density at capacity entered for this site",
+        }[s.congested_branch]
+        out.append(
+            f"<b>Congested branch.</b> Set {how}, so w = C / (k<sub>j</sub> − k<sub>c</sub>) "
+            "with the capacity C and jam density k<sub>j</sub> kept; where the free branch "
+            "reaches capacity first, the diagram is flat at capacity up to k<sub>c</sub>."
+        )
+    return out
+
+
 def _chart(fig, width: float, vector: bool) -> Flowable:
     """A matplotlib figure as a flowable ``width`` points wide (vector or 200-dpi PNG)."""
     w_in, h_in = fig.get_size_inches()
@@ -855,6 +1013,13 @@ def charts_section(
         if result.length_method == "newell"
         else "the single-state shockwave relation"
     )
+    if charted_landmarks(result):
+        bars += (
+            "; dash-dot lines: landmarks upstream of the taper, named (in black: the one "
+            "the queue must not pass)"
+            if plan.thresholds.queue_must_not_pass is not None
+            else "; dash-dot lines: landmarks upstream of the taper, named"
+        )
     cap2 = f"Figure 2. Queue length ({long_name}) over time: {how}{limit}{bars}.{shading}"
     cap3 = (
         "Figure 3. Cumulative arrivals and departures around each queue (deterministic "
@@ -895,11 +1060,15 @@ def charts_section(
 WINDOW_MARKS = {"#": "yes", "+": "part", ".": "-"}
 
 
-def windows_section(result: Result, st: Styles, width: float) -> list[Flowable]:
-    """Allowable closure hours of each configuration on this plan's demand (wzq.engine.windows)."""
+def windows_section(
+    result: Result, st: Styles, width: float, known: Sequence[np.ndarray] | None = None
+) -> list[Flowable]:
+    """Allowable closure hours of each configuration on this plan's demand (wzq.engine.windows;
+    ``known``: the search's tables kept for these inputs, as there)."""
+    from wzq.engine.risk_windows import closure_windows
     from wzq.engine.windows import (
+        ALL_HOURS_RULE,
         longest_windows,
-        plan_windows,
         too_long,
         too_long_text,
         windows_table,
@@ -914,7 +1083,7 @@ def windows_section(result: Result, st: Styles, width: float) -> list[Flowable]:
             Paragraph("Allowable closure hours", st.h1),
             Paragraph(text(too_long_text(len(d.flows_veh_h), d.interval_s, option)), st.body),
         ]
-    found = plan_windows(result.plan)
+    found = closure_windows(result.plan, known=known)
     table = windows_table(found, symbols=True)
     hours = [f"{h:02d}" for h in range(24)]
     head = ["Configuration", "Day", *hours]
@@ -974,6 +1143,8 @@ def windows_section(result: Result, st: Styles, width: float) -> list[Flowable]:
         "with the delay they add and its cost to road users."
     )
     notes = [Paragraph(text(n), st.small) for n in found.notes] if hasattr(found, "notes") else []
+    if found.rule != ALL_HOURS_RULE:  # the search at a risk says what "allowed" is
+        notes.insert(0, Paragraph(text(found.rule), st.small))
     return [
         Paragraph("Allowable closure hours", st.h1),
         Paragraph(note, st.small),
@@ -1007,6 +1178,66 @@ def space_time_section(
         Paragraph("Space-time check", st.h1),
         KeepTogether([_chart(fig, width * scale, vector), Paragraph(caption, st.caption)]),
         *notes,
+    ]
+
+
+def risk_section(
+    result: Result, risk: RiskResult, st: Styles, width: float, height: float, vector: bool
+) -> list[Flowable]:
+    """The risk of breaking the limits over the plan's scenarios (:mod:`wzq.engine.risk`):
+    headline figures, the fan chart of the longest queue, the hours with a chance of
+    breaking a limit, and the method."""
+    from wzq.present.risk_figure import fan_figure  # matplotlib: imported for start-up speed
+
+    system = result.plan.site.unit_system
+    summary = _grid_table(
+        _label_rows([(k, text(v)) for k, v in risk_summary_lines(risk, system)], st),
+        [0.25 * width, 0.75 * width],
+    )
+    fig = fan_figure(risk, result, width / 72, min(3.6, (height - 150) / 72 / 1.6))
+    caption = (
+        f"Figure {5 if result.plan.options.space_time else 4}. The longest queue in each hour "
+        f"over {len(risk.runs):,} equally likely "
+        "scenarios: the darkest band reaches the median, the next the 85th percentile, the "
+        "palest the 95th; the line is the design demand's own longest queue (the rest of this "
+        "report)."
+    )
+    keep = (risk.hourly["p_any"].to_numpy() > 0) | listed_hours(result)
+    table = risk_hour_table(risk, system, keep)
+    heads = [Paragraph(text(c), st.head) for c in table.columns]
+    rows = [[text(v) for v in r] for r in table.itertuples(index=False)]
+    first = 95.0
+    each = (width - first) / (len(heads) - 1)
+    hours = LongTable([heads, *rows], colWidths=[first] + [each] * (len(heads) - 1), repeatRows=1)
+    hours.hAlign = "LEFT"
+    hours.setStyle(
+        TableStyle(
+            [
+                ("FONT", (0, 1), (-1, -1), FONT, 7),
+                ("ALIGN", (1, 1), (-1, -1), "RIGHT"),
+                ("LINEBELOW", (0, 0), (-1, 0), 0.9, colors.black),
+                ("LINEBELOW", (0, 1), (-1, -1), 0.3, GRID),
+                ("TOPPADDING", (0, 0), (-1, -1), 1),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 1),
+            ]
+        )
+    )
+    listed = (
+        "Hours with a chance of breaking a limit, and the hours the permit table lists. "
+        "Chance: the share of the scenarios in which the hour breaks the limit (percent)."
+    )
+    return [
+        Paragraph("Risk of breaking the limits", st.h1),
+        summary,
+        Spacer(1, 6),
+        KeepTogether([_chart(fig, width, vector), Paragraph(caption, st.caption)]),
+        Spacer(1, 6),
+        Paragraph("Hour by hour", st.h2),
+        Paragraph(listed, st.small),
+        Spacer(1, 3),
+        hours,
+        Paragraph("How the risk was found", st.h2),
+        *(Paragraph(text(line), st.method) for line in risk_method(risk)),
     ]
 
 
@@ -1110,6 +1341,7 @@ def method_section(result: Result, st: Styles, width: float) -> list[Flowable]:
             f"road, between the arriving and the queued density on {diagram}; jam density "
             "190 pc/mi/ln (HCM 7th edition) unless entered."
         )
+    p += approach_method(result)
     if result.summary.total_cost is not None:
         p.append(
             "<b>Road-user cost.</b> Delay cost by the method of FHWA, Work Zone Road User "
@@ -1207,8 +1439,11 @@ def build_report(
     generated: dt.date | None = None,
     source: str | None = None,
     vector: bool | None = None,
+    windows: Sequence[np.ndarray] | None = None,
 ) -> bytes:
-    """The report as PDF bytes (see the module docstring for its contents)."""
+    """The report as PDF bytes (see the module docstring for its contents); ``windows``:
+    the closure-window search's tables kept for this plan's inputs (a workbook's cache),
+    used instead of searching again."""
     pagesize = page_size(paper)
     problems = text_problems(result)
     if problems:
@@ -1256,11 +1491,25 @@ def build_report(
     soft = CondPageBreak(height / 3)
     story += [PageBreak(), *inputs_section(result, st, width)]
     story += [soft, *hourly_section(result, st, width)]
+    if plan.approach.landmarks:
+        story += [soft, *approach_section(result, st, width)]
     story += [PageBreak(), *charts_section(result, st, width, height, vector)]
     if plan.options.closure_windows:  # the windows page follows the plan's option
-        story += [soft, *windows_section(result, st, width)]
+        story += [soft, *windows_section(result, st, width, windows)]
     if plan.options.space_time:
         story += [PageBreak(), *space_time_section(result, st, width, height, vector)]
+    try:
+        risk = plan_risk(plan)  # a count history or a capacity spread: the risk page
+    except PlanError as e:  # a plan the risk is not yet assessed for: the page says why
+        why = "; ".join(p.message for p in e.problems)
+        story += [
+            soft,
+            Paragraph("Risk of breaking the limits", st.h1),
+            Paragraph(text(f"Not shown: {why}."), st.body),
+        ]
+        risk = None
+    if risk is not None:
+        story += [PageBreak(), *risk_section(result, risk, st, width, height, vector)]
     story += [soft, *method_section(result, st, width)]
     try:
         doc.build(story, canvasmaker=NumberedCanvas)
@@ -1285,6 +1534,7 @@ def write_report(
     generated: dt.date | None = None,
     source: str | None = None,
     vector: bool | None = None,
+    windows: Sequence[np.ndarray] | None = None,
 ) -> Path:
     """Write the PDF report of ``result`` to ``path`` and return the path.
 
@@ -1302,6 +1552,8 @@ def write_report(
         raise PlanError(
             [Problem(str(path), f"the folder {path.parent} does not exist; create it first")]
         )
-    data = build_report(result, paper, generated=generated, source=source, vector=vector)
+    data = build_report(
+        result, paper, generated=generated, source=source, vector=vector, windows=windows
+    )
     write_atomically(path, data)  # an existing report keeps its permissions
     return path

@@ -34,6 +34,7 @@ from wzq.engine.results import Result
 from wzq.present.tables import (  # noqa: F401  (re-exported: the report's names)
     MAX_PANELS,
     Episode,
+    charted_landmarks,
     episode_title,
     episode_window,
     queue_episodes,
@@ -292,6 +293,7 @@ def queue_length_figure(result: Result, width_in: float, height_in: float) -> Fi
                 label=f"Queue limit ({lim:,.2f} {long_name})",
             )
             top = max(top, lim)
+        top = _landmark_lines(ax, result, top)
         ax.set_ylim(0, top * 1.18 if top > 0 else 1.0)
         h = result.hourly
         failing = h["status"].to_numpy() != "ok"
@@ -323,6 +325,39 @@ def queue_length_figure(result: Result, width_in: float, height_in: float) -> Fi
         _margins(fig)
         time_axis(ax, result.duration_s / HOUR)
     return fig
+
+
+def _landmark_lines(ax, result: Result, top: float) -> float:
+    """Each charted landmark (:func:`wzq.present.tables.charted_landmarks`) as a thin
+    dash-dot line at its distance, named at the left end; returns the new top."""
+    long_name, long_m = u.LONG_LENGTH[result.plan.site.unit_system]
+    limit = result.plan.thresholds.queue_must_not_pass
+    for k, lm in enumerate(charted_landmarks(result)):
+        y = lm.distance / long_m
+        label = "Landmark upstream (named)" if k == 0 else None
+        is_limit = lm.name == limit
+        ax.axhline(
+            y,
+            color=INK if is_limit else MID,
+            lw=1.0 if is_limit else 0.6,
+            ls=(0, (6, 2, 1, 2)),
+            zorder=2,
+            label=label,
+        )
+        ax.annotate(
+            f"{lm.name} ({y:,.2f} {long_name})" + (": queue must not pass" if is_limit else ""),
+            xy=(0.005, y),
+            xycoords=("axes fraction", "data"),
+            xytext=(0, 1.5),
+            textcoords="offset points",
+            ha="left",
+            va="bottom",
+            fontsize=6.5,
+            color=INK,
+            zorder=4,
+        )
+        top = max(top, y)
+    return top
 
 
 def cumulative_figure(result: Result, width_in: float, height_in: float) -> Figure:

@@ -22,7 +22,10 @@ from wzq.present.tables import (
 from wzq.present.terminal import TermColumn, console_width, print_table
 
 __all__ = [
+    "EXIT_RAMP_TERMINAL",
+    "LANDMARK_TERMINAL",
     "TERMINAL_PRIORITY",
+    "display_terminal_columns",
     "hourly_terminal_columns",
     "print_approach",
     "print_result",
@@ -109,13 +112,40 @@ def print_result(result: Result, *, all_hours: bool = False, out=None) -> None:
     print(f"\n{wzq.CAUTION}", file=out)  # one line, as in every other output
 
 
+#: Terminal priority and decimals of the landmark and exit-ramp tables' columns (by
+#: their position in :func:`wzq.present.tables.landmark_display` and
+#: :func:`wzq.present.tables.exit_ramp_display`; ``None``: text, left-aligned).
+LANDMARK_TERMINAL = ((1, None), (3, None), (1, 2), (1, None), (2, 2), (1, 2), (3, 0))
+EXIT_RAMP_TERMINAL = ((1, None), (2, 2), (1, 1), (2, 1))
+
+
+def display_terminal_columns(
+    table: pd.DataFrame, looks: tuple[tuple[int, int | None], ...]
+) -> list[TermColumn]:
+    """A display table as terminal columns: ``looks`` gives each column's priority and
+    its decimals (``None``: text)."""
+    cols = []
+    for header, (priority, decimals) in zip(table.columns, looks, strict=True):
+        values = table[header].to_numpy()
+        if decimals is None:
+            cells, right = [str(v) for v in values], False
+        else:
+            cells = [v if isinstance(v, str) else f"{v:,.{decimals}f}" for v in values]
+            right = True
+        cols.append(TermColumn(terminal_header(header, 12), cells, priority, right=right))
+    return cols
+
+
 def print_approach(result: Result, out) -> None:
-    """Per landmark of the approach: when the queue reached it, how long and how far beyond."""
+    """Per landmark of the approach: when the queue reached it, how long and how far
+    beyond; per exit ramp: the delay of the traffic leaving there. Both fit the terminal
+    as the hourly table does."""
     if not result.plan.approach.landmarks:
         return
     print("\nLandmarks upstream of the start of the taper:", file=out)
-    with pd.option_context("display.width", 250, "display.max_columns", 20):
-        print(landmark_display(result).to_string(index=False), file=out)
-        if not result.exit_ramps.empty:
-            print("", file=out)
-            print(exit_ramp_display(result).to_string(index=False), file=out)
+    table = display_terminal_columns(landmark_display(result), LANDMARK_TERMINAL)
+    print_table(table, out, what="landmark table")
+    if not result.exit_ramps.empty:
+        print("", file=out)
+        ramps = display_terminal_columns(exit_ramp_display(result), EXIT_RAMP_TERMINAL)
+        print_table(ramps, out, what="exit-ramp table")

@@ -48,6 +48,8 @@ SPEED_SHADES = LinearSegmentedColormap.from_list(
 #: Line shades and the closure mark.
 INK = "0.0"
 CLOSURE_MARK = "0.25"
+#: Landmarks upstream of the closure: thin dash-dot lines, named.
+LANDMARK_INK = "0.15"
 #: Most points drawn along a back-of-queue line.
 MAX_LINE_POINTS = 4000
 #: Figure size (inches) and resolution of the PNG.
@@ -83,6 +85,62 @@ def _queue_line(t: np.ndarray, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     edge = none & (np.roll(~none, 1) | np.roll(~none, -1))
     d[none & ~edge] = np.nan
     return t, d
+
+
+#: Share of the window at each end looked at to place a landmark's name where no queue is.
+LABEL_END = 0.3
+
+
+def _label_side(sim: Simulation, distance_m: float) -> float:
+    """Where along the picture (axes fraction) a landmark's name goes: the end of the
+    window (the last or the first :data:`LABEL_END` of it) where the engine's queue
+    covers the landmark less often, the right end when they tie."""
+    a, b = sim.window
+    span = b - a
+
+    def covered(lo: float, hi: float) -> float:
+        t = np.linspace(lo, hi, 200)
+        return float(np.mean(sim.engine_queue_length_m(t) >= distance_m))
+
+    left = covered(a, a + LABEL_END * span)
+    right = covered(b - LABEL_END * span, b)
+    return 0.005 if left < right else 0.995
+
+
+def _landmark_lines(ax, sim: Simulation, top: float, long_m: float, long_name: str) -> None:
+    """Each landmark of the approach within the picture as a thin line across it, named
+    at the end of the picture where the queue is not (white halo, so the line and the
+    name read on dark and light shades alike)."""
+    plan = sim.run.plan
+    halo = [patheffects.withStroke(linewidth=2.4, foreground="white")]
+    limit = plan.thresholds.queue_must_not_pass
+    for lm in sorted(plan.approach.landmarks, key=lambda lm: lm.distance):
+        y = lm.distance / long_m
+        if y > top:
+            continue
+        x = _label_side(sim, lm.distance)
+        is_limit = lm.name == limit
+        ax.axhline(
+            y,
+            color=LANDMARK_INK,
+            lw=1.1 if is_limit else 0.7,
+            ls=(0, (6, 2, 1, 2)),
+            path_effects=halo,
+            zorder=3,
+        )
+        ax.annotate(
+            f"{lm.name} ({y:,.2f} {long_name})" + (": must not pass" if is_limit else ""),
+            xy=(x, y),
+            xycoords=("axes fraction", "data"),
+            xytext=(0, 1.5),
+            textcoords="offset points",
+            ha="left" if x < 0.5 else "right",
+            va="bottom",
+            fontsize=7,
+            color=LANDMARK_INK,
+            path_effects=halo,
+            zorder=6,
+        )
 
 
 def space_time_figure(sim: Simulation, *, title: str | None = None, caution: bool = True) -> Figure:
@@ -127,6 +185,8 @@ def space_time_figure(sim: Simulation, *, title: str | None = None, caution: boo
     t_e, d_e = _queue_line(t_eng, sim.engine_queue_length_m(t_eng) / long_m)
     ax.plot(_clock(sim, t_e), d_e, color=INK, lw=1.1, ls=(0, (4, 2.5)), path_effects=halo, zorder=5)
 
+    _landmark_lines(ax, sim, top, long_m, long_name)
+
     # closures in a strip of their own under the picture, numbered as in the plan
     start = plan.demand.start
     for i, c in enumerate(plan.closures, start=1):
@@ -149,6 +209,10 @@ def space_time_figure(sim: Simulation, *, title: str | None = None, caution: boo
         Line2D([], [], color=INK, lw=1.6, label="Back of queue, LWR simulation"),
         Line2D([], [], color=INK, lw=1.1, ls=(0, (4, 2.5)), label=f"Back of queue, {method}"),
     ]
+    if any(lm.distance / long_m <= top for lm in plan.approach.landmarks):
+        handles.append(
+            Line2D([], [], color=LANDMARK_INK, lw=0.7, ls=(0, (6, 2, 1, 2)), label="Landmark")
+        )
     ax.legend(handles=handles, loc="upper right", framealpha=0.9)
     ax.set_ylim(0.0, top)
     ax.set_xlim(x[0], x[-1])

@@ -15,24 +15,31 @@ import pandas as pd
 
 from wzq import units as u
 from wzq.engine import costs as road_user_costs
-from wzq.engine.plan import Plan
+from wzq.engine.approach import LandmarkResult
+from wzq.engine.plan import Landmark, Plan
 from wzq.engine.results import Result
 
 __all__ = [
+    "BEYOND_CHARTED",
     "LANDMARK_KIND_LABELS",
     "MAX_PANELS",
     "Column",
     "Episode",
+    "charted_landmarks",
     "episode_title",
     "episode_window",
     "exit_ramp_display",
+    "farthest_passed",
     "hour_label",
     "hourly_columns",
     "hourly_display",
     "landmark_display",
+    "landmark_hour_flags",
     "limit_values",
     "limits_text",
+    "passed_text",
     "queue_episodes",
+    "ramp_flow_text",
     "rounded",
     "shown_episodes",
     "summary_lines",
@@ -123,6 +130,8 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
         ("Last queue clears", when(s.last_queue_clears)),
         ("Hours over a limit", str(len(s.hours_failing))),
     ]
+    if result.plan.approach.landmarks:
+        lines.append(("Farthest landmark passed", passed_text(result)))
     if s.total_cost is not None:
         c = road_user_costs.plan_costs(result.plan)
         basis = f"{c.dollar_year} prices"
@@ -130,6 +139,26 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
             basis += f"; {road_user_costs.DEFAULTS_NOTE}"
         lines.insert(3, ("Road-user delay cost", f"{s.total_cost:,.0f} {c.currency} ({basis})"))
     return lines
+
+
+def farthest_passed(result: Result) -> LandmarkResult | None:
+    """The farthest landmark upstream that the back of the queue went beyond, or ``None``."""
+    passed = [r for r in result.landmark_results if r.max_beyond_m > 0]
+    return max(passed, key=lambda r: r.landmark.distance, default=None)
+
+
+def passed_text(result: Result) -> str:
+    """``Exit 12 off-ramp (1.20 mi upstream), for 0.41 h`` or ``none of the 5 landmarks``."""
+    r = farthest_passed(result)
+    if r is None:
+        n = len(result.plan.approach.landmarks)
+        return f"none of the {n} landmarks" if n > 1 else "not the landmark"
+    long_name, long_m = u.LONG_LENGTH[result.plan.site.unit_system]
+    lm = r.landmark
+    return (
+        f"{lm.name} ({lm.distance / long_m:,.2f} {long_name} upstream), for "
+        f"{rounded(r.time_beyond_s / u.HOUR, 2):,.2f} h"
+    )
 
 
 def limit_values(plan: Plan) -> dict[str, str]:
@@ -145,12 +174,14 @@ def limit_values(plan: Plan) -> dict[str, str]:
         out["delay_ok"] = f"{th.max_average_delay / u.MINUTE:,.1f} min/veh"
     if th.max_demand_capacity is not None:
         out["demand_capacity_ok"] = f"{th.max_demand_capacity:,.2f}"
+    lm = None if th.queue_must_not_pass is None else plan.approach.landmark(th.queue_must_not_pass)
+    if lm is not None:
+        out["landmark_ok"] = f"{lm.name} ({lm.distance / long_m:,.2f} {long_name} upstream)"
     return out
 
 
 def limits_text(plan: Plan) -> str:
     """The agency limits in the plan's units, one line (``none set`` when there are none)."""
-    th = plan.thresholds
     shown = limit_values(plan)
     parts = []
     if "queue_ok" in shown:
@@ -159,8 +190,8 @@ def limits_text(plan: Plan) -> str:
         parts.append(f"average delay {shown['delay_ok']}")
     if "demand_capacity_ok" in shown:
         parts.append(f"demand/capacity {shown['demand_capacity_ok']} in closure hours")
-    if th.queue_must_not_pass is not None:
-        parts.append(f"queue not past {th.queue_must_not_pass}")
+    if "landmark_ok" in shown:
+        parts.append(f"queue not past {shown['landmark_ok']}")
     return ", ".join(parts) if parts else "none set"
 
 
@@ -238,6 +269,45 @@ def landmark_display(result: Result) -> pd.DataFrame:
             "Hours beyond": lm["hours_beyond"].to_numpy(),
         }
     )
+
+
+def ramp_flow_text(lm: Landmark) -> str:
+    """A ramp's flow as typed, in words: ``14 % of the mainline`` or ``hourly, 30 to 360
+    veh/h``; ``-`` for a landmark that is not a ramp."""
+    if lm.ramp_share is not None:
+        return f"{rounded(lm.ramp_share * 100, 1):g} % of the mainline"
+    if lm.ramp_veh_h:
+        lo, hi = min(lm.ramp_veh_h), max(lm.ramp_veh_h)
+        span = f"{lo:,.0f}" if round(lo) == round(hi) else f"{lo:,.0f} to {hi:,.0f}"
+        return f"hourly, {span} veh/h"
+    return "-"
+
+
+#: The first landmark beyond the longest queue is charted when it lies within this many
+#: times the longest queue (the margin shows without squeezing the queue).
+BEYOND_CHARTED = 2.0
+
+
+def charted_landmarks(result: Result) -> list[Landmark]:
+    """The landmarks drawn on the queue-length charts, nearest the closure first: those
+    the back of the queue reached, the first one beyond the farthest it reached when it
+    lies within :data:`BEYOND_CHARTED` times that reach (so the margin shows), and the
+    landmark the queue must not pass. Landmarks farther away would squeeze the queue
+    into the foot of the chart; the landmark table lists them all."""
+    landmarks = sorted(result.plan.approach.landmarks, key=lambda lm: lm.distance)
+    reach = float(result.back_of_queue["distance_m"].max()) if landmarks else 0.0
+    limit = result.plan.thresholds.queue_must_not_pass
+    beyond = next((lm for lm in landmarks if lm.distance > reach), None)
+    if beyond is not None and beyond.distance > BEYOND_CHARTED * reach:
+        beyond = None
+    return [lm for lm in landmarks if lm.distance <= reach or lm is beyond or lm.name == limit]
+
+
+def landmark_hour_flags(result: Result) -> list[tuple[str, list[bool]]]:
+    """Per landmark, nearest the closure first: its name and, per hour, whether the back
+    of the queue was beyond it at some instant of the hour."""
+    hours = result.landmark_hours
+    return [(name, [bool(x) for x in hours[name]]) for name in hours.columns[1:]]
 
 
 def exit_ramp_display(result: Result) -> pd.DataFrame:

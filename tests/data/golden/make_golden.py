@@ -3,7 +3,17 @@
 Run on the code before the package layout was changed (main at 2511b9f, the flat
 ``wzq/`` of 25 modules) to store what every output was then; recorded again after
 the merge of the mutation-testing work, whose one intended change is the caution
-line on every Charts sheet (one more cell per workbook, nothing else moved):
+line on every Charts sheet (one more cell per workbook, nothing else moved); and
+again when the example with an approach road (``brackenholm_interchange_evening``,
+ramps and landmarks on its Approach sheet) was added: its plan, commands, workbook
+and report are new entries, every entry recorded before is unchanged; and again
+after the count history reached the workbook and the report, whose one intended
+change here is the report of the plan with a count history
+(larkspur_vale_week.json): a risk page before the method (its headline figures,
+fan chart, hours and method), so every later page number moves; and again when
+the Closure windows sheet of a run without the search became one wrapped note
+with its own print area (it printed across two pages, cut mid-word): that sheet's
+print area is the one change:
 
     python3 tests/data/golden/make_golden.py
 
@@ -70,8 +80,14 @@ JSON_PLANS = (
     "fenwick_downs_weekend",
     "ashgrove_bypass_week",
     "larkspur_vale_week",
+    "brackenholm_interchange_evening",
 )
-WORKBOOKS = ("kestrel_ridge_weeknight", "fenwick_downs_weekend", "ashgrove_bypass_week")
+WORKBOOKS = (
+    "kestrel_ridge_weeknight",
+    "fenwick_downs_weekend",
+    "ashgrove_bypass_week",
+    "brackenholm_interchange_evening",
+)
 
 
 def _benchmark(name: str):

@@ -30,15 +30,17 @@ import io
 import json
 import math
 from collections.abc import Iterable, Sequence
-from dataclasses import asdict, dataclass, field, fields
+from dataclasses import MISSING, asdict, dataclass, field, fields
 from pathlib import Path
 from typing import Any, Literal
 
 import wzq
 from wzq import units as u
+from wzq.engine.problems import PlanError
 from wzq.engine.results import Result
+from wzq.engine.risk import plan_risk
 from wzq.io.workbook.save import write_atomically
-from wzq.present.tables import rounded
+from wzq.present.tables import farthest_passed, rounded
 
 __all__ = [
     "COLUMNS",
@@ -140,6 +142,11 @@ class PlanRow:
     notes: str
     #: Unrounded longest queue (m): the sort key, not shown.
     max_queue_m: float = field(default=0.0, repr=False)
+    #: The farthest landmark upstream the queue passed (``none``; blank: no landmarks).
+    landmark_passed: str = ""
+    #: With a count history or a capacity spread: the share of the scenarios in which
+    #: some hour breaks a limit (:mod:`wzq.engine.risk`), percent; else blank.
+    risk_any_percent: float | None = None
 
 
 @dataclass(frozen=True)
@@ -173,6 +180,8 @@ COLUMNS: tuple[SummaryColumn, ...] = (
     SummaryColumn("road_user_cost", "Road-user delay cost", 11, "#,##0"),
     SummaryColumn("cost_basis", "Cost basis", 9),
     SummaryColumn("hours_over_limit", "Hours over a limit", 8, "0"),
+    SummaryColumn("landmark_passed", "Farthest landmark the queue passed", 18, wrap=True),
+    SummaryColumn("risk_any_percent", "Chance some hour over a limit (%)", 10, "0.0"),
     SummaryColumn("status", "Status", 11),
     SummaryColumn("warnings", "Warnings", 36, wrap=True),
     SummaryColumn("notes", "Notes", 24, wrap=True),
@@ -208,7 +217,13 @@ def plan_row(file: str, result: Result) -> PlanRow:
     closures = plan.closures
     th = plan.thresholds
     checked = any(
-        v is not None for v in (th.max_queue_length, th.max_average_delay, th.max_demand_capacity)
+        v is not None
+        for v in (
+            th.max_queue_length,
+            th.max_average_delay,
+            th.max_demand_capacity,
+            th.queue_must_not_pass,
+        )
     )
     failing = len(s.hours_failing)
     status = STATUS_OVER if failing else (STATUS_OK if checked else STATUS_NO_LIMITS)
@@ -245,7 +260,27 @@ def plan_row(file: str, result: Result) -> PlanRow:
         warnings="; ".join(result.warnings),
         notes=plan.meta.notes,
         max_queue_m=float(s.max_queue_length_m),
+        landmark_passed=_landmark_passed(result),
+        risk_any_percent=_risk_percent(result),
     )
+
+
+def _landmark_passed(result: Result) -> str:
+    """The farthest landmark the queue passed, by name; ``none``; blank without landmarks."""
+    if not result.plan.approach.landmarks:
+        return ""
+    passed = farthest_passed(result)
+    return "none" if passed is None else passed.landmark.name
+
+
+def _risk_percent(result: Result) -> float | None:
+    """The share of the plan's scenarios with some hour over a limit (percent, as shown),
+    when the plan asks for a risk; ``None`` otherwise."""
+    try:
+        risk = plan_risk(result.plan)
+    except PlanError:  # a plan the risk is not yet assessed for (its workbook says why)
+        return None
+    return None if risk is None else rounded(100 * risk.summary.p_any_hour, 1)
 
 
 def worst_first(rows: Iterable[PlanRow]) -> list[PlanRow]:
@@ -277,6 +312,8 @@ def row_to_json(row: PlanRow) -> dict[str, Any]:
 def row_from_json(data: dict[str, Any]) -> PlanRow:
     kw: dict[str, Any] = {}
     for f in fields(PlanRow):
+        if f.name not in data and f.default is not MISSING:  # a state written before it
+            continue
         v = data[f.name]
         if f.name in ("closure_start", "closure_end", "max_queue_at") and v is not None:
             v = dt.datetime.fromisoformat(v)

@@ -67,6 +67,7 @@ __all__ = [
     "PROBLEMS_SHEET",
     "Outcome",
     "as_read",
+    "book_folder",
     "main",
     "mirror_book",
     "owned_sheets",
@@ -243,8 +244,13 @@ def _block(text: str) -> tuple[int, int, int, int] | None:
     return None if None in bounds else bounds  # type: ignore[return-value]
 
 
+#: The column of ``LandmarkTable`` that asks for a percentage.
+LANDMARK_SHARE = layout.LANDMARK_COLUMNS[3]
+
+
 def _percent_cells(mirror: Workbook) -> list[tuple[str, tuple[int, int, int, int]]]:
-    """(sheet, block) of the inputs asked for in percent: named cells and the share columns."""
+    """(sheet, block) of the inputs asked for in percent: named cells, the hourly share
+    columns and the ramps' shares on the Approach sheet."""
     out = []
     for f in F.ALL_FIELDS:
         dn = mirror.defined_names.get(f.name)
@@ -257,11 +263,18 @@ def _percent_cells(mirror: Workbook) -> list[tuple[str, tuple[int, int, int, int
     for ws in mirror.worksheets:
         for name, ref in ws.tables.items():  # TableList.items(): (name, ref)
             block = _block(str(ref))
-            if name.casefold() != layout.SHARE_TABLE.casefold() or block is None:
+            if block is None or block[3] <= block[1]:
                 continue
             min_col, min_row, max_col, max_row = block
-            if max_row > min_row:  # the share columns, after the hour, below the header
+            if name.casefold() == layout.SHARE_TABLE.casefold():
+                # the share columns, after the hour, below the header
                 out.append((ws.title, (min_col + 1, min_row + 1, max_col, max_row)))
+            elif name.casefold() == layout.LANDMARK_TABLE.casefold():
+                # the ramps' shares of the mainline flow, in the column of that header
+                heads = [" ".join(c.name.split()).casefold() for c in ws.tables[name].tableColumns]
+                if LANDMARK_SHARE.casefold() in heads:
+                    col = min_col + heads.index(LANDMARK_SHARE.casefold())
+                    out.append((ws.title, (col, min_row + 1, col, max_row)))
     return out
 
 
@@ -555,6 +568,16 @@ def _screen(book: Any, on: bool) -> None:
         book.app.screen_updating = on
 
 
+def book_folder(book: Any) -> Path | None:
+    """The folder of the open workbook's file (where a count file named on its Demand sheet
+    is looked for); ``None`` for a workbook never saved or saved online."""
+    try:
+        folder = Path(str(book.fullname)).parent
+    except Exception:  # a workbook object without a file name
+        return None
+    return folder if folder.is_absolute() and folder.is_dir() else None
+
+
 def recalculate(book: Any = None, *, run_time: str | None = None) -> Outcome:
     """Analyse the plan in the open workbook ``book`` and write the results into it.
 
@@ -577,7 +600,7 @@ def recalculate(book: Any = None, *, run_time: str | None = None) -> Outcome:
     _screen(book, False)
     try:
         mirror = mirror_book(book)
-        plan = read_plan_from_book(mirror, book.name)
+        plan = read_plan_from_book(mirror, book.name, folder=book_folder(book))
         check_output_sheets(mirror)  # the writer's ownership rule, before anything changes
         outputs = decide_outputs(wzq.analyse(plan))  # the Site sheet's space-time option too
         out = Workbook()

@@ -110,7 +110,11 @@ def chart_type(sub: Any) -> str | None:
         return {"stacked": "line_stacked", "percentStacked": "line_stacked_100"}.get(
             sub.grouping, "line"
         )
-    return {"areaChart": "area", "pieChart": "pie", "doughnutChart": "doughnut"}.get(tag)
+    if tag == "areaChart":  # the risk's fan chart stacks its bands
+        return {"stacked": "area_stacked", "percentStacked": "area_stacked_100"}.get(
+            sub.grouping, "area"
+        )
+    return {"pieChart": "pie", "doughnutChart": "doughnut"}.get(tag)
 
 
 def _ref_text(data: Any) -> str | None:

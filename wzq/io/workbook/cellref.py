@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import re
+from functools import lru_cache
 
 from openpyxl.utils import get_column_letter
 
@@ -11,5 +12,9 @@ __all__ = ["cell_ref"]
 
 def cell_ref(sheet: str, row: int, col: int) -> str:
     """``Site!B8``; a sheet name with spaces or punctuation is quoted as in a formula."""
-    name = sheet if re.fullmatch(r"[A-Za-z_][A-Za-z0-9_.]*", sheet) else f"'{sheet}'"
-    return f"{name}!{get_column_letter(col)}{row}"
+    return f"{_quoted(sheet)}!{get_column_letter(col)}{row}"
+
+
+@lru_cache(maxsize=64)  # a reader names tens of thousands of cells on a handful of sheets
+def _quoted(sheet: str) -> str:
+    return sheet if re.fullmatch(r"[A-Za-z_][A-Za-z0-9_.]*", sheet) else f"'{sheet}'"

@@ -6,7 +6,9 @@ The charts, each with axis titles and units:
 1. demand, capacity and the queue discharge rate by hour, drawn as step lines
    against the clock (they are constant within each hour of the table);
 2. longest queue by hour (columns read straight from the Results sheet), with
-   the agency's queue-length limit as a line when one is set;
+   the agency's queue-length limit as a line when one is set, and the landmarks
+   of the approach as named lines at their distances (those the queue reached, the
+   next one beyond, and the one it must not pass; :func:`landmark_lines`);
 3. one chart per queue (busy period, at most :data:`wzq.present.tables.MAX_PANELS`, the
    largest): cumulative arrivals and departures against the clock, counted from
    an hour before the queue forms, the input-output diagram of deterministic
@@ -36,6 +38,7 @@ import numpy as np
 import pandas as pd
 from openpyxl.chart import BarChart, LineChart, Reference, ScatterChart, Series
 from openpyxl.chart.axis import ChartLines
+from openpyxl.chart.label import DataLabel, DataLabelList
 from openpyxl.chart.text import RichText, Text
 from openpyxl.chart.title import Title
 from openpyxl.drawing.text import (
@@ -43,6 +46,7 @@ from openpyxl.drawing.text import (
     Paragraph,
     ParagraphProperties,
     RegularTextRun,
+    RichTextProperties,
 )
 from openpyxl.utils import get_column_letter
 from openpyxl.utils.datetime import to_excel
@@ -52,7 +56,14 @@ import wzq
 from wzq import units as u
 from wzq.engine.results import Result
 from wzq.io.workbook import writer as w
-from wzq.present.tables import Episode, episode_title, episode_window, rounded, shown_episodes
+from wzq.present.tables import (
+    Episode,
+    charted_landmarks,
+    episode_title,
+    episode_window,
+    rounded,
+    shown_episodes,
+)
 
 __all__ = [
     "ARRIVALS_COLOUR",
@@ -68,6 +79,10 @@ __all__ = [
     "DEPARTURES_COLOUR",
     "DISCHARGE_COLOUR",
     "LABEL_COL",
+    "LANDMARK_COL",
+    "LANDMARK_COLOUR",
+    "LANDMARK_EXTRA_CM",
+    "LANDMARK_EXTRA_ROWS",
     "LIMIT_COLOUR",
     "MAX_LABELS",
     "PANEL_COLUMNS",
@@ -85,6 +100,8 @@ __all__ = [
     "cumulative_points_all",
     "demand_capacity_chart",
     "episode_points",
+    "label_hour",
+    "landmark_lines",
     "queue_chart",
     "small_title",
     "tick_hours",
@@ -95,10 +112,15 @@ __all__ = [
 STEP_COL = 18  # R: time, demand, capacity, queue discharge rate
 LABEL_COL = 23  # W: hour label, queue-length limit
 CUM_COL = 26  # Z: per queue: time, arrivals, departures
+LANDMARK_COL = 30  # AD: one column per landmark drawn on the queue-length chart
 DATA_HEADER_ROW = 3
 CHART_ANCHORS = ("A3", "A23")
 CHART_WIDTH_CM = 25.0
 CHART_HEIGHT_CM = 9.5
+#: Added to the queue-length chart's height when it draws landmarks (their names and
+#: legend entries), and the rows that moves the queue charts down by.
+LANDMARK_EXTRA_CM = 5.5
+LANDMARK_EXTRA_ROWS = 11
 #: Rows a chart covers at the default row height, and the last printed column.
 CHART_ROWS = 19
 PRINT_LAST_COL = "O"
@@ -118,6 +140,7 @@ CAPACITY_COLOUR = "2F3E4C"
 DISCHARGE_COLOUR = "7A8A99"
 QUEUE_COLOUR = "B85450"
 LIMIT_COLOUR = "000000"
+LANDMARK_COLOUR = "5E6B3A"
 ARRIVALS_COLOUR = "4F7CAC"
 DEPARTURES_COLOUR = "C07A2C"
 
@@ -267,6 +290,12 @@ def queue_chart(out: w.SheetWriter, result: Result, table: w.TableRef) -> BarCha
         line.set_categories(cats)
         _line(line.series[0], LIMIT_COLOUR, 1.5, "dash")
         chart += line
+    landmarks = landmark_lines(out, result, cats)
+    if landmarks is not None:
+        chart += landmarks
+    _style_axes(chart)
+    if landmarks is not None:  # room for the lines and their names
+        chart.height = CHART_HEIGHT_CM + LANDMARK_EXTRA_CM
     chart.x_axis.tickLblSkip = skip
     chart.x_axis.tickMarkSkip = skip
     chart.x_axis.title = "Hour starting"
@@ -274,8 +303,75 @@ def queue_chart(out: w.SheetWriter, result: Result, table: w.TableRef) -> BarCha
     chart.y_axis.number_format = "0.00"
     chart.y_axis.majorGridlines = ChartLines()
     chart.y_axis.scaling.min = 0
-    _style_axes(chart)
     return chart
+
+
+def label_hour(result: Result) -> int:
+    """The hour at which the landmarks are named on the queue-length chart: the middle
+    of the longest run of hours without a queue (the ends of the chart count as queued,
+    so a name does not run off its edge; the latest such hour), so the names sit clear
+    of the bars."""
+    n = len(result.hourly)
+    queued = np.flatnonzero(result.hourly["queue_length_max_m"].to_numpy() > 0)
+    walls = np.concatenate(([-1], queued, [n]))
+    gap = np.min(np.abs(np.arange(n)[:, None] - walls[None, :]), axis=1)
+    return int(n - 1 - np.argmax(gap[::-1]))
+
+
+def landmark_lines(out: w.SheetWriter, result: Result, cats: Reference) -> LineChart | None:
+    """The charted landmarks (:func:`wzq.present.tables.charted_landmarks`) as horizontal
+    lines over the hours of the queue-length chart, each named in the legend and on the
+    chart (above the line at :func:`label_hour`); their values in a block of their own
+    from :data:`LANDMARK_COL`. ``None`` when the plan has none to chart."""
+    shown = charted_landmarks(result)
+    if not shown:
+        return None
+    ws = out.ws
+    plan = result.plan
+    long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
+    n = len(result.hourly)
+    limit = plan.thresholds.queue_must_not_pass
+    heads = [
+        f"{lm.name} ({rounded(lm.distance / long_m, 2):,.2f} {long_name})"
+        + (": must not pass" if lm.name == limit else "")
+        for lm in shown
+    ]
+    _header(out, LANDMARK_COL, heads)
+    look = out.style.prepare(number_format=w.NUMBER_FORMATS[2])
+    for j, lm in enumerate(shown):
+        value = rounded(lm.distance / long_m, 2)
+        for i in range(n):
+            look(ws.cell(DATA_HEADER_ROW + 1 + i, LANDMARK_COL + j, value))
+        ws.column_dimensions[get_column_letter(LANDMARK_COL + j)].width = 16
+    at = label_hour(result)
+    line = LineChart()
+    for j, lm in enumerate(shown):
+        line.add_data(
+            Reference(
+                ws,
+                min_col=LANDMARK_COL + j,
+                min_row=DATA_HEADER_ROW,
+                max_row=DATA_HEADER_ROW + n,
+            ),
+            titles_from_data=True,
+        )
+        series = line.series[-1]
+        is_limit = lm.name == limit
+        colour, width = (LIMIT_COLOUR, 1.5) if is_limit else (LANDMARK_COLOUR, 1.0)
+        _line(series, colour, width, "dashDot")
+        # the landmark's name above its line, at the hour of label_hour
+        off = dict(showVal=False, showCatName=False, showLegendKey=False, showPercent=False)
+        text = RichText(
+            bodyPr=RichTextProperties(wrap="none"),
+            p=[Paragraph(pPr=ParagraphProperties(defRPr=CharacterProperties(sz=800)))],
+        )
+        series.dLbls = DataLabelList(
+            dLbl=[DataLabel(idx=at, showSerName=True, dLblPos="t", txPr=text, **off)],
+            showSerName=False,
+            **off,
+        )
+    line.set_categories(cats)
+    return line
 
 
 def cumulative_points(result: Result) -> pd.DataFrame:
@@ -395,10 +491,12 @@ def write_charts(out: w.SheetWriter, result: Result, table: w.TableRef) -> int:
         strict=True,
     ):
         ws.add_chart(chart, anchor)
-    ws.row_breaks.append(Break(id=QUEUES_ROW - 1))
+    # the queue-length chart is taller when it names landmarks
+    queues_row = QUEUES_ROW + (LANDMARK_EXTRA_ROWS if charted_landmarks(result) else 0)
+    ws.row_breaks.append(Break(id=queues_row - 1))
     shown, total = shown_episodes(result)
     heading = "Cumulative arrivals and departures around each queue"
-    out.put(QUEUES_ROW, 1, heading, font=w.SECTION_FONT)
+    out.put(queues_row, 1, heading, font=w.SECTION_FONT)
     note = (
         "The vertical gap between the curves is the number of vehicles queued; the area "
         f"between them is the queueing delay. Each chart starts {CONTEXT_H:.0f} h before its "
@@ -406,14 +504,14 @@ def write_charts(out: w.SheetWriter, result: Result, table: w.TableRef) -> int:
     )
     if total > len(shown):
         note += f" The {len(shown)} longest of {total} queues are shown."
-    out.put(QUEUES_ROW + 1, 1, note, font=w.SMALL)
+    out.put(queues_row + 1, 1, note, font=w.SMALL)
     data_row = DATA_HEADER_ROW
     panels: list[Episode | None] = list(shown) or [None]
     for k, ep in enumerate(panels):
         chart, data_row = cumulative_chart(out, result, ep, data_row)
-        row = QUEUES_ROW + 2 + (k // 2) * PANEL_ROWS
+        row = queues_row + 2 + (k // 2) * PANEL_ROWS
         ws.add_chart(chart, f"{PANEL_COLUMNS[k % 2]}{row}")
-    last_row = QUEUES_ROW + 2 + math.ceil(len(panels) / 2) * PANEL_ROWS
+    last_row = queues_row + 2 + math.ceil(len(panels) / 2) * PANEL_ROWS
     w.print_setup(ws, result.plan, f"A1:{PRINT_LAST_COL}{last_row}", landscape=False)
     for col, width in ((STEP_COL, 21), (CUM_COL, 21), (LABEL_COL, 12)):
         ws.column_dimensions[get_column_letter(col)].width = width

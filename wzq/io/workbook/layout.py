@@ -14,6 +14,7 @@ from typing import Any
 
 __all__ = [
     "AADT",
+    "APPROACH",
     "AREA_WORDS",
     "BARRIER_WORDS",
     "BUTTON_CAPTION",
@@ -25,7 +26,10 @@ __all__ = [
     "CLOSURE_TABLE",
     "CLOSURE_TEMPLATE_ROWS",
     "COLOURS",
+    "CONGESTED_WORDS",
+    "COUNTS",
     "DATE_FORMAT",
+    "DAY_TYPE_WORDS",
     "DEMAND",
     "DEMAND_COLUMNS",
     "DEMAND_MODE_WORDS",
@@ -34,9 +38,15 @@ __all__ = [
     "DIAGRAM_WORDS",
     "DRIVER_WORDS",
     "END_TIME_FORMAT",
+    "HISTORY",
     "HOURLY",
     "INPUT_COLOUR_WORD",
     "INPUT_SHEETS",
+    "LANDMARK_COLUMNS",
+    "LANDMARK_KIND_WORDS",
+    "LANDMARK_NAMES",
+    "LANDMARK_TABLE",
+    "LANDMARK_TEMPLATE_ROWS",
     "LIMITS",
     "MARKER_NAME",
     "MARKER_SEPARATOR",
@@ -46,12 +56,17 @@ __all__ = [
     "OVERRIDE_WORDS",
     "PERMIT_TABLE",
     "QUEUE_METHOD_WORDS",
+    "RAMP_FLOW_COLUMNS",
+    "RAMP_FLOW_PLACEHOLDERS",
+    "RAMP_FLOW_TABLE",
+    "RAMP_FLOW_TEMPLATE_ROWS",
     "RESULTS",
     "RUN_LOG",
     "SHARE_COLUMNS",
     "SHARE_SUM_TOLERANCE",
     "SHARE_TABLE",
     "SITE",
+    "STAMP_WORDS",
     "START",
     "SUMMARY",
     "TABLE_COLUMNS",
@@ -66,6 +81,7 @@ __all__ = [
     "WINDOWS",
     "YES_NO_WORDS",
     "Choices",
+    "marked_sheets",
     "word_for",
     "written_sheets",
 ]
@@ -79,8 +95,13 @@ SITE = "Site"
 DEMAND = "Demand"
 CLOSURES = "Closures"
 LIMITS = "Limits"
+#: The road upstream of the closure: landmarks, ramps and their flows (optional).
+APPROACH = "Approach"
+#: Where a count history may be pasted (any sheet of the workbook may be named instead,
+#: or a count file).
+COUNTS = "Count history"
 #: Input sheets, in the order the template creates them.
-INPUT_SHEETS: tuple[str, ...] = (START, SITE, DEMAND, CLOSURES, LIMITS)
+INPUT_SHEETS: tuple[str, ...] = (START, SITE, DEMAND, CLOSURES, LIMITS, APPROACH, COUNTS)
 
 #: Output sheets, owned by the writer and replaced on every run; the reader ignores them.
 RESULTS = "Results"
@@ -154,9 +175,37 @@ OVERRIDE_WORDS: Choices = (
     ("queue discharge rate", "discharge"),
     ("pre-breakdown capacity", "prebreakdown"),
 )
+#: How the congested branch of the triangular diagram is set (wzq.engine.plan.CONGESTED_BRANCHES).
+CONGESTED_WORDS: Choices = (
+    ("capacity, jam density", "derived"),
+    ("HCM, 45 pc/mi/ln", "hcm"),
+    ("backward wave speed", "wave-speed"),
+    ("density at capacity", "density-at-capacity"),
+)
+#: Kinds of landmark on the approach (wzq.engine.plan.LANDMARK_KINDS), in plain words.
+LANDMARK_KIND_WORDS: Choices = (
+    ("exit ramp", "exit-ramp"),
+    ("entrance ramp", "entrance-ramp"),
+    ("signal or intersection", "signal"),
+    ("bridge or structure", "structure"),
+    ("end of advance warning signing", "warning-signs-end"),
+    ("other", "other"),
+)
 HOURLY = "hourly"
 AADT = "aadt"
-DEMAND_MODE_WORDS: Choices = (("hourly counts", HOURLY), ("from AADT", AADT))
+HISTORY = "history"
+DEMAND_MODE_WORDS: Choices = (
+    ("hourly counts", HOURLY),
+    ("from AADT", AADT),
+    ("from a count history", HISTORY),
+)
+#: How the historical days of one day type are grouped (:mod:`wzq.engine.design_demand`).
+DAY_TYPE_WORDS: Choices = (
+    ("each weekday on its own", "by-name"),
+    ("Monday-Thursday together", "mon-thu"),
+)
+#: Whether a count's time stamp is the start or the end of its interval.
+STAMP_WORDS: Choices = (("start of its interval", "start"), ("end of its interval", "end"))
 
 
 def word_for(choices: Choices, value: Any) -> str:
@@ -204,15 +253,39 @@ CLOSURE_COLUMNS: tuple[str, ...] = (
 )
 CLOSURE_TEMPLATE_ROWS = 30
 
+#: The landmarks upstream of the closure, one row each (the Approach sheet).
+LANDMARK_TABLE = "LandmarkTable"
+LANDMARK_COLUMNS: tuple[str, ...] = (
+    "Landmark",
+    "Distance upstream of the taper",
+    "Kind",
+    "Ramp flow (% of mainline)",
+    "Note",
+)
+LANDMARK_TEMPLATE_ROWS = 12
+#: Hidden workbook-scoped name of the landmark names of the template's rows (the list of
+#: the Limits sheet's "Queue must not pass" dropdown).
+LANDMARK_NAMES = "approach_landmark_names"
+#: Hourly ramp flows: one row per hour, one column per ramp headed by its name.
+RAMP_FLOW_TABLE = "RampFlowTable"
+RAMP_FLOW_COLUMNS: tuple[str, ...] = ("Date", "Start time")
+#: Headers of the template's empty ramp columns, renamed by the user to ramp names.
+RAMP_FLOW_PLACEHOLDERS: tuple[str, ...] = ("Ramp 1", "Ramp 2", "Ramp 3", "Ramp 4")
+RAMP_FLOW_TEMPLATE_ROWS = 7 * 24
+
 TABLE_COLUMNS: dict[str, tuple[str, ...]] = {
     DEMAND_TABLE: DEMAND_COLUMNS,
     SHARE_TABLE: SHARE_COLUMNS,
     CLOSURE_TABLE: CLOSURE_COLUMNS,
+    LANDMARK_TABLE: LANDMARK_COLUMNS,
+    RAMP_FLOW_TABLE: RAMP_FLOW_COLUMNS,
 }
 TABLE_SHEET: dict[str, str] = {
     DEMAND_TABLE: DEMAND,
     SHARE_TABLE: DEMAND,
     CLOSURE_TABLE: CLOSURES,
+    LANDMARK_TABLE: APPROACH,
+    RAMP_FLOW_TABLE: APPROACH,
 }
 
 #: Number formats (shared with the test helper that fills a template as a user would).
@@ -232,7 +305,11 @@ MARKER_SEPARATOR = "|"
 def written_sheets(book) -> list[str]:
     """The sheets the marker says wzq wrote (empty for a workbook never run); ``book``
     is an openpyxl workbook."""
-    dn = book.defined_names.get(MARKER_NAME)
+    return marked_sheets(book.defined_names.get(MARKER_NAME))
+
+
+def marked_sheets(dn) -> list[str]:
+    """The sheet names held by the marker's defined name ``dn`` (``None``: no marker)."""
     if dn is None or not dn.attr_text:
         return []
     text = dn.attr_text.strip()

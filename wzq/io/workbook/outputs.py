@@ -16,18 +16,25 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
+from openpyxl.styles import Alignment
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
 
 import wzq
+from wzq.engine.problems import PlanError
 from wzq.engine.results import Result
-from wzq.engine.windows import plan_windows, too_long, too_long_text
+from wzq.engine.risk import RiskResult, plan_risk
+from wzq.engine.risk_windows import closure_windows
+from wzq.engine.windows import too_long, too_long_text
 from wzq.io.workbook import layout
 from wzq.io.workbook.charts import write_charts
 from wzq.io.workbook.permit_sheet import write_permit_sheet
 from wzq.io.workbook.pictures import place_space_time, space_time_picture
 from wzq.io.workbook.results_sheet import write_results_sheet
+from wzq.io.workbook.risk_sheets import add_risk
 from wzq.io.workbook.run_log_sheet import write_run_log
 from wzq.io.workbook.summary_sheet import write_summary_sheet
+from wzq.io.workbook.windows_cache import cached_plan_windows
 from wzq.io.workbook.windows_sheet import write_windows_sheet
 from wzq.io.workbook.writer import (
     CHARTS,
@@ -58,6 +65,9 @@ class Outputs:
     result: Result
     windows: bool
     picture: bytes | None = None
+    #: The risk of breaking the limits, when the plan gives a count history (or a spread
+    #: of the work-zone capacity): extra columns, a Summary section, a fan chart.
+    risk: RiskResult | None = None
 
 
 def decide_outputs(
@@ -71,16 +81,30 @@ def decide_outputs(
     if options.space_time if space_time is None else space_time:
         picture, warnings = space_time_picture(result)
         result = result.with_warnings(warnings)
-    return Outputs(result, options.closure_windows if windows is None else windows, picture)
+    wanted = options.closure_windows if windows is None else windows
+    try:
+        risk = plan_risk(result.plan)
+    except PlanError as e:  # a plan the risk is not yet assessed for: the rest still shows
+        risk = None
+        why = "; ".join(p.message for p in e.problems)
+        result = result.with_warnings([f"the risk of breaking the limits is not shown: {why}"])
+    return Outputs(result, wanted, picture, risk)
 
 
-def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
+def _note(ws: Worksheet, text: str) -> None:
+    """A sheet that holds only a note: wrapped in one wide cell, so it prints on one page
+    (a long line in a narrow cell spills over the next columns and splits across pages)."""
+    put_text(ws, 1, 1, text).alignment = Alignment(wrap_text=True, vertical="top")
+    ws.column_dimensions["A"].width = 75
+    ws.row_dimensions[1].height = 15 * (1 + len(text) // 65)  # points, about 65 characters a line
+    ws.print_area = "A1:A1"
+
+
+def _windows_sheet(book: Workbook, result: Result, wanted: bool, cache: bool) -> None:
     """The allowable closure hours of each configuration on this plan's demand."""
     if not wanted:
-        put_text(
+        _note(
             book[layout.WINDOWS],
-            1,
-            1,
             "Allowable closure hours were not computed in this run: set 'Closure windows "
             "sheet' to yes on the Limits sheet, or run `wzq run PLAN --windows`.",
         )
@@ -89,12 +113,12 @@ def _windows_sheet(book: Workbook, result: Result, wanted: bool) -> None:
     if too_long(d):  # a long plan runs; its windows are left out, and the sheet says why
         where = result.plan.where("options.closure_windows")
         option = f"'Closure windows sheet' ({where}) to no, or run `wzq run PLAN --no-windows`"
-        put_text(
-            book[layout.WINDOWS], 1, 1, too_long_text(len(d.flows_veh_h), d.interval_s, option)
-        )
+        _note(book[layout.WINDOWS], too_long_text(len(d.flows_veh_h), d.interval_s, option))
         return
-    # replaces the empty sheet made by replace_sheets, at the same position
-    write_windows_sheet(book, plan_windows(result.plan), result.plan)
+    # replaces the empty sheet made by replace_sheets, at the same position; with ``cache``
+    # the search comes from the workbook's cache when its inputs are those of the last run
+    found = cached_plan_windows(result.plan, book) if cache else closure_windows(result.plan)
+    write_windows_sheet(book, found, result.plan)
 
 
 def write_outputs(
@@ -104,12 +128,15 @@ def write_outputs(
     source: str = "",
     run_time: str | None = None,
     notes: Sequence[str] = (),
+    cache: bool = False,
 ) -> dict[str, TableRef]:
     """Replace wzq's output sheets in ``book`` with those of ``outputs``, the picture
     placed on the Charts sheet.
 
     Touches nothing else: no input cell, style, name or sheet of the user's.
     ``run_time`` (UTC, ISO 8601) defaults to now; ``notes`` go to the Run log.
+    With ``cache`` the closure-window search is taken from, or kept in, the
+    workbook's cache sheet (:mod:`wzq.io.workbook.windows_cache`).
     Returns where the Results and Permit tables sit.
     """
     result = outputs.result
@@ -128,6 +155,8 @@ def write_outputs(
     write_summary_sheet(out[SUMMARY], result)
     write_charts(out[CHARTS], result, refs[RESULTS])
     refs[PERMIT] = write_permit_sheet(out[PERMIT], result, stamp)
+    if outputs.risk is not None:
+        add_risk(out, outputs.risk, result, refs)
     write_run_log(
         out[RUN_LOG],
         result,
@@ -136,7 +165,7 @@ def write_outputs(
         run_time=run_time,
         notes=notes,
     )
-    _windows_sheet(book, result, outputs.windows)
+    _windows_sheet(book, result, outputs.windows, cache)
     if outputs.picture is not None:
         place_space_time(book, outputs.picture)
     select(book, sheets[SUMMARY])

@@ -10,11 +10,11 @@ from openpyxl.worksheet.pagebreak import Break
 
 from wzq import units as u
 from wzq.engine.results import Result
+from wzq.io.workbook.landmark_tables import write_landmark_tables
 from wzq.io.workbook.writer import (
     BAND_FILL,
     BOLD,
     CENTRE,
-    CHECKS,
     OVER,
     OVER_FILL,
     PASS,
@@ -30,6 +30,7 @@ from wzq.io.workbook.writer import (
     limit_texts,
     listed_hours,
     number_looks,
+    plan_checks,
     plan_title,
     print_setup,
     title_block,
@@ -65,7 +66,7 @@ def write_permit_sheet(out: SheetWriter, result: Result, stamp: str) -> TableRef
     h = result.hourly
     system = plan.site.unit_system
     limits = limit_texts(plan)
-    checks = [(col, short) for col, _, short in CHECKS if col in h.columns]
+    checks = [(col, short) for col, _, short in plan_checks(plan) if col in h.columns]
     cols = permit_columns(system)
     headers = ["Hour", "Closure", *(c.header for c in cols)]
     headers += [f"{short} {limits[col]}" for col, short in checks]
@@ -84,11 +85,14 @@ def write_permit_sheet(out: SheetWriter, result: Result, stamp: str) -> TableRef
         out.put(r, 2, closure_text(i, c, plan.site.lanes))
         r += 1
     out.put(r, 1, "Limits", font=BOLD)
-    out.put(r, 2, "; ".join(f"{label}: {limits[col]}" for col, label, _ in CHECKS))
+    out.put(r, 2, "; ".join(f"{label}: {limits[col]}" for col, label, _ in plan_checks(plan)))
     r += 2
 
     header_row = r
     out.header(header_row, headers, height=62)
+    widths = [21, 8.5, *(header_width(c.header, 7.5 if k == 0 else 11) for k, c in enumerate(cols))]
+    widths += [header_width(h, 11.5, max_lines=4) for h in headers[len(widths) : -1]]
+    widths.append(10)
     keep = listed_hours(result)
     idx = np.flatnonzero(keep)
     hours = [hour_label(h["hour_start"].iloc[i]) for i in idx]
@@ -138,6 +142,7 @@ def write_permit_sheet(out: SheetWriter, result: Result, stamp: str) -> TableRef
     if n == 0:
         out.put(header_row + 1, 1, "No closure hours and no queue in the demand period.")
         r = header_row + 3
+    r = write_landmark_tables(out, result, r, widths)
     hidden = int((~keep).sum())
     if hidden:
         out.put(
@@ -164,9 +169,7 @@ def write_permit_sheet(out: SheetWriter, result: Result, stamp: str) -> TableRef
         out.style(ws.cell(r, j), border=ROW_BORDER)
     out.put(r, 3, plan.meta.prepared_by or None, border=ROW_BORDER)
     out.put(r, 9, plan.meta.checked_by or None, border=ROW_BORDER)
-    widths = [21, 8.5, *(header_width(c.header, 7.5 if k == 0 else 11) for k, c in enumerate(cols))]
-    widths += [header_width(h, 11.5, max_lines=4) for h in headers[len(widths) : -1]]
-    out.widths([*widths, 10])
+    out.widths(widths)
     print_setup(ws, plan, f"A1:{get_column_letter(ncol)}{r}", header_row)
     sources = ["hour", "closure_no", *(c.source for c in cols), *(c for c, _ in checks), "result"]
     return TableRef(

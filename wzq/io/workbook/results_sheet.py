@@ -9,6 +9,7 @@ from openpyxl.utils import get_column_letter
 
 import wzq
 from wzq.engine.results import Result
+from wzq.io.workbook.landmark_tables import results_columns
 from wzq.io.workbook.writer import (
     BAND_FILL,
     BOLD,
@@ -45,11 +46,13 @@ def write_results_sheet(out: SheetWriter, result: Result) -> TableRef:
     h = result.hourly
     cols = hourly_columns(system)
     details = DETAIL_COLUMNS
+    approach = results_columns(result)
     out.title(f"Hourly results: {plan_title(plan)}")
     out.put(2, 1, site_text(plan) or None, font=ITALIC)
     units = "US customary" if system == "us" else "metric"
     out.put(3, 1, f"Units: {units}. Numbers are rounded as shown. {wzq.CAUTION}", font=SMALL)
     headers = ["Hour", "Closure", *(c.header for c in cols), "Status", *(c.header for c in details)]
+    headers += [head for head, _, _, _ in approach]
     hr = RESULTS_HEADER_ROW
     out.header(hr, headers)
     hours = [pd.Timestamp(t).to_pydatetime() for t in h["hour_start"]]
@@ -60,10 +63,22 @@ def write_results_sheet(out: SheetWriter, result: Result) -> TableRef:
     n = len(hours)
     first = hr + 1
     for i in range(n):
-        ws.append([hours[i], closures[i], *(v[i] for v in main), status[i], *(v[i] for v in extra)])
+        ws.append(
+            [
+                hours[i],
+                closures[i],
+                *(v[i] for v in main),
+                status[i],
+                *(v[i] for v in extra),
+                *(v[i] for _, _, v, _ in approach),
+            ]
+        )
     formats = [DATE_FORMAT, None, *number_looks([c.decimals for c in cols]), None]
     formats += number_looks([c.decimals for c in details])
+    formats += number_looks([d for _, _, _, d in approach])
     aligns: list[Alignment | None] = [None] * len(headers)
+    for j, (_, _, _, d) in enumerate(approach, start=len(headers) - len(approach)):
+        aligns[j] = CENTRE if d is None else None
     aligns[1] = CENTRE
     status_col = 2 + len(cols)
     aligns[status_col] = STATUS_ALIGN
@@ -93,6 +108,9 @@ def write_results_sheet(out: SheetWriter, result: Result) -> TableRef:
         header_width(c.header, number_width(v, c.decimals))
         for c, v in zip(details, extra, strict=True)
     ]
+    widths += [
+        header_width(head, 8.0 if d is None else number_width(v, d)) for head, _, v, d in approach
+    ]
     out.widths(widths)
     ws.freeze_panes = ws.cell(first, 2)
     ncol = len(headers)
@@ -101,6 +119,7 @@ def write_results_sheet(out: SheetWriter, result: Result) -> TableRef:
     print_setup(ws, plan, f"A1:{get_column_letter(ncol)}{first + max(n, 1) - 1}", hr)
     sources = ["hour_start", "closure_no", *(c.source for c in cols), "status"]
     sources += [c.source for c in details]
+    sources += [source for _, source, _, _ in approach]
     return TableRef(
         ws.title, hr, first, first + n - 1, {s: j for j, s in enumerate(sources, start=1)}
     )

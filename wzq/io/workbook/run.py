@@ -16,22 +16,27 @@ from __future__ import annotations
 import datetime as dt
 import io
 import os
+import shutil
 import tempfile
+from copy import copy
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Literal
 
 from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.table import TableColumn
 
 import wzq
 from wzq.engine.plan import Plan, PlanError, Problem
 from wzq.engine.results import Result
+from wzq.engine.risk import RiskResult
 from wzq.io import fields as F
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.plans import demo_plan
 from wzq.io.workbook import layout
 from wzq.io.workbook.formula_values import WithSavedResults
+from wzq.io.workbook.history_typing import from_count_file, type_history
 from wzq.io.workbook.kept import ContentLost, keeps_everything
 from wzq.io.workbook.outputs import decide_outputs, write_outputs
 from wzq.io.workbook.reader import book_from_bytes, read_plan_from_book
@@ -45,6 +50,7 @@ from wzq.io.workbook.save import (
     save_atomic,
 )
 from wzq.io.workbook.writer import put_text
+from wzq.units import m_to_long_length
 
 __all__ = [
     "COPY_LABEL",
@@ -102,9 +108,10 @@ def load_book(path: str | Path) -> Workbook:
 def _load(path: Path) -> tuple[Workbook, bytes, PackageReport, FileState]:
     if not path.exists():
         raise PlanError([Problem(str(path), "no such file; check the path")])
-    data, report = read_checked(path)
+    data, report = read_checked(path, skip_outputs=True)  # the output sheets: never parsed
     state = FileState.of(path, data)  # to see, before replacing it, whether it changed since
-    book = book_from_bytes(data, path, keep_links=True, rich_text=True)
+    # wzq's own output sheets are replaced, so they are not parsed
+    book = book_from_bytes(data, path, skip_outputs=True, keep_links=True, rich_text=True)
     return book, data, report, state
 
 
@@ -195,6 +202,9 @@ class RunOutcome:
     #: True when the results went to a copy: the workbook holds content wzq cannot keep
     #: when it saves, or it changed on disk while wzq ran.
     copied: bool = False
+    #: The risk of breaking the limits, when the plan gives a count history or a spread
+    #: of the work-zone capacity (as on the sheets; ``None`` otherwise).
+    risk: RiskResult | None = None
 
 
 def _kept_words(src: Path, parts: str) -> str:
@@ -275,24 +285,24 @@ def run_to(
     result = outputs.result  # with the space-time simulation's warnings, as every sheet shows
 
     def write(book: Workbook, notes: list[str]) -> None:
-        write_outputs(book, outputs, source=src.name, run_time=run_time, notes=notes)
+        write_outputs(book, outputs, source=src.name, run_time=run_time, notes=notes, cache=True)
 
     def to_copy(why: str) -> RunOutcome:
         copy = copy_path(src)
         notes.append(
             f"{why}, so it was left unchanged and the results were written to a copy: {copy.name}"
         )
-        fresh = book_from_bytes(data, src, keep_links=True, rich_text=True)  # a saved book's
-        write(fresh, notes)  # pictures cannot be saved again by openpyxl
+        fresh = book_from_bytes(data, src, skip_outputs=True, keep_links=True, rich_text=True)
+        write(fresh, notes)  # (a saved book's pictures cannot be saved again by openpyxl)
         save_atomic(WithSavedResults(fresh, data), copy)  # formulas keep their results
-        return RunOutcome(result, copy, notes, True)
+        return RunOutcome(result, copy, notes, True, outputs.risk)
 
     if in_place and report.unkept:  # known before writing: the copy at once
         return to_copy(_kept_words(src, _unkept_text(report.unkept)))
     write(book, notes)
     if not in_place:
         save_atomic(WithSavedResults(book, data), target, office_profile=office_profile)
-        return RunOutcome(result, target, notes, False)
+        return RunOutcome(result, target, notes, False, outputs.risk)
     try:
         save_atomic(
             WithSavedResults(book, data),
@@ -314,7 +324,7 @@ def run_to(
             f"{src.name} changed on disk while wzq ran (the results are for the version it "
             "read; run wzq again for your new version)"
         )
-    return RunOutcome(result, target, notes, False)
+    return RunOutcome(result, target, notes, False, outputs.risk)
 
 
 def run_workbook(
@@ -380,7 +390,10 @@ def type_plan(book: Workbook, plan: Plan) -> None:
         layout.DEMAND_MODE_WORDS, layout.HOURLY
     )
     for (section, key), (name, words) in _TYPED.items():
-        value = (data.get(section) or {}).get(key)
+        given = data.get(section) or {}
+        if key not in given and f"{section}.{key}" in F.WHEN_USED_KEYS:
+            continue  # not used by this plan: the template's value stands
+        value = given.get(key)
         cell = _named_cell(book, name)
         put_text(
             cell.parent,
@@ -391,7 +404,7 @@ def type_plan(book: Workbook, plan: Plan) -> None:
     d = plan.demand
     date_h, time_h, flow_h = layout.DEMAND_COLUMNS
     demand = []
-    for i, flow in enumerate(d.flows_veh_h):
+    for i, flow in enumerate(() if from_count_file(plan) else d.flows_veh_h):
         t = d.start + dt.timedelta(seconds=i * d.interval_s)
         demand.append(
             {
@@ -425,6 +438,62 @@ def type_plan(book: Workbook, plan: Plan) -> None:
             }
         )
     _table_rows(book, layout.CLOSURE_TABLE, closures)
+    if from_count_file(plan):
+        type_history(book, plan)
+    _type_approach(book, plan)
+
+
+def _type_approach(book: Workbook, plan: Plan) -> None:
+    """The landmarks into ``LandmarkTable``, and the hourly flows of ramps into
+    ``RampFlowTable``: one row per hour, one column per ramp headed by its name (the
+    table gets more columns when the template's are too few)."""
+    landmarks = plan.approach.landmarks
+    if not landmarks:
+        return
+    system = plan.site.unit_system
+    name_h, dist_h, kind_h, share_h, _ = layout.LANDMARK_COLUMNS
+    _table_rows(
+        book,
+        layout.LANDMARK_TABLE,
+        [
+            {
+                name_h: (lm.name, None),
+                dist_h: (round(m_to_long_length(lm.distance, system), 6), None),
+                kind_h: (layout.word_for(layout.LANDMARK_KIND_WORDS, lm.kind), None),
+                share_h: (None if lm.ramp_share is None else round(lm.ramp_share * 100, 9), None),
+            }
+            for lm in landmarks
+        ],
+    )
+    hourly = [lm for lm in landmarks if lm.ramp_veh_h is not None]
+    if not hourly:
+        return
+    ws = next(ws for ws in book.worksheets if layout.RAMP_FLOW_TABLE in ws.tables)
+    t = ws.tables[layout.RAMP_FLOW_TABLE]
+    c0, r0, c1, r1 = range_boundaries(t.ref)
+    first = len(layout.RAMP_FLOW_COLUMNS)
+    for k, lm in enumerate(hourly):
+        col = c0 + first + k
+        if first + k < len(t.tableColumns):
+            t.tableColumns[first + k].name = lm.name
+        else:  # one more column, looking like the one before it
+            t.tableColumns.append(TableColumn(id=len(t.tableColumns) + 1, name=lm.name))
+            ws.cell(r0, col)._style = copy(ws.cell(r0, col - 1)._style)
+            c1 = col
+        put_text(ws, r0, col, lm.name)
+    t.ref = f"{get_column_letter(c0)}{r0}:{get_column_letter(c1)}{r1}"
+    date_h, time_h = layout.RAMP_FLOW_COLUMNS
+    start = plan.demand.start
+    rows = []
+    for h in range(len(hourly[0].ramp_veh_h or ())):
+        t_h = start + dt.timedelta(hours=h)
+        row = {
+            date_h: (dt.datetime.combine(t_h.date(), dt.time()), layout.DATE_FORMAT),
+            time_h: (t_h.time(), layout.TIME_FORMAT),
+        }
+        row.update({lm.name: ((lm.ramp_veh_h or ())[h], "#,##0") for lm in hourly})
+        rows.append(row)
+    _table_rows(book, layout.RAMP_FLOW_TABLE, rows)
 
 
 #: File name of the demo workbook when ``wzq demo`` is given a folder.
@@ -456,7 +525,15 @@ def write_filled_workbook(
         book = load_book(blank)
         type_plan(book, plan)
         save_atomic(book, blank)
-        return run_workbook(blank, target, run_time=run_time)
+        if not from_count_file(plan):
+            return run_workbook(blank, target, run_time=run_time)
+        # the count file is named relative to the workbook: read and run it where it goes
+        shutil.copyfile(blank, target)
+        try:
+            return run_workbook(target, run_time=run_time)
+        except BaseException:
+            target.unlink(missing_ok=True)
+            raise
 
 
 #: File name of the demo workbook when ``wzq demo`` is given a folder.

@@ -54,6 +54,7 @@ from typing import BinaryIO
 from openpyxl.utils.cell import column_index_from_string, get_column_letter
 
 from wzq.engine.plan import PlanError, Problem
+from wzq.io.workbook import layout as L
 
 __all__ = [
     "LIMITS",
@@ -745,6 +746,41 @@ def sheet_parts(zf: zipfile.ZipFile) -> dict[str, str]:
     return out
 
 
+_MARKER = re.compile(
+    rb"<" + _PREFIX + rb"definedName\s[^>]*name=[\"']" + L.MARKER_NAME.encode() + rb"[\"'][^>]*>"
+    rb"([^<]*)<"
+)
+
+
+def output_sheet_parts(zf: zipfile.ZipFile) -> set[str]:
+    """The worksheet parts of wzq's own output sheets, as the marker names them.
+
+    Commands that replace these sheets, or never read them, neither inflate nor
+    parse these parts (:mod:`wzq.io.workbook.reader.skip` skips exactly this set).
+    Only a part that is a package entry, the target of one sheet alone, and named
+    by no other relationship part is in it; an odd package gives an empty set,
+    and then every part is checked and parsed as usual.
+    """
+    workbook = read_small_part(zf, "xl/workbook.xml") or b""
+    marker = [m for m in _MARKER.finditer(workbook) if b"localSheetId" not in m.group(0)]
+    if len(marker) != 1:
+        return set()
+    text = html.unescape(marker[0].group(1).decode("utf-8", "replace")).strip().strip('"')
+    ours = set(text.split(L.MARKER_SEPARATOR)) & set(L.OUTPUT_SHEETS)
+    parts = sheet_parts(zf)
+    entries = set(zf.namelist())
+    targets = [part for part in parts if part in entries]
+    out = {part for part in targets if parts[part] in ours}
+    if len(_SHEET_ENTRY.findall(workbook)) != len(parts):
+        return set()  # two sheets on one part, or a sheet without one: no shortcut
+    for rels in (n for n in entries if n.endswith(".rels") and n != "xl/_rels/workbook.xml.rels"):
+        text_rels = read_small_part(zf, rels)
+        if text_rels is None:
+            return set()
+        out = {p for p in out if p.rsplit("/", 1)[-1].encode() not in text_rels}
+    return out
+
+
 _OVERRIDE = re.compile(rb"<" + _PREFIX + rb"Override\s[^>]*>")
 _SHARED_STRINGS_TYPE = "spreadsheetml.sharedStrings+xml"
 
@@ -760,8 +796,12 @@ def shared_string_parts(zf: zipfile.ZipFile) -> set[str]:
     return out
 
 
-def _inspect_zip(zf: zipfile.ZipFile, name: str, limits: Limits) -> PackageReport:
+def _inspect_zip(
+    zf: zipfile.ZipFile, name: str, limits: Limits, skip_outputs: bool = False
+) -> PackageReport:
     directory = _check_directory(zf, name, limits)
+    # wzq's output sheets, when they are never parsed, are never inflated either
+    unread = output_sheet_parts(zf) if skip_outputs else set()
     budget = Budget(name, limits, sheet_parts(zf))
     budget.shared_string_parts = shared_string_parts(zf)
     report = budget.report
@@ -771,7 +811,7 @@ def _inspect_zip(zf: zipfile.ZipFile, name: str, limits: Limits) -> PackageRepor
             budget.check_shared_string_size(zf.getinfo(part).file_size)
     left = limits.max_uncompressed_bytes
     for i in zf.infolist():
-        if i.is_dir():
+        if i.is_dir() or i.filename in unread:
             continue
         scan = _scan_part(zf, i, budget, left, _markers_for(i.filename))
         left -= i.file_size
@@ -839,9 +879,11 @@ def _open_package(source: Path | io.BytesIO, name: str, limits: Limits):
         ) from None
 
 
-def _inspect(source: Path | io.BytesIO, name: str, limits: Limits) -> PackageReport:
+def _inspect(
+    source: Path | io.BytesIO, name: str, limits: Limits, skip_outputs: bool = False
+) -> PackageReport:
     with _open_package(source, name, limits) as zf:
-        return _inspect_zip(zf, name, limits)
+        return _inspect_zip(zf, name, limits, skip_outputs)
 
 
 def _stat_and_head(path: Path) -> tuple[int, bytes]:
@@ -888,18 +930,30 @@ def read_part_checked(
 
 
 def inspect_bytes(
-    data: bytes, name: str, suffix: str = ".xlsx", limits: Limits = LIMITS
+    data: bytes,
+    name: str,
+    suffix: str = ".xlsx",
+    limits: Limits = LIMITS,
+    *,
+    skip_outputs: bool = False,
 ) -> PackageReport:
-    """:func:`inspect_file` for a workbook already in memory (``name`` is used in messages)."""
+    """:func:`inspect_file` for a workbook already in memory (``name`` is used in messages);
+    ``skip_outputs``: as :func:`read_checked`."""
     _check_head(name, len(data), data[:8], suffix.lower(), limits)
-    return _inspect(io.BytesIO(data), name, limits)
+    return _inspect(io.BytesIO(data), name, limits, skip_outputs)
 
 
-def read_checked(path: str | Path, limits: Limits = LIMITS) -> tuple[bytes, PackageReport]:
+def read_checked(
+    path: str | Path, limits: Limits = LIMITS, *, skip_outputs: bool = False
+) -> tuple[bytes, PackageReport]:
     """The bytes of a workbook file, inspected; parse these bytes, not the file again.
 
     The size is checked before the file is read, so a huge file is never
-    loaded; the XML guard is checked too (:func:`require_defusedxml`).
+    loaded; the XML guard is checked too (:func:`require_defusedxml`). With
+    ``skip_outputs`` the worksheet parts of wzq's own output sheets
+    (:func:`output_sheet_parts`) are neither inflated nor counted: for callers
+    that never parse them (the plan reader and ``wzq run`` load the workbook
+    with :func:`wzq.io.workbook.reader.skip.load_skipping_outputs`).
     """
     path = Path(path)
     require_defusedxml()
@@ -909,4 +963,4 @@ def read_checked(path: str | Path, limits: Limits = LIMITS) -> tuple[bytes, Pack
         data = path.read_bytes()
     except OSError as e:
         raise _refuse(path.name, f"the file cannot be read ({e.strerror or e})") from None
-    return data, inspect_bytes(data, path.name, path.suffix, limits)
+    return data, inspect_bytes(data, path.name, path.suffix, limits, skip_outputs=skip_outputs)

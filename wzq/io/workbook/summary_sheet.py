@@ -7,12 +7,12 @@ from wzq.io.workbook import layout
 from wzq.io.workbook.writer import (
     BOLD,
     CENTRE,
-    CHECKS,
     DATE_FORMAT,
     SECTION_FONT,
     SheetWriter,
     label_rows,
     limit_texts,
+    plan_checks,
     plan_title,
     print_setup,
     title_block,
@@ -41,7 +41,7 @@ def write_summary_sheet(out: SheetWriter, result: Result) -> None:
     out.put(r, 1, "Limits", font=SECTION_FONT)
     r += 1
     limits = limit_texts(plan)
-    for col, label, _ in CHECKS:
+    for col, label, _ in plan_checks(plan):
         out.put(r, 1, label)
         out.put(r, 2, limits[col])
         r += 1

@@ -42,8 +42,11 @@ from wzq.io.workbook import layout as L
 __all__ = [
     "BUILD_TIME",
     "BUTTON_SOURCE",
+    "HISTORY_COL",
+    "HISTORY_NOTES",
     "INSTRUCTIONS",
     "LABEL_WIDTH",
+    "LIST_SOURCES",
     "MACRO_INSTRUCTION",
     "NOTE_WIDTH",
     "SAMPLE_MODULE",
@@ -72,11 +75,14 @@ NOTE_WIDTH = 62
 
 INSTRUCTIONS: tuple[str, ...] = (
     f"1. Fill in the {L.INPUT_COLOUR_WORD} cells on the sheets Site, Demand, Closures and "
-    "Limits; grey text beside a value explains it.",
+    "Limits (and Approach, for ramps and landmarks upstream); grey text beside a value "
+    "explains it.",
     "2. Choose the unit system below first. Every value is in that system; its unit is shown "
     "beside it.",
-    "3. Demand: hourly (or 15-minute) counts in the table on the Demand sheet, or an AADT "
-    "with an hourly distribution, which wzq expands into hourly demand.",
+    "3. Demand: hourly (or 15-minute) counts in the table on the Demand sheet, an AADT "
+    "with an hourly distribution, which wzq expands into hourly demand, or the site's count "
+    f"history (the {L.COUNTS} sheet or a count file), from which wzq designs the demand and "
+    "the risk of breaking the limits.",
     "4. Closures: one row each. A 'To' time at or before 'From' ends the next day; 24:00 is "
     "midnight at the end of the date.",
     "5. You may insert rows, restyle and add sheets of your own: wzq finds the inputs by "
@@ -147,9 +153,13 @@ def vba_project_bytes() -> bytes:
             return z.read(VBA_PART)
 
 
+#: The font and alignment every format of the template starts from.
+_BASE = {"font_name": "Calibri", "font_size": 11, "valign": "top"}
+
+
 def _formats(wb: xlsxwriter.Workbook) -> dict[str, Format]:
     c = L.COLOURS
-    base = {"font_name": "Calibri", "font_size": 11, "valign": "top"}
+    base = _BASE
     inp = {**base, "bg_color": c["input_fill"], "border": 1, "border_color": c["input_border"]}
     return {
         "title": wb.add_format({**base, "bold": True, "font_size": 16, "font_color": c["title"]}),
@@ -190,8 +200,14 @@ def _formats(wb: xlsxwriter.Workbook) -> dict[str, Format]:
         "in_end": wb.add_format({**inp, "num_format": L.END_TIME_FORMAT, "align": "left"}),
         "in_flow": wb.add_format({**inp, "num_format": "#,##0"}),
         "in_share": wb.add_format({**inp, "num_format": "0.0"}),
+        "in_distance": wb.add_format({**inp, "num_format": "0.00"}),
         "hour": wb.add_format({**base, "num_format": L.TIME_FORMAT, "align": "left"}),
     }
+
+
+#: Text inputs offered from a list elsewhere in the workbook (the dropdown still lets a
+#: name be typed that the list does not hold: the reader checks it).
+LIST_SOURCES: dict[str, str] = {"limit_landmark": f"={L.LANDMARK_NAMES}"}
 
 
 def _unit_cell(ws: Worksheet, row: int, col: int, field: F.Field, fmt: Format) -> None:
@@ -224,19 +240,22 @@ def _value_cell(
         ws.write_number(row, col, value, fmt)
     ref = xlsxwriter.utility.xl_rowcol_to_cell(row, col, row_abs=True, col_abs=True)
     wb.define_name(field.name, f"={ws.name}!{ref}")
-    if field.kind == "choice":
-        ws.data_validation(
-            row,
-            col,
-            row,
-            col,
-            {
-                "validate": "list",
-                "source": [w for w, _ in field.choices],
-                "error_title": "Not in the list",
-                "error_message": "Pick one of the words in the list.",
-            },
-        )
+    if field.name in LIST_SOURCES:  # text offered from a list on another sheet
+        rule = {
+            "source": LIST_SOURCES[field.name],
+            "error_type": "warning",
+            "error_message": "Type the name of a landmark on the Approach sheet.",
+        }
+    elif field.kind == "choice":
+        rule = {
+            "source": [w for w, _ in field.choices],
+            "error_message": "Pick one of the words in the list.",
+        }
+    else:
+        return
+    ws.data_validation(
+        row, col, row, col, {"validate": "list", "error_title": "Not in the list", **rule}
+    )
 
 
 def _sections(
@@ -322,11 +341,41 @@ def _start_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict, macro: bool) -
         )
 
 
-def _blank_rows(ws: Worksheet, first: int, n: int, fmts: Sequence[Format]) -> None:
+def _blank_rows(ws: Worksheet, first: int, n: int, fmts: Sequence[Format], left: int = 0) -> None:
     """Styled empty rows of a table (a table's column format covers only written cells)."""
     for r in range(first, first + n):
         for c, fm in enumerate(fmts):
-            ws.write_blank(r, c, None, fm)
+            ws.write_blank(r, left + c, None, fm)
+
+
+def _input_table(
+    ws: Worksheet,
+    top: int,
+    left: int,
+    n: int,
+    name: str,
+    headers: Sequence[str],
+    fmts: Sequence[Format],
+    header: Format,
+) -> None:
+    """An empty input table: its header row at ``top`` from column ``left``, ``n``
+    styled blank rows below it."""
+    ws.add_table(
+        top,
+        left,
+        top + n,
+        left + len(headers) - 1,
+        {
+            "name": name,
+            "style": None,
+            "autofilter": False,
+            "columns": [
+                {"header": h, "header_format": header, "format": fm}
+                for h, fm in zip(headers, fmts, strict=True)
+            ],
+        },
+    )
+    _blank_rows(ws, top + 1, n, fmts, left)
 
 
 def _demand_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
@@ -354,22 +403,7 @@ def _demand_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
     top = 7
     n = L.DEMAND_TEMPLATE_ROWS
     fmts = (f["in_date"], f["in_time"], f["in_flow"])
-    ws.add_table(
-        top,
-        0,
-        top + n,
-        2,
-        {
-            "name": L.DEMAND_TABLE,
-            "style": None,
-            "autofilter": False,
-            "columns": [
-                {"header": h, "header_format": f["header"], "format": fm}
-                for h, fm in zip(L.DEMAND_COLUMNS, fmts, strict=True)
-            ],
-        },
-    )
-    _blank_rows(ws, top + 1, n, fmts)
+    _input_table(ws, top, 0, n, L.DEMAND_TABLE, L.DEMAND_COLUMNS, fmts, f["header"])
     ws.freeze_panes(top + 1, 0)
     # from AADT
     ws.write_string(5, 4, "From AADT", f["section"])
@@ -421,6 +455,56 @@ def _demand_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
         ws.write_formula(
             total, col, f"=SUM({letter}{row + 2}:{letter}{row + 25})", f["label"], sum(shares)
         )
+    _history_block(wb, ws, f)
+
+
+#: What the count-history block on the Demand sheet says above its inputs.
+HISTORY_NOTES: tuple[str, ...] = (
+    "For each day of the plan: the counted days of the same type within the window, grown to "
+    "the plan's dates; per hour their mean or a percentile.",
+    "wzq also runs the plan on every matching counted week (each a whole demand) and reports "
+    "the chance of breaking each limit (Limits sheet: the risk options).",
+    f"The {L.COUNTS} sheet takes the counts of one direction: a date, then 24 hourly counts "
+    "(one row a day, as laid out), or a date-time and a count per row.",
+)
+
+
+#: First column (0-based) of the count-history block on the Demand sheet: right of the
+#: AADT block (anything below one of the sheet's tables would be read as part of it).
+HISTORY_COL = 9
+
+
+def _history_block(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
+    """The count-history inputs, right of the AADT block."""
+    col = HISTORY_COL
+    ws.set_column(col - 1, col - 1, 4)
+    ws.set_column(col, col, LABEL_WIDTH - 10)
+    ws.set_column(col + 1, col + 1, VALUE_WIDTH)
+    ws.set_column(col + 2, col + 2, UNIT_WIDTH - 4)
+    ws.set_column(col + 3, col + 3, NOTE_WIDTH)
+    row = 5
+    ws.write_string(row, col, "From a count history", f["section"])
+    for k in (1, 2, 3):
+        ws.write_blank(row, col + k, None, f["section"])
+    row += 1
+    for line in HISTORY_NOTES:
+        ws.write_string(row, col, line, f["note"])
+        row += 1
+    _sections(wb, ws, F.HISTORY_SECTIONS, row + 1, f, col=col)
+
+
+def _counts_sheet(ws: Worksheet, f: dict) -> None:
+    """A sheet to paste a count history into: a header row, then one day a row (wide form).
+
+    Nothing but the table goes on it (:func:`wzq.io.counts.read_table` reads every row);
+    the instructions are on the Demand sheet.
+    """
+    heads = ["Date", *(f"{h:02d}:00" for h in range(24))]
+    for col, text in enumerate(heads):
+        ws.write_string(0, col, text, f["header"])
+    ws.set_column(0, 0, 16, f["in_date"])
+    ws.set_column(1, 24, 7, f["in_flow"])
+    ws.freeze_panes(1, 1)
 
 
 def _override_label() -> str:
@@ -457,22 +541,7 @@ def _closure_sheet(ws: Worksheet, f: dict) -> None:
         f["in_flow"],
         f["in_text"],
     )
-    ws.add_table(
-        top,
-        0,
-        top + n,
-        len(L.CLOSURE_COLUMNS) - 1,
-        {
-            "name": L.CLOSURE_TABLE,
-            "style": None,
-            "autofilter": False,
-            "columns": [
-                {"header": h, "header_format": f["header"], "format": fm}
-                for h, fm in zip(L.CLOSURE_COLUMNS, fmts, strict=True)
-            ],
-        },
-    )
-    _blank_rows(ws, top + 1, n, fmts)
+    _input_table(ws, top, 0, n, L.CLOSURE_TABLE, L.CLOSURE_COLUMNS, fmts, f["header"])
     for col, words in ((4, L.BARRIER_WORDS), (5, L.NIGHT_WORDS)):
         ws.data_validation(
             top + 1,
@@ -489,6 +558,77 @@ def _closure_sheet(ws: Worksheet, f: dict) -> None:
     for col, width in enumerate((18, 9, 17, 13, 18, 12, 16, 48)):
         ws.set_column(col, col, width)
     ws.set_row(top, 30)
+    ws.freeze_panes(top + 1, 0)
+
+
+def _approach_sheet(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
+    """Landmarks upstream of the closure (``LandmarkTable``, columns A-E) and the hourly
+    flows of ramps (``RampFlowTable``, from column G): side by side, so that nothing of
+    one lies below the other (a row typed below a table is read as part of it)."""
+    ws.write_string(0, 0, "Approach", f["title"])
+    ws.write_string(
+        1,
+        0,
+        "The road upstream of the closure in this direction: landmarks the queue may reach, "
+        "and ramps that feed or drain it. Leave it empty if there are none.",
+        f["subtitle"],
+    )
+    notes = (
+        "Distance: upstream from the start of the taper. The demand on the Demand sheet is "
+        "the mainline flow upstream of every ramp; flows are on the closure's clock.",
+        "Ramp flow: the ramp's share of the mainline flow arriving at it, in % (for an exit "
+        "ramp, the share that leaves there); or blank, with its hourly flows in the table on "
+        "the right.",
+        "A queue past the end of the advance warning signing is warned about; name a landmark "
+        "under 'Queue must not pass' on the Limits sheet to make it a limit.",
+    )
+    wrap = wb.add_format({**_BASE, "italic": True, "font_color": L.COLOURS["note_text"],
+                          "text_wrap": True})  # fmt: skip
+    for k, text in enumerate(notes):
+        ws.merge_range(2 + k, 0, 2 + k, len(L.LANDMARK_COLUMNS) - 1, text, wrap)
+        ws.set_row(2 + k, 30)
+    ws.set_row(0, 24)
+    top = 6
+    ws.write_string(top - 1, 0, "Units", f["unit"])
+    dist = F.Field("", "", "number", "long")
+    _unit_cell(ws, top - 1, 1, dist, f["unit"])
+    ws.write_string(top - 1, 3, "%", f["unit"])
+    n = L.LANDMARK_TEMPLATE_ROWS
+    fmts = (f["in_text"], f["in_distance"], f["in_choice"], f["in_share"], f["in_text"])
+    _input_table(ws, top, 0, n, L.LANDMARK_TABLE, L.LANDMARK_COLUMNS, fmts, f["header"])
+    ws.data_validation(
+        top + 1,
+        2,
+        top + n,
+        2,
+        {
+            "validate": "list",
+            "source": [w for w, _ in L.LANDMARK_KIND_WORDS],
+            "error_title": "Not in the list",
+            "error_message": "Pick one of the words in the list.",
+        },
+    )
+    first = xlsxwriter.utility.xl_rowcol_to_cell(top + 1, 0, row_abs=True, col_abs=True)
+    last = xlsxwriter.utility.xl_rowcol_to_cell(top + n, 0, row_abs=True, col_abs=True)
+    wb.define_name(L.LANDMARK_NAMES, f"={ws.name}!{first}:{last}")
+    # hourly ramp flows, to the right
+    left = len(L.LANDMARK_COLUMNS) + 1
+    ws.write_string(top - 2, left, "Hourly ramp flows (veh/h)", f["section"])
+    for k in range(1, 2 + len(L.RAMP_FLOW_PLACEHOLDERS)):
+        ws.write_blank(top - 2, left + k, None, f["section"])
+    ws.write_string(
+        top - 1,
+        left,
+        "One row per hour of the demand; rename a column header to the ramp's name.",
+        f["note"],
+    )
+    rows = L.RAMP_FLOW_TEMPLATE_ROWS
+    heads = (*L.RAMP_FLOW_COLUMNS, *L.RAMP_FLOW_PLACEHOLDERS)
+    flow_fmts = (f["in_date"], f["in_time"], *([f["in_flow"]] * len(L.RAMP_FLOW_PLACEHOLDERS)))
+    _input_table(ws, top, left, rows, L.RAMP_FLOW_TABLE, heads, flow_fmts, f["header"])
+    for col, width in enumerate((30, 16, 28, 14, 30, 3, 18, 10, 14, 14, 14, 14)):
+        ws.set_column(col, col, width)
+    ws.set_row(top, 45)
     ws.freeze_panes(top + 1, 0)
 
 
@@ -531,6 +671,7 @@ def build_template(path: Path, *, macro: bool) -> None:
     _sections(wb, sheets[L.SITE], F.SITE_SECTIONS, row, f)
     _demand_sheet(wb, sheets[L.DEMAND], f)
     _closure_sheet(sheets[L.CLOSURES], f)
+    _counts_sheet(sheets[L.COUNTS], f)
     row = _field_sheet_header(
         sheets[L.LIMITS],
         "Limits",
@@ -538,6 +679,7 @@ def build_template(path: Path, *, macro: bool) -> None:
         f,
     )
     _sections(wb, sheets[L.LIMITS], F.LIMITS_SECTIONS, row, f)
+    _approach_sheet(wb, sheets[L.APPROACH], f)
     for ws in sheets.values():
         ws.set_landscape()
         ws.fit_to_pages(1, 0)

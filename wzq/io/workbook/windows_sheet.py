@@ -245,13 +245,7 @@ def write_windows_sheet(
     for col in range(1, n_cols + 1):
         ws.cell(row=4, column=col).fill = CAUTION_FILL
     put_text(ws, 5, 1, "Limits: " + limits_text(plan))
-    put_text(
-        ws,
-        6,
-        1,
-        "A closure is allowed only if every hour of the run passes, the queue left "
-        "behind after it ends included; all lanes are open outside the closure.",
-    ).font = NOTE_FONT
+    put_text(ws, 6, 1, result.rule).font = NOTE_FONT
     put_text(
         ws, 7, 1, "Road-user cost in " + rc.cost_basis(costs, plan.site.heavy_vehicle_share)
     ).font = NOTE_FONT

@@ -56,6 +56,7 @@ __all__ = [
     "HEADER_FILL",
     "HEADER_FONT",
     "ITALIC",
+    "LANDMARK_CHECK",
     "LEFT",
     "NARROW_CHAR",
     "NUMBER_FORMATS",
@@ -89,6 +90,7 @@ __all__ = [
     "listed_hours",
     "number_looks",
     "number_width",
+    "plan_checks",
     "plan_title",
     "print_setup",
     "put_text",
@@ -273,10 +275,22 @@ CHECKS = [
 ]
 
 
+#: The landmark limit's check (column, header, short name), only when a landmark is set.
+LANDMARK_CHECK = ("landmark_ok", "Queue must not pass", "Not past")
+
+
+def plan_checks(plan: Plan) -> list[tuple[str, str, str]]:
+    """The checks a plan's outputs list: :data:`CHECKS`, and the landmark limit when set."""
+    if plan.thresholds.queue_must_not_pass is None:
+        return list(CHECKS)
+    return [*CHECKS, LANDMARK_CHECK]
+
+
 def limit_texts(plan: Plan) -> dict[str, str]:
-    """Each threshold in the plan's units as text (``none`` when switched off)."""
+    """Each threshold in the plan's units as text (``none`` when switched off); the
+    landmark limit only when set."""
     shown = limit_values(plan)
-    return {k: shown.get(k, "none") for k in ("queue_ok", "delay_ok", "demand_capacity_ok")}
+    return {k: shown.get(k, "none") for k, _, _ in plan_checks(plan)}
 
 
 def values(result: Result, columns: Iterable[Column]) -> list[list[float | int | None]]:
@@ -351,12 +365,16 @@ class SheetWriter:
 
     def header(self, row: int, headers: Sequence[str], height: float | None = 45.0) -> None:
         for j, text in enumerate(headers, start=1):
-            self.put(
-                row, j, text, fill=HEADER_FILL, font=HEADER_FONT,
-                alignment=HEADER_ALIGN, border=HEADER_BORDER,
-            )  # fmt: skip
+            self.header_cell(row, j, text)
         if height:
             self.ws.row_dimensions[row].height = height
+
+    def header_cell(self, row: int, col: int, text: str | None) -> Cell:
+        """One cell of a table's header row, in the header's look."""
+        return self.put(
+            row, col, text, fill=HEADER_FILL, font=HEADER_FONT,
+            alignment=HEADER_ALIGN, border=HEADER_BORDER,
+        )  # fmt: skip
 
     def title(self, text: str, row: int = 1) -> None:
         self.put(row, 1, text, font=TITLE_FONT)

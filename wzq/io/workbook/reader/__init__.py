@@ -17,7 +17,8 @@ Demand "from AADT" is expanded into hourly demand by :mod:`wzq.models.demand`.
 
 The reader is split by concern: cells and values (:mod:`.cells`), tables
 (:mod:`.tables`), the demand (:mod:`.demand`), the closures (:mod:`.closures`) and
-the plan as a whole, assembled from the schema of inputs (:mod:`.plan`);
+the approach road (:mod:`.approach`) and the plan as a whole, assembled from the
+schema of inputs (:mod:`.plan`);
 :class:`BookReader` joins them.
 """
 
@@ -35,10 +36,13 @@ from openpyxl.workbook.workbook import Workbook
 from wzq.engine.plan import Plan, PlanError, Problem
 from wzq.io.workbook import formula_values as FV
 from wzq.io.workbook.cellref import cell_ref
+from wzq.io.workbook.reader.approach import ApproachReader
 from wzq.io.workbook.reader.cells import CellReader
 from wzq.io.workbook.reader.closures import ClosureReader
 from wzq.io.workbook.reader.demand import DemandReader
+from wzq.io.workbook.reader.history import HistoryReader
 from wzq.io.workbook.reader.plan import PlanReader
+from wzq.io.workbook.reader.skip import load_skipping_outputs
 from wzq.io.workbook.reader.tables import TableReader
 from wzq.io.workbook.reader.values import WORKBOOK_SUFFIXES
 from wzq.io.workbook.safety import read_checked
@@ -51,6 +55,7 @@ __all__ = [
     "cell_ref",
     "load_book",
     "read_plan",
+    "read_plan_and_book",
     "read_plan_from_book",
     "read_workbook_bytes",
 ]
@@ -63,36 +68,47 @@ def read_plan(path: str | Path) -> Plan:
     The file is only read, and only once: the bytes that were inspected are the
     bytes that are parsed.
     """
+    return read_plan_and_book(path)[0]
+
+
+def read_plan_and_book(path: str | Path) -> tuple[Plan, Workbook]:
+    """:func:`read_plan`, and the workbook it was read from (output sheets unparsed)."""
     path = Path(path)
-    data = read_workbook_bytes(path)
-    wb = book_from_bytes(data, path)
-    return read_plan_from_book(wb, path.name, path, data=data)
+    data = read_workbook_bytes(path, skip_outputs=True)
+    wb = book_from_bytes(data, path, skip_outputs=True)  # wzq's output sheets are not read
+    return read_plan_from_book(wb, path.name, path, data=data), wb
 
 
-def read_workbook_bytes(path: Path) -> bytes:
+def read_workbook_bytes(path: Path, *, skip_outputs: bool = False) -> bytes:
     """The file's bytes after the pre-parse checks (:func:`wzq.io.workbook.safety.read_checked`:
-    empty, not a workbook, old ``.xls``, encrypted, zip bombs, cell limit, XML entities)."""
+    empty, not a workbook, old ``.xls``, encrypted, zip bombs, cell limit, XML entities);
+    ``skip_outputs`` leaves out wzq's output sheets, which must then not be parsed."""
     if path.suffix.lower() not in WORKBOOK_SUFFIXES and not path.is_dir():
         raise PlanError(
             f"'{path.suffix}' files are not read; save the workbook as .xlsx or .xlsm",
             where=path.name,
         )
-    data, _ = read_checked(path)
+    data, _ = read_checked(path, skip_outputs=skip_outputs)
     return data
 
 
-def book_from_bytes(data: bytes, path: Path, **options: Any) -> Workbook:
+def book_from_bytes(
+    data: bytes, path: Path, *, skip_outputs: bool = False, **options: Any
+) -> Workbook:
     """Parse checked workbook bytes with openpyxl; every way it can fail is a :class:`PlanError`.
 
     ``options`` go to :func:`openpyxl.load_workbook` (``keep_vba`` defaults to
-    whether ``path`` is an ``.xlsm``).
+    whether ``path`` is an ``.xlsm``). With ``skip_outputs`` the sheets wzq wrote
+    are left unparsed, empty stand-ins in their place (:mod:`.skip`): for reading a
+    plan, and for a run, which replaces them.
     """
     options.setdefault("keep_vba", path.suffix.lower() == ".xlsm")
     where = path.name
+    load = load_skipping_outputs if skip_outputs else load_workbook
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")  # openpyxl warns about extensions it drops on read
-            return load_workbook(io.BytesIO(data), **options)
+            return load(io.BytesIO(data), **options)
     except DefusedXmlException:
         raise PlanError(
             "a part of this workbook declares XML entities, which workbooks never need; refused",
@@ -141,29 +157,53 @@ def load_book(path: Path) -> Workbook:
 
 
 def read_plan_from_book(
-    wb: Workbook, source: str, path: Path | None = None, *, data: bytes | None = None
+    wb: Workbook,
+    source: str,
+    path: Path | None = None,
+    *,
+    data: bytes | None = None,
+    folder: Path | None = None,
 ) -> Plan:
     """Read and validate the plan in an already loaded openpyxl workbook.
 
     ``source`` names the workbook in messages about the file as a whole;
     ``data`` (the file's bytes) or else ``path`` (the file) is needed only to
     read the saved result of a formula typed in an input cell (loaded lazily,
-    once).
+    once). ``folder`` (default: ``path``'s) is where a count file named on the
+    Demand sheet is looked for.
     """
-    return BookReader(wb, source, path, data).plan()
+    return BookReader(wb, source, path, data, folder=folder).plan()
 
 
-class BookReader(PlanReader, DemandReader, ClosureReader, TableReader, CellReader):
+class BookReader(
+    PlanReader,
+    ApproachReader,
+    DemandReader,
+    HistoryReader,
+    ClosureReader,
+    TableReader,
+    CellReader,
+):
     """Pulls typed values out of the workbook, collecting every problem; its parts
-    read by concern (cells and values, tables, demand, closures, the plan)."""
+    read by concern (cells and values, tables, demand, the count history, closures,
+    the plan)."""
 
     def __init__(
-        self, wb: Workbook, source: str, path: Path | None, data: bytes | None = None
+        self,
+        wb: Workbook,
+        source: str,
+        path: Path | None,
+        data: bytes | None = None,
+        *,
+        folder: Path | None = None,
     ) -> None:
         self.wb = wb
         self.source = source
         self.path = path
         self.data = data
+        self.folder = folder if folder is not None else (path.parent if path else None)
+        self._history: Any = None  # the count history of the demand, when it is one
+        self._history_sheet: Any = None  # the sheet of this workbook it was read from
         self.epoch = wb.epoch
         self.problems: list[Problem] = []
         self.system: str | None = None  # None: unknown (unit-dependent ranges not checked)
@@ -174,6 +214,7 @@ class BookReader(PlanReader, DemandReader, ClosureReader, TableReader, CellReade
         self._demand_rows: list[str] = []  # cell of each demand interval, in plan order
         self._closure_rows: list[str] = []  # cell of each closure, in plan order
         self._closure_notes: list[str] = []  # Note cell of each closure, in plan order
+        self._landmark_cells: list[dict[str, str]] = []  # cells of each landmark, in plan order
         self.warnings: list[str] = []  # what the user should know; said with every result
         self._precedents: FV.Precedents | None = None
         self._saved: dict[str, dict[tuple[int, int], FV.Saved]] = {}

@@ -46,39 +46,54 @@ class DemandReader:
         if mode is _MISSING:
             return None
         self.unused_demand(mode)
+        self.unused_history(mode)
         if mode == L.AADT:
             return self.demand_from_aadt()
+        if mode == L.HISTORY:
+            return self.demand_from_history()
         return self.demand_from_counts(lanes)
 
     def unused_demand(self, mode: str) -> None:
         """Warn when the demand input that the mode leaves unused is filled in."""
         switch = self.where_of.get(F.DEMAND_MODE.name, F.DEMAND_MODE.name)
         word = L.word_for(L.DEMAND_MODE_WORDS, mode)
+        if mode == L.HISTORY:  # the counts table and the AADT inputs are both unused
+            self.unused_table(switch, word, L.word_for(L.DEMAND_MODE_WORDS, L.HOURLY))
+            self.unused_aadt(switch, word, L.word_for(L.DEMAND_MODE_WORDS, L.AADT))
+            return
         other = L.word_for(L.DEMAND_MODE_WORDS, L.HOURLY if mode == L.AADT else L.AADT)
         if mode == L.AADT:
-            table = self.find_table(L.DEMAND_TABLE)
-            if table is None:
-                return
-            ws, ref = table
-            try:
-                c0, r0, c1, r1 = range_boundaries(str(ref))
-            except (ValueError, TypeError):
-                return
-            if None in (c0, r0, c1, r1):  # not a block of cells: its problem is said if used
-                return
-            filled = sorted(
-                r
-                for (r, c), cell in ws._cells.items()
-                if r0 < r <= r1 and c0 <= c <= c1 and not _blank(cell.value)
-            )
-            if filled:
-                self.note(
-                    cell_ref(ws.title, filled[0], c0),
-                    f"the table {L.DEMAND_TABLE} holds counts, but 'Demand is given as' "
-                    f"({switch}) is '{word}', so they are not used; clear them, or choose "
-                    f"'{other}'",
-                )
+            self.unused_table(switch, word, other)
             return
+        self.unused_aadt(switch, word, other)
+
+    def unused_table(self, switch: str, word: str, other: str) -> None:
+        """Warn when the counts table holds counts the demand mode leaves unused."""
+        table = self.find_table(L.DEMAND_TABLE)
+        if table is None:
+            return
+        ws, ref = table
+        try:
+            c0, r0, c1, r1 = range_boundaries(str(ref))
+        except (ValueError, TypeError):
+            return
+        if None in (c0, r0, c1, r1):  # not a block of cells: its problem is said if used
+            return
+        filled = sorted(
+            r
+            for (r, c), cell in ws._cells.items()
+            if r0 < r <= r1 and c0 <= c <= c1 and not _blank(cell.value)
+        )
+        if filled:
+            self.note(
+                cell_ref(ws.title, filled[0], c0),
+                f"the table {L.DEMAND_TABLE} holds counts, but 'Demand is given as' "
+                f"({switch}) is '{word}', so they are not used; clear them, or choose "
+                f"'{other}'",
+            )
+
+    def unused_aadt(self, switch: str, word: str, other: str) -> None:
+        """Warn when the AADT inputs are filled in but the demand mode leaves them unused."""
         for f in (F.AADT_FIELDS[0], F.AADT_FIELDS[4]):  # the AADT and the first day
             loc = self.peek(f.name)
             if loc is not None and not _blank(getattr(loc[0]._cells.get(loc[1:]), "value", None)):

@@ -58,13 +58,19 @@ class PlanReader:
             for f in (*F.META_FIELDS, *site_fields, *F.THRESHOLD_FIELDS, *F.OPTION_FIELDS)
         }
         self.check_speeds(values)
+        self.check_congested_branch(values)
         self.check_sheet_names()
         costs = self.costs()
         demand = self.demand(values.get("site_lanes"))
+        risk = self.risk_options(self._history is not None)
         closures = self.closures(values.get("site_lanes"), demand)
+        approach = self.approach(demand)
+        self.match_limit(values, approach)
         if self.problems:
             raise PlanError(self.explain_below(self.problems))
         plan_kw = self.assemble(values, costs, demand, closures)
+        plan_kw["approach"] = approach
+        plan_kw.update(history=self._history, risk=risk)
         try:
             return Plan(**plan_kw, input_warnings=tuple(self.warnings), locations=self.locations())
         except PlanError as e:
@@ -120,6 +126,7 @@ class PlanReader:
         for i, (row, note) in enumerate(zip(self._closure_rows, self._closure_notes, strict=False)):
             out[f"closures[{i}]"] = row
             out[f"closures[{i}].note"] = note
+        out.update(self.approach_locations())
         return out
 
     def check_speeds(self, v: dict[str, Any]) -> None:
@@ -209,6 +216,9 @@ class PlanReader:
             i = int(m.group(2))
             if i < len(cells):
                 return cells[i]
+        landmark = self.approach_cell(key)
+        if landmark is not None:
+            return landmark
         if key.startswith("demand") and self._demand_rows:
             return self._demand_rows[0]
         return f"{self.source}: {key}"

@@ -99,8 +99,10 @@ class TableReader:
             columns,
         )
 
-    def rows(self, t: _Table) -> list[_Row]:
+    def rows(self, t: _Table, headers: tuple[str, ...] | None = None) -> list[_Row]:
         """The table's non-blank rows (blank rows are skipped), and the rows typed below it.
+
+        ``headers``: the columns read (default: the table's own, :data:`layout.TABLE_COLUMNS`).
 
         A row typed anywhere below the table, in its columns, is read as part of it
         with a warning (the table did not grow when it was typed: a gap row, or a
@@ -110,7 +112,7 @@ class TableReader:
         a warning: they are not read.
         """
         out = []
-        headers = L.TABLE_COLUMNS[t.name]
+        headers = L.TABLE_COLUMNS[t.name] if headers is None else headers
         cols = {t.col(h) for h in headers}
         # only rows that hold a cell in one of the read columns: a table stretched to the
         # sheet's last row costs no more than the cells in it

@@ -7,6 +7,7 @@ from __future__ import annotations
 import datetime as dt
 import re
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Any
 
 from openpyxl.worksheet.worksheet import Worksheet
@@ -86,6 +87,7 @@ def _blank(v: Any) -> bool:
     return v is None or (isinstance(v, str) and not v.strip())
 
 
+@lru_cache(maxsize=1024)  # headers are looked up once per cell of a table
 def _norm(text: str) -> str:
     return " ".join(str(text).split()).casefold()
 

@@ -1,0 +1,260 @@
+"""Tests for wzq.engine.risk_windows: closure windows allowed at a chosen risk.
+
+A closure ``[s, e)`` is allowed at risk ``p`` when the share of equally likely
+scenarios in which some hour of its run breaks a limit is at most ``p``. Checked
+
+1. by hand: five counted Wednesdays, three of them with a demand at 10:00 that one
+   open lane cannot carry (demand/capacity limit 1.0): every closure over 10:00
+   fails in 3 weeks of 5, every other in none;
+2. against the plain count: for every candidate, the number of scenarios whose own
+   deterministic search (:func:`wzq.engine.windows.plan_windows`, on that week's
+   demand) does not allow it, on hand-built weeks with queue and delay limits;
+3. with capacity draws: a candidate is allowed exactly when
+   :func:`wzq.engine.risk.assess` of the plan with that one closure gives a share
+   of scenarios over a limit at most ``p``.
+
+The hand site (as in tests/engine/test_risk.py): two lanes, free-flow speed 25 m/s,
+jam density 0.125 veh/m/ln, base capacity 2,000 pc/h/ln, no heavy vehicles, no
+capacity drop; one day planned, Wednesday 2027-05-05, from counts of the five
+weeks from Monday 2026-05-04.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import datetime as dt
+import io
+import json
+import math
+from contextlib import redirect_stderr, redirect_stdout
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import wzq
+from wzq.cli import main
+from wzq.engine import risk as R
+from wzq.engine import windows as W
+from wzq.engine.design_demand import CountHistory, DemandHistory, DemandRule
+from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, RiskOptions, Site, Thresholds
+from wzq.engine.risk_windows import closure_windows, risk_windows, window_scenarios
+from wzq.io.jsonplan import load_plan, plan_to_dict
+
+V_F = 25.0
+WEDNESDAY = dt.datetime(2027, 5, 5)
+FIRST_COUNTED = dt.date(2026, 5, 4)  # a Monday
+
+
+def hand_site() -> Site:
+    return Site(
+        lanes=2,
+        speed_limit=V_F,
+        work_zone_speed_limit=V_F,
+        work_zone_length=0.0,
+        free_flow_speed=V_F,
+        heavy_vehicle_share=0.0,
+        jam_density=0.125,
+        base_capacity_pc_h_ln=2000.0,
+        capacity_drop_pct_open=0.0,
+        name="Kestrel Ridge Parkway (fictional)",
+    )
+
+
+def wednesday_plan(wednesdays: np.ndarray, thresholds: Thresholds, **kw) -> Plan:
+    """A one-day plan (Wednesday) designed from five counted weeks whose Wednesdays are
+    ``wednesdays`` (5 x 24 veh/h) and every other day 500 veh/h."""
+    flows = np.full((35, 24), 500.0)
+    flows[2::7] = wednesdays
+    counts = CountHistory(FIRST_COUNTED, 3600, flows)
+    return Plan(
+        hand_site(),
+        Demand(WEDNESDAY, 3600, wednesdays.mean(axis=0)),
+        (),
+        thresholds,
+        options=Options(capacity_drop=False, queue_length_method="shockwave"),
+        history=DemandHistory(counts, DemandRule()),
+        **kw,
+    )
+
+
+def one_lane_capacity(plan: Plan) -> float:
+    """The model's capacity with one of two lanes closed (the engine's own value)."""
+    closure = Closure(WEDNESDAY, WEDNESDAY + dt.timedelta(hours=1), 1)
+    h = wzq.analyse(dataclasses.replace(plan, closures=(closure,))).hourly
+    return float(h["capacity_veh_h"].iloc[0])
+
+
+UPPER = np.triu(np.ones((24, 25), dtype=bool), 1)
+
+
+def test_hand_count_of_weeks_a_closure_over_ten_breaks_the_demand_capacity_limit() -> None:
+    wednesdays = np.full((5, 24), 500.0)
+    wednesdays[[1, 3, 4], 10] = 3000.0  # weeks 2, 4 and 5
+    plan = wednesday_plan(wednesdays, Thresholds(max_demand_capacity=1.0))
+    # the premise: one open lane carries far more than 500 and far less than 3,000 veh/h
+    # (a freeway lane carries at most about 2,400 pc/h: HCM 7th ed., ch. 12; from memory)
+    assert 500 < one_lane_capacity(plan) < 3000
+    s, e = np.indices((24, 25))
+    over_ten = UPPER & (s <= 10) & (e >= 11)
+    for level, allowed in ((0.0, UPPER & ~over_ten), (0.4, UPPER & ~over_ten), (0.6, UPPER)):
+        found = risk_windows(plan, level, [1])
+        assert found.scenarios == 5
+        (ws,) = found.windows.sets
+        np.testing.assert_array_equal(ws.allowed, allowed, err_msg=f"level {level}")
+        assert f"at most {100 * level:g} %" in found.windows.rule
+    # the counts kept per candidate: 3 failing weeks over ten o'clock, none elsewhere
+    fails = risk_windows(plan, 0.99, [1]).failing[0]
+    assert (fails[over_ten] == 3).all() and (fails[UPPER & ~over_ten] == 0).all()
+
+
+def plain_failing_counts(plan: Plan, wednesdays: np.ndarray) -> np.ndarray:
+    """Per candidate, the weeks whose own deterministic search does not allow it."""
+    count = np.zeros((24, 25), dtype=int)
+    for week in wednesdays:
+        one = dataclasses.replace(plan, demand=Demand(WEDNESDAY, 3600, week), history=None)
+        (ws,) = W.plan_windows(one, [1], exhaustive=True).sets
+        count += UPPER & ~ws.allowed
+    return count
+
+
+@pytest.mark.parametrize("exhaustive", [False, True])
+def test_allowed_at_risk_equals_the_plain_count_of_failing_weeks(exhaustive: bool) -> None:
+    rng = np.random.default_rng(19)
+    weeks = np.array([0.85, 1.0, 1.08, 1.15, 1.25])  # peak demand over the one-lane capacity
+    base = np.array([300, 250, 200, 200, 300, 600, 1200, 1800, 1900, 1600, 1400, 1350])
+    base = np.concatenate([base, base[::-1] * 1.1])  # a two-peak day, veh/h
+    plan0 = wednesday_plan(np.tile(base, (5, 1)), Thresholds())
+    c = one_lane_capacity(plan0)
+    # each week's day scaled around the one-lane capacity, so weeks differ in which
+    # closures pass; queue and delay limits as an agency would set them
+    wednesdays = base[None, :] / base.max() * c * weeks[:, None]
+    wednesdays *= rng.uniform(0.95, 1.05, size=(5, 24))
+    limits = Thresholds(max_queue_length=1500.0, max_average_delay=10 * 60.0)
+    plan = wednesday_plan(wednesdays, limits)
+    plain = plain_failing_counts(plan, wednesdays)
+    assert len(np.unique(plain[UPPER])) >= 3  # the weeks do disagree
+    for level in (0.0, 0.2, 0.4, 0.6, 0.8):
+        (ws,) = risk_windows(plan, level, [1], exhaustive=exhaustive).windows.sets
+        expected = UPPER & (plain <= math.floor(level * 5 + 1e-9))
+        np.testing.assert_array_equal(ws.allowed, expected, err_msg=f"level {level}")
+
+
+def test_with_capacity_draws_allowed_exactly_when_assess_says_so() -> None:
+    base = np.array([400.0] * 6 + [1300.0] * 12 + [400.0] * 6)
+    plan0 = wednesday_plan(np.tile(base, (5, 1)), Thresholds())
+    c = one_lane_capacity(plan0)
+    wednesdays = np.tile(base, (5, 1))
+    wednesdays[:, 6:18] = c * np.array([0.9, 1.0, 1.05, 1.1, 0.97])[:, None]
+    options = RiskOptions(capacity_cv=0.08, draws=60, seed=4)
+    plan = wednesday_plan(wednesdays, Thresholds(max_queue_length=800.0), risk=options)
+    scenarios = window_scenarios(plan)
+    assert len(scenarios) == 60 and scenarios.capacity_factor.shape == (60, 1)
+    level = 0.25
+    (ws,) = risk_windows(plan, level, [1], scenarios=scenarios).windows.sets
+    decided = {True: 0, False: 0}
+    for s, e in [(6, 8), (6, 10), (8, 12), (10, 14), (12, 18), (6, 18), (20, 24), (2, 7)]:
+        start = WEDNESDAY + dt.timedelta(hours=s)
+        closure = Closure(start, WEDNESDAY + dt.timedelta(hours=e), 1)
+        p = R.assess(dataclasses.replace(plan, closures=(closure,)), scenarios).summary.p_any_hour
+        assert ws.allowed[s, e] == (p <= level), (s, e, p)
+        decided[bool(ws.allowed[s, e])] += 1
+    assert decided[True] and decided[False]  # both outcomes are exercised
+
+
+def test_a_level_is_needed_and_checked() -> None:
+    plan = wednesday_plan(np.full((5, 24), 500.0), Thresholds(max_demand_capacity=1.0))
+    for bad in (None, 1.0, -0.1, float("nan")):
+        with pytest.raises(PlanError) as e:
+            risk_windows(plan, bad, [1])
+        assert e.value.problems[0].where == "risk.window_risk_percent"
+
+
+# ---------------------------------------------------------------------------------------------
+# The JSON plan's risk block and `wzq windows --risk`
+# ---------------------------------------------------------------------------------------------
+
+
+def run_cli(*argv: str) -> tuple[int, str, str]:
+    out, err = io.StringIO(), io.StringIO()
+    with redirect_stdout(out), redirect_stderr(err):
+        code = main(list(argv))
+    return code, out.getvalue(), err.getvalue()
+
+
+def hand_json(tmp_path: Path, window_risk_percent: float | None) -> Path:
+    """The hand count of the first test as a JSON plan with its counts in a CSV file."""
+    wednesdays = np.full((5, 24), 500.0)
+    wednesdays[[1, 3, 4], 10] = 3000.0
+    plan = wednesday_plan(wednesdays, Thresholds(max_demand_capacity=1.0))
+    flows = plan.history.counts.flows_veh_h
+    lines = ["date," + ",".join(f"h{h}" for h in range(24))]
+    for k, day in enumerate(flows):
+        lines.append(f"{FIRST_COUNTED + dt.timedelta(days=k)}," + ",".join(f"{x:g}" for x in day))
+    (tmp_path / "counts.csv").write_text("\n".join(lines) + "\n")
+    data = plan_to_dict(dataclasses.replace(plan, history=None))
+    data["demand"] = {
+        "start": "2027-05-05T00:00",
+        "hours": 24,
+        "history": {"file": "counts.csv", "day_types": "by-name"},
+    }
+    data["risk"] = {"window_risk_percent": window_risk_percent}
+    path = tmp_path / "plan.json"
+    path.write_text(json.dumps(data))
+    return path
+
+
+def wednesday_row(out: str) -> str:
+    line = next(x for x in out.splitlines() if x.strip().startswith("Wed 2027-05-05"))
+    return line.split("Wed 2027-05-05", 1)[1].strip()
+
+
+def test_the_json_window_risk_and_the_windows_command(tmp_path: Path) -> None:
+    path = hand_json(tmp_path, 40)
+    plan = load_plan(path)
+    assert plan.risk.window_risk == pytest.approx(0.4)
+    assert plan_to_dict(plan)["risk"]["window_risk_percent"] == pytest.approx(40)
+    # at 40 %: no closure may cover 10:00 (3 failing weeks of 5); every other hour may be closed
+    code, out, _ = run_cli("windows", str(path), "--lanes-closed", "1")
+    assert code == 0, out
+    assert "at most 40 %" in out and "5 equally likely scenarios" in out
+    assert wednesday_row(out) == "#" * 10 + "." + "#" * 13
+    # --risk overrides the plan's level: at 60 % the 3 failing weeks of 5 are accepted
+    code, out, _ = run_cli("windows", str(path), "--lanes-closed", "1", "--risk", "60")
+    assert code == 0 and wednesday_row(out) == "#" * 24
+    code, _, err = run_cli("windows", str(path), "--risk", "100")
+    assert code == 2 and "--risk" in err
+    bad = json.loads(path.read_text())
+    bad["risk"]["window_risk_percent"] = "ten"
+    path.write_text(json.dumps(bad))
+    with pytest.raises(PlanError, match=r"risk\.window_risk_percent"):
+        load_plan(path)
+
+
+def test_a_plan_the_risk_is_not_assessed_for_gets_the_design_windows_with_the_reason(
+    tmp_path: Path,
+) -> None:
+    # a congested branch set by its wave speed: the scenarios are not solved for it yet,
+    # so the windows are those of the design demand, with a note; the workbook, the
+    # report and the bulk summary still show everything else
+    from wzq.io.batch.summary import plan_row
+    from wzq.io.report import build_report
+    from wzq.io.workbook.outputs import decide_outputs
+
+    wednesdays = np.full((5, 24), 500.0)
+    wednesdays[[1, 3, 4], 10] = 3000.0
+    plan = wednesday_plan(wednesdays, Thresholds(max_demand_capacity=1.0))
+    site = dataclasses.replace(plan.site, congested_branch="wave-speed", wave_speed=6.0)
+    plan = dataclasses.replace(plan, site=site, risk=RiskOptions(window_risk=0.4))
+    found = closure_windows(plan, [1])
+    assert found.rule == W.ALL_HOURS_RULE
+    assert any("not at a risk" in n and "congested branch" in n for n in found.notes)
+    (ws,) = found.sets
+    design = W.plan_windows(plan, [1])
+    np.testing.assert_array_equal(ws.allowed, design.sets[0].allowed)
+    result = wzq.analyse(plan)
+    out = decide_outputs(result, windows=False, space_time=False)
+    assert out.risk is None
+    assert any("risk of breaking the limits is not shown" in w for w in out.result.warnings)
+    assert plan_row("p.json", result).risk_any_percent is None
+    assert build_report(result, vector=False)[:4] == b"%PDF"
