@@ -469,6 +469,14 @@ def test_tables_for_the_report() -> None:
         "shoulder closed, 2 lanes open",
         "1 of 2 lanes closed",
     ]
+    # the longest windows of every configuration, or of the one asked for
+    assert set(W.longest_windows(both)["configuration"]) == {
+        "shoulder closed, 2 lanes open",
+        "1 of 2 lanes closed",
+    }
+    one = W.longest_windows(both, configuration="1 of 2 lanes closed")
+    assert set(one["configuration"]) == {"1 of 2 lanes closed"}
+    assert one["hours"].tolist() == [12.0, 7.0, 5.0]  # 19:00-07:00, 00:00-07:00, 19:00-24:00
     longest = W.longest_windows(result, top=2)
     assert longest["hours"].tolist() == [12.0, 7.0]
     assert longest["start"].tolist()[0] == dt.datetime(2027, 5, 3, 19)
