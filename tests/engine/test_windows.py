@@ -583,7 +583,8 @@ def test_a_window_away_from_the_open_roads_own_queue_adds_no_delay() -> None:
     # 1,000 veh/h below the closure's 1,600 adds no queue of its own and leaves the noon
     # queue as it was, so its added delay is zero, not the open road's delay again.
     day = [1000.0] * 7 + [2500.0] * 5 + [4500.0] + [2500.0] * 6 + [1000.0] * 5
-    # a queue-length limit the open road's own queue passes (5,333 m) and a closure in
+    # a queue-length limit the open road's own queue passes (5.3 km as the engine finds it;
+    # only a precondition here) and a closure in
     # the 2,500 veh/h hours does not (900 more vehicles an hour)
     plan = Plan(peak_plan().site, hourly(day * 2), thresholds=Thresholds(max_queue_length=5500.0))
     assert wzq.analyse(plan).summary.total_delay_veh_h > 100.0
