@@ -8,6 +8,9 @@ separately and left out of the second score.
 
     python3 scripts/mutation_report.py            # table per module
     python3 scripts/mutation_report.py --survivors  # and every surviving mutant's name
+    python3 scripts/mutation_report.py --pending wzq/engine/site.py ...
+        # only the names of the mutants not yet tried in those modules, one a line, for
+        # `mutmut run NAME...` (a run that names mutants tries exactly those)
 """
 
 from __future__ import annotations
@@ -39,7 +42,19 @@ def results(root: Path = ROOT / "mutants") -> dict[str, dict[str, int | None]]:
     return out
 
 
+def pending(modules: list[str]) -> int:
+    """Print the names of the mutants of ``modules`` that no run has tried yet."""
+    data = results()
+    for module in modules:
+        for name, code in data.get(module, {}).items():
+            if code is None:
+                print(name)
+    return 0
+
+
 def main() -> int:
+    if sys.argv[1:2] == ["--pending"]:
+        return pending(sys.argv[2:])
     equivalent = equivalent_names()
     data = results()
     if not data:

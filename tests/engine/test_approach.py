@@ -28,6 +28,7 @@ import datetime as dt
 import io
 import json
 from contextlib import redirect_stdout
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -39,6 +40,7 @@ from wzq.engine import lwr
 from wzq.engine.plan import (
     Approach,
     Closure,
+    Costs,
     Demand,
     Landmark,
     Options,
@@ -50,6 +52,7 @@ from wzq.engine.plan import (
 from wzq.io.jsonplan import plan_from_dict, plan_to_dict
 from wzq.models.flow import Trapezoidal
 from wzq.present.show import terminal_header
+from wzq.present.tables import exit_ramp_display, landmark_display
 from wzq.units import HOUR, MILE, MPH
 
 START = dt.datetime(2027, 5, 3)  # invented
@@ -367,8 +370,94 @@ def test_queue_past_an_exit_ramp_that_holds_the_closure_traffic_back() -> None:
         hourly["exit_ramp_delay_veh_h"], [0, *np.array(exit_hours) / HOUR, 0, 0], rtol=1e-9
     )
     assert result.exit_ramps.loc[0, "max_wait_min"] == pytest.approx(24.375, rel=1e-9)
+    # the total: the closure's queue, plus the exiting traffic held (no work-zone length);
+    # at 20 per person-hour, 1.5 persons per car and no trucks, 30 per vehicle-hour
+    total = (400 * 0.5 + (400 + 800) * 0.5 + queue_h3 / HOUR) + sum(exit_hours) / HOUR
+    assert result.summary.total_delay_veh_h == pytest.approx(total, rel=1e-9)
+    priced = wzq.analyse(replace(closure_plan(2000.0, ramp, 1200.0), costs=Costs(20.0, 1.5, 50.0)))
+    assert priced.summary.total_cost == pytest.approx(30.0 * total, rel=1e-9)
+    np.testing.assert_allclose(
+        priced.hourly["road_user_cost"],
+        30.0 * (hourly["queue_delay_veh_h"] + hourly["exit_ramp_delay_veh_h"]),
+        rtol=1e-9,
+    )
     assert any("exit ramp 'Bell St off-ramp'" in w for w in result.warnings)
     del v
+
+
+def test_the_finer_grid_of_a_held_back_queue_keeps_each_hours_own_values() -> None:
+    """The exit-ramp case above (the ramp holds the closure's traffic back, so the queue
+    is found on a finer grid), with the last hour's mainline demand halved: every
+    per-interval value must follow the finer grid back to its own hour.
+
+    By hand: the closure receives 80 % of the mainline (2,000 -> 1,600 veh/h; the last
+    hour 1,000 -> 800); the open road carries 2 x 2,000 = 4,000 veh/h and discharges
+    93 % of it, 3,720; the closure (01:00-03:00) 1,200 veh/h both. The back of the
+    queue at the end of each hour follows the construction of the test above: it
+    reaches the ramp at t1 and moves on at ``u1`` until 10,800 s, and is longest (b_m)
+    at t_m, in the fourth hour; none in the last two.
+    """
+    t1 = 3600.0 + 1000.0 / -shock(1600, k_free(1600), 1200, k_queued(1200))
+    u1 = -shock(2000, k_free(2000), 1500, k_queued(1500))
+    t_r = 10800.0 + 1000.0 / W
+    b_r = 1000.0 + u1 * (t_r - t1)
+    t_m = t_r + (b_r - 1000.0) / (W - u1)
+    b_m = 1000.0 + W * (t_m - t_r)
+    ramp = Landmark("Bell St off-ramp", 1000.0, "exit-ramp", ramp_share=0.2)
+    closure = Closure(START + dt.timedelta(hours=1), START + dt.timedelta(hours=3), 1,
+                      capacity_override_veh_h_ln=1200.0)  # fmt: skip
+    demand = Demand(START, 3600, np.array([2000.0] * 5 + [1000.0]))
+    result = wzq.analyse(Plan(site(), demand, (closure,), approach=Approach((ramp,))))
+    h = result.hourly
+    assert list(h["lanes_open"]) == [2, 1, 1, 2, 2, 2]
+    assert list(h["closure"]) == [False, True, True, False, False, False]
+    np.testing.assert_allclose(h["demand_veh_h"], [1600, 1600, 1600, 1600, 1600, 800])
+    np.testing.assert_allclose(h["capacity_veh_h"], [4000, 1200, 1200, 4000, 4000, 4000])
+    np.testing.assert_allclose(h["discharge_veh_h"], [3720, 1200, 1200, 3720, 3720, 3720])
+    np.testing.assert_allclose(
+        h["queue_length_max_m"],
+        [0, 1000 + u1 * (7200 - t1), 1000 + u1 * (10800 - t1), b_m, 0, 0],
+        rtol=1e-9, atol=1e-6,
+    )  # fmt: skip
+    # the long queue (b_m = 7,500 m = 4.66 mi, at t_m = 12,187.5 s = 03:23) is warned of
+    # with the run's warnings, the ramp's with the approach's; no section of this approach
+    # is over the road's capacity upstream
+    assert b_m / 1609.344 == pytest.approx(4.66, abs=0.005)
+    assert any("queue reaches 4.7 mi upstream" in w and "03:23" in w for w in result.warnings)
+    assert any("exit ramp 'Bell St off-ramp'" in w for w in result.warnings)
+    assert not any("arrivals or discharge exceeded" in w for w in result.warnings)
+    # and interval by interval on the finer grid
+    iv = result.intervals
+    hour = ((iv["start"] - START).dt.total_seconds() // 3600).to_numpy()
+    closed = (hour >= 1) & (hour < 3)
+    np.testing.assert_allclose(iv["demand_veh_h"], np.where(hour == 5, 800.0, 1600.0))
+    np.testing.assert_allclose(iv["capacity_veh_h"], np.where(closed, 1200.0, 4000.0))
+    np.testing.assert_allclose(iv["discharge_veh_h"], np.where(closed, 1200.0, 3720.0))
+    assert list(iv["lanes_open"]) == list(np.where(closed, 1, 2))
+
+
+def test_the_window_search_finds_the_held_back_queue_by_hand() -> None:
+    """The window search on the exit-ramp case above: a closure from 01:00 to 03:00
+    makes a queue of b_m = 7,500 m at most (the construction of
+    ``test_queue_past_an_exit_ramp_that_holds_the_closure_traffic_back``), so it
+    passes a 7,600 m limit and fails a 7,400 m one."""
+    from wzq.engine import windows as wins
+
+    t1 = 3600.0 + 1000.0 / -shock(1600, k_free(1600), 1200, k_queued(1200))
+    u1 = -shock(2000, k_free(2000), 1500, k_queued(1500))
+    t_r = 10800.0 + 1000.0 / W
+    b_r = 1000.0 + u1 * (t_r - t1)
+    b_m = 1000.0 + W * ((b_r - 1000.0) / (W - u1))
+    assert b_m == pytest.approx(7500.0, rel=1e-9)
+    ramp = Landmark("Bell St off-ramp", 1000.0, "exit-ramp", ramp_share=0.2)
+    demand = Demand(START, 3600, np.full(6, 2000.0))
+    config = wins.Configuration(1, capacity_override_veh_h_ln=1200.0)
+    for limit, allowed in ((b_m + 100.0, True), (b_m - 100.0, False)):
+        ws = wins.find_windows(
+            site(), demand, Thresholds(max_queue_length=limit), [config],
+            approach=Approach((ramp,)),
+        )  # fmt: skip
+        assert bool(ws.sets[0].allowed[1, 3]) is allowed
 
 
 # --------------------------------------------------------------------------- landmarks
@@ -423,6 +512,57 @@ def test_landmark_results_by_hand_with_the_single_state_relation() -> None:
     assert table.loc[0, "hours_beyond"] == 2
     assert result.landmark_hours["Heron Creek bridge"].tolist() == [False, True, True, False]
     assert not any("warning signing" in w for w in result.warnings)
+
+
+def test_the_landmark_and_exit_ramp_tables_as_printed() -> None:
+    """The printed tables, worked from the SI results (hand-checked in the tests above)
+    with 1 mi = 1,609.344 m, 1 km = 1,000 m, rounding half up."""
+    plan = one_busy_hour(
+        Landmark("Heron Creek bridge", 1000.0, "structure"),
+        Landmark("end of signs", 8000.0, "warning-signs-end"),
+    )
+    result = wzq.analyse(plan)
+    lm = result.landmarks
+    shown = landmark_display(result).to_dict("list")
+    assert shown["Landmark"] == ["Heron Creek bridge", "end of signs"]
+    assert shown["Kind"] == ["bridge or structure", "end of advance warning signing"]
+    assert shown["Upstream (mi)"] == [0.62, 4.97]  # 1,000 and 8,000 m
+    # first reached 01:09:45 (Mon 3 May 2027), minutes cut
+    assert lm.loc[0, "first_reached"] == START + dt.timedelta(hours=1, minutes=9, seconds=45)
+    assert shown["Queue first reaches it"] == ["Mon 2027-05-03 01:09", "never"]
+    assert lm.loc[0, "time_beyond_h"] == pytest.approx(1.0533, abs=1e-4)
+    assert shown["Time beyond it (h)"] == [1.05, 0.0]
+    assert lm.loc[0, "max_beyond_m"] / 1609.344 == pytest.approx(3.2024, abs=1e-4)
+    assert shown["Farthest beyond (mi)"] == [3.2, 0.0]
+    assert shown["Hours beyond"] == [2, 0]
+
+    ramp = Landmark("Bell St off-ramp", 1000.0, "exit-ramp", ramp_share=0.2)
+    result = wzq.analyse(closure_plan(2000.0, ramp, 1200.0))
+    ex = result.exit_ramps
+    shown = exit_ramp_display(result).iloc[0]
+    assert shown["Exit ramp"] == "Bell St off-ramp"
+    assert shown["Upstream (mi)"] == 0.62
+    assert ex.loc[0, "delay_veh_h"] == pytest.approx(165.04, abs=0.005)
+    assert shown["Delay of exiting traffic (veh-h)"] == 165.0
+    assert ex.loc[0, "max_wait_min"] == 24.375
+    assert shown["Longest extra wait (min)"] == 24.4
+    metric = replace(closure_plan(2000.0, ramp, 1200.0), site=site(unit_system="metric"))
+    assert exit_ramp_display(wzq.analyse(metric)).iloc[0]["Upstream (km)"] == 1.0
+    # the single-state relation gives no single vehicle's wait: a dash
+    single = replace(
+        closure_plan(2000.0, ramp, 1200.0), options=Options(queue_length_method="shockwave")
+    )
+    assert exit_ramp_display(wzq.analyse(single)).iloc[0]["Longest extra wait (min)"] == "-"
+
+
+def test_a_queue_that_just_reaches_the_landmark_does_not_pass_it() -> None:
+    # the hand case above: the longest queue is 900 / 0.14625 = 6,153.85 m, at 02:00;
+    # with the landmark exactly there (to rounding) the limit holds, 1 m nearer it fails
+    s1 = 2 * (k_queued(1500) - k_free(2400))
+    for at, ok in ((900.0 / s1, True), (900.0 / s1 - 1.0, False)):
+        plan = one_busy_hour(Landmark("gantry", at, "structure"), limit="gantry")
+        status = wzq.analyse(plan).hourly["status"]
+        assert bool((status == "ok").all()) is ok
 
 
 def test_queue_past_the_end_of_the_warning_signs_warns() -> None:

@@ -461,6 +461,22 @@ def test_tables_for_the_report() -> None:
     assert table.loc[0, "06"] and not table.loc[0, "07"] and table.loc[0, "19"]
     counts = W.days_allowed_by_hour(result)
     assert counts["1 of 2 lanes closed"].tolist() == [2] * 7 + [0] * 12 + [2] * 5
+    assert counts.index.name == "hour" and list(counts.index) == list(range(24))
+    assert all(str(t) == "int64" for t in counts.dtypes)  # whole days, printed as counts
+    # one column per configuration, in the order they were searched (not alphabetical)
+    both = W.find_windows(plan.site, plan.demand, plan.thresholds, [0, 1])
+    assert list(W.days_allowed_by_hour(both).columns) == [
+        "shoulder closed, 2 lanes open",
+        "1 of 2 lanes closed",
+    ]
+    # the longest windows of every configuration, or of the one asked for
+    assert set(W.longest_windows(both)["configuration"]) == {
+        "shoulder closed, 2 lanes open",
+        "1 of 2 lanes closed",
+    }
+    one = W.longest_windows(both, configuration="1 of 2 lanes closed")
+    assert set(one["configuration"]) == {"1 of 2 lanes closed"}
+    assert one["hours"].tolist() == [12.0, 7.0, 5.0]  # 19:00-07:00, 00:00-07:00, 19:00-24:00
     longest = W.longest_windows(result, top=2)
     assert longest["hours"].tolist() == [12.0, 7.0]
     assert longest["start"].tolist()[0] == dt.datetime(2027, 5, 3, 19)
@@ -559,3 +575,19 @@ def test_cli_bad_input_exits_2_and_leaves_the_file_alone(
 def test_cli_missing_file_exits_2(tmp_path: Path) -> None:
     code, _, err = run_cli("windows", str(tmp_path / "nope.json"))
     assert code == 2 and "no such file" in err
+
+
+def test_a_window_away_from_the_open_roads_own_queue_adds_no_delay() -> None:
+    # The daily-peak profile with one hour of 4,500 veh/h at noon, over the open road's
+    # 4,000 veh/h: a queue stands there with no closure at all. A night closure on
+    # 1,000 veh/h below the closure's 1,600 adds no queue of its own and leaves the noon
+    # queue as it was, so its added delay is zero, not the open road's delay again.
+    day = [1000.0] * 7 + [2500.0] * 5 + [4500.0] + [2500.0] * 6 + [1000.0] * 5
+    # a queue-length limit the open road's own queue passes (5.3 km as the engine finds it;
+    # only a precondition here) and a closure in
+    # the 2,500 veh/h hours does not (900 more vehicles an hour)
+    plan = Plan(peak_plan().site, hourly(day * 2), thresholds=Thresholds(max_queue_length=5500.0))
+    assert wzq.analyse(plan).summary.total_delay_veh_h > 100.0
+    longest = W.longest_windows(W.plan_windows(plan), top=2)
+    assert longest["start"].tolist()[0] == dt.datetime(2027, 5, 3, 19)
+    assert longest["added_delay_veh_h"].abs().max() < 1e-9
