@@ -18,11 +18,6 @@ from wzq.models.queueing import solve, waits
 H = 3600.0
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="known bug: waits() reads the departure curve as straight across an interval "
-    "in which the queue clears; the hour's longest wait and the summary's are overstated",
-)
 def test_the_wait_of_a_vehicle_arriving_as_the_queue_starts_to_clear() -> None:
     # 2,400 veh/h against 1,500 for an hour: 900 vehicles wait at 1 h. Then 600 veh/h
     # arrive and 4,000 leave: the vehicle arriving at 1 h (the 2,400th) leaves when

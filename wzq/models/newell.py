@@ -98,7 +98,7 @@ from typing import Literal
 import numpy as np
 
 from wzq.models.flow import PIECEWISE_LINEAR, FundamentalDiagram
-from wzq.models.queueing import QueueRun
+from wzq.models.queueing import QueueRun, _clearing_knots, curves
 from wzq.units import HOUR
 
 __all__ = [
@@ -442,33 +442,6 @@ def _trajectory(
 
 
 # --------------------------------------------------------------------------- public API
-
-
-def curves(queue: QueueRun) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Exact knots ``(t, A, D)`` of the point-queue cumulative curves.
-
-    :class:`~wzq.models.queueing.QueueRun` gives ``A`` and ``D`` at interval
-    boundaries. ``A`` is linear within each interval, but ``D`` has a kink where
-    a queue clears inside an interval (discharge rate before, arrival rate
-    after); those instants are added as knots so that linear interpolation
-    between the returned knots is exact.
-    """
-    t, a, d = queue.t, queue.arrivals_cum, queue.departures_cum
-    k, tc, ac = _clearing_knots(queue, queue.touched)
-    if len(k) == 0:
-        return t.copy(), a.copy(), d.copy()
-    return np.insert(t, k + 1, tc), np.insert(a, k + 1, ac), np.insert(d, k + 1, ac)
-
-
-def _clearing_knots(queue: QueueRun, k: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Of the intervals ``k``, those in which a queue clears strictly inside,
-    with the clearing instant and the count then (``A = D`` at that instant)."""
-    t = queue.t
-    k = k[(queue.queue[k] > 0) & (queue.queue[k + 1] == 0) & (queue.busy[k] < t[k + 1] - t[k])]
-    tc = t[k] + queue.busy[k]
-    ac = queue.arrivals_cum[k] + queue.arrival_rate[k] * queue.busy[k]
-    inside = (tc > t[k]) & (tc < t[k + 1])
-    return k[inside], tc[inside], ac[inside]
 
 
 def counts(

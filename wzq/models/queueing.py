@@ -28,6 +28,7 @@ import numpy as np
 __all__ = [
     "EMPTY",
     "QueueRun",
+    "curves",
     "queue_at_boundaries",
     "solve",
     "waits",
@@ -236,12 +237,41 @@ def _inverse(cum: np.ndarray, t: np.ndarray, y: np.ndarray) -> np.ndarray:
     return t[j - 1] + np.minimum(np.maximum(frac, 0.0), 1.0) * (t[j] - t[j - 1])
 
 
+def curves(queue: QueueRun) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Exact knots ``(t, A, D)`` of the point-queue cumulative curves.
+
+    :class:`~wzq.models.queueing.QueueRun` gives ``A`` and ``D`` at interval
+    boundaries. ``A`` is linear within each interval, but ``D`` has a kink where
+    a queue clears inside an interval (discharge rate before, arrival rate
+    after); those instants are added as knots so that linear interpolation
+    between the returned knots is exact.
+    """
+    t, a, d = queue.t, queue.arrivals_cum, queue.departures_cum
+    k, tc, ac = _clearing_knots(queue, queue.touched)
+    if len(k) == 0:
+        return t.copy(), a.copy(), d.copy()
+    return np.insert(t, k + 1, tc), np.insert(a, k + 1, ac), np.insert(d, k + 1, ac)
+
+
+def _clearing_knots(queue: QueueRun, k: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Of the intervals ``k``, those in which a queue clears strictly inside,
+    with the clearing instant and the count then (``A = D`` at that instant)."""
+    t = queue.t
+    k = k[(queue.queue[k] > 0) & (queue.queue[k + 1] == 0) & (queue.busy[k] < t[k + 1] - t[k])]
+    tc = t[k] + queue.busy[k]
+    ac = queue.arrivals_cum[k] + queue.arrival_rate[k] * queue.busy[k]
+    inside = (tc > t[k]) & (tc < t[k + 1])
+    return k[inside], tc[inside], ac[inside]
+
+
 def waits(run: QueueRun) -> tuple[np.ndarray, np.ndarray]:
     """Arrival instants and the exact first-in-first-out wait of a vehicle arriving then.
 
     The wait ``w(t) = D^-1(A(t)) - t`` is piecewise linear between the arrival
-    curve's breaks and the instants at which ``A`` reaches a break of ``D``, so
-    its maximum over any period is found among these candidates.
+    curve's breaks and the instants at which ``A`` reaches a break of ``D`` (the
+    interval boundaries and the instants a queue clears inside an interval, where
+    ``D`` turns from the discharge rate to the arrival rate), so its maximum over
+    any period is found among these candidates.
     """
     a, d, t = run.arrivals_cum, run.departures_cum, run.t
     busy = np.flatnonzero(run.busy > 0)
@@ -252,8 +282,12 @@ def waits(run: QueueRun) -> tuple[np.ndarray, np.ndarray]:
     mark[busy] = True
     mark[busy + 1] = True
     ends = np.flatnonzero(mark)
-    cand = np.concatenate((t[ends], _inverse(a, t, d[ends])))
+    # the departure curve has a corner where a queue clears inside an interval; a
+    # vehicle arriving then (A = D there) is a candidate too
+    td, _ad, dd = curves(run)
+    _k, tc, _ac = _clearing_knots(run, run.touched)
+    cand = np.concatenate((t[ends], _inverse(a, t, d[ends]), tc))
     cand.sort()
     level = np.interp(cand, t, a)
-    w = _inverse(d, t, level) - cand
+    w = _inverse(dd, td, level) - cand
     return cand, np.maximum(w, 0.0)

@@ -13,7 +13,11 @@ change here is the report of the plan with a count history
 fan chart, hours and method), so every later page number moves; and again when
 the Closure windows sheet of a run without the search became one wrapped note
 with its own print area (it printed across two pages, cut mid-word): that sheet's
-print area is the one change:
+print area is the one change; and again when the longest wait in the queue was
+fixed (the departure curve's corner where a queue clears inside an interval had
+been read as a straight line): the longest wait of the hour in which each queue
+clears drops (for example Ashgrove hour 49 from 21.04 to 10.84 min), and with it
+the per-hour tables, sheets and report pages that print it; nothing else:
 
     python3 tests/data/golden/make_golden.py
 
