@@ -40,7 +40,22 @@ def pytest_report_header(config) -> str:
 
 
 def pytest_sessionstart(session) -> None:
+    import tempfile
+
     from wzq.engine import site
 
+    # wzq's caches (the report's parsed fonts) go to a folder of this test session, not
+    # to the user's own cache folder; tests of the cache set their own
+    if "WZQ_CACHE_DIR" not in os.environ:
+        session.config.wzq_cache = tempfile.mkdtemp(prefix="wzq-test-cache-")
+        os.environ["WZQ_CACHE_DIR"] = session.config.wzq_cache
     site.site_model.cache_clear()
     site.configuration.cache_clear()
+
+
+def pytest_sessionfinish(session) -> None:
+    import shutil
+
+    own = getattr(session.config, "wzq_cache", None)
+    if own:
+        shutil.rmtree(own, ignore_errors=True)
