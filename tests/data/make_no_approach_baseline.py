@@ -3,7 +3,9 @@
 Run once on the code *before* the approach road (ramps, landmarks, set
 congested branch) was added -- commit 8b36fdc of the main branch (recorded first
 on e80a16c, again when the approach road was merged after the reader, output and
-risk changes) -- to record what every result was then:
+risk changes; and its hourly longest wait replaced, nothing else, when the
+wait's reading of a queue that clears inside an interval was fixed) -- to record
+what every result was then:
 
     python3 tests/data/make_no_approach_baseline.py
 

@@ -4,7 +4,8 @@
 examples and variants of them (every branch of the queue-length step, 15-minute
 demand, no capacity drop, the window search and the space-time simulation),
 computed by ``tests/data/make_no_approach_baseline.py`` on the main branch
-before the approach road was added (commit 8b36fdc). The engine must give the
+before the approach road was added (commit 8b36fdc; the hourly longest wait
+replaced since by the fixed wait's values). The engine must give the
 same numbers now: bit for bit (the comparison below is exact equality of the
 floats as JSON keeps them, which round-trip exactly).
 """
