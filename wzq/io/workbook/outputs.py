@@ -37,11 +37,13 @@ from wzq.io.workbook.summary_sheet import write_summary_sheet
 from wzq.io.workbook.windows_cache import cached_plan_windows
 from wzq.io.workbook.windows_sheet import write_windows_sheet
 from wzq.io.workbook.writer import (
+    CELL_PADDING,
     CHARTS,
     PERMIT,
     RESULTS,
     RUN_LOG,
     SUMMARY,
+    TEXT_CHAR,
     SheetWriter,
     Styler,
     TableRef,
@@ -51,6 +53,7 @@ from wzq.io.workbook.writer import (
     replace_sheets,
     select,
     utc_now,
+    wrapped_lines,
 )
 
 __all__ = ["Outputs", "decide_outputs", "write_outputs", "write_results"]
@@ -94,9 +97,11 @@ def decide_outputs(
 def _note(ws: Worksheet, text: str) -> None:
     """A sheet that holds only a note: wrapped in one wide cell, so it prints on one page
     (a long line in a narrow cell spills over the next columns and splits across pages)."""
+    width = 75
     put_text(ws, 1, 1, text).alignment = Alignment(wrap_text=True, vertical="top")
-    ws.column_dimensions["A"].width = 75
-    ws.row_dimensions[1].height = 15 * (1 + len(text) // 65)  # points, about 65 characters a line
+    ws.column_dimensions["A"].width = width
+    lines = wrapped_lines(text, (width - CELL_PADDING) / TEXT_CHAR)
+    ws.row_dimensions[1].height = 15 * len(lines)  # points a line, the default font's
     ws.print_area = "A1:A1"
 
 
