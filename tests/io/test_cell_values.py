@@ -1,0 +1,559 @@
+"""Cells into numbers: how the reader converts what a user typed, and what it says when it
+cannot, always naming the sheet and cell.
+
+Fast on purpose (each test loads a small filled template from memory and reads it, a few
+hundredths of a second), so that the quick run and the mutation run (docs/mutation.md)
+check the reader's value paths directly, not only the slow end-to-end file
+``test_nothing_silently_wrong.py``. Every expected message is written out here from the
+rule it states (the input's label, its range in the file's unit, the value as the user
+typed it); the expected values come from the spreadsheet's own date system (day 1 is
+1900-01-01, serial = days since 1899-12-30 for dates after February 1900: ECMA-376
+Part 1, 18.17.4.1) or are worked by hand.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import io
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+import openpyxl
+import pytest
+from workbook_helpers import fill_template, named_cell, set_named, table_cell
+
+from wzq.engine.plan import Plan, PlanError
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout as L
+from wzq.io.workbook.reader import read_plan_from_book
+
+KESTREL = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.json"
+CLOSURES = L.CLOSURE_TABLE
+
+
+def serial(d: dt.date) -> int:
+    """The 1900 date system's serial number of a date after 1900-02-28 (ECMA-376 18.17.4.1)."""
+    return (d - dt.date(1899, 12, 30)).days
+
+
+@pytest.fixture(scope="module")
+def kestrel(tmp_path_factory: pytest.TempPathFactory) -> bytes:
+    """The Kestrel Ridge example (US units, three lanes, first closure Mon 2027-05-03
+    21:00 to 05:00 on row 6 of the closure table) typed into a fresh template."""
+    path = fill_template(load_plan(KESTREL), tmp_path_factory.mktemp("cells") / "k.xlsx")
+    return path.read_bytes()
+
+
+def read(data: bytes, edit: Callable[[Any], Any]) -> Plan | dict[str, str]:
+    """The plan read after ``edit(wb)``, or its problems as {cell: message}."""
+    wb = openpyxl.load_workbook(io.BytesIO(data))
+    edit(wb)
+    try:
+        return read_plan_from_book(wb, "k.xlsx")
+    except PlanError as e:
+        return {p.where: p.message for p in e.problems}
+
+
+def problem(data: bytes, edit: Callable[[Any], Any], where: str) -> str:
+    out = read(data, edit)
+    assert isinstance(out, dict), "the edit was read without a problem"
+    assert where in out, out
+    return out[where]
+
+
+def named(name: str, value: Any, number_format: str | None = None) -> Callable[[Any], None]:
+    def edit(wb: Any) -> None:
+        cell = set_named(wb, name, value)
+        if number_format is not None:
+            cell.number_format = number_format
+
+    return edit
+
+
+def closure(header: str, value: Any, index: int = 0) -> Callable[[Any], None]:
+    def edit(wb: Any) -> None:
+        table_cell(wb, CLOSURES, index, header).value = value
+
+    return edit
+
+
+# -- numbers --------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("value", "message"),
+    [
+        (True, "Speed limit holds TRUE, not a number; type a number"),
+        (False, "Speed limit holds FALSE, not a number; type a number"),
+        (float("inf"), "Speed limit is not a finite number; type a number"),
+        (float("nan"), "Speed limit is not a finite number; type a number"),
+        (
+            dt.datetime(2027, 5, 3, 8, 30),
+            "Speed limit holds a date or time (2027-05-03 08:30), not a number; set the "
+            "cell's format to General or Number and type the number",
+        ),
+        (
+            dt.time(8, 30),
+            "Speed limit holds a date or time (08:30:00), not a number; set the "
+            "cell's format to General or Number and type the number",
+        ),
+        (
+            "65 mph",
+            "Speed limit: '65 mph' is text, not a number; type only the number, without its unit",
+        ),
+        (
+            " 1,065 ",
+            "Speed limit: '1,065' is stored as text; type only the number, without its unit",
+        ),
+        (None, "Speed limit is blank; type a number (mi/h)"),
+        ("   ", "Speed limit is blank; type a number (mi/h)"),
+    ],
+)
+def test_a_cell_that_is_not_a_number_is_named_with_what_it_holds(
+    kestrel: bytes, value: Any, message: str
+) -> None:
+    assert problem(kestrel, named("site_speed_limit", value), "Site!B9") == message
+
+
+@pytest.mark.parametrize(
+    ("name", "value", "where", "message"),
+    [
+        # bounds (10, 90) mi/h in US units; the ends allowed
+        ("site_speed_limit", 95, "Site!B9", "Speed limit must be 10 to 90 mi/h (got 95)"),
+        ("site_speed_limit", 9.5, "Site!B9", "Speed limit must be 10 to 90 mi/h (got 9.5)"),
+        ("site_speed_limit", -5, "Site!B9", "Speed limit cannot be negative (got -5)"),
+        # a unit that is not a length or a speed: shown, but no unit to check
+        ("site_lanes", 9, "Site!B8", "Lanes in normal operation must be 1 to 8 lanes (got 9)"),
+        # a year: no unit shown; thousands separated
+        ("cost_dollar_year", 1949, None, "Price year must be 1,950 to 2,100 (got 1,949)"),
+        # an end left out of the range (open_hi): 20 % itself refused
+        (
+            "site_capacity_drop_work_zone",
+            20,
+            "Site!B24",
+            "Capacity drop at breakdown, work zone must be 0 to below 20 % (got 20)",
+        ),
+        # open at the low end (open_lo): 0 refused, and a ratio has no unit shown
+        (
+            "limit_demand_capacity",
+            0,
+            None,
+            "Highest allowed demand / capacity must be above 0 to 5 (got 0)",
+        ),
+    ],
+)
+def test_a_number_out_of_range_gives_the_range_in_the_files_units(
+    kestrel: bytes, name: str, value: float, where: str | None, message: str
+) -> None:
+    out = read(kestrel, named(name, value))
+    assert isinstance(out, dict)
+    cell = None
+    wb = openpyxl.load_workbook(io.BytesIO(kestrel))
+    c = named_cell(wb, name)
+    cell = f"{c.parent.title}!{c.coordinate}"
+    if where is not None:
+        assert cell == where
+    check = "check the value and its unit" if name == "site_speed_limit" else "check the value"
+    assert out[cell] == f"{message}; {check}"
+
+
+@pytest.mark.parametrize(
+    ("name", "value", "attribute", "expected"),
+    [
+        ("site_speed_limit", 90, "speed_limit_mph", 90.0),  # the upper end is allowed
+        ("site_speed_limit", 10, "speed_limit_mph", 10.0),  # and the lower end
+        ("site_capacity_drop_work_zone", 19.5, "capacity_drop_pct_work_zone", 19.5),
+        ("site_capacity_drop_work_zone", 0, "capacity_drop_pct_work_zone", 0.0),
+        ("site_lanes", 3.0, "lanes", 3),  # a whole number stored as a float
+    ],
+)
+def test_a_number_at_the_end_of_its_range_is_read(
+    kestrel: bytes, name: str, value: float, attribute: str, expected: float
+) -> None:
+    def edit(wb: Any) -> None:
+        named(name, value)(wb)
+        if name == "site_speed_limit":  # the work-zone limit may not be above it
+            set_named(wb, "site_work_zone_speed_limit", value)
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    if attribute == "speed_limit_mph":  # in m/s: 1 mi/h = 0.44704 m/s exactly (NIST SP 811)
+        assert plan.site.speed_limit == pytest.approx(expected * 0.44704, rel=1e-12)
+    else:
+        got = getattr(plan.site, attribute)
+        assert got == expected and type(got) is type(expected)
+
+
+def test_a_whole_number_input_refuses_a_fraction(kestrel: bytes) -> None:
+    message = problem(kestrel, named("site_lanes", 2.5), "Site!B8")
+    assert message == "Lanes in normal operation must be a whole number, got 2.5"
+
+
+def test_a_number_shown_with_thousands_separators_is_quoted_as_typed(kestrel: bytes) -> None:
+    message = problem(kestrel, named("site_speed_limit", 1234567.0), "Site!B9")
+    assert (
+        message == "Speed limit must be 10 to 90 mi/h (got 1,234,567); check the value and its unit"
+    )
+
+
+# -- percentages ----------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("value", "number_format", "share", "warned"),
+    [
+        (0.08, "0%", 0.08, False),  # a percent cell shows 8 %: 8 % it is
+        (0.085, "0.0%", 0.085, False),
+        (0.08, '0.0"%"', 0.0008, True),  # the sign in quotes does not scale: 0.08 %
+        (0.08, "0.0\\%", 0.0008, True),  # nor an escaped sign
+        ("8 %", "General", 0.08, False),  # typed as text with its sign
+        ("8%", "@", 0.08, False),
+        (8, "General", 0.08, False),
+        (1.0, "General", 0.01, True),  # 1 % looks like a fraction 1.0 typed for 100 %
+        (1.5, "General", 0.015, False),  # 1.5 cannot be a fraction
+        (0, "General", 0.0, False),  # no heavy vehicles: nothing to ask
+    ],
+)
+def test_a_percentage_is_read_as_the_cell_shows_it(
+    kestrel: bytes, value: Any, number_format: str, share: float, warned: bool
+) -> None:
+    plan = read(kestrel, named("site_heavy_vehicle_percent", value, number_format))
+    assert isinstance(plan, Plan), plan
+    assert plan.site.heavy_vehicle_share == pytest.approx(share, rel=1e-12)
+    hints = [w for w in plan.input_warnings if w.startswith("Site!B13: Heavy vehicles is")]
+    assert bool(hints) is warned
+
+
+def test_a_fraction_typed_for_a_percentage_gets_a_hint_with_the_percentage(kestrel: bytes) -> None:
+    plan = read(kestrel, named("site_heavy_vehicle_percent", 0.5))
+    assert isinstance(plan, Plan)
+    assert (
+        "Site!B13: Heavy vehicles is 0.5 %: did you mean 50 %? Percentages are typed as "
+        "numbers of percent (type 50, or 50% to get a percent-formatted cell); ignore this "
+        "if 0.5 % is right"
+    ) in plan.input_warnings
+
+
+# -- choices and text -----------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("value", "expected"),
+    [("  ROLLING ", "rolling"), ("Level", "level"), ("level", "level")],
+)
+def test_a_choice_is_read_whatever_its_case_and_spaces(
+    kestrel: bytes, value: str, expected: str
+) -> None:
+    plan = read(kestrel, named("site_terrain", value))
+    assert isinstance(plan, Plan), plan
+    assert plan.site.terrain == expected
+
+
+def test_a_choice_not_in_the_list_names_the_choices(kestrel: bytes) -> None:
+    message = problem(kestrel, named("site_terrain", " hilly "), "Site!B14")
+    assert message == (
+        "Terrain: 'hilly' is not in the list; pick one of 'level', 'rolling' from the dropdown"
+    )
+    blank = problem(kestrel, named("site_terrain", None), "Site!B14")
+    assert blank == "Terrain is blank; pick one from the dropdown list"
+
+
+@pytest.mark.parametrize(("value", "expected"), [(True, True), (False, False), ("No", False)])
+def test_a_yes_no_choice_reads_true_and_false(kestrel: bytes, value: Any, expected: bool) -> None:
+    plan = read(kestrel, named("opt_capacity_drop", value))
+    assert isinstance(plan, Plan), plan
+    assert plan.options.capacity_drop is expected
+
+
+@pytest.mark.parametrize(
+    ("value", "expected"),
+    [
+        (2027.0, "2027"),  # a whole number typed in a text cell: no '.0'
+        (2027.5, "2027.5"),
+        (dt.datetime(2027, 5, 3, 21, 0), "2027-05-03 21:00"),
+        ("  Night works  ", "Night works"),
+    ],
+)
+def test_text_is_read_as_shown(kestrel: bytes, value: Any, expected: str) -> None:
+    plan = read(kestrel, named("meta_title", value))
+    assert isinstance(plan, Plan), plan
+    assert plan.meta.title == expected
+
+
+@pytest.mark.parametrize("error", ["#DIV/0!", "#N/A", " #VALUE! "])
+def test_an_error_shown_in_a_cell_is_named(kestrel: bytes, error: str) -> None:
+    message = problem(kestrel, named("site_speed_limit", error), "Site!B9")
+    assert message == f"shows the error {error.strip()}; fix the formula or type the value"
+
+
+# -- dates and times in the closure table -----------------------------------------------------
+
+
+def first_closure(plan: Plan | dict[str, str]) -> tuple[dt.datetime, dt.datetime]:
+    assert isinstance(plan, Plan), plan
+    c = plan.closures[0]
+    return c.start, c.end
+
+
+@pytest.mark.parametrize(
+    ("header", "value", "start", "end"),
+    [
+        ("Date", "2027-5-3", (3, 21, 0), (4, 5, 0)),  # ISO text, month and day not padded
+        ("Date", "Mon 2027-05-03", (3, 21, 0), (4, 5, 0)),  # with its weekday
+        ("Date", serial(dt.date(2027, 5, 3)), (3, 21, 0), (4, 5, 0)),  # a serial number
+        ("Date", dt.date(2027, 5, 3), (3, 21, 0), (4, 5, 0)),
+        ("From", "21:00", (3, 21, 0), (4, 5, 0)),
+        ("From", "21:00:30", (3, 21, 0, 30), (4, 5, 0)),
+        ("From", 0.875, (3, 21, 0), (4, 5, 0)),  # 21 h = 0.875 day
+        ("From", dt.timedelta(hours=21), (3, 21, 0), (4, 5, 0)),  # an elapsed-time cell
+        ("From", dt.datetime(1899, 12, 30, 21, 0), (3, 21, 0), (4, 5, 0)),  # a time as serial
+        ("From", "2027-05-03 21:00", (3, 21, 0), (4, 5, 0)),  # date and time in From
+        ("To", "24:00", (3, 21, 0), (4, 0, 0)),  # 24:00 is midnight at the end of the day
+        ("To", 1.0, (3, 21, 0), (4, 0, 0)),  # 24:00 as a fraction of a day
+        ("To", "21:00", (3, 21, 0), (4, 21, 0)),  # at From: the next day
+        ("To", "23:00", (3, 21, 0), (3, 23, 0)),  # after From: the same day
+        ("To", "2027-05-04 06:00", (3, 21, 0), (4, 6, 0)),
+        ("To", serial(dt.date(2027, 5, 4)) + 0.25, (3, 21, 0), (4, 6, 0)),  # 06:00 as a serial
+        ("To", dt.timedelta(days=serial(dt.date(2027, 5, 4)), hours=6), (3, 21, 0), (4, 6, 0)),
+    ],
+)
+def test_closure_dates_and_times_as_spreadsheets_store_them(
+    kestrel: bytes, header: str, value: Any, start: tuple, end: tuple
+) -> None:
+    got = first_closure(read(kestrel, closure(header, value)))
+    assert got == (dt.datetime(2027, 5, *start), dt.datetime(2027, 5, *end))
+
+
+# Row 6 holds the first closure: Date A6, From B6, To C6, Lanes closed D6.
+@pytest.mark.parametrize(
+    ("header", "value", "where", "message"),
+    [
+        (
+            "Date",
+            45,  # serial 45 is 1900-02-14 (January has 31 days; 1900-02-29 counts after it)
+            "Closures!A6",
+            "Date: 45 is a number, not a date (a spreadsheet reads it as 45 days after its "
+            "day zero, 1900-02-14); type a date, e.g. 2027-05-03",
+        ),
+        (
+            "Date",
+            dt.datetime(1900, 2, 14),  # the same number shown as a date
+            "Closures!A6",
+            "Date: 45 is a number, not a date (a spreadsheet reads it as 45 days after its "
+            "day zero, 1900-02-14); type a date, e.g. 2027-05-03",
+        ),
+        (
+            "Date",
+            dt.datetime(2027, 5, 3, 21, 0),
+            "Closures!A6",
+            "Date holds a time of day (2027-05-03 21:00); type only the date",
+        ),
+        (
+            "Date",
+            "2027-02-30",
+            "Closures!A6",
+            "Date: '2027-02-30' is not a date; type a date, e.g. 2027-05-03",
+        ),
+        (
+            "Date",
+            "3 May",
+            "Closures!A6",
+            "Date: '3 May' is not a date; type a date, e.g. 2027-05-03",
+        ),
+        (
+            "Date",
+            dt.date(2300, 5, 3),
+            "Closures!A6",
+            "Date: the year 2300 is outside 1900-2199; check the date",
+        ),
+        (
+            "Date",
+            3_000_000,
+            "Closures!A6",
+            "Date: 3,000,000 is past the last date a spreadsheet can hold (9999-12-31); "
+            "type a date and time, e.g. 2027-05-03 21:00",
+        ),
+        (
+            "From",
+            21,
+            "Closures!B6",
+            "From: 21 is a number, not a time (a spreadsheet reads it as 21 days after its "
+            "day zero, 1900-01-21); did you mean 21:00? Type it with the colon",
+        ),
+        (
+            "From",
+            24,
+            "Closures!B6",
+            "From: 24 is a number, not a time (a spreadsheet reads it as 24 days after its "
+            "day zero, 1900-01-24); did you mean 24:00? Type it with the colon",
+        ),
+        (
+            "From",
+            25,
+            "Closures!B6",
+            "From: 25 is a number, not a time (a spreadsheet reads it as 25 days after its "
+            "day zero, 1900-01-25); type a time, e.g. 21:00",
+        ),
+        (
+            "From",
+            21.5,
+            "Closures!B6",
+            "From: 21.5 is a number, not a time (a spreadsheet reads it as 21.5 days after its "
+            "day zero, 1900-01-21); type a time, e.g. 21:00",
+        ),
+        (
+            "From",
+            "25:00",
+            "Closures!B6",
+            "From is 25:00, past 24:00; use 00:00-23:59 (in a formula, wrap the time in "
+            "MOD(...,1) to get 01:00)",
+        ),
+        (
+            "From",
+            "24:00",
+            "Closures!B6",
+            "From is 24:00, past 24:00; use 00:00-23:59 (in a formula, wrap the time in "
+            "MOD(...,1) to get 00:00)",
+        ),
+        (
+            "From",
+            1.5,  # 36 hours
+            "Closures!B6",
+            "From is 36:00, past 24:00; use 00:00-23:59 (in a formula, wrap the time in "
+            "MOD(...,1) to get 12:00)",
+        ),
+        (
+            "From",
+            "21:60",
+            "Closures!B6",
+            "From: '21:60' is not a time; type a time like 21:00 (24-hour clock)",
+        ),
+        (
+            "From",
+            "21:00:60",
+            "Closures!B6",
+            "From: '21:00:60' is not a time; type a time like 21:00 (24-hour clock)",
+        ),
+        (
+            "From",
+            "2027-05-03 21:60",
+            "Closures!B6",
+            "From: '2027-05-03 21:60' is not a time; type a time like 21:00 (24-hour clock)",
+        ),
+        (
+            "From",
+            "2027-05-03 25:00",
+            "Closures!B6",
+            "From: '2027-05-03 25:00' is not a time; type a time like 21:00 (24-hour clock)",
+        ),
+        (
+            "From",
+            "2027-05-03 21:00",
+            None,  # checked below: the date in From against Date
+            "",
+        ),
+        (
+            "From",
+            None,
+            "Closures!B6",
+            "From is blank; type a time like 07:00",
+        ),
+        (
+            "To",
+            None,
+            "Closures!C6",
+            "To is blank; type the end time, e.g. 05:00",
+        ),
+        (
+            "To",
+            "25:30",
+            "Closures!C6",
+            "To is 25:30, past 24:00; a 'To' at or before 'From' already ends the next day, "
+            "so type 01:30 (in a formula, wrap the time in MOD(...,1)); 24:00 is midnight at "
+            "the end of the day",
+        ),
+        (
+            "To",
+            "2027-05-03 20:00",
+            "Closures!C6",
+            "the closure ends (Mon 2027-05-03 20:00) before it starts (Mon 2027-05-03 21:00); "
+            "check the date and time in To",
+        ),
+        (
+            "To",
+            "2027-05-03 21:00",
+            "Closures!C6",
+            "the closure ends (Mon 2027-05-03 21:00) before it starts (Mon 2027-05-03 21:00); "
+            "check the date and time in To",
+        ),
+        (
+            "To",
+            -0.25,
+            "Closures!C6",
+            "To: -0.25 is not a time; type a time like 21:00 (24-hour clock)",
+        ),
+        (
+            "To",
+            dt.timedelta(hours=-3),
+            "Closures!C6",
+            "To: -1 day, 21:00:00 is not a time; type a time like 21:00 (24-hour clock)",
+        ),
+        (
+            "Lanes closed",
+            3,
+            "Closures!D6",
+            "all 3 lanes closed; at least one lane must stay open (a full closure needs a "
+            "detour plan, not this analysis)",
+        ),
+        (
+            "Lanes closed",
+            4,
+            "Closures!D6",
+            "4 lanes closed but the road has 3; at least one lane must stay open (a full "
+            "closure needs a detour plan, not this analysis)",
+        ),
+    ],
+)
+def test_a_closure_date_or_time_that_cannot_be_read_names_its_cell(
+    kestrel: bytes, header: str, value: Any, where: str | None, message: str
+) -> None:
+    if where is None:  # 'From' holds a whole date-time of another day than Date
+
+        def edit(wb: Any) -> None:
+            closure("From", "2027-05-04 21:00")(wb)
+
+        out = read(kestrel, edit)
+        assert isinstance(out, dict)
+        assert out["Closures!B6"] == (
+            "From holds the date 2027-05-04 but Date is 2027-05-03; make them agree"
+        )
+        return
+    assert problem(kestrel, closure(header, value), where) == message
+
+
+def test_a_full_date_time_in_the_date_column_with_from_blank_is_the_start(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        closure("Date", dt.datetime(2027, 5, 3, 21, 30))(wb)
+        closure("From", None)(wb)
+
+    assert first_closure(read(kestrel, edit)) == (
+        dt.datetime(2027, 5, 3, 21, 30),
+        dt.datetime(2027, 5, 4, 5, 0),
+    )
+
+
+def test_a_date_time_in_from_with_date_blank_is_the_start(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        closure("Date", None)(wb)
+        closure("From", "2027-05-03 22:00")(wb)
+
+    assert first_closure(read(kestrel, edit)) == (
+        dt.datetime(2027, 5, 3, 22, 0),
+        dt.datetime(2027, 5, 4, 5, 0),
+    )
+
+
+def test_a_blank_date_with_a_time_asks_for_the_date(kestrel: bytes) -> None:
+    message = problem(kestrel, closure("Date", None), "Closures!A6")
+    assert message == "Date is blank; type the date, e.g. 2027-05-03"
