@@ -49,8 +49,8 @@ def _closure_table(plan: Plan) -> tuple[np.ndarray, np.ndarray, np.ndarray, list
             examples.append(c)
         conf_of.append(j)
     return (
-        np.array(starts, dtype=float),
-        np.array(ends, dtype=float),
+        np.array(starts),  # float64, empty too
+        np.array(ends),
         np.array(conf_of, dtype=np.intp),
         examples,
     )
@@ -69,33 +69,33 @@ def _grid(
     d = plan.demand
     n = len(d.flows_veh_h)
     step = float(d.interval_s)
-    t = np.arange(n + 1, dtype=float) * step
+    t = np.arange(n + 1) * step
     aligned = step == HOUR and bool(
         np.all(np.mod(starts, step) == 0) and np.all(np.mod(ends, step) == 0)
     )
     if aligned:  # hourly demand, closures on the hour: the grid is the hours
-        demand_index = hour = np.arange(n, dtype=np.intp)
+        demand_index = hour = np.arange(n)
         first = (starts / step).astype(np.intp)
         stop = (ends / step).astype(np.intp)
     else:
-        parts = [t, np.arange(0.0, n * step + 1, HOUR), starts, ends]
-        t = np.unique(np.concatenate(parts))
+        # the data interval divides an hour (plan check), so every hour is a boundary of t
+        t = np.unique(np.concatenate([t, starts, ends]))
         mid = 0.5 * (t[:-1] + t[1:])
         demand_index = np.minimum(np.floor(mid / step).astype(np.intp), n - 1)
         hour = np.floor(mid / HOUR).astype(np.intp)
-        first = np.searchsorted(mid, starts, side="left")
-        stop = np.searchsorted(mid, ends, side="left")
+        first = np.searchsorted(mid, starts)
+        stop = np.searchsorted(mid, ends)
     m = len(t) - 1
     if len(starts):
-        order = np.argsort(first, kind="stable")
+        order = np.argsort(first)  # closures never share a first interval
         edges = np.empty(2 * len(order) + 2, dtype=np.intp)
         edges[0], edges[-1] = 0, m
         edges[1:-1:2], edges[2:-1:2] = first[order], stop[order]
-        labels = np.full(2 * len(order) + 1, -1, dtype=np.intp)
+        labels = np.full(2 * len(order) + 1, -1)
         labels[1::2] = order
         closure_index = np.repeat(labels, np.diff(edges))
     else:
-        closure_index = np.full(m, -1, dtype=np.intp)
+        closure_index = np.full(m, -1)
     return t, hour, closure_index, demand_index
 
 
@@ -129,12 +129,12 @@ def interval_arrays(plan: Plan) -> IntervalArrays:
     clock_night = night_by_clock(plan.demand.start.hour, hour)
     # one capacity computation per distinct configuration and night flag, not
     # per interval: key = 2 x (configuration + 1) + night, looked up in a table
-    conf = np.append(conf_of, -1)[ci] if len(conf_of) else np.full(len(ci), -1)
+    conf = np.append(conf_of, -1)[ci]  # -1 (open road) stays -1
     keys = clock_night.view(np.int8) + 2 * (conf + 1)
-    present = np.flatnonzero(np.bincount(keys, minlength=2 * len(examples) + 2))
+    present = np.flatnonzero(np.bincount(keys))
     n_u = len(present)
     values = np.zeros((3, n_u))  # pre-breakdown, discharge, extra seconds per vehicle
-    lanes_u = np.full(n_u, site.lanes, dtype=np.int64)
+    lanes_u = np.full(n_u, site.lanes)
     for j, key in enumerate(present.tolist()):
         idx = key // 2 - 1
         closure = examples[idx] if idx >= 0 else None
