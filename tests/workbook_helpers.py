@@ -280,3 +280,27 @@ def save_results_as_a_spreadsheet_program(path: Path, results: dict[tuple[str, s
             zout.writestr(info, data)
     path.write_bytes(out.getvalue())
     return path
+
+
+def read(data: bytes, edit: Callable[[Any], Any]) -> Plan | dict[str, str]:
+    """The plan read from a workbook's bytes after ``edit(wb)``, in memory (fast), or its
+    problems as {cell: message}."""
+    import io
+
+    from wzq.engine.plan import PlanError
+    from wzq.io.workbook.reader import read_plan_from_book
+
+    wb = load_workbook(io.BytesIO(data))
+    edit(wb)
+    try:
+        return read_plan_from_book(wb, "k.xlsx")
+    except PlanError as e:
+        return {p.where: p.message for p in e.problems}
+
+
+def problem(data: bytes, edit: Callable[[Any], Any], where: str) -> str:
+    """The message of the problem found at ``where`` after ``edit(wb)`` (there must be one)."""
+    out = read(data, edit)
+    assert isinstance(out, dict), "the edit was read without a problem"
+    assert where in out, out
+    return out[where]

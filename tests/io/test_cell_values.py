@@ -21,12 +21,11 @@ from typing import Any
 
 import openpyxl
 import pytest
-from workbook_helpers import fill_template, named_cell, set_named, table_cell
+from workbook_helpers import fill_template, named_cell, problem, read, set_named, table_cell
 
-from wzq.engine.plan import Plan, PlanError
+from wzq.engine.plan import Plan
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout as L
-from wzq.io.workbook.reader import read_plan_from_book
 
 KESTREL = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.json"
 CLOSURES = L.CLOSURE_TABLE
@@ -43,23 +42,6 @@ def kestrel(tmp_path_factory: pytest.TempPathFactory) -> bytes:
     21:00 to 05:00 on row 6 of the closure table) typed into a fresh template."""
     path = fill_template(load_plan(KESTREL), tmp_path_factory.mktemp("cells") / "k.xlsx")
     return path.read_bytes()
-
-
-def read(data: bytes, edit: Callable[[Any], Any]) -> Plan | dict[str, str]:
-    """The plan read after ``edit(wb)``, or its problems as {cell: message}."""
-    wb = openpyxl.load_workbook(io.BytesIO(data))
-    edit(wb)
-    try:
-        return read_plan_from_book(wb, "k.xlsx")
-    except PlanError as e:
-        return {p.where: p.message for p in e.problems}
-
-
-def problem(data: bytes, edit: Callable[[Any], Any], where: str) -> str:
-    out = read(data, edit)
-    assert isinstance(out, dict), "the edit was read without a problem"
-    assert where in out, out
-    return out[where]
 
 
 def named(name: str, value: Any, number_format: str | None = None) -> Callable[[Any], None]:

@@ -1,0 +1,468 @@
+"""Tables, formulas and merged cells: the reader's value paths beyond one typed value.
+
+Fast, in memory (see ``test_cell_values.py``): the hourly shares of an AADT, the saved
+result of a formula typed in an input cell, merged cells, rows typed below a table,
+values typed beside it, hidden rows. Expected numbers are worked by hand beside each
+check; every message names its sheet and cell.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import io
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import openpyxl
+import pytest
+from openpyxl.workbook.defined_name import DefinedName
+from openpyxl.worksheet.table import Table
+from workbook_helpers import (
+    fill_template,
+    problem,
+    read,
+    save_results_as_a_spreadsheet_program,
+    set_named,
+    table_cell,
+)
+
+from wzq.engine.plan import Plan, PlanError
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout as L
+from wzq.io.workbook.reader import read_plan_from_book
+
+KESTREL = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.json"
+SHARES = L.SHARE_TABLE  # Demand!E16:G40 in the template: header row 16, hour h on row 17 + h
+WEEKDAY, WEEKEND = "Weekday % of AADT", "Weekend % of AADT"
+BELOW = 36  # the closure table is Closures!A5:H35 in the template: row 36 lies below it
+
+
+@pytest.fixture(scope="module")
+def kestrel(tmp_path_factory: pytest.TempPathFactory) -> bytes:
+    """The Kestrel Ridge example (US units, three lanes; closures Mon 2027-05-03 21:00 to
+    Tue 05:00 on row 6 and Tue 22:00 to Wed 05:00 on row 7) in a fresh template."""
+    path = fill_template(load_plan(KESTREL), tmp_path_factory.mktemp("tables") / "k.xlsx")
+    return path.read_bytes()
+
+
+# -- the hourly shares of an AADT -----------------------------------------------------------
+
+
+def aadt(wb: Any, shares: Callable[[int], tuple[Any, Any]] | None = None) -> None:
+    """Demand from an AADT of 40,000 (55 % this way, no growth) over five days from
+    Saturday 2027-05-01; ``shares(h)`` gives hour h's (weekday, weekend) cells."""
+    set_named(wb, "demand_mode", "from AADT")
+    set_named(wb, "aadt_value", 40_000)
+    set_named(wb, "aadt_count_year", 2027)
+    set_named(wb, "aadt_growth_percent", None)
+    set_named(wb, "aadt_direction_percent", 55)
+    set_named(wb, "aadt_first_day", dt.datetime(2027, 5, 1))
+    set_named(wb, "aadt_days", 5)
+    if shares is not None:
+        for h in range(24):
+            wd, we = shares(h)
+            table_cell(wb, SHARES, h, WEEKDAY).value = wd
+            table_cell(wb, SHARES, h, WEEKEND).value = we
+
+
+def flat(h: int) -> tuple[float, float]:
+    return 100 / 24, 100 / 24
+
+
+def peaked(h: int) -> tuple[float, float]:
+    """Weekday: 12.5 % in hour 7 and 87.5 / 23 % in every other; weekend flat."""
+    return (12.5 if h == 7 else 87.5 / 23), 100 / 24
+
+
+def test_aadt_shares_give_each_hour_of_each_day(kestrel: bytes) -> None:
+    plan = read(kestrel, lambda wb: aadt(wb, peaked))
+    assert isinstance(plan, Plan), plan
+    flows = plan.demand.flows_veh_h
+    daily = 40_000 * 0.55  # 22,000 veh/day this way
+    assert len(flows) == 5 * 24
+    # Sat and Sun are weekend days (flat: 22,000 / 24), Mon to Wed weekdays
+    np.testing.assert_allclose(flows[:48], daily / 24, rtol=1e-12)
+    assert flows[48 + 7] == pytest.approx(daily * 0.125, rel=1e-12)  # Mon 07:00: 2,750
+    assert flows[48 + 8] == pytest.approx(daily * 0.875 / 23, rel=1e-12)
+    assert flows[4 * 24 + 7] == pytest.approx(2750.0, rel=1e-12)  # Wed 07:00
+
+
+@pytest.mark.parametrize(
+    ("hour", "expected"),
+    [
+        (7, 2750.0),  # the hour as a whole number
+        (7.0, 2750.0),
+        ("07:00", 2750.0),  # as text
+        (dt.time(7, 0), 2750.0),
+        (7 / 24, 2750.0),  # as a fraction of a day
+    ],
+)
+def test_an_aadt_hour_is_read_however_it_is_typed(
+    kestrel: bytes, hour: Any, expected: float
+) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, peaked)
+        table_cell(wb, SHARES, 7, "Hour").value = hour
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert plan.demand.flows_veh_h[48 + 7] == pytest.approx(expected, rel=1e-12)
+
+
+@pytest.mark.parametrize(
+    ("hour", "message"),
+    [
+        (7.5, "Hour 7.5 is not an hour of the day; use 0-23 or 00:00-23:00"),
+        (24, "Hour 24 is not an hour of the day; use 0-23 or 00:00-23:00"),
+        (None, "Hour is blank; type the hour the share starts, e.g. 07:00"),
+        ("07:30", "Hour must be a whole hour, e.g. 07:00"),
+        ("2027-05-03 07:00", "Hour holds a date; type only the hour, e.g. 07:00"),
+        ("seven", "Hour: 'seven' is not a time; type a time like 21:00 (24-hour clock)"),
+        ("06:00", "hour 06:00 appears twice; keep one row per hour"),
+    ],
+)
+def test_an_aadt_hour_that_cannot_be_read_names_its_cell(
+    kestrel: bytes, hour: Any, message: str
+) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        table_cell(wb, SHARES, 7, "Hour").value = hour
+
+    assert problem(kestrel, edit, "Demand!E24") == message
+
+
+def test_an_aadt_hour_missing_is_named(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        for header in L.SHARE_COLUMNS:  # hours 07:00 and 08:00 cleared
+            table_cell(wb, SHARES, 7, header).value = None
+            table_cell(wb, SHARES, 8, header).value = None
+
+    message = problem(kestrel, edit, "Demand!E16")
+    assert message == "HourlyShareTable has no share for hour(s) 07:00, 08:00; give all 24 hours"
+
+
+@pytest.mark.parametrize(
+    ("scale", "extra", "where", "message"),
+    [
+        # hour 7 weekday 2 points too many: 102.0 %
+        (1.0, 2.0, "Demand!F16", "the column 'Weekday % of AADT' sums to 102.0 %, not 100 %; "),
+        (1.0, -0.6, "Demand!F16", "the column 'Weekday % of AADT' sums to 99.4 %, not 100 %; "),
+        # typed as fractions: both columns sum to 1
+        (0.01, 0.0, "Demand!F16", "the column 'Weekday % of AADT' sums to 1.0 %, not 100 %; "),
+        (0.01, 0.0, "Demand!G16", "the column 'Weekday % of AADT' sums to 1.0 %, not 100 %; "),
+    ],
+)
+def test_aadt_shares_must_sum_to_100(
+    kestrel: bytes, scale: float, extra: float, where: str, message: str
+) -> None:
+    def shares(h: int) -> tuple[float, float]:
+        return scale * 100 / 24 + (extra if h == 7 else 0.0), scale * 100 / 24
+
+    got = problem(kestrel, lambda wb: aadt(wb, shares), where)
+    if scale == 1.0:
+        assert got == message + "correct the shares"
+    else:
+        column = WEEKDAY if where.startswith("Demand!F") else WEEKEND
+        assert got == message.replace(WEEKDAY, column) + (
+            "the shares look like fractions: type them as percentages (7 for 7 %), or format "
+            "the cells as percentages"
+        )
+
+
+@pytest.mark.parametrize("extra", [0.49, -0.49, 0.3])
+def test_aadt_shares_within_half_a_point_of_100_are_taken(kestrel: bytes, extra: float) -> None:
+    def shares(h: int) -> tuple[float, float]:
+        return 100 / 24 + (extra if h == 7 else 0.0), 100 / 24
+
+    plan = read(kestrel, lambda wb: aadt(wb, shares))
+    assert isinstance(plan, Plan), plan
+    # Mon 07:00: 22,000 x (100/24 + extra) % (the shares are used as typed)
+    assert plan.demand.flows_veh_h[48 + 7] == pytest.approx(220 * (100 / 24 + extra), rel=1e-12)
+
+
+def test_aadt_shares_in_percent_cells_are_read_as_shown(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, lambda h: (0.01 * peaked(h)[0], 0.01 * peaked(h)[1]))
+        for h in range(24):
+            for header in (WEEKDAY, WEEKEND):
+                table_cell(wb, SHARES, h, header).number_format = "0.0%"
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert plan.demand.flows_veh_h[48 + 7] == pytest.approx(2750.0, rel=1e-12)
+
+
+def test_a_negative_aadt_share_is_named(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        table_cell(wb, SHARES, 7, WEEKEND).value = -1
+
+    message = problem(kestrel, edit, "Demand!G24")
+    assert message == "Weekend % of AADT cannot be negative (got -1); check the value"
+
+
+def test_a_growth_rate_that_looks_like_a_fraction_gets_a_hint(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        set_named(wb, "aadt_growth_percent", 0.02)
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert (
+        "Demand!F10: Traffic growth is 0.02 %: did you mean 2 %? Percentages are typed as "
+        "numbers of percent (type 2, or 2% to get a percent-formatted cell); ignore this if "
+        "0.02 % is right"
+    ) in plan.input_warnings
+    # 0.1 % a year is not taken for a fraction (the hint is for sizes below 0.1)
+    set_10 = read(kestrel, lambda wb: (aadt(wb, flat), set_named(wb, "aadt_growth_percent", 0.1)))
+    assert isinstance(set_10, Plan)
+    assert not [w for w in set_10.input_warnings if w.startswith("Demand!F10")]
+
+
+def test_a_date_input_left_blank_asks_for_a_date(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        set_named(wb, "aadt_first_day", None)
+
+    message = problem(kestrel, edit, "Demand!F12")
+    assert message == "First day is blank; type a date, e.g. 2027-05-03"
+
+
+def test_a_whole_number_input_without_a_unit_asks_for_a_number(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        set_named(wb, "aadt_count_year", None)
+
+    message = problem(kestrel, edit, "Demand!F9")
+    assert message == "Year of the count is blank; type a number (year)"
+
+
+# -- formulas typed in input cells ------------------------------------------------------------
+
+
+def saved(
+    data: bytes, tmp_path: Path, formulas: dict[str, str], results: dict[str, Any]
+) -> Plan | dict[str, str]:
+    """Site-sheet formulas with the results a spreadsheet program saved, read from the file."""
+    path = tmp_path / "f.xlsx"
+    wb = openpyxl.load_workbook(io.BytesIO(data))
+    for coord, formula in formulas.items():
+        wb["Site"][coord].value = formula
+    wb.save(path)
+    save_results_as_a_spreadsheet_program(path, {("Site", c): v for c, v in results.items()})
+    try:
+        return read_plan_from_book(openpyxl.load_workbook(path), "f.xlsx", path)
+    except PlanError as e:
+        return {p.where: p.message for p in e.problems}
+
+
+def test_a_formula_is_read_by_its_saved_result(kestrel: bytes, tmp_path: Path) -> None:
+    plan = saved(kestrel, tmp_path, {"B9": "=60+10"}, {"B9": 70})
+    assert isinstance(plan, Plan), plan
+    assert plan.site.speed_limit == pytest.approx(70 * 0.44704, rel=1e-12)  # mi/h -> m/s
+
+
+@pytest.mark.parametrize(
+    ("result", "message"),
+    [
+        (
+            None,
+            "holds a formula with no saved result; open and save the workbook in your "
+            "spreadsheet program, or type the value",
+        ),
+        ("#DIV/0!", "shows the error #DIV/0!; fix the formula or type the value"),
+        ("", "Speed limit is blank; type a number (mi/h)"),  # a formula showing nothing
+    ],
+)
+def test_a_formula_without_a_usable_result_names_its_cell(
+    kestrel: bytes, tmp_path: Path, result: Any, message: str
+) -> None:
+    results = {} if result is None else {"B9": result}
+    out = saved(kestrel, tmp_path, {"B9": '=IF(B8>9,"",70)'}, results)
+    assert isinstance(out, dict), out
+    assert out["Site!B9"] == message
+
+
+def test_a_formula_showing_nothing_in_an_optional_cell_is_a_blank(
+    kestrel: bytes, tmp_path: Path
+) -> None:
+    # free-flow speed left blank: the speed limit + 5 mi/h (HCM 7th ed. default)
+    plan = saved(kestrel, tmp_path, {"B11": '=IF(B8>2,"",70)'}, {"B11": ""})
+    assert isinstance(plan, Plan), plan
+    assert plan.site.free_flow_speed is None
+
+
+def test_a_formula_in_memory_has_no_saved_result(kestrel: bytes) -> None:
+    message = problem(kestrel, lambda wb: set_named(wb, "site_speed_limit", "=60+5"), "Site!B9")
+    assert message == (
+        "holds a formula with no saved result; open and save the workbook in your "
+        "spreadsheet program, or type the value"
+    )
+
+
+def test_a_formula_from_an_output_sheet_is_refused(kestrel: bytes, tmp_path: Path) -> None:
+    out = saved(kestrel, tmp_path, {"B9": f"='{L.RESULTS}'!C5"}, {"B9": 65})
+    assert isinstance(out, dict), out
+    assert out["Site!B9"].startswith(f"its formula takes its value from {L.RESULTS}!C5")
+    assert "on a sheet wzq rewrites on every run" in out["Site!B9"]
+
+
+def test_a_workbook_set_to_calculate_by_hand_is_warned_about(
+    kestrel: bytes, tmp_path: Path
+) -> None:
+    path = tmp_path / "m.xlsx"
+    wb = openpyxl.load_workbook(io.BytesIO(kestrel))
+    wb["Site"]["B9"].value = "=60+5"
+    wb.calculation.calcMode = "manual"
+    wb.save(path)
+    save_results_as_a_spreadsheet_program(path, {("Site", "B9"): 65})
+    plan = read_plan_from_book(openpyxl.load_workbook(path), "m.xlsx", path)
+    assert any(
+        w.startswith("m.xlsx: the workbook is set to calculate manually")
+        for w in plan.input_warnings
+    )
+
+
+# -- merged cells --------------------------------------------------------------------------
+
+
+def test_cells_merged_down_one_column_are_read_in_every_row(kestrel: bytes) -> None:
+    # From merged over rows 6 and 7: the second closure starts at 21:00, as shown
+    plan = read(kestrel, lambda wb: wb["Closures"].merge_cells("B6:B7"))
+    assert isinstance(plan, Plan), plan
+    assert plan.closures[1].start == dt.datetime(2027, 5, 4, 21, 0)
+    assert plan.closures[1].end == dt.datetime(2027, 5, 5, 5, 0)
+
+
+@pytest.mark.parametrize(("cells", "where"), [("B6:C6", "Closures!C6"), ("B6:C7", "Closures!B7")])
+def test_cells_merged_across_columns_are_refused(kestrel: bytes, cells: str, where: str) -> None:
+    message = problem(kestrel, lambda wb: wb["Closures"].merge_cells(cells), where)
+    assert message == (
+        f"is part of the merged cells {cells}, which span several columns; unmerge them and "
+        "type each value in its own cell"
+    )
+
+
+# -- rows below a table, values beside it, hidden rows -------------------------------------------
+
+
+def third_closure(wb: Any, row: int = BELOW, lanes: Any = 1) -> None:
+    """Wed 2027-05-05 21:00 to 23:00, one lane, typed in ``row`` below the closure table."""
+    ws = wb["Closures"]
+    for col, value in zip(
+        "ABCDE", ("2027-05-05", "21:00", "23:00", lanes, "cones or drums"), strict=True
+    ):
+        ws[f"{col}{row}"] = value
+
+
+def test_a_row_typed_below_the_table_is_read_with_a_warning(kestrel: bytes) -> None:
+    plan = read(kestrel, lambda wb: third_closure(wb, BELOW + 2))
+    assert isinstance(plan, Plan), plan
+    assert plan.closures[2].start == dt.datetime(2027, 5, 5, 21, 0)
+    assert plan.closures[2].end == dt.datetime(2027, 5, 5, 23, 0)
+    assert (
+        f"Closures!A{BELOW + 2}: this row lies below the table ClosureTable (which ends at row "
+        f"35) and was read as part of it; extend the table over it so that every program sees "
+        "it as a row of the table"
+    ) in plan.input_warnings
+
+
+def test_rows_typed_below_the_table_are_named_together(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        third_closure(wb, BELOW)
+        third_closure(wb, BELOW + 1)
+        wb["Closures"][f"B{BELOW + 1}"] = "23:00"  # Wed 23:00 to 23:30
+        wb["Closures"][f"C{BELOW + 1}"] = "23:30"
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert len(plan.closures) == 4
+    assert (
+        f"Closures!A{BELOW}, Closures!A{BELOW + 1}: these rows lie below the table ClosureTable "
+        "(which ends at row 35) and were read as part of it; extend the table over them so "
+        "that every program sees them as rows of the table"
+    ) in plan.input_warnings
+
+
+def test_a_problem_in_a_row_below_the_table_says_why_the_row_was_read(kestrel: bytes) -> None:
+    message = problem(kestrel, lambda wb: third_closure(wb, BELOW, lanes=2.5), f"Closures!D{BELOW}")
+    assert message == (
+        "Lanes closed must be a whole number, got 2.5 (this row lies below the table "
+        "ClosureTable and is read as part of it; if it is not part of the plan, move it out "
+        "of the table's columns)"
+    )
+
+
+def test_a_total_typed_below_the_table_is_the_users_own(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        ws = wb["Closures"]
+        ws[f"A{BELOW}"] = "Total"
+        ws[f"D{BELOW}"] = "=SUM(D6:D35)"
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert len(plan.closures) == len(load_plan(KESTREL).closures)
+    assert not [w for w in plan.input_warnings if "below the table" in w]
+
+
+def test_a_formula_below_the_table_that_reads_elsewhere_is_a_row(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        ws = wb["Closures"]
+        ws[f"A{BELOW}"] = "Total"
+        ws[f"D{BELOW}"] = "=SUM(D1:D4)"  # above the table: not a total of it
+
+    out = read(kestrel, edit)
+    assert isinstance(out, dict), out
+    assert out[f"Closures!D{BELOW}"].startswith("holds a formula with no saved result")
+
+
+def test_a_value_beside_the_table_is_named_but_not_read(kestrel: bytes) -> None:
+    plan = read(kestrel, lambda wb: wb["Closures"].__setitem__("I6", "check with the police"))
+    assert isinstance(plan, Plan), plan
+    assert (
+        "Closures!I6: a value right beside the table ClosureTable (columns A to H) not read "
+        "as part of the plan; if it belongs to the plan, move it into the table's own columns"
+    ) in plan.input_warnings
+
+
+def test_values_beside_the_table_are_counted(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        for r in range(6, 11):
+            wb["Closures"][f"I{r}"] = f"note {r}"
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert (
+        "Closures!I6, Closures!I7, Closures!I8 and 2 more: values right beside the table "
+        "ClosureTable (columns A to H) not read as part of the plan; if it belongs to the "
+        "plan, move it into the table's own columns"
+    ) in plan.input_warnings
+
+
+def test_a_value_beside_the_table_in_a_table_or_input_of_its_own_is_not_named(
+    kestrel: bytes,
+) -> None:
+    def edit(wb: Any) -> None:
+        ws = wb["Closures"]
+        ws["I5"], ws["I6"], ws["I7"] = "Crew", "night crew", "day crew"
+        ws.add_table(Table(displayName="Crews", ref="I5:I7"))
+        ws["I9"] = "Kestrel Ridge resurfacing"  # the plan's title, moved here
+        wb.defined_names["meta_title"] = DefinedName("meta_title", attr_text="Closures!$I$9")
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert plan.meta.title == "Kestrel Ridge resurfacing"
+    assert not [w for w in plan.input_warnings if "beside the table" in w]
+
+
+def test_a_hidden_row_is_read_with_a_warning(kestrel: bytes) -> None:
+    plan = read(kestrel, lambda wb: setattr(wb["Closures"].row_dimensions[7], "hidden", True))
+    assert isinstance(plan, Plan), plan
+    assert len(plan.closures) == len(load_plan(KESTREL).closures)
+    assert (
+        "Closures!A7: hidden or filtered-out row of ClosureTable read as part of the plan "
+        "(hiding a row does not take it out); delete or clear a row to leave it out"
+    ) in plan.input_warnings
