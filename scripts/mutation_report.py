@@ -11,6 +11,8 @@ separately and left out of the second score.
     python3 scripts/mutation_report.py --pending wzq/engine/site.py ...
         # only the names of the mutants not yet tried in those modules, one a line, for
         # `mutmut run NAME...` (a run that names mutants tries exactly those)
+    python3 scripts/mutation_report.py --open wzq/engine/site.py ...
+        # the same, and the survivors not listed as equivalent (to try again after new tests)
 """
 
 from __future__ import annotations
@@ -42,12 +44,15 @@ def results(root: Path = ROOT / "mutants") -> dict[str, dict[str, int | None]]:
     return out
 
 
-def pending(modules: list[str]) -> int:
-    """Print the names of the mutants of ``modules`` that no run has tried yet."""
+def pending(modules: list[str], *, survivors: bool = False) -> int:
+    """Print the names of the mutants of ``modules`` that no run has tried yet (and, with
+    ``survivors``, those that survived and are not listed as equivalent)."""
     data = results()
+    equivalent = equivalent_names() if survivors else set()
+    retry = SURVIVED | NO_TESTS if survivors else set()
     for module in modules:
         for name, code in data.get(module, {}).items():
-            if code is None:
+            if code is None or (code in retry and name not in equivalent):
                 print(name)
     return 0
 
@@ -55,6 +60,8 @@ def pending(modules: list[str]) -> int:
 def main() -> int:
     if sys.argv[1:2] == ["--pending"]:
         return pending(sys.argv[2:])
+    if sys.argv[1:2] == ["--open"]:
+        return pending(sys.argv[2:], survivors=True)
     equivalent = equivalent_names()
     data = results()
     if not data:

@@ -222,22 +222,21 @@ def test_a_growth_rate_that_looks_like_a_fraction_gets_a_hint(kestrel: bytes) ->
     assert not [w for w in set_10.input_warnings if w.startswith("Demand!F10")]
 
 
-def test_a_date_input_left_blank_asks_for_a_date(kestrel: bytes) -> None:
+@pytest.mark.parametrize(
+    ("name", "where", "message"),
+    [
+        ("aadt_first_day", "Demand!F12", "First day is blank; type a date, e.g. 2027-05-03"),
+        ("aadt_count_year", "Demand!F9", "Year of the count is blank; type a number (year)"),
+    ],
+)
+def test_an_aadt_input_left_blank_says_what_to_type(
+    kestrel: bytes, name: str, where: str, message: str
+) -> None:
     def edit(wb: Any) -> None:
         aadt(wb, flat)
-        set_named(wb, "aadt_first_day", None)
+        set_named(wb, name, None)
 
-    message = problem(kestrel, edit, "Demand!F12")
-    assert message == "First day is blank; type a date, e.g. 2027-05-03"
-
-
-def test_a_whole_number_input_without_a_unit_asks_for_a_number(kestrel: bytes) -> None:
-    def edit(wb: Any) -> None:
-        aadt(wb, flat)
-        set_named(wb, "aadt_count_year", None)
-
-    message = problem(kestrel, edit, "Demand!F9")
-    assert message == "Year of the count is blank; type a number (year)"
+    assert problem(kestrel, edit, where) == message
 
 
 # -- formulas typed in input cells ------------------------------------------------------------

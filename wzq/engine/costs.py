@@ -83,7 +83,7 @@ def delay_cost(
     value = value_per_veh_h(costs, heavy_vehicle_share)
     if np.ndim(delay_veh_h) == 0:
         return float(delay_veh_h) * value
-    return np.asarray(delay_veh_h, dtype=float) * value
+    return np.asarray(delay_veh_h) * value  # float64: times a float value
 
 
 def plan_delay_cost(plan: Plan, delay_veh_h: float | np.ndarray) -> float | np.ndarray:
@@ -98,7 +98,7 @@ def hourly_cost(result: Result, costs: Costs | None = None) -> pd.Series:
 
     plan = result.plan
     c = costs_or_default(costs if costs is not None else plan.costs)
-    delay = result.hourly["delay_veh_h"].to_numpy(dtype=float)
+    delay = result.hourly["delay_veh_h"].to_numpy()  # float64 already
     values = delay_cost(delay, c, plan.site.heavy_vehicle_share)
     return pd.Series(values, index=result.hourly.index, name="road_user_cost")
 

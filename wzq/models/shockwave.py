@@ -47,10 +47,10 @@ def queue_states(
     analysis as a warning, not here.
     """
     cap = float(diagram.capacity)
-    q_a = np.minimum(np.asarray(arrival_veh_h, dtype=float) / HOUR / lanes, cap)
-    q_q = np.minimum(np.asarray(discharge_veh_h, dtype=float) / HOUR / lanes, cap)
-    k_a = np.asarray(diagram.density_free(q_a), dtype=float)
-    k_q = np.asarray(diagram.density_congested(q_q), dtype=float)
+    q_a = np.minimum(np.asarray(arrival_veh_h) / HOUR / lanes, cap)
+    q_q = np.minimum(np.asarray(discharge_veh_h) / HOUR / lanes, cap)
+    k_a = np.asarray(diagram.density_free(q_a))  # float64, as the flows
+    k_q = np.asarray(diagram.density_congested(q_q))
     return k_a, q_a, k_q, q_q
 
 
@@ -73,9 +73,7 @@ def queue_length(
     lanes: int,
 ) -> np.ndarray:
     """Length (m) of a queue of ``queue_veh`` vehicles: ``N / (n (k_Q - k_A))``."""
-    return np.asarray(queue_veh, dtype=float) / stored_density(
-        diagram, arrival_veh_h, discharge_veh_h, lanes
-    )
+    return np.asarray(queue_veh) / stored_density(diagram, arrival_veh_h, discharge_veh_h, lanes)
 
 
 def back_of_queue_speed(
