@@ -182,6 +182,26 @@ def test_daily_peak_allows_the_night_hours_only() -> None:
     assert "".join(table.loc[0, list(W.HOUR_COLUMNS)]) == "#######............#####"
 
 
+def test_latest_end_per_start_and_the_hours_a_closure_may_cover() -> None:
+    # The night-only day above, by hand: a closure starting before 07:00 may run to 07:00
+    # (the first peak hour), one starting at 19:00 or later to the end of the data (24),
+    # and one starting in the peak may not run at all (-1: no allowed end).
+    flows = [1000.0] * 7 + [2500.0] * 12 + [1000.0] * 5
+    ws = W.find_windows(
+        hand_site(), hourly(flows), Thresholds(max_queue_length=1000.0), [HAND_CONFIG]
+    ).sets[0]
+    assert ws.last_end().tolist() == [7] * 7 + [-1] * 12 + [24] * 5
+    # one flag per interval of the data: some allowed closure may be in place in it
+    assert ws.interval_flags().tolist() == [h < 7 or h >= 19 for h in range(24)]
+    w = ws.window(19, 24)
+    assert (w.day_type, w.start, w.end) == (
+        "Mon 2027-05-03",  # the one day of data, named by its date
+        dt.datetime(2027, 5, 3, 19),
+        dt.datetime(2027, 5, 4, 0),
+    )
+    assert w.added_delay_veh_h == 0.0  # 1,000 veh/h through a 1,500 veh/h closure: no queue
+
+
 def test_closure_may_run_past_midnight() -> None:
     day = [1000.0] * 7 + [2500.0] * 12 + [1000.0] * 5
     ws = windows_of(hand_site(), hourly(day * 2), Thresholds(max_queue_length=1000.0))

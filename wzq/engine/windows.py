@@ -506,7 +506,7 @@ class WindowSet:
     def interval_flags(self) -> np.ndarray:
         """Intervals in which some reported allowed closure may be in place."""
         last = self.last_end()
-        covered = np.zeros(self.n + 1, dtype=np.int64)
+        covered = np.zeros(self.n + 1)  # counts of +1 and -1: exact in float64
         for s in np.flatnonzero(last >= 0):
             covered[s] += 1
             covered[last[s]] -= 1
