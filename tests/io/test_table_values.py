@@ -465,3 +465,153 @@ def test_a_hidden_row_is_read_with_a_warning(kestrel: bytes) -> None:
         "Closures!A7: hidden or filtered-out row of ClosureTable read as part of the plan "
         "(hiding a row does not take it out); delete or clear a row to leave it out"
     ) in plan.input_warnings
+
+
+# -- the hourly counts table -----------------------------------------------------------------
+# Demand!A8:C176 in the template: Date, Start time, Demand (veh/h); the Kestrel Ridge counts
+# fill rows 9 to 80, hour h of Mon 2027-05-03 00:00 on row 9 + h, three lanes.
+
+
+def demand_cell(wb: Any, row: int, col: str, value: Any) -> None:
+    wb["Demand"][f"{col}{row}"] = value
+
+
+def test_demand_rows_read_as_typed(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        demand_cell(wb, 9, "C", "1,250")  # text with a separator: stored as text, refused
+        demand_cell(wb, 10, "C", 0.0)
+
+    out = read(kestrel, edit)
+    assert isinstance(out, dict)
+    assert out["Demand!C9"] == (
+        "Demand: '1,250' is stored as text; type only the number, without its unit"
+    )
+    plan = read(kestrel, lambda wb: demand_cell(wb, 10, "C", 1250.5))
+    assert isinstance(plan, Plan), plan
+    assert plan.demand.flows_veh_h[1] == 1250.5
+    assert plan.demand.start == dt.datetime(2027, 5, 3) and plan.demand.interval_s == 3600
+
+
+@pytest.mark.parametrize(
+    ("flow", "message"),
+    [
+        # 3,000 veh/h per lane on three lanes is the most taken (common practice, no source)
+        (
+            9000.5,
+            "Demand 9,000.5 veh/h is more than 3,000 veh/h per lane on 3 lanes; enter hourly "
+            "flow in this direction only (not a two-way count or a daily total)",
+        ),
+        (-10, "Demand cannot be negative (got -10); check the value"),
+    ],
+)
+def test_a_demand_out_of_range_is_named(kestrel: bytes, flow: float, message: str) -> None:
+    assert problem(kestrel, lambda wb: demand_cell(wb, 12, "C", flow), "Demand!C12") == message
+
+
+def test_a_demand_of_9000_on_three_lanes_is_taken(kestrel: bytes) -> None:
+    plan = read(kestrel, lambda wb: demand_cell(wb, 12, "C", 9000))
+    assert isinstance(plan, Plan), plan
+    assert plan.demand.flows_veh_h[3] == 9000.0
+
+
+def test_a_repeated_start_time_and_the_gap_it_leaves(kestrel: bytes) -> None:
+    out = read(kestrel, lambda wb: demand_cell(wb, 10, "B", dt.time(0, 0)))
+    assert isinstance(out, dict)
+    assert out["Demand!B10"] == (
+        "the start time Mon 2027-05-03 00:00 is also in row 9; remove one of the two rows"
+    )
+    assert out["Demand!B11"] == (
+        "no demand from Mon 2027-05-03 01:00 to Mon 2027-05-03 02:00 (between rows 9 and 11); "
+        "add the missing rows"
+    )
+
+
+@pytest.mark.parametrize(
+    ("time", "message"),
+    [
+        (
+            dt.time(0, 50),
+            "rows are 50 minutes apart; use hourly or 15-minute rows (any whole number of "
+            "minutes that divides an hour)",
+        ),
+        (
+            dt.time(0, 0, 30),
+            "rows are 0.5 minutes apart; use hourly or 15-minute rows (any whole number of "
+            "minutes that divides an hour)",
+        ),
+    ],
+)
+def test_rows_whose_interval_does_not_divide_an_hour_are_refused(
+    kestrel: bytes, time: dt.time, message: str
+) -> None:
+    assert problem(kestrel, lambda wb: demand_cell(wb, 10, "B", time), "Demand!B10") == message
+
+
+def test_rows_at_another_spacing_are_named(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        demand_cell(wb, 10, "B", dt.time(0, 30))  # 30 minutes after row 9
+        demand_cell(wb, 11, "B", dt.time(1, 45))  # 75 minutes after row 10
+
+    message = problem(kestrel, edit, "Demand!B11")
+    assert message == (
+        "rows 10 and 11 are 75 minutes apart but other rows are 30 minutes apart; use one "
+        "interval throughout"
+    )
+
+
+def test_the_demand_must_start_and_end_on_the_hour(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        for h in range(72):  # every row half an hour later
+            demand_cell(wb, 9 + h, "B", dt.time(h % 24, 30))
+
+    out = read(kestrel, edit)
+    assert isinstance(out, dict)
+    assert out["Demand!B9"] == (
+        "the demand must start on the hour, but the earliest row starts at 00:30; add rows "
+        "back to 00:00"
+    )
+    # the last row, Wed 23:30, ends at Thu 00:30
+    assert out["Demand!B80"] == (
+        "the demand must cover whole hours, but it ends at 00:30; add rows up to the next full hour"
+    )
+
+
+def test_a_demand_start_time_with_another_date(kestrel: bytes) -> None:
+    message = problem(kestrel, lambda wb: demand_cell(wb, 9, "B", "2027-05-04 00:00"), "Demand!B9")
+    assert message == "Start time holds the date 2027-05-04 but Date is 2027-05-03; make them agree"
+
+
+def test_an_empty_demand_table_is_named(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        for r in range(9, 81):
+            for col in "ABC":
+                demand_cell(wb, r, col, None)
+
+    message = problem(kestrel, edit, "Demand!A9")
+    assert message == (
+        "the table DemandTable has no demand rows; type the hourly counts or set 'Demand is "
+        "given as' to 'from AADT'"
+    )
+
+
+def test_counts_left_in_the_table_in_aadt_mode_are_named(kestrel: bytes) -> None:
+    plan = read(kestrel, lambda wb: aadt(wb, flat))
+    assert isinstance(plan, Plan), plan
+    assert (
+        "Demand!A9: the table DemandTable holds counts, but 'Demand is given as' (Demand!B4) "
+        "is 'from AADT', so they are not used; clear them, or choose 'hourly counts'"
+    ) in plan.input_warnings
+
+
+def test_aadt_inputs_left_filled_in_with_counts_are_named(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        set_named(wb, "demand_mode", "hourly counts")
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert (
+        "Demand!F8: AADT, both directions is filled in, but 'Demand is given as' (Demand!B4) "
+        "is 'hourly counts', so the AADT inputs are not used; clear them, or choose "
+        "'from AADT'"
+    ) in plan.input_warnings
