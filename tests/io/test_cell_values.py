@@ -539,3 +539,70 @@ def test_a_date_time_in_from_with_date_blank_is_the_start(kestrel: bytes) -> Non
 def test_a_blank_date_with_a_time_asks_for_the_date(kestrel: bytes) -> None:
     message = problem(kestrel, closure("Date", None), "Closures!A6")
     assert message == "Date is blank; type the date, e.g. 2027-05-03"
+
+
+# -- the plan's own checks and the road-user costs (Limits!B12:B17) ----------------------------
+
+
+def test_a_work_zone_speed_limit_above_the_speed_limit_is_named(kestrel: bytes) -> None:
+    message = problem(kestrel, named("site_work_zone_speed_limit", 70), "Site!B10")
+    assert message == "the work-zone speed limit (70) is above the speed limit (65); check both"
+    plan = read(kestrel, named("site_work_zone_speed_limit", 65))  # equal: allowed
+    assert isinstance(plan, Plan), plan
+
+
+def test_costs_blank_are_no_costs_and_given_are_read(kestrel: bytes) -> None:
+    def blank(wb: Any) -> None:
+        for name in ("cost_car_value", "cost_car_occupancy", "cost_truck_value"):
+            set_named(wb, name, None)
+
+    plan = read(kestrel, blank)
+    assert isinstance(plan, Plan), plan
+    assert plan.costs is None  # priced at the published defaults later
+
+    def given(wb: Any) -> None:
+        set_named(wb, "cost_truck_percent", 12.5)
+        set_named(wb, "cost_currency", " EUR ")
+
+    plan = read(kestrel, given)
+    assert isinstance(plan, Plan), plan
+    c = plan.costs
+    assert (c.car_value_per_person_h, c.car_occupancy, c.truck_value_per_veh_h) == (
+        19.4,
+        1.48,
+        36.3,
+    )
+    assert (c.truck_share, c.currency, c.dollar_year) == (0.125, "EUR", 2017)
+
+
+@pytest.mark.parametrize(
+    ("name", "where", "label"),
+    [
+        ("cost_car_occupancy", "Limits!B13", "Car occupancy"),
+        ("cost_currency", "Limits!B16", "Currency"),
+        ("cost_dollar_year", "Limits!B17", "Price year"),
+    ],
+)
+def test_a_cost_input_left_blank_once_costs_are_given(
+    kestrel: bytes, name: str, where: str, label: str
+) -> None:
+    assert problem(kestrel, named(name, None), where) == (
+        f"{label} is blank; road-user costs need it once a value of time or the occupancy is "
+        "given (leave those three blank to price delay at the published defaults)"
+    )
+
+
+def test_a_bad_cost_value_is_named(kestrel: bytes) -> None:
+    message = problem(kestrel, named("cost_car_value", "20 $/h"), "Limits!B12")
+    assert message == (
+        "Value of time, car occupants: '20 $/h' is text, not a number; type only the number, "
+        "without its unit"
+    )
+
+
+def test_a_sheet_of_the_users_with_an_output_sheets_name_is_refused(kestrel: bytes) -> None:
+    message = problem(kestrel, lambda wb: wb.create_sheet("results"), "sheet 'results'")
+    assert message.startswith(
+        "this sheet of yours has the name of a sheet wzq writes its results to ('Results', "
+    )
+    assert message.endswith("so `wzq run` would have to replace it; rename it")
