@@ -140,3 +140,22 @@ def test_the_time_stamp_is_utc_to_the_second() -> None:
     after = dt.datetime.now(dt.UTC)
     parsed = dt.datetime.strptime(stamp, "%Y-%m-%dT%H:%M:%SZ").replace(tzinfo=dt.UTC)
     assert before <= parsed <= after and stamp.endswith("Z")
+
+
+def test_a_closure_in_words() -> None:
+    c = Closure(
+        start=at(3, 21),
+        end=at(4, 5),
+        lanes_closed=2,
+        barrier="hard",  # shown as "concrete barrier"
+        capacity_override_veh_h_ln=1234.6,
+        note="joint saw-cut",
+    )
+    text = Wr.closure_text(3, c, 3)
+    assert text.startswith("Closure 3: Mon 2027-05-03 21:00 to Tue 2027-05-04 05:00; ")
+    assert text.endswith(
+        "; 2 of 3 lanes closed, concrete barrier; capacity set by user 1,235 veh/h/ln. "
+        "joint saw-cut"
+    )
+    plain = Wr.closure_text(1, dataclasses.replace(c, capacity_override_veh_h_ln=None, note=""), 3)
+    assert plain.endswith("; 2 of 3 lanes closed, concrete barrier")
