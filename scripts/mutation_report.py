@@ -17,9 +17,11 @@ separately and left out of the second score.
 
 from __future__ import annotations
 
+import fnmatch
 import json
 import re
 import sys
+import tomllib
 from collections import Counter
 from pathlib import Path
 
@@ -36,12 +38,64 @@ def equivalent_names(doc: Path = ROOT / "docs" / "mutation.md") -> set[str]:
     return set(re.findall(r"^- `([\w.ǁ]+__mutmut_\d+)`", doc.read_text(), flags=re.M))
 
 
+#: The groups the targets are set for (docs/mutation.md): module globs, or for the writer
+#: the functions that turn numbers into cells (its styling is not scored).
+GROUPS: dict[str, tuple[str, ...]] = {
+    "models": ("wzq/units.py", "wzq/models/*.py"),
+    "engine": tuple(
+        f"wzq/engine/{m}.py"
+        for m in ("site", "grid", "evaluate", "hourly", "queue_length", "costs", "windows")
+    ),
+    "reader value paths": ("wzq/io/workbook/reader/*.py", "wzq/io/workbook/saved_values.py"),
+    "writer value paths": tuple(
+        f"wzq.io.workbook.writer.x_{f}__mutmut_*"
+        for f in (
+            "values",
+            "hour_closures",
+            "listed_hours",
+            "cell_text",
+            "put_text",
+            "number_looks",
+            "limit_texts",
+            "plan_checks",
+            "closure_text",
+            "input_fingerprint",
+            "utc_now",
+        )
+    ),
+}
+
+
+def mutated_globs() -> list[str]:
+    """``only_mutate`` of ``[tool.mutmut]``: modules dropped from it are not reported."""
+    config = tomllib.loads((ROOT / "pyproject.toml").read_text())
+    return config["tool"]["mutmut"].get("only_mutate", ["*"])
+
+
 def results(root: Path = ROOT / "mutants") -> dict[str, dict[str, int | None]]:
+    globs = mutated_globs()
     out = {}
     for meta in sorted(root.rglob("*.py.meta")):
         module = str(meta.relative_to(root))[: -len(".meta")]
-        out[module] = json.loads(meta.read_text())["exit_code_by_key"]
+        if any(fnmatch.fnmatch(module, g) for g in globs):
+            out[module] = json.loads(meta.read_text())["exit_code_by_key"]
     return out
+
+
+def kind_of(code: int | None) -> str:
+    if code in KILLED:
+        return "killed"
+    if code in TIMEOUT:
+        return "timeout"
+    if code in SURVIVED:
+        return "survived"
+    if code in NO_TESTS:
+        return "no tests"
+    return "not run" if code is None else "other"
+
+
+def in_group(group: str, module: str, name: str) -> bool:
+    return any(fnmatch.fnmatch(name if "__mutmut_" in g else module, g) for g in GROUPS[group])
 
 
 def pending(modules: list[str], *, survivors: bool = False) -> int:
@@ -69,34 +123,27 @@ def main() -> int:
         return 1
     rows = []
     total = Counter()
+    groups = {g: Counter() for g in GROUPS}
     survivors = []
     for module, codes in data.items():
         c = Counter()
         for name, code in codes.items():
-            kind = (
-                "killed"
-                if code in KILLED
-                else "timeout"
-                if code in TIMEOUT
-                else "survived"
-                if code in SURVIVED
-                else "no tests"
-                if code in NO_TESTS
-                else "not run"
-                if code is None
-                else "other"
-            )
-            c[kind] += 1
+            kind = kind_of(code)
+            counts = [c] + [groups[g] for g in GROUPS if in_group(g, module, name)]
+            for counter in counts:
+                counter[kind] += 1
             if kind in ("survived", "no tests"):
                 if name in equivalent:
-                    c["equivalent"] += 1
+                    for counter in counts:
+                        counter["equivalent"] += 1
                 else:
                     survivors.append((name, kind))
         total.update(c)
         rows.append((module, c))
     rows.append(("all", total))
+    rows.extend(groups.items())
     print(
-        f"{'module':24} {'mutants':>7} {'killed':>7} {'timeout':>7} {'survived':>8} "
+        f"{'module':34} {'mutants':>7} {'killed':>7} {'timeout':>7} {'survived':>8} "
         f"{'no tests':>8} {'not run':>7} {'equiv.':>6} {'score':>6} {'excl. eq.':>9}"
     )
     for module, c in rows:
@@ -107,7 +154,7 @@ def main() -> int:
         net = tried - c["equivalent"]
         score_eq = 100 * caught / net if net else float("nan")
         print(
-            f"{module:24} {n:7d} {c['killed']:7d} {c['timeout']:7d} {c['survived']:8d} "
+            f"{module:34} {n:7d} {c['killed']:7d} {c['timeout']:7d} {c['survived']:8d} "
             f"{c['no tests']:8d} {c['not run']:7d} {c['equivalent']:6d} {score:5.1f}% "
             f"{score_eq:8.1f}%"
         )

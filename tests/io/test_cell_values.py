@@ -21,6 +21,7 @@ from typing import Any
 
 import openpyxl
 import pytest
+from openpyxl.utils.datetime import CALENDAR_MAC_1904
 from workbook_helpers import fill_template, named_cell, problem, read, set_named, table_cell
 
 from wzq.engine.plan import Plan
@@ -606,3 +607,77 @@ def test_a_sheet_of_the_users_with_an_output_sheets_name_is_refused(kestrel: byt
         "this sheet of yours has the name of a sheet wzq writes its results to ('Results', "
     )
     assert message.endswith("so `wzq run` would have to replace it; rename it")
+
+
+# -- what the blank hint says, and the 1904 date system -------------------------------------
+
+
+def test_the_blank_hint_gives_the_unit_of_the_files_system(kestrel: bytes) -> None:
+    def metric(wb: Any) -> None:
+        set_named(wb, "unit_system", "metric")
+        set_named(wb, "site_speed_limit", None)
+
+    assert problem(kestrel, metric, "Site!B9") == "Speed limit is blank; type a number (km/h)"
+
+
+def test_a_required_text_left_blank_asks_to_type_it(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        set_named(wb, "demand_mode", "from a count history")
+        set_named(wb, "history_source", None)
+
+    assert problem(kestrel, edit, "Demand!K12") == "Counts are on is blank; type it"
+
+
+def serial_1904(d: dt.date) -> int:
+    """The 1904 date system's serial number: days since 1904-01-01 (ECMA-376 18.17.4.1)."""
+    return (d - dt.date(1904, 1, 1)).days
+
+
+def in_1904(*edits: Callable[[Any], Any]) -> Callable[[Any], None]:
+    def edit(wb: Any) -> None:
+        wb.epoch = CALENDAR_MAC_1904
+        for e in edits:
+            e(wb)
+
+    return edit
+
+
+def test_a_serial_date_in_a_1904_workbook(kestrel: bytes) -> None:
+    plan = read(kestrel, in_1904(closure("Date", serial_1904(dt.date(2027, 5, 3)))))
+    assert isinstance(plan, Plan), plan
+    assert plan.closures[0].start == dt.datetime(2027, 5, 3, 21, 0)
+    # To as a date-time serial of the 1904 system: Tue 06:00
+    plan = read(kestrel, in_1904(closure("To", serial_1904(dt.date(2027, 5, 4)) + 0.25)))
+    assert isinstance(plan, Plan), plan
+    assert plan.closures[0].end == dt.datetime(2027, 5, 4, 6, 0)
+
+
+def test_a_small_number_in_a_1904_workbook_is_named_with_that_systems_day(
+    kestrel: bytes,
+) -> None:
+    message = problem(kestrel, in_1904(closure("Date", 45)), "Closures!A6")
+    # day zero of the 1904 system is 1904-01-01; 45 days later is 1904-02-15
+    assert message == (
+        "Date: 45 is a number, not a date (a spreadsheet reads it as 45 days after its "
+        "day zero, 1904-02-15); type a date, e.g. 2027-05-03"
+    )
+
+
+def test_the_last_serial_a_spreadsheet_holds_is_a_date_of_9999(kestrel: bytes) -> None:
+    message = problem(kestrel, closure("Date", 2_958_465.99999), "Closures!A6")
+    assert message == "Date holds a time of day (9999-12-31 23:59); type only the date"
+    beyond = problem(kestrel, closure("Date", 2_958_466), "Closures!A6")
+    assert beyond.startswith("Date: 2,958,466 is past the last date a spreadsheet can hold")
+
+
+def test_cells_merged_down_a_column_elsewhere_do_not_change_a_cell(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        ws = wb["Closures"]
+        ws.merge_cells("B30:B31")  # same column, other rows (blank)
+        ws.merge_cells("H6:H7")  # same rows, another column (the notes)
+        ws.merge_cells("B6:B7")
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert plan.closures[1].start == dt.datetime(2027, 5, 4, 21, 0)  # B7 shows B6's 21:00
+    assert plan.closures[1].note == plan.closures[0].note  # H7 shows H6

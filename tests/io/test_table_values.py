@@ -10,6 +10,8 @@ from __future__ import annotations
 
 import datetime as dt
 import io
+import re
+import zipfile
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any
@@ -17,6 +19,7 @@ from typing import Any
 import numpy as np
 import openpyxl
 import pytest
+from openpyxl.utils.datetime import CALENDAR_MAC_1904
 from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.table import Table
 from workbook_helpers import (
@@ -243,19 +246,62 @@ def test_an_aadt_input_left_blank_says_what_to_type(
 
 
 def saved(
-    data: bytes, tmp_path: Path, formulas: dict[str, str], results: dict[str, Any]
+    data: bytes,
+    tmp_path: Path,
+    formulas: dict[str, str],
+    results: dict[str, Any],
+    edit: Callable[[Any], Any] | None = None,
+    *,
+    as_bytes: bool = False,
 ) -> Plan | dict[str, str]:
-    """Site-sheet formulas with the results a spreadsheet program saved, read from the file."""
+    """Formulas (``Sheet!A1`` or a Site-sheet cell) with the results a spreadsheet program
+    saved, read from the file (by path, or as bytes alone with ``as_bytes``)."""
     path = tmp_path / "f.xlsx"
     wb = openpyxl.load_workbook(io.BytesIO(data))
-    for coord, formula in formulas.items():
-        wb["Site"][coord].value = formula
+    where = {c: tuple(c.split("!")) if "!" in c else ("Site", c) for c in {*formulas, *results}}
+    for cell, formula in formulas.items():
+        sheet, coord = where[cell]
+        wb[sheet][coord].value = formula
+    if edit is not None:
+        edit(wb)
     wb.save(path)
-    save_results_as_a_spreadsheet_program(path, {("Site", c): v for c, v in results.items()})
+    save_results_as_a_spreadsheet_program(path, {where[c]: v for c, v in results.items()})
+    book = openpyxl.load_workbook(path)
     try:
-        return read_plan_from_book(openpyxl.load_workbook(path), "f.xlsx", path)
+        if as_bytes:
+            return read_plan_from_book(book, "f.xlsx", data=path.read_bytes())
+        return read_plan_from_book(book, "f.xlsx", path)
     except PlanError as e:
         return {p.where: p.message for p in e.problems}
+
+
+def with_shared_string_result(path: Path, sheet: int, coord: str, text: str) -> None:
+    """Store the saved result of the formula in ``coord`` as entry 0 of a shared-string
+    table (``t="s"``, ECMA-376 Part 1, 18.3.1.4), as some programs write text results."""
+    sst = (
+        '<sst xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main" count="1" '
+        f'uniqueCount="1"><si><t>{text}</t></si></sst>'
+    )
+    kind = "application/vnd.openxmlformats-officedocument.spreadsheetml.sharedStrings+xml"
+    out = io.BytesIO()
+    with zipfile.ZipFile(path) as zin, zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as zout:
+        for info in zin.infolist():
+            part = zin.read(info).decode()
+            if info.filename == "[Content_Types].xml":
+                part = part.replace(
+                    "</Types>",
+                    f'<Override PartName="/xl/sharedStrings.xml" ContentType="{kind}"/></Types>',
+                )
+            if info.filename == f"xl/worksheets/sheet{sheet}.xml":
+                part, n = re.subn(
+                    rf'<c r="{coord}"([^>]*?) t="str"([^>]*)>(<f>[^<]*</f>)<v>[^<]*</v>',
+                    rf'<c r="{coord}"\1 t="s"\2>\3<v>0</v>',
+                    part,
+                )
+                assert n == 1
+            zout.writestr(info, part)
+        zout.writestr("xl/sharedStrings.xml", sst)
+    path.write_bytes(out.getvalue())
 
 
 def test_a_formula_is_read_by_its_saved_result(kestrel: bytes, tmp_path: Path) -> None:
@@ -305,8 +351,77 @@ def test_a_formula_in_memory_has_no_saved_result(kestrel: bytes) -> None:
 def test_a_formula_from_an_output_sheet_is_refused(kestrel: bytes, tmp_path: Path) -> None:
     out = saved(kestrel, tmp_path, {"B9": f"='{L.RESULTS}'!C5"}, {"B9": 65})
     assert isinstance(out, dict), out
-    assert out["Site!B9"].startswith(f"its formula takes its value from {L.RESULTS}!C5")
-    assert "on a sheet wzq rewrites on every run" in out["Site!B9"]
+    assert out["Site!B9"] == (
+        f"its formula takes its value from {L.RESULTS}!C5, on a sheet wzq rewrites on every "
+        "run, so its saved result can be out of date; type the value, or refer to a cell of "
+        "an input sheet"
+    )
+
+
+def test_a_formula_read_from_the_files_bytes_alone(kestrel: bytes, tmp_path: Path) -> None:
+    plan = saved(kestrel, tmp_path, {"B9": "=60+10"}, {"B9": 70}, as_bytes=True)
+    assert isinstance(plan, Plan), plan
+    assert plan.site.speed_limit == pytest.approx(70 * 0.44704, rel=1e-12)
+
+
+def test_a_formula_result_shown_as_a_date_is_a_date(kestrel: bytes, tmp_path: Path) -> None:
+    def date_format(wb: Any) -> None:
+        wb["Site"]["B9"].number_format = "yyyy-mm-dd"
+
+    out = saved(kestrel, tmp_path, {"B9": "=60+5"}, {"B9": 65}, date_format)
+    assert isinstance(out, dict), out
+    # serial 65 of the 1900 system is 1900-03-05 (60 is the fictitious 1900-02-29)
+    assert out["Site!B9"] == (
+        "Speed limit holds a date or time (1900-03-05 00:00), not a number; set the cell's "
+        "format to General or Number and type the number"
+    )
+
+
+def test_a_formula_date_in_a_1904_workbook(kestrel: bytes, tmp_path: Path) -> None:
+    def epoch(wb: Any) -> None:
+        wb.epoch = CALENDAR_MAC_1904
+
+    # 2027-05-03 is day 45,048 of the 1904 system (days since 1904-01-01, ECMA-376 18.17.4.1)
+    day = (dt.date(2027, 5, 3) - dt.date(1904, 1, 1)).days
+    plan = saved(kestrel, tmp_path, {"Closures!A6": "=A7-1"}, {"Closures!A6": day}, epoch)
+    assert isinstance(plan, Plan), plan
+    assert plan.closures[0].start == dt.datetime(2027, 5, 3, 21, 0)
+
+
+@pytest.mark.parametrize("as_bytes", [False, True])
+def test_a_formula_text_result_kept_as_a_shared_string(
+    kestrel: bytes, tmp_path: Path, as_bytes: bool
+) -> None:
+    path = tmp_path / "s.xlsx"
+    wb = openpyxl.load_workbook(io.BytesIO(kestrel))
+    wb["Site"]["B14"].value = '=IF(B8>2,"rolling","level")'
+    wb.save(path)
+    save_results_as_a_spreadsheet_program(path, {("Site", "B14"): "rolling"})
+    with_shared_string_result(path, wb.sheetnames.index("Site") + 1, "B14", "rolling")
+    book = openpyxl.load_workbook(path)
+    source = {"data": path.read_bytes()} if as_bytes else {"path": path}
+    plan = read_plan_from_book(book, "s.xlsx", **source)
+    assert plan.site.terrain == "rolling"
+
+
+def test_a_formula_with_a_changing_function_is_warned_about(kestrel: bytes, tmp_path: Path) -> None:
+    plan = saved(kestrel, tmp_path, {"B9": "=TODAY()*0+65"}, {"B9": 65})
+    assert isinstance(plan, Plan), plan
+    assert (
+        "Site!B9: its formula uses TODAY(), whose value changes by itself; wzq uses the result "
+        "saved with the workbook (as of its last recalculation): type the value if it must "
+        "not change"
+    ) in plan.input_warnings
+
+
+def test_a_demand_of_zero_from_a_formula_is_warned_about(kestrel: bytes, tmp_path: Path) -> None:
+    plan = saved(kestrel, tmp_path, {"Demand!C9": "=D9"}, {"Demand!C9": 0})
+    assert isinstance(plan, Plan), plan
+    assert plan.demand.flows_veh_h[0] == 0.0
+    assert (
+        "Demand!C9: Demand is 0 from the formula =D9, read as an hour with no traffic; check "
+        "what it refers to (a formula pointing at an empty cell gives 0)"
+    ) in plan.input_warnings
 
 
 def test_a_workbook_set_to_calculate_by_hand_is_warned_about(
@@ -319,10 +434,11 @@ def test_a_workbook_set_to_calculate_by_hand_is_warned_about(
     wb.save(path)
     save_results_as_a_spreadsheet_program(path, {("Site", "B9"): 65})
     plan = read_plan_from_book(openpyxl.load_workbook(path), "m.xlsx", path)
-    assert any(
-        w.startswith("m.xlsx: the workbook is set to calculate manually")
-        for w in plan.input_warnings
-    )
+    assert (
+        "m.xlsx: the workbook is set to calculate manually, so the saved results of its "
+        "formulas may be out of date; recalculate it and save it in your spreadsheet program "
+        "before running wzq"
+    ) in plan.input_warnings
 
 
 # -- merged cells --------------------------------------------------------------------------
