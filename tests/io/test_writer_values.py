@@ -159,3 +159,20 @@ def test_a_closure_in_words() -> None:
     )
     plain = Wr.closure_text(1, dataclasses.replace(c, capacity_override_veh_h_ln=None, note=""), 3)
     assert plain.endswith("; 2 of 3 lanes closed, concrete barrier")
+
+
+def test_the_time_stamp_is_utc_on_a_machine_in_another_time_zone(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    import time
+
+    monkeypatch.setenv("TZ", "Asia/Kolkata")  # UTC+05:30 all year (no daylight saving)
+    time.tzset()
+    try:
+        stamp = Wr.utc_now()
+        now = dt.datetime.now(dt.UTC)
+    finally:
+        monkeypatch.undo()
+        time.tzset()
+    parsed = dt.datetime.strptime(stamp, "%Y-%m-%dT%H:%M:%SZ").replace(tzinfo=dt.UTC)
+    assert abs((now - parsed).total_seconds()) < 60  # not 5.5 hours off
