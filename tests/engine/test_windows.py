@@ -202,6 +202,22 @@ def test_latest_end_per_start_and_the_hours_a_closure_may_cover() -> None:
     assert w.added_delay_veh_h == 0.0  # 1,000 veh/h through a 1,500 veh/h closure: no queue
 
 
+def test_the_intervals_covered_when_one_window_ends_where_another_starts() -> None:
+    # A hand matrix on the night-only day's grid: closures from 00:00 may end at 01:00 to
+    # 07:00, closures from 07:00 at 08:00 to 10:00, nothing else. Some closure may be in
+    # place from 00:00 to 10:00, none after.
+    flows = [1000.0] * 7 + [2500.0] * 12 + [1000.0] * 5
+    ws = W.find_windows(
+        hand_site(), hourly(flows), Thresholds(max_queue_length=1000.0), [HAND_CONFIG]
+    ).sets[0]
+    allowed = np.zeros((24, 25), dtype=bool)
+    allowed[0, 1:8] = True
+    allowed[7, 8:11] = True
+    hand = replace(ws, allowed=allowed)
+    assert hand.last_end().tolist() == [7] + [-1] * 6 + [10] + [-1] * 16
+    assert hand.interval_flags().tolist() == [h < 10 for h in range(24)]
+
+
 def test_closure_may_run_past_midnight() -> None:
     day = [1000.0] * 7 + [2500.0] * 12 + [1000.0] * 5
     ws = windows_of(hand_site(), hourly(day * 2), Thresholds(max_queue_length=1000.0))

@@ -275,12 +275,15 @@ def saved(
         return {p.where: p.message for p in e.problems}
 
 
-def with_shared_string_result(path: Path, sheet: int, coord: str, text: str) -> None:
+def with_shared_string_result(
+    path: Path, sheet: int, coord: str, text: str, entry: str = "<si><t>{}</t></si>"
+) -> None:
     """Store the saved result of the formula in ``coord`` as entry 0 of a shared-string
-    table (``t="s"``, ECMA-376 Part 1, 18.3.1.4), as some programs write text results."""
+    table (``t="s"``, ECMA-376 Part 1, 18.3.1.4), as some programs write text results;
+    ``entry`` is that entry's XML."""
     sst = (
         '<sst xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main" count="1" '
-        f'uniqueCount="1"><si><t>{text}</t></si></sst>'
+        f'uniqueCount="1">{entry.format(text)}</sst>'
     )
     kind = "application/vnd.openxmlformats-officedocument.spreadsheetml.sharedStrings+xml"
     out = io.BytesIO()
@@ -402,6 +405,24 @@ def test_a_formula_text_result_kept_as_a_shared_string(
     source = {"data": path.read_bytes()} if as_bytes else {"path": path}
     plan = read_plan_from_book(book, "s.xlsx", **source)
     assert plan.site.terrain == "rolling"
+
+
+def test_a_formula_result_in_a_damaged_part_is_no_result(kestrel: bytes, tmp_path: Path) -> None:
+    path = tmp_path / "d.xlsx"
+    wb = openpyxl.load_workbook(io.BytesIO(kestrel))
+    wb["Site"]["B14"].value = '=IF(B8>2,"rolling","level")'
+    wb.save(path)
+    save_results_as_a_spreadsheet_program(path, {("Site", "B14"): "rolling"})
+    book = openpyxl.load_workbook(path)  # the workbook as loaded; the bytes read later damaged
+    sheet = wb.sheetnames.index("Site") + 1
+    with_shared_string_result(path, sheet, "B14", "rolling", entry="<si><t>{}</si>")
+    damaged = path.read_bytes()
+    with pytest.raises(PlanError) as e:
+        read_plan_from_book(book, "d.xlsx", data=damaged)
+    assert {p.where: p.message for p in e.value.problems} == {
+        "Site!B14": "holds a formula with no saved result; open and save the workbook in your "
+        "spreadsheet program, or type the value"
+    }
 
 
 def test_a_formula_with_a_changing_function_is_warned_about(kestrel: bytes, tmp_path: Path) -> None:
