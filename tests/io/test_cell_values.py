@@ -482,6 +482,7 @@ def test_closure_dates_and_times_as_spreadsheets_store_them(
             "Closures!C6",
             "To: -1 day, 21:00:00 is not a time; type a time like 21:00 (24-hour clock)",
         ),
+        ("Lanes closed", None, "Closures!D6", "Lanes closed is blank; type a number"),
         (
             "Lanes closed",
             3,
