@@ -21,9 +21,8 @@ def night_by_clock(start_hour: int, hour: np.ndarray) -> np.ndarray:
     ``hour`` counts whole hours from the start of the demand, which starts on
     the hour ``start_hour``; one day's pattern is repeated over the run.
     """
-    clock = (start_hour + np.arange(24)) % 24
-    pattern = (clock >= NIGHT_START_HOUR) | (clock < NIGHT_END_HOUR)
-    return np.tile(pattern, int(hour[-1]) // 24 + 1)[hour]
+    clock = (start_hour + hour) % 24
+    return (clock >= NIGHT_START_HOUR) | (clock < NIGHT_END_HOUR)
 
 
 def _closure_table(plan: Plan) -> tuple[np.ndarray, np.ndarray, np.ndarray, list[Closure]]:
@@ -81,16 +80,16 @@ def _grid(
         # the data interval divides an hour (plan check), so every hour is a boundary of t
         t = np.unique(np.concatenate([t, starts, ends]))
         mid = 0.5 * (t[:-1] + t[1:])
-        demand_index = np.minimum(np.floor(mid / step).astype(np.intp), n - 1)
+        # closures lie within the demand (plan check): every mid-point is before n * step
+        demand_index = np.floor(mid / step).astype(np.intp)
         hour = np.floor(mid / HOUR).astype(np.intp)
         first = np.searchsorted(mid, starts)
         stop = np.searchsorted(mid, ends)
     m = len(t) - 1
     if len(starts):
         order = np.argsort(first)  # closures never share a first interval
-        edges = np.empty(2 * len(order) + 2, dtype=np.intp)
-        edges[0], edges[-1] = 0, m
-        edges[1:-1:2], edges[2:-1:2] = first[order], stop[order]
+        inner = np.column_stack((first[order], stop[order])).ravel()  # start, stop, ...
+        edges = np.concatenate(([0], inner, [m]))
         labels = np.full(2 * len(order) + 1, -1)
         labels[1::2] = order
         closure_index = np.repeat(labels, np.diff(edges))
