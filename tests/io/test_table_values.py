@@ -124,6 +124,11 @@ def test_an_aadt_hour_is_read_however_it_is_typed(
         ("2027-05-03 07:00", "Hour holds a date; type only the hour, e.g. 07:00"),
         ("seven", "Hour: 'seven' is not a time; type a time like 21:00 (24-hour clock)"),
         ("06:00", "hour 06:00 appears twice; keep one row per hour"),
+        (
+            "24:00",
+            "Hour is 24:00, past 24:00; use 00:00-23:59 (in a formula, wrap the time in "
+            "MOD(...,1) to get 00:00)",
+        ),
     ],
 )
 def test_an_aadt_hour_that_cannot_be_read_names_its_cell(
@@ -133,7 +138,24 @@ def test_an_aadt_hour_that_cannot_be_read_names_its_cell(
         aadt(wb, flat)
         table_cell(wb, SHARES, 7, "Hour").value = hour
 
-    assert problem(kestrel, edit, "Demand!E24") == message
+    assert read(kestrel, edit) == {"Demand!E24": message}  # and no other problem
+
+
+def test_an_aadt_hour_typed_as_the_number_1_is_01_00(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, peaked)
+        table_cell(wb, SHARES, 1, "Hour").value = 1
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert plan.demand.flows_veh_h[48 + 1] == pytest.approx(22_000 * 0.875 / 23, rel=1e-12)
+
+
+def test_small_aadt_shares_are_not_taken_for_fractions(kestrel: bytes) -> None:
+    # the template's night shares (0.6 %, 0.8 % ...) are percentages, not fractions
+    plan = read(kestrel, lambda wb: aadt(wb))
+    assert isinstance(plan, Plan), plan
+    assert not [w for w in plan.input_warnings if "% of AADT is" in w]
 
 
 def test_an_aadt_hour_missing_is_named(kestrel: bytes) -> None:
@@ -156,6 +178,10 @@ def test_an_aadt_hour_missing_is_named(kestrel: bytes) -> None:
         # typed as fractions: both columns sum to 1
         (0.01, 0.0, "Demand!F16", "the column 'Weekday % of AADT' sums to 1.0 %, not 100 %; "),
         (0.01, 0.0, "Demand!G16", "the column 'Weekday % of AADT' sums to 1.0 %, not 100 %; "),
+        # half the shares: 50 %, far from 1 as from 100, so not taken for fractions
+        (0.5, 0.0, "Demand!F16", "the column 'Weekday % of AADT' sums to 50.0 %, not 100 %; "),
+        # 1.00498: within 0.005 of 1, so fractions
+        (0.01, 0.00498, "Demand!F16", "the column 'Weekday % of AADT' sums to 1.0 %, not 100 %; "),
     ],
 )
 def test_aadt_shares_must_sum_to_100(
@@ -165,7 +191,7 @@ def test_aadt_shares_must_sum_to_100(
         return scale * 100 / 24 + (extra if h == 7 else 0.0), scale * 100 / 24
 
     got = problem(kestrel, lambda wb: aadt(wb, shares), where)
-    if scale == 1.0:
+    if scale >= 0.5:
         assert got == message + "correct the shares"
     else:
         column = WEEKDAY if where.startswith("Demand!F") else WEEKEND
@@ -184,6 +210,13 @@ def test_aadt_shares_within_half_a_point_of_100_are_taken(kestrel: bytes, extra:
     assert isinstance(plan, Plan), plan
     # Mon 07:00: 22,000 x (100/24 + extra) % (the shares are used as typed)
     assert plan.demand.flows_veh_h[48 + 7] == pytest.approx(220 * (100 / 24 + extra), rel=1e-12)
+
+
+def test_aadt_shares_half_a_point_over_100_are_taken(kestrel: bytes) -> None:
+    # 23 hours of 4 % and one of 8.5 %: exactly 100.5 % in binary floating point
+    plan = read(kestrel, lambda wb: aadt(wb, lambda h: (8.5 if h == 23 else 4.0, 100 / 24)))
+    assert isinstance(plan, Plan), plan
+    assert plan.demand.flows_veh_h[48 + 23] == pytest.approx(22_000 * 0.085, rel=1e-12)
 
 
 def test_aadt_shares_in_percent_cells_are_read_as_shown(kestrel: bytes) -> None:
