@@ -785,3 +785,88 @@ def test_aadt_inputs_left_filled_in_with_counts_are_named(kestrel: bytes) -> Non
         "is 'hourly counts', so the AADT inputs are not used; clear them, or choose "
         "'from AADT'"
     ) in plan.input_warnings
+
+
+# -- other tables and names beside a table, and totals below it --------------------------------
+
+
+@pytest.mark.parametrize(
+    ("ref", "value_at", "warned"),
+    [
+        ("I5:I7", "I6", False),  # inside a table of the user's own: not ours to name
+        ("I10:I12", "I6", True),  # above that table, in its column
+        ("I10:I12", "I20", True),  # below it
+        ("K5:L7", "I6", True),  # in its rows, not its columns
+    ],
+)
+def test_a_value_beside_the_table_and_a_table_of_the_users_own(
+    kestrel: bytes, ref: str, value_at: str, warned: bool
+) -> None:
+    def edit(wb: Any) -> None:
+        ws = wb["Closures"]
+        first, last = ref.split(":")
+        for cell in {first, last}:
+            ws[cell] = "Crew"
+        ws.add_table(Table(displayName="Crews", ref=ref))
+        ws[value_at] = "night crew"
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    beside = [w for w in plan.input_warnings if w.startswith(f"Closures!{value_at}: a value")]
+    assert bool(beside) is warned
+
+
+def test_a_value_beside_the_share_table_next_to_the_counts_table(kestrel: bytes) -> None:
+    # column D lies beside the share table (E:G) and is outside the counts table (A:C)
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        wb["Demand"]["D20"] = "check"
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert (
+        "Demand!D20: a value right beside the table HourlyShareTable (columns E to G) not "
+        "read as part of the plan; if it belongs to the plan, move it into the table's own "
+        "columns"
+    ) in plan.input_warnings
+
+
+def test_a_name_openpyxl_cannot_follow_is_named_and_the_rest_is_read(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        wb.defined_names["meta_notes"] = DefinedName("meta_notes", attr_text="Site Two!$A$1")
+        wb["Closures"]["I6"] = "night crew"  # beside the closure table: names are looked up
+
+    out = read(kestrel, edit)
+    assert out == {
+        "Start (name meta_notes)": "the defined name meta_notes (Notes) points nowhere (its "
+        "cell was deleted); point it at the value cell again in the Name Manager"
+    }
+
+
+@pytest.mark.parametrize(
+    "total", ["=SUM(D6:D35)", "=SUM(D:D)", "=D35", "=D6", "=SUM(Closures!D6:D7)"]
+)
+def test_a_total_below_the_table_referring_to_its_rows_is_the_users_own(
+    kestrel: bytes, total: str
+) -> None:
+    def edit(wb: Any) -> None:
+        ws = wb["Closures"]
+        ws[f"A{BELOW}"] = "Total"
+        ws[f"D{BELOW}"] = total
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert len(plan.closures) == len(load_plan(KESTREL).closures)
+
+
+def test_a_row_of_text_below_the_table_is_read_as_a_row(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        ws = wb["Closures"]
+        ws[f"A{BELOW}"] = "Total"
+        ws[f"H{BELOW}"] = "two nights"
+
+    out = read(kestrel, edit)
+    assert isinstance(out, dict), out
+    assert out[f"Closures!A{BELOW}"].startswith(
+        "Date: 'Total' is not a date; type a date, e.g. 2027-05-03 (this row lies below"
+    )
