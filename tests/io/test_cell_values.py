@@ -682,3 +682,37 @@ def test_cells_merged_down_a_column_elsewhere_do_not_change_a_cell(kestrel: byte
     assert isinstance(plan, Plan), plan
     assert plan.closures[1].start == dt.datetime(2027, 5, 4, 21, 0)  # B7 shows B6's 21:00
     assert plan.closures[1].note == plan.closures[0].note  # H7 shows H6
+
+
+@pytest.mark.parametrize(
+    ("value", "year_problem"),
+    [
+        (dt.date(1900, 12, 31), None),  # the first year allowed
+        (dt.date(2199, 12, 31), None),  # the last
+        (dt.date(2200, 1, 1), "Date: the year 2200 is outside 1900-2199; check the date"),
+        (dt.datetime(1901, 1, 1), None),  # serial 367: the first date not taken for a count
+        (
+            dt.datetime(1900, 1, 2),  # serial 2: the smallest taken for a day count
+            "Date: 2 is a number, not a date (a spreadsheet reads it as 2 days after its day "
+            "zero, 1900-01-02); type a date, e.g. 2027-05-03",
+        ),
+    ],
+)
+def test_dates_at_the_ends_of_the_years_allowed(
+    kestrel: bytes, value: Any, year_problem: str | None
+) -> None:
+    message = problem(kestrel, closure("Date", value), "Closures!A6")
+    if year_problem is None:  # read as a date: then outside the demand, said as such
+        assert message.startswith("the closure ")
+        assert "lies outside the demand period" in message
+    else:
+        assert message == year_problem
+
+
+def test_a_date_cell_holding_a_small_number_in_a_1904_workbook(kestrel: bytes) -> None:
+    # 1904-02-15 is serial 45 of the 1904 system: a number shown as a date
+    message = problem(kestrel, in_1904(closure("Date", dt.datetime(1904, 2, 15))), "Closures!A6")
+    assert message == (
+        "Date: 45 is a number, not a date (a spreadsheet reads it as 45 days after its "
+        "day zero, 1904-02-15); type a date, e.g. 2027-05-03"
+    )

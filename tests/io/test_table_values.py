@@ -870,3 +870,34 @@ def test_a_row_of_text_below_the_table_is_read_as_a_row(kestrel: bytes) -> None:
     assert out[f"Closures!A{BELOW}"].startswith(
         "Date: 'Total' is not a date; type a date, e.g. 2027-05-03 (this row lies below"
     )
+
+
+def test_problems_below_the_table_and_elsewhere_are_all_said(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        third_closure(wb, BELOW, lanes=2.5)  # a problem in a row below the table
+        set_named(wb, "site_speed_limit", "fast")  # and one on another sheet
+        wb.defined_names["meta_notes"] = DefinedName("meta_notes", attr_text="Site Two!$A$1")
+
+    assert read(kestrel, edit) == {
+        "Site!B9": "Speed limit: 'fast' is text, not a number; type only the number, without "
+        "its unit",
+        "Start (name meta_notes)": "the defined name meta_notes (Notes) points nowhere (its "
+        "cell was deleted); point it at the value cell again in the Name Manager",
+        f"Closures!D{BELOW}": "Lanes closed must be a whole number, got 2.5 (this row lies "
+        "below the table ClosureTable and is read as part of it; if it is not part of the "
+        "plan, move it out of the table's columns)",
+    }
+
+
+def test_a_row_below_the_table_on_a_sheet_whose_name_needs_quotes(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        third_closure(wb, BELOW, lanes=2.5)
+        wb["Closures"].title = "Closure plan"
+
+    out = read(kestrel, edit)
+    assert isinstance(out, dict), out
+    assert out[f"'Closure plan'!D{BELOW}"] == (
+        "Lanes closed must be a whole number, got 2.5 (this row lies below the table "
+        "ClosureTable and is read as part of it; if it is not part of the plan, move it out "
+        "of the table's columns)"
+    )
