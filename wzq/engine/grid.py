@@ -82,7 +82,7 @@ def _grid(
         mid = 0.5 * (t[:-1] + t[1:])
         # closures lie within the demand (plan check): every mid-point is before n * step
         demand_index = np.floor(mid / step).astype(np.intp)
-        hour = np.floor(mid / HOUR).astype(np.intp)
+        hour = np.floor(mid / HOUR)  # whole hours (as floats: only the clock hour is taken)
         first = np.searchsorted(mid, starts)
         stop = np.searchsorted(mid, ends)
     m = len(t) - 1
@@ -127,10 +127,10 @@ def interval_arrays(plan: Plan) -> IntervalArrays:
     t, hour, ci, di = _grid(plan, starts, ends)
     clock_night = night_by_clock(plan.demand.start.hour, hour)
     # one capacity computation per distinct configuration and night flag, not
-    # per interval: key = 2 x (configuration + 1) + night, looked up in a table
+    # per interval: key = 2 x (configuration + 1) + night, found among the distinct keys
     conf = np.append(conf_of, -1)[ci]  # -1 (open road) stays -1
     keys = clock_night.view(np.int8) + 2 * (conf + 1)
-    present = np.flatnonzero(np.bincount(keys))
+    present, inv = np.unique(keys, return_inverse=True)  # sorted keys; each key's position
     n_u = len(present)
     values = np.zeros((3, n_u))  # pre-breakdown, discharge, extra seconds per vehicle
     lanes_u = np.full(n_u, site.lanes)
@@ -142,9 +142,6 @@ def interval_arrays(plan: Plan) -> IntervalArrays:
         values[:, j] = configuration(site, plan.options.diagram, config, night)
         if closure is not None:
             lanes_u[j] = site.lanes - closure.lanes_closed
-    table = np.zeros(2 * len(examples) + 2, dtype=np.intp)
-    table[present] = np.arange(n_u)
-    inv = table[keys]
     pre, qdr, extra = values[0].take(inv), values[1].take(inv), values[2].take(inv)
     lanes_open = lanes_u.take(inv)
     if not plan.options.capacity_drop:
