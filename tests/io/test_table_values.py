@@ -901,3 +901,22 @@ def test_a_row_below_the_table_on_a_sheet_whose_name_needs_quotes(kestrel: bytes
         "ClosureTable and is read as part of it; if it is not part of the plan, move it out "
         "of the table's columns)"
     )
+
+
+def test_counts_left_in_aadt_mode_are_named_with_the_output_sheets_moved_first(
+    kestrel: bytes,
+) -> None:
+    from wzq.io.workbook.writer import replace_sheets
+
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        replace_sheets(wb)  # the output sheets of a run, which a user moved to the front
+        for name in L.OUTPUT_SHEETS:
+            wb.move_sheet(name, offset=-wb.sheetnames.index(name))
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert (
+        "Demand!A9: the table DemandTable holds counts, but 'Demand is given as' (Demand!B4) "
+        "is 'from AADT', so they are not used; clear them, or choose 'hourly counts'"
+    ) in plan.input_warnings
