@@ -28,6 +28,7 @@ import datetime as dt
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import TypeVar
 
 import numpy as np
 from reportlab.graphics.shapes import Drawing, Group, Line, Polygon, PolyLine, Rect, String
@@ -101,6 +102,9 @@ TICK_PT, LABEL_PT, LEGEND_PT, TITLE_PT, NOTE_PT = 7.0, 8.0, 7.5, 8.5, 6.5
 AXIS_LW, GRID_LW, TICK_LEN = 0.6, 0.4, 3.5
 #: Room (points) between the top of a chart's plot area and its legend.
 LEGEND_GAP = 6.0
+
+
+LineShape = TypeVar("LineShape", Line, PolyLine)
 
 
 def grey(level: str) -> Color:
@@ -260,7 +264,8 @@ class Style:
     patch: bool = False
     edge: str | None = None
 
-    def line(self, shape):
+    def line(self, shape: LineShape) -> LineShape:
+        """``shape`` stroked in this style (dashes scaled by the width, as matplotlib does)."""
         shape.strokeColor = grey(self.shade)
         shape.strokeWidth = self.width
         if self.dashes:
@@ -329,8 +334,8 @@ class Canvas:
             self.d.add(Rect(x, y, w, h, fillColor=grey(shade), strokeColor=None, strokeWidth=0))
 
     def legend(self, x: float, y: float, entries: Sequence[tuple[Style, str]], ncol: int) -> None:
-        """Legend entries in rows of ``ncol`` from ``(x, y)`` (lower left of the top row
-        ... of one row; further rows go above it, the first row on top)."""
+        """Legend entries, a sample and a label each, in rows of ``ncol`` from ``(x, y)``
+        (the lower left of the last row; earlier rows above it, the first on top)."""
         rows = [entries[i : i + ncol] for i in range(0, len(entries), ncol)]
         step = 1.6 * LEGEND_PT
         for r, row in enumerate(rows):
@@ -349,9 +354,6 @@ class Canvas:
                 xx += 2.8 * LEGEND_PT
                 self.text(xx, yy, label, LEGEND_PT)
                 xx += self.width(label, LEGEND_PT) + 2.0 * LEGEND_PT
-
-    def legend_height(self, n: int, ncol: int) -> float:
-        return 1.6 * LEGEND_PT * math.ceil(n / ncol)
 
     def frame(
         self,
