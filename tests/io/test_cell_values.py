@@ -716,3 +716,25 @@ def test_a_date_cell_holding_a_small_number_in_a_1904_workbook(kestrel: bytes) -
         "Date: 45 is a number, not a date (a spreadsheet reads it as 45 days after its "
         "day zero, 1904-02-15); type a date, e.g. 2027-05-03"
     )
+
+
+def test_night_work_and_a_capacity_override_that_cannot_be_read(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        closure("Night work", "maybe")(wb)
+        closure("Capacity override (veh/h/ln)", "lots")(wb)
+        closure("Capacity override (veh/h/ln)", 50, index=1)(wb)  # 100 to 3,000 allowed
+
+    assert read(kestrel, edit) == {
+        "Closures!F6": "Night work: 'maybe' is not in the list; pick one of 'auto', 'yes', "
+        "'no' from the dropdown",
+        "Closures!G6": "Capacity override: 'lots' is text, not a number; type only the number, "
+        "without its unit",
+        "Closures!G7": "Capacity override must be 100 to 3,000 veh/h/ln (got 50); check the value",
+    }
+
+
+@pytest.mark.parametrize(("word", "night"), [("auto", None), ("Yes", True), (" no ", False)])
+def test_night_work_words(kestrel: bytes, word: str, night: bool | None) -> None:
+    plan = read(kestrel, closure("Night work", word))
+    assert isinstance(plan, Plan), plan
+    assert plan.closures[0].night is night
