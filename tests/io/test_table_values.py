@@ -844,7 +844,8 @@ def test_a_name_openpyxl_cannot_follow_is_named_and_the_rest_is_read(kestrel: by
 
 
 @pytest.mark.parametrize(
-    "total", ["=SUM(D6:D35)", "=SUM(D:D)", "=D35", "=D6", "=SUM(Closures!D6:D7)"]
+    "total",
+    ["=SUM(D6:D35)", "=SUM(D:D)", "=D35", "=D6", "=SUM(Closures!D6:D7)", "=COUNT(A6:A35)"],
 )
 def test_a_total_below_the_table_referring_to_its_rows_is_the_users_own(
     kestrel: bytes, total: str
@@ -920,3 +921,28 @@ def test_counts_left_in_aadt_mode_are_named_with_the_output_sheets_moved_first(
         "Demand!A9: the table DemandTable holds counts, but 'Demand is given as' (Demand!B4) "
         "is 'from AADT', so they are not used; clear them, or choose 'hourly counts'"
     ) in plan.input_warnings
+
+
+@pytest.mark.parametrize("formula", ["=SUM(J6:J35)", "=SUM(D40:D41)", "=SUM(D1:D4)"])
+def test_a_formula_below_the_table_referring_outside_it_is_a_row(
+    kestrel: bytes, formula: str
+) -> None:
+    # right of the table (J), below it, above it: not a total of the table's rows
+    def edit(wb: Any) -> None:
+        wb["Closures"][f"A{BELOW}"] = "Total"
+        wb["Closures"][f"D{BELOW}"] = formula
+
+    out = read(kestrel, edit)
+    assert isinstance(out, dict), out
+    assert out[f"Closures!D{BELOW}"].startswith("holds a formula with no saved result")
+
+
+def test_a_formula_below_the_share_table_referring_left_of_it_is_a_row(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        wb["Demand"]["E41"] = "Total"
+        wb["Demand"]["F41"] = "=SUM(A17:A40)"  # the counts table's column, left of the shares
+
+    out = read(kestrel, edit)
+    assert isinstance(out, dict), out
+    assert out["Demand!F41"].startswith("holds a formula with no saved result")
