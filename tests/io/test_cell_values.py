@@ -738,3 +738,35 @@ def test_night_work_words(kestrel: bytes, word: str, night: bool | None) -> None
     plan = read(kestrel, closure("Night work", word))
     assert isinstance(plan, Plan), plan
     assert plan.closures[0].night is night
+
+
+def test_closures_may_start_and_end_with_the_demand(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        closure("From", "00:00")(wb)  # Mon 00:00, the first hour of the demand
+        closure("To", "2027-05-06 00:00", index=1)(wb)  # Thu 00:00, its end
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert plan.closures[0].start == dt.datetime(2027, 5, 3, 0, 0)
+    assert plan.closures[1].end == dt.datetime(2027, 5, 6, 0, 0)
+
+
+def test_a_closure_outside_the_demand_is_named(kestrel: bytes) -> None:
+    message = problem(kestrel, closure("Date", dt.date(2027, 5, 10)), "Closures!A6")
+    assert message == (
+        "the closure Mon 2027-05-10 21:00 to Tue 2027-05-11 05:00 lies outside the demand "
+        "period Mon 2027-05-03 00:00 to Thu 2027-05-06 00:00; extend the demand or move the "
+        "closure"
+    )
+
+
+def test_overlapping_closures_are_named(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        closure("Date", dt.date(2027, 5, 3), index=1)(wb)
+        closure("From", "23:00", index=1)(wb)  # inside the first closure, 21:00 to 05:00
+
+    assert read(kestrel, edit) == {
+        "Closures!B7": "this closure (Mon 2027-05-03 23:00 to Tue 2027-05-04 05:00) overlaps "
+        "the one in row 6 (Mon 2027-05-03 21:00 to Tue 2027-05-04 05:00); one closure at a "
+        "time: merge them or move one"
+    }
