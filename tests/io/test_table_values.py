@@ -141,6 +141,20 @@ def test_an_aadt_hour_that_cannot_be_read_names_its_cell(
     assert read(kestrel, edit) == {"Demand!E24": message}  # and no other problem
 
 
+@pytest.mark.parametrize("first", ["07:30", "06:00"])
+def test_every_bad_aadt_hour_is_named(kestrel: bytes, first: str) -> None:
+    # a bad or repeated hour on row 24 does not stop the rows after it being read
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        table_cell(wb, SHARES, 7, "Hour").value = first
+        table_cell(wb, SHARES, 9, "Hour").value = 24
+
+    out = read(kestrel, edit)
+    assert isinstance(out, dict), out
+    assert set(out) == {"Demand!E24", "Demand!E26"}
+    assert out["Demand!E26"] == "Hour 24 is not an hour of the day; use 0-23 or 00:00-23:00"
+
+
 def test_an_aadt_hour_typed_as_the_number_1_is_01_00(kestrel: bytes) -> None:
     def edit(wb: Any) -> None:
         aadt(wb, peaked)
