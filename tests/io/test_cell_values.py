@@ -770,3 +770,32 @@ def test_overlapping_closures_are_named(kestrel: bytes) -> None:
         "the one in row 6 (Mon 2027-05-03 21:00 to Tue 2027-05-04 05:00); one closure at a "
         "time: merge them or move one"
     }
+
+
+def test_a_closure_overlapping_two_is_named_against_the_first(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        closure("Date", dt.date(2027, 5, 3), index=1)(wb)  # row 7: Mon 23:00 to Tue 05:00
+        closure("From", "23:00", index=1)(wb)
+        for header, value in zip(
+            L.CLOSURE_COLUMNS[:5],
+            (dt.date(2027, 5, 4), "04:00", "06:00", 1, "cones or drums"),
+            strict=True,
+        ):
+            closure(header, value, index=2)(wb)  # row 8: Tue 04:00 to 06:00
+
+    out = read(kestrel, edit)
+    assert isinstance(out, dict), out
+    # both earlier closures end at Tue 05:00: the later one is named against the first
+    assert out["Closures!B8"] == (
+        "this closure (Tue 2027-05-04 04:00 to Tue 2027-05-04 06:00) overlaps the one in row 6 "
+        "(Mon 2027-05-03 21:00 to Tue 2027-05-04 05:00); one closure at a time: merge them or "
+        "move one"
+    )
+
+
+def test_each_closure_and_its_note_keep_their_cells(kestrel: bytes) -> None:
+    plan = read(kestrel, lambda wb: None)
+    assert isinstance(plan, Plan), plan
+    assert plan.locations["closures[0]"] == "Closures!A6"
+    assert plan.locations["closures[1].note"] == "Closures!H7"
+    assert plan.locations["demand.veh_h[1]"] == "Demand!C10"
