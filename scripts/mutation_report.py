@@ -32,10 +32,13 @@ KILLED, SURVIVED, NO_TESTS, TIMEOUT = {1, 3}, {0}, {5, 33}, {36, 24, -24, 152, 2
 
 
 def equivalent_names(doc: Path = ROOT / "docs" / "mutation.md") -> set[str]:
-    """Mutant names listed as equivalent in the report (lines ``- `name` -- reason``)."""
+    """Mutant names listed as equivalent in the report (lines ``- `name` -- reason`` under
+    its heading "Equivalent mutants")."""
     if not doc.exists():
         return set()
-    return set(re.findall(r"^- `([\w.ǁ]+__mutmut_\d+)`", doc.read_text(), flags=re.M))
+    # only the list under its own heading: survivors named elsewhere are not equivalent
+    text = doc.read_text().partition("\n## Equivalent mutants\n")[2]
+    return set(re.findall(r"^- `([\w.ǁ]+__mutmut_\d+)`", text, flags=re.M))
 
 
 #: The groups the targets are set for (docs/mutation.md): module globs, or for the writer

@@ -218,6 +218,20 @@ def test_the_intervals_covered_when_one_window_ends_where_another_starts() -> No
     assert hand.interval_flags().tolist() == [h < 10 for h in range(24)]
 
 
+def test_the_five_longest_windows_by_default() -> None:
+    # Peaks of 2,500 veh/h every other hour: one closed peak hour (1,500 veh/h) stores
+    # 1,000 vehicles, beyond a 1 km limit (as above), so each off-peak hour is a window of
+    # its own: twelve windows of one hour, of which the first five are shown by default.
+    flows = [1000.0, 2500.0] * 12
+    result = W.find_windows(
+        hand_site(), hourly(flows), Thresholds(max_queue_length=1000.0), [HAND_CONFIG]
+    )
+    assert len(result.sets[0].maximal()) == 12
+    table = W.longest_windows(result)
+    assert [t.hour for t in table["start"]] == [0, 2, 4, 6, 8]
+    assert len(W.longest_windows(result, top=None)) == 12
+
+
 def test_closure_may_run_past_midnight() -> None:
     day = [1000.0] * 7 + [2500.0] * 12 + [1000.0] * 5
     ws = windows_of(hand_site(), hourly(day * 2), Thresholds(max_queue_length=1000.0))
