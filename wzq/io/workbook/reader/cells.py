@@ -6,9 +6,9 @@ from __future__ import annotations
 
 import contextlib
 import datetime as dt
+import math
 from typing import Any
 
-import numpy as np
 from openpyxl.cell.cell import ERROR_CODES, MergedCell
 from openpyxl.utils import range_boundaries
 from openpyxl.utils.datetime import from_excel, to_excel
@@ -345,7 +345,7 @@ class CellReader:
             return self.bad(where, f"{label} holds {str(v).upper()}, not a number; type a number")
         if isinstance(v, int | float):
             x = float(v)
-            if not np.isfinite(x):
+            if not math.isfinite(x):
                 return self.bad(where, f"{label} is not a finite number; type a number")
             return x
         if isinstance(v, dt.datetime | dt.date | dt.time | dt.timedelta):
