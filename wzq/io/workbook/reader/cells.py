@@ -40,6 +40,7 @@ from wzq.io.workbook.reader.values import (
     _percent_format,
     _show,
     cell_ref,
+    destinations,
 )
 from wzq.io.workbook.saved_values import SharedStrings, typed
 
@@ -194,7 +195,7 @@ class CellReader:
                     dn = ws.defined_names[name]
                     break
         try:
-            dests = [] if dn is None else list(dn.destinations)
+            dests = [] if dn is None else list(destinations(dn))
         except Exception:  # openpyxl cannot parse the reference
             dests = []
         broken = dn is None or not dests or "#REF!" in str(dn.value)

@@ -30,6 +30,7 @@ from wzq.io.workbook.reader.values import (
     _Table,
     _when,
     cell_ref,
+    destinations,
 )
 from wzq.models.demand import hourly_from_aadt
 
@@ -120,7 +121,7 @@ class DemandReader:
         """The cell a defined name points at, without recording a problem."""
         dn = self.wb.defined_names.get(name)
         try:
-            sheet, coord = next(iter(dn.destinations)) if dn is not None else (None, "")
+            sheet, coord = next(iter(destinations(dn))) if dn is not None else (None, "")
             c0, r0, _, _ = range_boundaries(coord.replace("$", ""))
         except Exception:
             return None

@@ -19,6 +19,7 @@ from wzq.io.workbook.reader.values import (
     _Row,
     _Table,
     cell_ref,
+    destinations,
 )
 
 __all__ = [
@@ -194,7 +195,7 @@ class TableReader:
             for f in F.ALL_FIELDS:
                 dn = self.wb.defined_names.get(f.name)
                 try:
-                    dests = [] if dn is None else list(dn.destinations)
+                    dests = [] if dn is None else list(destinations(dn))
                 except Exception:
                     dests = []
                 for sheet, coord in dests:
@@ -247,11 +248,12 @@ class TableReader:
         sides = {t.min_col - 1, t.max_col + 1}
         found = [
             cell_ref(t.ws.title, r, c)
-            for (r, c), cell in sorted(t.ws._cells.items())
-            if c in sides
-            and t.header_row <= r <= t.last_row
-            and not _blank(cell.value)
-            and self._not_ours(t.ws, r, c, t.name)
+            for (r, c), cell in sorted(
+                item
+                for item in t.ws._cells.items()
+                if item[0][1] in sides and t.header_row <= item[0][0] <= t.last_row
+            )
+            if not _blank(cell.value) and self._not_ours(t.ws, r, c, t.name)
         ]
         if found:
             more = f" and {len(found) - 3} more" if len(found) > 3 else ""
