@@ -6,7 +6,11 @@ boundaries, measured side by side in this one run; the figure is million
 cell-steps per second (cells times steps over wall-clock seconds; the runs
 alternate, and the ratio is taken run pair by run pair). clawpack:
 ``pyclaw.ClawSolver1D`` with ``riemann.traffic_1D`` at order 1 (pip package
-``clawpack``). Target: wzq at least 5 times clawpack.
+``clawpack``). Target: wzq at least 5 times clawpack in every run of this
+benchmark (median of 11 pairs), with and without the tracking of the vehicles,
+the distance travelled and the back of the queue at every time level
+(``track=True``, as the space-time check runs it). Where a target is not met
+the output says why (:data:`TRACKING_LIMIT`).
 
 Run: ``python benchmarks/lwr.py`` (``--cells``, ``--steps``, ``--repeats``).
 """
@@ -28,6 +32,18 @@ JAM_DENSITY = 0.12  # veh/m/ln, invented
 DX = 10.0  # m
 DT = 0.25  # s: Courant number 0.75
 K_LEFT, K_RIGHT = 0.09, 0.012
+
+
+TRACKING_LIMIT = (
+    "why track=True is slower: at every time level the tracking makes seven more passes "
+    "over the cells (the densities from the scheme's state: 2; their sum: 1; the flow "
+    "sum: 3; the test for queued cells: 1) against six for the step itself, so a tracked "
+    "run takes {slow:.1f} times an untracked one. The passes are made in the same "
+    "arithmetic as before, so that the space-time check's numbers stay the same bit for "
+    "bit (tests/engine/test_approach_baseline.py holds them); fewer passes (vehicles "
+    "counted by conservation, the flow sum as one dot product on the state) would change "
+    "the vehicles and the delay in their last bits."
+)
 
 
 def initial(cells: int) -> np.ndarray:
@@ -69,7 +85,7 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--cells", type=int, default=10_000)
     parser.add_argument("--steps", type=int, default=2_000)
-    parser.add_argument("--repeats", type=int, default=5)
+    parser.add_argument("--repeats", type=int, default=11)
     args = parser.parse_args()
     cells, steps = args.cells, args.steps
     work = cells * steps / 1e6
@@ -85,7 +101,7 @@ def main() -> None:
             clawpack_ok = False
         else:
             clawpack_ok = True
-        ours, tracked, theirs, ratios = [], [], [], []
+        ours, tracked, theirs, ratios, ratios_t = [], [], [], [], []
         k_wzq = k_claw = None
         for _ in range(args.repeats):  # side by side, pair by pair
             t_w, k_wzq = run_wzq(cells, steps)
@@ -96,6 +112,7 @@ def main() -> None:
                 t_c, k_claw = run_clawpack(cells, steps)
                 theirs.append(t_c)
                 ratios.append(t_c / t_w)
+                ratios_t.append(t_c / t_t)
     finally:
         os.chdir(here)
 
@@ -111,11 +128,15 @@ def main() -> None:
     if not clawpack_ok:
         print("clawpack is not installed (pip install clawpack): no ratio")
         return
-    r = np.array(ratios)
-    print(
-        f"ratio wzq / clawpack (same-pair runs): median {np.median(r):.1f} x, "
-        f"range {r.min():.1f}-{r.max():.1f} x  (target: at least 5 x)"
-    )
+    for what, values in (("", ratios), (" with track=True", ratios_t)):
+        r = np.array(values)
+        verdict = "met" if np.median(r) >= 5 else "NOT met"
+        print(
+            f"ratio wzq{what} / clawpack (same-pair runs): median {np.median(r):.1f} x, "
+            f"range {r.min():.1f}-{r.max():.1f} x  (target at least 5 x: {verdict})"
+        )
+    if np.median(ratios_t) < 5:
+        print(TRACKING_LIMIT.format(slow=float(np.median(np.array(tracked) / np.array(ours)))))
     diff = float(np.abs(k_wzq - k_claw).max()) / JAM_DENSITY
     print(f"largest difference of the two final states: {diff:.1e} (in k / k_j)")
 

@@ -7,9 +7,11 @@ from __future__ import annotations
 
 import subprocess
 import sys
+from pathlib import Path
 
 import pytest
 
+ROOT = Path(__file__).resolve().parents[2]
 HEAVY = ("numpy", "pandas", "openpyxl", "matplotlib", "reportlab", "scipy", "xlsxwriter", "rich")
 
 PROBE = """
@@ -109,3 +111,24 @@ def test_a_run_imports_no_table_or_drawing_library(tmp_path) -> None:
     asked = run + "\nimport wzq\nfrom wzq.io.workbook.reader import read_plan\n"
     asked += f"wzq.analyse(read_plan({str(book)!r})).hourly"
     assert "pandas" in _heavy_after(asked)
+
+
+def test_a_report_without_matplotlibs_pictures_imports_no_matplotlib(tmp_path) -> None:
+    # the demand, queue-length and cumulative charts are reportlab drawings; matplotlib
+    # (and svglib, which converts its SVG) only for the space-time picture or the fan
+    # chart of a plan with a count history (this example has none; its space-time
+    # picture is left out here)
+    out = tmp_path / "r.pdf"
+    argv = ["report", "examples/ashgrove_bypass_week.json", "--no-space-time", "-o", str(out)]
+    code = CALL.format(argv=argv)
+    code += "\nprint('svglib' in sys.modules)"
+    done = subprocess.run(
+        [sys.executable, "-c", PROBE.format(code=code, heavy=("matplotlib",))],
+        capture_output=True,
+        text=True,
+        check=True,
+        cwd=ROOT,
+    )
+    svglib, heavy = done.stdout.splitlines()[-2:]
+    assert out.stat().st_size > 10_000
+    assert heavy == "" and svglib == "False"

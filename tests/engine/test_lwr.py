@@ -217,6 +217,57 @@ def test_vehicles_are_conserved_with_inflow_and_bottleneck():
     assert f.vehicles[0] == pytest.approx(before) and f.vehicles[-1] == pytest.approx(after)
 
 
+def _tracked_by_brute_force(diagram, f):
+    """Vehicles, distance travelled per second and back of queue of every recorded
+    level, worked from the recorded densities by the definitions (Field's docstring):
+    the sum of k dx, the sum of Q(k) dx, and the first cell above the queued density,
+    searched over the whole stretch and placed by equal areas."""
+    k_q = lwr.queue_density(diagram)
+    vehicles, travel, back = [], [], []
+    for k in f.density:
+        vehicles.append(f.dx * k.sum())
+        travel.append(f.dx * np.asarray(diagram.flow(k)).sum())
+        queued = np.flatnonzero(k > k_q)
+        if not len(queued):
+            back.append(math.nan)
+        elif queued[0] == 0:
+            back.append(0.0)
+        else:
+            back.append(lwr.scheme._shock_position(k, int(queued[0]), f.dx))
+    return np.array(vehicles), np.array(travel), np.array(back)
+
+
+@pytest.mark.parametrize("diagram", DIAGRAMS, ids=["greenshields", "triangular", "capped"])
+def test_tracking_agrees_with_the_recorded_densities(diagram):
+    # What the solver tracks at every time level must be what the densities
+    # themselves give. A queue forms at a pulsing bottleneck and behind an entrance
+    # ramp, and dissolves between pulses; an exit ramp takes a share.
+    rng = np.random.default_rng(11)
+    n, steps, dx = 120, 1500, 10.0
+    dt = 0.9 * dx / lwr.max_wave_speed(diagram)
+    c = diagram.capacity
+    k0 = np.asarray(diagram.density_free(rng.uniform(0.1, 0.6, n) * c))
+    lam = rng.uniform(0.3, 0.95, steps) * c
+    cap = np.where(np.arange(steps) % 500 < 200, 0.35, 1.0) * c
+    ramps = (
+        lwr.Junction(40, True, rate=np.where(np.arange(steps) < 700, 0.3 * c, 0.0)),
+        lwr.Junction(80, False),
+    )
+    f = lwr.solve(
+        diagram, k0, dx=dx, dt=dt, steps=steps, inflow=lam, exit_capacity=cap,
+        record_every=1, track=True, junctions=ramps, exit_shares_in=np.full((1, steps), 0.2),
+    )  # fmt: skip
+    vehicles, travel, back = _tracked_by_brute_force(diagram, f)
+    assert f.vehicles is not None and f.travel is not None and f.back is not None
+    np.testing.assert_allclose(f.vehicles, vehicles, rtol=1e-12, atol=1e-12)
+    np.testing.assert_allclose(f.travel, travel, rtol=1e-12, atol=1e-12)
+    # the back of the queue bit for bit: same cells, same equal-area position
+    np.testing.assert_array_equal(f.back, back)
+    moved = np.diff(np.nan_to_num(f.back, nan=-1.0))
+    assert np.isnan(f.back).any() and (~np.isnan(f.back)).any()  # queues form and clear
+    assert (moved > 0).any() and (moved < 0).any()  # the back moves both ways
+
+
 def test_entrance_point_queue_when_the_road_is_jammed():
     # A jammed road (k_j, supply 0) with a closed exit receives nothing: a demand of
     # 0.4 veh/s/ln queues at the entrance, 0.4 * t vehicles per lane.

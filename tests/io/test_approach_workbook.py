@@ -23,6 +23,7 @@ import importlib.util
 import io
 from pathlib import Path
 
+import drawn
 import numpy as np
 import pytest
 from openpyxl import load_workbook
@@ -48,7 +49,7 @@ from wzq.io.workbook.charts import DATA_HEADER_ROW, LANDMARK_COL
 from wzq.io.workbook.landmark_tables import BEYOND, EXIT_DELAY_HEADER
 from wzq.io.workbook.reader import read_plan
 from wzq.io.workbook.run import run_to, write_filled_workbook
-from wzq.present.figures import queue_length_figure
+from wzq.present.drawings import BOTTOM_IN, queue_length_drawing
 from wzq.present.show import print_approach
 from wzq.present.tables import charted_landmarks
 
@@ -584,12 +585,21 @@ def test_charted_landmarks_leave_out_those_far_beyond_the_queue() -> None:
 
 def test_report_figure_and_space_time_picture_draw_the_landmarks(ran) -> None:
     result, _ = ran
-    fig = queue_length_figure(result, 8.0, 3.0)
-    ys = {round(float(line.get_ydata()[0]), 6) for ax in fig.axes for line in ax.get_lines()
-          if len(set(line.get_ydata())) == 1}  # fmt: skip
-    assert {round(BRIDGE / u.MILE, 6), round(SIGNS / u.MILE, 6)} <= ys
-    texts = [t.get_text() for ax in fig.axes for t in ax.texts]
-    assert any(t.startswith("Ash Lane bridge (0.62 mi)") for t in texts), texts
+    drawing = queue_length_drawing(result, 8.0 * 72, 3.0 * 72)
+    labels = {t.text.split(" (")[0]: t for t in drawn.texts(drawing)}
+    assert labels["Ash Lane bridge"].text.startswith("Ash Lane bridge (0.62 mi)")
+    assert labels["end of the warning signs"].text == "end of the warning signs (3.11 mi)"
+    # each is named just above its own line across the chart, at heights above the
+    # time axis in proportion to the distances (1,000 m and 5,000 m upstream)
+    lines = {round(y, 6) for y, x0, x1 in drawn.horizontal_lines(drawing) if x1 - x0 > 400}
+    above = {}
+    for name in ("Ash Lane bridge", "end of the warning signs"):
+        line_y = labels[name].baseline - 1.5
+        assert round(line_y, 6) in lines, name
+        above[name] = line_y - BOTTOM_IN * 72
+    assert above["end of the warning signs"] / above["Ash Lane bridge"] == pytest.approx(
+        SIGNS / BRIDGE, rel=1e-9
+    )
 
 
 def test_space_time_picture_names_the_landmarks() -> None:

@@ -19,6 +19,7 @@ import subprocess
 from itertools import pairwise
 from pathlib import Path
 
+import drawn
 import pytest
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from pypdf import PdfReader
@@ -28,7 +29,7 @@ from wzq.engine.lwr.simulation import simulate
 from wzq.io.jsonplan import load_plan
 from wzq.io.report import MARGIN_BOTTOM, MARGIN_TOP, build_report
 from wzq.io.workbook.run import write_filled_workbook
-from wzq.present import figures as rc
+from wzq.present import drawings as rc
 from wzq.present.spacetime import space_time_figure
 
 pytestmark = pytest.mark.slow  # workbooks, reports or processes end to end
@@ -260,18 +261,21 @@ def _overlaps(fig) -> list[tuple[str, str]]:
 
 
 def test_no_tick_labels_overlap_in_the_reports_figures(week) -> None:
-    # the sizes the report draws them at on a landscape letter page
-    figures = {
-        "demand": rc.demand_capacity_figure(week, 10.0, 3.0),
-        "queue": rc.queue_length_figure(week, 10.0, 3.0),
-        "cumulative": rc.cumulative_figure(week, 10.0, 6.4),
-        "space-time": space_time_figure(simulate(week)),
+    # the sizes the report draws them at on a landscape letter page (points)
+    drawings = {
+        "demand": rc.demand_capacity_drawing(week, 720.0, 216.0),
+        "queue": rc.queue_length_drawing(week, 720.0, 216.0),
+        "cumulative": rc.cumulative_drawing(week, 720.0, 460.0),
     }
-    for name, fig in figures.items():
-        assert _overlaps(fig) == [], name
-    # each panel of the cumulative figure has its daytime hours labelled
-    texts = [[t.get_text() for t in ax.get_xticklabels()] for ax in figures["cumulative"].axes[:3]]
-    assert "12:00" in texts[2] and len(texts[2]) >= 3
+    for name, drawing in drawings.items():  # no text of the drawing runs into another
+        assert drawn.overlaps(drawing) == [], name
+    assert _overlaps(space_time_figure(simulate(week))) == []
+    # the panels of the cumulative chart have their daytime hours labelled: at least
+    # three clock times a panel, 12:00 among them
+    texts = drawn.texts(drawings["cumulative"])
+    panels = [t for t in texts if t.text.startswith("Queue ")]
+    clocks = [t.text for t in texts if re.fullmatch(r"\d\d:00", t.text)]
+    assert len(panels) >= 3 and "12:00" in clocks and len(clocks) >= 3 * len(panels)
 
 
 def test_tick_step_widens_with_the_span_not_the_labels() -> None:

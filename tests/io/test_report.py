@@ -24,6 +24,7 @@ import shutil
 import subprocess
 from pathlib import Path
 
+import drawn
 import numpy as np
 import pytest
 from pypdf import PdfReader
@@ -32,7 +33,7 @@ import wzq
 from wzq.cli import main
 from wzq.io.jsonplan import load_plan, plan_from_dict
 from wzq.io.report import build_report, svg_available, write_report
-from wzq.present import figures as rc
+from wzq.present import drawings as rc
 from wzq.present.tables import hourly_columns, hourly_display
 
 pytestmark = pytest.mark.slow  # workbooks, reports or processes end to end
@@ -414,10 +415,21 @@ def test_charts_are_vector_graphics(one_day) -> None:
     assert _image_pages(pdf) == 0
 
 
-def test_png_fallback_embeds_images() -> None:
-    result = wzq.analyse(plan_from_dict(textbook_dict()))
+def test_png_fallback_only_for_matplotlibs_charts() -> None:
+    # the demand, queue-length and cumulative charts are reportlab drawings, vector
+    # always; only the space-time picture (matplotlib, via SVG) falls back to an image
+    data = textbook_dict()
+    data["options"] = {"space_time": True}
+    result = wzq.analyse(plan_from_dict(data))
     pdf = build_report(result, generated=DAY, vector=False)
-    assert _image_pages(pdf) == 2  # demand/queue-length page, cumulative page
+    assert _image_pages(pdf) == 1
+    texts = pages_text(pdf)
+    (space_time,) = [k for k, t in enumerate(texts) if "Figure 4. Space-time check" in t]
+    charts = [k for k, t in enumerate(texts) if "Figure 1. Demand and capacity" in t]
+    assert charts and "Flow (veh/h)" in texts[charts[0]]  # the chart's own label is text
+    assert _image_pages(build_report(wzq.analyse(plan_from_dict(textbook_dict())),
+                                     generated=DAY, vector=False)) == 0  # fmt: skip
+    assert space_time > charts[0]
 
 
 @pytest.mark.skipif(shutil.which("pdftoppm") is None, reason="pdftoppm (poppler-utils) missing")
@@ -515,8 +527,9 @@ def test_cumulative_chart_keeps_the_largest_queues_in_time_order() -> None:
     shown, total = rc.shown_episodes(result)
     assert total == 8 and len(shown) == rc.MAX_PANELS
     assert [e.max_queue_veh for e in shown] == pytest.approx([700, 900, 400, 300, 800, 500])
-    fig = rc.cumulative_figure(result, 10, 7)
-    assert sum(ax.get_visible() for ax in fig.axes) == 6
+    drawing = rc.cumulative_drawing(result, 720, 504)
+    titles = [t.text for t in drawn.texts(drawing) if t.text.startswith("Queue ")]
+    assert titles == [rc.episode_title(result, e) for e in shown]  # six panels, in order
 
 
 def test_textbook_plan_report_numbers() -> None:

@@ -5,15 +5,18 @@ site, closure and other inputs in the plan's units; the hour-by-hour table
 (the shared display rounding of :func:`wzq.present.tables.hourly_display`, one column
 per agency limit, hours over a limit shaded, in bold and marked ``OVER`` so
 they stay readable in black and white); the charts of
-:mod:`wzq.present.figures`; a note on the method naming its published sources;
+:mod:`wzq.present.drawings`; a note on the method naming its published sources;
 and the caution. Every page carries the caution and "Page x of y".
 
 Layout uses reportlab's platypus (a :class:`~reportlab.platypus.LongTable`
 whose header row repeats on every page, and a two-pass canvas for the page
-count). Charts are embedded as vector graphics: matplotlib writes SVG, which
-svglib turns into a reportlab drawing, so lines stay sharp at any zoom and
-print scale and chart labels stay text. Without svglib the charts fall back to
-200-dpi PNG images (same look, larger file).
+count). Charts are vector graphics, so lines stay sharp at any zoom and print
+scale and chart labels stay text: the demand, queue-length and cumulative
+charts are drawn straight as reportlab drawings (:mod:`wzq.present.drawings`,
+no matplotlib); the space-time picture and the risk fan chart, when the plan
+has them, are drawn by matplotlib as SVG, which svglib turns into a reportlab
+drawing (without svglib they fall back to 200-dpi PNG images: same look,
+larger file).
 
 Pages are landscape throughout (the hourly table needs the width; one
 orientation keeps printing and binding simple). Text is set in DejaVu Sans,
@@ -27,6 +30,7 @@ a file; it computes nothing the engine does not.
 from __future__ import annotations
 
 import datetime as dt
+import importlib.util
 import io
 import os
 from collections.abc import Sequence
@@ -34,7 +38,6 @@ from dataclasses import dataclass
 from pathlib import Path
 from xml.sax.saxutils import escape
 
-import matplotlib
 import numpy as np
 import pandas as pd
 from reportlab.lib import colors
@@ -71,7 +74,7 @@ from wzq.io.workbook import layout as L
 from wzq.io.workbook.save import write_atomically
 from wzq.io.workbook.writer import listed_hours
 from wzq.models.capacity import METHOD_LABELS
-from wzq.present import figures as charts
+from wzq.present import drawings as charts
 from wzq.present.risk import risk_hour_table, risk_method, risk_summary_lines
 from wzq.present.tables import (
     charted_landmarks,
@@ -177,46 +180,62 @@ MAX_FIELD_CHARS = 400
 # --- fonts and styles ---------------------------------------------------------------------------
 
 
-def register_fonts() -> None:
-    """Register DejaVu Sans (shipped with matplotlib) under the report's font names,
-    once per process, the parsed fonts loaded from a cache (:mod:`wzq.io.fontcache`).
+#: The report's faces: its font name, DejaVu Sans file (shipped with matplotlib),
+#: weight and style.
+FACES = (
+    (FONT, "DejaVuSans.ttf", "normal", "normal"),
+    (FONT_BOLD, "DejaVuSans-Bold.ttf", "bold", "normal"),
+    (FONT_ITALIC, "DejaVuSans-Oblique.ttf", "normal", "italic"),
+    (f"{FONT}-BoldOblique", "DejaVuSans-BoldOblique.ttf", "bold", "italic"),
+)
 
-    With svglib installed, the charts' "DejaVu Sans" text is mapped to the same
-    embedded font files, so chart labels stay real text in the very font that
-    matplotlib measured them in, whatever fonts the machine has.
-    """
+
+def font_folder() -> Path:
+    """matplotlib's folder of DejaVu Sans files, found without importing matplotlib (a
+    third of a second that the report's own charts do not need)."""
+    spec = importlib.util.find_spec("matplotlib")
+    if spec is None or not spec.submodule_search_locations:
+        raise RuntimeError("matplotlib is not installed: the report's font comes with it")
+    return Path(next(iter(spec.submodule_search_locations))) / "mpl-data" / "fonts" / "ttf"
+
+
+def register_fonts() -> None:
+    """Register DejaVu Sans under the report's font names, once per process, the parsed
+    fonts loaded from a cache (:mod:`wzq.io.fontcache`)."""
     if FONT in pdfmetrics.getRegisteredFontNames():
         return
-    ttf = Path(matplotlib.get_data_path()) / "fonts" / "ttf"
-    faces = (
-        (FONT, "DejaVuSans.ttf", "normal", "normal"),
-        (FONT_BOLD, "DejaVuSans-Bold.ttf", "bold", "normal"),
-        (FONT_ITALIC, "DejaVuSans-Oblique.ttf", "normal", "italic"),
-        (f"{FONT}-BoldOblique", "DejaVuSans-BoldOblique.ttf", "bold", "italic"),
-    )
-    fonts = load_ttfonts([(name, ttf / file) for name, file, _, _ in faces])
+    ttf = font_folder()
+    fonts = load_ttfonts([(name, ttf / file) for name, file, _, _ in FACES])
     for font in fonts:
         pdfmetrics.registerFont(font)
-    try:
-        from svglib import fonts as svg_fonts
-    except ImportError:
-        svg_fonts = None
-    if svg_fonts is not None:
-        parsed = {f.fontName: f for f in fonts}
-        # svglib maps an SVG family only by registering a font file, which it parses
-        # with the TTFont it imported; it is handed the font already parsed instead
-        parse = svg_fonts.TTFont
-        svg_fonts.TTFont = lambda name, path, *a, **k: parsed.get(name) or parse(name, path)
-        try:
-            for name, file, weight, style in faces:
-                svg_fonts.register_font(
-                    charts.FONT_FAMILY, str(ttf / file), weight, style, rlgFontName=name
-                )
-        finally:
-            svg_fonts.TTFont = parse
     pdfmetrics.registerFontFamily(
         FONT, normal=FONT, bold=FONT_BOLD, italic=FONT_ITALIC, boldItalic=f"{FONT}-BoldOblique"
     )
+
+
+_SVG_FONTS_MAPPED: list[bool] = []
+
+
+def map_svg_fonts(svg_fonts) -> None:
+    """Map matplotlib's "DejaVu Sans" in svglib to the report's embedded font files, once
+    per process, so that the labels of a matplotlib chart stay real text in the very
+    font matplotlib measured them in, whatever fonts the machine has."""
+    if _SVG_FONTS_MAPPED:
+        return
+    from wzq.present.figures import FONT_FAMILY
+
+    ttf = font_folder()
+    parsed = {name: pdfmetrics.getFont(name) for name, _, _, _ in FACES}
+    # svglib maps an SVG family only by registering a font file, which it parses
+    # with the TTFont it imported; it is handed the font already parsed instead
+    parse = svg_fonts.TTFont
+    svg_fonts.TTFont = lambda name, path, *a, **k: parsed.get(name) or parse(name, path)
+    try:
+        for name, file, weight, style in FACES:
+            svg_fonts.register_font(FONT_FAMILY, str(ttf / file), weight, style, rlgFontName=name)
+    finally:
+        svg_fonts.TTFont = parse
+    _SVG_FONTS_MAPPED.append(True)
 
 
 @dataclass(frozen=True)
@@ -960,36 +979,38 @@ def approach_method(result: Result) -> list[str]:
 
 def _chart(fig, width: float, vector: bool) -> Flowable:
     """A matplotlib figure as a flowable ``width`` points wide (vector or 200-dpi PNG)."""
+    from wzq.present.figures import render
+
     w_in, h_in = fig.get_size_inches()
     scale = width / (w_in * 72)
     if vector:
+        from svglib import fonts as svg_fonts
         from svglib.svglib import svg2rlg
 
-        drawing = svg2rlg(io.BytesIO(charts.render(fig, "svg")))
+        map_svg_fonts(svg_fonts)
+        drawing = svg2rlg(io.BytesIO(render(fig, "svg")))
         if drawing is not None:
             drawing.scale(scale, scale)
             drawing.width *= scale
             drawing.height *= scale
             drawing.hAlign = "LEFT"
             return drawing
-    img = Image(
-        io.BytesIO(charts.render(fig, "png", dpi=200)), width=width, height=h_in * 72 * scale
-    )
+    img = Image(io.BytesIO(render(fig, "png", dpi=200)), width=width, height=h_in * 72 * scale)
     img.hAlign = "LEFT"
     return img
 
 
-def charts_section(
-    result: Result, st: Styles, width: float, height: float, vector: bool
-) -> list[Flowable]:
-    """Demand and capacity and queue length on one page; cumulative curves on the next."""
-    w_in = width / 72
-    each = (height - 30 - 2 * 34) / 2 / 72
+def charts_section(result: Result, st: Styles, width: float, height: float) -> list[Flowable]:
+    """Demand and capacity and queue length on one page; cumulative curves on the next
+    (drawn straight as reportlab drawings, :mod:`wzq.present.drawings`; always vector)."""
+    each = (height - 30 - 2 * 34) / 2
     long_name = u.LONG_LENGTH[result.plan.site.unit_system][0]
-    fig1 = charts.demand_capacity_figure(result, w_in, each)
-    fig2 = charts.queue_length_figure(result, w_in, each)
+    fig1 = charts.demand_capacity_drawing(result, width, each, FONT)
+    fig2 = charts.queue_length_drawing(result, width, each, FONT)
     shown, total = charts.shown_episodes(result)
-    fig3 = charts.cumulative_figure(result, w_in, (height - 30 - 44) / 72)
+    fig3 = charts.cumulative_drawing(result, width, height - 30 - 44, FONT)
+    for fig in (fig1, fig2, fig3):
+        fig.hAlign = "LEFT"
     more = f" The {len(shown)} longest of {total} queues are shown." if total > len(shown) else ""
     plan = result.plan
     shading = " Shading: a lane closure in force." if plan.closures else ""
@@ -1036,20 +1057,20 @@ def charts_section(
         Paragraph("Charts", st.h1),
         KeepTogether(
             [
-                _chart(fig1, width, vector),
+                fig1,
                 Paragraph(cap1, st.caption),
             ]
         ),
         KeepTogether(
             [
-                _chart(fig2, width, vector),
+                fig2,
                 Paragraph(cap2, st.caption),
             ]
         ),
         PageBreak(),
         KeepTogether(
             [
-                _chart(fig3, width, vector),
+                fig3,
                 Paragraph(cap3, st.caption),
             ]
         ),
@@ -1404,12 +1425,9 @@ def page_size(paper: str) -> tuple[float, float]:
 
 
 def svg_available() -> bool:
-    """True when svglib is installed (charts are then embedded as vector graphics)."""
-    try:
-        import svglib.svglib  # noqa: F401
-    except ImportError:
-        return False
-    return True
+    """True when svglib is installed (matplotlib's charts, the space-time picture and the
+    risk fan chart, are then embedded as vector graphics)."""
+    return importlib.util.find_spec("svglib") is not None  # found, not imported: it is slow
 
 
 def text_problems(result: Result) -> list[Problem]:
@@ -1493,7 +1511,7 @@ def build_report(
     story += [soft, *hourly_section(result, st, width)]
     if plan.approach.landmarks:
         story += [soft, *approach_section(result, st, width)]
-    story += [PageBreak(), *charts_section(result, st, width, height, vector)]
+    story += [PageBreak(), *charts_section(result, st, width, height)]
     if plan.options.closure_windows:  # the windows page follows the plan's option
         story += [soft, *windows_section(result, st, width, windows)]
     if plan.options.space_time:

@@ -17,7 +17,14 @@ print area is the one change; and again when the longest wait in the queue was
 fixed (the departure curve's corner where a queue clears inside an interval had
 been read as a straight line): the longest wait of the hour in which each queue
 clears drops (for example Ashgrove hour 49 from 21.04 to 10.84 min), and with it
-the per-hour tables, sheets and report pages that print it; nothing else:
+the per-hour tables, sheets and report pages that print it; and again when the
+report's demand, queue-length and cumulative charts came to be drawn as reportlab
+drawings instead of matplotlib figures: the report is recorded with ``vector=False``,
+which once embedded those charts as PNG images without text, and they are now
+vector drawings whatever that option says, so the text of each example's two chart
+pages gains the charts' own words (legends, axis titles, tick labels, panel titles,
+the landmark names and the queue labels); every other line of those pages, every
+other page and every other output are unchanged; nothing else:
 
     python3 tests/data/golden/make_golden.py
 

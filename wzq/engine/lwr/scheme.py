@@ -245,6 +245,9 @@ class _Scheme:
         self._d = np.empty(n)
         self._sup = np.empty(n)
         self._m = np.empty(n)
+        # max(x, 0) against an array of zeros: numpy's scalar-broadcast path is
+        # about 2.5x slower than the element-wise one on arrays this size
+        self._zero = np.zeros(max(n - 1, 0))
         self._fill = _fill_demand_supply(diagram)
         # views made once, not at every step
         self._inner = self.h[1:-1]
@@ -368,7 +371,7 @@ class _GreenshieldsScheme(_Scheme):
         neg = self._neg
         np.negative(self._s_up, out=neg)
         np.maximum(neg, self._s_down, out=inner)
-        np.maximum(inner, 0.0, out=inner)
+        np.maximum(inner, self._zero, out=inner)
         np.square(inner, out=inner)
 
 
@@ -432,7 +435,7 @@ class _TriangularScheme(_Scheme):
         np.multiply(self._s_up, self.up, out=self._up_buf)
         np.multiply(self._s_down, self.down, out=self._down_buf)
         np.maximum(self._up_buf, self._down_buf, out=inner)
-        np.maximum(inner, 0.0, out=inner)
+        np.maximum(inner, self._zero, out=inner)
 
 
 def _scheme(diagram: FundamentalDiagram, n: int, r: float) -> _Scheme:
@@ -839,8 +842,9 @@ def solve(
     transmissive = lam is None and cap is None
     h_in = np.empty(steps)
     h_out = np.empty(steps)
+    interior, update = scheme.interior, scheme.update  # looked up once, not every step
     for step in range(steps):
-        scheme.interior()
+        interior()
         if transmissive:
             scheme.ends()
         else:
@@ -865,7 +869,7 @@ def solve(
         h_in[step] = h[0]
         h_out[step] = h[n]
         extra = None if ramps is None else ramps.apply(scheme, h, scheme.density(density), step)
-        scheme.update()
+        update()
         if extra:
             for cell, dk in extra:
                 scheme.add(cell, dk)
