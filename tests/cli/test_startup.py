@@ -91,6 +91,28 @@ def test_check_imports_no_pandas_nor_any_picture_library() -> None:
     assert set(heavy) <= {"numpy", "openpyxl"}, heavy
 
 
+def test_a_run_imports_no_table_or_drawing_library(tmp_path) -> None:
+    # a press of Recalculate on a plan with the closure-window sheet and no picture (the
+    # example's Limits: "Closure windows sheet: yes"; Site: no space-time picture): the
+    # results, charts, permit table and windows are written from numpy arrays, so pandas
+    # (some 0.15 s to import) is not imported, nor any drawing library. The probe sees
+    # pandas once a per-hour table is asked for.
+    import shutil
+    from pathlib import Path
+
+    example = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.xlsx"
+    book = tmp_path / "plan.xlsx"
+    shutil.copyfile(example, book)
+    run = CALL.format(argv=["run", str(book)])
+    heavy = _heavy_after(run)
+    assert "openpyxl" in heavy  # the probe is a real one: the workbook was run
+    assert set(heavy) <= {"numpy", "openpyxl"}, heavy
+    assert book.read_bytes() != example.read_bytes()  # results written
+    asked = run + "\nimport wzq\nfrom wzq.io.workbook.reader import read_plan\n"
+    asked += f"wzq.analyse(read_plan({str(book)!r})).hourly"
+    assert "pandas" in _heavy_after(asked)
+
+
 def test_a_report_without_matplotlibs_pictures_imports_no_matplotlib(tmp_path) -> None:
     # the demand, queue-length and cumulative charts are reportlab drawings; matplotlib
     # (and svglib, which converts its SVG) only for the space-time picture or the fan

@@ -24,7 +24,7 @@ import numpy as np
 
 from wzq.engine import approach
 from wzq.engine.grid import interval_arrays
-from wzq.engine.hourly import hourly_table, summarise
+from wzq.engine.hourly import hour_columns, summarise
 from wzq.engine.plan import Plan
 from wzq.engine.queue_length import no_queue, queue_state_discharge, uses_newell
 from wzq.engine.results import Result, Run, landmark_results
@@ -119,8 +119,8 @@ def analyse(plan: Plan) -> Result:
     end ...), then the approach's.
     """
     run = evaluate(plan)
-    hourly = hourly_table(run)
+    hours = hour_columns(run)
     warnings = [*input_warnings(plan), *run_warnings(run)]
     if run.sections is not None or plan.approach.landmarks:
-        warnings += approach_warnings(run, landmark_results(run, hourly))
-    return Result(run, hourly, summarise(run, hourly), tuple(warnings))
+        warnings += approach_warnings(run, landmark_results(run, hours))
+    return Result(run, hours, summarise(run, hours), tuple(warnings))

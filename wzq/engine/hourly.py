@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import datetime as dt
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -11,7 +12,7 @@ if TYPE_CHECKING:
 
 from wzq.engine import costs as road_user_costs
 from wzq.engine.plan import Plan, Thresholds
-from wzq.engine.results import Run, Summary, clock
+from wzq.engine.results import Run, Summary, clock, hourly_frame
 from wzq.models.queueing import waits
 from wzq.units import HOUR
 
@@ -21,6 +22,8 @@ __all__ = [
     "LENGTH_TOLERANCE_M",
     "RATIO_TOLERANCE",
     "hour_checks",
+    "hour_columns",
+    "hour_starts",
     "hourly_table",
     "landmark_limit",
     "summarise",
@@ -91,8 +94,18 @@ def _per_hour_identity(values: np.ndarray, _first: None) -> np.ndarray:
 
 def hourly_table(r: Run) -> pd.DataFrame:
     """Per-hour demand, capacity, queue, length, delay and threshold checks."""
-    import pandas as pd  # imported when used: slow to import
+    return hourly_frame(hour_columns(r), r.plan.demand.start)
 
+
+def hour_starts(start: dt.datetime, n_hours: int) -> np.ndarray:
+    """The start of each hour from ``start`` (datetimes, an object array)."""
+    hour = dt.timedelta(hours=1)
+    return np.array([start + k * hour for k in range(n_hours)], dtype=object)
+
+
+def hour_columns(r: Run) -> dict[str, np.ndarray]:
+    """:func:`hourly_table`'s columns as numpy arrays, ``hour_start`` as datetimes: what a
+    run writes reads these, without the table (pandas is slow to import)."""
     q = r.queue
     dur = r.duration
     n_hours = round(r.t[-1] / HOUR)
@@ -125,8 +138,8 @@ def hourly_table(r: Run) -> pd.DataFrame:
         cand, w = waits(q)
         hour_of = np.clip((cand // HOUR).astype(np.int64), 0, n_hours - 1)
         np.maximum.at(max_wait, hour_of, w / 60.0)
-    cols: dict[str, object] = {
-        "hour_start": pd.date_range(r.plan.demand.start, periods=n_hours, freq="h"),
+    cols: dict[str, np.ndarray] = {
+        "hour_start": hour_starts(r.plan.demand.start, n_hours),
         "lanes_open": low(r.lanes_open, first),
         "closure": closed,
         "demand_veh_h": arrivals,
@@ -156,13 +169,19 @@ def hourly_table(r: Run) -> pd.DataFrame:
         failed = [label for bit, (_, label, _) in enumerate(checks) if c >> bit & 1]
         labels.append("over limit: " + ", ".join(failed) if failed else "ok")
     cols["status"] = np.array(labels, dtype=object)[code]
-    return pd.DataFrame(cols)
+    return cols
 
 
-def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
-    """Maximum queue and when, totals, last clearance, failing hours."""
-    import pandas as pd  # imported when used: slow to import
+def _max(values: np.ndarray) -> float:
+    """The largest value, NaN left out (NaN when there is no other), as pandas' ``max``."""
+    a = np.asarray(values, dtype=float)
+    a = a[~np.isnan(a)]
+    return float(a.max()) if len(a) else float("nan")
 
+
+def summarise(r: Run, hours: dict[str, np.ndarray]) -> Summary:
+    """Maximum queue and when, totals, last clearance, failing hours (``hours``: the
+    columns of :func:`hour_columns`)."""
     q = r.queue
     if r.back_of_queue is not None:
         ext = r.back_of_queue.extent
@@ -177,13 +196,11 @@ def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
     last_clear = None
     if len(clears) and q.queue[-1] == 0:
         last_clear = clock(r, float(clears.max()))
-    over = np.zeros(len(hourly), dtype=bool)
+    over = np.zeros(len(hours["hour_start"]), dtype=bool)
     for name in CHECK_COLUMNS:
-        if name in hourly:
-            over |= ~hourly[name].to_numpy(dtype=bool)
-    failing = (
-        tuple(pd.DatetimeIndex(hourly["hour_start"][over]).to_pydatetime()) if over.any() else ()
-    )
+        if name in hours:
+            over |= ~np.asarray(hours[name], dtype=bool)
+    failing = tuple(hours["hour_start"][over]) if over.any() else ()
     qd = float(q.delay.sum()) / HOUR
     wd = float(r.work_zone_delay.sum()) / HOUR
     xd = 0.0 if r.sections is None else float(sum(e.total_veh_h for e in r.sections.exits))
@@ -196,8 +213,8 @@ def summarise(r: Run, hourly: pd.DataFrame) -> Summary:
         queue_delay_veh_h=qd,
         work_zone_delay_veh_h=wd,
         vehicles_affected=float((q.arrival_rate * q.busy).sum()),
-        max_average_delay_min=float(hourly["average_delay_min"].max()),
-        max_queue_wait_min=float(hourly["max_queue_wait_min"].max()),
+        max_average_delay_min=_max(hours["average_delay_min"]),
+        max_queue_wait_min=_max(hours["max_queue_wait_min"]),
         last_queue_clears=last_clear,
         queue_at_end_veh=float(q.queue[-1]),
         hours_failing=failing,

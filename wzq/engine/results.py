@@ -12,7 +12,7 @@ from __future__ import annotations
 import datetime as dt
 from dataclasses import dataclass, replace
 from functools import cached_property
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -31,6 +31,7 @@ __all__ = [
     "Run",
     "Summary",
     "clock",
+    "hourly_frame",
     "landmark_results",
     "queue_trajectory",
 ]
@@ -106,9 +107,17 @@ class Result:
     """
 
     run: Run
-    hourly: pd.DataFrame
+    #: The per-hour columns (:func:`wzq.engine.hourly.hour_columns`: numpy arrays,
+    #: ``hour_start`` as datetimes), what :attr:`hourly` shows as a table.
+    hours: dict[str, np.ndarray]
     summary: Summary
     warnings: tuple[str, ...] = ()
+
+    @cached_property
+    def hourly(self) -> pd.DataFrame:
+        """The per-hour table: demand, capacity, queue, length, delay and the checks
+        against the limits (:func:`wzq.engine.hourly.hourly_table`)."""
+        return hourly_frame(self.hours, self.run.plan.demand.start)
 
     @property
     def plan(self) -> Plan:
@@ -196,6 +205,12 @@ class Result:
         instants a queue clears inside an interval (where the curves meet)."""
         import pandas as pd  # imported when used: slow to import
 
+        names = ("seconds", "arrivals", "departures")
+        return pd.DataFrame(dict(zip(names, self.cumulative_curves, strict=True)))
+
+    @cached_property
+    def cumulative_curves(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """:attr:`cumulative` as arrays: seconds, arrivals, departures."""
         r = self.run
         q = r.queue
         t = r.t
@@ -209,8 +224,13 @@ class Result:
         times += list(extra_t)
         arr += list(extra_a)
         dep += list(extra_a)  # the queue is empty at that instant
-        df = pd.DataFrame({"seconds": times, "arrivals": arr, "departures": dep})
-        return df.sort_values("seconds").drop_duplicates("seconds").reset_index(drop=True)
+        seconds = np.array(times, dtype=float)
+        # in time order (the sort pandas' sort_values makes), the first of equal times kept
+        order = seconds.argsort(kind="quicksort")
+        seconds = seconds[order]
+        first = np.concatenate(([True], seconds[1:] != seconds[:-1]))
+        keep = order[first]
+        return seconds[first], np.array(arr, dtype=float)[keep], np.array(dep, dtype=float)[keep]
 
     @cached_property
     def queues(self) -> pd.DataFrame:
@@ -218,6 +238,12 @@ class Result:
         order: ``start_s``, ``end_s``, ``max_queue_veh`` and ``max_at_s``."""
         import pandas as pd  # imported when used: slow to import
 
+        columns = ["start_s", "end_s", "max_queue_veh", "max_at_s"]
+        return pd.DataFrame(list(self.busy_periods), columns=columns)
+
+    @cached_property
+    def busy_periods(self) -> tuple[tuple[float, float, float, float], ...]:
+        """:attr:`queues` as rows ``(start_s, end_s, max_queue_veh, max_at_s)``."""
         r = self.run
         q = r.queue
         busy = q.busy > 0
@@ -229,7 +255,7 @@ class Result:
                 seg = q.queue[a : b + 1]
                 j = int(np.argmax(seg))
                 rows.append((float(r.t[a]), end, float(seg[j]), float(r.t[a + j])))
-        return pd.DataFrame(rows, columns=["start_s", "end_s", "max_queue_veh", "max_at_s"])
+        return tuple(rows)
 
     @cached_property
     def intervals(self) -> pd.DataFrame:
@@ -259,7 +285,7 @@ class Result:
     @cached_property
     def landmark_results(self) -> tuple[approach.LandmarkResult, ...]:
         """Per landmark of the approach: where the back of the queue stood against it."""
-        return landmark_results(self.run, self.hourly)
+        return landmark_results(self.run, self.hours)
 
     @cached_property
     def landmarks(self) -> pd.DataFrame:
@@ -319,6 +345,34 @@ class Result:
         )
 
 
+def hourly_frame(columns: dict[str, np.ndarray], start: dt.datetime) -> pd.DataFrame:
+    """The per-hour columns of :func:`wzq.engine.hourly.hour_columns` as a table, ``hour_start`` a
+    ``DatetimeIndex`` (hourly from ``start``)."""
+    import pandas as pd  # imported when used: slow to import
+
+    n = len(columns["hour_start"])
+    return pd.DataFrame({**columns, "hour_start": pd.date_range(start, periods=n, freq="h")})
+
+
+_EPOCH = dt.datetime(1970, 1, 1)
+_NS = 1_000_000_000
+
+
+def clock_to_second(start: dt.datetime, seconds: np.ndarray) -> list[dt.datetime]:
+    """The local clock of each time (s from ``start``), to the nearest second (half to
+    even), as datetimes: what pandas gives for ``(Timestamp(start) + to_timedelta(
+    seconds, unit="s")).round("s")``, the seconds counted in whole nanoseconds as it
+    counts them, without importing it (slow to import)."""
+    x = np.asarray(seconds, dtype=float)
+    base = x.astype(np.int64)
+    ns = base * _NS + (np.round(x - base, 9) * _NS).astype(np.int64)
+    delta = start - _EPOCH
+    ns += (delta.days * 86_400 + delta.seconds) * _NS + delta.microseconds * 1000
+    whole, rest = np.divmod(ns, _NS)
+    whole += (rest > _NS // 2) | ((rest == _NS // 2) & (whole % 2 == 1))
+    return [_EPOCH + dt.timedelta(seconds=s) for s in whole.tolist()]
+
+
 def _interleave(start: np.ndarray, mid: np.ndarray, end: np.ndarray) -> np.ndarray:
     """Rows ``(start_i, mid_i, end_i)`` flattened; ``mid`` is NaN where unused."""
     return np.column_stack((start, mid, end)).ravel()
@@ -334,13 +388,14 @@ def queue_trajectory(r: Run) -> tuple[np.ndarray, np.ndarray]:
     return approach.trajectory_of_lengths(r.queue, r.length_start, r.length_end)
 
 
-def landmark_results(r: Run, hourly: pd.DataFrame) -> tuple[approach.LandmarkResult, ...]:
-    """:func:`wzq.engine.approach.landmark_results` for a run and its per-hour table."""
+def landmark_results(r: Run, hourly: Any) -> tuple[approach.LandmarkResult, ...]:
+    """:func:`wzq.engine.approach.landmark_results` for a run and its per-hour columns
+    (:attr:`Result.hours`, or the table)."""
     landmarks = r.plan.approach.landmarks
     if not landmarks:
         return ()
     times, dist = queue_trajectory(r)
-    lmax = hourly["queue_length_max_m"].to_numpy(dtype=float)
+    lmax = np.asarray(hourly["queue_length_max_m"], dtype=float)
     return approach.landmark_results(landmarks, times, dist, lmax)
 
 

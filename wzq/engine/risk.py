@@ -62,9 +62,9 @@ import datetime as dt
 import math
 from dataclasses import dataclass, field
 from functools import cached_property
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from wzq.engine.design_demand import DemandHistory, historical_scenarios
 from wzq.engine.grid import interval_arrays
@@ -76,6 +76,9 @@ from wzq.models.flow import Triangular
 from wzq.models.queueing import QueueRun, _lindley
 from wzq.models.shockwave import stored_density
 from wzq.units import HOUR
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 #: Largest coefficient of variation of work-zone capacity accepted.
 MAX_CAPACITY_CV = 0.3
@@ -409,6 +412,8 @@ class ScenarioRuns:
 
     def hourly(self, j: int) -> pd.DataFrame:
         """Scenario ``j`` as a per-hour table (a subset of :attr:`wzq.Result.hourly`)."""
+        import pandas as pd  # imported when used: slow to import
+
         cols: dict[str, object] = {"hour_start": self.hour_start, "closure": self.closure}
         for name in self.COLUMNS:
             cols[name] = getattr(self, name)[j]
@@ -456,6 +461,8 @@ def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
     Raises:
         PlanError: a scenario's demand is not on the plan's grid or not a flow.
     """
+    import pandas as pd  # imported when used: slow to import
+
     d = plan.demand
     flows = scenarios.flows_veh_h
     if flows.shape[1] != len(d.flows_veh_h):
@@ -595,6 +602,8 @@ class RiskResult:
     def hourly(self) -> pd.DataFrame:
         """Per hour: scenarios, the probability of breaking each limit (with its interval),
         and percentiles of the longest queue (m) and the average delay (min/veh)."""
+        import pandas as pd  # imported when used: slow to import
+
         r = self.runs
         n = len(r)
         cols: dict[str, object] = {"hour_start": r.hour_start, "closure": r.closure}

@@ -101,10 +101,13 @@ __all__ = [
     "WindowsResult",
     "day_rows",
     "days_allowed_by_hour",
+    "days_allowed_counts",
     "default_configurations",
     "feasible_starts",
+    "feasible_window_list",
     "find_windows",
     "intervals_for",
+    "longest_window_list",
     "longest_windows",
     "plan_windows",
     "too_long",
@@ -516,18 +519,17 @@ class WindowSet:
         """Per hour of the data: ``whole`` (a closure may be in place all hour), ``part``."""
         import pandas as pd  # imported when used: slow to import
 
+        starts, whole, part = self.hour_flag_arrays()
+        return pd.DataFrame({"hour_start": starts, "whole": whole, "part": part})
+
+    def hour_flag_arrays(self) -> tuple[list[dt.datetime], np.ndarray, np.ndarray]:
+        """:meth:`hour_flags` as its columns: hour starts, ``whole``, ``part``."""
         g = self._grid
         last = self.last_end()
         reach = np.maximum.accumulate(last)  # latest end of a window starting at or before s
         whole = reach[g.first] >= g.hour_end
         part_any = np.maximum.reduceat(self.interval_flags().astype(np.int8), g.first) > 0
-        return pd.DataFrame(
-            {
-                "hour_start": [self.clock(i) for i in g.first],
-                "whole": whole,
-                "part": part_any & ~whole,
-            }
-        )
+        return [self.clock(i) for i in g.first], whole, part_any & ~whole
 
     def added_delay_veh_h(self, s: int, e: int) -> float:
         """Delay the closure ``[s, e)`` adds to the all-lanes-open run (veh-h), exactly.
@@ -932,11 +934,8 @@ def day_rows(ws: WindowSet) -> list[tuple[str, list[str]]]:
     A state is ``whole``, ``part``, ``no`` or ``none`` (no data for that hour).
     Calendar days for a demand series; one row by hour of day for a typical day.
     """
-    import pandas as pd  # imported when used: slow to import
-
-    flags = ws.hour_flags()
-    state = np.where(flags["whole"], "whole", np.where(flags["part"], "part", "no"))
-    starts = pd.to_datetime(flags["hour_start"])
+    starts, whole, part = ws.hour_flag_arrays()
+    state = np.where(whole, "whole", np.where(part, "part", "no"))
     if ws.day_type.fold:
         row = ["none"] * 24
         rank = {"none": 0, "no": 1, "part": 2, "whole": 3}
@@ -969,6 +968,18 @@ def windows_table(result: WindowsResult, symbols: bool = False) -> pd.DataFrame:
                 rec[h] = SYMBOLS[s] if symbols else s == "whole"
             records.append(rec)
     return pd.DataFrame.from_records(records, columns=["configuration", "day", *HOUR_COLUMNS])
+
+
+def days_allowed_counts(result: WindowsResult) -> list[tuple[str, list[int]]]:
+    """:func:`days_allowed_by_hour` as (configuration, days by hour 0-23) pairs, in the
+    order the configurations first come."""
+    counts: dict[str, list[int]] = {}
+    for ws in result.sets:
+        for _, row in day_rows(ws):
+            days = counts.setdefault(ws.label, [0] * 24)
+            for h, s in enumerate(row):
+                days[h] += s == "whole"
+    return list(counts.items())
 
 
 def days_allowed_by_hour(result: WindowsResult) -> pd.DataFrame:
@@ -1019,12 +1030,19 @@ def longest_windows(
     ``added_delay_veh_h`` (delay added to the all-lanes-open run) and
     ``road_user_cost`` (in ``result.costs.currency`` of ``result.costs.dollar_year``).
     """
+    return _windows_frame(longest_window_list(result, top, configuration))
+
+
+def longest_window_list(
+    result: WindowsResult, top: int | None = 5, configuration: str | None = None
+) -> list[Window]:
+    """:func:`longest_windows` as its :class:`Window` rows."""
     out: list[Window] = []
     for ws in result.sets:
         if configuration is not None and ws.label != configuration:
             continue
         out += [ws.window(s, e) for s, e in ws.longest(top)]
-    return _windows_frame(out)
+    return out
 
 
 def feasible_starts(result: WindowsResult, duration_h: float) -> pd.DataFrame:
@@ -1032,7 +1050,12 @@ def feasible_starts(result: WindowsResult, duration_h: float) -> pd.DataFrame:
 
     Same columns as :func:`longest_windows`.
     """
+    return _windows_frame(feasible_window_list(result, duration_h))
+
+
+def feasible_window_list(result: WindowsResult, duration_h: float) -> list[Window]:
+    """:func:`feasible_starts` as its :class:`Window` rows."""
     out: list[Window] = []
     for ws in result.sets:
         out += [ws.window(s, e) for s, e in ws.starts_for(duration_h * HOUR)]
-    return _windows_frame(out)
+    return out

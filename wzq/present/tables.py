@@ -10,15 +10,18 @@ from __future__ import annotations
 
 import datetime as dt
 from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
 from wzq import units as u
 from wzq.engine import costs as road_user_costs
 from wzq.engine.approach import LandmarkResult
 from wzq.engine.plan import Landmark, Plan
 from wzq.engine.results import Result
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 __all__ = [
     "BEYOND_CHARTED",
@@ -81,12 +84,29 @@ def hourly_columns(system: u.UnitSystem) -> list[Column]:
 
 def hour_label(t: dt.datetime | pd.Timestamp) -> str:
     """``Mon 2027-05-03 21:00``."""
-    return pd.Timestamp(t).strftime("%a %Y-%m-%d %H:%M")
+    if not isinstance(t, dt.datetime):  # a datetime64 or text: as pandas reads it
+        import pandas as pd  # imported when met: slow to import
+
+        t = pd.Timestamp(t)
+    return t.strftime("%a %Y-%m-%d %H:%M")
+
+
+def _missing(value: Any) -> bool:
+    """``pandas.isna`` of one value: None, NaN, and pandas' own blanks (NaT, NA)."""
+    if value is None:
+        return True
+    if isinstance(value, float | np.floating):
+        return bool(value != value)
+    if isinstance(value, int | np.integer):
+        return False
+    import pandas as pd  # imported when met: slow to import
+
+    return bool(pd.isna(value))
 
 
 def rounded(value: float, decimals: int) -> float | int:
     """Round half away from zero as a person would (not banker's rounding)."""
-    if pd.isna(value):
+    if _missing(value):
         return value
     q = 10**decimals
     x = abs(float(value)) * q + 0.5 + 1e-9
@@ -110,6 +130,8 @@ def rounded_all(values: np.ndarray, decimals: int) -> list[float | int | None]:
 
 def hourly_display(result: Result) -> pd.DataFrame:
     """The per-hour table with display headers, plan units and display rounding."""
+    import pandas as pd  # imported when used: slow to import
+
     system = result.plan.site.unit_system
     h = result.hourly
     out = pd.DataFrame({"Hour": [hour_label(t) for t in h["hour_start"]]})
@@ -225,7 +247,7 @@ class Episode:
 
 def queue_episodes(result: Result) -> list[Episode]:
     """Every busy period of the run, in time order (:attr:`wzq.Result.queues`)."""
-    return [Episode(*map(float, row)) for row in result.queues.itertuples(index=False)]
+    return [Episode(*map(float, row)) for row in result.busy_periods]
 
 
 def episode_window(result: Result, ep: Episode, context_h: float) -> tuple[float, float]:
@@ -268,6 +290,8 @@ LANDMARK_KIND_LABELS = {
 
 def landmark_display(result: Result) -> pd.DataFrame:
     """Per landmark, nearest the closure first: how far the queue reached it, in plan units."""
+    import pandas as pd  # imported when used: slow to import
+
     long_name, long_m = u.LONG_LENGTH[result.plan.site.unit_system]
     lm = result.landmarks
     return pd.DataFrame(
@@ -321,12 +345,16 @@ def charted_landmarks(result: Result) -> list[Landmark]:
 def landmark_hour_flags(result: Result) -> list[tuple[str, list[bool]]]:
     """Per landmark, nearest the closure first: its name and, per hour, whether the back
     of the queue was beyond it at some instant of the hour."""
+    if not result.plan.approach.landmarks:
+        return []  # (what the table of no landmarks gives)
     hours = result.landmark_hours
     return [(name, [bool(x) for x in hours[name]]) for name in hours.columns[1:]]
 
 
 def exit_ramp_display(result: Result) -> pd.DataFrame:
     """Per exit ramp: the delay of the traffic leaving there while the queue holds it."""
+    import pandas as pd  # imported when used: slow to import
+
     long_name, long_m = u.LONG_LENGTH[result.plan.site.unit_system]
     ex = result.exit_ramps
     return pd.DataFrame(

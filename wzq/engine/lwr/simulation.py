@@ -16,11 +16,10 @@ import math
 from dataclasses import dataclass
 from dataclasses import field as dataclass_field
 from functools import cached_property
-from typing import Final
+from typing import TYPE_CHECKING, Final
 
 import numpy as np
 import numpy.typing as npt
-import pandas as pd
 
 from wzq.engine import approach
 from wzq.engine.evaluate import evaluate
@@ -38,6 +37,9 @@ from wzq.engine.results import Result, Run
 from wzq.models.flow import FundamentalDiagram
 from wzq.models.shockwave import stored_density
 from wzq.units import HOUR
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 __all__ = [
     "DEFAULT_CFL",
@@ -229,6 +231,8 @@ class Simulation:
 
     def clock(self, seconds: npt.ArrayLike) -> pd.DatetimeIndex:
         """Local clock of times given in seconds from the demand start."""
+        import pandas as pd  # imported when used: slow to import
+
         start = pd.Timestamp(self.run.plan.demand.start)
         return start + pd.to_timedelta(np.atleast_1d(np.asarray(seconds, dtype=float)), unit="s")
 
@@ -395,6 +399,8 @@ class Simulation:
         most vehicles stored within the hour (both ends included) and the delay
         accumulated in it.
         """
+        import pandas as pd  # imported when used: slow to import
+
         engine = hourly_table(self.run)
         a, b = self.window
         first, last = math.floor(a / HOUR + 1e-9), math.ceil(b / HOUR - 1e-9)

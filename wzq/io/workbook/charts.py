@@ -33,9 +33,9 @@ from __future__ import annotations
 
 import datetime as dt
 import math
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 from openpyxl.chart import BarChart, LineChart, Reference, ScatterChart, Series
 from openpyxl.chart.axis import ChartLines
 from openpyxl.chart.label import DataLabel, DataLabelList
@@ -54,7 +54,7 @@ from openpyxl.worksheet.pagebreak import Break
 
 import wzq
 from wzq import units as u
-from wzq.engine.results import Result
+from wzq.engine.results import Result, clock_to_second
 from wzq.io.workbook import writer as w
 from wzq.present.tables import (
     Episode,
@@ -64,6 +64,9 @@ from wzq.present.tables import (
     rounded,
     shown_episodes,
 )
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 __all__ = [
     "ARRIVALS_COLOUR",
@@ -95,9 +98,9 @@ __all__ = [
     "QUEUE_COLOUR",
     "STEP_COL",
     "TICK_HOURS",
+    "corner_points",
     "cumulative_chart",
     "cumulative_points",
-    "cumulative_points_all",
     "demand_capacity_chart",
     "episode_points",
     "label_hour",
@@ -206,8 +209,8 @@ def demand_capacity_chart(out: w.SheetWriter, result: Result) -> ScatterChart:
     """Demand, capacity and queue discharge rate per hour as step lines (values as shown
     in the Results sheet)."""
     ws = out.ws
-    h = result.hourly
-    starts = [pd.Timestamp(t).to_pydatetime() for t in h["hour_start"]]
+    h = result.hours
+    starts = list(h["hour_start"])
     hour = dt.timedelta(hours=1)
     _header(
         out,
@@ -217,7 +220,12 @@ def demand_capacity_chart(out: w.SheetWriter, result: Result) -> ScatterChart:
     when = out.style.prepare(number_format=w.DATE_FORMAT)
     count = out.style.prepare(number_format=w.NUMBER_FORMATS[0])
     r = DATA_HEADER_ROW + 1
-    flows = zip(h["demand_veh_h"], h["capacity_veh_h"], h["discharge_veh_h"], strict=True)
+    flows = zip(
+        h["demand_veh_h"].tolist(),
+        h["capacity_veh_h"].tolist(),
+        h["discharge_veh_h"].tolist(),
+        strict=True,
+    )
     for t, values in zip(starts, flows, strict=True):
         shown = [rounded(v, 0) for v in values]
         for tt in (t, t + hour):
@@ -251,8 +259,8 @@ def queue_chart(out: w.SheetWriter, result: Result, table: w.TableRef) -> BarCha
     ws = out.ws
     plan = result.plan
     long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
-    h = result.hourly
-    n = len(h)
+    h = result.hours
+    n = len(h["hour_start"])
     limit = plan.thresholds.max_queue_length
     heads = ["Hour"] + ([f"Queue-length limit ({long_name})"] if limit is not None else [])
     _header(out, LABEL_COL, heads)
@@ -262,7 +270,7 @@ def queue_chart(out: w.SheetWriter, result: Result, table: w.TableRef) -> BarCha
     for i, t in enumerate(h["hour_start"]):
         r = DATA_HEADER_ROW + 1 + i
         if i % skip == 0:
-            out.put(r, LABEL_COL, pd.Timestamp(t).strftime(fmt))
+            out.put(r, LABEL_COL, t.strftime(fmt))
         if limit is not None:
             out.put(r, LABEL_COL + 1, rounded(limit / long_m, 2), number_format=w.NUMBER_FORMATS[2])
     first, last = DATA_HEADER_ROW + 1, DATA_HEADER_ROW + n
@@ -311,8 +319,8 @@ def label_hour(result: Result) -> int:
     of the longest run of hours without a queue (the ends of the chart count as queued,
     so a name does not run off its edge; the latest such hour), so the names sit clear
     of the bars."""
-    n = len(result.hourly)
-    queued = np.flatnonzero(result.hourly["queue_length_max_m"].to_numpy() > 0)
+    n = len(result.hours["hour_start"])
+    queued = np.flatnonzero(np.asarray(result.hours["queue_length_max_m"]) > 0)
     walls = np.concatenate(([-1], queued, [n]))
     gap = np.min(np.abs(np.arange(n)[:, None] - walls[None, :]), axis=1)
     return int(n - 1 - np.argmax(gap[::-1]))
@@ -329,7 +337,7 @@ def landmark_lines(out: w.SheetWriter, result: Result, cats: Reference) -> LineC
     ws = out.ws
     plan = result.plan
     long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
-    n = len(result.hourly)
+    n = len(result.hours["hour_start"])
     limit = plan.thresholds.queue_must_not_pass
     heads = [
         f"{lm.name} ({rounded(lm.distance / long_m, 2):,.2f} {long_name})"
@@ -382,7 +390,10 @@ def cumulative_points(result: Result) -> pd.DataFrame:
     one hour before the first queue forms to one hour after the last one
     clears, on whole hours (the whole period when no queue forms).
     """
-    df = cumulative_points_all(result)
+    import pandas as pd  # imported when used: slow to import
+
+    names = ("t", "arrivals", "departures")
+    df = pd.DataFrame(dict(zip(names, corner_points(result), strict=True)))
     queues = result.queues
     t = result.boundaries_s
     if len(queues):
@@ -394,31 +405,24 @@ def cumulative_points(result: Result) -> pd.DataFrame:
     return df
 
 
-def cumulative_points_all(result: Result) -> pd.DataFrame:
+def corner_points(result: Result) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Exact corner points of the cumulative curves over the whole period: interval
     boundaries and the instants a queue clears inside an interval
-    (:attr:`wzq.Result.cumulative`, its time column named ``t``)."""
-    return result.cumulative.rename(columns={"seconds": "t"})
+    (:attr:`wzq.Result.cumulative`): seconds, arrivals, departures."""
+    return result.cumulative_curves
 
 
-def episode_points(result: Result, a: float, b: float) -> pd.DataFrame:
+def episode_points(result: Result, a: float, b: float) -> dict[str, np.ndarray]:
     """The exact corner points of the cumulative curves from ``a`` to ``b`` (s), counted
-    from the departures at ``a`` (so a panel's axis starts at zero)."""
-    pts = cumulative_points_all(result)
-    t = pts["t"].to_numpy()
+    from the departures at ``a`` (so a panel's axis starts at zero): ``t`` (s),
+    ``arrivals`` and ``departures``."""
+    t, arrivals, departures = corner_points(result)
     inside = (t > a) & (t < b)
     times = np.concatenate(([a], t[inside], [b]))
-    arr = np.interp(times, t, pts["arrivals"].to_numpy())
-    dep = np.interp(times, t, pts["departures"].to_numpy())
+    arr = np.interp(times, t, arrivals)
+    dep = np.interp(times, t, departures)
     base = dep[0]
-    return pd.DataFrame(
-        {
-            "t": times,
-            "time": result.clock(times),
-            "arrivals": arr - base,
-            "departures": dep - base,
-        }
-    )
+    return {"t": times, "arrivals": arr - base, "departures": dep - base}
 
 
 def cumulative_chart(
@@ -430,7 +434,8 @@ def cumulative_chart(
     total = result.duration_s
     a, b = (0.0, total) if ep is None else episode_window(result, ep, CONTEXT_H)
     pts = episode_points(result, a, b)
-    start = pd.Timestamp(pts["time"].iloc[0]).round("s").to_pydatetime()
+    times = clock_to_second(result.plan.demand.start, pts["t"])
+    start = times[0]
     title = (
         "No queue forms: departures follow arrivals" if ep is None else episode_title(result, ep)
     )
@@ -443,8 +448,8 @@ def cumulative_chart(
     when = out.style.prepare(number_format=w.DATE_FORMAT)
     count = out.style.prepare(number_format=w.NUMBER_FORMATS[1])
     r = head + 1
-    for t, arr, dep in zip(pts["time"], pts["arrivals"], pts["departures"], strict=True):
-        when(ws.cell(r, CUM_COL, pd.Timestamp(t).round("s").to_pydatetime()))
+    for t, arr, dep in zip(times, pts["arrivals"], pts["departures"], strict=True):
+        when(ws.cell(r, CUM_COL, t))
         count(ws.cell(r, CUM_COL + 1, round(float(arr), 1)))
         count(ws.cell(r, CUM_COL + 2, round(float(dep), 1)))
         r += 1
@@ -459,7 +464,7 @@ def cumulative_chart(
         s = Series(Reference(ws, min_col=col, min_row=head, max_row=last), x, title_from_data=True)
         _line(s, colour, width, dash)
         chart.series.append(s)
-    end = pd.Timestamp(pts["time"].iloc[-1]).round("s").to_pydatetime()
+    end = times[-1]
     _time_axis(chart, start, end, PANEL_LABELS)
     chart.y_axis.title = f"Vehicles {since}"
     chart.y_axis.number_format = "#,##0"

@@ -10,7 +10,9 @@ other output shows them. Plans without landmarks get nothing here.
 
 from __future__ import annotations
 
-import pandas as pd
+from typing import TYPE_CHECKING
+
+import numpy as np
 from openpyxl.styles import Alignment
 
 from wzq.engine.results import Result
@@ -32,6 +34,9 @@ from wzq.present.tables import (
     ramp_flow_text,
     rounded,
 )
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 __all__ = [
     "BEYOND",
@@ -58,9 +63,9 @@ def results_columns(result: Result) -> list[tuple[str, str, list, int | None]]:
     then one column per landmark, nearest the closure first, holding :data:`BEYOND`
     in the hours the back of the queue was beyond it (else blank)."""
     out: list[tuple[str, str, list, int | None]] = []
-    h = result.hourly
-    if "exit_ramp_delay_veh_h" in h.columns:
-        values = [rounded(v, 1) for v in h["exit_ramp_delay_veh_h"].to_numpy(dtype=float)]
+    h = result.hours
+    if "exit_ramp_delay_veh_h" in h:
+        values = [rounded(v, 1) for v in np.asarray(h["exit_ramp_delay_veh_h"], dtype=float)]
         out.append((EXIT_DELAY_HEADER, "exit_ramp_delay_veh_h", values, 1))
     for name, flags in landmark_hour_flags(result):
         values = [BEYOND if f else None for f in flags]

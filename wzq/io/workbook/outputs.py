@@ -29,9 +29,7 @@ from wzq.engine.windows import too_long, too_long_text
 from wzq.io.workbook import layout
 from wzq.io.workbook.charts import write_charts
 from wzq.io.workbook.permit_sheet import write_permit_sheet
-from wzq.io.workbook.pictures import place_space_time, space_time_picture
 from wzq.io.workbook.results_sheet import write_results_sheet
-from wzq.io.workbook.risk_sheets import add_risk
 from wzq.io.workbook.run_log_sheet import write_run_log
 from wzq.io.workbook.summary_sheet import write_summary_sheet
 from wzq.io.workbook.windows_cache import cached_plan_windows
@@ -82,6 +80,8 @@ def decide_outputs(
     options = result.plan.options
     picture = None
     if options.space_time if space_time is None else space_time:
+        from wzq.io.workbook.pictures import space_time_picture  # start-up speed of a run
+
         picture, warnings = space_time_picture(result)
         result = result.with_warnings(warnings)
     wanted = options.closure_windows if windows is None else windows
@@ -161,6 +161,8 @@ def write_outputs(
     write_charts(out[CHARTS], result, refs[RESULTS])
     refs[PERMIT] = write_permit_sheet(out[PERMIT], result, stamp)
     if outputs.risk is not None:
+        from wzq.io.workbook.risk_sheets import add_risk  # start-up speed of a run
+
         add_risk(out, outputs.risk, result, refs)
     write_run_log(
         out[RUN_LOG],
@@ -172,6 +174,8 @@ def write_outputs(
     )
     _windows_sheet(book, result, outputs.windows, cache)
     if outputs.picture is not None:
+        from wzq.io.workbook.pictures import place_space_time  # start-up speed of a run
+
         place_space_time(book, outputs.picture)
     select(book, sheets[SUMMARY])
     return refs

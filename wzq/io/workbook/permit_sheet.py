@@ -63,10 +63,10 @@ def write_permit_sheet(out: SheetWriter, result: Result, stamp: str) -> TableRef
     """The print-ready table: title block, limits, hours with pass/fail, caution, run stamp."""
     ws = out.ws
     plan = result.plan
-    h = result.hourly
+    h = result.hours
     system = plan.site.unit_system
     limits = limit_texts(plan)
-    checks = [(col, short) for col, _, short in plan_checks(plan) if col in h.columns]
+    checks = [(col, short) for col, _, short in plan_checks(plan) if col in h]
     cols = permit_columns(system)
     headers = ["Hour", "Closure", *(c.header for c in cols)]
     headers += [f"{short} {limits[col]}" for col, short in checks]
@@ -95,10 +95,10 @@ def write_permit_sheet(out: SheetWriter, result: Result, stamp: str) -> TableRef
     widths.append(10)
     keep = listed_hours(result)
     idx = np.flatnonzero(keep)
-    hours = [hour_label(h["hour_start"].iloc[i]) for i in idx]
-    closures = hour_closures(plan, h["hour_start"].iloc[idx])
+    hours = [hour_label(h["hour_start"][i]) for i in idx]
+    closures = hour_closures(plan, h["hour_start"][idx])
     vals = [[v[i] for i in idx] for v in values(result, cols)]
-    flags = [h[col].to_numpy()[idx] for col, _ in checks]
+    flags = [np.asarray(h[col])[idx] for col, _ in checks]
     first = header_row + 1
     n = len(idx)
     for k in range(n):
@@ -154,7 +154,7 @@ def write_permit_sheet(out: SheetWriter, result: Result, stamp: str) -> TableRef
         )
         r += 1
     failing = len(result.summary.hours_failing)
-    out.put(r, 1, f"Hours over a limit: {failing} of {len(h)}.", font=BOLD)
+    out.put(r, 1, f"Hours over a limit: {failing} of {len(h['hour_start'])}.", font=BOLD)
     r += 1
     for warning in result.warnings:
         out.put(r, 1, f"Warning: {warning}", font=SMALL)

@@ -3,7 +3,6 @@ shown everywhere else (:func:`wzq.present.tables.hourly_display`), numbers as nu
 
 from __future__ import annotations
 
-import pandas as pd
 from openpyxl.styles import Alignment
 from openpyxl.utils import get_column_letter
 
@@ -43,7 +42,7 @@ def write_results_sheet(out: SheetWriter, result: Result) -> TableRef:
     ws = out.ws
     plan = result.plan
     system = plan.site.unit_system
-    h = result.hourly
+    h = result.hours
     cols = hourly_columns(system)
     details = DETAIL_COLUMNS
     approach = results_columns(result)
@@ -55,7 +54,7 @@ def write_results_sheet(out: SheetWriter, result: Result) -> TableRef:
     headers += [head for head, _, _, _ in approach]
     hr = RESULTS_HEADER_ROW
     out.header(hr, headers)
-    hours = [pd.Timestamp(t).to_pydatetime() for t in h["hour_start"]]
+    hours = list(h["hour_start"])
     closures = hour_closures(plan, h["hour_start"])
     main = values(result, cols)
     extra = values(result, details)

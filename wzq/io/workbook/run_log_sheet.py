@@ -45,7 +45,7 @@ def write_run_log(
         ("Input fingerprint (SHA-256)", fingerprint),
         ("Plan", plan_title(plan)),
         ("Demand period", f"{hour_label(d.start)} to {hour_label(d.end)}"),
-        ("Hours analysed", len(result.hourly)),
+        ("Hours analysed", len(result.hours["hour_start"])),
         ("Closures", len(plan.closures)),
         ("Hours over a limit", len(result.summary.hours_failing)),
         ("Warnings", len(result.warnings)),

@@ -16,7 +16,6 @@ from __future__ import annotations
 
 from typing import Any
 
-import pandas as pd
 from openpyxl.chart import BarChart, Reference, Series
 from openpyxl.chart.data_source import StrRef
 from openpyxl.chart.series import SeriesLabel
@@ -31,11 +30,12 @@ from wzq.engine import costs as rc
 from wzq.engine.plan import Plan
 from wzq.engine.windows import (
     HOUR_COLUMNS,
+    Window,
     WindowsResult,
     day_rows,
-    days_allowed_by_hour,
-    feasible_starts,
-    longest_windows,
+    days_allowed_counts,
+    feasible_window_list,
+    longest_window_list,
 )
 from wzq.io.workbook import layout
 from wzq.io.workbook.writer import Styler, print_setup, put_text
@@ -180,23 +180,23 @@ def _windows_block(
     pages: Pages,
     row: int,
     title: str,
-    frame: pd.DataFrame,
+    windows: list[Window],
     currency: str,
     year: int,
     fields: tuple = WINDOW_FIELDS,
 ) -> int:
-    """A table of windows from :func:`longest_windows` / :func:`feasible_starts`; next free
-    row. Its header is repeated at the top of every printed page it runs onto."""
-    pages.keep(row, min(len(frame), 5) + 3)
+    """A table of windows from :func:`longest_window_list` / :func:`feasible_window_list`;
+    next free row. Its header is repeated at the top of every printed page it runs onto."""
+    pages.keep(row, min(len(windows), 5) + 3)
     put_text(ws, row, 1, title).font = SECTION_FONT
     row += 1
     _window_header(ws, pages.style, row, fields, currency, year)
     row += 1
-    if frame.empty:
+    if not windows:
         put_text(ws, row, 1, "none").font = NOTE_FONT
         return row + 2
     names = [name for name, _, _ in fields]
-    for rec in frame.itertuples(index=False):
+    for rec in windows:
         if pages.room(row) < 1:
             pages.keep(row, PAGE_ROWS)
             _window_header(ws, pages.style, row, fields, currency, year)
@@ -204,8 +204,8 @@ def _windows_block(
         values: dict[str, tuple[Any, str | None]] = {
             "Configuration": (rec.configuration, None),
             "Day type": (rec.day_type, None),
-            "Start": (pd.Timestamp(rec.start).to_pydatetime(), DATETIME_FORMAT),
-            "End": (pd.Timestamp(rec.end).to_pydatetime(), DATETIME_FORMAT),
+            "Start": (rec.start, DATETIME_FORMAT),
+            "End": (rec.end, DATETIME_FORMAT),
             "Length (h)": (round(float(rec.hours), 2), "0.00"),
             "Added delay (veh-h)": (round(float(rec.added_delay_veh_h), 1), "#,##0.0"),
             "Road-user cost": (round(float(rec.road_user_cost)), "#,##0"),
@@ -293,26 +293,26 @@ def write_windows_sheet(
     row += 2
 
     # --- chart of days allowed by hour --------------------------------------------------------
-    counts = days_allowed_by_hour(result)
-    pages.keep(row, 3 + len(counts.columns) + CHART_ROWS + 2)
+    counts = days_allowed_counts(result)
+    pages.keep(row, 3 + len(counts) + CHART_ROWS + 2)
     put_text(ws, row, 1, "Days on which the whole hour may be closed").font = SECTION_FONT
     row += 1
     head = row
     _header(ws, style, row, ["Configuration", "Days", *HOUR_COLUMNS])
     chart = BarChart()
-    for k, label in enumerate(counts.columns):
+    for k, (label, days) in enumerate(counts):
         r = head + 1 + k
         put_text(ws, r, 1, label)
         put_text(ws, r, 2, "days")
         for h in range(len(HOUR_COLUMNS)):
-            ws.cell(row=r, column=3 + h, value=int(counts.iloc[h, k]))
+            ws.cell(row=r, column=3 + h, value=int(days[h]))
         series = Series(Reference(ws, min_col=3, max_col=n_cols, min_row=r))
         series.tx = SeriesLabel(strRef=StrRef(f"'{SHEET}'!$A${r}"))
         colour = SERIES_COLOURS[k % len(SERIES_COLOURS)]
         series.graphicalProperties.solidFill = colour
         series.graphicalProperties.line.solidFill = colour
         chart.series.append(series)
-    row = head + 1 + len(counts.columns)
+    row = head + 1 + len(counts)
     chart.set_categories(Reference(ws, min_col=3, max_col=n_cols, min_row=head))
     chart.type = "col"
     chart.grouping = "clustered"
@@ -334,7 +334,7 @@ def write_windows_sheet(
         pages,
         row,
         "Longest allowable windows",
-        longest_windows(result, top=top),
+        longest_window_list(result, top=top),
         costs.currency,
         costs.dollar_year,
         fields,
@@ -345,7 +345,7 @@ def write_windows_sheet(
             pages,
             row,
             f"Every allowed start for a {duration_h:g}-hour closure",
-            feasible_starts(result, duration_h),
+            feasible_window_list(result, duration_h),
             costs.currency,
             costs.dollar_year,
             fields,

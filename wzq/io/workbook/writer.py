@@ -24,7 +24,6 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-import pandas as pd
 from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE, Cell
 from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
 from openpyxl.utils import get_column_letter
@@ -244,7 +243,7 @@ def select(book: Workbook, ws: Worksheet) -> None:
 # --- the per-hour data ------------------------------------------------------------------
 
 
-def hour_closures(plan: Plan, hour_starts: Sequence[pd.Timestamp]) -> list[int | str | None]:
+def hour_closures(plan: Plan, hour_starts: Sequence[dt.datetime]) -> list[int | str | None]:
     """The closure number(s) in force during each hour (1-based; ``None`` when open).
 
     A closure is in force during the hour from ``t0`` when it starts before ``t0`` + 1 h
@@ -252,7 +251,7 @@ def hour_closures(plan: Plan, hour_starts: Sequence[pd.Timestamp]) -> list[int |
     starts (a year of hours against hundreds of closures, without trying every pair).
     """
     hour = dt.timedelta(hours=1)
-    starts = [pd.Timestamp(ts).to_pydatetime() for ts in hour_starts]
+    starts = [_py_datetime(ts) for ts in hour_starts]
     order = sorted(range(len(starts)), key=starts.__getitem__)
     ordered = [starts[k] for k in order]
     ids: list[list[int]] = [[] for _ in starts]
@@ -264,10 +263,19 @@ def hour_closures(plan: Plan, hour_starts: Sequence[pd.Timestamp]) -> list[int |
     return [None if not n else n[0] if len(n) == 1 else ", ".join(map(str, n)) for n in ids]
 
 
+def _py_datetime(t: Any) -> dt.datetime:
+    """A datetime as itself; a pandas ``Timestamp`` (or ``datetime64``) as a datetime."""
+    if type(t) is dt.datetime:
+        return t
+    import pandas as pd  # imported when met: slow to import
+
+    return pd.Timestamp(t).to_pydatetime()
+
+
 def listed_hours(result: Result) -> np.ndarray:
     """Hours the permit table lists: closure hours, hours with a queue, hours over a limit."""
-    h = result.hourly
-    return (h["closure"] | (h["queue_max_veh"] > 0) | (h["status"] != "ok")).to_numpy()
+    h = result.hours
+    return np.asarray(h["closure"] | (h["queue_max_veh"] > 0) | (h["status"] != "ok"), dtype=bool)
 
 
 #: Extra per-hour columns on the Results sheet, after the permit columns.
@@ -305,9 +313,9 @@ def limit_texts(plan: Plan) -> dict[str, str]:
 
 def values(result: Result, columns: Iterable[Column]) -> list[list[float | int | None]]:
     """Rounded display values, column by column (NaN written as a blank)."""
-    h = result.hourly
+    h = result.hours
     return [
-        rounded_all(h[col.source].to_numpy(dtype=float) * col.scale, col.decimals)
+        rounded_all(np.asarray(h[col.source], dtype=float) * col.scale, col.decimals)
         for col in columns
     ]
 

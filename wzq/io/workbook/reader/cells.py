@@ -6,9 +6,9 @@ from __future__ import annotations
 
 import contextlib
 import datetime as dt
+import math
 from typing import Any
 
-import numpy as np
 from openpyxl.cell.cell import ERROR_CODES, MergedCell
 from openpyxl.utils import range_boundaries
 from openpyxl.utils.datetime import from_excel, to_excel
@@ -40,6 +40,7 @@ from wzq.io.workbook.reader.values import (
     _percent_format,
     _show,
     cell_ref,
+    destinations,
 )
 from wzq.io.workbook.saved_values import SharedStrings, typed
 
@@ -194,7 +195,7 @@ class CellReader:
                     dn = ws.defined_names[name]
                     break
         try:
-            dests = [] if dn is None else list(dn.destinations)
+            dests = [] if dn is None else list(destinations(dn))
         except Exception:  # openpyxl cannot parse the reference
             dests = []
         broken = dn is None or not dests or "#REF!" in str(dn.value)
@@ -345,7 +346,7 @@ class CellReader:
             return self.bad(where, f"{label} holds {str(v).upper()}, not a number; type a number")
         if isinstance(v, int | float):
             x = float(v)
-            if not np.isfinite(x):
+            if not math.isfinite(x):
                 return self.bad(where, f"{label} is not a finite number; type a number")
             return x
         if isinstance(v, dt.datetime | dt.date | dt.time | dt.timedelta):

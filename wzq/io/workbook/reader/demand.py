@@ -21,6 +21,8 @@ from wzq.io.workbook.reader.values import (
     _FLOW,
     _MISSING,
     _SHARES,
+    FIRST_YEAR,
+    LAST_YEAR,
     MAX_DEMAND_VEH_H_LN,
     _blank,
     _fmt,
@@ -28,6 +30,7 @@ from wzq.io.workbook.reader.values import (
     _Table,
     _when,
     cell_ref,
+    destinations,
 )
 from wzq.models.demand import hourly_from_aadt
 
@@ -118,7 +121,7 @@ class DemandReader:
         """The cell a defined name points at, without recording a problem."""
         dn = self.wb.defined_names.get(name)
         try:
-            sheet, coord = next(iter(dn.destinations)) if dn is not None else (None, "")
+            sheet, coord = next(iter(destinations(dn))) if dn is not None else (None, "")
             c0, r0, _, _ = range_boundaries(coord.replace("$", ""))
         except Exception:
             return None
@@ -168,8 +171,17 @@ class DemandReader:
 
     def moment(self, t: _Table, r: _Row, c_date: str, c_time: str, label: str) -> Any:
         """Date + time of day in a table row as one datetime."""
-        d_where, t_where = self.where(t, r.row, c_date), self.where(t, r.row, c_time)
         dv, tv = r.values[c_date], r.values[c_time]
+        if (
+            type(dv) is dt.datetime
+            and type(tv) is dt.time
+            and FIRST_YEAR < dv.year <= LAST_YEAR
+            and dv.time() == dt.time()
+        ):  # a date cell and a time cell, as the template types them: what the rules below
+            # give for them (a date of a year after the serials of 1900, a time of day)
+            seconds = tv.hour * 3600 + tv.minute * 60 + tv.second
+            return dt.datetime.combine(dv.date(), dt.time()) + dt.timedelta(seconds=seconds)
+        d_where, t_where = self.where(t, r.row, c_date), self.where(t, r.row, c_time)
         if dv is _MISSING or tv is _MISSING:
             return _MISSING
         if _blank(tv) and isinstance(dv, dt.datetime) and dv.time() != dt.time():

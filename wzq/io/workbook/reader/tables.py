@@ -3,8 +3,10 @@ beside it, hidden and merged rows) read as the user sees them."""
 
 from __future__ import annotations
 
+from functools import lru_cache
 from typing import Any
 
+from openpyxl.cell.cell import Cell
 from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.worksheet.worksheet import Worksheet
 
@@ -17,6 +19,7 @@ from wzq.io.workbook.reader.values import (
     _Row,
     _Table,
     cell_ref,
+    destinations,
 )
 
 __all__ = [
@@ -121,15 +124,28 @@ class TableReader:
         )
         below = self.rows_below(t, cols)
         hidden = []
+        at = [(h, t.col(h)) for h in headers]
+        cells = t.ws._cells
         for r in (*filled, *below):
-            values = {h: self.raw(t.ws, r, t.col(h)) for h in headers}
-            if all(_blank(v) for v in values.values()):
-                continue
+            values = {}
+            for h, c in at:
+                cell = cells.get((r, c))
+                v = None if cell is None else cell.value
+                # a number, date or truth value as typed is read as it is (what raw() gives);
+                # anything else (text, formulas, errors, merged cells) through raw()
+                plain = type(cell) is Cell and cell.data_type in ("n", "d") and type(v) is not str
+                values[h] = v if plain and v is not None else self.raw(t.ws, r, c)
+            for v in values.values():
+                if not _blank(v):
+                    break
+            else:
+                continue  # a blank row
             out.append(_Row(r, values))
             dims = t.ws.row_dimensions.get(r)
             if dims is not None and dims.hidden:
                 hidden.append(r)
-        taken = [r for r in below if any(row.row == r for row in out)]
+        read = {row.row for row in out}
+        taken = [r for r in below if r in read]
         if taken:
             for r in taken:
                 self._below[(t.ws.title, r)] = t.name
@@ -179,7 +195,7 @@ class TableReader:
             for f in F.ALL_FIELDS:
                 dn = self.wb.defined_names.get(f.name)
                 try:
-                    dests = [] if dn is None else list(dn.destinations)
+                    dests = [] if dn is None else list(destinations(dn))
                 except Exception:
                     dests = []
                 for sheet, coord in dests:
@@ -232,11 +248,12 @@ class TableReader:
         sides = {t.min_col - 1, t.max_col + 1}
         found = [
             cell_ref(t.ws.title, r, c)
-            for (r, c), cell in sorted(t.ws._cells.items())
-            if c in sides
-            and t.header_row <= r <= t.last_row
-            and not _blank(cell.value)
-            and self._not_ours(t.ws, r, c, t.name)
+            for (r, c), cell in sorted(
+                item
+                for item in t.ws._cells.items()
+                if item[0][1] in sides and t.header_row <= item[0][0] <= t.last_row
+            )
+            if not _blank(cell.value) and self._not_ours(t.ws, r, c, t.name)
         ]
         if found:
             more = f" and {len(found) - 3} more" if len(found) > 3 else ""
@@ -249,4 +266,11 @@ class TableReader:
             )
 
     def where(self, t: _Table, row: int, header: str) -> str:
-        return cell_ref(t.ws.title, row, t.col(header))
+        """``Demand!C12``: the cell of a table row's column (as :func:`cell_ref` names it)."""
+        return f"{_column_ref(t.ws.title, t.col(header))}{row}"
+
+
+@lru_cache(maxsize=256)  # a reader names every row of a table's few columns
+def _column_ref(sheet: str, col: int) -> str:
+    """``Demand!C``: :func:`cell_ref` without the row number."""
+    return cell_ref(sheet, 1, col)[:-1]

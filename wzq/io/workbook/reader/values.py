@@ -10,6 +10,7 @@ from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
 
+from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.worksheet import Worksheet
 
 from wzq.io import fields as F
@@ -26,6 +27,7 @@ __all__ = [
     "MAX_SERIAL",
     "WORKBOOK_SUFFIXES",
     "cell_ref",
+    "destinations",
 ]
 
 #: File suffixes read as workbooks.
@@ -81,6 +83,19 @@ def _percent_format(fmt: str | None) -> bool:
         return False
     plain = re.sub(r'"[^"]*"|\\.|\[[^\]]*\]', "", fmt)
     return "%" in plain
+
+
+def destinations(dn: Any) -> tuple[tuple[str, str], ...]:
+    """``dn.destinations`` of an openpyxl defined name, as a tuple: (sheet, cells) of each
+    range it refers to. It depends on the name's text only, and openpyxl tokenizes that
+    text twice on every call; a reader asks for some names more than once, and a bulk run
+    for the same names in every workbook."""
+    return _destinations(dn.value)
+
+
+@lru_cache(maxsize=1024)
+def _destinations(value: str) -> tuple[tuple[str, str], ...]:
+    return tuple(DefinedName("name", attr_text=value).destinations)
 
 
 def _blank(v: Any) -> bool:
