@@ -13,6 +13,7 @@ import datetime as dt
 from pathlib import Path
 from types import SimpleNamespace
 
+import numpy as np
 import pandas as pd
 import pytest
 from openpyxl import Workbook
@@ -27,8 +28,8 @@ MILE = 1609.344  # m
 
 
 def hourly(**columns: list) -> SimpleNamespace:
-    """A stand-in for a result: only its per-hour table is read."""
-    return SimpleNamespace(hourly=pd.DataFrame(columns))
+    """A stand-in for a result: only its per-hour columns (``Result.hours``) are read."""
+    return SimpleNamespace(hours={name: np.asarray(v) for name, v in columns.items()})
 
 
 def test_values_are_scaled_rounded_half_away_from_zero_and_blank_for_nan() -> None:

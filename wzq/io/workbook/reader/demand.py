@@ -21,7 +21,7 @@ from wzq.io.workbook.reader.values import (
     _FLOW,
     _MISSING,
     _SHARES,
-    FIRST_YEAR,
+    DAYS_IN_1900,
     LAST_YEAR,
     MAX_DEMAND_VEH_H_LN,
     _blank,
@@ -175,10 +175,12 @@ class DemandReader:
         if (
             type(dv) is dt.datetime
             and type(tv) is dt.time
-            and FIRST_YEAR < dv.year <= LAST_YEAR
+            and dv.year <= LAST_YEAR
+            and dv >= self.epoch + dt.timedelta(days=DAYS_IN_1900)
             and dv.time() == dt.time()
         ):  # a date cell and a time cell, as the template types them: what the rules below
-            # give for them (a date of a year after the serials of 1900, a time of day)
+            # give for them (a date past the serials taken for day counts, in this
+            # workbook's date system, 1900 or 1904; a time of day)
             seconds = tv.hour * 3600 + tv.minute * 60 + tv.second
             return dt.datetime.combine(dv.date(), dt.time()) + dt.timedelta(seconds=seconds)
         d_where, t_where = self.where(t, r.row, c_date), self.where(t, r.row, c_time)
