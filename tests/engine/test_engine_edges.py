@@ -164,3 +164,31 @@ def test_night_by_the_clock_over_more_than_a_day() -> None:
     # 18:00 for 25 hours: 18:00 day, 19:00-05:00 night (11 h), 06:00-18:00 day (13 h).
     flags = night_by_clock(18, np.arange(25))
     assert flags.tolist() == [False] + [True] * 11 + [False] * 13
+
+
+def test_a_queue_standing_at_the_end_of_the_data_counts_the_waits_served_by_then() -> None:
+    # Hand site of test_approach.py (2 lanes); 00:00-01:00 600 veh/h on the open road, then
+    # 01:00-02:00 2,400 veh/h against one lane at 1,500 veh/h, and the data ends at 02:00.
+    # FIFO (deterministic queueing, cumulative curves): by 02:00 the closure has served
+    # 1,500 vehicles of the hour, the 1,500th arriving at 1,500 / 2,400 h = 0.625 h after
+    # 01:00, so the longest wait of a vehicle served within the data is 1 - 0.625 h =
+    # 22.5 min, in the last hour (none in the first); 900 vehicles still wait at 02:00, whose
+    # waits are unknown, and the warning says the figure covers only the vehicles served.
+    site = hand_site()
+    start = dt.datetime(2027, 5, 3)
+    closure = Closure(
+        start + dt.timedelta(hours=1),
+        start + dt.timedelta(hours=2),
+        1,
+        capacity_override_veh_h_ln=1500.0,
+    )
+    plan = Plan(site, Demand(start, 3600, np.array([600.0, 2400.0])), (closure,))
+    result = wzq.analyse(plan)
+    hourly = result.hourly
+    assert list(hourly["max_queue_wait_min"]) == pytest.approx([0.0, 22.5], rel=1e-9, abs=1e-9)
+    assert hourly["queue_end_veh"].iloc[-1] == pytest.approx(900.0, rel=1e-9)
+    assert (
+        "a queue of 900 vehicles still stands at the end of the demand data: the delay after "
+        "that instant is not counted, and the longest wait shown is only of the vehicles "
+        "served by then; extend the demand to see it clear"
+    ) in result.warnings

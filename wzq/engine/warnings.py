@@ -55,7 +55,8 @@ def run_warnings(r: Run) -> list[str]:
     if r.queue.queue[-1] > 0:
         out.append(
             f"a queue of {r.queue.queue[-1]:,.0f} vehicles still stands at the end of the "
-            "demand data; extend the demand to see it clear"
+            "demand data: the delay after that instant is not counted, and the longest wait "
+            "shown is only of the vehicles served by then; extend the demand to see it clear"
         )
     if r.back_of_queue is not None and r.back_of_queue.capacity_limited:
         out.append(
