@@ -169,7 +169,8 @@ def test_night_by_the_clock_over_more_than_a_day() -> None:
 def test_a_queue_standing_at_the_end_of_the_data_counts_the_waits_served_by_then() -> None:
     # Hand site of test_approach.py (2 lanes); 00:00-01:00 600 veh/h on the open road, then
     # 01:00-02:00 2,400 veh/h against one lane at 1,500 veh/h, and the data ends at 02:00.
-    # FIFO (deterministic queueing, cumulative curves): by 02:00 the closure has served
+    # FIFO wait as the horizontal gap between the cumulative curves, w(t) = D^-1(A(t)) - t
+    # (Newell 1982, Applications of Queueing Theory, ch. 2): by 02:00 the closure has served
     # 1,500 vehicles of the hour, the 1,500th arriving at 1,500 / 2,400 h = 0.625 h after
     # 01:00, so the longest wait of a vehicle served within the data is 1 - 0.625 h =
     # 22.5 min, in the last hour (none in the first); 900 vehicles still wait at 02:00, whose
