@@ -405,6 +405,30 @@ def test_arrivals_above_approach_capacity_are_held_at_the_entry() -> None:
     assert not newell.from_queue(within, DIAGRAM, N_LANES).capacity_limited
 
 
+def test_arrivals_above_capacity_at_a_front_discharging_at_capacity_leave_no_queue() -> None:
+    # Arrivals 1.5 veh/s for 1800 s above the approach capacity n c = 1.2 veh/s, and a
+    # front that discharges at exactly n c (no capacity drop on the open road). Daganzo
+    # (2005): the approach admits at most n c, so the admitted counts are those of a point
+    # queue at its upstream end served at n c, which are the departures themselves: no
+    # queue stands inside the approach, and the 540 vehicles wait beyond its upstream end.
+    # Both level curves are then flat at one level; the answer must not depend on how the
+    # same counts were summed (the grid split differently gives different rounding).
+    nc = N_LANES * DIAGRAM.capacity
+    for dur, lam in (
+        ([1800.0, 1800.0, 7200.0], [1.5, 0.5, 0.5]),
+        ([900.0, 900.0, 1800.0, 3600.0, 3600.0], [1.5, 1.5, 0.5, 0.5, 0.5]),
+        ([600.0] * 3 + [1800.0] + [720.0] * 10, [1.5] * 3 + [0.5] * 11),
+        ([1800.0, 1800.0, 7200.0], [1.5 + 1e-13, 0.5, 0.5]),
+        ([1800.0, 1800.0, 7200.0], [1.5 - 1e-13, 0.5, 0.5]),
+    ):
+        run = solve(np.array(dur), np.array(lam), np.full(len(dur), nc))
+        assert run.queue.max() == pytest.approx(0.3 * 1800)
+        nq = newell.from_queue(run, DIAGRAM, N_LANES)
+        assert nq.capacity_limited
+        assert nq.extent.max_m == 0.0, dur
+        assert np.all(nq.hourly_max_m == 0.0)
+
+
 # --------------------------------------------------------------------------- engine runs
 
 

@@ -59,10 +59,7 @@ def run_warnings(r: Run) -> list[str]:
             "shown is only of the vehicles served by then; extend the demand to see it clear"
         )
     if r.back_of_queue is not None and r.back_of_queue.capacity_limited:
-        out.append(
-            "arrivals or discharge exceeded the approach road's capacity; the traffic it "
-            "could not admit is held beyond the upstream end and not counted in the length"
-        )
+        out.append(_held_beyond_warning(r))
     for i, c in enumerate(r.plan.closures if site.terrain != "level" else ()):
         if site.lanes - c.lanes_closed == 1:
             out.append(
@@ -70,6 +67,26 @@ def run_warnings(r: Run) -> list[str]:
                 "work-zone model advises caution for one open lane on upgrades"
             )
     return out
+
+
+def _held_beyond_warning(r: Run) -> str:
+    """Traffic the approach could not admit: said with the vehicles queued while the
+    length shows no queue at all, and from when, so a 0 m beside a queue is explained."""
+    text = (
+        "arrivals or discharge exceeded the approach road's capacity; the traffic it "
+        "could not admit is held beyond the upstream end and not counted in the length"
+    )
+    q = np.maximum(r.queue.queue[:-1], r.queue.queue[1:])
+    unseen = (q >= 0.5) & (r.length_start == 0.0) & (r.length_end == 0.0)
+    if not unseen.any():
+        return text
+    first = int(np.argmax(unseen))
+    return (
+        f"{text}: from {clock(r, float(r.t[first])):%a %Y-%m-%d %H:%M} up to "
+        f"{q[unseen].max():,.0f} vehicles queue while the length shows 0 (the demand is "
+        "more than the road itself carries there: check the count, and treat the queue "
+        "as reaching beyond the approach)"
+    )
 
 
 def _longest_queue(r: Run) -> tuple[float, float]:

@@ -277,11 +277,45 @@ def _level_curves(
         return s_knots, e_vals, u_knots, f_vals, False
     s2, e2 = _envelope(s_knots, e_vals)
     u2, f2 = _envelope(u_knots, f_vals)
+    arrivals_held = np.max(np.maximum.accumulate(f_vals) - f_vals) > _ENVELOPE_TOL_VEH
+    if arrivals_held:  # F flat where arrivals exceed n c: see _snap_levels
+        e2, f2 = _snap_levels(e2, f2)
     limited = bool(
-        np.max(np.maximum.accumulate(e_vals) - e_vals) > _ENVELOPE_TOL_VEH
-        or np.max(np.maximum.accumulate(f_vals) - f_vals) > _ENVELOPE_TOL_VEH
+        arrivals_held or np.max(np.maximum.accumulate(e_vals) - e_vals) > _ENVELOPE_TOL_VEH
     )
     return s2, e2, u2, f2, limited
+
+
+def _snap_levels(e: np.ndarray, f: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Levels of ``e`` and ``f`` closer than the rounding of the counts made one.
+
+    Where both flows stand at the approach capacity (arrivals above it held
+    beyond the approach, the front discharging at exactly it: no capacity drop
+    on the open road) both level curves are flat, and whether a flat stretch is
+    one level or two a few 1e-12 vehicles apart, and which curve's lies above
+    the other's, is decided by the rounding of long cumulative sums alone: one
+    way the back of the queue stays at the bottleneck, another it runs up the
+    whole flat stretch (tens of kilometres). Levels within the tolerance of the
+    next lower one join it (each cluster takes its lowest value); the patch where
+    ``g = 0`` is then resolved by :func:`_vertices` (its lower edge), the same
+    on every path to the same plan. The map is non-decreasing, so the curves
+    stay non-decreasing. Applied only when arrivals exceed the approach capacity
+    (``F`` flat): with ``F`` rising a flat ``E`` is never ambiguous, and its
+    results stay as they were to the last bit.
+    """
+    levels = np.unique(np.concatenate((e, f)))
+    tol = max(_ENVELOPE_TOL_VEH, _LEVEL_RTOL * float(np.max(np.abs(levels))))
+    gap = np.diff(levels) > tol
+    if gap.all():
+        return e, f
+    head = np.concatenate(([True], gap))
+    rep = levels[head][np.cumsum(head) - 1]
+    return rep[np.searchsorted(levels, e)], rep[np.searchsorted(levels, f)]
+
+
+#: Relative tolerance of two levels of the level curves being one (rounding of
+#: cumulative counts of a long plan; a year at 4,600 veh/h counts 4e7 vehicles).
+_LEVEL_RTOL = 1e-12
 
 
 #: Relative margin below the approach capacity a flow must keep for the level
