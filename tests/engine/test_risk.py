@@ -243,6 +243,8 @@ def test_demand_above_the_open_roads_capacity_same_in_scenarios_and_analyse() ->
     assert h["queue_max_veh"].to_numpy()[4] == pytest.approx(369.0)
     assert h["queue_end_veh"].to_numpy()[4] == 0.0
     assert np.all(h["queue_length_max_m"].to_numpy() == 0.0)
+    # ... and the hours holding them fail the length limit: their length is unknown
+    assert h["queue_ok"].tolist() == [True, True, False, False, False, True, True, True]
     held = [w for w in result.warnings if "could not admit" in w]
     assert held == [
         "arrivals or discharge exceeded the approach road's capacity; the traffic it could "

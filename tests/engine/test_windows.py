@@ -306,14 +306,33 @@ def test_open_road_over_the_limit_allows_no_window_and_says_why() -> None:
 
 def test_demand_above_the_approach_capacity_is_searched_in_full() -> None:
     # 4,500 veh/h on an approach of 2 x 2,000 veh/h: Newell's method (the default) holds
-    # the excess back beyond the approach, so every candidate is run in full
+    # the excess back beyond the approach, so every candidate is run in full (a delay
+    # limit: a length limit fails the held hours themselves, next test)
     flows = [1000.0] * 4 + [4500.0] + [1000.0] * 3
-    limits = Thresholds(max_queue_length=3000.0)
+    limits = Thresholds(max_average_delay=300.0)
     fast = W.find_windows(hand_site(), hourly(flows), limits, [HAND_CONFIG])
     assert any("run in full" in note for note in fast.notes)
     slow = W.find_windows(hand_site(), hourly(flows), limits, [HAND_CONFIG], exhaustive=True)
     assert np.array_equal(fast.sets[0].allowed, slow.sets[0].allowed)
     assert fast.sets[0].allowed.any()
+
+
+def test_a_queue_held_beyond_the_approach_fails_the_length_limit() -> None:
+    # The same demand on the open road: the front discharges at the approach capacity
+    # (no capacity drop on the hand site), so the 4,500 - 4,000 = 500 vehicles of 04:00
+    # wait beyond the approach's upstream end and the length shows 0 (Daganzo 2005). Their
+    # queue's length is unknown, not zero: the hours holding them (04:00, and 05:00 until
+    # it clears, 500 / 3,000 h = 10 min) fail a length limit however long.
+    flows = [1000.0] * 4 + [4500.0] + [1000.0] * 3
+    limits = Thresholds(max_queue_length=30_000.0)
+    h = wzq.analyse(Plan(hand_site(), hourly(flows), (), limits)).hourly
+    assert h["queue_max_veh"].tolist() == [0.0] * 4 + [500.0, 500.0, 0.0, 0.0]
+    assert h["queue_length_max_m"].tolist() == [0.0] * 8
+    assert h["queue_ok"].tolist() == [True] * 4 + [False, False, True, True]
+    found = W.find_windows(hand_site(), hourly(flows), limits, [HAND_CONFIG])
+    ws = found.sets[0]
+    assert ws.open_road_failing == (dt.datetime(2027, 5, 3, 4), dt.datetime(2027, 5, 3, 5))
+    assert not ws.allowed.any()
 
 
 def test_no_limits_allows_everything_with_a_note() -> None:
@@ -633,10 +652,11 @@ def test_a_window_away_from_the_open_roads_own_queue_adds_no_delay() -> None:
     # 1,000 veh/h below the closure's 1,600 adds no queue of its own and leaves the noon
     # queue as it was, so its added delay is zero, not the open road's delay again.
     day = [1000.0] * 7 + [2500.0] * 5 + [4500.0] + [2500.0] * 6 + [1000.0] * 5
-    # a queue-length limit the open road's own queue passes (5.3 km as the engine finds it;
-    # only a precondition here) and a closure in
-    # the 2,500 veh/h hours does not (900 more vehicles an hour)
-    plan = Plan(peak_plan().site, hourly(day * 2), thresholds=Thresholds(max_queue_length=5500.0))
+    # a delay limit the open road's own queue passes (200 s a vehicle at worst as the engine
+    # finds it; only a precondition here) and a closure in the 2,500 veh/h hours does not
+    # (900 more vehicles an hour). (A length limit would fail the noon hour itself: 500
+    # vehicles there wait beyond the approach, test_a_queue_held_beyond_the_approach...)
+    plan = Plan(peak_plan().site, hourly(day * 2), thresholds=Thresholds(max_average_delay=300.0))
     assert wzq.analyse(plan).summary.total_delay_veh_h > 100.0
     longest = W.longest_windows(W.plan_windows(plan), top=2)
     assert longest["start"].tolist()[0] == dt.datetime(2027, 5, 3, 19)

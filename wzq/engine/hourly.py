@@ -12,6 +12,7 @@ if TYPE_CHECKING:
 
 from wzq.engine import costs as road_user_costs
 from wzq.engine.plan import Plan, Thresholds
+from wzq.engine.queue_length import held_beyond
 from wzq.engine.results import Run, Summary, clock, hourly_frame
 from wzq.models.queueing import waits
 from wzq.units import HOUR
@@ -19,6 +20,7 @@ from wzq.units import HOUR
 __all__ = [
     "CHECK_COLUMNS",
     "DELAY_TOLERANCE_S",
+    "HELD_QUEUE_VEH",
     "LENGTH_TOLERANCE_M",
     "RATIO_TOLERANCE",
     "hour_checks",
@@ -34,6 +36,9 @@ __all__ = [
 LENGTH_TOLERANCE_M = 1e-9
 DELAY_TOLERANCE_S = 1e-9
 RATIO_TOLERANCE = 1e-12
+#: Vehicles held beyond the approach in an hour that make its length unknown
+#: (:func:`hour_checks`); half a vehicle, which shows as one.
+HELD_QUEUE_VEH = 0.5
 
 
 #: The per-hour pass/fail columns :func:`hour_checks` may add to the table.
@@ -56,15 +61,20 @@ def hour_checks(
     delay_veh_h: np.ndarray,
     closed: np.ndarray,
     landmark: tuple[str, float] | None = None,
+    held_veh: np.ndarray | None = None,
 ) -> tuple[np.ndarray, np.ndarray, list[tuple[str, str, np.ndarray]]]:
     """Average delay (min/veh), demand/capacity and each hour's checks against the limits.
 
     Longest queue ``<=`` limit; average delay (queue plus work-zone travel delay
     over the hour's arrivals) ``<=`` limit; demand/capacity ``<=`` limit in closure
     hours only; the back of the queue not beyond the landmark ``(name, distance
-    m)`` the queue must not pass. The one rule for the per-hour table and the
-    closure-window search. Returns ``(average_delay_min, demand_capacity,
-    [(column, label, ok), ...])``.
+    m)`` the queue must not pass. ``held_veh``, the most vehicles in each hour
+    that the approach could not admit (demand above its own capacity, held
+    beyond its upstream end: :func:`wzq.engine.queue_length.held_beyond`): an hour
+    holding :data:`HELD_QUEUE_VEH` or more fails the length and landmark checks,
+    since the queue's length is then unknown, not the length shown. The one
+    rule for the per-hour table, the scenarios and the closure-window search.
+    Returns ``(average_delay_min, demand_capacity, [(column, label, ok), ...])``.
     """
     with np.errstate(divide="ignore", invalid="ignore"):
         avg = np.where(
@@ -72,8 +82,9 @@ def hour_checks(
         )
         dc = np.where(capacity > 0, arrivals / np.where(capacity > 0, capacity, 1.0), np.nan)
     checks: list[tuple[str, str, np.ndarray]] = []
+    seen = True if held_veh is None else held_veh < HELD_QUEUE_VEH
     if th.max_queue_length is not None:
-        ok = lmax <= th.max_queue_length + LENGTH_TOLERANCE_M
+        ok = (lmax <= th.max_queue_length + LENGTH_TOLERANCE_M) & seen
         checks.append((_QUEUE_OK, "queue length", ok))
     if th.max_average_delay is not None:
         ok = avg * 60.0 <= th.max_average_delay + DELAY_TOLERANCE_S
@@ -82,7 +93,7 @@ def hour_checks(
         ok = ~closed | (dc <= th.max_demand_capacity + RATIO_TOLERANCE)
         checks.append((_DEMAND_CAPACITY_OK, "demand/capacity", ok))
     if landmark is not None:
-        ok = lmax <= landmark[1] + LENGTH_TOLERANCE_M
+        ok = (lmax <= landmark[1] + LENGTH_TOLERANCE_M) & seen
         checks.append((_LANDMARK_OK, f"queue passes {landmark[0]}", ok))
     return avg, dc, checks
 
@@ -128,8 +139,19 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
     else:
         lmax = top(np.maximum(r.length_start, r.length_end), first)
     closed = top((r.closure >= 0).view(np.int8), first).astype(bool)
+    held = None
+    if r.back_of_queue is not None and r.sections is None:  # Newell's method, no ramps
+        lanes, diagram = r.plan.site.lanes, r.model.diagram
+        held = top(held_beyond(r.demand_veh_h, dur, lanes, diagram), first)
     avg, dc, checks = hour_checks(
-        r.plan.thresholds, arrivals, capacity, lmax, delay, closed, landmark_limit(r.plan)
+        r.plan.thresholds,
+        arrivals,
+        capacity,
+        lmax,
+        delay,
+        closed,
+        landmark_limit(r.plan),
+        held,
     )
     exits = () if r.sections is None else r.sections.exits
     exit_delay = sum((e.delay_veh_s for e in exits), np.zeros(n_hours)) / HOUR

@@ -18,13 +18,14 @@ from wzq.engine.results import Run
 from wzq.engine.site import SiteModel
 from wzq.models import newell
 from wzq.models.flow import PIECEWISE_LINEAR, FundamentalDiagram
-from wzq.models.queueing import QueueRun
+from wzq.models.queueing import QueueRun, _lindley
 from wzq.models.shockwave import stored_density
 from wzq.units import HOUR
 
 __all__ = [
     "LENGTH_METHODS",
     "LengthFn",
+    "held_beyond",
     "length_method",
     "newell_lengths",
     "newell_of_run",
@@ -148,3 +149,21 @@ def newell_of_run(run: Run, *, after_end: newell.AfterEnd = "rate") -> newell.Ne
     """:func:`wzq.models.newell.from_queue` for an engine run
     (:func:`wzq.engine.evaluate.evaluate`)."""
     return newell.from_queue(run.queue, run.model.diagram, run.plan.site.lanes, after_end=after_end)
+
+
+def held_beyond(
+    demand_veh_h: np.ndarray, dur: np.ndarray, lanes: int, diagram: FundamentalDiagram
+) -> np.ndarray:
+    """Vehicles waiting beyond the approach's upstream end, most in each interval.
+
+    The approach admits at most its own capacity ``n c`` (Newell's variational
+    form, Daganzo 2005: the arrival curve is replaced by its running envelope),
+    so demand above it queues at the upstream end as a point queue served at
+    ``n c``, whatever happens at the closure. Newell's method shows no length for
+    those vehicles (:attr:`wzq.models.newell.NewellQueue.capacity_limited`): an
+    hour holding any fails the length checks (:func:`wzq.engine.hourly.hour_checks`).
+    ``demand_veh_h`` per interval (rows for scenarios), ``dur`` in s.
+    """
+    top = lanes * float(diagram.capacity) * HOUR
+    q = _lindley((demand_veh_h - top) / HOUR * dur, 0.0)
+    return np.maximum(q[..., :-1], q[..., 1:])

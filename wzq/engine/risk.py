@@ -70,7 +70,7 @@ from wzq.engine.design_demand import DemandHistory, historical_scenarios
 from wzq.engine.grid import interval_arrays
 from wzq.engine.hourly import hour_checks
 from wzq.engine.plan import Plan, PlanError, Problem, RiskOptions
-from wzq.engine.queue_length import queue_state_discharge, uses_newell
+from wzq.engine.queue_length import held_beyond, queue_state_discharge, uses_newell
 from wzq.models import newell
 from wzq.models.flow import Triangular
 from wzq.models.queueing import QueueRun, _lindley
@@ -523,7 +523,12 @@ def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
     capacity = add(pre * dur) / HOUR
     delay = add(rows.delay) / HOUR + add(rows.departures * ia.extra_s) / HOUR
     closed_h = top(closed.view(np.int8)).astype(bool)
-    avg, dc, checks = hour_checks(plan.thresholds, arrivals, capacity, lmax, delay, closed_h)
+    held = None
+    if uses_newell(plan.options, model.diagram):
+        held = top(held_beyond(lam_h, dur, site.lanes, model.diagram))
+    avg, dc, checks = hour_checks(
+        plan.thresholds, arrivals, capacity, lmax, delay, closed_h, held_veh=held
+    )
     return ScenarioRuns(
         plan,
         scenarios,

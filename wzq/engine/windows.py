@@ -82,7 +82,13 @@ from wzq.engine.plan import (
     Site,
     Thresholds,
 )
-from wzq.engine.queue_length import LengthFn, length_method, newell_lengths, queue_state_discharge
+from wzq.engine.queue_length import (
+    LengthFn,
+    held_beyond,
+    length_method,
+    newell_lengths,
+    queue_state_discharge,
+)
 from wzq.engine.site import SiteModel, configuration, site_model
 from wzq.models import newell
 from wzq.models.queueing import QueueRun, solve
@@ -215,6 +221,7 @@ class _Grid:
     ramps: ap.Ramps | None = None  # the approach's ramps on this grid
     by_sections: bool = False  # Newell's method by sections (else the single-state relation)
     landmark: tuple[str, float] | None = None  # the landmark the queue must not pass
+    held: np.ndarray | None = None  # per hour, vehicles held beyond the approach (Newell)
 
 
 @dataclass(frozen=True)
@@ -241,10 +248,15 @@ def _checks(
     lmax: np.ndarray,
     delay_veh_h: np.ndarray,
     closed: np.ndarray,
+    hours: np.ndarray | None = None,
 ) -> np.ndarray:
-    """All of :func:`wzq.engine.hourly.hour_checks` passed, hour by hour."""
+    """All of :func:`wzq.engine.hourly.hour_checks` passed, hour by hour (``hours``: the
+    hours the arrays hold, when not every hour)."""
     ok = np.ones(len(arrivals), dtype=bool)
-    checks = hour_checks(g.thresholds, arrivals, capacity, lmax, delay_veh_h, closed, g.landmark)
+    held = g.held if g.held is None or hours is None else g.held[hours]
+    checks = hour_checks(
+        g.thresholds, arrivals, capacity, lmax, delay_veh_h, closed, g.landmark, held
+    )
     for _, _, passed in checks[2]:
         ok &= passed
     return ok
@@ -325,7 +337,7 @@ def _mixed_hours_ok(
         + pick(r.wz_delay, b.wz_delay, 0.0).sum(axis=1) / HOUR
     )
     closed = np.ones(len(hours), dtype=bool)
-    return _checks(g, arrivals, capacity, lmax, delay, closed)
+    return _checks(g, arrivals, capacity, lmax, delay, closed, hours)
 
 
 def _first_failure_end(g: _Grid, ok: np.ndarray) -> int:
@@ -625,10 +637,14 @@ def _grid(
     if approach is not None and thresholds.queue_must_not_pass is not None:
         lm = approach.landmark(thresholds.queue_must_not_pass)
         limit = None if lm is None else (lm.name, lm.distance)
+    lam = demand.flows_veh_h.astype(float) if ramps is None else ramps.section[0]
+    held = None
+    if length_fn is newell_lengths and ramps is None:  # as hour_columns does
+        held = np.maximum.reduceat(held_beyond(lam, dur, site.lanes, model.diagram), first)
     return _Grid(
         n,
         dur,
-        demand.flows_veh_h.astype(float) if ramps is None else ramps.section[0],
+        lam,
         arrays["po"],
         arrays["qo"],
         arrays["pc"],
@@ -644,6 +660,7 @@ def _grid(
         ramps,
         length_fn is newell_lengths,
         limit,
+        held,
     )
 
 
