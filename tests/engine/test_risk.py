@@ -249,9 +249,9 @@ def test_demand_above_the_open_roads_capacity_same_in_scenarios_and_analyse() ->
     assert held == [
         "arrivals or discharge exceeded the approach road's capacity; the traffic it could "
         "not admit is held beyond the upstream end and not counted in the length: from Mon "
-        "2027-05-03 02:00 up to 369 vehicles queue while the length shows 0 (the demand is "
-        "more than the road itself carries there: check the count, and treat the queue as "
-        "reaching beyond the approach)"
+        "2027-05-03 02:00 up to 369 vehicles wait there, their queue's length is unknown and "
+        "the hours holding them fail a queue-length limit (the demand is more than the road "
+        "itself carries: check the count)"
     ]
     runs = R.run_scenarios(plan, R.Scenarios(("a", "b", "c", "d"), flows, None))
     for j in range(len(flows)):

@@ -8,7 +8,9 @@ import numpy as np
 
 from wzq.engine import plausibility
 from wzq.engine.approach import LandmarkResult
+from wzq.engine.hourly import HELD_QUEUE_VEH
 from wzq.engine.plan import Plan
+from wzq.engine.queue_length import held_beyond
 from wzq.engine.results import Run, clock
 from wzq.engine.site import site_model
 from wzq.engine.windows import too_long, too_long_text
@@ -70,22 +72,25 @@ def run_warnings(r: Run) -> list[str]:
 
 
 def _held_beyond_warning(r: Run) -> str:
-    """Traffic the approach could not admit: said with the vehicles queued while the
-    length shows no queue at all, and from when, so a 0 m beside a queue is explained."""
+    """Traffic the approach could not admit: said with the most vehicles held beyond it
+    and from when (:func:`wzq.engine.queue_length.held_beyond`), and that those hours
+    fail a length limit."""
     text = (
         "arrivals or discharge exceeded the approach road's capacity; the traffic it "
         "could not admit is held beyond the upstream end and not counted in the length"
     )
-    q = np.maximum(r.queue.queue[:-1], r.queue.queue[1:])
-    unseen = (q >= 0.5) & (r.length_start == 0.0) & (r.length_end == 0.0)
-    if not unseen.any():
+    if r.sections is not None:
         return text
-    first = int(np.argmax(unseen))
+    held = held_beyond(r.demand_veh_h, r.duration, r.plan.site.lanes, r.model.diagram)
+    over = held >= HELD_QUEUE_VEH
+    if not over.any():
+        return text
+    first = int(np.argmax(over))
     return (
         f"{text}: from {clock(r, float(r.t[first])):%a %Y-%m-%d %H:%M} up to "
-        f"{q[unseen].max():,.0f} vehicles queue while the length shows 0 (the demand is "
-        "more than the road itself carries there: check the count, and treat the queue "
-        "as reaching beyond the approach)"
+        f"{held.max():,.0f} vehicles wait there, their queue's length is unknown and the "
+        "hours holding them fail a queue-length limit (the demand is more than the road "
+        "itself carries: check the count)"
     )
 
 
