@@ -195,10 +195,10 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
 
 
 def _max(values: np.ndarray) -> float:
-    """The largest value, NaN left out (NaN when there is no other), as pandas' ``max``."""
-    a = np.asarray(values, dtype=float)
-    a = a[~np.isnan(a)]
-    return float(a.max()) if len(a) else float("nan")
+    """The largest value of a per-hour column of floats: a plan covers at least one whole
+    hour, and the columns it is asked of hold no NaN (an hour without arrivals has an
+    average delay of 0, an hour without a queue a longest wait of 0)."""
+    return float(np.max(values))
 
 
 def summarise(r: Run, hours: dict[str, np.ndarray]) -> Summary:
@@ -221,8 +221,8 @@ def summarise(r: Run, hours: dict[str, np.ndarray]) -> Summary:
     over = np.zeros(len(hours["hour_start"]), dtype=bool)
     for name in CHECK_COLUMNS:
         if name in hours:
-            over |= ~np.asarray(hours[name], dtype=bool)
-    failing = tuple(hours["hour_start"][over]) if over.any() else ()
+            over |= ~hours[name]  # the checks are boolean arrays
+    failing = tuple(hours["hour_start"][over])  # () when no hour fails
     qd = float(q.delay.sum()) / HOUR
     wd = float(r.work_zone_delay.sum()) / HOUR
     xd = 0.0 if r.sections is None else float(sum(e.total_veh_h for e in r.sections.exits))

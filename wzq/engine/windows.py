@@ -494,8 +494,7 @@ class WindowSet:
         later = np.zeros_like(a)
         later[:, :-1] = a[:, 1:]
         m = self._reported() & ~earlier & ~later
-        s, e = np.nonzero(m)
-        return [(int(i), int(j)) for i, j in zip(s, e, strict=True)]
+        return [(int(i), int(j)) for i, j in np.argwhere(m)]
 
     def longest(self, top: int | None = None) -> list[tuple[int, int]]:
         """Maximal windows, longest first (then earliest)."""
@@ -540,7 +539,7 @@ class WindowSet:
         last = self.last_end()
         reach = np.maximum.accumulate(last)  # latest end of a window starting at or before s
         whole = reach[g.first] >= g.hour_end
-        part_any = np.maximum.reduceat(self.interval_flags().astype(np.int8), g.first) > 0
+        part_any = np.logical_or.reduceat(self.interval_flags(), g.first)
         return [self.clock(i) for i in g.first], whole, part_any & ~whole
 
     def added_delay_veh_h(self, s: int, e: int) -> float:
