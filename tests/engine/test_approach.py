@@ -460,6 +460,63 @@ def test_the_window_search_finds_the_held_back_queue_by_hand() -> None:
         assert bool(ws.sets[0].allowed[1, 3]) is allowed
 
 
+def test_the_window_search_counts_the_held_back_delay_after_the_closure() -> None:
+    """A window's added delay on the exit-ramp case above, by the hand construction of
+    ``test_queue_past_an_exit_ramp_that_holds_the_closure_traffic_back``: during the
+    closure the queue grows at 1,600 - 1,200 = 400 veh/h (D/D/1); after it, the queued
+    vehicles leave at the open road's 3,720 veh/h until the last one queued below the
+    ramp reaches the closure (t_gone = 10,800 + 1,000 / w + 1,000 / shock(3,200 free,
+    3,720 queued) = 11,146.15 s), then at the 3,200 veh/h the ramp passes, while 1,600
+    veh/h arrive. A closure from 01:00 leaves 800 vehicles at 03:00; one from 02:00
+    leaves 400, and its back passes the ramp at 7,200 + 1,535 s, before 03:00, so the
+    recovery meets the ramp at the same instants. The traffic leaving at the ramp is
+    not counted in a window's added delay."""
+    from wzq.engine import windows as wins
+
+    t_gone = 10800.0 + 1000.0 / W
+    t_gone += 1000.0 / shock(3200, k_free(3200), OPEN_DISCHARGE, k_queued(OPEN_DISCHARGE))
+    assert t_gone == pytest.approx(11146.15, abs=0.01)
+
+    def after(left: float) -> float:
+        """Delay (veh-h) after 03:00 of ``left`` vehicles waiting then (areas of triangles
+        and trapezoids between the arrival and departure curves)."""
+        waiting = left - (OPEN_DISCHARGE - 1600.0) * (t_gone - 10800.0) / HOUR
+        t_clear = t_gone + waiting / (3200.0 - 1600.0) * HOUR
+        area = 0.5 * (left + waiting) * (t_gone - 10800.0) + 0.5 * waiting * (t_clear - t_gone)
+        return area / HOUR
+
+    ramp = Landmark("Bell St off-ramp", 1000.0, "exit-ramp", ramp_share=0.2)
+    demand = Demand(START, 3600, np.full(6, 2000.0))
+    config = wins.Configuration(1, capacity_override_veh_h_ln=1200.0)
+    ws = wins.find_windows(
+        site(), demand, Thresholds(max_queue_length=8000.0), [config],
+        approach=Approach((ramp,)),
+    ).sets[0]  # fmt: skip
+    two_hours = 0.5 * 400.0 + 0.5 * (400.0 + 800.0) + after(800.0)
+    assert ws.added_delay_veh_h(1, 3) == pytest.approx(two_hours, rel=1e-9)
+    assert ws.added_delay_veh_h(2, 3) == pytest.approx(0.5 * 400.0 + after(400.0), rel=1e-9)
+
+
+def test_a_section_above_the_roads_capacity_upstream_of_an_exit_makes_the_search_run_in_full() -> (
+    None
+):
+    # 4,500 veh/h on the mainline, 20 % leave 1,000 m upstream: the closure receives
+    # 3,600 veh/h, below the 2 x 2,000 = 4,000 the road carries, but the section
+    # upstream of the ramp is above it; Newell's construction holds traffic beyond the
+    # approach there, so every candidate closure is run in full (and the notes say so)
+    from wzq.engine import windows as wins
+
+    ramp = Landmark("Bell St off-ramp", 1000.0, "exit-ramp", ramp_share=0.2)
+    config = wins.Configuration(1, capacity_override_veh_h_ln=1200.0)
+    for mainline, in_full in ((4500.0, True), (3900.0, False)):
+        demand = Demand(START, 3600, np.array([1000.0, mainline, 1000.0]))
+        result = wins.find_windows(
+            site(), demand, Thresholds(max_queue_length=8000.0), [config],
+            approach=Approach((ramp,)),
+        )  # fmt: skip
+        assert any("run in full" in n for n in result.notes) is in_full
+
+
 # --------------------------------------------------------------------------- landmarks
 
 

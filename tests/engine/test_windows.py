@@ -30,7 +30,7 @@ from hypothesis import strategies as st
 import wzq
 from wzq.cli import main
 from wzq.engine import windows as W
-from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, Site, Thresholds
+from wzq.engine.plan import Closure, Costs, Demand, Options, Plan, PlanError, Site, Thresholds
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.plans import demo_plan
 from wzq.io.workbook.windows_sheet import SHEET, write_windows_sheet
@@ -230,6 +230,134 @@ def test_the_five_longest_windows_by_default() -> None:
     table = W.longest_windows(result)
     assert [t.hour for t in table["start"]] == [0, 2, 4, 6, 8]
     assert len(W.longest_windows(result, top=None)) == 12
+
+
+def test_the_five_longest_windows_as_rows_by_default() -> None:
+    # the twelve one-hour windows of the test above, as Window rows: the first five
+    result = W.find_windows(
+        hand_site(), hourly([1000.0, 2500.0] * 12), Thresholds(max_queue_length=1000.0),
+        [HAND_CONFIG],
+    )  # fmt: skip
+    assert [w.start.hour for w in W.longest_window_list(result)] == [0, 2, 4, 6, 8]
+
+
+def test_a_demand_of_exactly_the_longest_searched_length_is_searched() -> None:
+    # the search takes up to 6 x 7 x 24 x 4 = 4,032 intervals (24 weeks of hourly data)
+    assert W.MAX_INTERVALS == 4032
+    assert not W.too_long(hourly([1000.0] * 4032))
+    assert W.too_long(hourly([1000.0] * 4033))
+
+
+def test_the_hour_flags_table_names_its_columns() -> None:
+    # the night-only day of test_daily_peak_allows_the_night_hours_only: no queue at
+    # night, a peak hour closed stores 1,000 vehicles, beyond 1 km (D/D/1)
+    flows = [1000.0] * 7 + [2500.0] * 12 + [1000.0] * 5
+    ws = windows_of(hand_site(), hourly(flows), Thresholds(max_queue_length=1000.0))
+    flags = ws.hour_flags()
+    assert list(flags.columns) == ["hour_start", "whole", "part"]
+    assert list(flags["hour_start"]) == [START + dt.timedelta(hours=h) for h in range(24)]
+    assert flags["whole"].tolist() == [h < 7 or h >= 19 for h in range(24)]
+
+
+def test_the_default_configurations_leave_one_lane_open_behind_cones() -> None:
+    # three lanes: one or two closed, behind cones (the soft barrier) unless told otherwise
+    site = hand_site(lanes=3)
+    soft = [W.Configuration(1, "soft"), W.Configuration(2, "soft")]
+    assert W.default_configurations(site) == soft
+    hard = [W.Configuration(1, "hard"), W.Configuration(2, "hard")]
+    assert W.default_configurations(site, "hard") == hard
+    result = W.find_windows(site, hourly([1000.0] * 2), Thresholds(max_queue_length=1000.0))
+    assert [ws.configuration for ws in result.sets] == soft
+
+
+def test_a_windows_table_of_no_window_set_keeps_its_columns() -> None:
+    # a search of no day type has no window set; its table is empty, with the columns
+    result = W.find_windows(hand_site(), [], Thresholds(), [HAND_CONFIG])
+    assert result.sets == ()
+    table = W.windows_table(result)
+    assert list(table.columns) == ["configuration", "day", *W.HOUR_COLUMNS]
+    assert len(table) == 0
+
+
+def test_calendar_rows_mark_the_hours_without_data() -> None:
+    # 24 hours of 1,000 veh/h from 05:00 never queue on the 1,500 veh/h closure (D/D/1),
+    # so every hour of data may be closed whole; Monday has no data before 05:00,
+    # Tuesday none from 05:00
+    demand = hourly([1000.0] * 24, START + dt.timedelta(hours=5))
+    ws = windows_of(hand_site(), demand, Thresholds(max_queue_length=1000.0))
+    assert W.day_rows(ws) == [
+        ("Mon 2027-05-03", ["none"] * 5 + ["whole"] * 19),
+        ("Tue 2027-05-04", ["whole"] * 5 + ["none"] * 19),
+    ]
+
+
+def test_a_typical_day_row_shows_the_best_state_of_each_hour_on_either_day() -> None:
+    # A typical day of 15-minute data is laid out twice (192 intervals), starts reported
+    # on the first day. A hand matrix: closures 01:15-01:45 on the first day, and 23:45 to
+    # 03:30 the next day. First day: hours 01 and 23 part, the rest no; second day: hours
+    # 00-02 whole, 03 part, the rest no. The row keeps the best of the two per hour of day
+    # (whole over part over no): 00-02 whole, 03 part, 23 part.
+    (day,) = W.typical_days(Demand(START, 900, np.full(96, 1000.0)))
+    assert (len(day.demand.flows_veh_h), day.stop_start, day.fold) == (192, 96, True)
+    ws = W.find_windows(
+        hand_site(), [day], Thresholds(max_queue_length=1000.0), [HAND_CONFIG],
+        options=SINGLE_STATE,
+    ).sets[0]  # fmt: skip
+    allowed = np.zeros((192, 193), dtype=bool)
+    allowed[5, 7] = True  # 01:15 to 01:45
+    allowed[95, 110] = True  # 23:45 to 03:30 the next day
+    rows = W.day_rows(replace(ws, allowed=allowed))
+    assert rows == [(day.name, ["whole"] * 3 + ["part"] + ["no"] * 19 + ["part"])]
+
+
+def test_plan_windows_passes_on_the_lanes_the_barrier_the_costs_and_known_tables() -> None:
+    # Three lanes, 1,000 veh/h: the search of a plan closes the lanes asked (default every
+    # closure leaving a lane open) behind the barrier asked, prices at the plan's own
+    # costs: 20 per person-hour x 1.5 persons per car = 30 per vehicle-hour (no trucks),
+    # and takes the tables a search of the same plan found before as they are.
+    plan = Plan(hand_site(lanes=3), hourly([1000.0] * 4), costs=Costs(20.0, 1.5, 50.0),
+                thresholds=Thresholds(max_queue_length=1000.0))  # fmt: skip
+    both = W.plan_windows(plan, barrier="hard")
+    assert [ws.configuration for ws in both.sets] == [
+        W.Configuration(1, "hard"),
+        W.Configuration(2, "hard"),
+    ]
+    one = W.plan_windows(plan, [1], barrier="hard")
+    assert [ws.configuration for ws in one.sets] == [W.Configuration(1, "hard")]
+    assert one.sets[0].value_per_veh_h == pytest.approx(30.0, rel=1e-12)
+    # 1,000 veh/h never queue on two lanes open, so the search allows every closure; a
+    # table given as known (here: none allowed) is used instead
+    assert one.sets[0].allowed.sum() == 4 * 5 // 2
+    none = np.zeros((4, 5), dtype=bool)
+    assert not W.plan_windows(plan, [1], known=[none]).sets[0].allowed.any()
+
+
+RUN_IN_FULL = "so every candidate closure was run in full (slower)"
+
+
+def search_notes(flows: list[float], config: W.Configuration, **kw) -> str:
+    limits = Thresholds(max_queue_length=1000.0)
+    return " ".join(W.find_windows(hand_site(), hourly(flows), limits, [config], **kw).notes)
+
+
+def test_the_search_runs_in_full_at_or_above_the_approachs_capacity_and_says_so() -> None:
+    # The hand site's approach carries n c = 2 x 2,000 = 4,000 veh/h. Newell's
+    # construction (the default) holds traffic beyond the approach when the demand
+    # reaches that, or when a closure could pass more: the search then runs every
+    # candidate in full, and says so (unless asked to run every candidate in full).
+    assert RUN_IN_FULL in search_notes([1000.0, 4000.0, 1000.0], HAND_CONFIG)
+    assert RUN_IN_FULL not in search_notes([1000.0, 3900.0, 1000.0], HAND_CONFIG)
+    assert RUN_IN_FULL not in search_notes([1000.0, 4000.0], HAND_CONFIG, exhaustive=True)
+    # a shoulder closure at 2,500 veh/h on each of the two lanes: 5,000 veh/h, above n c;
+    # at 2,000 veh/h a lane it passes exactly n c, not more
+    above = W.Configuration(0, capacity_override_veh_h_ln=2500.0)
+    assert RUN_IN_FULL in search_notes([1000.0] * 3, above)
+    at = W.Configuration(0, capacity_override_veh_h_ln=2000.0)
+    assert RUN_IN_FULL not in search_notes([1000.0] * 3, at)
+    # plan_windows passes the request on
+    plan = Plan(hand_site(), hourly([1000.0, 4000.0]), thresholds=Thresholds(max_queue_length=1.0))
+    assert any(RUN_IN_FULL in n for n in W.plan_windows(plan).notes)
+    assert not any(RUN_IN_FULL in n for n in W.plan_windows(plan, exhaustive=True).notes)
 
 
 def test_closure_may_run_past_midnight() -> None:
