@@ -172,9 +172,8 @@ class Configuration:
         """``1 of 3 lanes closed`` (plus the barrier and an override when not the default)."""
         if self.lanes_closed == 0:
             text = f"shoulder closed, {lanes} lanes open"
-        else:
-            word = "lane" if lanes == 1 else "lanes"
-            text = f"{self.lanes_closed} of {lanes} {word} closed"
+        else:  # a lane closed leaves one open: two lanes at least
+            text = f"{self.lanes_closed} of {lanes} lanes closed"
         if self.barrier == "hard":
             text += ", concrete barrier"
         if self.capacity_override_veh_h_ln is not None:
