@@ -329,6 +329,7 @@ def test_a_queue_held_beyond_the_approach_fails_the_length_limit() -> None:
     assert h["queue_max_veh"].tolist() == [0.0] * 4 + [500.0, 500.0, 0.0, 0.0]
     assert h["queue_length_max_m"].tolist() == [0.0] * 8
     assert h["queue_ok"].tolist() == [True] * 4 + [False, False, True, True]
+    assert h["status"].tolist()[3:7] == ["ok", *["over limit: queue length unknown"] * 2, "ok"]
     found = W.find_windows(hand_site(), hourly(flows), limits, [HAND_CONFIG])
     ws = found.sets[0]
     assert ws.open_road_failing == (dt.datetime(2027, 5, 3, 4), dt.datetime(2027, 5, 3, 5))

@@ -190,7 +190,14 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
     for c in range(1 << len(checks)):
         failed = [label for bit, (_, label, _) in enumerate(checks) if c >> bit & 1]
         labels.append("over limit: " + ", ".join(failed) if failed else "ok")
-    cols["status"] = np.array(labels, dtype=object)[code]
+    status = np.array(labels, dtype=object)[code]
+    if held is not None and r.plan.thresholds.max_queue_length is not None:
+        # the length shown leaves out the traffic held beyond the approach (hour_checks)
+        unknown = held >= HELD_QUEUE_VEH
+        status[unknown] = [
+            s.replace("queue length", "queue length unknown", 1) for s in status[unknown]
+        ]
+    cols["status"] = status
     return cols
 
 
