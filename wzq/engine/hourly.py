@@ -140,7 +140,7 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
         lmax = top(np.maximum(r.length_start, r.length_end), first)
     closed = top((r.closure >= 0).view(np.int8), first).astype(bool)
     held = None
-    if r.back_of_queue is not None and r.sections is None:  # Newell's method, no ramps
+    if r.sections is None:  # no ramps (with ramps the sections say what they held)
         lanes, diagram = r.plan.site.lanes, r.model.diagram
         held = top(held_beyond(r.demand_veh_h, dur, lanes, diagram), first)
     avg, dc, checks = hour_checks(
