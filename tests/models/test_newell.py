@@ -752,3 +752,59 @@ def test_a_front_at_capacity_between_two_closures_after_arrivals_were_held() -> 
     assert nq.capacity_limited
     _held_to_the_bisection(run, admitted, nq.times, nq.distance)
     _held_to_the_bisection(run, admitted, *track(*newell.curves(run)))
+
+
+def test_queue_standing_at_the_start_of_a_one_lane_approach() -> None:
+    # As test_queue_standing_at_the_start_is_stored_at_jam_density, on one lane (n c = 0.6
+    # veh/s, below 1: the knot before the start must lie q0 / (n c) back, not q0 n c).
+    # 300 vehicles at t = 0, arrivals 0.45, discharge 0.54 veh/s. At t = 0,
+    # g(d) = 300 + 0.45 d/30 - 0.12 d -> d = 300 / 0.105 m; D/D/1: clears 300/0.09 s later.
+    run = solve(np.array([7200.0]), np.array([0.45]), np.array([0.54]), q0=300.0)
+    t, a, d = newell.curves(run)
+    one = dict(APPROACH, lanes=1)
+    assert newell.back_of_queue(t, a, d, at=0.0, **one) == pytest.approx(300 / 0.105, rel=REL)
+    times, dist = newell.trajectory(t, a, d, **one)
+    assert newell.dissolve_times(times, dist) == pytest.approx([300 / 0.09], rel=REL)
+
+
+def test_counts_that_do_not_start_at_zero_give_the_same_back() -> None:
+    # Newell's N(d, t) is a count from any origin: adding 1000 vehicles to both curves moves
+    # N by 1000 and leaves g, and the back of the queue, unchanged. The case of
+    # test_queue_standing_at_the_start_is_stored_at_jam_density: 600 / 0.21 m at t = 0.
+    run = solve(np.array([7200.0]), np.array([0.9]), np.array([1.08]), q0=600.0)
+    t, a, d = newell.curves(run)
+    got = newell.back_of_queue(t, a + 1000.0, d + 1000.0, at=0.0, **APPROACH)
+    assert got == pytest.approx(600 / 0.21, rel=REL)
+    times, dist = track(t, a + 1000.0, d + 1000.0)
+    assert newell.dissolve_times(times, dist) == pytest.approx([600 / 0.18], rel=REL)
+
+
+def test_a_long_queue_standing_at_the_start_and_still_there_at_the_end() -> None:
+    # 10,000 vehicles stand at jam density at t = 0 (D held before 0); arrivals 0.9 against
+    # a discharge of 0.6 veh/s for one hour, the queue still there at the end (A carried on
+    # at 0.9). The recovery wave from the front reaches 6 * 3600 = 21.6 km by the end, short
+    # of the back, so the back meets the stored jam: g(d; t) = 10000 + 0.9 (t + d/30)
+    # - 0.24 d = 0, d = (10000 + 0.9 t) / 0.21 m (the shock between the arriving state and
+    # the jam, 0.9 / (0.24 - 0.03) m/s upstream).
+    run = solve(np.array([3600.0]), np.array([0.9]), np.array([0.6]), q0=10000.0)
+    t, a, d = newell.curves(run)
+    at = np.array([0.0, 1800.0, 3600.0])
+    got = newell.back_of_queue(t, a, d, at=at, **APPROACH)
+    assert got == pytest.approx((10000 + 0.9 * at) / 0.21, rel=REL)
+
+
+@pytest.mark.parametrize("nudge", [0.0, 1e-13, -1e-13])
+def test_a_closure_after_arrivals_held_at_a_front_discharging_at_capacity(nudge) -> None:
+    # The held first half hour of test_arrivals_above_capacity_at_a_front_discharging_at_
+    # capacity_leave_no_queue (levels a rounding apart joined, no queue inside the
+    # approach), then a closure: arrivals 0.9 against 0.6 veh/s for an hour, then 0.5
+    # against an open road discharging at 1.0. The joined levels must keep their order, so
+    # the closure's queue is the bisection's of Newell's formula on the admitted arrivals.
+    nc = N_LANES * DIAGRAM.capacity
+    dur = np.array([1800.0, 1800.0, 3600.0, 14400.0])
+    lam = np.array([1.5 + nudge, 0.5, 0.9, 0.5])
+    run = solve(dur, lam, np.array([nc, nc, 0.6, 1.1]), np.array([nc, nc, 0.6, 1.0]))
+    admitted = solve(dur, lam, np.full(len(dur), nc))
+    nq = newell.from_queue(run, DIAGRAM, N_LANES)
+    assert nq.capacity_limited
+    _held_to_the_bisection(run, admitted, nq.times, nq.distance)

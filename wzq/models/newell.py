@@ -250,7 +250,7 @@ def _level_curves(
     v: float,
     w: float,
     after_end: AfterEnd,
-    strict: bool = False,
+    strict: bool,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, bool]:
     """Knots and values of ``E(s) = n c s - D(s)`` and ``F(u) = n c u - A(u)``.
 
