@@ -329,10 +329,35 @@ def test_a_queue_held_beyond_the_approach_fails_the_length_limit() -> None:
     assert h["queue_max_veh"].tolist() == [0.0] * 4 + [500.0, 500.0, 0.0, 0.0]
     assert h["queue_length_max_m"].tolist() == [0.0] * 8
     assert h["queue_ok"].tolist() == [True] * 4 + [False, False, True, True]
+    assert h["status"].tolist()[3:7] == ["ok", *["over limit: queue length unknown"] * 2, "ok"]
     found = W.find_windows(hand_site(), hourly(flows), limits, [HAND_CONFIG])
     ws = found.sets[0]
     assert ws.open_road_failing == (dt.datetime(2027, 5, 3, 4), dt.datetime(2027, 5, 3, 5))
     assert not ws.allowed.any()
+
+
+def test_a_queue_held_beyond_the_approach_by_the_single_state_relation() -> None:
+    # The same, single-state relation: at 04:00 arrivals clipped to capacity meet a queue
+    # discharging at capacity, k_Q - k_A = 0, so no vehicle is stored (the relation's
+    # N / 0 once printed 2.5e11 m); at 05:00 the arrivals of 1,000 veh/h, k_A = 500 / 3600
+    # / 25 veh/m/ln, meet the capacity state k_c = 2,000 / 3600 / 25: 500 veh over 2 x
+    # (k_c - k_A) = 1 / 30 veh/m is 15,000 m (triangular hand site, by hand). Both hours
+    # hold traffic beyond the approach, so both fail whatever their length.
+    flows = [1000.0] * 4 + [4500.0] + [1000.0] * 3
+    limits = Thresholds(max_queue_length=30_000.0)
+    plan = Plan(hand_site(), hourly(flows), (), limits, options=SINGLE_STATE)
+    h = wzq.analyse(plan).hourly
+    assert h["queue_length_max_m"].tolist()[4] == 0.0
+    assert h["queue_length_max_m"].tolist()[5] == pytest.approx(15_000.0, rel=1e-12)
+    assert h["status"].tolist()[3:7] == ["ok", *["over limit: queue length unknown"] * 2, "ok"]
+    # the search judges the held hours the same way, fast or run in full
+    for lim in (limits, Thresholds(max_queue_length=30_000.0, max_average_delay=300.0)):
+        fast = W.find_windows(hand_site(), hourly(flows), lim, [HAND_CONFIG], options=SINGLE_STATE)
+        slow = W.find_windows(
+            hand_site(), hourly(flows), lim, [HAND_CONFIG], options=SINGLE_STATE, exhaustive=True
+        )
+        assert np.array_equal(fast.sets[0].allowed, slow.sets[0].allowed)
+        assert not fast.sets[0].allowed.any()
 
 
 def test_no_limits_allows_everything_with_a_note() -> None:

@@ -171,3 +171,40 @@ def test_long_permit_table_breaks_pages_and_repeats_its_header(tmp_path):
         assert ("Lane-closure permit table" in text) == (page == 1)  # the title block once
     assert "Mon 2027-05-10 04:00" in pdf_text(pdf, 3)  # the last closure hour
     assert wzq.CAUTION.split(",")[0] in pdf_text(pdf, 3)
+
+
+def _sheet_only_copy(result_book: Path, sheet: str, out: Path) -> Path:
+    """A copy of the workbook holding only ``sheet`` (as :func:`permit_only_copy`)."""
+    book = openpyxl.load_workbook(result_book)
+    for ws in list(book.worksheets):
+        if ws.title != sheet:
+            book.remove(ws)
+    book.active = 0
+    book.worksheets[0].sheet_view.tabSelected = True
+    book.save(out)
+    return out
+
+
+def _words(text: str) -> str:
+    """Text as printed words: whitespace collapsed, a word broken after its hyphen joined."""
+    return " ".join(text.split()).replace("- ", "-")
+
+
+def test_every_warning_prints_in_full_on_the_permit_summary_and_run_log(tmp_path):
+    # Fenwick Downs: a 23 km queue, so the long warning about the advance warning signs
+    # (about 300 characters) is among the warnings; on paper every word of every warning
+    # must be there (a long line in one cell used to run past the print area and be cut)
+    plan = load_plan(EXAMPLES / "fenwick_downs_weekend.json")
+    src = fill_template(plan, tmp_path / "fenwick.xlsx")
+    result = run_workbook(src)
+    assert max(len(w) for w in result.warnings) > 250
+    for sheet, prefix in (
+        (layout.PERMIT_TABLE, "Warning: "),
+        (layout.SUMMARY, ""),
+        (layout.RUN_LOG, ""),
+    ):
+        name = sheet.replace(" ", "_")
+        pdf = to_pdf(_sheet_only_copy(src, sheet, tmp_path / f"{name}.xlsx"), tmp_path)
+        printed = _words(pdf_text(pdf))
+        for warning in result.warnings:
+            assert _words(prefix + warning) in printed, (sheet, warning)

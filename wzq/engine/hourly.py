@@ -140,7 +140,7 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
         lmax = top(np.maximum(r.length_start, r.length_end), first)
     closed = top((r.closure >= 0).view(np.int8), first).astype(bool)
     held = None
-    if r.back_of_queue is not None and r.sections is None:  # Newell's method, no ramps
+    if r.sections is None:  # no ramps (with ramps the sections say what they held)
         lanes, diagram = r.plan.site.lanes, r.model.diagram
         held = top(held_beyond(r.demand_veh_h, dur, lanes, diagram), first)
     avg, dc, checks = hour_checks(
@@ -190,7 +190,14 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
     for c in range(1 << len(checks)):
         failed = [label for bit, (_, label, _) in enumerate(checks) if c >> bit & 1]
         labels.append("over limit: " + ", ".join(failed) if failed else "ok")
-    cols["status"] = np.array(labels, dtype=object)[code]
+    status = np.array(labels, dtype=object)[code]
+    if held is not None and r.plan.thresholds.max_queue_length is not None:
+        # the length shown leaves out the traffic held beyond the approach (hour_checks)
+        unknown = held >= HELD_QUEUE_VEH
+        status[unknown] = [
+            s.replace("queue length", "queue length unknown", 1) for s in status[unknown]
+        ]
+    cols["status"] = status
     return cols
 
 

@@ -523,9 +523,7 @@ def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
     capacity = add(pre * dur) / HOUR
     delay = add(rows.delay) / HOUR + add(rows.departures * ia.extra_s) / HOUR
     closed_h = top(closed.view(np.int8)).astype(bool)
-    held = None
-    if uses_newell(plan.options, model.diagram):
-        held = top(held_beyond(lam_h, dur, site.lanes, model.diagram))
+    held = top(held_beyond(lam_h, dur, site.lanes, model.diagram))  # no ramps here
     avg, dc, checks = hour_checks(
         plan.thresholds, arrivals, capacity, lmax, delay, closed_h, held_veh=held
     )

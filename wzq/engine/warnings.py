@@ -60,8 +60,11 @@ def run_warnings(r: Run) -> list[str]:
             "demand data: the delay after that instant is not counted, and the longest wait "
             "shown is only of the vehicles served by then; extend the demand to see it clear"
         )
-    if r.back_of_queue is not None and r.back_of_queue.capacity_limited:
-        out.append(_held_beyond_warning(r))
+    held = _held_beyond_warning(r)
+    if held:
+        out.append(held)
+    elif r.back_of_queue is not None and r.back_of_queue.capacity_limited:
+        out.append(HELD_TEXT)
     for i, c in enumerate(r.plan.closures if site.terrain != "level" else ()):
         if site.lanes - c.lanes_closed == 1:
             out.append(
@@ -71,23 +74,27 @@ def run_warnings(r: Run) -> list[str]:
     return out
 
 
-def _held_beyond_warning(r: Run) -> str:
-    """Traffic the approach could not admit: said with the most vehicles held beyond it
-    and from when (:func:`wzq.engine.queue_length.held_beyond`), and that those hours
-    fail a length limit."""
-    text = (
-        "arrivals or discharge exceeded the approach road's capacity; the traffic it "
-        "could not admit is held beyond the upstream end and not counted in the length"
-    )
+#: Traffic the approach could not admit (Newell's method, :mod:`wzq.models.newell`).
+HELD_TEXT = (
+    "arrivals or discharge exceeded the approach road's capacity; the traffic it "
+    "could not admit is held beyond the upstream end and not counted in the length"
+)
+
+
+def _held_beyond_warning(r: Run) -> str | None:
+    """Demand the approach could not admit, with the most vehicles held beyond it and
+    from when (:func:`wzq.engine.queue_length.held_beyond`), and that those hours fail a
+    length limit; ``None`` when none is held (or on an approach with ramps, whose
+    sections have warnings of their own)."""
     if r.sections is not None:
-        return text
+        return None
     held = held_beyond(r.demand_veh_h, r.duration, r.plan.site.lanes, r.model.diagram)
     over = held >= HELD_QUEUE_VEH
     if not over.any():
-        return text
+        return None
     first = int(np.argmax(over))
     return (
-        f"{text}: from {clock(r, float(r.t[first])):%a %Y-%m-%d %H:%M} up to "
+        f"{HELD_TEXT}: from {clock(r, float(r.t[first])):%a %Y-%m-%d %H:%M} up to "
         f"{held.max():,.0f} vehicles wait there, their queue's length is unknown and the "
         "hours holding them fail a queue-length limit (the demand is more than the road "
         "itself carries: check the count)"

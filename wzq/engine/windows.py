@@ -639,7 +639,7 @@ def _grid(
         limit = None if lm is None else (lm.name, lm.distance)
     lam = demand.flows_veh_h.astype(float) if ramps is None else ramps.section[0]
     held = None
-    if length_fn is newell_lengths and ramps is None:  # as hour_columns does
+    if ramps is None:  # as hour_columns does
         held = np.maximum.reduceat(held_beyond(lam, dur, site.lanes, model.diagram), first)
     return _Grid(
         n,

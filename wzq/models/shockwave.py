@@ -27,6 +27,7 @@ from wzq.models.flow import FundamentalDiagram
 from wzq.units import HOUR
 
 __all__ = [
+    "NO_STORAGE",
     "back_of_queue_speed",
     "queue_length",
     "queue_states",
@@ -54,15 +55,30 @@ def queue_states(
     return k_a, q_a, k_q, q_q
 
 
+#: Density difference (veh/m/ln) below which a queue state stores no vehicles: the
+#: rounding of two densities of one capacity state (:func:`stored_density`).
+NO_STORAGE = 1e-9
+
+
 def stored_density(
     diagram: FundamentalDiagram,
     arrival_veh_h: np.ndarray,
     discharge_veh_h: np.ndarray,
     lanes: int,
 ) -> np.ndarray:
-    """Vehicles stored per metre of queue: ``n * (k_Q - k_A)`` (veh/m)."""
+    """Vehicles stored per metre of queue: ``n * (k_Q - k_A)`` (veh/m).
+
+    Where the two states coincide (``k_Q - k_A`` at most :data:`NO_STORAGE`: arrivals
+    at or above capacity, clipped to it, meeting a queue that discharges at capacity,
+    as on an open road with no capacity drop) the approach stores no queue at all:
+    the relation's length ``N / 0`` is not a length but traffic that cannot enter
+    (Daganzo 2005). The result is then infinite, so :func:`queue_length` gives 0 for
+    those vehicles, and the caller must say where they are (the engine counts them as
+    held beyond the approach and fails the hour's length check).
+    """
     k_a, _, k_q, _ = queue_states(diagram, arrival_veh_h, discharge_veh_h, lanes)
-    return lanes * np.maximum(k_q - k_a, 1e-9)
+    dk = k_q - k_a
+    return np.where(dk > NO_STORAGE, lanes * dk, np.inf)
 
 
 def queue_length(

@@ -24,7 +24,11 @@ which once embedded those charts as PNG images without text, and they are now
 vector drawings whatever that option says, so the text of each example's two chart
 pages gains the charts' own words (legends, axis titles, tick labels, panel titles,
 the landmark names and the queue labels); every other line of those pages, every
-other page and every other output are unchanged; nothing else:
+other page and every other output are unchanged; and again when the warnings on the
+Permit table, Summary and Run log sheets came to be wrapped in one cell across the
+printed width (merged on the first two; a long warning in one cell ran past the print
+area and was cut off on paper): those sheets' merged cells, row heights and the
+warning cells' alignment change, no cell's value; nothing else:
 
     python3 tests/data/golden/make_golden.py
 

@@ -157,7 +157,7 @@ def write_permit_sheet(out: SheetWriter, result: Result, stamp: str) -> TableRef
     out.put(r, 1, f"Hours over a limit: {failing} of {len(h['hour_start'])}.", font=BOLD)
     r += 1
     for warning in result.warnings:
-        out.put(r, 1, f"Warning: {warning}", font=SMALL)
+        out.paragraph(r, 1, f"Warning: {warning}", widths, font=SMALL)
         r += 1
     out.caution(r, ncol)
     r += 1

@@ -21,6 +21,10 @@ from wzq.present.tables import hour_label
 __all__ = ["write_run_log"]
 
 
+#: Column widths of the Run log: the labels, and the values, warnings and notes (wrapped).
+WIDTHS = (30, 100)
+
+
 def write_run_log(
     out: SheetWriter,
     result: Result,
@@ -56,13 +60,13 @@ def write_run_log(
         out.put(r, 2, value, alignment=LEFT)
         r += 1
     for warning in result.warnings:
-        out.put(r, 2, warning)
+        out.paragraph(r, 2, warning, WIDTHS[1:])
         r += 1
     for note in notes:
         out.put(r, 1, "Note", font=BOLD)
-        out.put(r, 2, note)
+        out.paragraph(r, 2, note, WIDTHS[1:])
         r += 1
     r += 1
     out.caution(r, 2)
-    out.widths([30, 100])
+    out.widths(WIDTHS)
     print_setup(ws, plan, f"A1:B{r}", landscape=False)

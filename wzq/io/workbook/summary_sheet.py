@@ -19,6 +19,9 @@ from wzq.io.workbook.writer import (
 )
 from wzq.present.tables import summary_lines
 
+#: Column widths of the Summary sheet, A to G (its printed width, portrait).
+WIDTHS = (30, 22, 22, 12, 11, 16, 40)
+
 __all__ = ["write_summary_sheet"]
 
 
@@ -66,7 +69,7 @@ def write_summary_sheet(out: SheetWriter, result: Result) -> None:
     out.put(r, 1, "Warnings", font=SECTION_FONT)
     r += 1
     for warning in result.warnings or ["none"]:
-        out.put(r, 1, warning)
+        out.paragraph(r, 1, warning, WIDTHS)
         r += 1
     if plan.meta.notes:
         r += 1
@@ -75,5 +78,5 @@ def write_summary_sheet(out: SheetWriter, result: Result) -> None:
         r += 2
     r += 1
     out.caution(r, 7)
-    out.widths([30, 22, 22, 12, 11, 16, 40])
+    out.widths(WIDTHS)
     print_setup(ws, plan, f"A1:G{r}", landscape=False)

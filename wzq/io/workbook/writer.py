@@ -146,6 +146,10 @@ CAUTION_FONT = Font(bold=True, italic=True, color=_colour("caution_text", "7A2E0
 BOLD = Font(bold=True)
 ITALIC = Font(italic=True, color=_colour("note_text", "5F6B73"))
 SMALL = Font(size=9, color=_colour("note_text", "5F6B73"))
+WRAP_TOP = Alignment(wrap_text=True, vertical="top")
+#: Height of a line of wrapped text per point of font size (15 pt lines for the 11 pt
+#: default font, as the spreadsheet programs set them).
+LINE_POINTS_PER_FONT_POINT = 15 / 11
 HEADER_ALIGN = Alignment(wrap_text=True, vertical="center", horizontal="center")
 CENTRE = Alignment(horizontal="center")
 LEFT = Alignment(horizontal="left")
@@ -393,6 +397,22 @@ class SheetWriter:
 
     def title(self, text: str, row: int = 1) -> None:
         self.put(row, 1, text, font=TITLE_FONT)
+
+    def paragraph(
+        self, row: int, col: int, text: str, widths: Sequence[float], **look: Any
+    ) -> Cell:
+        """``text`` in one cell wrapped across the columns of ``widths`` from ``col``
+        (merged when more than one), its row as tall as its lines: a long line in one
+        cell runs past the print area and is cut off on paper."""
+        cell = self.put(row, col, text, alignment=WRAP_TOP, **look)
+        if len(widths) > 1:
+            self.ws.merge_cells(
+                start_row=row, start_column=col, end_row=row, end_column=col + len(widths) - 1
+            )
+        lines = wrapped_lines(text, (sum(widths) - CELL_PADDING) / TEXT_CHAR)
+        size = float(look["font"].size) if "font" in look and look["font"].size else 11.0
+        self.ws.row_dimensions[row].height = LINE_POINTS_PER_FONT_POINT * size * len(lines)
+        return cell
 
     def caution(self, row: int, ncols: int) -> None:
         """The caution line, shaded across the sheet's printed width."""
