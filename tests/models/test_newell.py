@@ -589,3 +589,222 @@ def test_busy_periods_alone_give_the_same_trajectory(seed: int) -> None:
     assert got_d == pytest.approx(np.interp(got_t, times, dist), rel=1e-12, abs=1e-9)
     if seed % 4:
         assert (run.queue == 0).sum() > 3  # quiet stretches were there to drop (setting)
+
+
+# --------------------------------------------------------------------------- the general path
+#
+# Where a flow reaches the approach capacity n c the level curves are flat in places and
+# the construction takes its general path (left and right preimages of each level, the
+# running-maximum envelope, the clip at d = 0). The checks below hold that path to the
+# test's own bisection of Newell's formula (brute_back above), never to the construction.
+
+
+def _at_capacity_run(rng: np.random.Generator, scale: float = 1.0):
+    """Invented day with no capacity drop on the open road: the front discharges at n c.
+
+    Arrivals stay below n c (at most 0.95 n c), so g falls strictly with d (its slope
+    is (lambda - n c) / v_f) and the bisection finds the one back of the queue.
+    ``scale`` multiplies every duration (sub-second knots for scale < 1).
+    """
+    nc = N_LANES * 0.6
+    n = int(rng.integers(7, 30))
+    dur = rng.choice([900.0, 1800.0, 3600.0], n) * scale
+    closed = rng.random(n) < 0.35
+    pre = np.where(closed, 0.62, nc)
+    lam = rng.uniform(0.1, 0.95, n) * nc
+    return solve(dur, lam, pre, np.where(closed, 0.62 * rng.uniform(0.85, 1.0, n), nc))
+
+
+def _held_run(rng: np.random.Generator, scale: float = 1.0):
+    """Invented day whose arrivals exceed n c for a while (held beyond the approach).
+
+    The front keeps a capacity drop (discharge below n c), so g falls strictly with d
+    once the arrivals are those the approach admits. Daganzo (2005): the approach
+    admits at most n c, i.e. the arrivals of a point queue at its upstream end served at
+    n c; the day ends quiet so that entry queue has cleared by then.
+    """
+    nc = N_LANES * 0.6
+    n = int(rng.integers(7, 25))
+    dur = rng.choice([900.0, 1800.0, 3600.0], n) * scale
+    lam = rng.uniform(0.1, 0.9, n) * nc
+    surge = rng.random(n) < 0.3
+    lam = np.where(surge, rng.uniform(1.05, 1.4, n) * nc, lam)
+    lam[-3:] = 0.1 * nc
+    pre = np.where(rng.random(n) < 0.4, 0.62, 1.1)
+    run = solve(dur, lam, pre, pre * rng.uniform(0.9, 0.98, n))
+    admitted = solve(dur, lam, np.full(n, nc))
+    return run, admitted
+
+
+def _held_to_the_bisection(run, admitted, times, dist, abs_m=1e-4) -> None:
+    t, _, d = newell.curves(run)
+    te, _, adm = newell.curves(admitted)
+    grid = np.union1d(t, te)
+    a_in, d_in = np.interp(grid, te, adm), np.interp(grid, t, d)
+    at = np.concatenate((grid, np.linspace(grid[0], grid[-1], 301)))
+    want = brute_back(grid, a_in, d_in, at)
+    assert np.interp(at, times, dist) == pytest.approx(want, abs=abs_m)
+
+
+@pytest.mark.parametrize("seed", range(12))
+def test_a_front_at_the_approach_capacity_gives_the_first_zero_of_newells_formula(seed) -> None:
+    rng = np.random.default_rng(9100 + seed)
+    for _ in range(4):
+        run = _at_capacity_run(rng)
+        t, a, d = newell.curves(run)
+        at = np.concatenate((t, rng.uniform(t[0], t[-1], 200)))
+        want = brute_back(t, a, d, at)
+        nq = newell.from_queue(run, DIAGRAM, N_LANES)
+        assert np.interp(at, nq.times, nq.distance) == pytest.approx(want, abs=1e-4)
+        assert nq.at_boundaries == pytest.approx(brute_back(t, a, d, run.t), abs=1e-4)
+        assert newell.back_of_queue(t, a, d, at=at, **APPROACH) == pytest.approx(want, abs=1e-4)
+        assert not nq.capacity_limited
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_knots_under_a_second_apart_with_a_front_at_the_approach_capacity(seed) -> None:
+    # The same checks on days shrunk five-thousandfold (intervals of 0.18 to 0.72 s): the
+    # test of the flows against n c must divide the counts by the durations, not multiply
+    # them, which for intervals under a second would pass flows above n c as below it.
+    rng = np.random.default_rng(9200 + seed)
+    for _ in range(4):
+        run = _at_capacity_run(rng, scale=2e-4)
+        t, a, d = newell.curves(run)
+        at = np.concatenate((t, rng.uniform(t[0], t[-1], 200)))
+        got = newell.back_of_queue(t, a, d, at=at, **APPROACH)
+        assert got == pytest.approx(brute_back(t, a, d, at), abs=1e-7)
+        run, admitted = _held_run(rng, scale=2e-4)
+        times, dist = track(*newell.curves(run))
+        _held_to_the_bisection(run, admitted, times, dist, abs_m=1e-7)
+
+
+@pytest.mark.parametrize("seed", range(12))
+def test_arrivals_above_the_approach_capacity_against_the_bisection(seed) -> None:
+    rng = np.random.default_rng(9300 + seed)
+    for _ in range(4):
+        run, admitted = _held_run(rng)
+        nq = newell.from_queue(run, DIAGRAM, N_LANES)
+        assert nq.capacity_limited == bool((run.arrival_rate > N_LANES * 0.6).any())
+        _held_to_the_bisection(run, admitted, nq.times, nq.distance)
+
+
+def test_the_clip_at_zero_gives_each_crossing_of_zero_a_vertex() -> None:
+    # max(d, 0) of a piecewise-linear curve, worked by hand: the curve crosses 0 where
+    # d0 + (d1 - d0) f = 0, f = d0 / (d0 - d1), and the clipped curve has a corner there.
+    # 0.5 -> -0.5 on [0, 10] crosses at 5; -0.5 -> 0.4 on [10, 20] at 10 + 10 * 5/9;
+    # 0.6 -> -2.0 on [40, 50] at 40 + 10 * 0.6/2.6. Small values (under 1 m) and a
+    # segment that stays above 0 (0.4 -> 2.0 -> 0.6) get no extra vertex.
+    tt = np.array([0.0, 10.0, 20.0, 30.0, 40.0, 50.0])
+    dd = np.array([0.5, -0.5, 0.4, 2.0, 0.6, -2.0])
+    got_t, got_d = newell._clip_at_zero(tt, dd)
+    assert got_t == pytest.approx([0, 5, 10, 10 + 50 / 9, 20, 30, 40, 40 + 6 / 2.6, 50], rel=REL)
+    assert got_d == pytest.approx([0.5, 0, 0, 0, 0.4, 2.0, 0.6, 0, 0], abs=1e-12)
+
+
+def test_a_diagram_newell_cannot_use_is_refused_with_the_whole_message() -> None:
+    run = solve(np.array([3600.0]), np.array([0.9]), np.array([0.6]))
+    with pytest.raises(TypeError) as err:
+        newell.from_queue(run, Greenshields(free_speed=30.0, jam_density=0.12), 2)
+    assert str(err.value) == (
+        "Newell's simplified kinematic-wave method needs the triangular diagram, not "
+        "Greenshields; use the single-state relation (wzq.models.shockwave)"
+    )
+
+
+def test_a_run_of_one_hour_has_one_hour() -> None:
+    # Arrivals 0.9 veh/s against a closure discharging 0.6 veh/s for one hour (the single
+    # state of test_single_state_is_the_stored_density_relation): the back is at
+    # 30/11 m/s * 3600 s at the end of the hour, the one hour's longest queue.
+    nq = newell.from_queue(solve([3600.0], [0.9], [0.6]), DIAGRAM, N_LANES)
+    assert nq.hour_bounds == pytest.approx([0.0, 3600.0])
+    assert nq.hourly_max_m == pytest.approx([30 / 11 * 3600], rel=REL)
+
+
+def test_hours_are_counted_from_the_start_of_the_run() -> None:
+    # The closure of test_closure_then_capacity_restored (intervals of 1 h and 3 h) on a
+    # clock starting at 7,200 s: four hours from 7,200 s. Back (times from the start): 30/11
+    # m/s until 3600 (9,818 m), peak 18,000 m at 6600, then 18000 - 6 (t - 6600) until it
+    # dissolves at 9600. Hour maxima: 9,818; 18,000; 14,400 (at 7200); 0.
+    import dataclasses
+
+    run = solve(np.array([3600.0, 10800.0]), np.array([0.9, 0.9]), np.array([0.6, 1.08]))
+    nq = newell.from_queue(dataclasses.replace(run, t=run.t + 7200.0), DIAGRAM, N_LANES)
+    assert nq.hour_bounds == pytest.approx(7200.0 + 3600.0 * np.arange(5))
+    assert nq.hourly_max_m == pytest.approx([30 / 11 * 3600, 18000.0, 14400.0, 0.0], rel=REL)
+    assert nq.extent.at_s == pytest.approx(7200.0 + 6600.0, rel=REL)
+    assert nq.extent.dissolved_s == pytest.approx(7200.0 + 9600.0, rel=REL)
+
+
+def test_a_front_at_capacity_between_two_closures_after_arrivals_were_held() -> None:
+    # Invented day: arrivals 1.5 veh/s above n c = 1.2 for the first 600 s (held beyond the
+    # approach: F flat, the general path), a closure (0.6 veh/s) with arrivals 0.9, half
+    # an hour of open road discharging at exactly n c (no capacity drop: E flat) before the
+    # queue has cleared (1080 - 540 = 540 vehicles left), a second closure, then open road.
+    # The level of E's flat stretch lies inside a rising stretch of F; its left preimage
+    # there must be interpolated. Oracle: the test's bisection of Newell's formula on the
+    # arrivals the approach admits (Daganzo 2005: a point queue at its entry served at n c).
+    dur = np.array([600.0, 3000.0, 3600.0, 1800.0, 3600.0, 14400.0])
+    lam = np.array([1.5, 0.3, 0.9, 0.9, 0.9, 0.5])
+    pre = np.array([1.1, 1.1, 0.6, 1.2, 0.6, 1.2])
+    run = solve(dur, lam, pre)
+    admitted = solve(dur, lam, np.full(len(dur), N_LANES * 0.6))
+    nq = newell.from_queue(run, DIAGRAM, N_LANES)
+    assert nq.capacity_limited
+    _held_to_the_bisection(run, admitted, nq.times, nq.distance)
+    _held_to_the_bisection(run, admitted, *track(*newell.curves(run)))
+
+
+def test_queue_standing_at_the_start_of_a_one_lane_approach() -> None:
+    # As test_queue_standing_at_the_start_is_stored_at_jam_density, on one lane (n c = 0.6
+    # veh/s, below 1: the knot before the start must lie q0 / (n c) back, not q0 n c).
+    # 300 vehicles at t = 0, arrivals 0.45, discharge 0.54 veh/s. At t = 0,
+    # g(d) = 300 + 0.45 d/30 - 0.12 d -> d = 300 / 0.105 m; D/D/1: clears 300/0.09 s later.
+    run = solve(np.array([7200.0]), np.array([0.45]), np.array([0.54]), q0=300.0)
+    t, a, d = newell.curves(run)
+    one = dict(APPROACH, lanes=1)
+    assert newell.back_of_queue(t, a, d, at=0.0, **one) == pytest.approx(300 / 0.105, rel=REL)
+    times, dist = newell.trajectory(t, a, d, **one)
+    assert newell.dissolve_times(times, dist) == pytest.approx([300 / 0.09], rel=REL)
+
+
+def test_counts_that_do_not_start_at_zero_give_the_same_back() -> None:
+    # Newell's N(d, t) is a count from any origin: adding 1000 vehicles to both curves moves
+    # N by 1000 and leaves g, and the back of the queue, unchanged. The case of
+    # test_queue_standing_at_the_start_is_stored_at_jam_density: 600 / 0.21 m at t = 0.
+    run = solve(np.array([7200.0]), np.array([0.9]), np.array([1.08]), q0=600.0)
+    t, a, d = newell.curves(run)
+    got = newell.back_of_queue(t, a + 1000.0, d + 1000.0, at=0.0, **APPROACH)
+    assert got == pytest.approx(600 / 0.21, rel=REL)
+    times, dist = track(t, a + 1000.0, d + 1000.0)
+    assert newell.dissolve_times(times, dist) == pytest.approx([600 / 0.18], rel=REL)
+
+
+def test_a_long_queue_standing_at_the_start_and_still_there_at_the_end() -> None:
+    # 10,000 vehicles stand at jam density at t = 0 (D held before 0); arrivals 0.9 against
+    # a discharge of 0.6 veh/s for one hour, the queue still there at the end (A carried on
+    # at 0.9). The recovery wave from the front reaches 6 * 3600 = 21.6 km by the end, short
+    # of the back, so the back meets the stored jam: g(d; t) = 10000 + 0.9 (t + d/30)
+    # - 0.24 d = 0, d = (10000 + 0.9 t) / 0.21 m (the shock between the arriving state and
+    # the jam, 0.9 / (0.24 - 0.03) m/s upstream).
+    run = solve(np.array([3600.0]), np.array([0.9]), np.array([0.6]), q0=10000.0)
+    t, a, d = newell.curves(run)
+    at = np.array([0.0, 1800.0, 3600.0])
+    got = newell.back_of_queue(t, a, d, at=at, **APPROACH)
+    assert got == pytest.approx((10000 + 0.9 * at) / 0.21, rel=REL)
+
+
+@pytest.mark.parametrize("nudge", [0.0, 1e-13, -1e-13])
+def test_a_closure_after_arrivals_held_at_a_front_discharging_at_capacity(nudge) -> None:
+    # The held first half hour of test_arrivals_above_capacity_at_a_front_discharging_at_
+    # capacity_leave_no_queue (levels a rounding apart joined, no queue inside the
+    # approach), then a closure: arrivals 0.9 against 0.6 veh/s for an hour, then 0.5
+    # against an open road discharging at 1.0. The joined levels must keep their order, so
+    # the closure's queue is the bisection's of Newell's formula on the admitted arrivals.
+    nc = N_LANES * DIAGRAM.capacity
+    dur = np.array([1800.0, 1800.0, 3600.0, 14400.0])
+    lam = np.array([1.5 + nudge, 0.5, 0.9, 0.5])
+    run = solve(dur, lam, np.array([nc, nc, 0.6, 1.1]), np.array([nc, nc, 0.6, 1.0]))
+    admitted = solve(dur, lam, np.full(len(dur), nc))
+    nq = newell.from_queue(run, DIAGRAM, N_LANES)
+    assert nq.capacity_limited
+    _held_to_the_bisection(run, admitted, nq.times, nq.distance)

@@ -225,3 +225,26 @@ def test_queue_equals_the_rule_applied_interval_by_interval(s) -> None:
     dur, lam, pre, qdr, q0 = s
     q = queue_at_boundaries(dur, lam, pre, qdr, q0)
     assert q == pytest.approx(interval_loop(dur, lam, pre, qdr, q0), abs=1e-6)
+
+
+def test_a_queue_under_one_vehicle_keeps_growing_where_demand_is_within_capacity() -> None:
+    # Capacity drop (HCM 6th ed. ch. 10 and 25, from memory): a standing queue discharges at
+    # the lower rate until it is gone, however small. 0.9 veh/s against 0.6 for 2 s leaves
+    # 0.6 veh; then demand 0.65 <= pre-breakdown 0.7 cannot start a queue but keeps this one
+    # growing at 0.65 - 0.6 = 0.05 veh/s: 0.6 + 0.05 * 3600 = 180.6 veh at 3602 s; then
+    # 0.3 against 1.1 clears it 180.6 / 0.8 = 225.75 s later.
+    run = solve([2.0, H, 2 * H], [0.9, 0.65, 0.3], [0.6, 0.7, 1.2], [0.6, 0.6, 1.1])
+    assert run.queue == pytest.approx([0.0, 0.6, 180.6, 0.0])
+    assert run.busy == pytest.approx([2.0, H, 225.75])
+
+
+def test_a_hysteresis_interval_too_small_to_hold_a_queue_beside_a_queue_elsewhere() -> None:
+    # The first hour could keep a queue growing (demand 1.0 between its discharge rate
+    # 1.0 - 1e-10 and pre-breakdown 1.1 veh/s) but none stands when it starts, so none forms
+    # (the 3.6e-7 vehicles it could add are below the rounding floor anyway). The closure of
+    # the second hour then queues (0.9 - 0.6) * 3600 = 1080 veh, which clear at 1.1 - 0.5 =
+    # 0.6 veh/s in 1800 s. Total delay: the triangle 1080 * (3600 + 1800) / 2 veh s.
+    run = solve([H, H, 2 * H], [1.0, 0.9, 0.5], [1.1, 0.6, 1.2], [1.0 - 1e-10, 0.6, 1.1])
+    assert run.queue == pytest.approx([0.0, 0.0, 1080.0, 0.0])
+    assert run.busy == pytest.approx([0.0, H, 1800.0])
+    assert run.total_delay == pytest.approx(1080 * (3600 + 1800) / 2)

@@ -235,8 +235,8 @@ def _inverse(vals: np.ndarray, knots: np.ndarray, y: np.ndarray) -> tuple[np.nda
         x0, x1 = knots[inner - 1], knots[inner]
         rise = np.where(v1 > v0, v1 - v0, 1.0)
         x = x0 + (y - v0) / rise * (x1 - x0)
-        # hit a knot exactly rather than through rounding
-        x = np.where(y == v1, x1, x) if side == "left" else np.where(y == v0, x0, x)
+        if side == "left":  # hit the knot above exactly rather than through rounding
+            x = np.where(y == v1, x1, x)  # (the knot below, y == v0, gives x0 + 0 already)
         x = np.where(j <= 0, knots[0], x)
         out.append(np.where(j >= len(vals), knots[-1], x))
     return out[0], out[1]
@@ -250,7 +250,7 @@ def _level_curves(
     v: float,
     w: float,
     after_end: AfterEnd,
-    strict: bool = False,
+    strict: bool,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, bool]:
     """Knots and values of ``E(s) = n c s - D(s)`` and ``F(u) = n c u - A(u)``.
 

@@ -227,7 +227,7 @@ def solve(
 
 def _inverse(cum: np.ndarray, t: np.ndarray, y: np.ndarray) -> np.ndarray:
     """Earliest time at which a non-decreasing piecewise-linear curve reaches ``y``."""
-    j = np.searchsorted(cum, y, side="left")
+    j = np.searchsorted(cum, y)  # the left side: the first index with cum >= y
     j = np.minimum(np.maximum(j, 1), len(cum) - 1)
     c0, c1 = cum[j - 1], cum[j]
     rise = c1 - c0
