@@ -505,6 +505,46 @@ def test_wrong_inputs_are_refused() -> None:
         newell.trajectory(t[::-1], a, d, **APPROACH)
 
 
+def test_each_wrong_input_is_refused_with_its_whole_message() -> None:
+    # The public functions check their inputs (one message per kind of error, compared in
+    # full); each case breaks one rule only, so a loosened test of any one rule lets it by.
+    t = np.array([0.0, 1800.0, 3600.0])
+    a = np.array([0.0, 900.0, 1500.0])
+    d = np.array([0.0, 700.0, 1400.0])
+    shape = "t, a_cum and d_cum must be 1-D arrays of the same length, at least 2"
+    for args in (
+        (t[:1], a[:1], d[:1]),  # one knot only
+        (t, a[:2], d),  # a of another length
+        (t, a, d[:2]),  # d of another length
+        (t[None, :], a[None, :], d[None, :]),  # 2-D
+    ):
+        with pytest.raises(ValueError) as e:
+            newell.trajectory(*args, **APPROACH)
+        assert str(e.value) == shape
+    flat = np.array([0.0, 1800.0, 1800.0])  # two knots at one instant
+    with pytest.raises(ValueError) as e:
+        newell.trajectory(flat, a, d, **APPROACH)
+    assert str(e.value) == "the times t must be strictly increasing"
+    for aa, dd in ((np.array([0.0, np.nan, 1500.0]), d), (a, np.array([0.0, np.inf, 1400.0]))):
+        with pytest.raises(ValueError) as e:
+            newell.trajectory(t, aa, dd, **APPROACH)
+        assert str(e.value) == "cumulative counts must be finite"
+    for key, bad in (
+        ("lanes", 0),
+        ("free_speed", -30.0),
+        ("wave_speed", np.inf),
+        ("jam_density", np.nan),
+    ):
+        with pytest.raises(ValueError) as e:
+            newell.trajectory(t, a, d, **{**APPROACH, key: bad})
+        assert str(e.value) == "lanes, speeds and jam density must be finite and above zero"
+    # whole numbers given as integers are the same counts (rates per second in floats)
+    ints = newell.trajectory(t.astype(int), a.astype(int), d.astype(int), **APPROACH)
+    floats = newell.trajectory(t, a, d, **APPROACH)
+    for x, y in zip(ints, floats, strict=True):
+        np.testing.assert_array_equal(x, y)
+
+
 # --------------------------------------------------------------------------- LWR check
 
 
