@@ -44,20 +44,25 @@ pytestmark.append(
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 
 
-def permit_only_copy(result_book: Path, out: Path) -> Path:
-    """A copy of the workbook holding only the permit table.
+def _sheet_only_copy(result_book: Path, sheet: str, out: Path) -> Path:
+    """A copy of the workbook holding only ``sheet``.
 
     (LibreOffice prints hidden sheets that have a print area, so the other
     sheets are removed from the copy rather than hidden.)
     """
     book = openpyxl.load_workbook(result_book)
     for ws in list(book.worksheets):
-        if ws.title != layout.PERMIT_TABLE:
+        if ws.title != sheet:
             book.remove(ws)
     book.active = 0
     book.worksheets[0].sheet_view.tabSelected = True
     book.save(out)
     return out
+
+
+def permit_only_copy(result_book: Path, out: Path) -> Path:
+    """A copy of the workbook holding only the permit table (:func:`_sheet_only_copy`)."""
+    return _sheet_only_copy(result_book, layout.PERMIT_TABLE, out)
 
 
 def to_pdf(workbook: Path, folder: Path) -> Path:
@@ -171,18 +176,6 @@ def test_long_permit_table_breaks_pages_and_repeats_its_header(tmp_path):
         assert ("Lane-closure permit table" in text) == (page == 1)  # the title block once
     assert "Mon 2027-05-10 04:00" in pdf_text(pdf, 3)  # the last closure hour
     assert wzq.CAUTION.split(",")[0] in pdf_text(pdf, 3)
-
-
-def _sheet_only_copy(result_book: Path, sheet: str, out: Path) -> Path:
-    """A copy of the workbook holding only ``sheet`` (as :func:`permit_only_copy`)."""
-    book = openpyxl.load_workbook(result_book)
-    for ws in list(book.worksheets):
-        if ws.title != sheet:
-            book.remove(ws)
-    book.active = 0
-    book.worksheets[0].sheet_view.tabSelected = True
-    book.save(out)
-    return out
 
 
 def _words(text: str) -> str:
