@@ -28,6 +28,7 @@ __all__ = [
     "hour_starts",
     "hourly_table",
     "landmark_limit",
+    "length_unknown",
     "summarise",
 ]
 
@@ -44,6 +45,13 @@ HELD_QUEUE_VEH = 0.5
 #: The per-hour pass/fail columns :func:`hour_checks` may add to the table.
 CHECK_COLUMNS = ("queue_ok", "delay_ok", "demand_capacity_ok", "landmark_ok")
 _QUEUE_OK, _DELAY_OK, _DEMAND_CAPACITY_OK, _LANDMARK_OK = CHECK_COLUMNS
+
+
+def length_unknown(held_veh: np.ndarray) -> np.ndarray:
+    """Where the queue's length is unknown: :data:`HELD_QUEUE_VEH` or more vehicles held
+    beyond the approach's upstream end (:func:`wzq.engine.queue_length.held_beyond`).
+    The one rule of the per-hour checks, their status text and the run's warning."""
+    return held_veh >= HELD_QUEUE_VEH
 
 
 def landmark_limit(plan: Plan) -> tuple[str, float] | None:
@@ -82,7 +90,7 @@ def hour_checks(
         )
         dc = np.where(capacity > 0, arrivals / np.where(capacity > 0, capacity, 1.0), np.nan)
     checks: list[tuple[str, str, np.ndarray]] = []
-    seen = True if held_veh is None else held_veh < HELD_QUEUE_VEH
+    seen = True if held_veh is None else ~length_unknown(held_veh)
     if th.max_queue_length is not None:
         ok = (lmax <= th.max_queue_length + LENGTH_TOLERANCE_M) & seen
         checks.append((_QUEUE_OK, "queue length", ok))
@@ -193,7 +201,7 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
     status = np.array(labels, dtype=object)[code]
     if held is not None and r.plan.thresholds.max_queue_length is not None:
         # the length shown leaves out the traffic held beyond the approach (hour_checks)
-        unknown = held >= HELD_QUEUE_VEH
+        unknown = length_unknown(held)
         status[unknown] = [
             s.replace("queue length", "queue length unknown", 1) for s in status[unknown]
         ]

@@ -8,7 +8,7 @@ import numpy as np
 
 from wzq.engine import plausibility
 from wzq.engine.approach import LandmarkResult
-from wzq.engine.hourly import HELD_QUEUE_VEH
+from wzq.engine.hourly import length_unknown
 from wzq.engine.plan import Plan
 from wzq.engine.queue_length import held_beyond
 from wzq.engine.results import Run, clock
@@ -89,7 +89,7 @@ def _held_beyond_warning(r: Run) -> str | None:
     if r.sections is not None:
         return None
     held = held_beyond(r.demand_veh_h, r.duration, r.plan.site.lanes, r.model.diagram)
-    over = held >= HELD_QUEUE_VEH
+    over = length_unknown(held)
     if not over.any():
         return None
     first = int(np.argmax(over))

@@ -290,7 +290,7 @@ def _evaluate(g: _Grid, s: int, e: int, screen: bool = False) -> _Eval:
     capacity = np.add.reduceat(cap_i, first) / HOUR
     lmax = np.maximum.reduceat(length, first)
     delay = np.add.reduceat(run.delay, first) / HOUR + np.add.reduceat(wz, first) / HOUR
-    closed_h = np.maximum.reduceat(closed.astype(np.int8), first).astype(bool)
+    closed_h = np.logical_or.reduceat(closed, first)
     ok = _checks(g, arrivals, capacity, lmax, delay, closed_h)
     return _Eval(run.queue, ok, run.arrivals, cap_i, length, run.delay, wz)
 
@@ -348,7 +348,7 @@ def _first_failure_end(g: _Grid, ok: np.ndarray) -> int:
 
 def _allowed(
     g: _Grid,
-    exhaustive: bool = False,
+    exhaustive: bool,
     known: np.ndarray | None = None,
     starts: np.ndarray | None = None,
 ) -> tuple[np.ndarray, _Eval]:
