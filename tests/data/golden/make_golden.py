@@ -69,6 +69,7 @@ import shutil
 import sys
 import tempfile
 from pathlib import Path
+from unittest import mock
 
 import numpy as np
 import pandas as pd
@@ -222,7 +223,13 @@ def cli_text(argv: list[str]) -> dict:
 
 
 def command_outputs(tmp: Path) -> dict:
-    os.environ["COLUMNS"] = "200"
+    # the commands' text wrapped at 200 columns; the setting is put back after, so the
+    # tests that run later in the same session see the terminal's width as before
+    with mock.patch.dict(os.environ, {"COLUMNS": "200"}):
+        return _command_outputs(tmp)
+
+
+def _command_outputs(tmp: Path) -> dict:
     out: dict[str, dict] = {}
     for name in JSON_PLANS:
         out[f"show {name}.json"] = cli_text(["show", str(EXAMPLES / f"{name}.json")])
