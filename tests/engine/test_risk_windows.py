@@ -140,6 +140,24 @@ def test_allowed_at_risk_equals_the_plain_count_of_failing_weeks(exhaustive: boo
         np.testing.assert_array_equal(ws.allowed, expected, err_msg=f"level {level}")
 
 
+def test_a_week_whose_own_demand_is_held_beyond_the_approach_fails_every_candidate() -> None:
+    # Weeks 2 and 4 bring 4,500 veh/h at 10:00 to a road of 2 x 2,000 veh/h: 500 vehicles
+    # wait beyond the approach in those weeks whatever the closure (as in
+    # tests/engine/test_windows.py), so their hours 10:00 and 11:00 fail a length limit
+    # however long. The design demand (the mean, 2,400 veh/h at 10:00) holds none: the
+    # scenarios must be judged on their own demand. By hand: every candidate fails in
+    # exactly those 2 weeks of 5.
+    wednesdays = np.full((5, 24), 1000.0)
+    wednesdays[[1, 3], 10] = 4500.0
+    plan = wednesday_plan(wednesdays, Thresholds(max_queue_length=30_000.0))
+    found = risk_windows(plan, 0.99, [1])
+    assert (found.failing[0][UPPER] == 2).all()
+    np.testing.assert_array_equal(found.failing[0], plain_failing_counts(plan, wednesdays))
+    for level, allowed in ((0.2, np.zeros_like(UPPER)), (0.4, UPPER)):
+        (ws,) = risk_windows(plan, level, [1]).windows.sets
+        np.testing.assert_array_equal(ws.allowed, allowed, err_msg=f"level {level}")
+
+
 def test_with_capacity_draws_allowed_exactly_when_assess_says_so() -> None:
     base = np.array([400.0] * 6 + [1300.0] * 12 + [400.0] * 6)
     plan0 = wednesday_plan(np.tile(base, (5, 1)), Thresholds())

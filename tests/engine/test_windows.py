@@ -556,6 +556,40 @@ def test_the_label_of_a_configuration() -> None:
     assert hard.label(3) == "2 of 3 lanes closed, concrete barrier, 1,235 veh/h/ln"
 
 
+@pytest.mark.parametrize("method", ["newell", "shockwave"])
+def test_traffic_held_at_a_section_of_an_approach_with_ramps_fails_the_length_limit(
+    method: str,
+) -> None:
+    # The same 500 vehicles held, on approaches with ramps: at 04:00 an entrance ramp adds
+    # 1,000 veh/h to the mainline's 3,500 (4,500 veh/h below the merge), or the mainline
+    # brings 4,500 veh/h of which 1,000 leave at an exit ramp (4,500 above the diverge).
+    # A section given 4,500 veh/h on 2 x 2,000 veh/h holds 500 vehicles back by 05:00,
+    # cleared 500 / 3,000 h = 10 min later (D/D/1 by hand); the length shown leaves them
+    # out, so 04:00 and 05:00 fail a length limit however long. Under the road's capacity
+    # (an entrance ramp of 400 veh/h: 3,900) every hour passes.
+    hours = (0.0,) * 4
+    cases = (
+        ([1000.0] * 4 + [3500.0] + [1000.0] * 3, "entrance-ramp", 1000.0, True),
+        ([1000.0] * 4 + [4500.0] + [1000.0] * 3, "exit-ramp", 1000.0, True),
+        ([1000.0] * 4 + [3500.0] + [1000.0] * 3, "entrance-ramp", 400.0, False),
+    )
+    limits = Thresholds(max_queue_length=30_000.0)
+    options = Options(queue_length_method=method)
+    for flows, kind, ramp_flow, held in cases:
+        ramp = Landmark("Ash Lane ramp", 1000.0, kind, ramp_veh_h=(*hours, ramp_flow, *hours[:3]))
+        approach = Approach((ramp,))
+        plan = Plan(hand_site(), hourly(flows), (), limits, options=options, approach=approach)
+        r = wzq.analyse(plan)
+        status = "over limit: queue length unknown" if held else "ok"
+        assert r.hourly["status"].tolist()[3:7] == ["ok", status, status, "ok"], (kind, ramp_flow)
+        said = [w for w in r.warnings if "500 vehicles wait there" in w]
+        assert len(said) == (1 if held else 0)
+        found = W.find_windows(
+            hand_site(), hourly(flows), limits, [HAND_CONFIG], options=options, approach=approach
+        )
+        assert found.sets[0].allowed.any() != held
+
+
 def test_half_a_vehicle_held_makes_the_length_unknown_and_less_does_not() -> None:
     # 4,000.5 veh/h for an hour on the 4,000 veh/h open road holds 0.5 vehicle beyond the
     # approach at 05:00 (D/D/1 by hand; 0.5 and 4,000.5 are exact in binary), which

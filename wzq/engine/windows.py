@@ -91,6 +91,7 @@ from wzq.engine.queue_length import (
 )
 from wzq.engine.site import SiteModel, configuration, site_model
 from wzq.models import newell
+from wzq.models.flow import FundamentalDiagram
 from wzq.models.queueing import QueueRun, solve
 from wzq.units import HOUR
 
@@ -112,6 +113,7 @@ __all__ = [
     "feasible_starts",
     "feasible_window_list",
     "find_windows",
+    "held_per_hour",
     "intervals_for",
     "longest_window_list",
     "longest_windows",
@@ -220,7 +222,7 @@ class _Grid:
     ramps: ap.Ramps | None = None  # the approach's ramps on this grid
     by_sections: bool = False  # Newell's method by sections (else the single-state relation)
     landmark: tuple[str, float] | None = None  # the landmark the queue must not pass
-    held: np.ndarray | None = None  # per hour, vehicles held beyond the approach (Newell)
+    held: np.ndarray | None = None  # per hour, vehicles held back (held_per_hour)
 
 
 @dataclass(frozen=True)
@@ -636,9 +638,8 @@ def _grid(
         lm = approach.landmark(thresholds.queue_must_not_pass)
         limit = None if lm is None else (lm.name, lm.distance)
     lam = demand.flows_veh_h.astype(float) if ramps is None else ramps.section[0]
-    held = None
-    if ramps is None:  # as hour_columns does
-        held = np.maximum.reduceat(held_beyond(lam, dur, site.lanes, model.diagram), first)
+    flows = lam[None, :] if ramps is None else ramps.section
+    held = held_per_hour(flows, dur, site.lanes, model.diagram, first)
     return _Grid(
         n,
         dur,
@@ -660,6 +661,15 @@ def _grid(
         limit,
         held,
     )
+
+
+def held_per_hour(
+    flows: np.ndarray, dur: np.ndarray, lanes: int, diagram: FundamentalDiagram, first: np.ndarray
+) -> np.ndarray:
+    """Per hour (``first``: each hour's first interval), the most vehicles held back
+    beyond the approach or at a section of it, as :func:`wzq.engine.hourly.held_vehicles`
+    finds them for a run: ``flows`` one row per section (veh/h; one row without ramps)."""
+    return np.maximum.reduceat(held_beyond(flows, dur, lanes, diagram).max(axis=0), first)
 
 
 def _check_inputs(
