@@ -548,6 +548,19 @@ def test_a_queue_left_at_the_end_of_a_closure_is_followed_even_when_it_is_one_ve
     assert np.array_equal(ws.allowed, expected_matrix(4, lambda s, e: not s <= 1 < e))
 
 
+def test_without_the_capacity_drop_the_open_road_discharges_at_its_capacity() -> None:
+    # The site's open road drops 10 % after breakdown (3,600 veh/h), but the plan's
+    # option leaves the drop out: the queue a closure leaves behind is discharged at
+    # 4,000 veh/h. Closed through hour 1 at 1,500 veh/h with 2,000 arriving: 500 veh at
+    # 02:00, 250 veh-h in hour 1; then 4,000 - 1,000 veh/h clears them in 1/6 h:
+    # 500 x 1/6 / 2 = 41.667 veh-h (with the drop it would be 500 / 2,600 h: 48.077).
+    site = hand_site(capacity_drop_pct_open=10.0)
+    options = Options(queue_length_method="shockwave", capacity_drop=False)
+    limits = Thresholds(max_average_delay=3600.0)
+    ws = windows_of(site, hourly([1000.0, 2000.0, 1000.0, 1000.0]), limits, options)
+    assert ws.added_delay_veh_h(1, 2) == pytest.approx(250.0 + 500.0 / 6.0 / 2.0, rel=1e-12)
+
+
 def test_the_label_of_a_configuration() -> None:
     # the words of the search's sheet and notes for each setting
     assert W.Configuration(1).label(2) == "1 of 2 lanes closed"

@@ -605,7 +605,7 @@ def _grid(
     config: Configuration,
     options: Options,
     length_fn: LengthFn,
-    approach: Approach | None = None,
+    approach: Approach,
 ) -> _Grid:
     n = len(demand.flows_veh_h)
     step = demand.interval_s
@@ -632,9 +632,9 @@ def _grid(
     first = np.searchsorted(t, np.arange(n_hours) * HOUR).astype(np.int64)
     hour_end = np.append(first[1:], n).astype(np.int64)
     hour_of = np.searchsorted(first, np.arange(n), side="right") - 1
-    ramps = None if approach is None else ap.ramps_for(demand, approach, np.arange(n))
+    ramps = ap.ramps_for(demand, approach, np.arange(n))
     limit = None
-    if approach is not None and thresholds.queue_must_not_pass is not None:
+    if thresholds.queue_must_not_pass is not None:
         lm = approach.landmark(thresholds.queue_must_not_pass)
         limit = None if lm is None else (lm.name, lm.distance)
     lam = demand.flows_veh_h.astype(float) if ramps is None else ramps.section[0]
