@@ -196,6 +196,7 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
         "queue_end_veh": q.queue[1:] if last_b is None else q.queue[last_b],
         "queue_max_veh": top(np.maximum(q.queue[:-1], q.queue[1:]), first),
         "queue_length_max_m": lmax,
+        "queue_held_veh": held,
         "queue_delay_veh_h": queue_delay,
         "work_zone_delay_veh_h": wz_delay,
         "delay_veh_h": delay,

@@ -28,7 +28,11 @@ other page and every other output are unchanged; and again when the warnings on 
 Permit table, Summary and Run log sheets came to be wrapped in one cell across the
 printed width (merged on the first two; a long warning in one cell ran past the print
 area and was cut off on paper): those sheets' merged cells, row heights and the
-warning cells' alignment change, no cell's value; nothing else:
+warning cells' alignment change, no cell's value; and again when the per-hour table
+gained the column ``queue_held_veh`` (the vehicles held back beyond the approach or
+at a section of it, whose hours print the longest queue as "unknown"): that column is
+new in every plan's per-hour table, 0 in every hour of every recorded plan, and no
+other entry changes; nothing else:
 
     python3 tests/data/golden/make_golden.py
 
