@@ -40,6 +40,7 @@ from wzq.engine.design_demand import CountHistory, DemandHistory, DemandRule
 from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, RiskOptions, Site, Thresholds
 from wzq.engine.risk_windows import closure_windows, risk_windows, window_scenarios
 from wzq.io.jsonplan import load_plan, plan_to_dict
+from wzq.present.risk import risk_summary_lines
 
 V_F = 25.0
 WEDNESDAY = dt.datetime(2027, 5, 5)
@@ -156,6 +157,19 @@ def test_a_week_whose_own_demand_is_held_beyond_the_approach_fails_every_candida
     for level, allowed in ((0.2, np.zeros_like(UPPER)), (0.4, UPPER)):
         (ws,) = risk_windows(plan, level, [1]).windows.sets
         np.testing.assert_array_equal(ws.allowed, allowed, err_msg=f"level {level}")
+    # the risk of the plan itself: those 2 weeks fail 10:00 and 11:00, and the note and
+    # the headline say that the percentiles of the longest queue leave the 500 out
+    risk = R.assess(plan)
+    assert risk.hourly["p_queue_length"].tolist() == [0.0] * 10 + [0.4, 0.4] + [0.0] * 12
+    assert [n for n in risk.notes if "waits beyond the approach" in n] == [
+        "In 2 of 5 scenarios the demand is more than the road itself carries in some hour "
+        "(first Wed 2027-05-05 10:00): the traffic it cannot admit waits beyond the "
+        "approach, those hours count as over a queue-length limit, and their longest "
+        "queue leaves the waiting vehicles out, so the percentiles of the longest queue "
+        "are too low there."
+    ]
+    longest = dict(risk_summary_lines(risk, "metric"))["Longest queue of the plan"]
+    assert longest.endswith("(too low where traffic waits beyond the approach: see the method)")
 
 
 def test_with_capacity_draws_allowed_exactly_when_assess_says_so() -> None:
