@@ -575,8 +575,8 @@ def extent(times: np.ndarray, distance: np.ndarray) -> Extent:
 
     The maximum of a piecewise-linear curve lies on a vertex, so this is exact.
     """
-    times = np.asarray(times, dtype=float)
-    distance = np.asarray(distance, dtype=float)
+    times = np.asarray(times)  # any real dtype: only compared with 0 and read by float()
+    distance = np.asarray(distance)
     i = int(np.argmax(distance))
     top = float(distance[i])
     if top <= 0.0:
@@ -588,8 +588,8 @@ def extent(times: np.ndarray, distance: np.ndarray) -> Extent:
 
 def dissolve_times(times: np.ndarray, distance: np.ndarray) -> np.ndarray:
     """Every instant (s) at which a standing queue has gone in space."""
-    times = np.asarray(times, dtype=float)
-    distance = np.asarray(distance, dtype=float)
+    times = np.asarray(times, dtype=float)  # the instants returned are seconds as floats
+    distance = np.asarray(distance)  # only compared with 0
     ends = (distance[1:] <= 0.0) & (distance[:-1] > 0.0)
     return times[1:][ends]
 
