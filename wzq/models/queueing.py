@@ -191,21 +191,20 @@ def solve(
     duration = np.asarray(duration, dtype=float)
     lam = np.asarray(arrival_rate, dtype=float)
     pre = np.asarray(prebreakdown, dtype=float)
-    mu = pre if discharge is None else np.minimum(np.asarray(discharge, dtype=float), pre)
+    mu = pre if discharge is None else np.minimum(np.asarray(discharge), pre)  # float: pre is
     q = queue_at_boundaries(duration, lam, pre, mu, q0)
     # only the intervals with a queue at either end hold anyone up
     k = _touched(q)
     busy = np.zeros(len(duration))
     area = np.zeros(len(duration))
     if len(k):
-        qa, qb, dk = q[k], q[k + 1], duration[k]
+        qa, qb, bk = q[k], q[k + 1], duration[k]  # bk: a copy (fancy indexing)
         # time a queue stands: all of the interval while the queue is not empty
         # at its end, up to the exact clearing instant when it empties
-        bk = np.where(qb > 0, dk, 0.0)
         c = qb == 0  # here qa > 0: the queue clears inside the interval
         if c.any():
             kc = k[c]
-            bk[c] = np.minimum(qa[c] / (mu[kc] - lam[kc]), dk[c])
+            bk[c] = np.minimum(qa[c] / (mu[kc] - lam[kc]), bk[c])
         busy[k] = bk
         # area between the curves: a trapezoid over the busy time (a triangle
         # when the queue clears, since it ends at zero)
