@@ -957,3 +957,16 @@ def test_counts_of_a_long_plan_rounded_leave_no_queue_at_a_front_at_capacity(
         d[short_at] -= 1e-5
     times, dist = track(t, a, d)
     assert newell.extent(times, dist).max_m == 0.0
+
+
+def test_hourly_max_over_periods_outside_the_trajectory() -> None:
+    # Hand trajectory from 1 h to 3 h with a queue standing at both ends (500 m at 1 h,
+    # 900 m at 2 h, 300 m at 3 h). Half-hour periods from 0 to 4 h: those wholly before
+    # or after the trajectory give 0 (nothing is known there, and no queue is claimed);
+    # a period that ends or starts on the trajectory's end takes its distance there.
+    times = np.array([3600.0, 7200.0, 10800.0])
+    dist = np.array([500.0, 900.0, 300.0])
+    bounds = np.arange(9) * 1800.0
+    got = newell.hourly_max(times, dist, bounds)
+    # periods: [0, .5] [.5, 1] [1, 1.5] [1.5, 2] [2, 2.5] [2.5, 3] [3, 3.5] [3.5, 4] h
+    assert got == pytest.approx([0, 500, 700, 900, 900, 600, 300, 0])
