@@ -40,6 +40,7 @@ from wzq.engine.design_demand import CountHistory, DemandHistory, DemandRule
 from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, RiskOptions, Site, Thresholds
 from wzq.engine.risk_windows import closure_windows, risk_windows, window_scenarios
 from wzq.io.jsonplan import load_plan, plan_to_dict
+from wzq.present.risk import risk_summary_lines
 
 V_F = 25.0
 WEDNESDAY = dt.datetime(2027, 5, 5)
@@ -140,6 +141,37 @@ def test_allowed_at_risk_equals_the_plain_count_of_failing_weeks(exhaustive: boo
         np.testing.assert_array_equal(ws.allowed, expected, err_msg=f"level {level}")
 
 
+def test_a_week_whose_own_demand_is_held_beyond_the_approach_fails_every_candidate() -> None:
+    # Weeks 2 and 4 bring 4,500 veh/h at 10:00 to a road of 2 x 2,000 veh/h: 500 vehicles
+    # wait beyond the approach in those weeks whatever the closure (as in
+    # tests/engine/test_windows.py), so their hours 10:00 and 11:00 fail a length limit
+    # however long. The design demand (the mean, 2,400 veh/h at 10:00) holds none: the
+    # scenarios must be judged on their own demand. By hand: every candidate fails in
+    # exactly those 2 weeks of 5.
+    wednesdays = np.full((5, 24), 1000.0)
+    wednesdays[[1, 3], 10] = 4500.0
+    plan = wednesday_plan(wednesdays, Thresholds(max_queue_length=30_000.0))
+    found = risk_windows(plan, 0.99, [1])
+    assert (found.failing[0][UPPER] == 2).all()
+    np.testing.assert_array_equal(found.failing[0], plain_failing_counts(plan, wednesdays))
+    for level, allowed in ((0.2, np.zeros_like(UPPER)), (0.4, UPPER)):
+        (ws,) = risk_windows(plan, level, [1]).windows.sets
+        np.testing.assert_array_equal(ws.allowed, allowed, err_msg=f"level {level}")
+    # the risk of the plan itself: those 2 weeks fail 10:00 and 11:00, and the note and
+    # the headline say that the percentiles of the longest queue leave the 500 out
+    risk = R.assess(plan)
+    assert risk.hourly["p_queue_length"].tolist() == [0.0] * 10 + [0.4, 0.4] + [0.0] * 12
+    assert [n for n in risk.notes if "waits beyond the approach" in n] == [
+        "In 2 of 5 scenarios the demand is more than the road itself carries in some hour "
+        "(first Wed 2027-05-05 10:00): the traffic it cannot admit waits beyond the "
+        "approach, those hours count as over a queue-length limit, and their longest "
+        "queue leaves the waiting vehicles out, so the percentiles of the longest queue "
+        "are too low there."
+    ]
+    longest = dict(risk_summary_lines(risk, "metric"))["Longest queue of the plan"]
+    assert longest.endswith("(too low where traffic waits beyond the approach: see the method)")
+
+
 def test_with_capacity_draws_allowed_exactly_when_assess_says_so() -> None:
     base = np.array([400.0] * 6 + [1300.0] * 12 + [400.0] * 6)
     plan0 = wednesday_plan(np.tile(base, (5, 1)), Thresholds())
@@ -217,7 +249,8 @@ def test_the_json_window_risk_and_the_windows_command(tmp_path: Path) -> None:
     # at 40 %: no closure may cover 10:00 (3 failing weeks of 5); every other hour may be closed
     code, out, _ = run_cli("windows", str(path), "--lanes-closed", "1")
     assert code == 0, out
-    assert "at most 40 %" in out and "5 equally likely scenarios" in out
+    flat = " ".join(out.split())  # wrapped to the terminal's width
+    assert "at most 40 %" in flat and "5 equally likely scenarios" in flat
     assert wednesday_row(out) == "#" * 10 + "." + "#" * 13
     # --risk overrides the plan's level: at 60 % the 3 failing weeks of 5 are accepted
     code, out, _ = run_cli("windows", str(path), "--lanes-closed", "1", "--risk", "60")

@@ -30,7 +30,19 @@ from hypothesis import strategies as st
 import wzq
 from wzq.cli import main
 from wzq.engine import windows as W
-from wzq.engine.plan import Closure, Costs, Demand, Options, Plan, PlanError, Site, Thresholds
+from wzq.engine.hourly import hour_checks
+from wzq.engine.plan import (
+    Approach,
+    Closure,
+    Costs,
+    Demand,
+    Landmark,
+    Options,
+    Plan,
+    PlanError,
+    Site,
+    Thresholds,
+)
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.plans import demo_plan
 from wzq.io.workbook.windows_sheet import SHEET, write_windows_sheet
@@ -488,9 +500,159 @@ def test_a_queue_held_beyond_the_approach_by_the_single_state_relation() -> None
         assert not fast.sets[0].allowed.any()
 
 
+def test_an_open_road_failure_late_in_the_day_refuses_the_windows_before_it() -> None:
+    # As above with the failing hour late (05:00 of eight hours): every closure, even one
+    # ending hours before it with its queue gone, leaves 05:00 failing on the open road.
+    flows = [1000.0] * 5 + [4500.0] + [1000.0] * 2
+    ws = windows_of(hand_site(), hourly(flows), Thresholds(max_queue_length=500.0))
+    assert ws.open_road_failing == (dt.datetime(2027, 5, 3, 5), dt.datetime(2027, 5, 3, 6))
+    assert not ws.allowed.any()
+
+
+def packed_length(model, lanes: int, lam, qdr, run) -> np.ndarray:
+    """The shortest road the queued vehicles can hold: packed at jam density on every
+    lane (the least length any queue-length method can give; a method of the test's own)."""
+    queued = np.maximum(run.queue[:-1], run.queue[1:])
+    return queued / (lanes * model.diagram.jam_density)
+
+
+@pytest.mark.parametrize("limit", [2000.0, 1999.0])
+def test_the_quick_screen_never_refuses_what_the_queue_length_method_allows(limit) -> None:
+    # The search first screens a closure with its queue packed at jam density (the least
+    # length) and runs the length method only where the screen passes. With a method
+    # that gives exactly that least length, a window at the limit must still pass. Hand:
+    # closed at 1,500 veh/h, hour 1 brings 2,000 veh: 500 veh queued at 02:00 over
+    # 2 lanes x 0.125 veh/m = 0.25 veh/m is 2,000 m, then cleared (1,000 veh/h after).
+    flows = [1000.0, 2000.0, 1000.0, 1000.0]
+    result = W.find_windows(
+        hand_site(),
+        hourly(flows),
+        Thresholds(max_queue_length=limit),
+        [HAND_CONFIG],
+        queue_length=packed_length,
+    )
+    # under 2,000 m every closure holding hour 1 (s <= 1 < e) fails; at 2,000 m none does
+    rule = (lambda s, e: True) if limit == 2000.0 else (lambda s, e: not s <= 1 < e)
+    assert np.array_equal(result.sets[0].allowed, expected_matrix(4, rule))
+
+
+def test_a_queue_left_at_the_end_of_a_closure_is_followed_even_when_it_is_one_vehicle() -> None:
+    # Closed at 1,500 veh/h through hour 1 of 1,501 veh/h, one vehicle still waits when
+    # the closure ends (exact: 1,501 - 1,500). Hour 2 brings 0.01 veh/h, so that vehicle's
+    # delay weighs on its average: it leaves at 4,000 - 0.01 veh/h after 3,600 / 3,999.99 s
+    # = 0.9 s, 0.45 veh-s over 0.01 veh is 45 s a vehicle, over the 30 s limit (D/D/1 by
+    # hand). Every closure holding hour 1 fails in hour 2 (closed longer: 1,500 veh/h,
+    # 1.2 veh-s, 120 s); hour 1 itself is 0.5 veh-h over 1,501 veh, 1.2 s, and passes.
+    flows = [1000.0, 1501.0, 0.01, 1000.0]
+    ws = windows_of(hand_site(), hourly(flows), Thresholds(max_average_delay=30.0))
+    assert np.array_equal(ws.allowed, expected_matrix(4, lambda s, e: not s <= 1 < e))
+
+
+def test_without_the_capacity_drop_the_open_road_discharges_at_its_capacity() -> None:
+    # The site's open road drops 10 % after breakdown (3,600 veh/h), but the plan's
+    # option leaves the drop out: the queue a closure leaves behind is discharged at
+    # 4,000 veh/h. Closed through hour 1 at 1,500 veh/h with 2,000 arriving: 500 veh at
+    # 02:00, 250 veh-h in hour 1; then 4,000 - 1,000 veh/h clears them in 1/6 h:
+    # 500 x 1/6 / 2 = 41.667 veh-h (with the drop it would be 500 / 2,600 h: 48.077).
+    site = hand_site(capacity_drop_pct_open=10.0)
+    options = Options(queue_length_method="shockwave", capacity_drop=False)
+    limits = Thresholds(max_average_delay=3600.0)
+    ws = windows_of(site, hourly([1000.0, 2000.0, 1000.0, 1000.0]), limits, options)
+    assert ws.added_delay_veh_h(1, 2) == pytest.approx(250.0 + 500.0 / 6.0 / 2.0, rel=1e-12)
+
+
+def test_the_label_of_a_configuration() -> None:
+    # the words of the search's sheet and notes for each setting
+    assert W.Configuration(1).label(2) == "1 of 2 lanes closed"
+    assert W.Configuration(0).label(3) == "shoulder closed, 3 lanes open"
+    hard = W.Configuration(2, barrier="hard", capacity_override_veh_h_ln=1235.0)
+    assert hard.label(3) == "2 of 3 lanes closed, concrete barrier, 1,235 veh/h/ln"
+
+
+@pytest.mark.parametrize("method", ["newell", "shockwave"])
+def test_traffic_held_at_a_section_of_an_approach_with_ramps_fails_the_length_limit(
+    method: str,
+) -> None:
+    # The same 500 vehicles held, on approaches with ramps: at 04:00 an entrance ramp adds
+    # 1,000 veh/h to the mainline's 3,500 (4,500 veh/h below the merge), or the mainline
+    # brings 4,500 veh/h of which 1,000 leave at an exit ramp (4,500 above the diverge).
+    # A section given 4,500 veh/h on 2 x 2,000 veh/h holds 500 vehicles back by 05:00,
+    # cleared 500 / 3,000 h = 10 min later (D/D/1 by hand); the length shown leaves them
+    # out, so 04:00 and 05:00 fail a length limit however long. Under the road's capacity
+    # (an entrance ramp of 400 veh/h: 3,900) every hour passes.
+    hours = (0.0,) * 4
+    cases = (
+        ([1000.0] * 4 + [3500.0] + [1000.0] * 3, "entrance-ramp", 1000.0, True),
+        ([1000.0] * 4 + [4500.0] + [1000.0] * 3, "exit-ramp", 1000.0, True),
+        ([1000.0] * 4 + [3500.0] + [1000.0] * 3, "entrance-ramp", 400.0, False),
+    )
+    limits = Thresholds(max_queue_length=30_000.0)
+    options = Options(queue_length_method=method)
+    for flows, kind, ramp_flow, held in cases:
+        ramp = Landmark("Ash Lane ramp", 1000.0, kind, ramp_veh_h=(*hours, ramp_flow, *hours[:3]))
+        approach = Approach((ramp,))
+        plan = Plan(hand_site(), hourly(flows), (), limits, options=options, approach=approach)
+        r = wzq.analyse(plan)
+        status = "over limit: queue length unknown" if held else "ok"
+        assert r.hourly["status"].tolist()[3:7] == ["ok", status, status, "ok"], (kind, ramp_flow)
+        said = [w for w in r.warnings if "500 vehicles wait there" in w]
+        assert len(said) == (1 if held else 0)
+        found = W.find_windows(
+            hand_site(), hourly(flows), limits, [HAND_CONFIG], options=options, approach=approach
+        )
+        assert found.sets[0].allowed.any() != held
+
+
+def test_half_a_vehicle_held_makes_the_length_unknown_and_less_does_not() -> None:
+    # 4,000.5 veh/h for an hour on the 4,000 veh/h open road holds 0.5 vehicle beyond the
+    # approach at 05:00 (D/D/1 by hand; 0.5 and 4,000.5 are exact in binary), which
+    # shows as one vehicle: the hours 04:00 and 05:00 (it clears 0.5 / 3,000 h after
+    # 05:00) fail the length limit; 0.25 vehicle held shows as none and passes. The
+    # rule "half a vehicle or more" is the one the warning uses too.
+    limits = Thresholds(max_queue_length=30_000.0)
+    for excess, fails in ((0.5, True), (0.25, False)):
+        flows = [1000.0] * 4 + [OPEN + excess] + [1000.0] * 3
+        r = wzq.analyse(Plan(hand_site(), hourly(flows), (), limits))
+        h = r.hourly
+        assert h["queue_max_veh"].tolist()[4:6] == [excess, excess]
+        expected = "over limit: queue length unknown" if fails else "ok"
+        assert h["status"].tolist()[3:7] == ["ok", expected, expected, "ok"]
+        assert h["queue_ok"].tolist()[3:7] == [True, not fails, not fails, True]
+        held = [w for w in r.warnings if "held" in w and "vehicles wait there" in w]
+        assert len(held) == (1 if fails else 0)
+    # the per-hour checks on their own: exactly half a vehicle fails, just under passes
+    zeros = np.zeros(2)
+    _, _, checks = hour_checks(
+        limits, zeros, zeros + OPEN, zeros, zeros, zeros.astype(bool), None, np.array([0.5, 0.4999])
+    )
+    assert checks[0][2].tolist() == [False, True]
+
+
+def test_a_landmark_named_like_a_check_keeps_its_name_in_the_status() -> None:
+    # The status of an hour whose length is unknown names the length check "queue length
+    # unknown"; a landmark whose own name holds those words must keep its name as typed.
+    # 500 vehicles held at 04:00 and 05:00 as in the test above; the back of the queue is
+    # beyond the approach, so past any landmark on it.
+    flows = [1000.0] * 4 + [4500.0] + [1000.0] * 3
+    board = "queue length board"
+    approach = Approach((Landmark(board, 2_000.0),))
+    cases = (
+        (
+            Thresholds(max_queue_length=30_000.0, queue_must_not_pass=board),
+            f"over limit: queue length unknown, queue passes {board}",
+        ),
+        (Thresholds(queue_must_not_pass=board), f"over limit: queue passes {board}"),
+    )
+    for limits, status in cases:
+        plan = Plan(hand_site(), hourly(flows), (), limits, approach=approach)
+        h = wzq.analyse(plan).hourly
+        assert h["status"].tolist()[3:7] == ["ok", status, status, "ok"]
+
+
 def test_no_limits_allows_everything_with_a_note() -> None:
     result = W.find_windows(hand_site(), hourly([3000.0] * 6), Thresholds(), [HAND_CONFIG])
     assert result.sets[0].allowed.sum() == 21
+    assert result.sets[0].allowed.dtype == bool  # a mask, as with limits
     assert any("no limits" in note for note in result.notes)
 
 

@@ -18,6 +18,7 @@ from wzq.cli import EXIT_OK, explain
 from wzq.engine.plan import Plan, PlanError, Problem, RiskOptions
 from wzq.engine.risk import PROBABILITY_COLUMNS, RiskResult, assess
 from wzq.io.plans import load_any
+from wzq.present.risk import risk_summary_lines
 from wzq.present.tables import limits_text
 
 __all__ = [
@@ -78,7 +79,7 @@ def print_risk(
     )
     if s.worst_hour is not None:
         print(f"  Worst hour: {_hour(s.worst_hour)}, {_pct(s.worst_hour_p).strip()}", file=out)
-    q = ", ".join(f"{p}th {v / long_m:,.2f} {long_name}" for p, v in s.longest_queue_m.items())
+    q = dict(risk_summary_lines(result, plan.site.unit_system))["Longest queue of the plan"]
     d = ", ".join(f"{p}th {v:,.0f}" for p, v in s.total_delay_veh_h.items())
     print(f"  Longest queue of the plan: {q}", file=out)
     print(f"  Total delay (veh-h): {d}", file=out)

@@ -11,6 +11,7 @@ if TYPE_CHECKING:
     import pandas as pd
 
 from wzq.engine import costs as road_user_costs
+from wzq.engine.approach import ramps_on_grid
 from wzq.engine.plan import Plan, Thresholds
 from wzq.engine.queue_length import held_beyond
 from wzq.engine.results import Run, Summary, clock, hourly_frame
@@ -23,11 +24,13 @@ __all__ = [
     "HELD_QUEUE_VEH",
     "LENGTH_TOLERANCE_M",
     "RATIO_TOLERANCE",
+    "held_vehicles",
     "hour_checks",
     "hour_columns",
     "hour_starts",
     "hourly_table",
     "landmark_limit",
+    "length_unknown",
     "summarise",
 ]
 
@@ -44,6 +47,29 @@ HELD_QUEUE_VEH = 0.5
 #: The per-hour pass/fail columns :func:`hour_checks` may add to the table.
 CHECK_COLUMNS = ("queue_ok", "delay_ok", "demand_capacity_ok", "landmark_ok")
 _QUEUE_OK, _DELAY_OK, _DEMAND_CAPACITY_OK, _LANDMARK_OK = CHECK_COLUMNS
+
+
+def length_unknown(held_veh: np.ndarray) -> np.ndarray:
+    """Where the queue's length is unknown: :data:`HELD_QUEUE_VEH` or more vehicles held
+    back, beyond the approach or at a section of it (:func:`held_vehicles`).
+    The one rule of the per-hour checks, their status text and the run's warning."""
+    return held_veh >= HELD_QUEUE_VEH
+
+
+def held_vehicles(r: Run) -> np.ndarray:
+    """Vehicles held back, most in each interval of the run: demand the approach could
+    not admit, waiting beyond its upstream end, or on an approach with ramps the most
+    held at the upstream end of any section given more than the road's capacity
+    (mainline and entrance ramps; :func:`wzq.engine.queue_length.held_beyond` of each
+    section's flow). The queue's length shown leaves them out."""
+    lanes, diagram = r.plan.site.lanes, r.model.diagram
+    if r.sections is None:
+        return held_beyond(r.demand_veh_h, r.duration, lanes, diagram)
+    d = r.plan.demand
+    di = np.minimum((r.t[:-1] // d.interval_s).astype(np.intp), len(d.flows_veh_h) - 1)
+    ramps = ramps_on_grid(r.plan, di)
+    assert ramps is not None  # the run has sections: the plan has ramps
+    return held_beyond(ramps.section, r.duration, lanes, diagram).max(axis=0)
 
 
 def landmark_limit(plan: Plan) -> tuple[str, float] | None:
@@ -70,7 +96,7 @@ def hour_checks(
     hours only; the back of the queue not beyond the landmark ``(name, distance
     m)`` the queue must not pass. ``held_veh``, the most vehicles in each hour
     that the approach could not admit (demand above its own capacity, held
-    beyond its upstream end: :func:`wzq.engine.queue_length.held_beyond`): an hour
+    beyond its upstream end or at a section of it: :func:`held_vehicles`): an hour
     holding :data:`HELD_QUEUE_VEH` or more fails the length and landmark checks,
     since the queue's length is then unknown, not the length shown. The one
     rule for the per-hour table, the scenarios and the closure-window search.
@@ -82,7 +108,7 @@ def hour_checks(
         )
         dc = np.where(capacity > 0, arrivals / np.where(capacity > 0, capacity, 1.0), np.nan)
     checks: list[tuple[str, str, np.ndarray]] = []
-    seen = True if held_veh is None else held_veh < HELD_QUEUE_VEH
+    seen = True if held_veh is None else ~length_unknown(held_veh)
     if th.max_queue_length is not None:
         ok = (lmax <= th.max_queue_length + LENGTH_TOLERANCE_M) & seen
         checks.append((_QUEUE_OK, "queue length", ok))
@@ -139,10 +165,7 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
     else:
         lmax = top(np.maximum(r.length_start, r.length_end), first)
     closed = top((r.closure >= 0).view(np.int8), first).astype(bool)
-    held = None
-    if r.sections is None:  # no ramps (with ramps the sections say what they held)
-        lanes, diagram = r.plan.site.lanes, r.model.diagram
-        held = top(held_beyond(r.demand_veh_h, dur, lanes, diagram), first)
+    held = top(held_vehicles(r), first)
     avg, dc, checks = hour_checks(
         r.plan.thresholds,
         arrivals,
@@ -173,6 +196,7 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
         "queue_end_veh": q.queue[1:] if last_b is None else q.queue[last_b],
         "queue_max_veh": top(np.maximum(q.queue[:-1], q.queue[1:]), first),
         "queue_length_max_m": lmax,
+        "queue_held_veh": held,
         "queue_delay_veh_h": queue_delay,
         "work_zone_delay_veh_h": wz_delay,
         "delay_veh_h": delay,
@@ -191,9 +215,9 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
         failed = [label for bit, (_, label, _) in enumerate(checks) if c >> bit & 1]
         labels.append("over limit: " + ", ".join(failed) if failed else "ok")
     status = np.array(labels, dtype=object)[code]
-    if held is not None and r.plan.thresholds.max_queue_length is not None:
-        # the length shown leaves out the traffic held beyond the approach (hour_checks)
-        unknown = held >= HELD_QUEUE_VEH
+    if r.plan.thresholds.max_queue_length is not None:
+        # the length shown leaves out the traffic held back (hour_checks)
+        unknown = length_unknown(held)
         status[unknown] = [
             s.replace("queue length", "queue length unknown", 1) for s in status[unknown]
         ]

@@ -68,7 +68,7 @@ import numpy as np
 
 from wzq.engine.design_demand import DemandHistory, historical_scenarios
 from wzq.engine.grid import interval_arrays
-from wzq.engine.hourly import hour_checks
+from wzq.engine.hourly import hour_checks, length_unknown
 from wzq.engine.plan import Plan, PlanError, Problem, RiskOptions
 from wzq.engine.queue_length import held_beyond, queue_state_discharge, uses_newell
 from wzq.models import newell
@@ -387,6 +387,7 @@ class ScenarioRuns:
     delay_veh_h: np.ndarray
     average_delay_min: np.ndarray
     checks: dict[str, np.ndarray]
+    held_veh: np.ndarray  # most vehicles held beyond the approach (hourly.held_vehicles)
 
     COLUMNS = (
         "demand_veh_h",
@@ -541,6 +542,7 @@ def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
         delay,
         avg,
         {name: ok for name, _, ok in checks},
+        held,
     )
 
 
@@ -707,7 +709,19 @@ def assess(
             f"Only {len(scenarios)} scenarios: each probability moves in steps of "
             f"1/{len(scenarios)}; read the intervals."
         )
-    return RiskResult(run_scenarios(plan, scenarios), options, PERCENTILES, tuple(notes))
+    runs = run_scenarios(plan, scenarios)
+    held = length_unknown(runs.held_veh)
+    if held.any():
+        k = int(held.any(axis=1).sum())
+        first = runs.hour_start[int(np.flatnonzero(held.any(axis=0))[0])]
+        notes.append(
+            f"In {k} of {len(scenarios)} scenarios the demand is more than the road itself "
+            f"carries in some hour (first {first:%a %Y-%m-%d %H:%M}): the traffic it cannot "
+            "admit waits beyond the approach, those hours count as over a queue-length "
+            "limit, and their longest queue leaves the waiting vehicles out, so the "
+            "percentiles of the longest queue are too low there."
+        )
+    return RiskResult(runs, options, PERCENTILES, tuple(notes))
 
 
 __all__ = [

@@ -106,10 +106,19 @@ def _level(level: float | None, options: RiskOptions) -> float:
 
 
 def _scenario_grid(g: W._Grid, flows: np.ndarray, factor: float) -> W._Grid:
-    """The search grid of one scenario: its demand, its capacity factor on the closure."""
+    """The search grid of one scenario: its demand (and the traffic it holds back beyond
+    the approach), its capacity factor on the closure. No ramps (refuse_approach)."""
+    assert g.ramps is None
+    held = W.held_per_hour(flows[None, :], g.dur, g.lanes, g.model.diagram, g.first)
     if factor == 1.0:
-        return replace(g, lam=flows)
-    return replace(g, lam=flows, pre_closed=g.pre_closed * factor, qdr_closed=g.qdr_closed * factor)
+        return replace(g, lam=flows, held=held)
+    return replace(
+        g,
+        lam=flows,
+        held=held,
+        pre_closed=g.pre_closed * factor,
+        qdr_closed=g.qdr_closed * factor,
+    )
 
 
 def _heaviest_first(scenarios: Scenarios) -> np.ndarray:

@@ -8,9 +8,8 @@ import numpy as np
 
 from wzq.engine import plausibility
 from wzq.engine.approach import LandmarkResult
-from wzq.engine.hourly import HELD_QUEUE_VEH
+from wzq.engine.hourly import held_vehicles, length_unknown
 from wzq.engine.plan import Plan
-from wzq.engine.queue_length import held_beyond
 from wzq.engine.results import Run, clock
 from wzq.engine.site import site_model
 from wzq.engine.windows import too_long, too_long_text
@@ -74,6 +73,11 @@ def run_warnings(r: Run) -> list[str]:
     return out
 
 
+#: Traffic a section of an approach with ramps could not carry (:mod:`wzq.engine.approach`).
+SECTION_HELD_TEXT = (
+    "a section of the approach was given more traffic than the road's capacity "
+    "(mainline and entrance ramps); the excess is held back and not shown as queue"
+)
 #: Traffic the approach could not admit (Newell's method, :mod:`wzq.models.newell`).
 HELD_TEXT = (
     "arrivals or discharge exceeded the approach road's capacity; the traffic it "
@@ -82,19 +86,17 @@ HELD_TEXT = (
 
 
 def _held_beyond_warning(r: Run) -> str | None:
-    """Demand the approach could not admit, with the most vehicles held beyond it and
-    from when (:func:`wzq.engine.queue_length.held_beyond`), and that those hours fail a
-    length limit; ``None`` when none is held (or on an approach with ramps, whose
-    sections have warnings of their own)."""
-    if r.sections is not None:
-        return None
-    held = held_beyond(r.demand_veh_h, r.duration, r.plan.site.lanes, r.model.diagram)
-    over = held >= HELD_QUEUE_VEH
+    """Demand the approach could not admit, with the most vehicles held back and from
+    when (:func:`wzq.engine.hourly.held_vehicles`), and that those hours fail a length
+    limit; ``None`` when none is held."""
+    held = held_vehicles(r)
+    over = length_unknown(held)
     if not over.any():
         return None
     first = int(np.argmax(over))
+    what = HELD_TEXT if r.sections is None else SECTION_HELD_TEXT
     return (
-        f"{HELD_TEXT}: from {clock(r, float(r.t[first])):%a %Y-%m-%d %H:%M} up to "
+        f"{what}: from {clock(r, float(r.t[first])):%a %Y-%m-%d %H:%M} up to "
         f"{held.max():,.0f} vehicles wait there, their queue's length is unknown and the "
         "hours holding them fail a queue-length limit (the demand is more than the road "
         "itself carries: check the count)"
@@ -173,11 +175,8 @@ def approach_warnings(r: Run, landmark_results: tuple[LandmarkResult, ...]) -> l
                 "so traffic would queue on the ramp too; the model lets the ramp's traffic in "
                 "and does not show that queue, so the queue upstream of the ramp is not reliable"
             )
-        if sec.capacity_limited:
-            out.append(
-                "a section of the approach was given more traffic than the road's capacity "
-                "(mainline and entrance ramps); the excess is held back and not shown as queue"
-            )
+        if sec.capacity_limited and _held_beyond_warning(r) is None:
+            out.append(SECTION_HELD_TEXT)  # under half a vehicle held: said without figures
         if not sec.settled:
             out.append(
                 "the ramps' effect on the closure's arrivals did not settle; the queue near "

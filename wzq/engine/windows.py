@@ -91,6 +91,7 @@ from wzq.engine.queue_length import (
 )
 from wzq.engine.site import SiteModel, configuration, site_model
 from wzq.models import newell
+from wzq.models.flow import FundamentalDiagram
 from wzq.models.queueing import QueueRun, solve
 from wzq.units import HOUR
 
@@ -112,6 +113,7 @@ __all__ = [
     "feasible_starts",
     "feasible_window_list",
     "find_windows",
+    "held_per_hour",
     "intervals_for",
     "longest_window_list",
     "longest_windows",
@@ -220,7 +222,7 @@ class _Grid:
     ramps: ap.Ramps | None = None  # the approach's ramps on this grid
     by_sections: bool = False  # Newell's method by sections (else the single-state relation)
     landmark: tuple[str, float] | None = None  # the landmark the queue must not pass
-    held: np.ndarray | None = None  # per hour, vehicles held beyond the approach (Newell)
+    held: np.ndarray | None = None  # per hour, vehicles held back (held_per_hour)
 
 
 @dataclass(frozen=True)
@@ -290,7 +292,7 @@ def _evaluate(g: _Grid, s: int, e: int, screen: bool = False) -> _Eval:
     capacity = np.add.reduceat(cap_i, first) / HOUR
     lmax = np.maximum.reduceat(length, first)
     delay = np.add.reduceat(run.delay, first) / HOUR + np.add.reduceat(wz, first) / HOUR
-    closed_h = np.maximum.reduceat(closed.astype(np.int8), first).astype(bool)
+    closed_h = np.logical_or.reduceat(closed, first)
     ok = _checks(g, arrivals, capacity, lmax, delay, closed_h)
     return _Eval(run.queue, ok, run.arrivals, cap_i, length, run.delay, wz)
 
@@ -348,7 +350,7 @@ def _first_failure_end(g: _Grid, ok: np.ndarray) -> int:
 
 def _allowed(
     g: _Grid,
-    exhaustive: bool = False,
+    exhaustive: bool,
     known: np.ndarray | None = None,
     starts: np.ndarray | None = None,
 ) -> tuple[np.ndarray, _Eval]:
@@ -603,7 +605,7 @@ def _grid(
     config: Configuration,
     options: Options,
     length_fn: LengthFn,
-    approach: Approach | None = None,
+    approach: Approach,
 ) -> _Grid:
     n = len(demand.flows_veh_h)
     step = demand.interval_s
@@ -630,15 +632,14 @@ def _grid(
     first = np.searchsorted(t, np.arange(n_hours) * HOUR).astype(np.int64)
     hour_end = np.append(first[1:], n).astype(np.int64)
     hour_of = np.searchsorted(first, np.arange(n), side="right") - 1
-    ramps = None if approach is None else ap.ramps_for(demand, approach, np.arange(n))
+    ramps = ap.ramps_for(demand, approach, np.arange(n))
     limit = None
-    if approach is not None and thresholds.queue_must_not_pass is not None:
+    if thresholds.queue_must_not_pass is not None:
         lm = approach.landmark(thresholds.queue_must_not_pass)
         limit = None if lm is None else (lm.name, lm.distance)
     lam = demand.flows_veh_h.astype(float) if ramps is None else ramps.section[0]
-    held = None
-    if ramps is None:  # as hour_columns does
-        held = np.maximum.reduceat(held_beyond(lam, dur, site.lanes, model.diagram), first)
+    flows = lam[None, :] if ramps is None else ramps.section
+    held = held_per_hour(flows, dur, site.lanes, model.diagram, first)
     return _Grid(
         n,
         dur,
@@ -660,6 +661,15 @@ def _grid(
         limit,
         held,
     )
+
+
+def held_per_hour(
+    flows: np.ndarray, dur: np.ndarray, lanes: int, diagram: FundamentalDiagram, first: np.ndarray
+) -> np.ndarray:
+    """Per hour (``first``: each hour's first interval), the most vehicles held back
+    beyond the approach or at a section of it, as :func:`wzq.engine.hourly.held_vehicles`
+    finds them for a run: ``flows`` one row per section (veh/h; one row without ramps)."""
+    return np.maximum.reduceat(held_beyond(flows, dur, lanes, diagram).max(axis=0), first)
 
 
 def _check_inputs(

@@ -301,8 +301,11 @@ def words(choices: L.Choices, value: object) -> str:
     return text(L.word_for(choices, value))
 
 
-def number(value: float | int, decimals: int) -> str:
-    """A display value with thousands separators; ``-`` for a missing value."""
+def number(value: float | int | str, decimals: int) -> str:
+    """A display value with thousands separators; ``-`` for a missing value; a text
+    (a length that is unknown) as it is."""
+    if isinstance(value, str):
+        return value
     if value is None or (isinstance(value, float) and not np.isfinite(value)):
         return "-"
     return f"{value:,.{decimals}f}"

@@ -13,6 +13,7 @@ import numpy as np
 import pandas as pd
 
 from wzq import units as u
+from wzq.engine.hourly import length_unknown
 from wzq.engine.risk import PROBABILITY_COLUMNS, RiskResult
 from wzq.present.tables import Column, hour_label, rounded
 
@@ -128,6 +129,8 @@ def risk_summary_lines(risk: RiskResult, system: u.UnitSystem) -> list[tuple[str
     else:
         lines.append(("Riskiest hour", "no hour breaks a limit in any scenario"))
     q = ", ".join(f"{p}th {v / long_m:,.2f} {long_name}" for p, v in s.longest_queue_m.items())
+    if length_unknown(risk.runs.held_veh).any():
+        q += " (too low where traffic waits beyond the approach: see the method)"
     lines.append(("Longest queue of the plan", q))
     d = ", ".join(f"{p}th {v:,.0f}" for p, v in s.total_delay_veh_h.items())
     lines.append(("Total delay (veh-h)", d))

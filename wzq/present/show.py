@@ -64,7 +64,10 @@ def hourly_terminal_columns(result: Result, keep: np.ndarray | None = None) -> l
         table = table[keep]
     cols = [TermColumn("Hour", list(table["Hour"]), 1, right=False)]
     for c in hourly_columns(result.plan.site.unit_system):
-        cells = ["" if pd.isna(v) else f"{v:,.{c.decimals}f}" for v in table[c.header].to_numpy()]
+        cells = [
+            v if isinstance(v, str) else "" if pd.isna(v) else f"{v:,.{c.decimals}f}"
+            for v in table[c.header].to_numpy()
+        ]
         cols.append(TermColumn(terminal_header(c.header), cells, TERMINAL_PRIORITY[c.source]))
     status = list(table["Status"])
     # wrap a status only between its items ("over limit:", "queue length,", "delay")

@@ -17,6 +17,7 @@ import numpy as np
 from wzq import units as u
 from wzq.engine import costs as road_user_costs
 from wzq.engine.approach import LandmarkResult
+from wzq.engine.hourly import length_unknown
 from wzq.engine.plan import Landmark, Plan
 from wzq.engine.results import Result
 
@@ -26,6 +27,7 @@ if TYPE_CHECKING:
 __all__ = [
     "BEYOND_CHARTED",
     "LANDMARK_KIND_LABELS",
+    "LENGTH_UNKNOWN",
     "MAX_PANELS",
     "Column",
     "Episode",
@@ -39,6 +41,7 @@ __all__ = [
     "hourly_display",
     "landmark_display",
     "landmark_hour_flags",
+    "length_cells",
     "limit_values",
     "limits_text",
     "passed_text",
@@ -128,6 +131,21 @@ def rounded_all(values: np.ndarray, decimals: int) -> list[float | int | None]:
     ]
 
 
+#: The longest queue of an hour that holds traffic back (its length is unknown).
+LENGTH_UNKNOWN = "unknown"
+
+
+def length_cells(result: Result, column: Column, shown: list) -> list:
+    """``shown`` (one display value per hour of ``column``) with the longest queue of
+    an hour holding traffic back, beyond the approach or at a section of it, as
+    :data:`LENGTH_UNKNOWN`: the length computed leaves those vehicles out
+    (:func:`wzq.engine.hourly.length_unknown`). Other columns are as given."""
+    if column.source != "queue_length_max_m":
+        return shown
+    unknown = length_unknown(np.asarray(result.hours["queue_held_veh"]))
+    return [LENGTH_UNKNOWN if u else v for u, v in zip(unknown, shown, strict=True)]
+
+
 def hourly_display(result: Result) -> pd.DataFrame:
     """The per-hour table with display headers, plan units and display rounding."""
     import pandas as pd  # imported when used: slow to import
@@ -136,7 +154,8 @@ def hourly_display(result: Result) -> pd.DataFrame:
     h = result.hourly
     out = pd.DataFrame({"Hour": [hour_label(t) for t in h["hour_start"]]})
     for col in hourly_columns(system):
-        out[col.header] = [rounded(v * col.scale, col.decimals) for v in h[col.source]]
+        shown = [rounded(v * col.scale, col.decimals) for v in h[col.source]]
+        out[col.header] = length_cells(result, col, shown)
     out["Status"] = h["status"].to_numpy()
     return out
 
@@ -147,11 +166,17 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
     system = result.plan.site.unit_system
     long_name, long_m = u.LONG_LENGTH[system]
     when = lambda t: "-" if t is None else hour_label(t)[:-5] + f"{t:%H:%M}"  # noqa: E731
+    longest = f"{s.max_queue_length_m / long_m:,.2f} {long_name}, at {when(s.max_queue_length_at)}"
+    unknown = np.flatnonzero(length_unknown(np.asarray(result.hours["queue_held_veh"])))
+    if len(unknown):  # the hours holding traffic back: their length leaves it out
+        first = result.hours["hour_start"][unknown[0]]
+        n = len(unknown)
+        longest += (
+            f"; unknown in {n} hour{'s' if n != 1 else ''} from {when(first)} (traffic "
+            "held back, see the warnings)"
+        )
     lines = [
-        (
-            "Longest queue",
-            f"{s.max_queue_length_m / long_m:,.2f} {long_name}, at {when(s.max_queue_length_at)}",
-        ),
+        ("Longest queue", longest),
         (
             "Most vehicles queued",
             f"{s.max_queue_veh:,.0f} veh, at {when(s.max_queue_veh_at)}",

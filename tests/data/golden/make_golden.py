@@ -28,7 +28,11 @@ other page and every other output are unchanged; and again when the warnings on 
 Permit table, Summary and Run log sheets came to be wrapped in one cell across the
 printed width (merged on the first two; a long warning in one cell ran past the print
 area and was cut off on paper): those sheets' merged cells, row heights and the
-warning cells' alignment change, no cell's value; nothing else:
+warning cells' alignment change, no cell's value; and again when the per-hour table
+gained the column ``queue_held_veh`` (the vehicles held back beyond the approach or
+at a section of it, whose hours print the longest queue as "unknown"): that column is
+new in every plan's per-hour table, 0 in every hour of every recorded plan, and no
+other entry changes; nothing else:
 
     python3 tests/data/golden/make_golden.py
 
@@ -69,6 +73,7 @@ import shutil
 import sys
 import tempfile
 from pathlib import Path
+from unittest import mock
 
 import numpy as np
 import pandas as pd
@@ -222,7 +227,13 @@ def cli_text(argv: list[str]) -> dict:
 
 
 def command_outputs(tmp: Path) -> dict:
-    os.environ["COLUMNS"] = "200"
+    # the commands' text wrapped at 200 columns; the setting is put back after, so the
+    # tests that run later in the same session see the terminal's width as before
+    with mock.patch.dict(os.environ, {"COLUMNS": "200"}):
+        return _command_outputs(tmp)
+
+
+def _command_outputs(tmp: Path) -> dict:
     out: dict[str, dict] = {}
     for name in JSON_PLANS:
         out[f"show {name}.json"] = cli_text(["show", str(EXAMPLES / f"{name}.json")])

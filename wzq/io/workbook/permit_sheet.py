@@ -23,6 +23,7 @@ from wzq.io.workbook.writer import (
     SMALL,
     SheetWriter,
     TableRef,
+    align_unknown_lengths,
     closure_text,
     header_width,
     hour_closures,
@@ -135,6 +136,7 @@ def write_permit_sheet(out: SheetWriter, result: Result, stamp: str) -> TableRef
         row_looks = looks[(BAND_FILL if k % 2 else None, row[-1].value == OVER)]
         for apply, cell in zip(row_looks, row, strict=True):
             (over_look if cell.value == OVER else apply)(cell)
+    align_unknown_lengths(ws, (first, last), cols)
     for k in range(PERMIT_ROWS_PER_PAGE, n, PERMIT_ROWS_PER_PAGE):
         ws.row_breaks.append(Break(id=first + k - 1))
 

@@ -22,6 +22,7 @@ from wzq.io.workbook.writer import (
     STATUS_ALIGN,
     SheetWriter,
     TableRef,
+    align_unknown_lengths,
     header_width,
     hour_closures,
     number_looks,
@@ -97,6 +98,7 @@ def write_results_sheet(out: SheetWriter, result: Result) -> TableRef:
         kind = "over" if status[i] != "ok" else "band" if i % 2 else "plain"
         for apply, cell in zip(looks[kind], row, strict=True):
             apply(cell)
+    align_unknown_lengths(ws, (first, first + n - 1), cols)
     status_width = text_width([*status, "Status"], bold=True)
     widths = [21, 8.5]
     widths += [

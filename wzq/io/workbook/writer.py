@@ -36,7 +36,14 @@ from wzq.engine.plan import Closure, Plan, PlanError, Problem
 from wzq.engine.results import Result
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.workbook import layout
-from wzq.present.tables import Column, hour_label, limit_values, rounded_all
+from wzq.present.tables import (
+    LENGTH_UNKNOWN,
+    Column,
+    hour_label,
+    length_cells,
+    limit_values,
+    rounded_all,
+)
 
 __all__ = [
     "BAND_FILL",
@@ -67,6 +74,7 @@ __all__ = [
     "PERMIT_ROWS_PER_PAGE",
     "RESULTS",
     "RESULTS_HEADER_ROW",
+    "RIGHT",
     "ROW_BORDER",
     "RUN_LOG",
     "RUN_TIME_CELL",
@@ -79,6 +87,7 @@ __all__ = [
     "SheetWriter",
     "Styler",
     "TableRef",
+    "align_unknown_lengths",
     "cell_text",
     "check_output_sheets",
     "closure_text",
@@ -153,6 +162,7 @@ LINE_POINTS_PER_FONT_POINT = 15 / 11
 HEADER_ALIGN = Alignment(wrap_text=True, vertical="center", horizontal="center")
 CENTRE = Alignment(horizontal="center")
 LEFT = Alignment(horizontal="left")
+RIGHT = Alignment(horizontal="right")
 STATUS_ALIGN = Alignment(horizontal="left", indent=1)
 _thin = Side(style="thin", color="8C96A0")
 HEADER_BORDER = Border(bottom=Side(style="medium", color="2F3E4C"))
@@ -315,11 +325,16 @@ def limit_texts(plan: Plan) -> dict[str, str]:
     return {k: shown.get(k, "none") for k, _, _ in plan_checks(plan)}
 
 
-def values(result: Result, columns: Iterable[Column]) -> list[list[float | int | None]]:
-    """Rounded display values, column by column (NaN written as a blank)."""
+def values(result: Result, columns: Iterable[Column]) -> list[list[float | int | str | None]]:
+    """Rounded display values, column by column (NaN written as a blank; the longest
+    queue of an hour holding traffic back as "unknown": :func:`length_cells`)."""
     h = result.hours
     return [
-        rounded_all(np.asarray(h[col.source], dtype=float) * col.scale, col.decimals)
+        length_cells(
+            result,
+            col,
+            rounded_all(np.asarray(h[col.source], dtype=float) * col.scale, col.decimals),
+        )
         for col in columns
     ]
 
@@ -477,9 +492,20 @@ def text_width(texts: Iterable[str], *, bold: bool = False) -> float:
     return longest * (BOLD_CHAR if bold else TEXT_CHAR) + CELL_PADDING
 
 
-def number_width(values: Iterable[float | int | None], decimals: int) -> float:
-    """A column width that shows the widest of ``values`` as formatted (``#,##0.0``)."""
-    texts = [f"{v:,.{decimals}f}" for v in values if v is not None]
+def align_unknown_lengths(ws: Worksheet, rows: tuple[int, int], columns: list[Column]) -> None:
+    """Right-align, among the numbers of their column, the longest queues printed as
+    "unknown" (:func:`length_cells`) in ``rows`` (first, last) of a table whose value
+    ``columns`` start in column C."""
+    j = 3 + [c.source for c in columns].index("queue_length_max_m")
+    for (cell,) in ws.iter_rows(min_row=rows[0], max_row=rows[1], min_col=j, max_col=j):
+        if cell.value == LENGTH_UNKNOWN:
+            cell.alignment = RIGHT
+
+
+def number_width(values: Iterable[float | int | str | None], decimals: int) -> float:
+    """A column width that shows the widest of ``values`` as formatted (``#,##0.0``; a
+    text as it is)."""
+    texts = [v if isinstance(v, str) else f"{v:,.{decimals}f}" for v in values if v is not None]
     return text_width(texts) + 1.0
 
 
