@@ -705,7 +705,7 @@ def test_bad_inputs_say_where_and_what_to_do() -> None:
     with pytest.raises(PlanError) as e:
         W.find_windows(hand_site(), hourly([1000.0] * 4), Thresholds(), [2])
     assert "configurations[0]" in str(e.value) and "use 1 to 1" in str(e.value)
-    with pytest.raises(PlanError, match=r"not on the hour|whole hours"):
+    with pytest.raises(PlanError, match="whole hours"):
         W.find_windows(hand_site(), Demand(START, 900, np.ones(5)), Thresholds(), [1])
     with pytest.raises(PlanError, match=r"demand\[1\]"):
         W.find_windows(hand_site(), hourly([1.0, -5.0]), Thresholds(), [1])

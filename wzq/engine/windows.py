@@ -687,15 +687,8 @@ def _check_inputs(
         except PlanError as e:
             problems += [Problem(f"{d.name}: {p.where}", p.message) for p in e.problems]
             continue
+        # the plan refuses a demand that does not cover whole hours (plan.validate)
         n = len(d.demand.flows_veh_h)
-        if (n * d.demand.interval_s) % HOUR:
-            problems.append(
-                Problem(
-                    f"{d.name}: demand",
-                    f"the demand ends at {d.demand.end:%Y-%m-%d %H:%M}, not on the hour; "
-                    "add intervals up to the next full hour",
-                )
-            )
         if n > MAX_INTERVALS:
             problems.append(
                 Problem(
