@@ -848,3 +848,125 @@ def test_a_closure_after_arrivals_held_at_a_front_discharging_at_capacity(nudge)
     nq = newell.from_queue(run, DIAGRAM, N_LANES)
     assert nq.capacity_limited
     _held_to_the_bisection(run, admitted, nq.times, nq.distance)
+
+
+# --------------------------------------------------------------------------- small and large
+
+
+def test_a_queue_of_a_fraction_of_a_vehicle_forms_and_dissolves() -> None:
+    # The LWR model has no length or time scale of its own: with flows and densities kept,
+    # (x, t) -> (x/k, t/k) maps solutions to solutions, counts scaling as t. The case of
+    # test_closure_then_capacity_restored shrunk 36,000-fold: a closure of 0.1 s holds
+    # 1080/36000 = 0.03 vehicles; the back peaks at 18000/36000 = 0.5 m at 6600/36000 s
+    # and reaches the bottleneck at 9600/36000 s. A queue under a metre is still a queue.
+    t, a = hand_curve([0, 0.1, 0.8 / 3, 0.4], [0, 0.09, 0.24, 0.36])
+    _, d = hand_curve([0, 0.1, 0.8 / 3, 0.4], [0, 0.06, 0.24, 0.36])
+    times, dist = track(t, a, d)
+    ext = newell.extent(times, dist)
+    assert ext.max_m == pytest.approx(0.5, rel=REL)
+    assert ext.at_s == pytest.approx(6600 / 36000, rel=REL)
+    assert ext.dissolved_s == pytest.approx(9600 / 36000, rel=REL)
+    assert newell.dissolve_times(times, dist) == pytest.approx([9600 / 36000], rel=REL)
+    at = np.array([0.05, 0.2, 0.25])
+    expect = [30 / 11 * 0.05, 0.5 - 6 * (0.2 - 6600 / 36000), 0.5 - 6 * (0.25 - 6600 / 36000)]
+    assert newell.back_of_queue(t, a, d, at=at, **APPROACH) == pytest.approx(expect, rel=REL)
+
+
+def test_extent_and_dissolve_times_of_hand_vertices_in_whole_numbers() -> None:
+    # Hand piecewise-linear trajectory (s, m) given as integers: rises to 3 m at 20 s, falls
+    # through 2 m and 1 m, is gone at 50 s, stands again (2 m at 70 s) until 80 s. The
+    # longest queue is the first vertex at 3 m; each return to 0 after a queue is an
+    # instant it has gone, in seconds as floats whatever the type given.
+    times = np.array([0, 10, 20, 30, 40, 50, 60, 70, 80, 90])
+    dist = np.array([0, 1, 3, 2, 1, 0, 0, 2, 0, 0])
+    assert newell.extent(times, dist) == newell.Extent(3.0, 20.0, 50.0)
+    gone = newell.dissolve_times(times, dist)
+    assert gone.dtype == np.float64
+    np.testing.assert_array_equal(gone, [50.0, 80.0])
+    assert newell.extent(times, np.zeros(10, dtype=int)) == newell.Extent(0.0, None, None)
+
+
+def test_the_trajectory_has_one_vertex_per_instant_when_the_queue_clears_at_the_end() -> None:
+    # The case of test_closure_then_capacity_restored cut at 9600 s, when the queue has just
+    # cleared (D/D/1: 1080 / 0.18 = 6000 s after the closure). The trajectory is a function
+    # of time: its vertices strictly increase in time from 0 to 9600 s, with the back at
+    # 30/11 t during the closure, 18000 m at 6600 s and 0 at 9600 s (hand shockwaves there).
+    t, a = hand_curve([0, 3600, 9600], [0, 3240, 8640])
+    _, d = hand_curve([0, 3600, 9600], [0, 2160, 8640])
+    times, dist = track(t, a, d)
+    assert np.all(np.diff(times) > 0)
+    assert (times[0], times[-1]) == (0.0, 9600.0)
+    assert (dist[0], dist[-1]) == (0.0, 0.0)
+    at = np.array([1800.0, 6600.0, 8000.0])
+    expect = [30 / 11 * 1800, 18000.0, 18000 - 6 * (8000 - 6600)]
+    assert np.interp(at, times, dist) == pytest.approx(expect, rel=REL)
+
+
+def _held_at_capacity_with_a_standing_queue(slip: float) -> tuple[np.ndarray, ...]:
+    """300 vehicles queued at t = 0; arrivals 1.5 veh/s above n c = 1.2 for 1800 s, then 0.5;
+    the front discharges at exactly n c until the queue clears at 3000 s (D/D/1: the
+    entry queue of 0.3 * 1800 = 540 clears 540/0.7 s after 1800, then the 300 clear at
+    0.7 veh/s net, by 2571.43 + 428.57 = 3000 s). ``slip`` is added to D at 1800 s."""
+    tc = 1800 + 540 / 0.7
+    t = np.array([0.0, 1800.0, tc, 3000.0, 3600.0, 10800.0])
+    a = np.array([300.0, 3000.0, 3000 + 0.5 * (tc - 1800), 3600.0, 3900.0, 7500.0])
+    d = np.array([0.0, 2160.0 + slip, 1.2 * tc, 3600.0, 3900.0, 7500.0])
+    return t, a, d
+
+
+@pytest.mark.parametrize("slip", [0.0, -1e-9, 1e-9])
+def test_a_standing_queue_while_arrivals_are_held_at_a_front_at_capacity(slip) -> None:
+    # Daganzo (2005): the approach admits at most n c = 1.2 veh/s, so its admitted arrivals
+    # are 300 + 1.2 u until the entry queue clears at u = 2571.43 s, then 0.5 veh/s. With
+    # D = 1.2 s (held at 0 before the start), Newell's g(d; t) = A(t + d/30) - D(t - d/6)
+    # - 0.24 d, worked by hand: 300 > 0 for d <= 6 t; beyond, g = 300 + 1.2 t - 0.2 d, zero
+    # at d = 1500 + 6 t (while t + d/30 <= 2571.43, i.e. t <= 2101.19 s); then, with A at
+    # 0.5 veh/s, d = (2100 + 0.5 t) / (0.24 - 1/60) up to t = 2500 s (15,000 m), and
+    # d = 90000 - 30 t (D read after the start) until the back reaches the bottleneck at
+    # 3000 s. A slip of D by a rounding error (1e-9 veh) must not move it (the levels of
+    # the flat level curves it splits are one level).
+    t, a, d = _held_at_capacity_with_a_standing_queue(slip)
+    times, dist = track(t, a, d)
+    at = np.array([0.0, 1000.0, 2101.19, 2300.0, 2500.0, 2800.0, 3000.0, 3600.0])
+    expect = [1500.0, 7500.0, 1500 + 6 * 2101.19, (2100 + 0.5 * 2300) / (0.24 - 1 / 60)]
+    expect += [15000.0, 6000.0, 0.0, 0.0]
+    assert np.interp(at, times, dist) == pytest.approx(expect, rel=1e-9, abs=1e-6)
+    assert newell.extent(times, dist) == newell.Extent(
+        pytest.approx(15000.0, rel=1e-9), pytest.approx(2500.0, rel=1e-9), pytest.approx(3000.0)
+    )
+
+
+@pytest.mark.parametrize(("origin", "short_at"), [(0.0, None), (4e7, 1), (4e7, 2)])
+def test_counts_of_a_long_plan_rounded_leave_no_queue_at_a_front_at_capacity(
+    origin, short_at
+) -> None:
+    # test_arrivals_above_capacity_at_a_front_discharging_at_capacity_leave_no_queue by
+    # hand: arrivals 1.5 veh/s for 1800 s, the front at exactly n c = 1.2 veh/s until the
+    # entry queue (540 veh) has gone 540/0.7 s later; the approach admits the departures
+    # themselves (Daganzo 2005), so no queue stands inside it. Counts from an origin of
+    # 4e7 vehicles (a year at 4,600 veh/h) carry the rounding of a year of cumulative sums
+    # (a unit in the last place of 4e7 is 7.5e-9 veh, and 8,760 hourly sums can gather a
+    # thousand of those): D 1e-5 vehicles short at one knot is such rounding there, and
+    # must leave no queue, as the exact counts do (at an origin of 0 the same 1e-5 is
+    # above the rounding of the counts, and is not tested).
+    tc = 1800 + 540 / 0.7
+    t = np.array([0.0, 1800.0, tc, 3600.0, 10800.0])
+    a = np.array([0.0, 2700.0, 2700 + 0.5 * (tc - 1800), 3600.0, 7200.0]) + origin
+    d = np.array([0.0, 2160.0, 2700 + 0.5 * (tc - 1800), 3600.0, 7200.0]) + origin
+    if short_at is not None:
+        d[short_at] -= 1e-5
+    times, dist = track(t, a, d)
+    assert newell.extent(times, dist).max_m == 0.0
+
+
+def test_hourly_max_over_periods_outside_the_trajectory() -> None:
+    # Hand trajectory from 1 h to 3 h with a queue standing at both ends (500 m at 1 h,
+    # 900 m at 2 h, 300 m at 3 h). Half-hour periods from 0 to 4 h: those wholly before
+    # or after the trajectory give 0 (nothing is known there, and no queue is claimed);
+    # a period that ends or starts on the trajectory's end takes its distance there.
+    times = np.array([3600.0, 7200.0, 10800.0])
+    dist = np.array([500.0, 900.0, 300.0])
+    bounds = np.arange(9) * 1800.0
+    got = newell.hourly_max(times, dist, bounds)
+    # periods: [0, .5] [.5, 1] [1, 1.5] [1.5, 2] [2, 2.5] [2.5, 3] [3, 3.5] [3.5, 4] h
+    assert got == pytest.approx([0, 500, 700, 900, 900, 600, 300, 0])

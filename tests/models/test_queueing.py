@@ -17,7 +17,7 @@ from budget import examples
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from wzq.models.queueing import queue_at_boundaries, solve, waits
+from wzq.models.queueing import curves, queue_at_boundaries, solve, waits
 
 H = 3600.0
 
@@ -248,3 +248,68 @@ def test_a_hysteresis_interval_too_small_to_hold_a_queue_beside_a_queue_elsewher
     assert run.queue == pytest.approx([0.0, 0.0, 1080.0, 0.0])
     assert run.busy == pytest.approx([0.0, H, 1800.0])
     assert run.total_delay == pytest.approx(1080 * (3600 + 1800) / 2)
+
+
+def test_whole_numbers_give_the_run_of_the_same_numbers_in_floats() -> None:
+    # D/D/1 by hand, in hours and veh/h given as integers: 1790 veh/h against 1500 for
+    # 1 h leaves 290 vehicles, which clear against 1700 with 1000 arriving in 290/700 h,
+    # inside the second interval (2 h). Delay: triangles 0.5 * 290 * 1 and
+    # 0.5 * 290 * 29/70 veh-h. The same plan in floats gives the same run, bit for bit,
+    # and every rate and count of the run is a float whatever the type given.
+    runs = [
+        solve([1, 2], [1790, 1000], [1500, 1700]),
+        solve([1, 2], [1790, 1000], [1600, 1700], [1500, 1700]),  # capacity drop given
+    ]
+    for run in runs:
+        assert run.queue == pytest.approx([0, 290, 0], abs=1e-9)
+        assert run.busy == pytest.approx([1, 29 / 70], rel=1e-12)
+        assert run.delay == pytest.approx([145, 145 * 29 / 70], rel=1e-12)
+        assert run.departures == pytest.approx([1500, 2290], rel=1e-12)
+        assert run.clear_times() == pytest.approx([1 + 29 / 70], rel=1e-12)
+    floats = solve([1.0, 2.0], [1790.0, 1000.0], [1500.0, 1700.0])
+    for name in ("t", "arrival_rate", "discharge", "queue", "busy", "delay", "arrivals"):
+        got, want = getattr(runs[0], name), getattr(floats, name)
+        assert got.dtype == np.float64, name
+        np.testing.assert_array_equal(got, want)
+    assert runs[1].discharge.dtype == np.float64
+
+
+@pytest.mark.parametrize(
+    "demand, closed, open_road, after",
+    [(1790, 1500, 1800, 1510), (2100, 1550, 1800, 1250), (1600, 1500, 1800, 1700)],
+)
+def test_a_queue_that_clears_on_the_hour_keeps_the_knots_increasing(
+    demand, closed, open_road, after
+) -> None:
+    # D/D/1 by hand: demand above the closure's capacity for 1 h leaves demand - closed
+    # vehicles, and the second hour's spare capacity open_road - after is exactly that, so
+    # the queue clears at 2 h on the dot. In veh/s the rates are rounded, and the clearing
+    # instant comes out at 2 h or a few 1e-12 s before it: the knots of the cumulative
+    # curves must still increase strictly (linear interpolation between them, and Newell's
+    # construction, need one knot per instant), and the queue must be gone in space at 2 h.
+    from wzq.models import newell
+    from wzq.models.flow import Triangular
+
+    run = solve(hours(1, 1, 1), per_h(demand, after, 1000), per_h(closed, open_road, 2000))
+    assert run.queue[1] == pytest.approx(demand - closed)
+    t, a, d = curves(run)
+    assert np.all(np.diff(t) > 0)
+    assert (t[0], t[-1]) == (0.0, 3 * H)
+    assert np.interp(2 * H, t, a) - np.interp(2 * H, t, d) == pytest.approx(0.0, abs=1e-9)
+    nq = newell.from_queue(run, Triangular(free_speed=30.0, capacity=0.6, jam_density=0.12), 2)
+    assert nq.dissolved_s == pytest.approx([2 * H], abs=1e-6)
+    assert nq.extent.max_m > 0.0
+
+
+def test_a_queue_standing_through_every_interval_adds_no_knot_to_the_curves() -> None:
+    # D/D/1: 2000 veh/h against 1500 for 12 intervals of 0.1 h, boundaries given as
+    # k * 0.1 h: the queue grows by 50 vehicles an interval and never clears, so the
+    # curves need no knot beyond the boundaries, and A - D at each is the queue there.
+    # (In floats 5 * 0.1 + 0.1 falls short of 6 * 0.1: a knot at the end of an interval
+    # computed from its duration would land just inside it.)
+    t = np.arange(13) * 0.1
+    run = solve(np.full(12, 0.1), np.full(12, 2000.0), np.full(12, 1500.0), t=t)
+    assert run.queue == pytest.approx(50.0 * np.arange(13))
+    tk, a, d = curves(run)
+    np.testing.assert_array_equal(tk, t)
+    assert a - d == pytest.approx(50.0 * np.arange(13))

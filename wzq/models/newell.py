@@ -575,8 +575,8 @@ def extent(times: np.ndarray, distance: np.ndarray) -> Extent:
 
     The maximum of a piecewise-linear curve lies on a vertex, so this is exact.
     """
-    times = np.asarray(times, dtype=float)
-    distance = np.asarray(distance, dtype=float)
+    times = np.asarray(times)  # any real dtype: only compared with 0 and read by float()
+    distance = np.asarray(distance)
     i = int(np.argmax(distance))
     top = float(distance[i])
     if top <= 0.0:
@@ -588,8 +588,8 @@ def extent(times: np.ndarray, distance: np.ndarray) -> Extent:
 
 def dissolve_times(times: np.ndarray, distance: np.ndarray) -> np.ndarray:
     """Every instant (s) at which a standing queue has gone in space."""
-    times = np.asarray(times, dtype=float)
-    distance = np.asarray(distance, dtype=float)
+    times = np.asarray(times, dtype=float)  # the instants returned are seconds as floats
+    distance = np.asarray(distance)  # only compared with 0
     ends = (distance[1:] <= 0.0) & (distance[:-1] > 0.0)
     return times[1:][ends]
 
@@ -601,20 +601,24 @@ def hourly_max(times: np.ndarray, distance: np.ndarray, hour_bounds: np.ndarray)
     one of its ends or at a vertex inside it. Any increasing bounds work (hours,
     the run's intervals); periods outside the trajectory's span give 0.
     """
-    times = np.asarray(times, dtype=float)
-    distance = np.asarray(distance, dtype=float)
-    b = np.asarray(hour_bounds, dtype=float)
+    times = np.asarray(times)  # any real dtype: np.interp and the comparisons take them
+    distance = np.asarray(distance)
+    b = np.asarray(hour_bounds)
     return _hourly_max(times, distance, b, np.interp(b, times, distance, left=0.0, right=0.0))
 
 
 def _hourly_max(
     times: np.ndarray, distance: np.ndarray, b: np.ndarray, at_b: np.ndarray
 ) -> np.ndarray:
-    """:func:`hourly_max` given the distances ``at_b`` at the bounds ``b``."""
+    """:func:`hourly_max` given the distances ``at_b`` at the bounds ``b``.
+
+    A vertex inside a period raises that period's maximum; a vertex exactly on a
+    bound has that bound's distance, which ``at_b`` holds for both periods it ends
+    and starts, so the period it is counted in makes no difference.
+    """
     out = np.maximum(at_b[:-1], at_b[1:])
-    k = np.searchsorted(b, times, side="right") - 1
+    k = np.searchsorted(b, times) - 1  # the period whose open interior or end holds the vertex
     inside = (k >= 0) & (k < len(b) - 1)
-    inside &= times > b[np.clip(k, 0, len(b) - 1)]
     np.maximum.at(out, k[inside], distance[inside])
     return out
 

@@ -104,19 +104,18 @@ def _lindley(net: np.ndarray, q0: float) -> np.ndarray:
     return q
 
 
-def _fixed_point(net: np.ndarray, hyst: np.ndarray, breaks: np.ndarray, q0: float) -> np.ndarray:
+def _fixed_point(net: np.ndarray, hyst: np.ndarray, q0: float) -> np.ndarray:
     """Queue at boundaries with the runs of ``hyst`` intervals switched on only when fed.
 
-    A run is a stretch of consecutive ``hyst`` intervals that does not cross a
-    ``breaks`` boundary (the start of a stretch that is known to begin empty).
-    Runs are switched on only when the queue entering them is not empty; the
-    loop only ever switches runs on, so it ends after at most as many passes as
-    there are runs (usually one or two).
+    A run is a stretch of consecutive ``hyst`` intervals. Runs are switched on
+    only when the queue entering them is not empty; the loop only ever switches
+    runs on, so it ends after at most as many passes as there are runs (usually
+    one or two).
     """
     if not hyst.any():
         return _lindley(net, q0)
     first = hyst.copy()
-    first[1:] &= ~hyst[:-1] | breaks[1:]
+    first[1:] &= ~hyst[:-1]
     starts = np.flatnonzero(first)
     run_id = np.cumsum(first) - 1
     active = np.zeros(len(starts), dtype=bool)
@@ -148,7 +147,9 @@ def queue_at_boundaries(
     bound is zero the queue is zero. The runs of such intervals are therefore
     settled (a fixed point that switches a run on when the queue entering it is
     not empty) only on the intervals the bound touches: stretches that each
-    begin and end with no queue, so they can be solved one after another.
+    begin and end with no queue, so they can be solved one after another. A
+    run never joins two stretches: an interval of a run adds to the bound, so
+    the interval after it starts with a queue and belongs to the same stretch.
     """
     net = (arrival_rate - discharge) * duration
     hyst = (net > 0) & (arrival_rate <= prebreakdown)
@@ -161,9 +162,7 @@ def queue_at_boundaries(
     q = np.zeros(len(net) + 1)
     if len(k) == 0:
         return q
-    breaks = np.ones(len(k), dtype=bool)  # where a stretch (beginning with no queue) starts
-    breaks[1:] = np.diff(k) > 1
-    sub = _fixed_point(net[k], hyst[k], breaks, q0 if k[0] == 0 else 0.0)
+    sub = _fixed_point(net[k], hyst[k], q0 if k[0] == 0 else 0.0)
     q[k + 1] = sub[1:]
     q[k[0]] = sub[0]
     return q
@@ -191,21 +190,20 @@ def solve(
     duration = np.asarray(duration, dtype=float)
     lam = np.asarray(arrival_rate, dtype=float)
     pre = np.asarray(prebreakdown, dtype=float)
-    mu = pre if discharge is None else np.minimum(np.asarray(discharge, dtype=float), pre)
+    mu = pre if discharge is None else np.minimum(np.asarray(discharge), pre)  # float: pre is
     q = queue_at_boundaries(duration, lam, pre, mu, q0)
     # only the intervals with a queue at either end hold anyone up
     k = _touched(q)
     busy = np.zeros(len(duration))
     area = np.zeros(len(duration))
     if len(k):
-        qa, qb, dk = q[k], q[k + 1], duration[k]
+        qa, qb, bk = q[k], q[k + 1], duration[k]  # bk: a copy (fancy indexing)
         # time a queue stands: all of the interval while the queue is not empty
         # at its end, up to the exact clearing instant when it empties
-        bk = np.where(qb > 0, dk, 0.0)
         c = qb == 0  # here qa > 0: the queue clears inside the interval
         if c.any():
             kc = k[c]
-            bk[c] = np.minimum(qa[c] / (mu[kc] - lam[kc]), dk[c])
+            bk[c] = np.minimum(qa[c] / (mu[kc] - lam[kc]), bk[c])
         busy[k] = bk
         # area between the curves: a trapezoid over the busy time (a triangle
         # when the queue clears, since it ends at zero)
