@@ -66,7 +66,7 @@ def held_vehicles(r: Run) -> np.ndarray:
     if r.sections is None:
         return held_beyond(r.demand_veh_h, r.duration, lanes, diagram)
     d = r.plan.demand
-    di = np.minimum((r.t[:-1] // d.interval_s).astype(np.intp), len(d.flows_veh_h) - 1)
+    di = (r.t[:-1] // d.interval_s).astype(np.intp)  # every interval starts before the end
     ramps = ramps_on_grid(r.plan, di)
     assert ramps is not None  # the run has sections: the plan has ramps
     return held_beyond(ramps.section, r.duration, lanes, diagram).max(axis=0)
