@@ -793,6 +793,28 @@ def test_a_closure_overlapping_two_is_named_against_the_first(kestrel: bytes) ->
     )
 
 
+def test_each_input_keeps_the_cell_it_was_typed_in(kestrel: bytes) -> None:
+    # the cells later messages name are those the template's defined names point at
+    # (read here from the workbook by openpyxl, not by the reader)
+    plan = read(kestrel, lambda wb: None)
+    assert isinstance(plan, Plan), plan
+    book = openpyxl.load_workbook(io.BytesIO(kestrel))
+
+    def cell_of(name: str) -> str:
+        return book.defined_names[name].attr_text.replace("$", "")
+
+    for key, name in (
+        ("site.lanes", "site_lanes"),
+        ("thresholds.max_queue_length", "limit_queue_length"),
+        ("meta.title", "meta_title"),
+        ("costs.car_occupancy", "cost_car_occupancy"),
+    ):
+        assert plan.locations[key] == cell_of(name), key
+    singles = {cell_of(n) for n in book.defined_names if ":" not in cell_of(n)}
+    named = {v for k, v in plan.locations.items() if "[" not in k}
+    assert len(named) >= 50 and named <= singles
+
+
 def test_each_closure_and_its_note_keep_their_cells(kestrel: bytes) -> None:
     plan = read(kestrel, lambda wb: None)
     assert isinstance(plan, Plan), plan
