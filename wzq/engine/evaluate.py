@@ -26,7 +26,7 @@ from wzq.engine import approach
 from wzq.engine.grid import interval_arrays
 from wzq.engine.hourly import hour_columns, summarise
 from wzq.engine.plan import Plan
-from wzq.engine.queue_length import no_queue, queue_state_discharge, uses_newell
+from wzq.engine.queue_length import held_back, no_queue, queue_state_discharge, uses_newell
 from wzq.engine.results import Result, Run, landmark_results
 from wzq.engine.site import SiteModel
 from wzq.engine.warnings import approach_warnings, input_warnings, run_warnings
@@ -61,9 +61,11 @@ def evaluate(plan: Plan) -> Run:
         length_start = run.queue[:-1] / stored
         length_end = run.queue[1:] / stored
     wz_delay = run.departures * extra
+    held = held_back(lam[None, :], dur, site.lanes, model.diagram)
     return Run(
-        plan, model, t, ci, lanes_open, lam, pre, qdr, run, length_start, length_end, wz_delay, nq
-    )
+        plan, model, t, ci, lanes_open, lam, pre, qdr, run, length_start, length_end, wz_delay,
+        held, nq,
+    )  # fmt: skip
 
 
 def _evaluate_with_ramps(
@@ -87,13 +89,14 @@ def _evaluate_with_ramps(
     arrays then follow it.
     """
     lanes = plan.site.lanes
+    section = ramps.section  # the flow of each section, for the traffic held back
     if newell_ok:
         sec = approach.by_sections(run, ramps, model.diagram, lanes, pre / HOUR, qdr / HOUR)
         if sec.queue is not run:
             mid = 0.5 * (sec.queue.t[:-1] + sec.queue.t[1:])
             idx = np.clip(np.searchsorted(run.t, mid, side="right") - 1, 0, len(run.t) - 2)
             ci, lanes_open, lam = ci[idx], lanes_open[idx], lam[idx]
-            pre, qdr, extra = pre[idx], qdr[idx], extra[idx]
+            pre, qdr, extra, section = pre[idx], qdr[idx], extra[idx], section[:, idx]
             run = sec.queue
         # (a section over capacity has its own warning: _approach_warnings)
         nq = approach.newell_queue(sec.times, sec.distance, run.t, False)
@@ -105,9 +108,10 @@ def _evaluate_with_ramps(
             run, ramps, model.diagram, lanes, state
         )
     wz_delay = run.departures * extra
+    held = held_back(section, np.diff(run.t), lanes, model.diagram)
     return Run(
         plan, model, run.t, ci, lanes_open, lam, pre, qdr, run, length_start, length_end,
-        wz_delay, nq, sec,
+        wz_delay, held, nq, sec,
     )  # fmt: skip
 
 

@@ -11,9 +11,7 @@ if TYPE_CHECKING:
     import pandas as pd
 
 from wzq.engine import costs as road_user_costs
-from wzq.engine.approach import ramps_on_grid
 from wzq.engine.plan import Plan, Thresholds
-from wzq.engine.queue_length import held_beyond
 from wzq.engine.results import Run, Summary, clock, hourly_frame
 from wzq.models.queueing import waits
 from wzq.units import HOUR
@@ -24,7 +22,6 @@ __all__ = [
     "HELD_QUEUE_VEH",
     "LENGTH_TOLERANCE_M",
     "RATIO_TOLERANCE",
-    "held_vehicles",
     "hour_checks",
     "hour_columns",
     "hour_starts",
@@ -51,25 +48,10 @@ _QUEUE_OK, _DELAY_OK, _DEMAND_CAPACITY_OK, _LANDMARK_OK = CHECK_COLUMNS
 
 def length_unknown(held_veh: np.ndarray) -> np.ndarray:
     """Where the queue's length is unknown: :data:`HELD_QUEUE_VEH` or more vehicles held
-    back, beyond the approach or at a section of it (:func:`held_vehicles`).
+    back, beyond the approach or at a section of it
+    (:func:`wzq.engine.queue_length.held_back`).
     The one rule of the per-hour checks, their status text and the run's warning."""
     return held_veh >= HELD_QUEUE_VEH
-
-
-def held_vehicles(r: Run) -> np.ndarray:
-    """Vehicles held back, most in each interval of the run: demand the approach could
-    not admit, waiting beyond its upstream end, or on an approach with ramps the most
-    held at the upstream end of any section given more than the road's capacity
-    (mainline and entrance ramps; :func:`wzq.engine.queue_length.held_beyond` of each
-    section's flow). The queue's length shown leaves them out."""
-    lanes, diagram = r.plan.site.lanes, r.model.diagram
-    if r.sections is None:
-        return held_beyond(r.demand_veh_h, r.duration, lanes, diagram)
-    d = r.plan.demand
-    di = (r.t[:-1] // d.interval_s).astype(np.intp)  # every interval starts before the end
-    ramps = ramps_on_grid(r.plan, di)
-    assert ramps is not None  # the run has sections: the plan has ramps
-    return held_beyond(ramps.section, r.duration, lanes, diagram).max(axis=0)
 
 
 def landmark_limit(plan: Plan) -> tuple[str, float] | None:
@@ -96,7 +78,8 @@ def hour_checks(
     hours only; the back of the queue not beyond the landmark ``(name, distance
     m)`` the queue must not pass. ``held_veh``, the most vehicles in each hour
     that the approach could not admit (demand above its own capacity, held
-    beyond its upstream end or at a section of it: :func:`held_vehicles`): an hour
+    beyond its upstream end or at a section of it:
+    :func:`wzq.engine.queue_length.held_back`): an hour
     holding :data:`HELD_QUEUE_VEH` or more fails the length and landmark checks,
     since the queue's length is then unknown, not the length shown. The one
     rule for the per-hour table, the scenarios and the closure-window search.
@@ -165,7 +148,7 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
     else:
         lmax = top(np.maximum(r.length_start, r.length_end), first)
     closed = top((r.closure >= 0).view(np.int8), first).astype(bool)
-    held = top(held_vehicles(r), first)
+    held = top(r.held_veh, first)
     avg, dc, checks = hour_checks(
         r.plan.thresholds,
         arrivals,

@@ -25,6 +25,7 @@ from wzq.units import HOUR
 __all__ = [
     "LENGTH_METHODS",
     "LengthFn",
+    "held_back",
     "held_beyond",
     "length_method",
     "newell_lengths",
@@ -167,3 +168,13 @@ def held_beyond(
     top = lanes * float(diagram.capacity) * HOUR
     q = _lindley((demand_veh_h - top) / HOUR * dur, 0.0)
     return np.maximum(q[..., :-1], q[..., 1:])
+
+
+def held_back(
+    section_veh_h: np.ndarray, dur: np.ndarray, lanes: int, diagram: FundamentalDiagram
+) -> np.ndarray:
+    """Vehicles held back, most in each interval: :func:`held_beyond` of each section's
+    flow (one row per section of an approach with ramps, mainline and entrance ramps;
+    one row, the demand, without), the most over the sections. The queue's length
+    shown leaves them out (:func:`wzq.engine.hourly.length_unknown`)."""
+    return held_beyond(section_veh_h, dur, lanes, diagram).max(axis=0)

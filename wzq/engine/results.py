@@ -57,6 +57,7 @@ class Run:
     length_start: np.ndarray
     length_end: np.ndarray
     work_zone_delay: np.ndarray
+    held_veh: np.ndarray  # vehicles held back, most per interval (queue_length.held_back)
     back_of_queue: newell.NewellQueue | None = None
     sections: approach.SectionsRun | None = None  # the approach's ramps, when it has any
 

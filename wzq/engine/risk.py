@@ -387,7 +387,7 @@ class ScenarioRuns:
     delay_veh_h: np.ndarray
     average_delay_min: np.ndarray
     checks: dict[str, np.ndarray]
-    held_veh: np.ndarray  # most vehicles held beyond the approach (hourly.held_vehicles)
+    held_veh: np.ndarray  # most vehicles held beyond the approach (queue_length.held_back)
 
     COLUMNS = (
         "demand_veh_h",

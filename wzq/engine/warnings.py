@@ -8,7 +8,7 @@ import numpy as np
 
 from wzq.engine import plausibility
 from wzq.engine.approach import LandmarkResult
-from wzq.engine.hourly import held_vehicles, length_unknown
+from wzq.engine.hourly import length_unknown
 from wzq.engine.plan import Plan
 from wzq.engine.results import Run, clock
 from wzq.engine.site import site_model
@@ -87,9 +87,9 @@ HELD_TEXT = (
 
 def _held_beyond_warning(r: Run) -> str | None:
     """Demand the approach could not admit, with the most vehicles held back and from
-    when (:func:`wzq.engine.hourly.held_vehicles`), and that those hours fail a length
+    when (:attr:`wzq.engine.results.Run.held_veh`), and that those hours fail a length
     limit; ``None`` when none is held."""
-    held = held_vehicles(r)
+    held = r.held_veh
     over = length_unknown(held)
     if not over.any():
         return None

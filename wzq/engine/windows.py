@@ -84,7 +84,7 @@ from wzq.engine.plan import (
 )
 from wzq.engine.queue_length import (
     LengthFn,
-    held_beyond,
+    held_back,
     length_method,
     newell_lengths,
     queue_state_discharge,
@@ -667,9 +667,9 @@ def held_per_hour(
     flows: np.ndarray, dur: np.ndarray, lanes: int, diagram: FundamentalDiagram, first: np.ndarray
 ) -> np.ndarray:
     """Per hour (``first``: each hour's first interval), the most vehicles held back
-    beyond the approach or at a section of it, as :func:`wzq.engine.hourly.held_vehicles`
-    finds them for a run: ``flows`` one row per section (veh/h; one row without ramps)."""
-    return np.maximum.reduceat(held_beyond(flows, dur, lanes, diagram).max(axis=0), first)
+    beyond the approach or at a section of it (:func:`wzq.engine.queue_length.held_back`,
+    as a run finds them): ``flows`` one row per section (veh/h; one row without ramps)."""
+    return np.maximum.reduceat(held_back(flows, dur, lanes, diagram), first)
 
 
 def _check_inputs(
