@@ -821,3 +821,85 @@ def test_each_closure_and_its_note_keep_their_cells(kestrel: bytes) -> None:
     assert plan.locations["closures[0]"] == "Closures!A6"
     assert plan.locations["closures[1].note"] == "Closures!H7"
     assert plan.locations["demand.veh_h[1]"] == "Demand!C10"
+
+
+# -- a number typed in a time cell and shown as a date; the ends of the date's day counts ----
+# Serials 2 to 366 are day counts (1900-01-02 to 1900-12-31), 367 is 1901-01-01, the first
+# date read as a date (ECMA-376 Part 1, 18.17.4.1: serial = days since 1899-12-30 from
+# 1900-03-01 on, one less before, 1900-02-29 being counted); in the 1904 system day zero is
+# 1904-01-01, so 1904-01-22 is serial 21.
+
+
+@pytest.mark.parametrize(
+    ("value", "system_1904", "message"),
+    [
+        (
+            dt.datetime(1900, 1, 21),  # 21 typed in From, shown as a date
+            False,
+            "From: 21 is a number, not a time (a spreadsheet reads it as 21 days after its "
+            "day zero, 1900-01-21); did you mean 21:00? Type it with the colon",
+        ),
+        (
+            dt.datetime(1900, 1, 2),  # serial 2: the smallest taken for a day count
+            False,
+            "From: 2 is a number, not a time (a spreadsheet reads it as 2 days after its "
+            "day zero, 1900-01-02); did you mean 02:00? Type it with the colon",
+        ),
+        (
+            dt.datetime(1901, 1, 1),  # serial 367: a date-time, on another day than Date
+            False,
+            "From holds the date 1901-01-01 but Date is 2027-05-03; make them agree",
+        ),
+        (
+            dt.datetime(1904, 1, 22),  # serial 21 of the 1904 system
+            True,
+            "From: 21 is a number, not a time (a spreadsheet reads it as 21 days after its "
+            "day zero, 1904-01-22); did you mean 21:00? Type it with the colon",
+        ),
+    ],
+)
+def test_a_number_typed_in_from_and_shown_as_a_date(
+    kestrel: bytes, value: dt.datetime, system_1904: bool, message: str
+) -> None:
+    edit = in_1904(closure("From", value)) if system_1904 else closure("From", value)
+    assert read(kestrel, edit) == {"Closures!B6": message}
+
+
+@pytest.mark.parametrize(
+    ("header", "value", "where"),
+    [("From", "2300-05-03 21:00", "Closures!B6"), ("To", "2300-05-04 05:00", "Closures!C6")],
+)
+def test_a_date_time_in_a_time_cell_outside_the_years_allowed(
+    kestrel: bytes, header: str, value: str, where: str
+) -> None:
+    assert read(kestrel, closure(header, value)) == {
+        where: f"{header}: the year 2300 is outside 1900-2199; check the date"
+    }
+
+
+@pytest.mark.parametrize(
+    ("value", "message"),
+    [
+        (
+            2,  # the smallest number taken for a day count
+            "Date: 2 is a number, not a date (a spreadsheet reads it as 2 days after its day "
+            "zero, 1900-01-02); type a date, e.g. 2027-05-03",
+        ),
+        (
+            366,  # the largest
+            "Date: 366 is a number, not a date (a spreadsheet reads it as 366 days after its "
+            "day zero, 1900-12-31); type a date, e.g. 2027-05-03",
+        ),
+        (
+            367,  # the first serial read as a date: Tuesday 1901-01-01
+            "the closure Tue 1901-01-01 21:00 to Wed 1901-01-02 05:00 lies outside the demand "
+            "period Mon 2027-05-03 00:00 to Thu 2027-05-06 00:00; extend the demand or move "
+            "the closure",
+        ),
+        (1.5, "Date: 1.5 is not a date; type a date, e.g. 2027-05-03"),  # below the counts
+    ],
+)
+def test_a_number_in_the_date_column_at_the_ends_of_the_day_counts(
+    kestrel: bytes, value: float, message: str
+) -> None:
+    assert read(kestrel, closure("Date", value)) == {"Closures!A6": message}

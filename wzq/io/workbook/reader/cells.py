@@ -424,9 +424,9 @@ class CellReader:
             return v.date()
         if isinstance(v, dt.date):
             return v
-        if isinstance(v, int | float) and not isinstance(v, bool) and 2 <= v < DAYS_IN_1900:
-            return self.day_count(v, label, where, clock=False)
         if isinstance(v, int | float) and not isinstance(v, bool) and v >= 2:
+            if v < DAYS_IN_1900:  # a day count, not a date
+                return self.day_count(v, label, where, clock=False)
             when = self.serial(v, label, where)
             return when if when is _MISSING else self._date(when, label, where)
         if isinstance(v, str):

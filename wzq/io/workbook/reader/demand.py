@@ -240,7 +240,8 @@ class DemandReader:
                 "(any whole number of minutes that divides an hour)",
             )
             return None
-        for (a, _, ra), (b, _, rb), step in zip(unique, unique[1:], steps, strict=False):
+        for (a, _, ra), (b, _, rb) in pairwise(unique):
+            step = (b - a).total_seconds()
             if step == interval:
                 continue
             if step % interval == 0:
