@@ -371,6 +371,31 @@ def test_ramp_rows_outside_the_demand_period_warn(typed: Path, tmp_path: Path) -
     ), plan.input_warnings
 
 
+def test_an_exit_ramp_taking_more_than_arrives_is_named_at_its_row(
+    typed: Path, tmp_path: Path
+) -> None:
+    """The plan's own check (not the reader's) refuses an exit ramp taking 2,500 veh/h in
+    the hour from 02:00 where only the mainline's 1,800 veh/h arrive (the only ramp, so
+    the flow arriving at it is the demand); the problem is named at the ramp's row of the
+    landmark table, the third row typed (Approach!A10)."""
+    ramp = Landmark("Mere Street off-ramp", 2400.0, "exit-ramp")
+
+    flows = [100.0, 100.0, 2500.0, 100.0, 100.0, 100.0]
+
+    def edit(wb):
+        type_approach(wb, (*LANDMARKS, ramp), {ramp.name: flows})
+
+    with pytest.raises(PlanError) as e:
+        read_plan(edited(typed, tmp_path, edit))
+    assert [(p.where, p.message) for p in e.value.problems] == [
+        (
+            "Approach!A10",
+            "exit ramp 'Mere Street off-ramp' takes 2,500 veh/h from 2027-05-03 02:00 but only "
+            "1,800 veh/h arrive there; an exit ramp must leave some traffic on the mainline",
+        )
+    ]
+
+
 def test_the_limit_matches_a_landmark_regardless_of_case(typed: Path, tmp_path: Path) -> None:
     def edit(wb):
         set_named(wb, "limit_landmark", "  ash lane   BRIDGE ")

@@ -968,3 +968,124 @@ def test_a_formula_below_the_share_table_referring_left_of_it_is_a_row(kestrel: 
     out = read(kestrel, edit)
     assert isinstance(out, dict), out
     assert out["Demand!F41"].startswith("holds a formula with no saved result")
+
+
+def test_one_demand_row_is_one_hour(kestrel: bytes) -> None:
+    # a single row gives no spacing to read: it is an hour, Mon 21:00 to 22:00
+    def edit(wb: Any) -> None:
+        for r in range(10, 81):
+            for col in "ABC":
+                demand_cell(wb, r, col, None)
+        demand_cell(wb, 9, "B", dt.time(21, 0))
+        demand_cell(wb, 9, "C", 1500)
+        table_cell(wb, L.CLOSURE_TABLE, 0, "To").value = "22:00"
+        for header in L.CLOSURE_COLUMNS:
+            table_cell(wb, L.CLOSURE_TABLE, 1, header).value = None
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert (plan.demand.start, plan.demand.interval_s) == (dt.datetime(2027, 5, 3, 21, 0), 3600)
+    assert plan.demand.flows_veh_h.tolist() == [1500.0]
+    assert [(c.start, c.end) for c in plan.closures] == [
+        (dt.datetime(2027, 5, 3, 21, 0), dt.datetime(2027, 5, 3, 22, 0))
+    ]
+
+
+def test_every_demand_row_that_cannot_be_read_is_named(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        demand_cell(wb, 9, "C", "lots")
+        demand_cell(wb, 11, "C", "n/a")
+
+    assert read(kestrel, edit) == {
+        "Demand!C9": "Demand: 'lots' is text, not a number; type only the number, without its unit",
+        "Demand!C11": "Demand: 'n/a' is text, not a number; type only the number, without its unit",
+    }
+
+
+def test_a_typed_demand_of_zero_is_an_hour_without_traffic_and_no_warning(kestrel: bytes) -> None:
+    # only a 0 that a formula gives is warned about (test_a_demand_of_zero_from_a_formula...)
+    plan = read(kestrel, lambda wb: demand_cell(wb, 10, "C", 0))
+    assert isinstance(plan, Plan), plan
+    assert plan.demand.flows_veh_h[1] == 0.0
+    assert plan.input_warnings == ()
+
+
+def _aadt_cells_absent(wb: Any) -> None:
+    # the AADT and first-day cells never written (a workbook that holds no record of them)
+    for coord in ((8, 6), (12, 6)):  # Demand!F8, Demand!F12
+        del wb["Demand"]._cells[coord]
+
+
+@pytest.mark.parametrize("edit", [lambda wb: None, _aadt_cells_absent])
+def test_aadt_inputs_left_blank_with_counts_say_nothing(kestrel: bytes, edit: Any) -> None:
+    # the template fills in the AADT's direction share (F11) and number of days (F13):
+    # only a filled-in AADT (F8) or first day (F12) says the AADT inputs were meant
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert plan.input_warnings == ()
+
+
+def test_a_first_day_left_filled_in_with_counts_is_named(kestrel: bytes) -> None:
+    plan = read(kestrel, lambda wb: set_named(wb, "aadt_first_day", dt.datetime(2027, 5, 1)))
+    assert isinstance(plan, Plan), plan
+    assert plan.input_warnings == (
+        "Demand!F12: First day is filled in, but 'Demand is given as' (Demand!B4) is 'hourly "
+        "counts', so the AADT inputs are not used; clear them, or choose 'from AADT'",
+    )
+
+
+@pytest.mark.parametrize(
+    ("cells", "first_row"),
+    [
+        ({"C176": 1500}, 176),  # the table's last row (A8:C176), its last column
+        ({"A9": dt.datetime(2027, 5, 3)}, 9),  # its first row, its first column
+        ({"B20": dt.time(7, 0), "C21": 1500}, 20),  # two rows: the first is named
+    ],
+)
+def test_counts_anywhere_in_the_table_in_aadt_mode_are_named_at_the_first(
+    kestrel: bytes, cells: dict[str, Any], first_row: int
+) -> None:
+    def edit(wb: Any) -> None:
+        aadt(wb, flat)
+        for r in range(9, 81):
+            for col in "ABC":
+                demand_cell(wb, r, col, None)
+        for coord, value in cells.items():
+            wb["Demand"][coord] = value
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert plan.input_warnings == (
+        f"Demand!A{first_row}: the table DemandTable holds counts, but 'Demand is given as' "
+        "(Demand!B4) is 'from AADT', so they are not used; clear them, or choose 'hourly counts'",
+    )
+
+
+def test_a_demand_starting_a_fraction_of_a_second_after_the_hour(kestrel: bytes) -> None:
+    # full date-times in the Date column (Start time blank), each half a second past its
+    # hour: the rows are an hour apart, but the plan's own check finds the start off the
+    # hour, and says so at the first demand row
+    def edit(wb: Any) -> None:
+        for h in range(72):
+            at = dt.datetime(2027, 5, 3) + dt.timedelta(hours=h, microseconds=500_000)
+            demand_cell(wb, 9 + h, "A", at)
+            demand_cell(wb, 9 + h, "B", None)
+
+    assert read(kestrel, edit) == {"Demand!C9": "demand must start on the hour"}
+
+
+def test_a_cell_a_broken_name_also_points_at_is_not_read_as_a_row_below_a_table(
+    kestrel: bytes,
+) -> None:
+    # the speed limit's name refers to a range openpyxl cannot read, then to a cell below
+    # the closure table (Closures!A5:H35): the name is refused, and the value in that cell
+    # (meant as the speed limit) is not taken for a closure row below the table as well
+    def edit(wb: Any) -> None:
+        wb.defined_names["site_speed_limit"].attr_text = "Site!$B$9:,Closures!$B$40"
+        wb["Closures"]["B40"] = 65
+
+    assert read(kestrel, edit) == {
+        "Site (name site_speed_limit)": "the defined name site_speed_limit (Speed limit) "
+        "points at '$B$9:', not at one cell; point it at the value cell again in the Name "
+        "Manager"
+    }

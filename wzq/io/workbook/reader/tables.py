@@ -200,7 +200,7 @@ class TableReader:
                     dests = []
                 for sheet, coord in dests:
                     try:
-                        c0, r0, _, _ = range_boundaries(coord.replace("$", ""))
+                        c0, r0, _, _ = range_boundaries(coord)  # reads $B$9 as B9
                     except (ValueError, TypeError):
                         continue
                     found.add((sheet, r0, c0))
