@@ -903,3 +903,26 @@ def test_a_number_in_the_date_column_at_the_ends_of_the_day_counts(
     kestrel: bytes, value: float, message: str
 ) -> None:
     assert read(kestrel, closure("Date", value)) == {"Closures!A6": message}
+
+
+@pytest.mark.parametrize(
+    ("header", "value", "start", "end"),
+    [
+        # a time cell with minutes and seconds: 21:30:15 is 77,415 s after midnight
+        ("From", dt.time(21, 30, 15), (3, 21, 30, 15), (4, 5, 0)),
+        # serial 0 of the 1900 system (1899-12-30 00:00), as a time cell may hold midnight
+        ("From", dt.datetime(1899, 12, 30), (3, 0, 0), (3, 5, 0)),
+    ],
+)
+def test_times_of_day_as_time_cells_and_serials_hold_them(
+    kestrel: bytes, header: str, value: Any, start: tuple, end: tuple
+) -> None:
+    got = first_closure(read(kestrel, closure(header, value)))
+    assert got == (dt.datetime(2027, 5, *start), dt.datetime(2027, 5, *end))
+
+
+def test_a_date_time_before_the_serials_day_zero_in_a_time_cell_is_not_a_time(
+    kestrel: bytes,
+) -> None:
+    message = problem(kestrel, closure("From", dt.datetime(1899, 12, 29, 21, 0)), "Closures!B6")
+    assert message == "From: 1899-12-29 21:00 is not a time; type a time like 21:00 (24-hour clock)"

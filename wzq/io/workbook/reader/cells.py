@@ -459,9 +459,9 @@ class CellReader:
         seconds: float | None = None
         if isinstance(v, dt.datetime):
             serial = to_excel(v, self.epoch)
-            if 2 <= serial < DAYS_IN_1900:  # a number typed in a time cell, shown as a date
-                return self.day_count(serial, label, where, clock=True)
             if serial >= 2:
+                if serial < DAYS_IN_1900:  # a number typed in a time cell, shown as a date
+                    return self.day_count(serial, label, where, clock=True)
                 return v
             if serial >= 0:
                 seconds = serial * DAY  # hours past midnight (e.g. 24:00 stored as 1.0)
