@@ -927,3 +927,43 @@ def test_a_date_time_before_the_serials_day_zero_in_a_time_cell_is_not_a_time(
 ) -> None:
     message = problem(kestrel, closure("From", dt.datetime(1899, 12, 29, 21, 0)), "Closures!B6")
     assert message == "From: 1899-12-29 21:00 is not a time; type a time like 21:00 (24-hour clock)"
+
+
+# The template formats To as "[<=1][hh]:mm;yyyy-mm-dd hh:mm" (24:00 shown as 24:00), so a
+# number typed there is read as elapsed time: 5 (meant as 05:00) comes as five days,
+# shown as 1900-01-05 00:00; it is a day count like the same number typed in From.
+@pytest.mark.parametrize(
+    ("value", "message"),
+    [
+        (
+            dt.timedelta(days=5),
+            "To: 5 is a number, not a time (a spreadsheet reads it as 5 days after its day "
+            "zero, 1900-01-05); did you mean 05:00? Type it with the colon",
+        ),
+        (
+            dt.timedelta(days=2),  # the smallest day count
+            "To: 2 is a number, not a time (a spreadsheet reads it as 2 days after its day "
+            "zero, 1900-01-02); did you mean 02:00? Type it with the colon",
+        ),
+        (
+            dt.timedelta(days=3_000_000),
+            "To: 3,000,000 is past the last date a spreadsheet can hold (9999-12-31); type a "
+            "date and time, e.g. 2027-05-03 21:00",
+        ),
+    ],
+)
+def test_a_number_typed_in_to_is_read_as_in_from(kestrel: bytes, value: Any, message: str) -> None:
+    assert read(kestrel, closure("To", value)) == {"Closures!C6": message}
+
+
+@pytest.mark.parametrize(
+    ("value", "end"),
+    [
+        (dt.timedelta(0), (4, 0, 0)),  # 00:00, at or before From: the next day
+        (dt.timedelta(days=1), (4, 0, 0)),  # 24:00, midnight at the end of the day
+        (dt.timedelta(hours=21), (4, 21, 0)),  # 21:00, at From: the next day
+    ],
+)
+def test_elapsed_times_in_to_up_to_24_00(kestrel: bytes, value: Any, end: tuple) -> None:
+    got = first_closure(read(kestrel, closure("To", value)))
+    assert got == (dt.datetime(2027, 5, 3, 21, 0), dt.datetime(2027, 5, *end))

@@ -468,10 +468,8 @@ class CellReader:
         elif isinstance(v, dt.time):
             seconds = v.hour * 3600 + v.minute * 60 + v.second
         elif isinstance(v, dt.timedelta):  # a cell formatted as elapsed time, e.g. [hh]:mm
-            if v.total_seconds() >= 2 * DAY:
-                return self.serial(v.total_seconds() / DAY, label, where)  # a date-time serial
-            if v.total_seconds() >= 0:
-                seconds = v.total_seconds()
+            if v.total_seconds() >= 0:  # the number of days it holds, read as a number
+                return self._clock(v.total_seconds() / DAY, label, where, allow_24=allow_24)
         elif isinstance(v, int | float) and not isinstance(v, bool):
             if v >= 2:
                 if v < DAYS_IN_1900:
