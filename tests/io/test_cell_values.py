@@ -946,6 +946,11 @@ def test_a_date_time_before_the_serials_day_zero_in_a_time_cell_is_not_a_time(
             "zero, 1900-01-02); did you mean 02:00? Type it with the colon",
         ),
         (
+            dt.timedelta(days=367),  # the first serial read as a date-time: 1901-01-01 00:00
+            "the closure ends (Tue 1901-01-01 00:00) before it starts (Mon 2027-05-03 21:00); "
+            "check the date and time in To",
+        ),
+        (
             dt.timedelta(days=3_000_000),
             "To: 3,000,000 is past the last date a spreadsheet can hold (9999-12-31); type a "
             "date and time, e.g. 2027-05-03 21:00",
