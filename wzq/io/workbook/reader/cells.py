@@ -481,8 +481,9 @@ class CellReader:
             text = v.strip()
             m = _CLOCK.match(text)
             md = _ISO_DATETIME.match(text)
-            if m and int(m.group(2)) < 60 and int(m.group(3) or 0) < 60:
-                seconds = int(m.group(1)) * 3600 + int(m.group(2)) * 60 + int(m.group(3) or 0)
+            hms = [int(x) for x in m.groups("0")] if m else []  # no seconds: 0
+            if hms and hms[1] < 60 and hms[2] < 60:
+                seconds = hms[0] * 3600 + hms[1] * 60 + hms[2]
             elif md:
                 try:
                     day = dt.date.fromisoformat(_pad_iso(md.group(1)))
