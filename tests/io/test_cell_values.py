@@ -911,6 +911,7 @@ def test_a_number_in_the_date_column_at_the_ends_of_the_day_counts(
         # a time cell with minutes and seconds (To is read on its own, From with Date):
         # 05:30:15 is 19,815 s after midnight, the next day as it is before From
         ("To", dt.time(5, 30, 15), (3, 21, 0), (4, 5, 30, 15)),
+        ("From", "21:45", (3, 21, 45), (4, 5, 0)),  # typed as text: 78,300 s
         # serial 0 of the 1900 system (1899-12-30 00:00), as a time cell may hold midnight
         ("From", dt.datetime(1899, 12, 30), (3, 0, 0), (3, 5, 0)),
     ],
