@@ -973,3 +973,11 @@ def test_a_number_typed_in_to_is_read_as_in_from(kestrel: bytes, value: Any, mes
 def test_elapsed_times_in_to_up_to_24_00(kestrel: bytes, value: Any, end: tuple) -> None:
     got = first_closure(read(kestrel, closure("To", value)))
     assert got == (dt.datetime(2027, 5, 3, 21, 0), dt.datetime(2027, 5, *end))
+
+
+def test_a_date_time_at_24_30_is_not_a_time(kestrel: bytes) -> None:
+    # 24:00 is midnight at the end of the day; past it the hour has no meaning
+    message = problem(kestrel, closure("To", "2027-05-03 24:30"), "Closures!C6")
+    assert message == "To: '2027-05-03 24:30' is not a time; type a time like 21:00 (24-hour clock)"
+    got = first_closure(read(kestrel, closure("To", "2027-05-03 24:00")))
+    assert got == (dt.datetime(2027, 5, 3, 21, 0), dt.datetime(2027, 5, 4, 0, 0))
