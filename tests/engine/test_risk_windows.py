@@ -31,13 +31,14 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hand import hand_site
 
 import wzq
 from wzq.cli import main
 from wzq.engine import risk as R
 from wzq.engine import windows as W
 from wzq.engine.design_demand import CountHistory, DemandHistory, DemandRule
-from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, RiskOptions, Site, Thresholds
+from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, RiskOptions, Thresholds
 from wzq.engine.risk_windows import closure_windows, risk_windows, window_scenarios
 from wzq.io.jsonplan import load_plan, plan_to_dict
 from wzq.present.risk import risk_summary_lines
@@ -45,21 +46,6 @@ from wzq.present.risk import risk_summary_lines
 V_F = 25.0
 WEDNESDAY = dt.datetime(2027, 5, 5)
 FIRST_COUNTED = dt.date(2026, 5, 4)  # a Monday
-
-
-def hand_site() -> Site:
-    return Site(
-        lanes=2,
-        speed_limit=V_F,
-        work_zone_speed_limit=V_F,
-        work_zone_length=0.0,
-        free_flow_speed=V_F,
-        heavy_vehicle_share=0.0,
-        jam_density=0.125,
-        base_capacity_pc_h_ln=2000.0,
-        capacity_drop_pct_open=0.0,
-        name="Kestrel Ridge Parkway (fictional)",
-    )
 
 
 def wednesday_plan(wednesdays: np.ndarray, thresholds: Thresholds, **kw) -> Plan:

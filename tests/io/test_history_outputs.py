@@ -29,6 +29,7 @@ from typing import Any
 import numpy as np
 import openpyxl
 import pytest
+from hand import hand_site
 from workbook_helpers import fill_template, find_table, named_cell, set_named
 
 import wzq
@@ -38,7 +39,6 @@ from wzq.engine.plan import (
     Options,
     Plan,
     PlanError,
-    Site,
     Thresholds,
 )
 from wzq.io.jsonplan import plan_to_dict
@@ -66,19 +66,7 @@ def hand_flows() -> np.ndarray:
 
 
 def hand_plan() -> Plan:
-    site = Site(
-        lanes=2,
-        speed_limit=V_F,
-        work_zone_speed_limit=V_F,
-        work_zone_length=0.0,
-        free_flow_speed=V_F,
-        heavy_vehicle_share=0.0,
-        jam_density=0.125,
-        base_capacity_pc_h_ln=2000.0,
-        capacity_drop_pct_open=0.0,
-        name="Kestrel Ridge Parkway (fictional)",
-        unit_system="metric",
-    )
+    site = hand_site(unit_system="metric")
     closure = Closure(
         dt.datetime(2027, 5, 5, 10),
         dt.datetime(2027, 5, 5, 14),
