@@ -29,6 +29,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 from budget import examples
+from hand import C_LN, K_J, V_F
+from hand import hand_site as shared_hand_site
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from scipy import stats
@@ -42,26 +44,13 @@ from wzq.io.jsonplan import load_plan, plan_from_dict, plan_to_dict
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 DEMO = EXAMPLES / "larkspur_vale_week.json"
-V_F = 25.0  # m/s
-K_J = 0.125  # veh/m/ln
-C_LN = 2000.0  # veh/h/ln
 W = (C_LN / 3600) / (K_J - C_LN / 3600 / V_F)  # backward wave speed, m/s (triangular)
 
 
 def hand_site(**kw) -> Site:
-    values = dict(
-        lanes=2,
-        speed_limit=V_F,
-        work_zone_speed_limit=V_F,
-        work_zone_length=0.0,
-        free_flow_speed=V_F,
-        heavy_vehicle_share=0.0,
-        jam_density=K_J,
-        base_capacity_pc_h_ln=C_LN,
-        name="Kestrel Ridge Parkway (fictional)",
-    )
-    values.update(kw)
-    return Site(**values)
+    """The shared hand site (tests/hand.py) with the plan's default capacity drop after
+    a breakdown (7 %)."""
+    return shared_hand_site(**{"capacity_drop_pct_open": 7.0, **kw})
 
 
 def stored_per_m(arrival_veh_h: float, discharge_veh_h: float, lanes: int = 2) -> float:
