@@ -219,10 +219,10 @@ class _Grid:
     model: SiteModel
     thresholds: Thresholds
     length_fn: LengthFn
+    held: np.ndarray  # per hour, vehicles held back (held_per_hour)
     ramps: ap.Ramps | None = None  # the approach's ramps on this grid
     by_sections: bool = False  # Newell's method by sections (else the single-state relation)
     landmark: tuple[str, float] | None = None  # the landmark the queue must not pass
-    held: np.ndarray | None = None  # per hour, vehicles held back (held_per_hour)
 
 
 @dataclass(frozen=True)
@@ -254,7 +254,7 @@ def _checks(
     """All of :func:`wzq.engine.hourly.hour_checks` passed, hour by hour (``hours``: the
     hours the arrays hold, when not every hour)."""
     ok = np.ones(len(arrivals), dtype=bool)
-    held = g.held if g.held is None or hours is None else g.held[hours]
+    held = g.held if hours is None else g.held[hours]
     checks = hour_checks(
         g.thresholds, arrivals, capacity, lmax, delay_veh_h, closed, g.landmark, held
     )
@@ -656,10 +656,10 @@ def _grid(
         model,
         thresholds,
         length_fn,
+        held,
         ramps,
         length_fn is newell_lengths,
         limit,
-        held,
     )
 
 
