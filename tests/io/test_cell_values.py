@@ -981,3 +981,14 @@ def test_a_date_time_at_24_30_is_not_a_time(kestrel: bytes) -> None:
     assert message == "To: '2027-05-03 24:30' is not a time; type a time like 21:00 (24-hour clock)"
     got = first_closure(read(kestrel, closure("To", "2027-05-03 24:00")))
     assert got == (dt.datetime(2027, 5, 3, 21, 0), dt.datetime(2027, 5, 4, 0, 0))
+
+
+def test_a_date_that_cannot_be_read_beside_a_date_time_in_from(kestrel: bytes) -> None:
+    # From holds a whole date-time, so Date is only compared with it: still read, and named
+    def edit(wb: Any) -> None:
+        closure("Date", "3 May")(wb)
+        closure("From", "2027-05-03 22:00")(wb)
+
+    assert read(kestrel, edit) == {
+        "Closures!A6": "Date: '3 May' is not a date; type a date, e.g. 2027-05-03"
+    }
