@@ -992,3 +992,15 @@ def test_a_date_that_cannot_be_read_beside_a_date_time_in_from(kestrel: bytes) -
     assert read(kestrel, edit) == {
         "Closures!A6": "Date: '3 May' is not a date; type a date, e.g. 2027-05-03"
     }
+
+
+def test_an_error_value_openpyxl_does_not_list_is_named_as_an_error(kestrel: bytes) -> None:
+    # a newer spreadsheet error (#SPILL!, ECMA-376 lists only the seven classic ones) kept
+    # in the file as an error cell (t="e"): named as the error it shows, not read as text
+    def edit(wb: Any) -> None:
+        cell = set_named(wb, "site_speed_limit", "#SPILL!")
+        cell.data_type = "e"
+
+    assert problem(kestrel, edit, "Site!B9") == (
+        "shows the error #SPILL!; fix the formula or type the value"
+    )

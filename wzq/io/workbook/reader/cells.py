@@ -81,10 +81,8 @@ class CellReader:
         if v is None:
             return None
         if cell.data_type == "f" or isinstance(v, ArrayFormula | DataTableFormula):
-            v = self.formula_result(ws, row, col)
-            if v is _MISSING or v is None:
-                return v
-        elif cell.data_type == "e":
+            return self.formula_result(ws, row, col)  # a saved error named there (cached)
+        if cell.data_type == "e":  # an error value, also one openpyxl does not know
             return self.error_value(cell_ref(ws.title, row, col), v)
         if isinstance(v, str) and v.strip() in ERROR_CODES:
             return self.error_value(cell_ref(ws.title, row, col), v)
@@ -187,7 +185,7 @@ class CellReader:
     def locate(self, field: F.Field) -> tuple[Worksheet, int, int] | None:
         """The cell a defined name points at, or ``None`` (problem recorded)."""
         name = field.name
-        home = F.FIELD_SHEET.get(name, "workbook")
+        home = F.FIELD_SHEET[name]  # every input has its sheet (test_template.py)
         dn = self.wb.defined_names.get(name)
         if dn is None:
             for ws in self.wb.worksheets:
