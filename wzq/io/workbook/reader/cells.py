@@ -82,10 +82,8 @@ class CellReader:
             return None
         if cell.data_type == "f" or isinstance(v, ArrayFormula | DataTableFormula):
             return self.formula_result(ws, row, col)  # a saved error named there (cached)
-        if cell.data_type == "e":  # an error value, also one openpyxl does not know
-            return self.error_value(cell_ref(ws.title, row, col), v)
-        if isinstance(v, str) and v.strip() in ERROR_CODES:
-            return self.error_value(cell_ref(ws.title, row, col), v)
+        if cell.data_type == "e" or (isinstance(v, str) and v.strip() in ERROR_CODES):
+            return self.error_value(cell_ref(ws.title, row, col), v)  # "e": also #SPILL!
         return v
 
     def merged(self, ws: Worksheet, row: int, col: int) -> Any:
