@@ -1089,3 +1089,34 @@ def test_a_cell_a_broken_name_also_points_at_is_not_read_as_a_row_below_a_table(
         "points at '$B$9:', not at one cell; point it at the value cell again in the Name "
         "Manager"
     }
+
+
+def _speed_limit_named_on(sheet: str) -> Callable[[Any], None]:
+    """The speed limit's name defined on one sheet (sheet scope), not for the workbook."""
+
+    def edit(wb: Any) -> None:
+        from wzq.io.workbook.writer import replace_sheets
+
+        replace_sheets(wb)  # the output sheets of a run, as after `wzq run`
+        del wb.defined_names["site_speed_limit"]
+        wb[sheet].defined_names["site_speed_limit"] = DefinedName(
+            "site_speed_limit", attr_text="Site!$B$9"
+        )
+
+    return edit
+
+
+def test_a_name_defined_on_an_input_sheet_is_read(kestrel: bytes) -> None:
+    plan = read(kestrel, _speed_limit_named_on("Site"))
+    assert isinstance(plan, Plan), plan
+    assert plan.site.speed_limit == pytest.approx(65 * 0.44704)  # mi/h, NIST SP 811 B.8
+    assert plan.locations["site.speed_limit"] == "Site!B9"
+
+
+def test_a_name_defined_only_on_an_output_sheet_is_missing(kestrel: bytes) -> None:
+    # wzq replaces its output sheets on every run, and their names with them
+    assert read(kestrel, _speed_limit_named_on("Results")) == {
+        "Site (name site_speed_limit)": "the defined name site_speed_limit (Speed limit) is "
+        "missing; restore it in the Name Manager pointing at its value cell, or copy your "
+        "inputs into a fresh workbook from `wzq new`"
+    }
