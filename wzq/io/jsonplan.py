@@ -385,14 +385,51 @@ def load_plan(path: str | Path) -> Plan:
     """Read a JSON plan file."""
     path = Path(path)
     try:
-        data = json.loads(path.read_text(encoding="utf-8"))
+        data = json.loads(path.read_text(encoding="utf-8"), object_pairs_hook=_Object)
     except (OSError, UnicodeDecodeError) as e:
         raise PlanError([Problem(str(path), f"cannot read the file: {e}")]) from None
     except json.JSONDecodeError as e:
         raise PlanError(
             [Problem(f"{path.name}: line {e.lineno}", f"not valid JSON ({e.msg}); fix the syntax")]
         ) from None
+    twice = _given_twice(data, "")
+    if twice:
+        raise PlanError([Problem(f"{path.name}: {key}", message) for key, message in twice])
     return plan_from_dict(data, path.name, path.parent)
+
+
+class _Object(dict[str, Any]):
+    """A JSON object that remembers the keys given twice in it: JSON readers keep the
+    last value of a repeated key without a word, so a key typed twice would be read as
+    one of the two values unseen."""
+
+    def __init__(self, pairs: list[tuple[str, Any]]) -> None:
+        super().__init__()
+        self.twice: list[tuple[str, Any, Any]] = []
+        for key, value in pairs:
+            if key in self:
+                self.twice.append((key, self[key], value))
+            self[key] = value
+
+
+def _given_twice(x: Any, path: str) -> list[tuple[str, str]]:
+    """(key path, message) for every key given twice in one object, anywhere in ``x``."""
+    out: list[tuple[str, str]] = []
+    if isinstance(x, _Object):
+        for key, first, then in x.twice:
+            out.append(
+                (
+                    f"{path}.{key}" if path else key,
+                    f"given twice ({json.dumps(first)[:40]}, then {json.dumps(then)[:40]}) "
+                    "in one object; keep the one you mean",
+                )
+            )
+        for key, value in x.items():
+            out += _given_twice(value, f"{path}.{key}" if path else key)
+    elif isinstance(x, list):
+        for i, value in enumerate(x):
+            out += _given_twice(value, f"{path}[{i}]")
+    return out
 
 
 def _iso(t: dt.datetime) -> str:

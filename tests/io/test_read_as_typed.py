@@ -1,0 +1,47 @@
+"""Realistic inputs that were read as something else without a word, now refused or queried.
+
+Each test types one mistake a designer in a hurry makes (or a spreadsheet program
+stores) into a plan and checks that the tool names where it was typed. The plans
+are the invented Kestrel Ridge example, typed into a fresh template through its
+names and tables (``tests/workbook_helpers.py``) or edited as JSON.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from wzq import PlanError
+from wzq.io.jsonplan import load_plan
+
+EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
+KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"
+
+
+def kestrel_json() -> dict:
+    return json.loads(KESTREL.read_text(encoding="utf-8"))
+
+
+def problems_of(path: Path) -> list[str]:
+    with pytest.raises(PlanError) as e:
+        load_plan(path)
+    return [f"{p.where}: {p.message}" for p in e.value.problems]
+
+
+# ---------------------------------------------------------------------------------------------
+# JSON plans edited by hand
+# ---------------------------------------------------------------------------------------------
+
+
+def test_a_key_given_twice_in_a_json_object_is_refused_naming_both_values(tmp_path: Path) -> None:
+    """A second "lanes_closed" typed into a closure: JSON readers keep the last silently."""
+    text = json.dumps(kestrel_json(), indent=1).replace(
+        '"lanes_closed": 1,', '"lanes_closed": 1, "lanes_closed": 2,', 1
+    )
+    path = tmp_path / "twice.json"
+    path.write_text(text, encoding="utf-8")
+    (msg,) = problems_of(path)
+    assert msg.startswith("twice.json: closures[0].lanes_closed:")
+    assert "given twice (1, then 2)" in msg
