@@ -45,3 +45,13 @@ def test_a_key_given_twice_in_a_json_object_is_refused_naming_both_values(tmp_pa
     (msg,) = problems_of(path)
     assert msg.startswith("twice.json: closures[0].lanes_closed:")
     assert "given twice (1, then 2)" in msg
+
+
+def test_a_time_zone_in_a_json_date_time_is_refused(tmp_path: Path) -> None:
+    data = kestrel_json()
+    data["closures"][0]["start"] = "2027-05-03T21:00+02:00"
+    path = tmp_path / "zone.json"
+    path.write_text(json.dumps(data), encoding="utf-8")
+    (msg,) = problems_of(path)
+    assert msg.startswith("zone.json: closures[0].start:")
+    assert "time zone" in msg and "2027-05-03T21:00" in msg

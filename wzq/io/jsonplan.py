@@ -149,10 +149,18 @@ class _Reader:
         try:
             if not isinstance(v, str):
                 raise ValueError
-            return parse_datetime(v)
+            when = parse_datetime(v)
         except ValueError:
             self.bad(f"{path}.{key}", f"expected a date-time like 2027-05-03T21:00, got {v!r}")
             return dt.datetime(2000, 1, 1)
+        if when.tzinfo is not None:  # the plan is in the site's clock time throughout
+            self.bad(
+                f"{path}.{key}",
+                f"{v!r} has a time zone; give the site's local clock time without it, "
+                f"like {when.replace(tzinfo=None).isoformat(timespec='minutes')}",
+            )
+            return dt.datetime(2000, 1, 1)
+        return when
 
 
 def _read_section(r: _Reader, d: dict[str, Any], section: str, system: str) -> dict[str, Any]:
