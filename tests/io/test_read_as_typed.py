@@ -55,3 +55,16 @@ def test_a_time_zone_in_a_json_date_time_is_refused(tmp_path: Path) -> None:
     (msg,) = problems_of(path)
     assert msg.startswith("zone.json: closures[0].start:")
     assert "time zone" in msg and "2027-05-03T21:00" in msg
+
+
+def test_a_fraction_typed_for_a_json_percentage_is_queried(tmp_path: Path) -> None:
+    """0.08 for 8 % heavy vehicles: read as typed (0.08 %), and said, as in a workbook."""
+    data = kestrel_json()
+    data["site"]["heavy_vehicle_percent"] = 0.08
+    path = tmp_path / "fraction.json"
+    path.write_text(json.dumps(data), encoding="utf-8")
+    plan = load_plan(path)
+    assert plan.site.heavy_vehicle_share == pytest.approx(0.0008)
+    (w,) = plan.input_warnings
+    assert w.startswith("site.heavy_vehicle_percent: ")
+    assert "0.08 %: did you mean 8 %?" in w

@@ -102,6 +102,7 @@ class _Reader:
     def __init__(self, source: str) -> None:
         self.source = source
         self.problems: list[Problem] = []
+        self.notes: list[str] = []  # values read as typed that may not be meant so
 
     def where(self, key: str) -> str:
         return f"{self.source}: {key}"
@@ -177,6 +178,12 @@ def _read_section(r: _Reader, d: dict[str, Any], section: str, system: str) -> d
             value = r.text(d, key, section, f.json_default)
         else:
             x = r.number(d, key, section, f.json_default, lo=f.json_lo)
+            if x is not None and f.looks_like_fraction(x):
+                r.notes.append(
+                    f"{section}.{key}: {f.label} is {x:g} %: did you mean {x * 100:g} %? "
+                    f"Percentages are given as numbers of percent ({x * 100:g} for "
+                    f"{x * 100:g} %); ignore this if {x:g} % is right"
+                )
             value = (int(x) if np.isfinite(x) else 0) if f.kind == "int" else x
             value = F.to_plan(f, value, system)
         out[f.attribute.split(".", 1)[1]] = value
@@ -339,6 +346,7 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
             history=history,
             risk=risk,
             approach=approach,
+            input_warnings=tuple(r.notes),
         )
     except PlanError as e:
         raise PlanError([Problem(f"{source}: {p.where}", p.message) for p in e.problems]) from None

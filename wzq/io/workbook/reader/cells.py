@@ -29,7 +29,6 @@ from wzq.io.workbook.reader.values import (
     DAY,
     DAYS_IN_1900,
     FIRST_YEAR,
-    FRACTION_GROWTH,
     LAST_YEAR,
     MAX_SERIAL,
     _blank,
@@ -315,8 +314,7 @@ class CellReader:
 
     def fraction_hint(self, x: float, field: F.Field, where: str) -> None:
         """Warn when a percentage typed in a plain cell looks like a fraction (0.08 for 8 %)."""
-        small = abs(x) < FRACTION_GROWTH if field.unit != "%" else 0 < x <= 1
-        if x and small:
+        if field.looks_like_fraction(x):
             self.note(
                 where,
                 f"{field.label} is {_fmt(x)} %: did you mean {_fmt(x * 100)} %? Percentages "

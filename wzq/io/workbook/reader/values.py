@@ -44,9 +44,7 @@ FIRST_YEAR, LAST_YEAR = 1900, 2199
 #: Serial numbers below this are days of 1900: a small number typed where a date or
 #: time belongs, never a closure date (common practice, no source).
 DAYS_IN_1900 = 367
-#: A growth rate in percent per year smaller than this (in size) looks like a fraction
-#: typed for a percentage (0.02 for 2 %) (common practice, no source).
-FRACTION_GROWTH = 0.1
+FRACTION_GROWTH = F.FRACTION_GROWTH
 
 _MISSING = object()  # a value that could not be read (its problem is already recorded)
 _ISO_DATE = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})$")
