@@ -8,16 +8,30 @@ names and tables (``tests/workbook_helpers.py``) or edited as JSON.
 
 from __future__ import annotations
 
+import datetime as dt
 import json
 from pathlib import Path
+from typing import Any
 
 import pytest
+from workbook_helpers import edited, fill_template, table_cell
 
 from wzq import PlanError
 from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout as L
+from wzq.io.workbook.reader import read_plan
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 KESTREL = EXAMPLES / "kestrel_ridge_weeknight.json"
+
+
+@pytest.fixture(scope="module")
+def kestrel_book(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    return fill_template(load_plan(KESTREL), tmp_path_factory.mktemp("k") / "kestrel.xlsx")
+
+
+def warnings_of(book: Path, tmp_path: Path, edit: Any) -> list[str]:
+    return list(read_plan(edited(book, tmp_path, edit)).input_warnings)
 
 
 def kestrel_json() -> dict:
@@ -68,3 +82,34 @@ def test_a_fraction_typed_for_a_json_percentage_is_queried(tmp_path: Path) -> No
     (w,) = plan.input_warnings
     assert w.startswith("site.heavy_vehicle_percent: ")
     assert "0.08 %: did you mean 8 %?" in w
+
+
+# ---------------------------------------------------------------------------------------------
+# Workbooks
+# ---------------------------------------------------------------------------------------------
+
+
+def test_counts_typed_past_midnight_without_the_next_date_are_queried(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    """Each day's counts typed from 06:00 to 05:00 with the day's date on every row: the
+    rows after midnight (next morning's counts) are read as the early morning of the date
+    typed. The rows make a whole grid, so nothing else says so."""
+    date_h, time_h, _ = L.DEMAND_COLUMNS
+
+    def six_to_six(wb: Any) -> None:
+        for i in range(72):
+            day, hour = divmod(i, 24)
+            table_cell(wb, L.DEMAND_TABLE, i, date_h).value = dt.datetime(2027, 5, 3 + day)
+            table_cell(wb, L.DEMAND_TABLE, i, time_h).value = dt.time((hour + 6) % 24)
+
+    found = [w for w in warnings_of(kestrel_book, tmp_path, six_to_six) if "past midnight" in w]
+    # the first 00:00 row is the 19th data row (06:00 + 18 h), sheet row 9 + 18 = 27
+    assert len(found) == 1
+    assert found[0].startswith("Demand!B27: ")
+    assert "Mon 2027-05-03 00:00" in found[0] and "row 26" in found[0]
+    assert "2027-05-04" in found[0] and "(3 places in all)" in found[0]
+
+
+def test_counts_in_time_order_across_midnight_are_not_queried(kestrel_book: Path) -> None:
+    assert not [w for w in read_plan(kestrel_book).input_warnings if "past midnight" in w]

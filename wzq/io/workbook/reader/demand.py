@@ -216,6 +216,7 @@ class DemandReader:
     def demand_grid(self, t: _Table, entries: list[tuple[dt.datetime, float, int]]) -> Any:
         """Check the rows form one regular grid from the hour to the hour; build the demand."""
         c_time = L.DEMAND_COLUMNS[1]
+        self.date_not_turned(t, entries)
         entries.sort(key=lambda e: e[0])
         before = len(self.problems)
         seen: dict[dt.datetime, int] = {}
@@ -273,6 +274,29 @@ class DemandReader:
             return None
         self._demand_rows = [self.where(t, row, L.DEMAND_COLUMNS[2]) for _, _, row in unique]
         return Demand(first[0], interval, np.array([e[1] for e in unique]))
+
+    def date_not_turned(self, t: _Table, entries: list[tuple[dt.datetime, float, int]]) -> None:
+        """Warn where a row typed right below the day's last interval starts at 00:00 of the
+        same date: counts running past midnight typed without the next date, which the
+        rows, read in time order, put in the early morning of the date typed."""
+        hour = dt.timedelta(hours=1)
+        turned = [
+            (before, after)
+            for before, after in pairwise(entries)
+            if after[0].date() == before[0].date()
+            and dt.timedelta(0) < after[0] + dt.timedelta(days=1) - before[0] <= hour
+        ]
+        if not turned:
+            return
+        (was, _, r0), (when, _, r1) = turned[0]
+        more = f" ({len(turned)} places in all)" if len(turned) > 1 else ""
+        self.note(
+            self.where(t, r1, L.DEMAND_COLUMNS[1]),
+            f"this row is typed right below {_when(was)} (row {r0}) but keeps its date, so "
+            f"it is read as {_when(when)}, the early morning of that day{more}; if these "
+            f"counts run past midnight, type the next date "
+            f"({when + dt.timedelta(days=1):%Y-%m-%d}) from this row on",
+        )
 
     def demand_from_aadt(self) -> Demand | None:
         v = {f.name: self.field(f) for f in F.AADT_FIELDS}
