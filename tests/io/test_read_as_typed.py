@@ -14,7 +14,8 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from workbook_helpers import edited, fill_template, table_cell
+from openpyxl.worksheet.table import Table
+from workbook_helpers import edited, fill_template, find_table, set_named, table_cell
 
 from wzq import PlanError
 from wzq.io.jsonplan import load_plan
@@ -113,3 +114,48 @@ def test_counts_typed_past_midnight_without_the_next_date_are_queried(
 
 def test_counts_in_time_order_across_midnight_are_not_queried(kestrel_book: Path) -> None:
     assert not [w for w in read_plan(kestrel_book).input_warnings if "past midnight" in w]
+
+
+def copy_of_sheet(title: str, table_name: str | None) -> Any:
+    """Copy the Demand sheet as a spreadsheet program does ("Demand (2)" in Excel,
+    "Demand_2" in LibreOffice; Excel renames the copied table DemandTable2) and type
+    20 % more traffic on the copy."""
+
+    def edit(wb: Any) -> None:
+        ws, t = find_table(wb, L.DEMAND_TABLE)
+        copy = wb.copy_worksheet(ws)
+        copy.title = title
+        if table_name:
+            copy.add_table(Table(displayName=table_name, ref=t.ref))
+        for i in range(72):
+            cell = copy.cell(table_cell(wb, L.DEMAND_TABLE, i, L.DEMAND_COLUMNS[2]).row, 3)
+            cell.value = round(cell.value * 1.2)
+
+    return edit
+
+
+@pytest.mark.parametrize(
+    ("title", "table_name"), [("Demand (2)", "DemandTable2"), ("Demand_2", None)]
+)
+def test_a_copy_of_an_input_sheet_is_named_as_not_read(
+    kestrel_book: Path, tmp_path: Path, title: str, table_name: str | None
+) -> None:
+    """The designer edits the copy; the plan is still read from 'Demand' (as it must be),
+    and a warning says that the copy is not."""
+    path = edited(kestrel_book, tmp_path, copy_of_sheet(title, table_name))
+    plan = read_plan(path)
+    assert plan.demand.flows_veh_h[7] == 5200  # the Demand sheet's own 07:00 count
+    found = [w for w in plan.input_warnings if "copy" in w]
+    assert len(found) == 1
+    assert found[0].startswith(f"sheet '{title}': ")
+    assert "'Demand'" in found[0] and "not read" in found[0]
+
+
+def test_a_copy_of_the_count_history_read_as_the_counts_is_not_queried(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    def edit(wb: Any) -> None:
+        wb.copy_worksheet(wb[L.COUNTS]).title = "Count history (2)"
+        set_named(wb, "history_file_sheet", "Count history (2)")
+
+    assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "copy" in w]

@@ -30,6 +30,18 @@ from wzq.io.workbook.reader.values import (
     cell_ref,
 )
 
+#: How spreadsheet programs name the copy of a sheet ("Demand (2)", "Demand_2") and of
+#: the table it holds ("DemandTable2", "DemandTable_2").
+_COPY_TITLE = re.compile(r"(.+?)(?:\s*\(\d+\)|_\d+)")
+_COPY_TABLE = re.compile(r"(.+?)_?\d+")
+_INPUT_TABLES = (
+    L.DEMAND_TABLE,
+    L.SHARE_TABLE,
+    L.CLOSURE_TABLE,
+    L.LANDMARK_TABLE,
+    L.RAMP_FLOW_TABLE,
+)
+
 __all__ = [
     "PlanReader",
 ]
@@ -60,6 +72,7 @@ class PlanReader:
         self.check_speeds(values)
         self.check_congested_branch(values)
         self.check_sheet_names()
+        self.copied_sheets()
         costs = self.costs()
         demand = self.demand(values.get("site_lanes"))
         risk = self.risk_options(self._history is not None)
@@ -89,6 +102,35 @@ class PlanReader:
                     f"sheet '{ws.title}'",
                     "this sheet of yours has the name of a sheet wzq writes its results to "
                     f"({names}), so `wzq run` would have to replace it; rename it",
+                )
+
+    def copied_sheets(self) -> None:
+        """Warn about a copy of an input sheet ("Demand (2)" as Excel names it, "Demand_2"
+        as LibreOffice does) or a sheet holding a copy of an input table ("DemandTable2"):
+        only the input sheet itself is read, so values typed on the copy are not used."""
+        counts = self.peek("history_file_sheet")
+        counts_on = str(counts[0].cell(*counts[1:]).value or "").strip().casefold()
+        inputs = {n.casefold(): n for n in L.INPUT_SHEETS}
+        tables = {n.casefold(): n for n in _INPUT_TABLES}
+        for ws in self.wb.worksheets:
+            title = ws.title
+            if title in L.INPUT_SHEETS or title in L.OUTPUT_SHEETS:
+                continue
+            if counts and title.strip().casefold() == counts_on:
+                continue  # a sheet chosen to hold the count history is read
+            m = _COPY_TITLE.fullmatch(title.strip())
+            home = inputs.get(m.group(1).casefold()) if m else None
+            for name in ws.tables:
+                m = _COPY_TABLE.fullmatch(name)
+                table = tables.get(m.group(1).casefold()) if m else None
+                found = self.find_table(table) if table and home is None else None
+                home = found[0].title if found else home
+            if home is not None:
+                self.note(
+                    f"sheet '{title}'",
+                    f"this sheet looks like a copy of the input sheet '{home}' and is not "
+                    f"read: the plan is read from '{home}' only; type your changes there, "
+                    "or delete the copy",
                 )
 
     def explain_below(self, problems: list[Problem]) -> list[Problem]:
