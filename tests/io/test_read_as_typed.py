@@ -18,6 +18,7 @@ from openpyxl.worksheet.table import Table
 from workbook_helpers import edited, fill_template, find_table, set_named, table_cell
 
 from wzq import PlanError
+from wzq.engine.warnings import input_warnings
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.reader import read_plan
@@ -159,3 +160,32 @@ def test_a_copy_of_the_count_history_read_as_the_counts_is_not_queried(
         set_named(wb, "history_file_sheet", "Count history (2)")
 
     assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "copy" in w]
+
+
+def override_warnings(book: Path, tmp_path: Path, per_lane: float) -> list[str]:
+    def edit(wb: Any) -> None:
+        table_cell(wb, L.CLOSURE_TABLE, 0, "Capacity override (veh/h/ln)").value = per_lane
+
+    plan = read_plan(edited(book, tmp_path, edit))
+    return [w for w in input_warnings(plan) if "override" in w]
+
+
+def test_a_capacity_override_typed_for_the_direction_is_queried(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    """Night 1 closes one of three lanes; the designer types 2,800 veh/h meaning the
+    direction (two open lanes at 1,400). Per open lane that is above the open road's own
+    capacity: 2,400 pc/h/ln for a basic freeway segment with a free-flow speed of 70 mi/h
+    or more (HCM 7th ed., Ch. 12, Eq. 12-6), with 8 % heavy vehicles on level terrain
+    (E_T = 2, Exhibit 12-25; f_HV = 1 / (1 + 0.08) by Eq. 12-10) 2,400 / 1.08 = 2,222
+    veh/h/ln (values from memory)."""
+    (w,) = override_warnings(kestrel_book, tmp_path, 2800)
+    assert w.startswith("Closures!G6: ")  # the override cell of the first closure
+    assert "2,800 veh/h/ln" in w and "(2,222 veh/h/ln)" in w
+    assert "per open lane; if 2,800 veh/h is for the 2 open lanes together, type 1,400" in w
+
+
+def test_a_work_zone_capacity_override_per_lane_is_not_queried(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    assert override_warnings(kestrel_book, tmp_path, 1400) == []

@@ -30,6 +30,7 @@ __all__ = [
     "above_open_road",
     "demand_key",
     "near_zero_demand",
+    "override_above_open_road",
     "site_ranges",
     "warnings",
 ]
@@ -130,6 +131,35 @@ def above_open_road(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     ]
 
 
+def override_above_open_road(plan: Plan, open_capacity_veh_h: float) -> list[str]:
+    """A closure's capacity override above the open road's own capacity per lane.
+
+    The override is per open lane; a work zone carries less per lane than the open
+    road, so a value above the open road's is most likely typed for all the open
+    lanes together (the direction's capacity).
+    """
+    lanes = plan.site.lanes
+    per_lane = open_capacity_veh_h / lanes
+    out = []
+    for i, c in enumerate(plan.closures):
+        x = c.capacity_override_veh_h_ln
+        if x is None or x <= per_lane * (1 + 1e-9):
+            continue
+        n_open = lanes - c.lanes_closed
+        together = (
+            f"; if {x:,.0f} veh/h is for the {n_open} open lanes together, type {x / n_open:,.0f}"
+            if n_open > 1
+            else ""
+        )
+        out.append(
+            f"{plan.where(f'closures[{i}].capacity_override_veh_h_ln')}: the capacity override "
+            f"{x:,.0f} veh/h/ln of closure {i + 1} ({_when(c.start)}) is above the open "
+            f"road's own capacity ({per_lane:,.0f} veh/h/ln); the override is per open "
+            f"lane{together}"
+        )
+    return out
+
+
 def site_ranges(plan: Plan) -> list[str]:
     """Site values outside the range of the published model that uses them."""
     s = plan.site
@@ -163,5 +193,6 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     return [
         *site_ranges(plan),
         *above_open_road(plan, open_capacity_veh_h),
+        *override_above_open_road(plan, open_capacity_veh_h),
         *near_zero_demand(plan),
     ]

@@ -96,6 +96,7 @@ class ClosureReader:
                 latest = (b, rb)
         self._closure_rows = [self.where(t, row, c_date) for _, row in found]
         self._closure_notes = [self.where(t, row, c_note) for _, row in found]
+        self._closure_overrides = [self.where(t, row, c_override) for _, row in found]
         return [c for c, _ in found] if ok else None
 
     def closure_end(self, v: Any, start: Any, where: str) -> Any:

@@ -168,6 +168,8 @@ class PlanReader:
         for i, (row, note) in enumerate(zip(self._closure_rows, self._closure_notes, strict=False)):
             out[f"closures[{i}]"] = row
             out[f"closures[{i}].note"] = note
+        for i, where in enumerate(self._closure_overrides):
+            out[f"closures[{i}].capacity_override_veh_h_ln"] = where
         out.update(self.approach_locations())
         return out
 
