@@ -189,3 +189,20 @@ def test_a_work_zone_capacity_override_per_lane_is_not_queried(
     kestrel_book: Path, tmp_path: Path
 ) -> None:
     assert override_warnings(kestrel_book, tmp_path, 1400) == []
+
+
+def test_a_closure_ending_at_its_own_start_time_is_queried(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    """To typed as 21:00 like From (a slip for 05:00): a To at or before From ends the next
+    day, so the closure is read as 24 hours, Mon 21:00 to Tue 21:00, which is said."""
+
+    def edit(wb: Any) -> None:
+        table_cell(wb, L.CLOSURE_TABLE, 0, "To").value = dt.time(21, 0)
+
+    path = edited(kestrel_book, tmp_path, edit)
+    plan = read_plan(path)
+    assert plan.closures[0].end == dt.datetime(2027, 5, 4, 21)
+    (w,) = [w for w in plan.input_warnings if "same time as From" in w]
+    assert w.startswith("Closures!C6: ")
+    assert "24 hours, to Tue 2027-05-04 21:00" in w

@@ -118,6 +118,13 @@ class ClosureReader:
             return c
         day = dt.datetime.combine(start.date(), dt.time())
         end = day + dt.timedelta(seconds=c.seconds)
+        if end == start:  # To typed as From: a whole day, or a slip for another time
+            self.note(
+                where,
+                f"To is the same time as From ({start:%H:%M}): read as a closure of 24 hours, "
+                f"to {_when(end + dt.timedelta(days=1))} (a To at or before From ends the "
+                "next day); if the closure is shorter, correct To",
+            )
         if end <= start:
             end += dt.timedelta(days=1)
         return end
