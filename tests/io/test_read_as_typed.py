@@ -206,3 +206,45 @@ def test_a_closure_ending_at_its_own_start_time_is_queried(
     (w,) = [w for w in plan.input_warnings if "same time as From" in w]
     assert w.startswith("Closures!C6: ")
     assert "24 hours, to Tue 2027-05-04 21:00" in w
+
+
+def aadt_warnings(book: Path, tmp_path: Path, year: int, growth: float) -> list[str]:
+    """AADT 40,000 counted in ``year``, grown ``growth`` % a year to 2027-05-01."""
+
+    def edit(wb: Any) -> None:
+        values = {
+            "demand_mode": "from AADT",
+            "aadt_value": 40_000,
+            "aadt_count_year": year,
+            "aadt_growth_percent": growth,
+            "aadt_direction_percent": 55,
+            "aadt_first_day": dt.datetime(2027, 5, 1),
+            "aadt_days": 5,
+        }
+        for name, value in values.items():
+            set_named(wb, name, value)
+
+    plan = read_plan(edited(book, tmp_path, edit))
+    return [w for w in plan.input_warnings if w.startswith("Demand!F9") or "growth" in w]
+
+
+def test_an_aadt_counted_after_the_plan_is_queried(kestrel_book: Path, tmp_path: Path) -> None:
+    """2029 typed for 2024: the AADT is taken back two years (divided by 1.02^2)."""
+    (w,) = aadt_warnings(kestrel_book, tmp_path, 2029, 2)
+    assert w.startswith("Demand!F9: ")  # Year of the count
+    assert "2029 is after the year of the first day (2027)" in w and "2 years" in w
+
+
+def test_an_unusual_traffic_growth_is_queried(kestrel_book: Path, tmp_path: Path) -> None:
+    """20 typed for 2.0 % a year: over the 3 years from 2024 to 2027 the AADT grows by
+    1.2^3 - 1 = 72.8 % instead of 1.02^3 - 1 = 6.1 %."""
+    (w,) = aadt_warnings(kestrel_book, tmp_path, 2024, 20)
+    assert w.startswith("Demand!F10: ")  # Traffic growth
+    assert "20 % a year" in w and "73 % in all over 3 years" in w
+
+
+def test_a_usual_growth_from_an_earlier_count_is_not_queried(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    assert aadt_warnings(kestrel_book, tmp_path, 2024, 2) == []
+    assert aadt_warnings(kestrel_book, tmp_path, 2027, 20) == []  # counted the same year

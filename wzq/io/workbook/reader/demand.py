@@ -35,8 +35,14 @@ from wzq.io.workbook.reader.values import (
 from wzq.models.demand import hourly_from_aadt
 
 __all__ = [
+    "UNUSUAL_GROWTH_PERCENT",
     "DemandReader",
 ]
+
+#: Traffic growth larger than this in size (percent per year) is queried: a few percent a
+#: year is usual, and 20 is a slip for 2.0 more often than a forecast (common practice,
+#: no source).
+UNUSUAL_GROWTH_PERCENT = 10.0
 
 
 class DemandReader:
@@ -304,6 +310,7 @@ class DemandReader:
         if any(x is _MISSING for x in v.values()) or shares is None:
             return None
         first: dt.date = v["aadt_first_day"]
+        self.aadt_years(v["aadt_count_year"], v["aadt_growth_percent"] or 0.0, first.year)
         weekday, weekend = shares
         flows = hourly_from_aadt(
             v["aadt_value"],
@@ -317,6 +324,26 @@ class DemandReader:
         )
         self._demand_rows = [self.where_of["aadt_value"]] * len(flows)
         return Demand(dt.datetime.combine(first, dt.time()), 3600, np.array(flows))
+
+    def aadt_years(self, year: int, growth: float, plan_year: int) -> None:
+        """Query a count year after the plan's (the AADT taken back in time) and a growth
+        rate above :data:`UNUSUAL_GROWTH_PERCENT` over the years it is applied."""
+        if year > plan_year:
+            self.note(
+                self.where_of.get("aadt_count_year", "aadt_count_year"),
+                f"Year of the count {year} is after the year of the first day ({plan_year}): "
+                f"the AADT is taken back {year - plan_year} year{'s' * (year - plan_year > 1)} "
+                f"at {_fmt(growth)} % a year; check the year, unless the AADT is a forecast",
+            )
+        years = plan_year - year
+        if years > 0 and abs(growth) > UNUSUAL_GROWTH_PERCENT:
+            total = ((1 + growth / 100.0) ** years - 1) * 100.0
+            self.note(
+                self.where_of.get("aadt_growth_percent", "aadt_growth_percent"),
+                f"Traffic growth {_fmt(growth)} % a year is unusual: {total:,.0f} % in all "
+                f"over {years} year{'s' * (years > 1)} from the count ({year}); check the "
+                "value (a few % a year is usual)",
+            )
 
     def hourly_shares(self) -> tuple[list[float], list[float]] | None:
         t = self.table(L.SHARE_TABLE)
