@@ -19,6 +19,7 @@ from workbook_helpers import edited, fill_template, find_table, set_named, table
 
 from wzq import PlanError
 from wzq.engine.warnings import input_warnings
+from wzq.io import counts as C
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.reader import read_plan
@@ -248,3 +249,34 @@ def test_a_usual_growth_from_an_earlier_count_is_not_queried(
 ) -> None:
     assert aadt_warnings(kestrel_book, tmp_path, 2024, 2) == []
     assert aadt_warnings(kestrel_book, tmp_path, 2027, 20) == []  # counted the same year
+
+
+# ---------------------------------------------------------------------------------------------
+# Count files
+# ---------------------------------------------------------------------------------------------
+
+PROFILE = [100 + 37 * h for h in range(24)]  # all different, so a shifted hour shows
+
+
+@pytest.mark.parametrize("time_column", [False, True])
+def test_counts_stamped_at_the_end_of_each_hour_read_as_starts_are_refused(
+    time_column: bool,
+) -> None:
+    """Hourly counts stamped 01:00 ... 24:00 (the end of each hour, as many counters
+    write them), read with the default start stamps: every count would move an hour
+    later. 24:00 cannot start an interval, so the file is refused at its line."""
+    rows = ["date;time;vehicles" if time_column else "time,vehicles"]
+    for day in (4, 5):
+        for h, v in enumerate(PROFILE):
+            rows.append(
+                f"2026-05-0{day};{h + 1:02d}:00;{v}"
+                if time_column
+                else f"2026-05-0{day} {h + 1:02d}:00,{v}"
+            )
+    with pytest.raises(PlanError) as e:
+        C.read_csv_text("\n".join(rows), "c.csv")
+    (p,) = e.value.problems
+    assert p.where.startswith("c.csv line 25")  # the first 24:00, the 24th count
+    assert "24:00" in p.message and "end of its interval" in p.message
+    ends = C.read_csv_text("\n".join(rows), "c.csv", stamp="end").history
+    assert ends.flows_veh_h[0].tolist() == PROFILE  # read as ends: 00:00-01:00 carries 100
