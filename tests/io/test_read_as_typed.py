@@ -280,3 +280,34 @@ def test_counts_stamped_at_the_end_of_each_hour_read_as_starts_are_refused(
     assert "24:00" in p.message and "end of its interval" in p.message
     ends = C.read_csv_text("\n".join(rows), "c.csv", stamp="end").history
     assert ends.flows_veh_h[0].tolist() == PROFILE  # read as ends: 00:00-01:00 carries 100
+
+
+# ---------------------------------------------------------------------------------------------
+# Hidden columns and rows outside the tables
+# ---------------------------------------------------------------------------------------------
+
+
+def test_values_in_a_hidden_table_column_are_read_and_said(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    """A capacity override typed for Night 2, then its column hidden (to print the sheet
+    narrower): the override is used, unseen; a warning names it."""
+
+    def edit(wb: Any) -> None:
+        table_cell(wb, L.CLOSURE_TABLE, 1, "Capacity override (veh/h/ln)").value = 1900
+        wb[L.CLOSURES].column_dimensions["G"].hidden = True
+
+    plan = read_plan(edited(kestrel_book, tmp_path, edit))
+    assert plan.closures[1].capacity_override_veh_h_ln == 1900
+    (w,) = [w for w in plan.input_warnings if "hidden" in w]
+    assert w.startswith("Closures!G7: ")
+    assert "'Capacity override (veh/h/ln)'" in w and "1 value" in w
+
+
+def test_a_hidden_table_column_left_blank_is_not_queried(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    def edit(wb: Any) -> None:
+        wb[L.CLOSURES].column_dimensions["G"].hidden = True
+
+    assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "hidden" in w]
