@@ -311,3 +311,18 @@ def test_a_hidden_table_column_left_blank_is_not_queried(
         wb[L.CLOSURES].column_dimensions["G"].hidden = True
 
     assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "hidden" in w]
+
+
+def test_a_value_in_a_hidden_row_of_an_input_sheet_is_said(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    """A base capacity typed on the Site sheet, its row then hidden: read, and said."""
+
+    def edit(wb: Any) -> None:
+        cell = set_named(wb, "site_base_capacity", 2000)
+        wb[L.SITE].row_dimensions[cell.row].hidden = True
+
+    plan = read_plan(edited(kestrel_book, tmp_path, edit))
+    assert plan.site.base_capacity_pc_h_ln == 2000
+    (w,) = [w for w in plan.input_warnings if "hidden" in w]
+    assert w.startswith("Site!B23: ")

@@ -40,6 +40,7 @@ from wzq.io.workbook.reader.values import (
     _show,
     cell_ref,
     destinations,
+    hidden_column,
 )
 from wzq.io.workbook.saved_values import SharedStrings, typed
 
@@ -261,9 +262,14 @@ class CellReader:
             return _MISSING
         ws, row, col = loc
         where = cell_ref(ws.title, row, col)
-        return self.convert(
-            self.raw(ws, row, col), field, where, percent_cell=self.percent_cell(ws, row, col)
-        )
+        v = self.raw(ws, row, col)
+        if not _blank(v) and v is not _MISSING and _hidden(ws, row, col):
+            self.note(
+                where,
+                f"{field.label} is in a hidden row or column and is read as typed; unhide it "
+                "to see it, or clear it to leave it blank",
+            )
+        return self.convert(v, field, where, percent_cell=self.percent_cell(ws, row, col))
 
     # -- conversions ------------------------------------------------------------------------
 
@@ -524,3 +530,9 @@ class CellReader:
             f"{label}: {_fmt(x)} is a number, not {what} (a spreadsheet reads it as "
             f"{_fmt(x)} days after its day zero, {day:%Y-%m-%d}){guess}",
         )
+
+
+def _hidden(ws: Worksheet, row: int, col: int) -> bool:
+    """The cell's row or column is hidden."""
+    dims = ws.row_dimensions.get(row)
+    return bool(dims is not None and dims.hidden) or hidden_column(ws, col)

@@ -20,11 +20,11 @@ from wzq.io.workbook.reader.values import (
     _Table,
     cell_ref,
     destinations,
+    hidden_column,
 )
 
 __all__ = [
     "TableReader",
-    "hidden_column",
 ]
 
 
@@ -293,8 +293,3 @@ class TableReader:
 def _column_ref(sheet: str, col: int) -> str:
     """``Demand!C``: :func:`cell_ref` without the row number."""
     return cell_ref(sheet, 1, col)[:-1]
-
-
-def hidden_column(ws: Worksheet, col: int) -> bool:
-    """Column ``col`` is hidden (openpyxl keeps one width entry for a run of columns)."""
-    return any(d.hidden and d.min <= col <= d.max for d in ws.column_dimensions.values() if d.min)

@@ -28,6 +28,7 @@ __all__ = [
     "WORKBOOK_SUFFIXES",
     "cell_ref",
     "destinations",
+    "hidden_column",
 ]
 
 #: File suffixes read as workbooks.
@@ -159,3 +160,8 @@ def _pad_iso(text: str) -> str:
     """``2027-5-3`` -> ``2027-05-03``."""
     y, m, d = text.split("-")
     return f"{y}-{int(m):02d}-{int(d):02d}"
+
+
+def hidden_column(ws: Worksheet, col: int) -> bool:
+    """Column ``col`` is hidden (openpyxl keeps one width entry for a run of columns)."""
+    return any(d.hidden and d.min <= col <= d.max for d in ws.column_dimensions.values() if d.min)
