@@ -326,3 +326,35 @@ def test_a_value_in_a_hidden_row_of_an_input_sheet_is_said(
     assert plan.site.base_capacity_pc_h_ln == 2000
     (w,) = [w for w in plan.input_warnings if "hidden" in w]
     assert w.startswith("Site!B23: ")
+
+
+@pytest.mark.parametrize(
+    ("header", "text", "said"),
+    [
+        ("Date", "Mon 2027-05-04", "2027-05-04 is a Tuesday, not a Monday"),
+        ("To", "Mon 2027-05-05 05:00", "2027-05-05 is a Wednesday, not a Monday"),
+    ],
+)
+def test_a_date_typed_with_another_days_weekday_is_refused(
+    kestrel_book: Path, tmp_path: Path, header: str, text: str, said: str
+) -> None:
+    """'Mon 2027-05-04': 4 May 2027 is a Tuesday, so the designer meant Monday 3 May or
+    Tuesday 4 May; neither can be assumed (the weekdays by the calendar of 2027)."""
+
+    def edit(wb: Any) -> None:
+        table_cell(wb, L.CLOSURE_TABLE, 1, header).value = text
+
+    with pytest.raises(PlanError) as e:
+        read_plan(edited(kestrel_book, tmp_path, edit))
+    (p,) = e.value.problems
+    col = "A" if header == "Date" else "C"
+    assert p.where == f"Closures!{col}7"
+    assert said in p.message
+
+
+def test_a_date_typed_with_its_own_weekday_is_read(kestrel_book: Path, tmp_path: Path) -> None:
+    def edit(wb: Any) -> None:
+        table_cell(wb, L.CLOSURE_TABLE, 1, "Date").value = "Tue 2027-05-04"
+
+    plan = read_plan(edited(kestrel_book, tmp_path, edit))
+    assert plan.closures[1].start == dt.datetime(2027, 5, 4, 22)

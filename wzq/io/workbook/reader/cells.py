@@ -41,6 +41,7 @@ from wzq.io.workbook.reader.values import (
     cell_ref,
     destinations,
     hidden_column,
+    other_weekday,
 )
 from wzq.io.workbook.saved_values import SharedStrings, typed
 
@@ -437,9 +438,12 @@ class CellReader:
             m = _ISO_DATE.match(v.strip())
             if m:
                 try:
-                    return dt.date.fromisoformat(_pad_iso(m.group(1)))
+                    day = dt.date.fromisoformat(_pad_iso(m.group(1)))
                 except ValueError:
                     pass
+                else:
+                    clash = other_weekday(v, day)
+                    return self.bad(where, f"{label}: {_show(v)}: {clash}") if clash else day
         return self.bad(where, f"{label}: {_show(v)} is not a date; type a date, e.g. 2027-05-03")
 
     def serial(self, x: float, label: str, where: str) -> Any:
@@ -492,6 +496,9 @@ class CellReader:
             elif md:
                 try:
                     day = dt.date.fromisoformat(_pad_iso(md.group(1)))
+                    clash = other_weekday(text, day)
+                    if clash:
+                        return self.bad(where, f"{label}: {_show(v)}: {clash}")
                     hh, mm = int(md.group(2)), int(md.group(3))
                     if mm < 60 and (hh < 24 or (hh == 24 and mm == 0)):
                         return dt.datetime.combine(day, dt.time()) + dt.timedelta(

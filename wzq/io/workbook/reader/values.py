@@ -29,6 +29,7 @@ __all__ = [
     "cell_ref",
     "destinations",
     "hidden_column",
+    "other_weekday",
 ]
 
 #: File suffixes read as workbooks.
@@ -165,3 +166,19 @@ def _pad_iso(text: str) -> str:
 def hidden_column(ws: Worksheet, col: int) -> bool:
     """Column ``col`` is hidden (openpyxl keeps one width entry for a run of columns)."""
     return any(d.hidden and d.min <= col <= d.max for d in ws.column_dimensions.values() if d.min)
+
+
+_WEEKDAYS = ("mon", "tue", "wed", "thu", "fri", "sat", "sun")
+
+
+def other_weekday(text: str, day: dt.date) -> str | None:
+    """What to say when the weekday typed before an ISO date is another day's
+    ("Mon 2027-05-04", a Tuesday: Monday the 3rd or Tuesday the 4th?), else ``None``."""
+    word = text.strip()[:3].casefold()
+    if word not in _WEEKDAYS or _WEEKDAYS.index(word) == day.weekday():
+        return None
+    typed = dt.date(2024, 1, 1 + _WEEKDAYS.index(word))  # 2024-01-01 was a Monday
+    return (
+        f"{day:%Y-%m-%d} is a {day:%A}, not a {typed:%A}; type the date you mean "
+        "(the weekday may be left out)"
+    )
