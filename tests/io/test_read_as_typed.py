@@ -358,3 +358,20 @@ def test_a_date_typed_with_its_own_weekday_is_read(kestrel_book: Path, tmp_path:
 
     plan = read_plan(edited(kestrel_book, tmp_path, edit))
     assert plan.closures[1].start == dt.datetime(2027, 5, 4, 22)
+
+
+def test_a_delay_limit_typed_in_hours_is_queried(tmp_path: Path) -> None:
+    """0.25 typed for a quarter of an hour: read as 0.25 min/veh (15 s), tighter than the
+    delay a vehicle meets just driving a 1.2 mi work zone at 55 instead of 65 mi/h
+    (1.2 x 60 / 55 - 1.2 x 60 / 65 = 0.20 min); the limit is in minutes per vehicle."""
+    data = kestrel_json()
+    data["thresholds"]["max_average_delay_min"] = 0.25
+    path = tmp_path / "hours.json"
+    path.write_text(json.dumps(data), encoding="utf-8")
+    (w,) = [w for w in input_warnings(load_plan(path)) if "delay" in w]
+    assert w.startswith("thresholds.max_average_delay_min: ")
+    assert "0.25 min/veh (15 s)" in w and "did you mean 15 min" in w
+
+
+def test_a_delay_limit_of_minutes_is_not_queried() -> None:
+    assert not [w for w in input_warnings(load_plan(KESTREL)) if "delay" in w]  # 15 min

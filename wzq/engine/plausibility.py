@@ -27,7 +27,9 @@ __all__ = [
     "MAX_LISTED",
     "NEAR_ZERO_SHARE",
     "NEIGHBOURS",
+    "SHORT_DELAY_LIMIT_S",
     "above_open_road",
+    "delay_limit_in_hours",
     "demand_key",
     "near_zero_demand",
     "override_above_open_road",
@@ -49,6 +51,9 @@ NEIGHBOURS = 2
 #: Work zones longer than this are queried as a possible unit mistake
 #: (16 km; common practice, no source).
 LONG_WORK_ZONE_MI = 10.0
+#: A limit on the average delay below this (s/veh) is queried as hours typed for
+#: minutes (common practice, no source).
+SHORT_DELAY_LIMIT_S = 60.0
 #: Warnings of one kind listed one by one before the rest are counted.
 MAX_LISTED = 5
 
@@ -160,6 +165,21 @@ def override_above_open_road(plan: Plan, open_capacity_veh_h: float) -> list[str
     return out
 
 
+def delay_limit_in_hours(plan: Plan) -> list[str]:
+    """A limit on the average delay below :data:`SHORT_DELAY_LIMIT_S`: tighter than most
+    work zones' own slowing, so more likely hours typed where minutes are asked."""
+    limit = plan.thresholds.max_average_delay
+    if limit is None or limit >= SHORT_DELAY_LIMIT_S:
+        return []
+    minutes = limit / u.MINUTE
+    return [
+        f"{plan.where('thresholds.max_average_delay_min')}: the limit on the average delay is "
+        f"{minutes:g} min/veh ({limit:,.0f} s), tighter than the slowing through most work "
+        f"zones; the limit is in minutes per vehicle: did you mean {minutes * 60:g} min "
+        f"({minutes:g} h)?"
+    ]
+
+
 def site_ranges(plan: Plan) -> list[str]:
     """Site values outside the range of the published model that uses them."""
     s = plan.site
@@ -194,5 +214,6 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *site_ranges(plan),
         *above_open_road(plan, open_capacity_veh_h),
         *override_above_open_road(plan, open_capacity_veh_h),
+        *delay_limit_in_hours(plan),
         *near_zero_demand(plan),
     ]
