@@ -375,3 +375,19 @@ def test_a_delay_limit_typed_in_hours_is_queried(tmp_path: Path) -> None:
 
 def test_a_delay_limit_of_minutes_is_not_queried() -> None:
     assert not [w for w in input_warnings(load_plan(KESTREL)) if "delay" in w]  # 15 min
+
+
+@pytest.mark.parametrize(
+    ("section", "key", "where"),
+    [("site", "lanes", "site.lanes"), ("closures", "lanes_closed", "closures[0].lanes_closed")],
+)
+def test_a_fraction_of_a_lane_in_a_json_plan_is_refused(
+    tmp_path: Path, section: str, key: str, where: str
+) -> None:
+    """1.5 lanes was cut to 1 without a word; a workbook cell refuses it."""
+    data = kestrel_json()
+    (data[section][0] if section == "closures" else data[section])[key] = 1.5
+    path = tmp_path / "half.json"
+    path.write_text(json.dumps(data), encoding="utf-8")
+    (msg,) = problems_of(path)
+    assert msg == f"half.json: {where}: must be a whole number, got 1.5"

@@ -119,7 +119,13 @@ class _Reader:
                 )
 
     def number(
-        self, d: dict[str, Any], key: str, path: str, default: Any = ..., lo: float | None = None
+        self,
+        d: dict[str, Any],
+        key: str,
+        path: str,
+        default: Any = ...,
+        lo: float | None = None,
+        whole: bool = False,
     ) -> Any:
         full = f"{path}.{key}"
         if key not in d or d[key] is None:
@@ -133,6 +139,8 @@ class _Reader:
             return float("nan") if default is ... or default is None else default
         if lo is not None and v < lo:
             self.bad(full, f"must be at least {lo}, got {v}")
+        if whole and v != int(v):  # a count of lanes, a year: never cut to a whole number
+            self.bad(full, f"must be a whole number, got {v:g}")
         return float(v)
 
     def text(self, d: dict[str, Any], key: str, path: str, default: str | None = None) -> str:
@@ -177,7 +185,7 @@ def _read_section(r: _Reader, d: dict[str, Any], section: str, system: str) -> d
         if f.kind in ("text", "choice"):
             value = r.text(d, key, section, f.json_default)
         else:
-            x = r.number(d, key, section, f.json_default, lo=f.json_lo)
+            x = r.number(d, key, section, f.json_default, lo=f.json_lo, whole=f.kind == "int")
             if x is not None and f.looks_like_fraction(x):
                 r.notes.append(
                     f"{section}.{key}: {f.label} is {x:g} %: did you mean {x * 100:g} %? "
@@ -285,7 +293,7 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
         if night is not None and not isinstance(night, bool):
             r.bad(f"{path}.night", "expected true, false or null (derived from the clock)")
             night = None
-        lc = r.number(c, "lanes_closed", path, lo=0)
+        lc = r.number(c, "lanes_closed", path, lo=0, whole=True)
         closures.append(
             Closure(
                 start=r.when(c, "start", path),
