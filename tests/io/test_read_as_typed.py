@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import datetime as dt
 import json
+import shutil
 from pathlib import Path
 from typing import Any
 
@@ -391,3 +392,17 @@ def test_a_fraction_of_a_lane_in_a_json_plan_is_refused(
     path.write_text(json.dumps(data), encoding="utf-8")
     (msg,) = problems_of(path)
     assert msg == f"half.json: {where}: must be a whole number, got 1.5"
+
+
+def test_an_unusual_growth_of_a_count_history_is_queried(tmp_path: Path) -> None:
+    """The Larkspur Vale example designs from last year's counts grown 1.5 % a year; 15
+    typed instead is queried at its cell."""
+    book = EXAMPLES / "larkspur_vale_week.xlsx"
+    shutil.copy(EXAMPLES / "larkspur_vale_eb_2026.vol", tmp_path)
+
+    def edit(wb: Any) -> None:
+        set_named(wb, "history_growth_percent", 15)
+
+    (w,) = [w for w in warnings_of(book, tmp_path, edit) if "growth" in w.casefold()]
+    assert w.startswith("Demand!K27: Traffic growth 15 % a year is unusual; check the value")
+    assert not [w for w in read_plan(book).input_warnings if "growth" in w.casefold()]

@@ -336,13 +336,23 @@ class DemandReader:
                 f"at {_fmt(growth)} % a year; check the year, unless the AADT is a forecast",
             )
         years = plan_year - year
-        if years > 0 and abs(growth) > UNUSUAL_GROWTH_PERCENT:
+        if years > 0:
             total = ((1 + growth / 100.0) ** years - 1) * 100.0
+            self.unusual_growth(
+                "aadt_growth_percent",
+                growth,
+                f": {total:,.0f} % in all over {years} year{'s' * (years > 1)} from the count "
+                f"({year})",
+            )
+
+    def unusual_growth(self, name: str, growth: float, applied: str = "") -> None:
+        """Query a growth rate above :data:`UNUSUAL_GROWTH_PERCENT` a year in size (``applied``
+        says what it comes to)."""
+        if abs(growth) > UNUSUAL_GROWTH_PERCENT:
             self.note(
-                self.where_of.get("aadt_growth_percent", "aadt_growth_percent"),
-                f"Traffic growth {_fmt(growth)} % a year is unusual: {total:,.0f} % in all "
-                f"over {years} year{'s' * (years > 1)} from the count ({year}); check the "
-                "value (a few % a year is usual)",
+                self.where_of.get(name, name),
+                f"Traffic growth {_fmt(growth)} % a year is unusual{applied}; check the value "
+                "(a few % a year is usual)",
             )
 
     def hourly_shares(self) -> tuple[list[float], list[float]] | None:
