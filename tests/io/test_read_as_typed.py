@@ -406,3 +406,29 @@ def test_an_unusual_growth_of_a_count_history_is_queried(tmp_path: Path) -> None
     (w,) = [w for w in warnings_of(book, tmp_path, edit) if "growth" in w.casefold()]
     assert w.startswith("Demand!K27: Traffic growth 15 % a year is unusual; check the value")
     assert not [w for w in read_plan(book).input_warnings if "growth" in w.casefold()]
+
+
+@pytest.mark.parametrize(
+    ("name", "key"),
+    [
+        ("site_work_intensity", "site.work_intensity_pc_h_ln"),
+        ("site_ramp_adjustment", "site.ramp_adjustment_pc_h_ln"),
+    ],
+)
+def test_an_adjustment_the_chosen_method_does_not_use_is_said(
+    kestrel_book: Path, tmp_path: Path, name: str, key: str
+) -> None:
+    """The work intensity and ramp adjustments belong to the HCM 2000 short-term method;
+    typed with the HCM 7th ed. method chosen they changed nothing, without a word."""
+
+    def edit(wb: Any) -> None:
+        set_named(wb, name, 150)
+
+    plan = read_plan(edited(kestrel_book, tmp_path, edit))
+    (w,) = [w for w in input_warnings(plan) if "not used" in w]
+    assert w.startswith(f"{plan.where(key)}: ") and plan.where(key).startswith("Site!B")
+    assert "HCM 2000" in w and "Site!B22" in w
+
+
+def test_no_adjustment_typed_is_not_said(kestrel_book: Path) -> None:
+    assert not [w for w in input_warnings(read_plan(kestrel_book)) if "not used" in w]

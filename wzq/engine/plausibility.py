@@ -23,6 +23,7 @@ __all__ = [
     "BUSY_VEH_H_LN",
     "DAY_END_HOUR",
     "DAY_START_HOUR",
+    "HCM2000_ONLY",
     "LONG_WORK_ZONE_MI",
     "MAX_LISTED",
     "NEAR_ZERO_SHARE",
@@ -34,6 +35,7 @@ __all__ = [
     "near_zero_demand",
     "override_above_open_road",
     "site_ranges",
+    "unused_by_method",
     "warnings",
 ]
 
@@ -180,6 +182,30 @@ def delay_limit_in_hours(plan: Plan) -> list[str]:
     ]
 
 
+#: Site inputs only the HCM 2000 short-term method uses (JSON key, label).
+HCM2000_ONLY = (
+    ("site.work_intensity_pc_h_ln", "work intensity adjustment"),
+    ("site.ramp_adjustment_pc_h_ln", "entrance-ramp adjustment"),
+)
+
+
+def unused_by_method(plan: Plan) -> list[str]:
+    """Adjustments typed for the HCM 2000 short-term method while another is chosen: they
+    change nothing, which the user is told rather than left to assume otherwise."""
+    s = plan.site
+    if s.capacity_method == "hcm2000":
+        return []
+    method = plan.where("site.capacity_method")
+    return [
+        f"{plan.where(key)}: the {label} ({value:g} pc/h/ln) is used by the HCM 2000 "
+        f"short-term method only, and is not used with the capacity method chosen at "
+        f"{method}; clear it, or choose that method"
+        for key, label in HCM2000_ONLY
+        for value in [getattr(s, key.split(".", 1)[1])]
+        if value
+    ]
+
+
 def site_ranges(plan: Plan) -> list[str]:
     """Site values outside the range of the published model that uses them."""
     s = plan.site
@@ -215,5 +241,6 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *above_open_road(plan, open_capacity_veh_h),
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),
+        *unused_by_method(plan),
         *near_zero_demand(plan),
     ]
