@@ -432,3 +432,21 @@ def test_an_adjustment_the_chosen_method_does_not_use_is_said(
 
 def test_no_adjustment_typed_is_not_said(kestrel_book: Path) -> None:
     assert not [w for w in input_warnings(read_plan(kestrel_book)) if "not used" in w]
+
+
+@pytest.mark.parametrize(("typed", "meant"), [(2100, "21:00"), (500, "05:00"), (130, "01:30")])
+def test_a_time_typed_without_its_colon_says_the_time(
+    kestrel_book: Path, tmp_path: Path, typed: int, meant: str
+) -> None:
+    """2100 typed for 21:00 (0500 shows as 500): a spreadsheet reads the number as a
+    day count, 2100 days after its day zero (1905-09-30); the message said only that
+    this date disagrees with Date."""
+
+    def edit(wb: Any) -> None:
+        table_cell(wb, L.CLOSURE_TABLE, 0, "From").value = typed
+
+    with pytest.raises(PlanError) as e:
+        read_plan(edited(kestrel_book, tmp_path, edit))
+    (p,) = e.value.problems
+    assert p.where == "Closures!B6"
+    assert f"did you mean {meant}?" in p.message

@@ -467,8 +467,8 @@ class CellReader:
         seconds: float | None = None
         if isinstance(v, dt.datetime):
             serial = to_excel(v, self.epoch)
-            if 2 <= serial < DAYS_IN_1900:  # a number typed in a time cell, shown as a date
-                return self.day_count(serial, label, where, clock=True)
+            if 2 <= serial < DAYS_IN_1900 or _hhmm(serial):  # a number typed in a time cell,
+                return self.day_count(serial, label, where, clock=True)  # shown as a date
             if serial >= 2:
                 return v
             if serial >= 0:
@@ -482,7 +482,7 @@ class CellReader:
                 seconds = v.total_seconds()
         elif isinstance(v, int | float) and not isinstance(v, bool):
             if v >= 2:
-                if v < DAYS_IN_1900:
+                if v < DAYS_IN_1900 or _hhmm(v):  # 2100 typed for 21:00 is a day count too
                     return self.day_count(v, label, where, clock=True)
                 return self.serial(v, label, where)  # an Excel date-time serial
             if v >= 0:
@@ -527,9 +527,10 @@ class CellReader:
         """A small number where a date or time belongs: spreadsheets read it as a day count."""
         day = from_excel(x, self.epoch)
         what = "a time" if clock else "a date"
+        meant = (f"{int(x):02d}:00" if x == int(x) and x <= 24 else _hhmm(x)) if clock else None
         guess = (
-            f"; did you mean {int(x):02d}:00? Type it with the colon"
-            if clock and x == int(x) and x <= 24
+            f"; did you mean {meant}? Type it with the colon"
+            if meant
             else f"; type {what}, e.g. {'21:00' if clock else '2027-05-03'}"
         )
         return self.bad(
@@ -543,3 +544,11 @@ def _hidden(ws: Worksheet, row: int, col: int) -> bool:
     """The cell's row or column is hidden."""
     dims = ws.row_dimensions.get(row)
     return bool(dims is not None and dims.hidden) or hidden_column(ws, col)
+
+
+def _hhmm(x: float) -> str | None:
+    """``"21:00"`` for 2100: a whole number 100-2400 read as hours and minutes typed
+    without the colon (minutes under 60), else ``None``."""
+    if x != int(x) or not 100 <= x <= 2400 or int(x) % 100 >= 60:
+        return None
+    return f"{int(x) // 100:02d}:{int(x) % 100:02d}"
