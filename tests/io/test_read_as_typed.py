@@ -450,3 +450,30 @@ def test_a_time_typed_without_its_colon_says_the_time(
     (p,) = e.value.problems
     assert p.where == "Closures!B6"
     assert f"did you mean {meant}?" in p.message
+
+
+def test_a_night_closure_typed_on_the_12_hour_clock_is_queried(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    """'9:00 to 5:00' for a night closure (9 pm to 5 am): on the 24-hour clock that is
+    09:00 to 05:00 the next day, 20 hours through two peaks; said, with 21:00 to type."""
+
+    def edit(wb: Any) -> None:
+        table_cell(wb, L.CLOSURE_TABLE, 0, "From").value = dt.time(9, 0)
+        table_cell(wb, L.CLOSURE_TABLE, 0, "To").value = dt.time(5, 0)
+
+    plan = read_plan(edited(kestrel_book, tmp_path, edit))
+    assert plan.closures[0].end - plan.closures[0].start == dt.timedelta(hours=20)
+    (w,) = [w for w in plan.input_warnings if "24-hour clock" in w]
+    assert w.startswith("Closures!B6: ")
+    assert "20 hours" in w and "type 21:00 in From" in w
+
+
+def test_a_day_closure_before_noon_is_not_queried(kestrel_book: Path, tmp_path: Path) -> None:
+    def edit(wb: Any) -> None:  # 01:00 to 05:00, and 09:00 to 11:30 the next day
+        table_cell(wb, L.CLOSURE_TABLE, 0, "From").value = dt.time(1, 0)
+        table_cell(wb, L.CLOSURE_TABLE, 0, "Date").value = dt.datetime(2027, 5, 4)
+        table_cell(wb, L.CLOSURE_TABLE, 1, "From").value = dt.time(9, 0)
+        table_cell(wb, L.CLOSURE_TABLE, 1, "To").value = dt.time(11, 30)
+
+    assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "24-hour" in w]
