@@ -477,3 +477,42 @@ def test_a_day_closure_before_noon_is_not_queried(kestrel_book: Path, tmp_path: 
         table_cell(wb, L.CLOSURE_TABLE, 1, "To").value = dt.time(11, 30)
 
     assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "24-hour" in w]
+
+
+# ---------------------------------------------------------------------------------------------
+# Formats and sheets that hide what is read
+# ---------------------------------------------------------------------------------------------
+
+
+def test_a_number_in_a_percent_formatted_cell_is_said_as_shown_and_as_read(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    """The work-zone length cell given a percent format (format painted from the heavy
+    vehicles cell): 0.012 shows as 1.2 % and is read as 0.012 mi (63 ft)."""
+
+    def edit(wb: Any) -> None:
+        cell = set_named(wb, "site_work_zone_length", 0.012)
+        cell.number_format = "0.0%"
+
+    plan = read_plan(edited(kestrel_book, tmp_path, edit))
+    (w,) = [w for w in plan.input_warnings if "percent format" in w]
+    assert w.startswith("Site!B12: ")
+    assert "shows 1.2 %" in w and "read as 0.012 mi" in w
+
+
+def test_a_demand_in_a_percent_formatted_cell_is_said(kestrel_book: Path, tmp_path: Path) -> None:
+    """5,200 typed into a percent cell with automatic percent entry is stored as 52."""
+
+    def edit(wb: Any) -> None:
+        cell = table_cell(wb, L.DEMAND_TABLE, 7, L.DEMAND_COLUMNS[2])
+        cell.value, cell.number_format = 52, "0%"
+
+    (w,) = [w for w in warnings_of(kestrel_book, tmp_path, edit) if "percent format" in w]
+    assert w.startswith("Demand!C16: ") and "shows 5,200 %" in w and "read as 52 veh/h" in w
+
+
+def test_percentages_in_percent_cells_are_not_said(kestrel_book: Path, tmp_path: Path) -> None:
+    def edit(wb: Any) -> None:
+        set_named(wb, "site_heavy_vehicle_percent", 0.08).number_format = "0%"
+
+    assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "percent format" in w]

@@ -313,6 +313,13 @@ class CellReader:
             x = round(x * 100.0, 10)
         elif percent and hint:
             self.fraction_hint(x, field, where)
+        elif percent_cell:  # not a percentage, in a cell that shows it as one
+            unit = field.unit_text(self.system or "us")
+            self.note(
+                where,
+                f"{field.label} shows {_fmt(x * 100)} % (the cell has a percent format) but is "
+                f"read as {_fmt(x)} {unit}; give the cell a number format and type the value",
+            )
         if kind == "int" and x != int(x):
             return self.bad(where, f"{field.label} must be a whole number, got {_fmt(x)}")
         if not self.in_range(x, field, where):

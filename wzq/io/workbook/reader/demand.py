@@ -146,7 +146,12 @@ class DemandReader:
         for r in self.rows(t):
             start = self.moment(t, r, c_date, c_time, "Start time")
             where = self.where(t, r.row, c_flow)
-            x = self.convert(r.values[c_flow], _FLOW, where)
+            x = self.convert(
+                r.values[c_flow],
+                _FLOW,
+                where,
+                percent_cell=self.percent_cell(t.ws, r.row, t.col(c_flow)),
+            )
             if x == 0 and (t.ws.title, r.row, t.col(c_flow)) in self._formula_cells:
                 formula = FV.formula_text(t.ws._cells[(r.row, t.col(c_flow))])
                 self.note(
