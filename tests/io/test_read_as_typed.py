@@ -516,3 +516,14 @@ def test_percentages_in_percent_cells_are_not_said(kestrel_book: Path, tmp_path:
         set_named(wb, "site_heavy_vehicle_percent", 0.08).number_format = "0%"
 
     assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "percent format" in w]
+
+
+@pytest.mark.parametrize("state", ["hidden", "veryHidden"])
+def test_a_hidden_input_sheet_is_said(kestrel_book: Path, tmp_path: Path, state: str) -> None:
+    """The Limits sheet hidden: its limits still judge every hour, unseen."""
+
+    def edit(wb: Any) -> None:
+        wb[L.LIMITS].sheet_state = state
+
+    (w,) = [w for w in warnings_of(kestrel_book, tmp_path, edit) if "hidden" in w]
+    assert w.startswith("sheet 'Limits': ") and "read as typed" in w

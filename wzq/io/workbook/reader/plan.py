@@ -73,6 +73,7 @@ class PlanReader:
         self.check_congested_branch(values)
         self.check_sheet_names()
         self.copied_sheets()
+        self.hidden_sheets()
         costs = self.costs()
         demand = self.demand(values.get("site_lanes"))
         risk = self.risk_options(self._history is not None)
@@ -103,6 +104,24 @@ class PlanReader:
                     "this sheet of yours has the name of a sheet wzq writes its results to "
                     f"({names}), so `wzq run` would have to replace it; rename it",
                 )
+
+    def hidden_sheets(self) -> None:
+        """Warn about a hidden input sheet: its inputs are read, but nobody sees them (the
+        Count history sheet is read only when chosen, and said then if it is wrong)."""
+        for name in L.INPUT_SHEETS:
+            ws = self._sheets.get(name)
+            if name == L.COUNTS or ws is None or ws.sheet_state == "visible":
+                continue
+            how = (
+                "very hidden (only a macro or the VBA editor unhides it)"
+                if ws.sheet_state == "veryHidden"
+                else "hidden"
+            )
+            self.note(
+                f"sheet '{name}'",
+                f"this input sheet is {how}, and its inputs are read as typed; unhide it to "
+                "see them",
+            )
 
     def copied_sheets(self) -> None:
         """Warn about a copy of an input sheet ("Demand (2)" as Excel names it, "Demand_2"
