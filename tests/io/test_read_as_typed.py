@@ -42,6 +42,12 @@ def kestrel_json() -> dict:
     return json.loads(KESTREL.read_text(encoding="utf-8"))
 
 
+def saved_json(tmp_path: Path, name: str, data: dict) -> Path:
+    path = tmp_path / name
+    path.write_text(json.dumps(data), encoding="utf-8")
+    return path
+
+
 def problems_of(path: Path) -> list[str]:
     with pytest.raises(PlanError) as e:
         load_plan(path)
@@ -68,8 +74,7 @@ def test_a_key_given_twice_in_a_json_object_is_refused_naming_both_values(tmp_pa
 def test_a_time_zone_in_a_json_date_time_is_refused(tmp_path: Path) -> None:
     data = kestrel_json()
     data["closures"][0]["start"] = "2027-05-03T21:00+02:00"
-    path = tmp_path / "zone.json"
-    path.write_text(json.dumps(data), encoding="utf-8")
+    path = saved_json(tmp_path, "zone.json", data)
     (msg,) = problems_of(path)
     assert msg.startswith("zone.json: closures[0].start:")
     assert "time zone" in msg and "2027-05-03T21:00" in msg
@@ -79,8 +84,7 @@ def test_a_fraction_typed_for_a_json_percentage_is_queried(tmp_path: Path) -> No
     """0.08 for 8 % heavy vehicles: read as typed (0.08 %), and said, as in a workbook."""
     data = kestrel_json()
     data["site"]["heavy_vehicle_percent"] = 0.08
-    path = tmp_path / "fraction.json"
-    path.write_text(json.dumps(data), encoding="utf-8")
+    path = saved_json(tmp_path, "fraction.json", data)
     plan = load_plan(path)
     assert plan.site.heavy_vehicle_share == pytest.approx(0.0008)
     (w,) = plan.input_warnings
@@ -367,8 +371,7 @@ def test_a_delay_limit_typed_in_hours_is_queried(tmp_path: Path) -> None:
     (1.2 x 60 / 55 - 1.2 x 60 / 65 = 0.20 min); the limit is in minutes per vehicle."""
     data = kestrel_json()
     data["thresholds"]["max_average_delay_min"] = 0.25
-    path = tmp_path / "hours.json"
-    path.write_text(json.dumps(data), encoding="utf-8")
+    path = saved_json(tmp_path, "hours.json", data)
     (w,) = [w for w in input_warnings(load_plan(path)) if "delay" in w]
     assert w.startswith("thresholds.max_average_delay_min: ")
     assert "0.25 min/veh (15 s)" in w and "did you mean 15 min" in w
@@ -388,8 +391,7 @@ def test_a_fraction_of_a_lane_in_a_json_plan_is_refused(
     """1.5 lanes was cut to 1 without a word; a workbook cell refuses it."""
     data = kestrel_json()
     (data[section][0] if section == "closures" else data[section])[key] = 1.5
-    path = tmp_path / "half.json"
-    path.write_text(json.dumps(data), encoding="utf-8")
+    path = saved_json(tmp_path, "half.json", data)
     (msg,) = problems_of(path)
     assert msg == f"half.json: {where}: must be a whole number, got 1.5"
 
@@ -527,3 +529,23 @@ def test_a_hidden_input_sheet_is_said(kestrel_book: Path, tmp_path: Path, state:
 
     (w,) = [w for w in warnings_of(kestrel_book, tmp_path, edit) if "hidden" in w]
     assert w.startswith("sheet 'Limits': ") and "read as typed" in w
+
+
+def test_a_free_flow_speed_below_the_limits_is_queried(tmp_path: Path) -> None:
+    """45 mi/h typed for the free-flow speed on a 65 mi/h road with a 55 mi/h work zone:
+    below the work-zone limit, driving through the work zone costs no time, so the plan's
+    work-zone delay vanishes without a word."""
+    data = kestrel_json()
+    data["site"]["free_flow_speed"] = 45
+    path = saved_json(tmp_path, "ffs.json", data)
+    (w,) = [w for w in input_warnings(load_plan(path)) if "free-flow speed" in w]
+    assert w.startswith("site.free_flow_speed: ")
+    assert "45 mi/h is below the speed limit (65 mi/h)" in w
+    assert "and the work-zone speed limit (55 mi/h)" in w
+
+
+def test_a_free_flow_speed_above_the_limit_is_not_queried(tmp_path: Path) -> None:
+    data = kestrel_json()
+    data["site"]["free_flow_speed"] = 70
+    path = saved_json(tmp_path, "ffs.json", data)
+    assert not [w for w in input_warnings(load_plan(path)) if "free-flow speed" in w]

@@ -32,6 +32,7 @@ __all__ = [
     "above_open_road",
     "delay_limit_in_hours",
     "demand_key",
+    "free_flow_below_limits",
     "near_zero_demand",
     "override_above_open_road",
     "site_ranges",
@@ -206,6 +207,33 @@ def unused_by_method(plan: Plan) -> list[str]:
     ]
 
 
+def free_flow_below_limits(plan: Plan) -> list[str]:
+    """A free-flow speed typed below the speed limit: open-road traffic usually runs at or
+    above the limit, and below the work-zone limit the work zone adds no delay (a speed
+    in the other unit, or a work-zone speed typed in the wrong cell?)."""
+    s = plan.site
+    if s.free_flow_speed is None or s.free_flow_speed >= s.speed_limit * (1 - 1e-9):
+        return []
+    system = s.unit_system
+    unit = u.unit_label("speed", system)
+
+    def shown(v: float) -> str:
+        return f"{u.mps_to_speed(v, system):,.0f} {unit}"
+
+    below_wz = s.free_flow_speed < s.work_zone_speed_limit * (1 - 1e-9)
+    return [
+        f"{plan.where('site.free_flow_speed')}: the free-flow speed {shown(s.free_flow_speed)} "
+        f"is below the speed limit ({shown(s.speed_limit)})"
+        + (
+            f" and the work-zone speed limit ({shown(s.work_zone_speed_limit)}), so the work "
+            "zone adds no delay"
+            if below_wz
+            else ""
+        )
+        + "; open-road traffic usually runs at or above the limit: check the value and its unit"
+    ]
+
+
 def site_ranges(plan: Plan) -> list[str]:
     """Site values outside the range of the published model that uses them."""
     s = plan.site
@@ -242,5 +270,6 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),
         *unused_by_method(plan),
+        *free_flow_below_limits(plan),
         *near_zero_demand(plan),
     ]
