@@ -549,3 +549,18 @@ def test_a_free_flow_speed_above_the_limit_is_not_queried(tmp_path: Path) -> Non
     data["site"]["free_flow_speed"] = 70
     path = saved_json(tmp_path, "ffs.json", data)
     assert not [w for w in input_warnings(load_plan(path)) if "free-flow speed" in w]
+
+
+def test_a_heavy_vehicle_share_above_half_is_queried(tmp_path: Path) -> None:
+    """100 % heavy vehicles: every vehicle a truck, counted as two passenger cars on level
+    terrain (HCM 7th ed., Exhibit 12-25, E_T = 2; from memory), so the capacity in veh/h
+    halves and the only other warning blames the demand."""
+    data = kestrel_json()
+    data["site"]["heavy_vehicle_percent"] = 100
+    (w,) = [
+        w
+        for w in input_warnings(load_plan(saved_json(tmp_path, "hv.json", data)))
+        if "heavy vehicles" in w.casefold()
+    ]
+    assert w.startswith("site.heavy_vehicle_percent: ") and "100 %" in w
+    assert not [w for w in input_warnings(load_plan(KESTREL)) if "heavy vehicles" in w.casefold()]

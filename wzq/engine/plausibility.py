@@ -25,6 +25,7 @@ __all__ = [
     "DAY_START_HOUR",
     "HCM2000_ONLY",
     "LONG_WORK_ZONE_MI",
+    "MANY_HEAVY_SHARE",
     "MAX_LISTED",
     "NEAR_ZERO_SHARE",
     "NEIGHBOURS",
@@ -33,6 +34,7 @@ __all__ = [
     "delay_limit_in_hours",
     "demand_key",
     "free_flow_below_limits",
+    "many_heavy_vehicles",
     "near_zero_demand",
     "override_above_open_road",
     "site_ranges",
@@ -57,6 +59,8 @@ LONG_WORK_ZONE_MI = 10.0
 #: A limit on the average delay below this (s/veh) is queried as hours typed for
 #: minutes (common practice, no source).
 SHORT_DELAY_LIMIT_S = 60.0
+#: A heavy-vehicle share above this is queried (common practice, no source).
+MANY_HEAVY_SHARE = 0.5
 #: Warnings of one kind listed one by one before the rest are counted.
 MAX_LISTED = 5
 
@@ -207,6 +211,20 @@ def unused_by_method(plan: Plan) -> list[str]:
     ]
 
 
+def many_heavy_vehicles(plan: Plan) -> list[str]:
+    """A heavy-vehicle share above :data:`MANY_HEAVY_SHARE`: rare outside haul roads, and
+    each heavy vehicle takes the room of about two cars, so the capacity falls with it."""
+    share = plan.site.heavy_vehicle_share
+    if share <= MANY_HEAVY_SHARE:
+        return []
+    return [
+        f"{plan.where('site.heavy_vehicle_percent')}: heavy vehicles are {share * 100:g} % of "
+        "the traffic; shares above "
+        f"{MANY_HEAVY_SHARE * 100:g} % are rare outside haul roads, and the capacity falls "
+        "with them: check the value"
+    ]
+
+
 def free_flow_below_limits(plan: Plan) -> list[str]:
     """A free-flow speed typed below the speed limit: open-road traffic usually runs at or
     above the limit, and below the work-zone limit the work zone adds no delay (a speed
@@ -271,5 +289,6 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *delay_limit_in_hours(plan),
         *unused_by_method(plan),
         *free_flow_below_limits(plan),
+        *many_heavy_vehicles(plan),
         *near_zero_demand(plan),
     ]
