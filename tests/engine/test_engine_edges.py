@@ -10,21 +10,14 @@ from types import SimpleNamespace
 
 import numpy as np
 import pytest
+from hand import hand_site
 
 import wzq
 from wzq.engine.grid import night_by_clock
-from wzq.engine.plan import Closure, Demand, Options, Plan, Site, Thresholds
+from wzq.engine.plan import Closure, Demand, Options, Plan, Thresholds
 from wzq.engine.queue_length import no_queue, queue_state_discharge
 from wzq.engine.windows import too_long_text
 from wzq.models.newell import Extent
-
-
-def hand_site() -> Site:
-    """The hand site of test_approach.py: 2 lanes, v_f 25 m/s, k_j 0.125 veh/m/ln,
-    2,000 veh/h/ln, no heavy vehicles, no capacity drop."""
-    return Site(lanes=2, speed_limit=25.0, work_zone_speed_limit=25.0, work_zone_length=0.0,
-                free_flow_speed=25.0, heavy_vehicle_share=0.0, jam_density=0.125,
-                base_capacity_pc_h_ln=2000.0, capacity_drop_pct_open=0.0)  # fmt: skip
 
 
 def test_too_long_text_says_how_much_data_and_what_the_search_takes() -> None:

@@ -26,6 +26,8 @@ from decimal import ROUND_HALF_UP, Decimal
 
 import numpy as np
 import pytest
+from hand import C_LN, K_J, V_F
+from hand import hand_site as shared_hand_site
 
 import wzq
 from wzq.engine import hourly
@@ -35,9 +37,6 @@ from wzq.engine.plan import Closure, Demand, Options, Plan, Site, Thresholds
 from wzq.present.tables import queue_episodes
 
 START = dt.datetime(2027, 5, 3)  # a Monday (invented dates)
-V_F = 25.0  # m/s
-K_J = 0.125  # veh/m/ln
-C_LN = 2000.0  # veh/h/ln
 OPEN = 2 * C_LN  # veh/h, both lanes, no capacity drop
 CLOSED = 1500.0  # veh/h, the one open lane (capacity override)
 WZ_LENGTH = 1500.0  # m
@@ -48,21 +47,14 @@ EXTRA_S = WZ_LENGTH / V_WZ - WZ_LENGTH / V_F  # 40 s per vehicle through the wor
 
 
 def hand_site(**kw) -> Site:
+    """The shared hand site (tests/hand.py) with a 1.5 km work zone signed 5 mi/h below
+    the 15 m/s it is driven at, by the HCM 2000 method."""
     values = dict(
-        lanes=2,
-        speed_limit=V_F,
         work_zone_speed_limit=V_WZ - FIVE_MPH,
         work_zone_length=WZ_LENGTH,
-        free_flow_speed=V_F,
-        heavy_vehicle_share=0.0,
-        jam_density=K_J,
-        base_capacity_pc_h_ln=C_LN,
-        capacity_drop_pct_open=0.0,
         capacity_method="hcm2000",
-        name="Kestrel Ridge Parkway (fictional)",
     )
-    values.update(kw)
-    return Site(**values)
+    return shared_hand_site(**{**values, **kw})
 
 
 def closure(h0: float, h1: float, override: float | None = CLOSED, **kw) -> Closure:

@@ -29,6 +29,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 from budget import examples
+from hand import C_LN, K_J, V_F
+from hand import hand_site as shared_hand_site
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from scipy import stats
@@ -42,26 +44,13 @@ from wzq.io.jsonplan import load_plan, plan_from_dict, plan_to_dict
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 DEMO = EXAMPLES / "larkspur_vale_week.json"
-V_F = 25.0  # m/s
-K_J = 0.125  # veh/m/ln
-C_LN = 2000.0  # veh/h/ln
 W = (C_LN / 3600) / (K_J - C_LN / 3600 / V_F)  # backward wave speed, m/s (triangular)
 
 
 def hand_site(**kw) -> Site:
-    values = dict(
-        lanes=2,
-        speed_limit=V_F,
-        work_zone_speed_limit=V_F,
-        work_zone_length=0.0,
-        free_flow_speed=V_F,
-        heavy_vehicle_share=0.0,
-        jam_density=K_J,
-        base_capacity_pc_h_ln=C_LN,
-        name="Kestrel Ridge Parkway (fictional)",
-    )
-    values.update(kw)
-    return Site(**values)
+    """The shared hand site (tests/hand.py) with the plan's default capacity drop after
+    a breakdown (7 %)."""
+    return shared_hand_site(**{"capacity_drop_pct_open": 7.0, **kw})
 
 
 def stored_per_m(arrival_veh_h: float, discharge_veh_h: float, lanes: int = 2) -> float:
@@ -359,6 +348,53 @@ def test_percentiles_equal_numpy_on_the_per_week_maxima() -> None:
     longest = lengths.max(axis=1)
     for p, v in result.summary.longest_queue_m.items():
         assert v == pytest.approx(float(np.percentile(longest, p)), rel=1e-9)
+
+
+@pytest.mark.parametrize(
+    ("held_value", "want"),
+    [
+        # one value of 1..5 only a lower bound (traffic held): its true value is anywhere
+        # from it up. Position h = 4p (Hyndman & Fan definition 7). With the held 2: p0
+        # (h = 0) is 1 wherever the 2 goes; p25 (h = 1) is 2 if it stays, 3 if it passes
+        # 3, so not known; p50 (h = 2) anywhere in 3..4, not known; p100 not known.
+        (2.0, {0: 1.0, 25: None, 50: None, 75: None, 100: None}),
+        # With the held 5, the largest: p0-p75 use 1..4 alone (h <= 3 with no fraction);
+        # p80 (h = 3.2) interpolates towards the 5: not known.
+        (5.0, {0: 1.0, 25: 2.0, 50: 3.0, 75: 4.0, 80: None, 100: None}),
+    ],
+)
+def test_a_percentile_is_unknown_exactly_where_a_held_value_could_move_it(
+    held_value: float, want: dict[int, float | None]
+) -> None:
+    values = np.array([1.0, 2.0, 3.0, 4.0, 5.0])
+    pcts = tuple(want)
+    got = R.known_percentiles(values, values == held_value, pcts)
+    for p, g in zip(pcts, got, strict=True):
+        assert np.isnan(g) if want[p] is None else g == want[p], (p, g)
+
+
+@settings(max_examples=examples(200), deadline=None)
+@given(
+    st.lists(st.floats(0, 1e5, allow_nan=False), min_size=1, max_size=12),
+    st.lists(st.booleans(), min_size=12, max_size=12),
+)
+def test_known_percentiles_are_numpys_or_bounded_by_raising_the_held(
+    values: list[float], held: list[bool]
+) -> None:
+    # reference library: numpy.percentile, method "linear". Every percentile that is
+    # given equals numpy's; each one left out really moves when a held value rises.
+    x = np.array(values)
+    mask = np.array(held[: len(x)])
+    pcts = (0, 10, 50, 85, 95, 100)
+    got = R.known_percentiles(x, mask, pcts)
+    want = np.percentile(x, pcts, method="linear")
+    np.testing.assert_array_equal(R.known_percentiles(x, np.zeros_like(mask), pcts), want)
+    raised = np.percentile(np.where(mask, 1e12, x), pcts, method="linear")
+    for p, g, lo, hi in zip(pcts, got, want, raised, strict=True):
+        if np.isnan(g):
+            assert hi > lo, p  # a held value far above moves it: not known
+        else:
+            assert g == lo and hi == pytest.approx(lo, rel=1e-12, abs=1e-9), p
 
 
 def test_clopper_pearson_matches_scipy_binomtest() -> None:

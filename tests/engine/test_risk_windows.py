@@ -31,35 +31,21 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hand import hand_site
 
 import wzq
 from wzq.cli import main
 from wzq.engine import risk as R
 from wzq.engine import windows as W
 from wzq.engine.design_demand import CountHistory, DemandHistory, DemandRule
-from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, RiskOptions, Site, Thresholds
+from wzq.engine.plan import Closure, Demand, Options, Plan, PlanError, RiskOptions, Thresholds
 from wzq.engine.risk_windows import closure_windows, risk_windows, window_scenarios
 from wzq.io.jsonplan import load_plan, plan_to_dict
-from wzq.present.risk import risk_summary_lines
+from wzq.present.risk import risk_hour_table, risk_summary_lines
 
 V_F = 25.0
 WEDNESDAY = dt.datetime(2027, 5, 5)
 FIRST_COUNTED = dt.date(2026, 5, 4)  # a Monday
-
-
-def hand_site() -> Site:
-    return Site(
-        lanes=2,
-        speed_limit=V_F,
-        work_zone_speed_limit=V_F,
-        work_zone_length=0.0,
-        free_flow_speed=V_F,
-        heavy_vehicle_share=0.0,
-        jam_density=0.125,
-        base_capacity_pc_h_ln=2000.0,
-        capacity_drop_pct_open=0.0,
-        name="Kestrel Ridge Parkway (fictional)",
-    )
 
 
 def wednesday_plan(wednesdays: np.ndarray, thresholds: Thresholds, **kw) -> Plan:
@@ -141,7 +127,9 @@ def test_allowed_at_risk_equals_the_plain_count_of_failing_weeks(exhaustive: boo
         np.testing.assert_array_equal(ws.allowed, expected, err_msg=f"level {level}")
 
 
-def test_a_week_whose_own_demand_is_held_beyond_the_approach_fails_every_candidate() -> None:
+def test_a_week_whose_own_demand_is_held_beyond_the_approach_fails_every_candidate(
+    tmp_path: Path,
+) -> None:
     # Weeks 2 and 4 bring 4,500 veh/h at 10:00 to a road of 2 x 2,000 veh/h: 500 vehicles
     # wait beyond the approach in those weeks whatever the closure (as in
     # tests/engine/test_windows.py), so their hours 10:00 and 11:00 fail a length limit
@@ -157,19 +145,37 @@ def test_a_week_whose_own_demand_is_held_beyond_the_approach_fails_every_candida
     for level, allowed in ((0.2, np.zeros_like(UPPER)), (0.4, UPPER)):
         (ws,) = risk_windows(plan, level, [1]).windows.sets
         np.testing.assert_array_equal(ws.allowed, allowed, err_msg=f"level {level}")
-    # the risk of the plan itself: those 2 weeks fail 10:00 and 11:00, and the note and
-    # the headline say that the percentiles of the longest queue leave the 500 out
+    # the risk of the plan itself: those 2 weeks fail 10:00 and 11:00, and their longest
+    # queue there is not known (500 vehicles wait beyond the approach)
     risk = R.assess(plan)
     assert risk.hourly["p_queue_length"].tolist() == [0.0] * 10 + [0.4, 0.4] + [0.0] * 12
     assert [n for n in risk.notes if "waits beyond the approach" in n] == [
         "In 2 of 5 scenarios the demand is more than the road itself carries in some hour "
         "(first Wed 2027-05-05 10:00): the traffic it cannot admit waits beyond the "
         "approach, those hours count as over a queue-length limit, and their longest "
-        "queue leaves the waiting vehicles out, so the percentiles of the longest queue "
-        "are too low there."
+        "queue is not known; a percentile of the longest queue that those scenarios could "
+        "change is given as unknown."
     ]
+    # By hand (Hyndman & Fan definition 7 over 5 scenarios: position h = 4p): the 3 weeks
+    # that hold nothing queue 0 m at 10:00. The median (h = 2) is the 3rd smallest, 0 m,
+    # wherever the 2 held weeks' unknown lengths lie (each is at least what is computed,
+    # 0 m); the 85th (h = 3.4) and 95th (h = 3.8) take the 4th and 5th: not known.
+    h = risk.hourly
+    for p, known in ((50, True), (85, False), (95, False)):
+        col = h[f"queue_length_p{p}_m"].to_numpy()
+        assert (col[[10, 11]] == 0.0).all() if known else np.isnan(col[[10, 11]]).all(), p
+        assert (np.delete(col, [10, 11]) == 0.0).all(), p
     longest = dict(risk_summary_lines(risk, "metric"))["Longest queue of the plan"]
-    assert longest.endswith("(too low where traffic waits beyond the approach: see the method)")
+    assert longest == (
+        "50th 0.00 km, 85th unknown, 95th unknown (traffic waits beyond the approach in "
+        "some scenarios: see the method)"
+    )
+    table = risk_hour_table(risk, "metric", np.arange(24) == 10)
+    assert table.iloc[0, -3:].tolist() == ["0.00", "unknown", "unknown"]
+    code, out, _ = run_cli("risk", str(hand_json(tmp_path, None, plan)))
+    assert code == 0, out
+    row = wednesday_row(out.replace("Wed 2027-05-05 11:00", ""))  # the 10:00 row
+    assert row.split(")", 1)[1].split()[:3] == ["0.00", "unknown", "unknown"]
 
 
 def test_with_capacity_draws_allowed_exactly_when_assess_says_so() -> None:
@@ -214,11 +220,13 @@ def run_cli(*argv: str) -> tuple[int, str, str]:
     return code, out.getvalue(), err.getvalue()
 
 
-def hand_json(tmp_path: Path, window_risk_percent: float | None) -> Path:
-    """The hand count of the first test as a JSON plan with its counts in a CSV file."""
-    wednesdays = np.full((5, 24), 500.0)
-    wednesdays[[1, 3, 4], 10] = 3000.0
-    plan = wednesday_plan(wednesdays, Thresholds(max_demand_capacity=1.0))
+def hand_json(tmp_path: Path, window_risk_percent: float | None, plan: Plan | None = None) -> Path:
+    """The hand count of the first test (or ``plan``'s) as a JSON plan with its counts in
+    a CSV file."""
+    if plan is None:
+        wednesdays = np.full((5, 24), 500.0)
+        wednesdays[[1, 3, 4], 10] = 3000.0
+        plan = wednesday_plan(wednesdays, Thresholds(max_demand_capacity=1.0))
     flows = plan.history.counts.flows_veh_h
     lines = ["date," + ",".join(f"h{h}" for h in range(24))]
     for k, day in enumerate(flows):

@@ -24,6 +24,8 @@ import numpy as np
 import openpyxl
 import pytest
 from budget import examples
+from hand import C_LN, K_J, V_F
+from hand import hand_site as shared_hand_site
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -48,29 +50,13 @@ from wzq.io.plans import demo_plan
 from wzq.io.workbook.windows_sheet import SHEET, write_windows_sheet
 
 START = dt.datetime(2027, 5, 3)  # a Monday (invented dates)
-V_F = 25.0  # m/s
-K_J = 0.125  # veh/m/ln
-C_LN = 2000.0  # veh/h/ln (no heavy vehicles, commuters)
 OPEN = 2 * C_LN  # veh/h, open road, no capacity drop
 CLOSED = 1500.0  # veh/h, capacity override on the one open lane
 
 
-def hand_site(base: float = C_LN, **kw) -> Site:
-    values = dict(
-        lanes=2,
-        speed_limit=V_F,
-        work_zone_speed_limit=V_F,
-        work_zone_length=0.0,
-        free_flow_speed=V_F,
-        heavy_vehicle_share=0.0,
-        jam_density=K_J,
-        base_capacity_pc_h_ln=base,
-        capacity_drop_pct_open=0.0,
-        name="Kestrel Ridge Parkway (fictional)",
-        direction="northbound",
-    )
-    values.update(kw)
-    return Site(**values)
+def hand_site(**kw) -> Site:
+    """The shared hand site (tests/hand.py), northbound."""
+    return shared_hand_site(**{"direction": "northbound", **kw})
 
 
 HAND_CONFIG = W.Configuration(1, capacity_override_veh_h_ln=CLOSED)
@@ -385,7 +371,7 @@ def test_queue_left_behind_counts_against_the_hour_after_the_closure() -> None:
     # leaves 300 vehicles that clear at 200 veh/h in 1.5 h (D/D/1 textbook results).
     # Average delay: closure hour 0.5*300*1/1800 h = 5.0 min; the hour after
     # (300+100)/2/1800 h = 6.67 min; the next 0.5*100*0.5/1800 h = 0.83 min.
-    site = hand_site(base=1000.0)
+    site = hand_site(base_capacity_pc_h_ln=1000.0)
     demand = hourly([1800.0] * 24)
     strict = windows_of(site, demand, Thresholds(max_average_delay=6 * 60.0))
     # only a closure that ends with the data escapes the hour after it

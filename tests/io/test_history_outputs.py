@@ -29,6 +29,7 @@ from typing import Any
 import numpy as np
 import openpyxl
 import pytest
+from hand import hand_site
 from workbook_helpers import fill_template, find_table, named_cell, set_named
 
 import wzq
@@ -38,7 +39,6 @@ from wzq.engine.plan import (
     Options,
     Plan,
     PlanError,
-    Site,
     Thresholds,
 )
 from wzq.io.jsonplan import plan_to_dict
@@ -66,19 +66,7 @@ def hand_flows() -> np.ndarray:
 
 
 def hand_plan() -> Plan:
-    site = Site(
-        lanes=2,
-        speed_limit=V_F,
-        work_zone_speed_limit=V_F,
-        work_zone_length=0.0,
-        free_flow_speed=V_F,
-        heavy_vehicle_share=0.0,
-        jam_density=0.125,
-        base_capacity_pc_h_ln=2000.0,
-        capacity_drop_pct_open=0.0,
-        name="Kestrel Ridge Parkway (fictional)",
-        unit_system="metric",
-    )
+    site = hand_site(unit_system="metric")
     closure = Closure(
         dt.datetime(2027, 5, 5, 10),
         dt.datetime(2027, 5, 5, 14),
@@ -111,12 +99,13 @@ def type_counts(wb: Any, flows: np.ndarray, first: dt.date = FIRST_COUNTED) -> N
             ws.cell(2 + k, 2 + h, float(x))
 
 
-def history_book(tmp_path: Path, **cells: Any) -> Path:
-    """The hand plan typed into a template with its demand from the Count history sheet."""
+def history_book(tmp_path: Path, flows: np.ndarray | None = None, **cells: Any) -> Path:
+    """The hand plan typed into a template with its demand from the Count history sheet
+    (``flows``, or :func:`hand_flows`)."""
     path = fill_template(hand_plan(), tmp_path / "plan.xlsx")
     wb = openpyxl.load_workbook(path)
     clear_demand_table(wb)
-    type_counts(wb, hand_flows())
+    type_counts(wb, hand_flows() if flows is None else flows)
     values = {
         "demand_mode": L.word_for(L.DEMAND_MODE_WORDS, L.HISTORY),
         "history_first_day": PLAN_START,
@@ -299,6 +288,44 @@ def test_results_and_permit_sheets_carry_failing_weeks_over_weeks(tmp_path: Path
     assert ws.cell(row, median + 1).value == 3.68
     # 95th percentile: rank 3.8 -> 5,194 + 0.8 x 2,654 = 7,317.2 m -> band 7.32 - 6.26
     assert ws.cell(row, median + 2).value == 1.06
+
+
+def test_percentiles_weeks_holding_traffic_could_move_are_unknown_on_the_sheets(
+    tmp_path: Path,
+) -> None:
+    # Weeks 2 and 4 bring 4,500 veh/h on Wednesday at 10:00 to a road of 2 x 2,000 veh/h:
+    # 500 vehicles wait beyond the approach, so those weeks' longest queue is not known
+    # there. Of 5 weeks, the 85th and 95th percentiles (Hyndman & Fan definition 7,
+    # positions 3.4 and 3.8) use the 4th and 5th largest: 2 of them could be the held
+    # weeks, so both are unknown, in the hour of the excess and the next, while the 500
+    # still wait (tests/engine/test_risk_windows.py works the same case by hand).
+    flows = hand_flows()
+    flows[[7 + 2, 21 + 2], 10] = 4500.0
+    path = history_book(tmp_path, flows)
+    run_to(path, run_time="2027-01-01T00:00:00Z")
+    wb = openpyxl.load_workbook(path)
+    ws = wb[L.RESULTS]
+    head, cols = header_columns(ws, "Hour")
+    wed = head + 1 + 2 * 24  # Wednesday 00:00
+    for header in ("Longest queue, 85th percentile (km)", "Longest queue, 95th percentile (km)"):
+        cells = [ws.cell(wed + h, cols[header]) for h in (9, 10, 11, 12)]
+        assert [c.value == "unknown" for c in cells] == [False, True, True, False], header
+        assert [c.alignment.horizontal for c in cells[1:3]] == ["right", "right"]
+        assert all(isinstance(c.value, int | float) for c in (cells[0], cells[3]))
+    ws = wb[L.CHARTS]
+    texts = [c.value for row in ws.iter_rows() for c in row if isinstance(c.value, str)]
+    assert (
+        "No band in 2 hours from Wed 2027-05-05 10:00: a percentile there is not known, as "
+        "some scenarios hold traffic beyond the approach (Summary sheet, method)." in texts
+    )
+    cells = {(c.value, c.row): c.column for row in ws.iter_rows() for c in row if c.value}
+    top, median = next((r, col) for (v, r), col in cells.items() if v == "Median")
+    row = next(r for (v, r), _ in cells.items() if v == "10:00" and r > top)
+    # the bands to the 85th and 95th percentiles are left blank at 10:00 and 11:00 (a gap)
+    for r in (row, row + 1):
+        assert isinstance(ws.cell(r, median).value, int | float)
+        assert ws.cell(r, median + 1).value is None and ws.cell(r, median + 2).value is None
+    assert ws.cell(row + 2, median + 2).value is not None
 
 
 @pytest.mark.slow

@@ -13,35 +13,19 @@ import datetime as dt
 
 import numpy as np
 import pytest
+from hand import hand_site
 
 import wzq
 from wzq import units
 from wzq.engine import costs, queue_length
 from wzq.engine import windows as W
-from wzq.engine.plan import Costs, Demand, PlanError, Site, Thresholds
+from wzq.engine.plan import Costs, Demand, PlanError, Thresholds
 from wzq.models import capacity, newell
 from wzq.models import costs as model_costs
 from wzq.models.flow import FundamentalDiagram, Greenshields, Triangular
 from wzq.models.queueing import solve
 
 START = dt.datetime(2027, 5, 3)  # a Monday (invented dates)
-
-
-def _hand_site(**kw) -> Site:
-    """Two lanes, v_f 25 m/s, k_j 0.125 veh/m/ln, 2,000 veh/h/ln, no capacity drop."""
-    values = dict(
-        lanes=2,
-        speed_limit=25.0,
-        work_zone_speed_limit=25.0,
-        work_zone_length=0.0,
-        free_flow_speed=25.0,
-        heavy_vehicle_share=0.0,
-        jam_density=0.125,
-        base_capacity_pc_h_ln=2000.0,
-        capacity_drop_pct_open=0.0,
-    )
-    values.update(kw)
-    return Site(**values)
 
 
 # --- capacity: what a user is told ---------------------------------------------------------
@@ -84,7 +68,7 @@ def test_escalate_accepts_any_positive_index() -> None:
 
 
 def test_hourly_and_total_cost_use_the_values_given() -> None:
-    site = _hand_site(heavy_vehicle_share=0.2)
+    site = hand_site(heavy_vehicle_share=0.2)
     closure = wzq.Closure(START + dt.timedelta(hours=1), START + dt.timedelta(hours=2), 1)
     plan = wzq.Plan(
         site,
@@ -218,7 +202,7 @@ def test_newell_back_of_queue_refuses_times_outside_the_data() -> None:
 
 
 def test_from_run_passes_the_after_end_rule_on() -> None:
-    site = _hand_site()
+    site = hand_site()
     # a queue still standing when the data ends: after the end, arrivals go on at the
     # last rate ("rate") or stop ("hold"), so the back of the queue differs at the end
     closure = wzq.Closure(START, START + dt.timedelta(hours=2), 1, capacity_override_veh_h_ln=1500)
@@ -265,7 +249,7 @@ def test_typical_days_of_a_weekend_alone_and_of_short_intervals() -> None:
 
 def test_starts_for_a_duration_of_one_interval_and_of_too_many() -> None:
     ws = W.find_windows(
-        _hand_site(),
+        hand_site(),
         Demand(START, 3600, np.full(4, 1000.0)),
         Thresholds(max_demand_capacity=0.9),
         [W.Configuration(1, capacity_override_veh_h_ln=1500.0)],
@@ -278,7 +262,7 @@ def test_starts_for_a_duration_of_one_interval_and_of_too_many() -> None:
 
 def test_feasible_starts_lists_every_configuration() -> None:
     result = W.find_windows(
-        _hand_site(lanes=3),
+        hand_site(lanes=3),
         Demand(START, 3600, np.full(3, 900.0)),
         Thresholds(max_demand_capacity=0.9),
         [
@@ -298,7 +282,7 @@ def test_feasible_starts_lists_every_configuration() -> None:
 def test_summary_lines_of_a_plan_without_a_queue() -> None:
     from wzq.present.tables import summary_lines
 
-    plan = wzq.Plan(_hand_site(unit_system="metric"), Demand(START, 3600, np.full(2, 1000.0)))
+    plan = wzq.Plan(hand_site(unit_system="metric"), Demand(START, 3600, np.full(2, 1000.0)))
     lines = dict(summary_lines(wzq.analyse(plan)))
     # nothing queues, so there is no instant to give: a dash, not a clock time
     assert lines["Longest queue"] == "0.00 km, at -"

@@ -88,6 +88,14 @@ def test_capacity_drop_queue_starts_only_above_prebreakdown() -> None:
     assert q == pytest.approx([0, 200, 250, 300, 200, 0])
 
 
+def test_an_initial_queue_keeps_growing_through_a_single_interval_within_capacity() -> None:
+    # The capacity-drop rule (HCM 7th ed. ch. 10): 1,950 veh/h is within the pre-breakdown
+    # capacity (2,000) and cannot start a queue, but the 100 vehicles already standing
+    # discharge at 1,900 veh/h, so they grow by 50 in the one hour: 150 at its end.
+    q = queue_at_boundaries(hours(1), per_h(1950), per_h(2000), per_h(1900), q0=100.0)
+    assert q == pytest.approx([100.0, 150.0])
+
+
 def test_capacity_drop_hysteresis_over_several_runs() -> None:
     # alternating: a run of 1950 with no queue stays empty; a breakdown later
     # turns the next 1950 run into growth. Hand arithmetic with the same rule.

@@ -16,6 +16,7 @@ import io
 import numpy as np
 import openpyxl
 import pytest
+from hand import hand_site
 
 import wzq
 from wzq.engine.plan import Demand, Plan, Site, Thresholds
@@ -29,19 +30,7 @@ HEADER = "Longest queue (km)"
 
 
 def site() -> Site:
-    return Site(
-        lanes=2,
-        speed_limit=25.0,
-        work_zone_speed_limit=25.0,
-        work_zone_length=0.0,
-        free_flow_speed=25.0,
-        heavy_vehicle_share=0.0,
-        jam_density=0.125,
-        base_capacity_pc_h_ln=2000.0,
-        capacity_drop_pct_open=0.0,
-        name="Kestrel Ridge Parkway (fictional)",
-        unit_system="metric",
-    )
+    return hand_site(unit_system="metric")
 
 
 @pytest.fixture(scope="module")

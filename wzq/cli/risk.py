@@ -5,6 +5,7 @@ work is done by :mod:`wzq.engine.risk` and :mod:`wzq.engine.design_demand`)."""
 from __future__ import annotations
 
 import argparse
+import math
 import sys
 from dataclasses import replace
 from pathlib import Path
@@ -19,7 +20,7 @@ from wzq.engine.plan import Plan, PlanError, Problem, RiskOptions
 from wzq.engine.risk import PROBABILITY_COLUMNS, RiskResult, assess
 from wzq.io.plans import load_any
 from wzq.present.risk import risk_summary_lines
-from wzq.present.tables import limits_text
+from wzq.present.tables import LENGTH_UNKNOWN, limits_text
 
 __all__ = [
     "RISK_DESCRIPTION",
@@ -102,7 +103,7 @@ def print_risk(
         line += "".join(f"{100 * row[c]:7.1f}%" for c in names)
         line += f"{100 * row['p_any']:9.1f}% ({100 * row['p_any_low']:4.1f}-"
         line += f"{100 * row['p_any_high']:4.1f} %)"
-        line += "  " + " ".join(f"{row[f'queue_length_p{p}_m'] / long_m:6.2f}" for p in pcts)
+        line += "  " + " ".join(_length(row[f"queue_length_p{p}_m"] / long_m) for p in pcts)
         line += "   " + " ".join(f"{row[f'average_delay_p{p}_min']:6.1f}" for p in pcts)
         print(line, file=out)
     hidden = int((~keep).sum())
@@ -167,3 +168,9 @@ def configure(p: argparse.ArgumentParser) -> None:
 
 
 run = cmd_risk
+
+
+def _length(x: float) -> str:
+    """A percentile of the longest queue in the table's column (``unknown`` when not
+    known: NaN)."""
+    return f"{LENGTH_UNKNOWN:>7}" if math.isnan(x) else f"{x:6.2f}"

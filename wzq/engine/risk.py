@@ -564,6 +564,45 @@ class _Flat:
 # ---------------------------------------------------------------------------------------------
 
 
+def _order_percentile(x: np.ndarray, percentiles: tuple[int, ...]) -> np.ndarray:
+    """Percentiles over axis 0 by Hyndman & Fan's definition 7, written out so that a
+    value of +inf is only used where its order statistic is (``x[j]``, and ``x[j + 1]``
+    when the position ``h = (n - 1) p`` has a fraction ``g > 0``)."""
+    s = np.sort(x, axis=0)
+    n = len(s)
+    out = []
+    for p in percentiles:
+        h = (n - 1) * p / 100.0
+        j = min(math.floor(h), n - 1)
+        g = h - j
+        if g == 0.0:
+            out.append(s[j])
+        else:
+            with np.errstate(invalid="ignore"):  # inf - inf: NaN, i.e. not known
+                out.append(s[j] + g * (s[j + 1] - s[j]))
+    return np.array(out)
+
+
+def known_percentiles(
+    values: np.ndarray, lower_bound: np.ndarray, percentiles: tuple[int, ...]
+) -> np.ndarray:
+    """Percentiles of ``values`` over axis 0 (numpy's ``linear`` method, Hyndman & Fan
+    1996, definition 7), NaN where they are not known.
+
+    ``lower_bound`` marks the values that are only a lower bound: a scenario that holds
+    traffic beyond the approach has a longer queue than its length says, by an amount
+    not known. A percentile never falls when a value rises, so it is known exactly
+    when raising every such value to infinity leaves it unchanged: the order
+    statistics it uses are then known values with no lower bound between them.
+    """
+    p = np.percentile(values, percentiles, axis=0, method="linear")
+    if not lower_bound.any():
+        return p
+    raised = np.where(lower_bound, np.inf, values)
+    same = _order_percentile(values, percentiles) == _order_percentile(raised, percentiles)
+    return np.where(same, p, np.nan)
+
+
 def clopper_pearson(k: np.ndarray, n: int, confidence: float) -> tuple[np.ndarray, np.ndarray]:
     """Clopper-Pearson interval of a binomial proportion ``k / n`` (module notes)."""
     from scipy import stats  # imported here for start-up speed: scipy is slow to import
@@ -586,7 +625,7 @@ class RiskSummary:
     p_any_hour_high: float
     worst_hour: dt.datetime | None
     worst_hour_p: float
-    longest_queue_m: dict[int, float]
+    longest_queue_m: dict[int, float]  # NaN: not known (:func:`known_percentiles`)
     total_delay_veh_h: dict[int, float]
 
 
@@ -606,7 +645,9 @@ class RiskResult:
     @cached_property
     def hourly(self) -> pd.DataFrame:
         """Per hour: scenarios, the probability of breaking each limit (with its interval),
-        and percentiles of the longest queue (m) and the average delay (min/veh)."""
+        and percentiles of the longest queue (m; NaN where not known, as scenarios hold
+        traffic beyond the approach: :func:`known_percentiles`) and the average delay
+        (min/veh)."""
         import pandas as pd  # imported when used: slow to import
 
         r = self.runs
@@ -623,7 +664,8 @@ class RiskResult:
         low, high = clopper_pearson(k, n, level)
         cols["p_any"], cols["p_any_low"], cols["p_any_high"] = k / n, low, high
         cols["demand_mean_veh_h"] = r.demand_veh_h.mean(axis=0)
-        q = np.percentile(r.queue_length_max_m, self.percentiles, axis=0, method="linear")
+        unknown = length_unknown(r.held_veh)
+        q = known_percentiles(r.queue_length_max_m, unknown, self.percentiles)
         d = np.percentile(r.average_delay_min, self.percentiles, axis=0, method="linear")
         for i, p in enumerate(self.percentiles):
             cols[f"queue_length_p{p}_m"] = q[i]
@@ -641,7 +683,7 @@ class RiskResult:
         worst = int(np.argmax(p_any)) if len(p_any) else 0
         longest = r.queue_length_max_m.max(axis=1)
         total = r.delay_veh_h.sum(axis=1)
-        pq = np.percentile(longest, self.percentiles, method="linear")
+        pq = known_percentiles(longest, length_unknown(r.held_veh).any(axis=1), self.percentiles)
         pd_ = np.percentile(total, self.percentiles, method="linear")
         return RiskSummary(
             scenarios=n,
@@ -718,8 +760,8 @@ def assess(
             f"In {k} of {len(scenarios)} scenarios the demand is more than the road itself "
             f"carries in some hour (first {first:%a %Y-%m-%d %H:%M}): the traffic it cannot "
             "admit waits beyond the approach, those hours count as over a queue-length "
-            "limit, and their longest queue leaves the waiting vehicles out, so the "
-            "percentiles of the longest queue are too low there."
+            "limit, and their longest queue is not known; a percentile of the longest "
+            "queue that those scenarios could change is given as unknown."
         )
     return RiskResult(runs, options, PERCENTILES, tuple(notes))
 
@@ -735,6 +777,7 @@ __all__ = [
     "assess",
     "capacity_draws",
     "clopper_pearson",
+    "known_percentiles",
     "plan_risk",
     "plan_scenarios",
     "refuse_approach",

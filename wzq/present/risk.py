@@ -9,13 +9,14 @@ percent with one decimal, queue lengths in the plan's long unit with two.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import pandas as pd
 
 from wzq import units as u
-from wzq.engine.hourly import length_unknown
 from wzq.engine.risk import PROBABILITY_COLUMNS, RiskResult
-from wzq.present.tables import Column, hour_label, rounded
+from wzq.present.tables import LENGTH_UNKNOWN, Column, hour_label, rounded
 
 __all__ = [
     "CAVEATS",
@@ -87,13 +88,15 @@ def risk_columns(risk: RiskResult, system: u.UnitSystem) -> list[Column]:
     return cols
 
 
-def risk_values(risk: RiskResult, columns: list[Column]) -> list[list[float | int | None]]:
-    """Rounded display values, column by column (``None`` for a missing value)."""
+def risk_values(risk: RiskResult, columns: list[Column]) -> list[list[float | int | str | None]]:
+    """Rounded display values, column by column (``None`` for a missing value; a
+    percentile of the longest queue that is not known, :data:`LENGTH_UNKNOWN`)."""
     h = risk.hourly
-    out = []
+    out: list[list[float | int | str | None]] = []
     for col in columns:
         vals = h[col.source].to_numpy(dtype=float) * col.scale
-        out.append([None if np.isnan(v) else rounded(v, col.decimals) for v in vals])
+        gap = LENGTH_UNKNOWN if col.source.startswith("queue_length_p") else None
+        out.append([gap if np.isnan(v) else rounded(v, col.decimals) for v in vals])
     return out
 
 
@@ -128,9 +131,12 @@ def risk_summary_lines(risk: RiskResult, system: u.UnitSystem) -> list[tuple[str
         )
     else:
         lines.append(("Riskiest hour", "no hour breaks a limit in any scenario"))
-    q = ", ".join(f"{p}th {v / long_m:,.2f} {long_name}" for p, v in s.longest_queue_m.items())
-    if length_unknown(risk.runs.held_veh).any():
-        q += " (too low where traffic waits beyond the approach: see the method)"
+    q = ", ".join(
+        f"{p}th {LENGTH_UNKNOWN}" if math.isnan(v) else f"{p}th {v / long_m:,.2f} {long_name}"
+        for p, v in s.longest_queue_m.items()
+    )
+    if any(math.isnan(v) for v in s.longest_queue_m.values()):
+        q += " (traffic waits beyond the approach in some scenarios: see the method)"
     lines.append(("Longest queue of the plan", q))
     d = ", ".join(f"{p}th {v:,.0f}" for p, v in s.total_delay_veh_h.items())
     lines.append(("Total delay (veh-h)", d))
@@ -161,5 +167,12 @@ def risk_hour_table(risk: RiskResult, system: u.UnitSystem, keep: np.ndarray) ->
     idx = np.flatnonzero(keep)
     out = pd.DataFrame({"Hour": [hour_label(h["hour_start"].iloc[i]) for i in idx]})
     for col, vals in zip(cols, risk_values(risk, cols), strict=True):
-        out[col.header] = ["-" if vals[i] is None else f"{vals[i]:,.{col.decimals}f}" for i in idx]
+        out[col.header] = [_shown(vals[i], col.decimals) for i in idx]
     return out
+
+
+def _shown(v: float | int | str | None, decimals: int | None) -> str:
+    """A value of :func:`risk_values` as text: ``-`` for a missing one, a text as it is."""
+    if v is None:
+        return "-"
+    return v if isinstance(v, str) else f"{v:,.{decimals}f}"

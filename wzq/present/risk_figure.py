@@ -39,12 +39,18 @@ def _span(risk: RiskResult) -> tuple[int, int]:
     start = risk.plan.demand.start
     hours = [(c.start - start).total_seconds() / 3600 for c in risk.plan.closures]
     ends = [(c.end - start).total_seconds() / 3600 for c in risk.plan.closures]
-    queued = np.flatnonzero(h["queue_length_p95_m"].to_numpy(float) > 0)
+    queued = np.flatnonzero(~(h["queue_length_p95_m"].to_numpy(float) <= 0))  # NaN: not known
     if not hours and not len(queued):
         return 0, n
     first = min([*hours, *(queued[:1] if len(queued) else [])])
     last = max([*ends, *((queued[-1] + 1,) if len(queued) else ())])
     return max(0, int(first) - CONTEXT_HOURS), min(n, int(np.ceil(last)) + CONTEXT_HOURS)
+
+
+def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
+    """The runs of consecutive true values of ``mask``, as ``[a, b)`` index pairs."""
+    edges = np.flatnonzero(np.diff(np.concatenate(([0], mask.astype(np.int8), [0]))))
+    return list(zip(edges[::2].tolist(), edges[1::2].tolist(), strict=True))
 
 
 def fan_figure(risk: RiskResult, design: Result, width_in: float, height_in: float) -> Figure:
@@ -77,11 +83,20 @@ def fan_figure(risk: RiskResult, design: Result, width_in: float, height_in: flo
             ax.fill_between(x, lower, band, step="post", color=shade, lw=0, zorder=1)
             handles.append(Patch(facecolor=shade, label=label))
             lower = band
+        # the 95th percentile is the first that a scenario holding traffic makes unknown
+        unknown = np.isnan(h["queue_length_p95_m"].to_numpy(float))
+        for a, b in _runs(unknown):
+            ax.axvspan(x[a], x[b], facecolor="none", edgecolor=F.INK, ls=":", lw=0.8, zorder=2)
+        if unknown.any():
+            handles.append(
+                Patch(facecolor="none", edgecolor=F.INK, ls=":", lw=0.8,
+                      label="Percentile not known (traffic held beyond the approach)")
+            )  # fmt: skip
         (line,) = ax.plot(
             x, own, drawstyle="steps-post", color=F.INK, lw=1.2, label="Design demand", zorder=3
         )
         handles.append(line)
-        top = float(max(bands[2].max(), own.max()))
+        top = float(np.nanmax(np.append(bands[2], own)))
         if limit is not None:
             lim = limit / long_m
             handles.append(

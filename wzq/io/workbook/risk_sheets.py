@@ -15,6 +15,7 @@ printed row, and widens its print area to match.
 from __future__ import annotations
 
 import datetime as dt
+import math
 
 import numpy as np
 import pandas as pd
@@ -38,7 +39,7 @@ from wzq.present.risk import (
     risk_summary_lines,
     risk_values,
 )
-from wzq.present.tables import MAX_PANELS, Column, rounded
+from wzq.present.tables import LENGTH_UNKNOWN, MAX_PANELS, Column, rounded
 
 __all__ = [
     "BAND_COLOURS",
@@ -119,6 +120,8 @@ def _add_columns(
         for k, i in enumerate(rows):
             cell = w.put_text(ws, table.first_row + k, c, values[j][i])
             looks[2 * j + (k % 2)](cell)
+            if values[j][i] == LENGTH_UNKNOWN:  # among the numbers of its column
+                cell.alignment = w.RIGHT
         table.columns[col.source] = c
         ws.column_dimensions[get_column_letter(c)].width = w.header_width(col.header, width, 4)
     return first_col + len(columns) - 1
@@ -229,7 +232,7 @@ def fan_spans(risk: RiskResult) -> list[tuple[int, int]]:
     for k, (a, e) in enumerate(zip(firsts, ends, strict=True)):
         limit = firsts[k + 1] if k + 1 < len(firsts) else n
         stop = max(e, a + 1)
-        while stop < limit and p95[stop] > 0:
+        while stop < limit and not p95[stop] <= 0:  # a queue, or one not known (NaN)
             stop += 1
         span = [max(0, a - CONTEXT_HOURS), min(n, stop + CONTEXT_HOURS)]
         if spans and span[0] <= spans[-1][1]:
@@ -237,7 +240,7 @@ def fan_spans(risk: RiskResult) -> list[tuple[int, int]]:
         else:
             spans.append(span)
     if len(spans) > MAX_PANELS:
-        peaks = [float(p95[a:b].max()) for a, b in spans]
+        peaks = [float(np.nan_to_num(p95[a:b], nan=np.inf).max()) for a, b in spans]
         keep = sorted(np.argsort(peaks, kind="stable")[::-1][:MAX_PANELS])
         spans = [spans[i] for i in keep]
     return [(a, b) for a, b in spans]
@@ -285,7 +288,8 @@ def _fan_data(
         p50, p85, p95 = (rounded(float(x[i]), 2) for x in q)
         bands = (p50, round(p85 - p50, 2), round(p95 - p85, 2), rounded(float(own[i]), 2))
         for j, v in enumerate(bands, start=1):
-            number(ws.cell(r, FAN_COL + j, v))
+            if not math.isnan(v):  # a percentile not known: left blank, a gap in the chart
+                number(ws.cell(r, FAN_COL + j, v))
         if limit is not None:
             number(ws.cell(r, FAN_COL + 5, rounded(limit / long_m, 2)))
     last = head + (b - a)
@@ -360,6 +364,14 @@ def place_fan_charts(out: w.SheetWriter, risk: RiskResult, design: Result) -> No
         "agency's queue-length limit."
         + (" One chart per closure, from 2 hours before it." if len(spans) > 1 else ""),
     ]
+    unknown = np.flatnonzero(np.isnan(risk.hourly["queue_length_p95_m"].to_numpy(float)))
+    if len(unknown):
+        first = risk.hourly["hour_start"].iloc[int(unknown[0])]
+        lines.append(
+            f"No band in {len(unknown)} hours from {first:%a %Y-%m-%d %H:%M}: a percentile "
+            "there is not known, as some scenarios hold traffic beyond the approach (Summary "
+            "sheet, method)."
+        )
     for k, line in enumerate(lines, start=1):
         out.put(r + k, 1, line, font=w.SMALL)
     top = r + len(lines) + 1
