@@ -128,7 +128,8 @@ class PlanReader:
         as LibreOffice does) or a sheet holding a copy of an input table ("DemandTable2"):
         only the input sheet itself is read, so values typed on the copy are not used."""
         counts = self.peek("history_file_sheet")
-        counts_on = str(counts[0].cell(*counts[1:]).value or "").strip().casefold()
+        cell = counts[0]._cells.get(counts[1:]) if counts else None
+        counts_on = str(getattr(cell, "value", None) or "").strip().casefold()
         inputs = {n.casefold(): n for n in L.INPUT_SHEETS}
         tables = {n.casefold(): n for n in _INPUT_TABLES}
         for ws in self.wb.worksheets:
