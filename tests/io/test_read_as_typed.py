@@ -16,7 +16,7 @@ from typing import Any
 
 import pytest
 from openpyxl.worksheet.table import Table
-from workbook_helpers import edited, fill_template, find_table, set_named, table_cell
+from workbook_helpers import edited, fill_template, find_table, set_named, table_cell, write_table
 
 from wzq import PlanError
 from wzq.engine.warnings import input_warnings
@@ -564,3 +564,35 @@ def test_a_heavy_vehicle_share_above_half_is_queried(tmp_path: Path) -> None:
     ]
     assert w.startswith("site.heavy_vehicle_percent: ") and "100 %" in w
     assert not [w for w in input_warnings(load_plan(KESTREL)) if "heavy vehicles" in w.casefold()]
+
+
+def test_ramp_flows_typed_past_midnight_without_the_next_date_are_queried(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    """Hourly flows of an on-ramp typed day by day from 06:00 to 05:00 on one date, as the
+    demand in the test above: the rows after midnight are read as that morning's."""
+    name, dist, kind, _, _ = L.LANDMARK_COLUMNS
+    date_h, time_h = L.RAMP_FLOW_COLUMNS
+
+    def edit(wb: Any) -> None:
+        ramp = {name: "Wyvern Lane on-ramp", dist: 0.4, kind: "entrance ramp"}
+        write_table(wb, L.LANDMARK_TABLE, [ramp])
+        _, t = find_table(wb, L.RAMP_FLOW_TABLE)
+        first = t.tableColumns[len(L.RAMP_FLOW_COLUMNS)]
+        table_cell(wb, L.RAMP_FLOW_TABLE, -1, first.name).value = "Wyvern Lane on-ramp"
+        first.name = "Wyvern Lane on-ramp"
+        rows = []
+        for i in range(72):
+            day, hour = divmod(i, 24)
+            rows.append(
+                {
+                    date_h: dt.datetime(2027, 5, 3 + day),
+                    time_h: dt.time((hour + 6) % 24),
+                    "Wyvern Lane on-ramp": 200,
+                }
+            )
+        write_table(wb, L.RAMP_FLOW_TABLE, rows)
+
+    found = [w for w in warnings_of(kestrel_book, tmp_path, edit) if "past midnight" in w]
+    assert len(found) == 1
+    assert found[0].startswith("Approach!H26: ")  # the table's first data row is 8
