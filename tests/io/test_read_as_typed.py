@@ -596,3 +596,41 @@ def test_ramp_flows_typed_past_midnight_without_the_next_date_are_queried(
     found = [w for w in warnings_of(kestrel_book, tmp_path, edit) if "past midnight" in w]
     assert len(found) == 1
     assert found[0].startswith("Approach!H26: ")  # the table's first data row is 8
+
+
+def test_counts_labelled_by_the_hour_they_end_are_queried(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    """Counts labelled 01:00 ... 00:00 (the end of each hour, the midnight row dated the
+    next day, as a counter's report gives them): read as start times, every count moves
+    an hour later; the demand then runs from 01:00 to 01:00, which is said."""
+    date_h, time_h, _ = L.DEMAND_COLUMNS
+
+    def hour_ending(wb: Any) -> None:
+        for i in range(72):
+            end = dt.datetime(2027, 5, 3) + dt.timedelta(hours=i + 1)
+            table_cell(wb, L.DEMAND_TABLE, i, date_h).value = end.replace(hour=0)
+            table_cell(wb, L.DEMAND_TABLE, i, time_h).value = end.time()
+
+    def edit(wb: Any) -> None:
+        hour_ending(wb)
+        for k in range(2):  # the closures an hour later, inside the shifted demand
+            c = table_cell(wb, L.CLOSURE_TABLE, k, "From")
+            c.value = dt.time(c.value.hour + 1)
+
+    (w,) = [w for w in warnings_of(kestrel_book, tmp_path, edit) if "hour each count ends" in w]
+    assert w.startswith("Demand!B9: ")
+    assert "Mon 2027-05-03 01:00 to Thu 2027-05-06 01:00" in w
+
+
+def test_counts_from_a_morning_hour_are_not_queried(kestrel_book: Path, tmp_path: Path) -> None:
+    """A demand from 06:00 to 06:00 (a day's counts from the morning) is no sign of it."""
+    date_h, time_h, _ = L.DEMAND_COLUMNS
+
+    def edit(wb: Any) -> None:
+        for i in range(72):
+            at = dt.datetime(2027, 5, 3, 5) + dt.timedelta(hours=i)
+            table_cell(wb, L.DEMAND_TABLE, i, date_h).value = at.replace(hour=0)
+            table_cell(wb, L.DEMAND_TABLE, i, time_h).value = at.time()
+
+    assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "hour each count ends" in w]

@@ -281,6 +281,14 @@ class DemandReader:
                 f"the demand must cover whole hours, but it ends at {end:%H:%M}; add rows up "
                 "to the next full hour",
             )
+        if first[0].hour == end.hour == 1 and interval == 3600 and len(unique) >= 24:
+            self.note(  # the fingerprint of counts labelled by the hour they end
+                self.where(t, first[2], c_time),
+                f"the demand runs from {_when(first[0])} to {_when(end)}: if the times are "
+                "the hour each count ends (01:00 to 24:00), every count is read an hour "
+                "late; Start time is the hour it starts (the count of 00:00-01:00 goes in "
+                "the 00:00 row)",
+            )
         if len(self.problems) > before:
             return None
         self._demand_rows = [self.where(t, row, L.DEMAND_COLUMNS[2]) for _, _, row in unique]
