@@ -634,3 +634,17 @@ def test_counts_from_a_morning_hour_are_not_queried(kestrel_book: Path, tmp_path
             table_cell(wb, L.DEMAND_TABLE, i, time_h).value = at.time()
 
     assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "hour each count ends" in w]
+
+
+def test_a_jam_density_per_mile_typed_in_a_metric_plan_is_queried(tmp_path: Path) -> None:
+    """190 typed (veh/mi/ln, a usual jam density) in a metric plan is 190 veh/km/ln: one
+    vehicle per 1,000 / 190 = 5.3 m of lane, shorter than a car and its gap, and every
+    queue comes out 190 / 118 = 1.6 times too short (190 veh/mi = 118 veh/km)."""
+    data = json.loads((EXAMPLES / "fenwick_downs_weekend.json").read_text(encoding="utf-8"))
+    data["site"]["jam_density"] = 190
+    plan = load_plan(saved_json(tmp_path, "dense.json", data))
+    (w,) = [w for w in input_warnings(plan) if "jam density" in w]
+    assert w.startswith("site.jam_density: ") and "190 veh/km/ln" in w and "5.3 m" in w
+    data["site"]["jam_density"] = 118  # the same density in veh/km/ln: not queried
+    plan = load_plan(saved_json(tmp_path, "usual.json", data))
+    assert not [w for w in input_warnings(plan) if "jam density" in w]

@@ -24,6 +24,7 @@ __all__ = [
     "DAY_END_HOUR",
     "DAY_START_HOUR",
     "HCM2000_ONLY",
+    "JAM_SPACING_MIN_M",
     "LONG_WORK_ZONE_MI",
     "MANY_HEAVY_SHARE",
     "MAX_LISTED",
@@ -33,6 +34,7 @@ __all__ = [
     "above_open_road",
     "delay_limit_in_hours",
     "demand_key",
+    "dense_jam",
     "free_flow_below_limits",
     "many_heavy_vehicles",
     "near_zero_demand",
@@ -59,6 +61,9 @@ LONG_WORK_ZONE_MI = 10.0
 #: A limit on the average delay below this (s/veh) is queried as hours typed for
 #: minutes (common practice, no source).
 SHORT_DELAY_LIMIT_S = 60.0
+#: Lane length per stopped vehicle (m) below which a jam density is queried: about a
+#: car's length and a stopped gap (common practice, no source).
+JAM_SPACING_MIN_M = 6.0
 #: A heavy-vehicle share above this is queried (common practice, no source).
 MANY_HEAVY_SHARE = 0.5
 #: Warnings of one kind listed one by one before the rest are counted.
@@ -211,6 +216,22 @@ def unused_by_method(plan: Plan) -> list[str]:
     ]
 
 
+def dense_jam(plan: Plan) -> list[str]:
+    """A jam density leaving less than :data:`JAM_SPACING_MIN_M` of lane per stopped
+    vehicle: shorter than a car and its gap, so every queue would come out too short (a
+    density per mile typed in a metric plan?)."""
+    k = plan.site.jam_density
+    if k is None or 1.0 / k >= JAM_SPACING_MIN_M:
+        return []
+    system = plan.site.unit_system
+    shown = f"{u.per_m_to_density(k, system):,.0f} {u.unit_label('density', system)}"
+    return [
+        f"{plan.where('site.jam_density')}: a jam density of {shown} leaves {1.0 / k:.1f} m "
+        f"of lane per stopped vehicle, less than a car and its gap ({JAM_SPACING_MIN_M:g} m), "
+        "so queues would come out too short; check the value and its unit"
+    ]
+
+
 def many_heavy_vehicles(plan: Plan) -> list[str]:
     """A heavy-vehicle share above :data:`MANY_HEAVY_SHARE`: rare outside haul roads, and
     each heavy vehicle takes the room of about two cars, so the capacity falls with it."""
@@ -290,5 +311,6 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *unused_by_method(plan),
         *free_flow_below_limits(plan),
         *many_heavy_vehicles(plan),
+        *dense_jam(plan),
         *near_zero_demand(plan),
     ]
