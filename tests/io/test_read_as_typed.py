@@ -648,3 +648,16 @@ def test_a_jam_density_per_mile_typed_in_a_metric_plan_is_queried(tmp_path: Path
     data["site"]["jam_density"] = 118  # the same density in veh/km/ln: not queried
     plan = load_plan(saved_json(tmp_path, "usual.json", data))
     assert not [w for w in input_warnings(plan) if "jam density" in w]
+
+
+def test_hourly_shares_of_the_aadt_typed_as_flows_are_queried(tmp_path: Path) -> None:
+    """The weekday shares of the AADT (percent, summing to 100 a day) pasted into the
+    demand as flows in veh/h: a road carrying 100 vehicles a day, no queue ever."""
+    data = kestrel_json()
+    day = list(L.WEEKDAY_SHARES)
+    assert sum(day) == pytest.approx(100.0)
+    data["demand"]["veh_h"] = day * 3
+    plan = load_plan(saved_json(tmp_path, "shares.json", data))
+    (w,) = [w for w in input_warnings(plan) if "shares" in w]
+    assert w.startswith("demand.veh_h[0]: ") and "100 vehicles a day" in w
+    assert not [w for w in input_warnings(load_plan(KESTREL)) if "shares" in w]

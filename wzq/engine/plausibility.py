@@ -39,6 +39,7 @@ __all__ = [
     "many_heavy_vehicles",
     "near_zero_demand",
     "override_above_open_road",
+    "shares_as_flows",
     "site_ranges",
     "unused_by_method",
     "warnings",
@@ -124,6 +125,25 @@ def near_zero_demand(plan: Plan) -> list[str]:
                 "(a missing count typed as 0, or a formula pointing at an empty cell?)"
             )
     return _listed(lines, "daytime intervals with near-zero demand")
+
+
+def shares_as_flows(plan: Plan) -> list[str]:
+    """Hourly shares of the AADT (percent) typed as the demand: every whole day of the
+    demand carries 100 vehicles, within half a vehicle (the tolerance of a share table)."""
+    d = plan.demand
+    per_day = round(24 * 3600 / d.interval_s)
+    days = len(d.flows_veh_h) // per_day
+    if not days or d.start.time() != dt.time():
+        return []
+    vehicles = d.flows_veh_h[: days * per_day].reshape(days, per_day).sum(axis=1)
+    vehicles = vehicles * d.interval_s / 3600.0
+    if not np.all(np.abs(vehicles - 100.0) <= 0.5):
+        return []
+    return [
+        f"{plan.where(demand_key(0))}: every day of the demand carries 100 vehicles a day: "
+        "are these the hourly shares of the AADT (%) typed as flows? The demand is in "
+        "veh/h in this direction"
+    ]
 
 
 def above_open_road(plan: Plan, open_capacity_veh_h: float) -> list[str]:
@@ -313,4 +333,5 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *many_heavy_vehicles(plan),
         *dense_jam(plan),
         *near_zero_demand(plan),
+        *shares_as_flows(plan),
     ]
