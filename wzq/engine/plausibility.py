@@ -23,14 +23,25 @@ __all__ = [
     "BUSY_VEH_H_LN",
     "DAY_END_HOUR",
     "DAY_START_HOUR",
+    "HCM2000_ONLY",
+    "JAM_SPACING_MIN_M",
     "LONG_WORK_ZONE_MI",
+    "MANY_HEAVY_SHARE",
     "MAX_LISTED",
     "NEAR_ZERO_SHARE",
     "NEIGHBOURS",
+    "SHORT_DELAY_LIMIT_S",
     "above_open_road",
+    "delay_limit_in_hours",
     "demand_key",
+    "dense_jam",
+    "free_flow_below_limits",
+    "many_heavy_vehicles",
     "near_zero_demand",
+    "override_above_open_road",
+    "shares_as_flows",
     "site_ranges",
+    "unused_by_method",
     "warnings",
 ]
 
@@ -48,6 +59,14 @@ NEIGHBOURS = 2
 #: Work zones longer than this are queried as a possible unit mistake
 #: (16 km; common practice, no source).
 LONG_WORK_ZONE_MI = 10.0
+#: A limit on the average delay below this (s/veh) is queried as hours typed for
+#: minutes (common practice, no source).
+SHORT_DELAY_LIMIT_S = 60.0
+#: Lane length per stopped vehicle (m) below which a jam density is queried: about a
+#: car's length and a stopped gap (common practice, no source).
+JAM_SPACING_MIN_M = 6.0
+#: A heavy-vehicle share above this is queried (common practice, no source).
+MANY_HEAVY_SHARE = 0.5
 #: Warnings of one kind listed one by one before the rest are counted.
 MAX_LISTED = 5
 
@@ -108,6 +127,25 @@ def near_zero_demand(plan: Plan) -> list[str]:
     return _listed(lines, "daytime intervals with near-zero demand")
 
 
+def shares_as_flows(plan: Plan) -> list[str]:
+    """Hourly shares of the AADT (percent) typed as the demand: every whole day of the
+    demand carries 100 vehicles, within half a vehicle (the tolerance of a share table)."""
+    d = plan.demand
+    per_day = round(24 * 3600 / d.interval_s)
+    days = len(d.flows_veh_h) // per_day
+    if not days or d.start.time() != dt.time():
+        return []
+    vehicles = d.flows_veh_h[: days * per_day].reshape(days, per_day).sum(axis=1)
+    vehicles = vehicles * d.interval_s / 3600.0
+    if not np.all(np.abs(vehicles - 100.0) <= 0.5):
+        return []
+    return [
+        f"{plan.where(demand_key(0))}: every day of the demand carries 100 vehicles a day: "
+        "are these the hourly shares of the AADT (%) typed as flows? The demand is in "
+        "veh/h in this direction"
+    ]
+
+
 def above_open_road(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     """Demand above the open road's own capacity (all lanes open, no work zone).
 
@@ -127,6 +165,131 @@ def above_open_road(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         f"exceeds the open road's own capacity ({open_capacity_veh_h:,.0f} veh/h on "
         f"{plan.site.lanes} lanes){more}; part of that queue is not caused by the closure. "
         "Check the count is for this direction only"
+    ]
+
+
+def override_above_open_road(plan: Plan, open_capacity_veh_h: float) -> list[str]:
+    """A closure's capacity override above the open road's own capacity per lane.
+
+    The override is per open lane; a work zone carries less per lane than the open
+    road, so a value above the open road's is most likely typed for all the open
+    lanes together (the direction's capacity).
+    """
+    lanes = plan.site.lanes
+    per_lane = open_capacity_veh_h / lanes
+    out = []
+    for i, c in enumerate(plan.closures):
+        x = c.capacity_override_veh_h_ln
+        if x is None or x <= per_lane * (1 + 1e-9):
+            continue
+        n_open = lanes - c.lanes_closed
+        together = (
+            f"; if {x:,.0f} veh/h is for the {n_open} open lanes together, type {x / n_open:,.0f}"
+            if n_open > 1
+            else ""
+        )
+        out.append(
+            f"{plan.where(f'closures[{i}].capacity_override_veh_h_ln')}: the capacity override "
+            f"{x:,.0f} veh/h/ln of closure {i + 1} ({_when(c.start)}) is above the open "
+            f"road's own capacity ({per_lane:,.0f} veh/h/ln); the override is per open "
+            f"lane{together}"
+        )
+    return out
+
+
+def delay_limit_in_hours(plan: Plan) -> list[str]:
+    """A limit on the average delay below :data:`SHORT_DELAY_LIMIT_S`: tighter than most
+    work zones' own slowing, so more likely hours typed where minutes are asked."""
+    limit = plan.thresholds.max_average_delay
+    if limit is None or limit >= SHORT_DELAY_LIMIT_S:
+        return []
+    minutes = limit / u.MINUTE
+    return [
+        f"{plan.where('thresholds.max_average_delay_min')}: the limit on the average delay is "
+        f"{minutes:g} min/veh ({limit:,.0f} s), tighter than the slowing through most work "
+        f"zones; the limit is in minutes per vehicle: did you mean {minutes * 60:g} min "
+        f"({minutes:g} h)?"
+    ]
+
+
+#: Site inputs only the HCM 2000 short-term method uses (JSON key, label).
+HCM2000_ONLY = (
+    ("site.work_intensity_pc_h_ln", "work intensity adjustment"),
+    ("site.ramp_adjustment_pc_h_ln", "entrance-ramp adjustment"),
+)
+
+
+def unused_by_method(plan: Plan) -> list[str]:
+    """Adjustments typed for the HCM 2000 short-term method while another is chosen: they
+    change nothing, which the user is told rather than left to assume otherwise."""
+    s = plan.site
+    if s.capacity_method == "hcm2000":
+        return []
+    method = plan.where("site.capacity_method")
+    return [
+        f"{plan.where(key)}: the {label} ({value:g} pc/h/ln) is used by the HCM 2000 "
+        f"short-term method only, and is not used with the capacity method chosen at "
+        f"{method}; clear it, or choose that method"
+        for key, label in HCM2000_ONLY
+        for value in [getattr(s, key.split(".", 1)[1])]
+        if value
+    ]
+
+
+def dense_jam(plan: Plan) -> list[str]:
+    """A jam density leaving less than :data:`JAM_SPACING_MIN_M` of lane per stopped
+    vehicle: shorter than a car and its gap, so every queue would come out too short (a
+    density per mile typed in a metric plan?)."""
+    k = plan.site.jam_density
+    if k is None or 1.0 / k >= JAM_SPACING_MIN_M:
+        return []
+    system = plan.site.unit_system
+    shown = f"{u.per_m_to_density(k, system):,.0f} {u.unit_label('density', system)}"
+    return [
+        f"{plan.where('site.jam_density')}: a jam density of {shown} leaves {1.0 / k:.1f} m "
+        f"of lane per stopped vehicle, less than a car and its gap ({JAM_SPACING_MIN_M:g} m), "
+        "so queues would come out too short; check the value and its unit"
+    ]
+
+
+def many_heavy_vehicles(plan: Plan) -> list[str]:
+    """A heavy-vehicle share above :data:`MANY_HEAVY_SHARE`: rare outside haul roads, and
+    each heavy vehicle takes the room of about two cars, so the capacity falls with it."""
+    share = plan.site.heavy_vehicle_share
+    if share <= MANY_HEAVY_SHARE:
+        return []
+    return [
+        f"{plan.where('site.heavy_vehicle_percent')}: heavy vehicles are {share * 100:g} % of "
+        "the traffic; shares above "
+        f"{MANY_HEAVY_SHARE * 100:g} % are rare outside haul roads, and the capacity falls "
+        "with them: check the value"
+    ]
+
+
+def free_flow_below_limits(plan: Plan) -> list[str]:
+    """A free-flow speed typed below the speed limit: open-road traffic usually runs at or
+    above the limit, and below the work-zone limit the work zone adds no delay (a speed
+    in the other unit, or a work-zone speed typed in the wrong cell?)."""
+    s = plan.site
+    if s.free_flow_speed is None or s.free_flow_speed >= s.speed_limit * (1 - 1e-9):
+        return []
+    system = s.unit_system
+    unit = u.unit_label("speed", system)
+
+    def shown(v: float) -> str:
+        return f"{u.mps_to_speed(v, system):,.0f} {unit}"
+
+    below_wz = s.free_flow_speed < s.work_zone_speed_limit * (1 - 1e-9)
+    return [
+        f"{plan.where('site.free_flow_speed')}: the free-flow speed {shown(s.free_flow_speed)} "
+        f"is below the speed limit ({shown(s.speed_limit)})"
+        + (
+            f" and the work-zone speed limit ({shown(s.work_zone_speed_limit)}), so the work "
+            "zone adds no delay"
+            if below_wz
+            else ""
+        )
+        + "; open-road traffic usually runs at or above the limit: check the value and its unit"
     ]
 
 
@@ -163,5 +326,12 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     return [
         *site_ranges(plan),
         *above_open_road(plan, open_capacity_veh_h),
+        *override_above_open_road(plan, open_capacity_veh_h),
+        *delay_limit_in_hours(plan),
+        *unused_by_method(plan),
+        *free_flow_below_limits(plan),
+        *many_heavy_vehicles(plan),
+        *dense_jam(plan),
         *near_zero_demand(plan),
+        *shares_as_flows(plan),
     ]

@@ -572,6 +572,7 @@ Row = tuple[int, Callable[[int], str], Sequence[Any]]
 
 _DATE_RE = re.compile(r"^(\d{4})[-/](\d{1,2})[-/](\d{1,2})(?:[ T](\d{1,2}):(\d{2})(?::(\d{2}))?)?$")
 _TIME_RE = re.compile(r"^(\d{1,2}):(\d{2})(?::(\d{2}))?$")
+_END_OF_DAY = re.compile(r"(?:^|[ T])24:00(?::00)?$")
 
 
 def _blank(v: Any) -> bool:
@@ -599,6 +600,13 @@ def _as_datetime(v: Any) -> dt.datetime | None:
         return dt.datetime.combine(day, dt.time(int(hh), int(mm), int(ss or 0)))
     except ValueError:
         return None
+
+
+def _is_24(v: Any) -> bool:
+    """A time stamp written as 24:00, the end of a day (a time, or a date and time)."""
+    if isinstance(v, str):
+        return bool(_END_OF_DAY.search(v.strip()))
+    return _as_time(v) == dt.timedelta(days=1)
 
 
 def _as_time(v: Any) -> dt.timedelta | None:
@@ -720,8 +728,11 @@ def read_table(
                     c = None
                 cells.append(_Cell(day + dt.timedelta(seconds=j * step), c, where(j + 1)))
     else:
+        day_end: str | None = None  # the first time stamp written 24:00
         for _, where, vals in data:
             when = _as_datetime(vals[0])
+            if day_end is None and _is_24(vals[1] if width == 3 else vals[0]):
+                day_end = where(1 if width == 3 else 0)
             if width == 3:
                 tod = _as_time(vals[1])
                 if when is None or when.time() != dt.time():
@@ -753,6 +764,17 @@ def read_table(
                 problems.append(Problem(where(vcol), c))
                 c = None
             cells.append(_Cell(when, c, where(vcol)))
+        if day_end is not None and stamp == "start":
+            problems.append(
+                Problem(
+                    day_end,
+                    "24:00 ends a day, so it cannot start an interval: these time stamps "
+                    "look like the end of each interval (01:00 to 24:00), and read as starts "
+                    "every count would move one interval later; say that a time stamp is the "
+                    "end of its interval (wzq counts --stamp end; in a plan, 'A time stamp "
+                    "is the' end of its interval)",
+                )
+            )
         if problems:
             raise PlanError(problems)
         if all(c.when.time() == dt.time() for c in cells):

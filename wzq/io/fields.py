@@ -92,6 +92,10 @@ UNIT_KINDS: dict[str, tuple[str, str]] = {
     "per_long": ("per mi", "per km"),
 }
 
+#: A growth rate in percent per year smaller than this (in size) looks like a fraction
+#: typed for a percentage (0.02 for 2 %) (common practice, no source).
+FRACTION_GROWTH = 0.1
+
 Kind = Literal["number", "int", "text", "choice", "date"]
 #: How a value in the file's unit system becomes the plan's SI value.
 Convert = Literal["", "speed", "long", "short", "density", "per_long", "percent", "minutes"]
@@ -146,6 +150,14 @@ class Field:
         if system == "metric" and self.metric_bounds is not None:
             return self.metric_bounds
         return self.bounds
+
+    def looks_like_fraction(self, x: float) -> bool:
+        """A percentage typed as a fraction (0.08 for 8 %, 0.02 for 2 % a year): in
+        percent (``%``) a value above 0 up to 1, in percent per year one below
+        :data:`FRACTION_GROWTH` in size."""
+        if not self.unit.startswith("%") or not x:
+            return False
+        return abs(x) < FRACTION_GROWTH if self.unit != "%" else 0 < x <= 1
 
     def unit_text(self, system: str) -> str:
         """The unit shown beside the value in the given unit system."""

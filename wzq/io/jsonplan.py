@@ -102,6 +102,7 @@ class _Reader:
     def __init__(self, source: str) -> None:
         self.source = source
         self.problems: list[Problem] = []
+        self.notes: list[str] = []  # values read as typed that may not be meant so
 
     def where(self, key: str) -> str:
         return f"{self.source}: {key}"
@@ -118,7 +119,13 @@ class _Reader:
                 )
 
     def number(
-        self, d: dict[str, Any], key: str, path: str, default: Any = ..., lo: float | None = None
+        self,
+        d: dict[str, Any],
+        key: str,
+        path: str,
+        default: Any = ...,
+        lo: float | None = None,
+        whole: bool = False,
     ) -> Any:
         full = f"{path}.{key}"
         if key not in d or d[key] is None:
@@ -132,6 +139,8 @@ class _Reader:
             return float("nan") if default is ... or default is None else default
         if lo is not None and v < lo:
             self.bad(full, f"must be at least {lo}, got {v}")
+        if whole and v != int(v):  # a count of lanes, a year: never cut to a whole number
+            self.bad(full, f"must be a whole number, got {v:g}")
         return float(v)
 
     def text(self, d: dict[str, Any], key: str, path: str, default: str | None = None) -> str:
@@ -149,10 +158,18 @@ class _Reader:
         try:
             if not isinstance(v, str):
                 raise ValueError
-            return parse_datetime(v)
+            when = parse_datetime(v)
         except ValueError:
             self.bad(f"{path}.{key}", f"expected a date-time like 2027-05-03T21:00, got {v!r}")
             return dt.datetime(2000, 1, 1)
+        if when.tzinfo is not None:  # the plan is in the site's clock time throughout
+            self.bad(
+                f"{path}.{key}",
+                f"{v!r} has a time zone; give the site's local clock time without it, "
+                f"like {when.replace(tzinfo=None).isoformat(timespec='minutes')}",
+            )
+            return dt.datetime(2000, 1, 1)
+        return when
 
 
 def _read_section(r: _Reader, d: dict[str, Any], section: str, system: str) -> dict[str, Any]:
@@ -168,7 +185,13 @@ def _read_section(r: _Reader, d: dict[str, Any], section: str, system: str) -> d
         if f.kind in ("text", "choice"):
             value = r.text(d, key, section, f.json_default)
         else:
-            x = r.number(d, key, section, f.json_default, lo=f.json_lo)
+            x = r.number(d, key, section, f.json_default, lo=f.json_lo, whole=f.kind == "int")
+            if x is not None and f.looks_like_fraction(x):
+                r.notes.append(
+                    f"{section}.{key}: {f.label} is {x:g} %: did you mean {x * 100:g} %? "
+                    f"Percentages are given as numbers of percent ({x * 100:g} for "
+                    f"{x * 100:g} %); ignore this if {x:g} % is right"
+                )
             value = (int(x) if np.isfinite(x) else 0) if f.kind == "int" else x
             value = F.to_plan(f, value, system)
         out[f.attribute.split(".", 1)[1]] = value
@@ -270,7 +293,7 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
         if night is not None and not isinstance(night, bool):
             r.bad(f"{path}.night", "expected true, false or null (derived from the clock)")
             night = None
-        lc = r.number(c, "lanes_closed", path, lo=0)
+        lc = r.number(c, "lanes_closed", path, lo=0, whole=True)
         closures.append(
             Closure(
                 start=r.when(c, "start", path),
@@ -331,6 +354,7 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
             history=history,
             risk=risk,
             approach=approach,
+            input_warnings=tuple(r.notes),
         )
     except PlanError as e:
         raise PlanError([Problem(f"{source}: {p.where}", p.message) for p in e.problems]) from None
@@ -385,14 +409,51 @@ def load_plan(path: str | Path) -> Plan:
     """Read a JSON plan file."""
     path = Path(path)
     try:
-        data = json.loads(path.read_text(encoding="utf-8"))
+        data = json.loads(path.read_text(encoding="utf-8"), object_pairs_hook=_Object)
     except (OSError, UnicodeDecodeError) as e:
         raise PlanError([Problem(str(path), f"cannot read the file: {e}")]) from None
     except json.JSONDecodeError as e:
         raise PlanError(
             [Problem(f"{path.name}: line {e.lineno}", f"not valid JSON ({e.msg}); fix the syntax")]
         ) from None
+    twice = _given_twice(data, "")
+    if twice:
+        raise PlanError([Problem(f"{path.name}: {key}", message) for key, message in twice])
     return plan_from_dict(data, path.name, path.parent)
+
+
+class _Object(dict[str, Any]):
+    """A JSON object that remembers the keys given twice in it: JSON readers keep the
+    last value of a repeated key without a word, so a key typed twice would be read as
+    one of the two values unseen."""
+
+    def __init__(self, pairs: list[tuple[str, Any]]) -> None:
+        super().__init__()
+        self.twice: list[tuple[str, Any, Any]] = []
+        for key, value in pairs:
+            if key in self:
+                self.twice.append((key, self[key], value))
+            self[key] = value
+
+
+def _given_twice(x: Any, path: str) -> list[tuple[str, str]]:
+    """(key path, message) for every key given twice in one object, anywhere in ``x``."""
+    out: list[tuple[str, str]] = []
+    if isinstance(x, _Object):
+        for key, first, then in x.twice:
+            out.append(
+                (
+                    f"{path}.{key}" if path else key,
+                    f"given twice ({json.dumps(first)[:40]}, then {json.dumps(then)[:40]}) "
+                    "in one object; keep the one you mean",
+                )
+            )
+        for key, value in x.items():
+            out += _given_twice(value, f"{path}.{key}" if path else key)
+    elif isinstance(x, list):
+        for i, value in enumerate(x):
+            out += _given_twice(value, f"{path}[{i}]")
+    return out
 
 
 def _iso(t: dt.datetime) -> str:

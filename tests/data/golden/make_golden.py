@@ -32,7 +32,9 @@ warning cells' alignment change, no cell's value; and again when the per-hour ta
 gained the column ``queue_held_veh`` (the vehicles held back beyond the approach or
 at a section of it, whose hours print the longest queue as "unknown"): that column is
 new in every plan's per-hour table, 0 in every hour of every recorded plan, and no
-other entry changes; nothing else:
+other entry changes; and again when the Fenwick Downs example's site name lost a real
+town's name ("Harlow Gap" became the invented "Wrenfold Gap"): only the entries of that
+example that print its site name change, by those words; nothing else:
 
     python3 tests/data/golden/make_golden.py
 

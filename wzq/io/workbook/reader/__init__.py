@@ -214,6 +214,7 @@ class BookReader(
         self._demand_rows: list[str] = []  # cell of each demand interval, in plan order
         self._closure_rows: list[str] = []  # cell of each closure, in plan order
         self._closure_notes: list[str] = []  # Note cell of each closure, in plan order
+        self._closure_overrides: list[str] = []  # override cell of each closure, plan order
         self._landmark_cells: list[dict[str, str]] = []  # cells of each landmark, in plan order
         self.warnings: list[str] = []  # what the user should know; said with every result
         self._precedents: FV.Precedents | None = None

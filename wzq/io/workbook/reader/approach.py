@@ -323,12 +323,14 @@ class ApproachReader:
         cells: dict[str, list[str]] = {key: [""] * n_hours for key in wanted}
         taken: dict[int, int] = {}
         outside: list[int] = []
+        typed: list[tuple[dt.datetime, float, int]] = []  # in the sheet's order
         ok = True
         for r in rows:
             when = self.moment(t, r, c_date, c_time, "Start time")
             if when is _MISSING:
                 ok = False
                 continue
+            typed.append((when, 0.0, r.row))
             if when.minute or when.second:
                 ok = False
                 self.bad(
@@ -358,6 +360,7 @@ class ApproachReader:
                     continue
                 flows[key][h] = float(x)
                 cells[key][h] = where
+        self.date_not_turned(t, typed)
         missing = [h for h in range(n_hours) if h not in taken]
         if missing:
             ok = False

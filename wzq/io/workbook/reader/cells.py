@@ -29,7 +29,6 @@ from wzq.io.workbook.reader.values import (
     DAY,
     DAYS_IN_1900,
     FIRST_YEAR,
-    FRACTION_GROWTH,
     LAST_YEAR,
     MAX_SERIAL,
     _blank,
@@ -41,6 +40,8 @@ from wzq.io.workbook.reader.values import (
     _show,
     cell_ref,
     destinations,
+    hidden_column,
+    other_weekday,
 )
 from wzq.io.workbook.saved_values import SharedStrings, typed
 
@@ -258,9 +259,14 @@ class CellReader:
             return _MISSING
         ws, row, col = loc
         where = cell_ref(ws.title, row, col)
-        return self.convert(
-            self.raw(ws, row, col), field, where, percent_cell=self.percent_cell(ws, row, col)
-        )
+        v = self.raw(ws, row, col)
+        if not _blank(v) and v is not _MISSING and _hidden(ws, row, col):
+            self.note(
+                where,
+                f"{field.label} is in a hidden row or column and is read as typed; unhide it "
+                "to see it, or clear it to leave it blank",
+            )
+        return self.convert(v, field, where, percent_cell=self.percent_cell(ws, row, col))
 
     # -- conversions ------------------------------------------------------------------------
 
@@ -303,6 +309,13 @@ class CellReader:
             x = round(x * 100.0, 10)
         elif percent and hint:
             self.fraction_hint(x, field, where)
+        elif percent_cell:  # not a percentage, in a cell that shows it as one
+            unit = field.unit_text(self.system or "us")
+            self.note(
+                where,
+                f"{field.label} shows {_fmt(x * 100)} % (the cell has a percent format) but is "
+                f"read as {_fmt(x)} {unit}; give the cell a number format and type the value",
+            )
         if kind == "int" and x != int(x):
             return self.bad(where, f"{field.label} must be a whole number, got {_fmt(x)}")
         if not self.in_range(x, field, where):
@@ -311,8 +324,7 @@ class CellReader:
 
     def fraction_hint(self, x: float, field: F.Field, where: str) -> None:
         """Warn when a percentage typed in a plain cell looks like a fraction (0.08 for 8 %)."""
-        small = abs(x) < FRACTION_GROWTH if field.unit != "%" else 0 < x <= 1
-        if x and small:
+        if field.looks_like_fraction(x):
             self.note(
                 where,
                 f"{field.label} is {_fmt(x)} %: did you mean {_fmt(x * 100)} %? Percentages "
@@ -429,9 +441,12 @@ class CellReader:
             m = _ISO_DATE.match(v.strip())
             if m:
                 try:
-                    return dt.date.fromisoformat(_pad_iso(m.group(1)))
+                    day = dt.date.fromisoformat(_pad_iso(m.group(1)))
                 except ValueError:
                     pass
+                else:
+                    clash = other_weekday(v, day)
+                    return self.bad(where, f"{label}: {_show(v)}: {clash}") if clash else day
         return self.bad(where, f"{label}: {_show(v)} is not a date; type a date, e.g. 2027-05-03")
 
     def serial(self, x: float, label: str, where: str) -> Any:
@@ -456,8 +471,8 @@ class CellReader:
         if isinstance(v, dt.datetime):
             serial = to_excel(v, self.epoch)
             if serial >= 2:
-                if serial < DAYS_IN_1900:  # a number typed in a time cell, shown as a date
-                    return self.day_count(serial, label, where, clock=True)
+                if serial < DAYS_IN_1900 or _hhmm(serial):  # a number typed in a time cell,
+                    return self.day_count(serial, label, where, clock=True)  # shown as a date
                 return v
             if serial >= 0:
                 seconds = serial * DAY  # hours past midnight (e.g. 24:00 stored as 1.0)
@@ -468,7 +483,7 @@ class CellReader:
                 return self._clock(v.total_seconds() / DAY, label, where, allow_24=allow_24)
         elif isinstance(v, int | float) and not isinstance(v, bool):
             if v >= 2:
-                if v < DAYS_IN_1900:
+                if v < DAYS_IN_1900 or _hhmm(v):  # 2100 typed for 21:00 is a day count too
                     return self.day_count(v, label, where, clock=True)
                 return self.serial(v, label, where)  # an Excel date-time serial
             if v >= 0:
@@ -483,6 +498,9 @@ class CellReader:
             elif md:
                 try:
                     day = dt.date.fromisoformat(_pad_iso(md.group(1)))
+                    clash = other_weekday(text, day)
+                    if clash:
+                        return self.bad(where, f"{label}: {_show(v)}: {clash}")
                     hh, mm = int(md.group(2)), int(md.group(3))
                     if mm < 60 and (hh < 24 or (hh == 24 and mm == 0)):
                         return dt.datetime.combine(day, dt.time()) + dt.timedelta(
@@ -511,9 +529,10 @@ class CellReader:
         """A small number where a date or time belongs: spreadsheets read it as a day count."""
         day = from_excel(x, self.epoch)
         what = "a time" if clock else "a date"
+        meant = (f"{int(x):02d}:00" if x == int(x) and x <= 24 else _hhmm(x)) if clock else None
         guess = (
-            f"; did you mean {int(x):02d}:00? Type it with the colon"
-            if clock and x == int(x) and x <= 24
+            f"; did you mean {meant}? Type it with the colon"
+            if meant
             else f"; type {what}, e.g. {'21:00' if clock else '2027-05-03'}"
         )
         return self.bad(
@@ -521,3 +540,17 @@ class CellReader:
             f"{label}: {_fmt(x)} is a number, not {what} (a spreadsheet reads it as "
             f"{_fmt(x)} days after its day zero, {day:%Y-%m-%d}){guess}",
         )
+
+
+def _hidden(ws: Worksheet, row: int, col: int) -> bool:
+    """The cell's row or column is hidden."""
+    dims = ws.row_dimensions.get(row)
+    return bool(dims is not None and dims.hidden) or hidden_column(ws, col)
+
+
+def _hhmm(x: float) -> str | None:
+    """``"21:00"`` for 2100: a whole number 100-2400 read as hours and minutes typed
+    without the colon (minutes under 60), else ``None``."""
+    if x != int(x) or not 100 <= x <= 2400 or int(x) % 100 >= 60:
+        return None
+    return f"{int(x) // 100:02d}:{int(x) % 100:02d}"

@@ -19,12 +19,15 @@ from wzq.io.workbook.reader.values import (
     _NOTE,
     _OVERRIDE,
     _blank,
+    _fmt,
     _when,
 )
 
 __all__ = [
     "ClosureReader",
 ]
+
+HALF_DAY, FULL_DAY = dt.timedelta(hours=12), dt.timedelta(days=1)
 
 
 class ClosureReader:
@@ -43,6 +46,7 @@ class ClosureReader:
             w = lambda h, r=r: self.where(t, r.row, h)  # noqa: E731
             start = self.moment(t, r, c_date, c_from, "From")
             end = self.closure_end(r.values[c_to], start, w(c_to))
+            self.twelve_hour_clock(start, end, w(c_from))
             n = self.convert(r.values[c_lanes], _LANES_CLOSED, w(c_lanes))
             if n is not _MISSING and isinstance(lanes, int) and n >= lanes:
                 what = (
@@ -96,7 +100,25 @@ class ClosureReader:
                 latest = (b, rb)
         self._closure_rows = [self.where(t, row, c_date) for _, row in found]
         self._closure_notes = [self.where(t, row, c_note) for _, row in found]
+        self._closure_overrides = [self.where(t, row, c_override) for _, row in found]
         return [c for c, _ in found] if ok else None
+
+    def twelve_hour_clock(self, start: Any, end: Any, where: str) -> None:
+        """Query a closure from a morning time to an earlier morning time the next day
+        ('9:00 to 5:00'): more than 12 hours through the day, or a night closure typed on
+        the 12-hour clock (9 pm to 5 am)."""
+        if start is _MISSING or end is _MISSING:
+            return
+        noon, length = dt.time(12), end - start
+        if start.time() < noon and end.time() < noon and HALF_DAY < length < FULL_DAY:
+            evening = start + HALF_DAY
+            self.note(
+                where,
+                f"From {start:%H:%M} to {end:%H:%M} is read as a closure of "
+                f"{_fmt(length / dt.timedelta(hours=1))} hours, to {_when(end)}; times are on "
+                f"the 24-hour clock: if the closure starts in the evening, type "
+                f"{evening:%H:%M} in From",
+            )
 
     def closure_end(self, v: Any, start: Any, where: str) -> Any:
         """End of a closure from ``To``: next day if at or before ``From``; 24:00 is midnight."""
@@ -117,6 +139,13 @@ class ClosureReader:
             return c
         day = dt.datetime.combine(start.date(), dt.time())
         end = day + dt.timedelta(seconds=c.seconds)
+        if end == start:  # To typed as From: a whole day, or a slip for another time
+            self.note(
+                where,
+                f"To is the same time as From ({start:%H:%M}): read as a closure of 24 hours, "
+                f"to {_when(end + dt.timedelta(days=1))} (a To at or before From ends the "
+                "next day); if the closure is shorter, correct To",
+            )
         if end <= start:
             end += dt.timedelta(days=1)
         return end

@@ -35,8 +35,14 @@ from wzq.io.workbook.reader.values import (
 from wzq.models.demand import hourly_from_aadt
 
 __all__ = [
+    "UNUSUAL_GROWTH_PERCENT",
     "DemandReader",
 ]
+
+#: Traffic growth larger than this in size (percent per year) is queried: a few percent a
+#: year is usual, and 20 is a slip for 2.0 more often than a forecast (common practice,
+#: no source).
+UNUSUAL_GROWTH_PERCENT = 10.0
 
 
 class DemandReader:
@@ -140,7 +146,12 @@ class DemandReader:
         for r in self.rows(t):
             start = self.moment(t, r, c_date, c_time, "Start time")
             where = self.where(t, r.row, c_flow)
-            x = self.convert(r.values[c_flow], _FLOW, where)
+            x = self.convert(
+                r.values[c_flow],
+                _FLOW,
+                where,
+                percent_cell=self.percent_cell(t.ws, r.row, t.col(c_flow)),
+            )
             if x == 0 and (t.ws.title, r.row, t.col(c_flow)) in self._formula_cells:
                 formula = FV.formula_text(t.ws._cells[(r.row, t.col(c_flow))])
                 self.note(
@@ -216,6 +227,7 @@ class DemandReader:
     def demand_grid(self, t: _Table, entries: list[tuple[dt.datetime, float, int]]) -> Any:
         """Check the rows form one regular grid from the hour to the hour; build the demand."""
         c_time = L.DEMAND_COLUMNS[1]
+        self.date_not_turned(t, entries)
         entries.sort(key=lambda e: e[0])
         before = len(self.problems)
         seen: dict[dt.datetime, int] = {}
@@ -270,10 +282,41 @@ class DemandReader:
                 f"the demand must cover whole hours, but it ends at {end:%H:%M}; add rows up "
                 "to the next full hour",
             )
+        if first[0].hour == end.hour == 1 and interval == 3600 and len(unique) >= 24:
+            self.note(  # the fingerprint of counts labelled by the hour they end
+                self.where(t, first[2], c_time),
+                f"the demand runs from {_when(first[0])} to {_when(end)}: if the times are "
+                "the hour each count ends (01:00 to 24:00), every count is read an hour "
+                "late; Start time is the hour it starts (the count of 00:00-01:00 goes in "
+                "the 00:00 row)",
+            )
         if len(self.problems) > before:
             return None
         self._demand_rows = [self.where(t, row, L.DEMAND_COLUMNS[2]) for _, _, row in unique]
         return Demand(first[0], interval, np.array([e[1] for e in unique]))
+
+    def date_not_turned(self, t: _Table, entries: list[tuple[dt.datetime, float, int]]) -> None:
+        """Warn where a row typed right below the day's last interval starts at 00:00 of the
+        same date: counts running past midnight typed without the next date, which the
+        rows, read in time order, put in the early morning of the date typed."""
+        hour = dt.timedelta(hours=1)
+        turned = [
+            (before, after)
+            for before, after in pairwise(entries)
+            if after[0].date() == before[0].date()
+            and dt.timedelta(0) < after[0] + dt.timedelta(days=1) - before[0] <= hour
+        ]
+        if not turned:
+            return
+        (was, _, r0), (when, _, r1) = turned[0]
+        more = f" ({len(turned)} places in all)" if len(turned) > 1 else ""
+        self.note(
+            self.where(t, r1, L.DEMAND_COLUMNS[1]),
+            f"this row is typed right below {_when(was)} (row {r0}) but keeps its date, so "
+            f"it is read as {_when(when)}, the early morning of that day{more}; if these "
+            f"counts run past midnight, type the next date "
+            f"({when + dt.timedelta(days=1):%Y-%m-%d}) from this row on",
+        )
 
     def demand_from_aadt(self) -> Demand | None:
         v = {f.name: self.field(f) for f in F.AADT_FIELDS}
@@ -281,6 +324,7 @@ class DemandReader:
         if any(x is _MISSING for x in v.values()) or shares is None:
             return None
         first: dt.date = v["aadt_first_day"]
+        self.aadt_years(v["aadt_count_year"], v["aadt_growth_percent"] or 0.0, first.year)
         weekday, weekend = shares
         flows = hourly_from_aadt(
             v["aadt_value"],
@@ -294,6 +338,36 @@ class DemandReader:
         )
         self._demand_rows = [self.where_of["aadt_value"]] * len(flows)
         return Demand(dt.datetime.combine(first, dt.time()), 3600, np.array(flows))
+
+    def aadt_years(self, year: int, growth: float, plan_year: int) -> None:
+        """Query a count year after the plan's (the AADT taken back in time) and a growth
+        rate above :data:`UNUSUAL_GROWTH_PERCENT` over the years it is applied."""
+        if year > plan_year:
+            self.note(
+                self.where_of.get("aadt_count_year", "aadt_count_year"),
+                f"Year of the count {year} is after the year of the first day ({plan_year}): "
+                f"the AADT is taken back {year - plan_year} year{'s' * (year - plan_year > 1)} "
+                f"at {_fmt(growth)} % a year; check the year, unless the AADT is a forecast",
+            )
+        years = plan_year - year
+        if years > 0:
+            total = ((1 + growth / 100.0) ** years - 1) * 100.0
+            self.unusual_growth(
+                "aadt_growth_percent",
+                growth,
+                f": {total:,.0f} % in all over {years} year{'s' * (years > 1)} from the count "
+                f"({year})",
+            )
+
+    def unusual_growth(self, name: str, growth: float, applied: str = "") -> None:
+        """Query a growth rate above :data:`UNUSUAL_GROWTH_PERCENT` a year in size (``applied``
+        says what it comes to)."""
+        if abs(growth) > UNUSUAL_GROWTH_PERCENT:
+            self.note(
+                self.where_of.get(name, name),
+                f"Traffic growth {_fmt(growth)} % a year is unusual{applied}; check the value "
+                "(a few % a year is usual)",
+            )
 
     def hourly_shares(self) -> tuple[list[float], list[float]] | None:
         t = self.table(L.SHARE_TABLE)

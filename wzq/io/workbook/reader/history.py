@@ -76,6 +76,7 @@ class HistoryReader:
         read = self.count_history(v, exclude)
         if read is None:
             return None
+        self.unusual_growth("history_growth_percent", v["history_growth_percent"] or 0.0)
         rule = DemandRule(
             day_types=v["history_day_types"],
             holidays=holidays,

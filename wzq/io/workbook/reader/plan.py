@@ -30,6 +30,18 @@ from wzq.io.workbook.reader.values import (
     cell_ref,
 )
 
+#: How spreadsheet programs name the copy of a sheet ("Demand (2)", "Demand_2") and of
+#: the table it holds ("DemandTable2", "DemandTable_2").
+_COPY_TITLE = re.compile(r"(.+?)(?:\s*\(\d+\)|_\d+)")
+_COPY_TABLE = re.compile(r"(.+?)_?\d+")
+_INPUT_TABLES = (
+    L.DEMAND_TABLE,
+    L.SHARE_TABLE,
+    L.CLOSURE_TABLE,
+    L.LANDMARK_TABLE,
+    L.RAMP_FLOW_TABLE,
+)
+
 __all__ = [
     "PlanReader",
 ]
@@ -60,6 +72,8 @@ class PlanReader:
         self.check_speeds(values)
         self.check_congested_branch(values)
         self.check_sheet_names()
+        self.copied_sheets()
+        self.hidden_sheets()
         costs = self.costs()
         demand = self.demand(values.get("site_lanes"))
         risk = self.risk_options(self._history is not None)
@@ -89,6 +103,54 @@ class PlanReader:
                     f"sheet '{ws.title}'",
                     "this sheet of yours has the name of a sheet wzq writes its results to "
                     f"({names}), so `wzq run` would have to replace it; rename it",
+                )
+
+    def hidden_sheets(self) -> None:
+        """Warn about a hidden input sheet: its inputs are read, but nobody sees them (the
+        Count history sheet is read only when chosen, and said then if it is wrong)."""
+        for name in L.INPUT_SHEETS:
+            ws = self._sheets.get(name)
+            if name == L.COUNTS or ws is None or ws.sheet_state == "visible":
+                continue
+            how = (
+                "very hidden (only a macro or the VBA editor unhides it)"
+                if ws.sheet_state == "veryHidden"
+                else "hidden"
+            )
+            self.note(
+                f"sheet '{name}'",
+                f"this input sheet is {how}, and its inputs are read as typed; unhide it to "
+                "see them",
+            )
+
+    def copied_sheets(self) -> None:
+        """Warn about a copy of an input sheet ("Demand (2)" as Excel names it, "Demand_2"
+        as LibreOffice does) or a sheet holding a copy of an input table ("DemandTable2"):
+        only the input sheet itself is read, so values typed on the copy are not used."""
+        counts = self.peek("history_file_sheet")
+        cell = counts[0]._cells.get(counts[1:]) if counts else None
+        counts_on = str(getattr(cell, "value", None) or "").strip().casefold()
+        inputs = {n.casefold(): n for n in L.INPUT_SHEETS}
+        tables = {n.casefold(): n for n in _INPUT_TABLES}
+        for ws in self.wb.worksheets:
+            title = ws.title
+            if title in L.INPUT_SHEETS or title in L.OUTPUT_SHEETS:
+                continue
+            if counts and title.strip().casefold() == counts_on:
+                continue  # a sheet chosen to hold the count history is read
+            m = _COPY_TITLE.fullmatch(title.strip())
+            home = inputs.get(m.group(1).casefold()) if m else None
+            for name in ws.tables:
+                m = _COPY_TABLE.fullmatch(name)
+                table = tables.get(m.group(1).casefold()) if m else None
+                found = self.find_table(table) if table and home is None else None
+                home = found[0].title if found else home
+            if home is not None:
+                self.note(
+                    f"sheet '{title}'",
+                    f"this sheet looks like a copy of the input sheet '{home}' and is not "
+                    f"read: the plan is read from '{home}' only; type your changes there, "
+                    "or delete the copy",
                 )
 
     def explain_below(self, problems: list[Problem]) -> list[Problem]:
@@ -126,6 +188,8 @@ class PlanReader:
         for i, (row, note) in enumerate(zip(self._closure_rows, self._closure_notes, strict=False)):
             out[f"closures[{i}]"] = row
             out[f"closures[{i}].note"] = note
+        for i, where in enumerate(self._closure_overrides):
+            out[f"closures[{i}].capacity_override_veh_h_ln"] = where
         out.update(self.approach_locations())
         return out
 

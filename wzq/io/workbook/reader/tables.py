@@ -20,6 +20,7 @@ from wzq.io.workbook.reader.values import (
     _Table,
     cell_ref,
     destinations,
+    hidden_column,
 )
 
 __all__ = [
@@ -172,8 +173,26 @@ class TableReader:
                 "read as part of the plan (hiding a row does not take it out); delete or "
                 "clear a row to leave it out",
             )
+        self.hidden_columns(t, headers, out)
         self.beside(t)
         return out
+
+    def hidden_columns(self, t: _Table, headers: tuple[str, ...], rows: list[_Row]) -> None:
+        """Warn about values read from a hidden column of a table: hiding a column does not
+        take it out of the plan, but nobody sees what is in it."""
+        for h in headers:
+            if not hidden_column(t.ws, t.col(h)):
+                continue
+            filled = [r.row for r in rows if not _blank(r.values[h])]
+            if filled:
+                n = len(filled)
+                values, are, them = ("values", "are", "them") if n > 1 else ("value", "is", "it")
+                self.note(
+                    cell_ref(t.ws.title, filled[0], t.col(h)),
+                    f"the column '{h}' of {t.name} is hidden, and its {n} {values} {are} "
+                    "read as part of the plan (hiding a column does not take it out); unhide "
+                    f"the column to see {them}, or clear {them} to leave {them} out",
+                )
 
     def _not_ours(self, ws: Worksheet, row: int, col: int, table: str) -> bool:
         """A cell that belongs to no other input: not in another table, not a named input."""

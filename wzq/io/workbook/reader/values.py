@@ -28,6 +28,8 @@ __all__ = [
     "WORKBOOK_SUFFIXES",
     "cell_ref",
     "destinations",
+    "hidden_column",
+    "other_weekday",
 ]
 
 #: File suffixes read as workbooks.
@@ -44,9 +46,7 @@ FIRST_YEAR, LAST_YEAR = 1900, 2199
 #: Serial numbers below this are days of 1900: a small number typed where a date or
 #: time belongs, never a closure date (common practice, no source).
 DAYS_IN_1900 = 367
-#: A growth rate in percent per year smaller than this (in size) looks like a fraction
-#: typed for a percentage (0.02 for 2 %) (common practice, no source).
-FRACTION_GROWTH = 0.1
+FRACTION_GROWTH = F.FRACTION_GROWTH
 
 _MISSING = object()  # a value that could not be read (its problem is already recorded)
 _ISO_DATE = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})$")
@@ -161,3 +161,24 @@ def _pad_iso(text: str) -> str:
     """``2027-5-3`` -> ``2027-05-03``."""
     y, m, d = text.split("-")
     return f"{y}-{int(m):02d}-{int(d):02d}"
+
+
+def hidden_column(ws: Worksheet, col: int) -> bool:
+    """Column ``col`` is hidden (openpyxl keeps one width entry for a run of columns)."""
+    return any(d.hidden and d.min <= col <= d.max for d in ws.column_dimensions.values() if d.min)
+
+
+_WEEKDAYS = ("mon", "tue", "wed", "thu", "fri", "sat", "sun")
+
+
+def other_weekday(text: str, day: dt.date) -> str | None:
+    """What to say when the weekday typed before an ISO date is another day's
+    ("Mon 2027-05-04", a Tuesday: Monday the 3rd or Tuesday the 4th?), else ``None``."""
+    word = text.strip()[:3].casefold()
+    if word not in _WEEKDAYS or _WEEKDAYS.index(word) == day.weekday():
+        return None
+    typed = dt.date(2024, 1, 1 + _WEEKDAYS.index(word))  # 2024-01-01 was a Monday
+    return (
+        f"{day:%Y-%m-%d} is a {day:%A}, not a {typed:%A}; type the date you mean "
+        "(the weekday may be left out)"
+    )
