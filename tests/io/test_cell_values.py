@@ -947,6 +947,11 @@ def test_a_date_time_before_the_serials_day_zero_in_a_time_cell_is_not_a_time(
             "zero, 1900-01-02); did you mean 02:00? Type it with the colon",
         ),
         (
+            dt.timedelta(days=500),  # 05:00 typed without its colon (serial 367 + 133 days)
+            "To: 500 is a number, not a time (a spreadsheet reads it as 500 days after its day "
+            "zero, 1901-05-14); did you mean 05:00? Type it with the colon",
+        ),
+        (
             dt.timedelta(days=367),  # the first serial read as a date-time: 1901-01-01 00:00
             "the closure ends (Tue 1901-01-01 00:00) before it starts (Mon 2027-05-03 21:00); "
             "check the date and time in To",
