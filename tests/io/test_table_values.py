@@ -1120,3 +1120,14 @@ def test_a_name_defined_only_on_an_output_sheet_is_missing(kestrel: bytes) -> No
         "missing; restore it in the Name Manager pointing at its value cell, or copy your "
         "inputs into a fresh workbook from `wzq new`"
     }
+
+
+def test_a_name_whose_cell_was_deleted_points_nowhere(kestrel: bytes) -> None:
+    # deleting a named cell's row leaves the name as Site!#REF! (one sheet, no cell)
+    def edit(wb: Any) -> None:
+        wb.defined_names["site_speed_limit"].attr_text = "Site!#REF!"
+
+    assert read(kestrel, edit) == {
+        "Site (name site_speed_limit)": "the defined name site_speed_limit (Speed limit) points "
+        "nowhere (its cell was deleted); point it at the value cell again in the Name Manager"
+    }
