@@ -1131,3 +1131,22 @@ def test_a_name_whose_cell_was_deleted_points_nowhere(kestrel: bytes) -> None:
         "Site (name site_speed_limit)": "the defined name site_speed_limit (Speed limit) points "
         "nowhere (its cell was deleted); point it at the value cell again in the Name Manager"
     }
+
+
+def test_a_deleted_input_sheet_is_named_once(kestrel: bytes) -> None:
+    # deleting a sheet in a spreadsheet program turns the names on it into #REF!
+    wb = openpyxl.load_workbook(io.BytesIO(kestrel))
+    for dn in wb.defined_names.values():
+        if "Limits!" in str(dn.value):
+            dn.attr_text = "#REF!"
+    del wb["Limits"]
+    with pytest.raises(PlanError) as e:
+        read_plan_from_book(wb, "k.xlsx")
+    said = [(p.where, p.message) for p in e.value.problems if "Limits" in p.where]
+    assert said == [
+        (
+            "Limits (sheet)",
+            "the input sheet 'Limits' is missing (deleted, or its inputs moved without their "
+            "names); copy your inputs into a fresh workbook from `wzq new`",
+        )
+    ]
