@@ -1150,3 +1150,13 @@ def test_a_deleted_input_sheet_is_named_once(kestrel: bytes) -> None:
             "names); copy your inputs into a fresh workbook from `wzq new`",
         )
     ]
+
+
+def test_a_name_pointing_at_a_sheet_that_does_not_exist_is_named(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        wb.defined_names["site_speed_limit"].attr_text = "Nowhere!$B$9"
+
+    assert read(kestrel, edit) == {
+        "Site (name site_speed_limit)": "the defined name site_speed_limit points at a sheet "
+        "'Nowhere' that does not exist; point it at the value cell again in the Name Manager"
+    }
