@@ -1160,3 +1160,16 @@ def test_a_name_pointing_at_a_sheet_that_does_not_exist_is_named(kestrel: bytes)
         "Site (name site_speed_limit)": "the defined name site_speed_limit points at a sheet "
         "'Nowhere' that does not exist; point it at the value cell again in the Name Manager"
     }
+
+
+def test_a_name_pointing_into_an_output_sheet_is_named(kestrel: bytes) -> None:
+    def edit(wb: Any) -> None:
+        from wzq.io.workbook.writer import replace_sheets
+
+        replace_sheets(wb)  # the output sheets of a run
+        wb.defined_names["site_speed_limit"].attr_text = "Results!$B$9"
+
+    assert read(kestrel, edit) == {
+        "Site (name site_speed_limit)": "the defined name site_speed_limit points into the "
+        "output sheet 'Results', which wzq replaces on every run; point it at the input cell"
+    }
