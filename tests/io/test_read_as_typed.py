@@ -354,7 +354,7 @@ def test_a_date_typed_with_another_days_weekday_is_refused(
     (p,) = e.value.problems
     col = "A" if header == "Date" else "C"
     assert p.where == f"Closures!{col}7"
-    assert said in p.message
+    assert p.message.startswith(f"{header}: '{text}': {said}")  # the text as typed
 
 
 def test_a_date_typed_with_its_own_weekday_is_read(kestrel_book: Path, tmp_path: Path) -> None:
@@ -621,6 +621,32 @@ def test_counts_labelled_by_the_hour_they_end_are_queried(
     (w,) = [w for w in warnings_of(kestrel_book, tmp_path, edit) if "hour each count ends" in w]
     assert w.startswith("Demand!B9: ")
     assert "Mon 2027-05-03 01:00 to Thu 2027-05-06 01:00" in w
+
+
+@pytest.mark.parametrize(("hours", "queried"), [(24, True), (23, False)])
+def test_one_day_of_counts_labelled_by_the_hour_they_end_is_queried(
+    kestrel_book: Path, tmp_path: Path, hours: int, queried: bool
+) -> None:
+    """A single day of hour-ending labels (01:00 ... 00:00 the next day: 24 rows) is the
+    smallest demand that shows the sign; 23 rows from 01:00 end at 00:00, no sign."""
+    date_h, time_h, flow_h = L.DEMAND_COLUMNS
+
+    def edit(wb: Any) -> None:
+        for i in range(72):
+            cells = [table_cell(wb, L.DEMAND_TABLE, i, h) for h in (date_h, time_h, flow_h)]
+            if i < hours:
+                end = dt.datetime(2027, 5, 3) + dt.timedelta(hours=i + 1)
+                cells[0].value, cells[1].value = end.replace(hour=0), end.time()
+            else:
+                for c in cells:
+                    c.value = None
+        for header, value in (("From", dt.time(20)), ("To", dt.time(23))):
+            table_cell(wb, L.CLOSURE_TABLE, 0, header).value = value
+        for header in L.CLOSURE_COLUMNS:  # the second closure taken out
+            table_cell(wb, L.CLOSURE_TABLE, 1, header).value = None
+
+    found = [w for w in warnings_of(kestrel_book, tmp_path, edit) if "hour each count ends" in w]
+    assert len(found) == (1 if queried else 0)
 
 
 def test_counts_from_a_morning_hour_are_not_queried(kestrel_book: Path, tmp_path: Path) -> None:
