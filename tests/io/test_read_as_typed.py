@@ -619,8 +619,12 @@ def test_counts_labelled_by_the_hour_they_end_are_queried(
             c.value = dt.time(c.value.hour + 1)
 
     (w,) = [w for w in warnings_of(kestrel_book, tmp_path, edit) if "hour each count ends" in w]
-    assert w.startswith("Demand!B9: ")
-    assert "Mon 2027-05-03 01:00 to Thu 2027-05-06 01:00" in w
+    assert w == (
+        "Demand!B9: the demand runs from Mon 2027-05-03 01:00 to Thu 2027-05-06 01:00: if "
+        "the times are the hour each count ends (01:00 to 24:00), every count is read an "
+        "hour late; Start time is the hour it starts (the count of 00:00-01:00 goes in the "
+        "00:00 row)"
+    )
 
 
 @pytest.mark.parametrize(("hours", "queried"), [(24, True), (23, False)])
