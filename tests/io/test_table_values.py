@@ -1091,6 +1091,18 @@ def test_a_cell_a_broken_name_also_points_at_is_not_read_as_a_row_below_a_table(
     }
 
 
+@pytest.mark.parametrize("coord", ["$9:$9", "$B:$B"])
+def test_a_name_pointing_at_a_whole_row_or_column_is_named(kestrel: bytes, coord: str) -> None:
+    def edit(wb: Any) -> None:
+        wb.defined_names["site_speed_limit"].attr_text = f"Site!{coord}"
+
+    assert read(kestrel, edit) == {
+        "Site (name site_speed_limit)": f"the defined name site_speed_limit (Speed limit) "
+        f"points at '{coord}', not at one cell; point it at the value cell again in the Name "
+        "Manager"
+    }
+
+
 def _speed_limit_named_on(sheet: str) -> Callable[[Any], None]:
     """The speed limit's name defined on one sheet (sheet scope), not for the workbook."""
 

@@ -237,7 +237,7 @@ class CellReader:
             )
             return None
         try:
-            min_col, min_row, _, _ = range_boundaries(coord.replace("$", ""))
+            min_col, min_row, _, _ = range_boundaries(coord)  # reads "$B$9" as it is
         except (ValueError, TypeError):
             min_col = min_row = None
         if min_col is None or min_row is None:  # a whole row or column, or no cell at all
