@@ -41,6 +41,7 @@ from wzq.io.workbook.reader.values import (
     cell_ref,
     destinations,
     hidden_column,
+    hidden_row,
     other_weekday,
 )
 from wzq.io.workbook.saved_values import SharedStrings, typed
@@ -544,8 +545,7 @@ class CellReader:
 
 def _hidden(ws: Worksheet, row: int, col: int) -> bool:
     """The cell's row or column is hidden."""
-    dims = ws.row_dimensions.get(row)
-    return bool(dims is not None and dims.hidden) or hidden_column(ws, col)
+    return hidden_row(ws, row) or hidden_column(ws, col)
 
 
 def _hhmm(x: float) -> str | None:

@@ -21,6 +21,7 @@ from wzq.io.workbook.reader.values import (
     cell_ref,
     destinations,
     hidden_column,
+    hidden_row,
 )
 
 __all__ = [
@@ -142,8 +143,7 @@ class TableReader:
             else:
                 continue  # a blank row
             out.append(_Row(r, values))
-            dims = t.ws.row_dimensions.get(r)
-            if dims is not None and dims.hidden:
+            if hidden_row(t.ws, r):
                 hidden.append(r)
         read = {row.row for row in out}
         taken = [r for r in below if r in read]

@@ -21,7 +21,6 @@ __all__ = [
     "DAY",
     "DAYS_IN_1900",
     "FIRST_YEAR",
-    "FRACTION_GROWTH",
     "LAST_YEAR",
     "MAX_DEMAND_VEH_H_LN",
     "MAX_SERIAL",
@@ -29,6 +28,7 @@ __all__ = [
     "cell_ref",
     "destinations",
     "hidden_column",
+    "hidden_row",
     "other_weekday",
 ]
 
@@ -46,7 +46,6 @@ FIRST_YEAR, LAST_YEAR = 1900, 2199
 #: Serial numbers below this are days of 1900: a small number typed where a date or
 #: time belongs, never a closure date (common practice, no source).
 DAYS_IN_1900 = 367
-FRACTION_GROWTH = F.FRACTION_GROWTH
 
 _MISSING = object()  # a value that could not be read (its problem is already recorded)
 _ISO_DATE = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})$")
@@ -161,6 +160,12 @@ def _pad_iso(text: str) -> str:
     """``2027-5-3`` -> ``2027-05-03``."""
     y, m, d = text.split("-")
     return f"{y}-{int(m):02d}-{int(d):02d}"
+
+
+def hidden_row(ws: Worksheet, row: int) -> bool:
+    """Row ``row`` is hidden (or filtered out, which hides it)."""
+    dims = ws.row_dimensions.get(row)
+    return bool(dims is not None and dims.hidden)
 
 
 def hidden_column(ws: Worksheet, col: int) -> bool:
