@@ -21,12 +21,15 @@ from typing import Any
 
 import openpyxl
 import pytest
+from openpyxl.styles import Font
+from openpyxl.styles.colors import Color
 from openpyxl.utils.datetime import CALENDAR_MAC_1904
 from workbook_helpers import fill_template, named_cell, problem, read, set_named, table_cell
 
 from wzq.engine.plan import Plan
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout as L
+from wzq.io.workbook.reader.values import contrast, unseen
 
 KESTREL = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.json"
 CLOSURES = L.CLOSURE_TABLE
@@ -1009,3 +1012,30 @@ def test_an_error_value_openpyxl_does_not_list_is_named_as_an_error(kestrel: byt
     assert problem(kestrel, edit, "Site!B9") == (
         "shows the error #SPILL!; fix the formula or type the value"
     )
+
+
+@pytest.mark.parametrize(
+    ("a", "b", "ratio"),
+    [
+        # WCAG 2.1 (W3C 2018), "contrast ratio": black on white is 21:1, a colour on itself 1:1
+        ("000000", "FFFFFF", 21.0),
+        ("FBEFD5", "FBEFD5", 1.0),
+        # #767676 on white is the lightest grey that meets WCAG's 4.5:1 for body text, and
+        # #777777 just misses it, 4.48:1 (values from memory of the WCAG examples)
+        ("767676", "FFFFFF", 4.54),
+        ("FFFFFF", "777777", 4.48),
+    ],
+)
+def test_the_contrast_ratio_is_wcags(a: str, b: str, ratio: float) -> None:
+    assert contrast(a, b) == pytest.approx(ratio, abs=0.005)
+
+
+def test_an_indexed_white_font_on_the_input_fill_is_unseen() -> None:
+    """Excel's legacy palette: index 9 is white (openpyxl's COLOR_INDEX, from the OOXML
+    standard, ECMA-376 Part 1, 18.8.27 indexedColors)."""
+    cell = openpyxl.Workbook().active["A1"]
+    cell.value = 7
+    cell.font = Font(color=Color(indexed=9))
+    assert unseen(cell) == "its text colour #FFFFFF on no fill cannot be read"
+    cell.font = Font(color=Color(indexed=8))  # black
+    assert unseen(cell) is None

@@ -15,6 +15,7 @@ from pathlib import Path
 from typing import Any
 
 import pytest
+from openpyxl.styles import Font, PatternFill
 from openpyxl.worksheet.table import Table
 from workbook_helpers import edited, fill_template, find_table, set_named, table_cell, write_table
 
@@ -331,6 +332,81 @@ def test_a_value_in_a_hidden_row_of_an_input_sheet_is_said(
     assert plan.site.base_capacity_pc_h_ln == 2000
     (w,) = [w for w in plan.input_warnings if "hidden" in w]
     assert w.startswith("Site!B23: ")
+
+
+# ---------------------------------------------------------------------------------------------
+# Values the sheet does not show (a ";;;" number format, white text)
+# ---------------------------------------------------------------------------------------------
+
+
+def test_demand_hidden_by_an_empty_number_format_is_read_and_said(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    """Three hourly counts given the number format ';;;' (to tidy a print, or copied with
+    a template's formats): the cells look blank but hold numbers, and the plan uses them.
+    The warning names the first cell and says how many (common practice, no source)."""
+    typed = {}
+
+    def edit(wb: Any) -> None:
+        for i in (3, 4, 5):
+            cell = table_cell(wb, L.DEMAND_TABLE, i, "Demand (veh/h)")
+            cell.number_format = ";;;"
+            typed[i] = cell.value
+        typed["first"] = table_cell(wb, L.DEMAND_TABLE, 3, "Demand (veh/h)").coordinate
+
+    plan = read_plan(edited(kestrel_book, tmp_path, edit))
+    assert [plan.demand.flows_veh_h[i] for i in (3, 4, 5)] == [typed[i] for i in (3, 4, 5)]
+    (w,) = [w for w in plan.input_warnings if "cannot be seen" in w]
+    assert w.startswith(f"{L.DEMAND}!{typed['first']}, ")
+    assert "3 values of DemandTable" in w and "its number format ';;;' shows nothing" in w
+
+
+def test_a_named_input_in_white_text_is_read_and_said(kestrel_book: Path, tmp_path: Path) -> None:
+    """A base capacity typed in white on the template's pale input fill: used, and said at
+    its cell."""
+
+    def edit(wb: Any) -> None:
+        set_named(wb, "site_base_capacity", 2000).font = Font(color="FFFFFF")
+
+    plan = read_plan(edited(kestrel_book, tmp_path, edit))
+    assert plan.site.base_capacity_pc_h_ln == 2000
+    (w,) = [w for w in plan.input_warnings if "cannot be seen" in w]
+    assert w.startswith("Site!B23: ")
+    assert (
+        "(its text colour #FFFFFF on a fill of #FBEFD5 cannot be read)" in w
+        and "read as typed (2000)" in w
+    )
+
+
+@pytest.mark.parametrize(
+    ("number_format", "font", "fill"),
+    [
+        ("0;-0;;@", None, None),  # only a zero is shown blank; the count is not zero
+        ("General", Font(color="FFFFFF"), PatternFill("solid", fgColor="1F3864")),
+        ("0", Font(color="000000"), None),
+    ],
+)
+def test_values_the_sheet_shows_are_not_queried(
+    kestrel_book: Path, tmp_path: Path, number_format: str, font: Any, fill: Any
+) -> None:
+    def edit(wb: Any) -> None:
+        cell = table_cell(wb, L.DEMAND_TABLE, 3, "Demand (veh/h)")
+        cell.number_format = number_format
+        if font is not None:
+            cell.font = font
+        if fill is not None:
+            cell.fill = fill
+
+    assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "cannot be seen" in w]
+
+
+def test_a_blank_cell_with_an_empty_number_format_is_not_queried(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    def edit(wb: Any) -> None:
+        set_named(wb, "site_base_capacity", None).number_format = ";;;"
+
+    assert not [w for w in warnings_of(kestrel_book, tmp_path, edit) if "cannot be seen" in w]
 
 
 @pytest.mark.parametrize(

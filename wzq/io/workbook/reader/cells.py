@@ -43,6 +43,7 @@ from wzq.io.workbook.reader.values import (
     hidden_column,
     hidden_row,
     other_weekday,
+    unseen,
 )
 from wzq.io.workbook.saved_values import SharedStrings, typed
 
@@ -266,6 +267,14 @@ class CellReader:
                 where,
                 f"{field.label} is in a hidden row or column and is read as typed; unhide it "
                 "to see it, or clear it to leave it blank",
+            )
+        why = None if _blank(v) or v is _MISSING else unseen(ws._cells.get((row, col)))
+        if why:
+            self.note(
+                where,
+                f"{field.label} cannot be seen on the sheet ({why}) but is read as typed "
+                f"({_show(v)}); give the cell a visible format and colour to check it, or "
+                "clear it to leave it blank",
             )
         return self.convert(v, field, where, percent_cell=self.percent_cell(ws, row, col))
 

@@ -22,6 +22,7 @@ from wzq.io.workbook.reader.values import (
     destinations,
     hidden_column,
     hidden_row,
+    unseen,
 )
 
 __all__ = [
@@ -126,6 +127,7 @@ class TableReader:
         )
         below = self.rows_below(t, cols)
         hidden = []
+        blind: list[tuple[str, str]] = []  # (cell, why) of values the sheet does not show
         at = [(h, t.col(h)) for h in headers]
         cells = t.ws._cells
         for r in (*filled, *below):
@@ -145,6 +147,10 @@ class TableReader:
             out.append(_Row(r, values))
             if hidden_row(t.ws, r):
                 hidden.append(r)
+            for h, c in at:
+                why = None if _blank(values[h]) else unseen(cells.get((r, c)))
+                if why:
+                    blind.append((cell_ref(t.ws.title, r, c), why))
         read = {row.row for row in out}
         taken = [r for r in below if r in read]
         if taken:
@@ -172,6 +178,16 @@ class TableReader:
                 f"hidden or filtered-out {'row' if len(hidden) == 1 else 'rows'} of {t.name} "
                 "read as part of the plan (hiding a row does not take it out); delete or "
                 "clear a row to leave it out",
+            )
+        if blind:
+            more = f" and {len(blind) - 5} more" if len(blind) > 5 else ""
+            self.note(
+                ", ".join(ref for ref, _ in blind[:5]) + more,
+                f"{'a value' if len(blind) == 1 else f'{len(blind)} values'} of {t.name} "
+                f"cannot be seen on the sheet ({blind[0][0]}: {blind[0][1]}) but "
+                f"{'is' if len(blind) == 1 else 'are'} read as part of the plan; give the "
+                "cells a visible format and colour to check them, or clear them to leave "
+                "them out",
             )
         self.hidden_columns(t, headers, out)
         self.beside(t)

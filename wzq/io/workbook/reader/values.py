@@ -10,6 +10,7 @@ from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
 
+from openpyxl.styles.colors import COLOR_INDEX
 from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.worksheet import Worksheet
 
@@ -26,10 +27,12 @@ __all__ = [
     "MAX_SERIAL",
     "WORKBOOK_SUFFIXES",
     "cell_ref",
+    "contrast",
     "destinations",
     "hidden_column",
     "hidden_row",
     "other_weekday",
+    "unseen",
 ]
 
 #: File suffixes read as workbooks.
@@ -171,6 +174,68 @@ def hidden_row(ws: Worksheet, row: int) -> bool:
 def hidden_column(ws: Worksheet, col: int) -> bool:
     """Column ``col`` is hidden (openpyxl keeps one width entry for a run of columns)."""
     return any(d.hidden and d.min <= col <= d.max for d in ws.column_dimensions.values() if d.min)
+
+
+#: Text whose contrast ratio with its fill is below this cannot be read on the sheet. The
+#: ratio is WCAG 2.1's (W3C, 2018, "contrast ratio" and "relative luminance"): 1 for the
+#: same colour, 21 for black on white; 4.5 is its minimum for body text, and below 1.5
+#: text is all but invisible (the threshold is common practice, no source).
+MIN_CONTRAST = 1.5
+
+
+def _rgb(color: Any) -> str | None:
+    """``"RRGGBB"`` of an openpyxl colour given as RGB or as an indexed colour, else
+    ``None`` (a theme or automatic colour, which depends on the program)."""
+    if color is None:
+        return None
+    if color.type == "rgb" and isinstance(color.rgb, str) and len(color.rgb) in (6, 8):
+        return color.rgb[-6:]
+    if color.type == "indexed" and isinstance(color.indexed, int) and color.indexed < 64:
+        return COLOR_INDEX[color.indexed][-6:]
+    return None
+
+
+def _luminance(rgb: str) -> float:
+    """WCAG 2.1 relative luminance of ``"RRGGBB"`` (sRGB channels linearised)."""
+    lin = []
+    for i in (0, 2, 4):
+        c = int(rgb[i : i + 2], 16) / 255
+        lin.append(c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4)
+    return 0.2126 * lin[0] + 0.7152 * lin[1] + 0.0722 * lin[2]
+
+
+def contrast(a: str, b: str) -> float:
+    """WCAG 2.1 contrast ratio of two ``"RRGGBB"`` colours, 1 to 21."""
+    hi, lo = sorted((_luminance(a), _luminance(b)), reverse=True)
+    return (hi + 0.05) / (lo + 0.05)
+
+
+def unseen(cell: Any) -> str | None:
+    """Why a cell's value is not shown on the sheet, or ``None`` when it is: a number
+    format whose every section is empty (``;;;``) shows nothing, and text the colour of
+    its fill (white on white) cannot be read. The value is still read as typed, so the
+    user must be told. A theme or automatic colour is taken to be readable."""
+    if cell is None or not getattr(cell, "has_style", False):
+        return None
+    fmt = cell.number_format or ""
+    if ";" in fmt and not re.sub(r'""|;|\s', "", fmt):
+        return f"its number format '{fmt}' shows nothing"
+    text = _rgb(cell.font.color if cell.font is not None else None)
+    if text is None:
+        return None
+    fill = cell.fill
+    if fill is None or fill.fill_type is None:
+        back = "FFFFFF"  # no fill: the sheet's white
+    elif fill.fill_type == "solid":
+        back = _rgb(fill.fgColor)
+        if back is None:
+            return None
+    else:
+        return None  # a pattern or gradient: left alone
+    if contrast(text, back) >= MIN_CONTRAST:
+        return None
+    on = "no fill" if fill is None or fill.fill_type is None else f"a fill of #{back}"
+    return f"its text colour #{text} on {on} cannot be read"
 
 
 _WEEKDAYS = ("mon", "tue", "wed", "thu", "fri", "sat", "sun")
