@@ -1039,3 +1039,165 @@ def test_an_indexed_white_font_on_the_input_fill_is_unseen() -> None:
     assert unseen(cell) == "its text colour #FFFFFF on no fill cannot be read"
     cell.font = Font(color=Color(indexed=8))  # black
     assert unseen(cell) is None
+
+
+# -- a time typed without its colon: the ends of the hours and minutes read from it ---------
+# 100 to 2400 with minutes under 60 is read as hh:mm typed without the colon; a number from
+# 367 on is otherwise a date-time serial (1899-12-30 plus that many days, ECMA-376 Part 1,
+# 18.17.4.1): 2401 is 1906-07-28 and 2160 is 1905-11-29, both on another day than Date.
+
+
+@pytest.mark.parametrize(
+    ("header", "value", "where", "message"),
+    [
+        (
+            "From",
+            100,  # the smallest: 01:00 (serial 100 is 1900-04-09: 1900-02-29 is counted)
+            "Closures!B6",
+            "From: 100 is a number, not a time (a spreadsheet reads it as 100 days after its "
+            "day zero, 1900-04-09); did you mean 01:00? Type it with the colon",
+        ),
+        (
+            "From",
+            2159,  # the largest minutes: 59
+            "Closures!B6",
+            "From: 2,159 is a number, not a time (a spreadsheet reads it as 2,159 days after "
+            "its day zero, 1905-11-28); did you mean 21:59? Type it with the colon",
+        ),
+        (
+            "From",
+            2160,  # 60 minutes is not a time: the date-time of serial 2160
+            "Closures!B6",
+            "From holds the date 1905-11-29 but Date is 2027-05-03; make them agree",
+        ),
+        (
+            "To",
+            dt.timedelta(days=2400),  # the largest, 24:00 (To is an elapsed-time cell)
+            "Closures!C6",
+            "To: 2,400 is a number, not a time (a spreadsheet reads it as 2,400 days after its "
+            "day zero, 1906-07-27); did you mean 24:00? Type it with the colon",
+        ),
+        (
+            "To",
+            dt.timedelta(days=2401),  # past 24:00: the date-time of serial 2401
+            "Closures!C6",
+            "the closure ends (Sat 1906-07-28 00:00) before it starts (Mon 2027-05-03 21:00); "
+            "check the date and time in To",
+        ),
+    ],
+)
+def test_a_time_typed_without_its_colon_at_the_ends_of_the_clock(
+    kestrel: bytes, header: str, value: Any, where: str, message: str
+) -> None:
+    assert read(kestrel, closure(header, value)) == {where: message}
+
+
+@pytest.mark.parametrize(
+    ("header", "text", "where", "said"),
+    [
+        # 2027-05-03 is a Monday (the Kestrel Ridge plan's first closure)
+        (
+            "Date",
+            "Tue 2027-05-03",
+            "Closures!A6",
+            "Date: 'Tue 2027-05-03': 2027-05-03 is a Monday, not a Tuesday",
+        ),
+        (
+            "Date",
+            "sun 2027-05-03",
+            "Closures!A6",
+            "Date: 'sun 2027-05-03': 2027-05-03 is a Monday, not a Sunday",
+        ),
+        (
+            "From",
+            "Sat 2027-05-03 21:00",
+            "Closures!B6",
+            "From: 'Sat 2027-05-03 21:00': 2027-05-03 is a Monday, not a Saturday",
+        ),
+    ],
+)
+def test_a_date_typed_with_another_weekday_names_both_days(
+    kestrel: bytes, header: str, text: str, where: str, said: str
+) -> None:
+    assert read(kestrel, closure(header, text)) == {
+        where: f"{said}; type the date you mean (the weekday may be left out)"
+    }
+
+
+# -- the AADT's count year and growth (Demand!F9 and F10 in the template) -------------------
+
+
+def aadt(year: int, growth: float | None) -> Callable[[Any], None]:
+    """AADT 40,000 counted in ``year``, grown ``growth`` % a year to Sat 2027-05-01."""
+
+    def edit(wb: Any) -> None:
+        values = {
+            "demand_mode": "from AADT",
+            "aadt_value": 40_000,
+            "aadt_count_year": year,
+            "aadt_growth_percent": growth,
+            "aadt_direction_percent": 55,
+            "aadt_first_day": dt.datetime(2027, 5, 1),
+            "aadt_days": 5,
+        }
+        for name, value in values.items():
+            set_named(wb, name, value)
+
+    return edit
+
+
+def year_and_growth_warnings(kestrel: bytes, year: int, growth: float | None) -> list[str]:
+    plan = read(kestrel, aadt(year, growth))
+    assert isinstance(plan, Plan), plan
+    return [w for w in plan.input_warnings if w.startswith(("Demand!F9: ", "Demand!F10: "))]
+
+
+@pytest.mark.parametrize(
+    ("year", "growth", "said"),
+    [
+        # a count of the year after: taken back one year at the growth typed (0, or blank)
+        (
+            2028,
+            0,
+            "Demand!F9: Year of the count 2028 is after the year of the first day (2027): the "
+            "AADT is taken back 1 year at 0 % a year; check the year, unless the AADT is a "
+            "forecast",
+        ),
+        (
+            2028,
+            None,
+            "Demand!F9: Year of the count 2028 is after the year of the first day (2027): the "
+            "AADT is taken back 1 year at 0 % a year; check the year, unless the AADT is a "
+            "forecast",
+        ),
+        # 12 % a year over one year is 12 % in all; over two, 1.12^2 - 1 = 25.44 %
+        (
+            2026,
+            12,
+            "Demand!F10: Traffic growth 12 % a year is unusual: 12 % in all over 1 year from "
+            "the count (2026); check the value (a few % a year is usual)",
+        ),
+        (
+            2025,
+            12,
+            "Demand!F10: Traffic growth 12 % a year is unusual: 25 % in all over 2 years from "
+            "the count (2025); check the value (a few % a year is usual)",
+        ),
+        (
+            2026,
+            -12,  # a fall as unusual as a rise: 0.88 - 1 = -12 %
+            "Demand!F10: Traffic growth -12 % a year is unusual: -12 % in all over 1 year from "
+            "the count (2026); check the value (a few % a year is usual)",
+        ),
+    ],
+)
+def test_the_aadt_years_and_growth_queried_in_full(
+    kestrel: bytes, year: int, growth: float | None, said: str
+) -> None:
+    assert year_and_growth_warnings(kestrel, year, growth) == [said]
+
+
+def test_a_growth_of_10_percent_a_year_is_not_queried(kestrel: bytes) -> None:
+    # the query is for a rate above 10 % a year in size (a few % a year is usual)
+    assert year_and_growth_warnings(kestrel, 2026, 10) == []
+    assert year_and_growth_warnings(kestrel, 2026, -10) == []

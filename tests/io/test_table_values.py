@@ -651,6 +651,63 @@ def test_a_hidden_row_is_read_with_a_warning(kestrel: bytes) -> None:
     ) in plan.input_warnings
 
 
+OVERRIDE = "Capacity override (veh/h/ln)"  # column G of the closure table
+
+
+@pytest.mark.parametrize(
+    ("typed", "said"),
+    [
+        (
+            {1: 1900},  # Night 2 only: one value
+            "Closures!G7: the column 'Capacity override (veh/h/ln)' of ClosureTable is hidden, "
+            "and its 1 value is read as part of the plan (hiding a column does not take it "
+            "out); unhide the column to see it, or clear it to leave it out",
+        ),
+        (
+            {0: 1800, 1: 1900},  # both nights: named at the first
+            "Closures!G6: the column 'Capacity override (veh/h/ln)' of ClosureTable is hidden, "
+            "and its 2 values are read as part of the plan (hiding a column does not take it "
+            "out); unhide the column to see them, or clear them to leave them out",
+        ),
+    ],
+)
+def test_values_in_a_hidden_column_are_counted_and_named_at_the_first(
+    kestrel: bytes, typed: dict[int, float], said: str
+) -> None:
+    def edit(wb: Any) -> None:
+        for index, value in typed.items():
+            table_cell(wb, L.CLOSURE_TABLE, index, OVERRIDE).value = value
+        wb["Closures"].column_dimensions["G"].hidden = True
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert [c.capacity_override_veh_h_ln for c in plan.closures[:2]] == [
+        typed.get(0),
+        typed.get(1),
+    ]
+    assert [w for w in plan.input_warnings if "hidden" in w] == [said]
+
+
+def test_a_named_input_in_a_hidden_column_is_said_and_an_empty_hidden_column_is_not(
+    kestrel: bytes,
+) -> None:
+    def base_capacity_hidden(wb: Any) -> None:
+        cell = set_named(wb, "site_base_capacity", 2000)  # Site!B23
+        wb["Site"].column_dimensions[cell.column_letter].hidden = True
+
+    plan = read(kestrel, base_capacity_hidden)
+    assert isinstance(plan, Plan), plan
+    assert plan.site.base_capacity_pc_h_ln == 2000
+    assert (
+        "Site!B23: Base capacity of the open road is in a hidden row or column and is read "
+        "as typed; unhide it to see it, or clear it to leave it blank"
+    ) in plan.input_warnings
+    # column F of the Site sheet holds no input: hiding it says nothing
+    plan = read(kestrel, lambda wb: setattr(wb["Site"].column_dimensions["F"], "hidden", True))
+    assert isinstance(plan, Plan), plan
+    assert not [w for w in plan.input_warnings if "hidden" in w]
+
+
 # -- the hourly counts table -----------------------------------------------------------------
 # Demand!A8:C176 in the template: Date, Start time, Demand (veh/h); the Kestrel Ridge counts
 # fill rows 9 to 80, hour h of Mon 2027-05-03 00:00 on row 9 + h, three lanes.
