@@ -344,7 +344,7 @@ class DemandReader:
         rate above :data:`UNUSUAL_GROWTH_PERCENT` over the years it is applied."""
         if year > plan_year:
             self.note(
-                self.where_of.get("aadt_count_year", "aadt_count_year"),
+                self.where_of["aadt_count_year"],
                 f"Year of the count {year} is after the year of the first day ({plan_year}): "
                 f"the AADT is taken back {year - plan_year} year{'s' * (year - plan_year > 1)} "
                 f"at {_fmt(growth)} % a year; check the year, unless the AADT is a forecast",
@@ -364,7 +364,7 @@ class DemandReader:
         says what it comes to)."""
         if abs(growth) > UNUSUAL_GROWTH_PERCENT:
             self.note(
-                self.where_of.get(name, name),
+                self.where_of[name],
                 f"Traffic growth {_fmt(growth)} % a year is unusual{applied}; check the value "
                 "(a few % a year is usual)",
             )
