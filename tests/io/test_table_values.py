@@ -717,6 +717,64 @@ def demand_cell(wb: Any, row: int, col: str, value: Any) -> None:
     wb["Demand"][f"{col}{row}"] = value
 
 
+def test_one_days_rows_pasted_in_blocks_out_of_order_are_read_in_time_order(
+    kestrel: bytes,
+) -> None:
+    """Monday's 24 rows (sheet rows 9-32) typed as three blocks, 12:00-22:00, then
+    00:00-11:00, then 23:00, every row keeping its own hour's count: read in time order,
+    the same demand as typed in order. The row typed below 22:00 starts at 00:00 of the
+    same date, but counts running past midnight would continue from 23:00, the day's last
+    hour, so nothing is queried."""
+    order = [*range(12, 23), *range(12), 23]
+
+    def edit(wb: Any) -> None:
+        flows = {h: wb["Demand"][f"C{9 + h}"].value for h in range(24)}
+        for i, h in enumerate(order):
+            demand_cell(wb, 9 + i, "A", dt.datetime(2027, 5, 3))
+            demand_cell(wb, 9 + i, "B", dt.time(h))
+            demand_cell(wb, 9 + i, "C", flows[h])
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    typed = load_plan(KESTREL).demand
+    assert plan.demand.start == typed.start == dt.datetime(2027, 5, 3)
+    assert list(plan.demand.flows_veh_h) == list(typed.flows_veh_h)
+    assert not [w for w in plan.input_warnings if "past midnight" in w]
+
+
+@pytest.mark.parametrize(
+    ("days_not_turned", "more"),
+    [(1, ""), (2, " (2 places in all)")],
+)
+def test_counts_past_midnight_without_the_next_date_named_at_the_first_place(
+    kestrel: bytes, days_not_turned: int, more: str
+) -> None:
+    """Kestrel Ridge's 72 hourly counts (Mon 2027-05-03 00:00 to Wed 23:00), the first
+    ``days_not_turned`` days typed from 06:00 to 05:00 with that day's date on every row
+    (the hours after midnight belong to the next day) and the rest from 00:00 to 23:00:
+    read in time order they make the whole grid, so only this query says so. The first
+    00:00 row is the 19th (06:00 + 18 h), sheet row 9 + 18 = 27, below 23:00 on row 26."""
+    mon = dt.datetime(2027, 5, 3)
+    rows: list[dt.datetime] = []
+    for day in range(days_not_turned):
+        rows += [mon + dt.timedelta(days=day, hours=(h + 6) % 24) for h in range(24)]
+    rows += [mon + dt.timedelta(hours=h) for h in range(24 * days_not_turned, 72)]
+
+    def edit(wb: Any) -> None:  # Date and Start time retyped; the counts left as they are
+        for i, when in enumerate(rows):
+            demand_cell(wb, 9 + i, "A", dt.datetime.combine(when.date(), dt.time()))
+            demand_cell(wb, 9 + i, "B", when.time())
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert [w for w in plan.input_warnings if "past midnight" in w] == [
+        "Demand!B27: this row is typed right below Mon 2027-05-03 23:00 (row 26) but keeps "
+        "its date, so it is read as Mon 2027-05-03 00:00, the early morning of that day"
+        f"{more}; if these counts run past midnight, type the next date (2027-05-04) from "
+        "this row on"
+    ]
+
+
 def test_demand_rows_read_as_typed(kestrel: bytes) -> None:
     def edit(wb: Any) -> None:
         demand_cell(wb, 9, "C", "1,250")  # text with a separator: stored as text, refused

@@ -303,8 +303,8 @@ class DemandReader:
         turned = [
             (before, after)
             for before, after in pairwise(entries)
-            if after[0].date() == before[0].date()
-            and dt.timedelta(0) < after[0] + dt.timedelta(days=1) - before[0] <= hour
+            if after[0].date() == before[0].date()  # so less than a day apart: the sum is > 0
+            and after[0] + dt.timedelta(days=1) - before[0] <= hour
         ]
         if not turned:
             return
