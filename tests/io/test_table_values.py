@@ -1300,3 +1300,116 @@ def test_a_name_pointing_into_an_output_sheet_is_named(kestrel: bytes) -> None:
         "Site (name site_speed_limit)": "the defined name site_speed_limit points into the "
         "output sheet 'Results', which wzq replaces on every run; point it at the input cell"
     }
+
+
+# -- input sheets hidden or copied -----------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("state", "how"),
+    [
+        ("hidden", "hidden"),
+        ("veryHidden", "very hidden (only a macro or the VBA editor unhides it)"),
+    ],
+)
+def test_a_hidden_input_sheet_is_said_in_full(kestrel: bytes, state: str, how: str) -> None:
+    def edit(wb: Any) -> None:
+        wb["Limits"].sheet_state = state
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert [w for w in plan.input_warnings if w.startswith("sheet ")] == [
+        f"sheet 'Limits': this input sheet is {how}, and its inputs are read as typed; "
+        "unhide it to see them"
+    ]
+
+
+def copy_of_demand(wb: Any) -> None:
+    """The Demand sheet copied as Excel names the copy."""
+    wb.copy_worksheet(wb["Demand"]).title = "Demand (2)"
+
+
+def no_counts_name(wb: Any) -> None:
+    del wb.defined_names["history_file_sheet"]  # a workbook made before that input
+
+
+def counts_name_on_an_empty_cell(wb: Any) -> None:
+    # a cell never written (openpyxl keeps no cell object for it)
+    wb.defined_names["history_file_sheet"] = DefinedName(
+        "history_file_sheet", attr_text="Demand!$Z$99"
+    )
+
+
+def counts_on_a_copy(wb: Any) -> None:
+    # the count history read from a copy of its sheet, chosen by name: that copy is read
+    wb.copy_worksheet(wb["Count history"]).title = "Count history (2)"
+    set_named(wb, "history_file_sheet", "Count history (2)")
+
+
+def demand_table_copied_onto_closures(wb: Any) -> None:
+    # an input sheet holding a copy of another input's table is still an input sheet
+    wb["Closures"].add_table(Table(displayName="DemandTable2", ref="K5:L7"))
+    wb["Closures"]["K5"], wb["Closures"]["L5"] = "Date", "Demand"
+
+
+def sheet_with_tables(title: str, *tables: str) -> Callable[[Any], None]:
+    """A sheet of the user's holding tables (two columns, two rows each, side by side)."""
+
+    def edit(wb: Any) -> None:
+        ws = wb.create_sheet(title)
+        for i, name in enumerate(tables):
+            col = "ACEG"[i]
+            ws[f"{col}1"], ws[f"{chr(ord(col) + 1)}1"] = "Date", "Value"
+            ws.add_table(Table(displayName=name, ref=f"{col}1:{chr(ord(col) + 1)}3"))
+
+    return edit
+
+
+def closure_table_on_the_copy(wb: Any) -> None:
+    wb["Demand (2)"].add_table(Table(displayName="ClosureTable2", ref="K1:L3"))
+    wb["Demand (2)"]["K1"], wb["Demand (2)"]["L1"] = "Date", "From"
+
+
+def copy_said(title: str, home: str) -> str:
+    return (
+        f"sheet '{title}': this sheet looks like a copy of the input sheet '{home}' and is not "
+        f"read: the plan is read from '{home}' only; type your changes there, or delete the "
+        "copy"
+    )
+
+
+COPY_OF_DEMAND = copy_said("Demand (2)", "Demand")
+
+
+@pytest.mark.parametrize(
+    ("edits", "said"),
+    [
+        ((copy_of_demand,), [COPY_OF_DEMAND]),
+        ((copy_of_demand, no_counts_name), [COPY_OF_DEMAND]),
+        ((copy_of_demand, counts_name_on_an_empty_cell), [COPY_OF_DEMAND]),
+        ((copy_of_demand, counts_on_a_copy), [COPY_OF_DEMAND]),
+        # the sheets after the chosen count-history copy are looked at too
+        ((counts_on_a_copy, copy_of_demand), [COPY_OF_DEMAND]),
+        ((demand_table_copied_onto_closures,), []),
+        # a sheet whose title is not a copy's, holding a copy of the demand table (and a
+        # table of the user's own): named by the table
+        (
+            (sheet_with_tables("Scratch", "Crews", "DemandTable2"),),
+            [copy_said("Scratch", "Demand")],
+        ),
+        # no count-history sheet chosen (blank) is not the sheet named "None"
+        ((sheet_with_tables("None", "DemandTable2"),), [copy_said("None", "Demand")]),
+        # the title names the input sheet before a table copied onto it
+        ((copy_of_demand, closure_table_on_the_copy), [COPY_OF_DEMAND]),
+    ],
+)
+def test_copies_of_input_sheets_are_named_and_nothing_else(
+    kestrel: bytes, edits: tuple[Callable[[Any], None], ...], said: list[str]
+) -> None:
+    def edit(wb: Any) -> None:
+        for e in edits:
+            e(wb)
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert [w for w in plan.input_warnings if "copy" in w] == said

@@ -129,14 +129,15 @@ class PlanReader:
         only the input sheet itself is read, so values typed on the copy are not used."""
         counts = self.peek("history_file_sheet")
         cell = counts[0]._cells.get(counts[1:]) if counts else None
-        counts_on = str(getattr(cell, "value", None) or "").strip().casefold()
+        chosen = getattr(cell, "value", None)  # the sheet chosen to hold the count history
+        counts_on = str(chosen).strip().casefold() if chosen else None
         inputs = {n.casefold(): n for n in L.INPUT_SHEETS}
         tables = {n.casefold(): n for n in _INPUT_TABLES}
         for ws in self.wb.worksheets:
             title = ws.title
             if title in L.INPUT_SHEETS or title in L.OUTPUT_SHEETS:
                 continue
-            if counts and title.strip().casefold() == counts_on:
+            if title.strip().casefold() == counts_on:
                 continue  # a sheet chosen to hold the count history is read
             m = _COPY_TITLE.fullmatch(title.strip())
             home = inputs.get(m.group(1).casefold()) if m else None
