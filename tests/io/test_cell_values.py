@@ -1201,3 +1201,47 @@ def test_a_growth_of_10_percent_a_year_is_not_queried(kestrel: bytes) -> None:
     # the query is for a rate above 10 % a year in size (a few % a year is usual)
     assert year_and_growth_warnings(kestrel, 2026, 10) == []
     assert year_and_growth_warnings(kestrel, 2026, -10) == []
+
+
+# -- a closure from a morning time to an earlier morning time the next day ------------------
+# The first closure is on Mon 2027-05-03; From and To typed as time cells. On the 12-hour
+# clock 9:00 to 5:00 is 9 pm to 5 am, so the hint is From plus 12 hours.
+
+
+@pytest.mark.parametrize(
+    ("start", "end", "said"),
+    [
+        (
+            dt.time(9, 0),  # 20 hours, through both peaks
+            dt.time(5, 0),
+            [
+                "Closures!B6: From 09:00 to 05:00 is read as a closure of 20 hours, to Tue "
+                "2027-05-04 05:00; times are on the 24-hour clock: if the closure starts in the "
+                "evening, type 21:00 in From"
+            ],
+        ),
+        (
+            dt.time(11, 30),  # the latest morning From: 23.5 hours, 23:30 meant
+            dt.time(11, 0),
+            [
+                "Closures!B6: From 11:30 to 11:00 is read as a closure of 23.5 hours, to Tue "
+                "2027-05-04 11:00; times are on the 24-hour clock: if the closure starts in the "
+                "evening, type 23:30 in From"
+            ],
+        ),
+        (dt.time(12, 0), dt.time(11, 0), []),  # noon is 12:00 on both clocks: 23 hours
+        (dt.time(9, 0), dt.time(9, 0), []),  # To as From: 24 hours, said otherwise
+        (dt.time(1, 0), dt.time(5, 0), []),  # a morning closure of 4 hours
+        (dt.time(9, 0), "2027-05-04 10:00", []),  # 25 hours, typed in full
+    ],
+)
+def test_a_morning_closure_to_an_earlier_morning_time_is_queried(
+    kestrel: bytes, start: dt.time, end: Any, said: list[str]
+) -> None:
+    def edit(wb: Any) -> None:
+        closure("From", start)(wb)
+        closure("To", end)(wb)
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert [w for w in plan.input_warnings if "24-hour clock" in w] == said

@@ -27,8 +27,6 @@ __all__ = [
     "ClosureReader",
 ]
 
-HALF_DAY, FULL_DAY = dt.timedelta(hours=12), dt.timedelta(days=1)
-
 
 class ClosureReader:
     """Part of the workbook reader (:class:`wzq.io.workbook.reader.BookReader`)."""
@@ -109,15 +107,15 @@ class ClosureReader:
         the 12-hour clock (9 pm to 5 am)."""
         if start is _MISSING or end is _MISSING:
             return
-        noon, length = dt.time(12), end - start
-        if start.time() < noon and end.time() < noon and HALF_DAY < length < FULL_DAY:
-            evening = start + HALF_DAY
+        # the next day, at an earlier time than From, before noon: from 12 to 24 hours long
+        next_day = end.date() == start.date() + dt.timedelta(days=1)
+        if next_day and end.time() < start.time() < dt.time(12):
             self.note(
                 where,
                 f"From {start:%H:%M} to {end:%H:%M} is read as a closure of "
-                f"{_fmt(length / dt.timedelta(hours=1))} hours, to {_when(end)}; times are on "
-                f"the 24-hour clock: if the closure starts in the evening, type "
-                f"{evening:%H:%M} in From",
+                f"{_fmt((end - start) / dt.timedelta(hours=1))} hours, to {_when(end)}; times "
+                f"are on the 24-hour clock: if the closure starts in the evening, type "
+                f"{start.hour + 12}:{start:%M} in From",
             )
 
     def closure_end(self, v: Any, start: Any, where: str) -> Any:
