@@ -1245,3 +1245,15 @@ def test_a_morning_closure_to_an_earlier_morning_time_is_queried(
     plan = read(kestrel, edit)
     assert isinstance(plan, Plan), plan
     assert [w for w in plan.input_warnings if "24-hour clock" in w] == said
+
+
+def test_to_typed_as_from_is_a_whole_day_and_said_in_full(kestrel: bytes) -> None:
+    # Mon 21:00 to 21:00: a To at or before From ends the next day, 24 hours on
+    plan = read(kestrel, closure("To", dt.time(21, 0)))
+    assert isinstance(plan, Plan), plan
+    assert first_closure(plan) == (dt.datetime(2027, 5, 3, 21), dt.datetime(2027, 5, 4, 21))
+    assert [w for w in plan.input_warnings if "same time" in w] == [
+        "Closures!C6: To is the same time as From (21:00): read as a closure of 24 hours, to "
+        "Tue 2027-05-04 21:00 (a To at or before From ends the next day); if the closure is "
+        "shorter, correct To"
+    ]

@@ -1302,6 +1302,26 @@ def test_a_name_pointing_into_an_output_sheet_is_named(kestrel: bytes) -> None:
     }
 
 
+@pytest.mark.parametrize("target", ["Results!$B$9", "Nowhere!$F$8"])
+def test_an_unused_aadt_name_pointing_off_the_input_sheets_says_nothing(
+    kestrel: bytes, target: str
+) -> None:
+    """The counts are used, so the AADT inputs are only looked at, to say when they are
+    filled in and not used: a name of theirs pointing into an output sheet (whatever the
+    run wrote there) or at a sheet that does not exist is no AADT typed."""
+
+    def edit(wb: Any) -> None:
+        from wzq.io.workbook.writer import replace_sheets
+
+        replace_sheets(wb)  # the output sheets of a run
+        wb["Results"]["B9"] = 40_000
+        wb.defined_names["aadt_value"].attr_text = target
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert not [w for w in plan.input_warnings if "not used" in w]
+
+
 # -- input sheets hidden or copied -----------------------------------------------------------
 
 

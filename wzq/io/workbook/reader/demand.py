@@ -126,12 +126,14 @@ class DemandReader:
     def peek(self, name: str) -> tuple[Worksheet, int, int] | None:
         """The cell a defined name points at, without recording a problem."""
         dn = self.wb.defined_names.get(name)
+        if dn is None:
+            return None
         try:
-            sheet, coord = next(iter(destinations(dn))) if dn is not None else (None, "")
-            c0, r0, _, _ = range_boundaries(coord.replace("$", ""))
+            sheet, coord = next(iter(destinations(dn)))
+            c0, r0, _, _ = range_boundaries(coord)  # reads "$B$9" as it is
         except Exception:
             return None
-        ws = self._sheets.get(sheet) if sheet else None
+        ws = self._sheets.get(sheet)
         if ws is None or sheet in L.OUTPUT_SHEETS or c0 is None or r0 is None:
             return None
         return ws, r0, c0
