@@ -284,7 +284,7 @@ class CellReader:
     def percent_cell(ws: Worksheet, row: int, col: int) -> bool:
         """The cell shows its number as a percentage (its number format scales by 100)."""
         cell = ws._cells.get((row, col))
-        return cell is not None and _percent_format(getattr(cell, "number_format", None))
+        return cell is not None and _percent_format(cell.number_format)  # a Cell or MergedCell
 
     def convert(
         self, v: Any, field: F.Field, where: str, *, percent_cell: bool = False, hint: bool = True
