@@ -206,6 +206,25 @@ def test_counts_left_on_the_counts_sheet_with_another_mode_are_named(tmp_path: P
     assert len(said) == 1 and f"is '{hourly}', so they are not used" in said[0], said
 
 
+def test_counts_and_an_aadt_left_with_the_count_history_are_named(tmp_path: Path) -> None:
+    """Demand from the count history: an hourly count left in the counts table (row 20)
+    and an AADT left typed (Demand!F8) are both unused, each said at its cell."""
+    path = history_book(tmp_path)
+    wb = openpyxl.load_workbook(path)
+    wb["Demand"]["C20"] = 1500
+    set_named(wb, "aadt_value", 40_000)
+    wb.save(path)
+    said = [w for w in read_plan(path).input_warnings if "not used" in w]
+    assert said == [
+        "Demand!A20: the table DemandTable holds counts, but 'Demand is given as' (Demand!B4) "
+        "is 'from a count history', so they are not used; clear them, or choose 'hourly "
+        "counts'",
+        "Demand!F8: AADT, both directions is filled in, but 'Demand is given as' (Demand!B4) "
+        "is 'from a count history', so the AADT inputs are not used; clear them, or choose "
+        "'from AADT'",
+    ]
+
+
 def test_the_example_workbook_reads_as_its_json_plan() -> None:
     # examples/larkspur_vale_week.xlsx was typed from larkspur_vale_week.json by
     # examples/build_examples.py: the count file named on its Demand sheet, the choices

@@ -64,7 +64,7 @@ class DemandReader:
 
     def unused_demand(self, mode: str) -> None:
         """Warn when the demand input that the mode leaves unused is filled in."""
-        switch = self.where_of.get(F.DEMAND_MODE.name, F.DEMAND_MODE.name)
+        switch = self.where_of[F.DEMAND_MODE.name]  # read by demand() before
         word = L.word_for(L.DEMAND_MODE_WORDS, mode)
         if mode == L.HISTORY:  # the counts table and the AADT inputs are both unused
             self.unused_table(switch, word, L.word_for(L.DEMAND_MODE_WORDS, L.HOURLY))
