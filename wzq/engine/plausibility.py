@@ -23,6 +23,7 @@ __all__ = [
     "BUSY_VEH_H_LN",
     "DAY_END_HOUR",
     "DAY_START_HOUR",
+    "FRACTION_PERCENTILE",
     "HCM2000_ONLY",
     "JAM_SPACING_MIN_M",
     "LONG_WORK_ZONE_MI",
@@ -62,6 +63,9 @@ LONG_WORK_ZONE_MI = 10.0
 #: A limit on the average delay below this (s/veh) is queried as hours typed for
 #: minutes (common practice, no source).
 SHORT_DELAY_LIMIT_S = 60.0
+#: A design-demand percentile above 0 up to this is queried as a fraction typed for a
+#: percentile (0.95 for the 95th; common practice, no source).
+FRACTION_PERCENTILE = 1.0
 #: Lane length per stopped vehicle (m) below which a jam density is queried: about a
 #: car's length and a stopped gap (common practice, no source).
 JAM_SPACING_MIN_M = 6.0
@@ -219,6 +223,20 @@ HCM2000_ONLY = (
 )
 
 
+def percentile_as_fraction(plan: Plan) -> list[str]:
+    """A design-demand percentile above 0 up to :data:`FRACTION_PERCENTILE`: percentile 0.95
+    of the matching days is about the quietest of them in each hour, so more likely 0.95
+    typed for the 95th percentile (the percentile is 0-100)."""
+    p = None if plan.history is None else plan.history.rule.percentile
+    if p is None or not 0 < p <= FRACTION_PERCENTILE:
+        return []
+    return [
+        f"{plan.where('demand.history.percentile')}: the design demand is percentile {p:g} of "
+        f"the matching days in each hour, about the lowest of them; the percentile is typed "
+        f"from 0 to 100: did you mean {p * 100:g}? Ignore this if percentile {p:g} is right"
+    ]
+
+
 def unused_by_method(plan: Plan) -> list[str]:
     """Adjustments typed for the HCM 2000 short-term method while another is chosen: they
     change nothing, which the user is told rather than left to assume otherwise."""
@@ -334,4 +352,5 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *dense_jam(plan),
         *near_zero_demand(plan),
         *shares_as_flows(plan),
+        *percentile_as_fraction(plan),
     ]

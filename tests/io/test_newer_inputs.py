@@ -1,0 +1,79 @@
+"""The newer inputs (the approach road, the count history, the risk and the limits the
+closure-window search uses): mistakes a designer in a hurry makes that were read as
+something else without a word, now queried at the cell or key they were typed in.
+
+The plans are the invented examples (Brackenholm Expressway with its ramps and
+landmarks, Larkspur Vale Expressway with its year of counts, Fenwick Downs Motorway in
+metric units, Kestrel Ridge Parkway), edited as JSON or in their workbooks.
+"""
+
+from __future__ import annotations
+
+import json
+import shutil
+from pathlib import Path
+from typing import Any
+
+from workbook_helpers import edited, set_named
+
+from wzq.engine.warnings import input_warnings
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook.reader import read_plan
+
+EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
+BRACKENHOLM = EXAMPLES / "brackenholm_interchange_evening"
+LARKSPUR = EXAMPLES / "larkspur_vale_week"
+FENWICK = EXAMPLES / "fenwick_downs_weekend"
+KESTREL = EXAMPLES / "kestrel_ridge_weeknight"
+COUNTS = EXAMPLES / "larkspur_vale_eb_2026.vol"
+
+
+def example(stem: Path) -> dict:
+    return json.loads(stem.with_suffix(".json").read_text(encoding="utf-8"))
+
+
+def saved(tmp_path: Path, data: dict, name: str = "plan.json") -> Path:
+    if "history" in data["demand"]:
+        shutil.copy(COUNTS, tmp_path)
+    path = tmp_path / name
+    path.write_text(json.dumps(data), encoding="utf-8")
+    return path
+
+
+def said(path: Path, word: str) -> list[str]:
+    """The warnings of a plan (its reader's and the plausibility checks') holding ``word``."""
+    plan = read_plan(path) if path.suffix == ".xlsx" else load_plan(path)
+    return [w for w in input_warnings(plan) if word in w]
+
+
+def book(tmp_path: Path, stem: Path, edit: Any) -> Path:
+    if stem == LARKSPUR:
+        shutil.copy(COUNTS, tmp_path)
+    return edited(stem.with_suffix(".xlsx"), tmp_path, edit)
+
+
+# ---------------------------------------------------------------------------------------------
+# The design demand's percentile typed as a fraction
+# ---------------------------------------------------------------------------------------------
+
+
+def test_a_percentile_typed_as_a_fraction_is_queried(tmp_path: Path) -> None:
+    """0.95 typed for the 95th percentile designs on about the quietest matching day of
+    each hour (the 0.95th percentile), a design demand lower than the mean."""
+    data = example(LARKSPUR)
+    data["demand"]["history"]["percentile"] = 0.95
+    (w,) = said(saved(tmp_path, data), "percentile")
+    assert w.startswith("demand.history.percentile: the design demand is percentile 0.95 of ")
+    assert "did you mean 95?" in w
+
+    (w,) = said(
+        book(tmp_path, LARKSPUR, lambda wb: set_named(wb, "history_percentile", 1)), "percentile"
+    )
+    assert w.startswith("Demand!K28: the design demand is percentile 1 of ")
+    assert "did you mean 100?" in w
+
+
+def test_a_percentile_of_percent_is_not_queried(tmp_path: Path) -> None:
+    data = example(LARKSPUR)
+    data["demand"]["history"]["percentile"] = 85
+    assert not said(saved(tmp_path, data), "percentile")
