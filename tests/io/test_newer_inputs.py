@@ -77,3 +77,30 @@ def test_a_percentile_of_percent_is_not_queried(tmp_path: Path) -> None:
     data = example(LARKSPUR)
     data["demand"]["history"]["percentile"] = 85
     assert not said(saved(tmp_path, data), "percentile")
+
+
+# ---------------------------------------------------------------------------------------------
+# The limits: a delay limit in seconds, a queue limit or a landmark in metres
+# ---------------------------------------------------------------------------------------------
+
+
+def test_a_delay_limit_typed_in_seconds_is_queried(tmp_path: Path) -> None:
+    """300 typed for five minutes (300 s) was a limit of 300 min/veh, which no hour ever
+    breaks: the closure-window search then allows every hour the queue allows."""
+    data = example(KESTREL)
+    data["thresholds"]["max_average_delay_min"] = 300
+    (w,) = said(saved(tmp_path, data), "average delay")
+    assert w.startswith("thresholds.max_average_delay_min: the limit on the average delay is ")
+    assert "300 min/veh (5 h)" in w and "did you mean 5 min (300 s)?" in w
+
+    (w,) = said(
+        book(tmp_path, KESTREL, lambda wb: set_named(wb, "limit_average_delay", 120)),
+        "average delay",
+    )
+    assert w.startswith("Limits!B7: ") and "did you mean 2 min (120 s)?" in w
+
+
+def test_a_delay_limit_of_an_hour_or_less_is_not_queried(tmp_path: Path) -> None:
+    data = example(KESTREL)
+    data["thresholds"]["max_average_delay_min"] = 60
+    assert not said(saved(tmp_path, data), "average delay")

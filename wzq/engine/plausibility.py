@@ -26,6 +26,7 @@ __all__ = [
     "FRACTION_PERCENTILE",
     "HCM2000_ONLY",
     "JAM_SPACING_MIN_M",
+    "LONG_DELAY_LIMIT_S",
     "LONG_WORK_ZONE_MI",
     "MANY_HEAVY_SHARE",
     "MAX_LISTED",
@@ -34,6 +35,7 @@ __all__ = [
     "SHORT_DELAY_LIMIT_S",
     "above_open_road",
     "delay_limit_in_hours",
+    "delay_limit_in_seconds",
     "demand_key",
     "dense_jam",
     "free_flow_below_limits",
@@ -63,6 +65,10 @@ LONG_WORK_ZONE_MI = 10.0
 #: A limit on the average delay below this (s/veh) is queried as hours typed for
 #: minutes (common practice, no source).
 SHORT_DELAY_LIMIT_S = 60.0
+#: A limit on the average delay above this (s/veh) is queried as seconds typed for
+#: minutes: an hour's wait on average is no limit a lane closure is held to (common
+#: practice, no source).
+LONG_DELAY_LIMIT_S = 3600.0
 #: A design-demand percentile above 0 up to this is queried as a fraction typed for a
 #: percentile (0.95 for the 95th; common practice, no source).
 FRACTION_PERCENTILE = 1.0
@@ -216,6 +222,21 @@ def delay_limit_in_hours(plan: Plan) -> list[str]:
     ]
 
 
+def delay_limit_in_seconds(plan: Plan) -> list[str]:
+    """A limit on the average delay above :data:`LONG_DELAY_LIMIT_S`: one no hour of a lane
+    closure breaks, so more likely seconds typed where minutes are asked."""
+    limit = plan.thresholds.max_average_delay
+    if limit is None or limit <= LONG_DELAY_LIMIT_S:
+        return []
+    minutes = limit / u.MINUTE
+    return [
+        f"{plan.where('thresholds.max_average_delay_min')}: the limit on the average delay is "
+        f"{minutes:g} min/veh ({limit / u.HOUR:g} h), more than any lane closure is held to; "
+        f"the limit is in minutes per vehicle: did you mean {minutes / 60:g} min "
+        f"({minutes:g} s)?"
+    ]
+
+
 #: Site inputs only the HCM 2000 short-term method uses (JSON key, label).
 HCM2000_ONLY = (
     ("site.work_intensity_pc_h_ln", "work intensity adjustment"),
@@ -346,6 +367,7 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *above_open_road(plan, open_capacity_veh_h),
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),
+        *delay_limit_in_seconds(plan),
         *unused_by_method(plan),
         *free_flow_below_limits(plan),
         *many_heavy_vehicles(plan),
