@@ -14,10 +14,11 @@ import shutil
 from pathlib import Path
 from typing import Any
 
-from workbook_helpers import edited, set_named
+from workbook_helpers import edited, set_named, table_cell
 
 from wzq.engine.warnings import input_warnings
 from wzq.io.jsonplan import load_plan
+from wzq.io.workbook import layout as L
 from wzq.io.workbook.reader import read_plan
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
@@ -104,3 +105,39 @@ def test_a_delay_limit_of_an_hour_or_less_is_not_queried(tmp_path: Path) -> None
     data = example(KESTREL)
     data["thresholds"]["max_average_delay_min"] = 60
     assert not said(saved(tmp_path, data), "average delay")
+
+
+def test_a_landmark_far_upstream_is_queried(tmp_path: Path) -> None:
+    """The Exit 12 off-ramp, the landmark the queue must not pass, typed 95 (for 0.95 mi, or
+    a slip of the keys) instead of 1.2: the limit could never be broken."""
+    data = example(BRACKENHOLM)
+    data["approach"]["landmarks"][3]["distance"] = 95
+    (w,) = said(saved(tmp_path, data), "upstream")
+    assert w.startswith(
+        "approach.landmarks[3].distance: the landmark 'Exit 12 off-ramp' is 95.0 mi upstream "
+        "of the taper, farther than 10.0 mi"
+    )
+
+    def edit(wb: Any) -> None:
+        table_cell(wb, L.LANDMARK_TABLE, 3, L.LANDMARK_COLUMNS[1]).value = 12
+
+    (w,) = said(book(tmp_path, BRACKENHOLM, edit), "upstream")
+    assert w.startswith("Approach!B11: the landmark 'Exit 12 off-ramp' is 12.0 mi upstream")
+    assert not said(BRACKENHOLM.with_suffix(".xlsx"), "upstream")
+
+
+def test_a_queue_limit_in_metres_in_a_metric_plan_is_queried(tmp_path: Path) -> None:
+    """150 typed for 150 m where km are asked: a limit of 150 km, never reached. 10 mi is
+    16.09 km (10 x 1.609344)."""
+    data = example(FENWICK)
+    data["thresholds"]["max_queue_length"] = 150
+    (w,) = said(saved(tmp_path, data), "upstream")
+    assert w.startswith(
+        "thresholds.max_queue_length: the longest allowed queue is 150.0 km upstream of the "
+        "taper, farther than 16.1 km"
+    )
+    (w,) = said(
+        book(tmp_path, FENWICK, lambda wb: set_named(wb, "limit_queue_length", 150)), "upstream"
+    )
+    assert w.startswith("Limits!B6: the longest allowed queue is 150.0 km")
+    assert not said(FENWICK.with_suffix(".json"), "upstream")  # 2 km

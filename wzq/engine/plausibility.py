@@ -23,6 +23,7 @@ __all__ = [
     "BUSY_VEH_H_LN",
     "DAY_END_HOUR",
     "DAY_START_HOUR",
+    "FAR_UPSTREAM_MI",
     "FRACTION_PERCENTILE",
     "HCM2000_ONLY",
     "JAM_SPACING_MIN_M",
@@ -38,6 +39,7 @@ __all__ = [
     "delay_limit_in_seconds",
     "demand_key",
     "dense_jam",
+    "far_upstream",
     "free_flow_below_limits",
     "many_heavy_vehicles",
     "near_zero_demand",
@@ -65,6 +67,9 @@ LONG_WORK_ZONE_MI = 10.0
 #: A limit on the average delay below this (s/veh) is queried as hours typed for
 #: minutes (common practice, no source).
 SHORT_DELAY_LIMIT_S = 60.0
+#: A landmark or a queue-length limit farther upstream of the taper than this is queried
+#: as a unit slip (metres typed where km are asked; 16 km; common practice, no source).
+FAR_UPSTREAM_MI = 10.0
 #: A limit on the average delay above this (s/veh) is queried as seconds typed for
 #: minutes: an hour's wait on average is no limit a lane closure is held to (common
 #: practice, no source).
@@ -244,6 +249,38 @@ HCM2000_ONLY = (
 )
 
 
+def far_upstream(plan: Plan) -> list[str]:
+    """Landmarks and a queue-length limit farther upstream than :data:`FAR_UPSTREAM_MI`: a
+    lane closure's queue is judged within a few miles of the taper, so such a distance is
+    more likely metres typed where kilometres are asked, or a slip of the keys; a limit or
+    a landmark the queue must not pass that far away is never broken."""
+    system = plan.site.unit_system
+    long_ = u.unit_label("long", system)
+    far = FAR_UPSTREAM_MI * u.MILE
+    typed = [
+        (f"approach.landmarks[{i}].distance", f"the landmark '{lm.name}'", lm.distance)
+        for i, lm in enumerate(plan.approach.landmarks)
+    ]
+    typed.append(
+        (
+            "thresholds.max_queue_length",
+            "the longest allowed queue",
+            plan.thresholds.max_queue_length,
+        )
+    )
+    return _listed(
+        [
+            f"{plan.where(key)}: {what} is {u.m_to_long_length(x, system):,.1f} {long_} upstream "
+            f"of the taper, farther than {u.m_to_long_length(far, system):,.1f} {long_}, "
+            "where a lane closure's queue is seldom judged; check the value and its unit"
+            + (" (metres typed where km are asked?)" if system == "metric" else "")
+            for key, what, x in typed
+            if x is not None and x > far
+        ],
+        "landmarks far upstream",
+    )
+
+
 def percentile_as_fraction(plan: Plan) -> list[str]:
     """A design-demand percentile above 0 up to :data:`FRACTION_PERCENTILE`: percentile 0.95
     of the matching days is about the quietest of them in each hour, so more likely 0.95
@@ -364,6 +401,7 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     road's pre-breakdown capacity with all lanes open (veh/h)."""
     return [
         *site_ranges(plan),
+        *far_upstream(plan),
         *above_open_road(plan, open_capacity_veh_h),
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),

@@ -403,6 +403,11 @@ class ApproachReader:
         return own.get(part) or own[""]
 
     def approach_locations(self) -> dict[str, str]:
-        """``approach.landmarks[i]`` -> the landmark's row (its name cell)."""
+        """``approach.landmarks[i]`` -> the landmark's row (its name cell), and
+        ``approach.landmarks[i].distance`` -> its distance's cell."""
         cells = getattr(self, "_landmark_cells", [])
-        return {f"approach.landmarks[{i}]": own[""] for i, own in enumerate(cells)}
+        out = {f"approach.landmarks[{i}]": own[""] for i, own in enumerate(cells)}
+        out.update(
+            {f"approach.landmarks[{i}].distance": own["distance"] for i, own in enumerate(cells)}
+        )
+        return out
