@@ -9,6 +9,7 @@ metric units, Kestrel Ridge Parkway), edited as JSON or in their workbooks.
 
 from __future__ import annotations
 
+import datetime as dt
 import json
 import shutil
 from pathlib import Path
@@ -141,3 +142,44 @@ def test_a_queue_limit_in_metres_in_a_metric_plan_is_queried(tmp_path: Path) -> 
     )
     assert w.startswith("Limits!B6: the longest allowed queue is 150.0 km")
     assert not said(FENWICK.with_suffix(".json"), "upstream")  # 2 km
+
+
+# ---------------------------------------------------------------------------------------------
+# The count history: old counts not grown, a day far above its weekday
+# ---------------------------------------------------------------------------------------------
+
+#: The Larkspur Vale plan moved 157 weeks later: Mon 2027-05-03 to Mon 2030-05-06.
+LATER = dt.timedelta(weeks=157)
+
+
+def test_counts_years_older_than_the_plan_not_grown_are_queried(tmp_path: Path) -> None:
+    """The counts end on 2026-12-31; a plan from 2030-05-06 is 1,222 days later
+    (365 + 366 + 365 + 126), 3.3 years, and with no growth typed it used 2026's traffic."""
+    data = example(LARKSPUR)
+    moved = lambda t: (dt.datetime.fromisoformat(t) + LATER).isoformat()  # noqa: E731
+    data["demand"]["start"] = moved(data["demand"]["start"])
+    for c in data["closures"]:
+        c["start"], c["end"] = moved(c["start"]), moved(c["end"])
+    data["demand"]["history"]["growth_percent_per_year"] = 0
+    (w,) = said(saved(tmp_path, data), "not grown")
+    assert w.startswith(
+        "demand.history.growth_percent_per_year: the counts end on 2026-12-31, 3.3 years "
+        "before the plan's first day (2030-05-06), and are not grown"
+    )
+
+    def edit(wb: Any) -> None:
+        set_named(wb, "history_first_day", dt.datetime(2030, 5, 6))
+        set_named(wb, "history_growth_percent", None)
+        for i in range(len(data["closures"])):
+            cell = table_cell(wb, L.CLOSURE_TABLE, i, L.CLOSURE_COLUMNS[0])
+            cell.value = cell.value + LATER
+
+    (w,) = said(book(tmp_path, LARKSPUR, edit), "not grown")
+    assert w.startswith("Demand!K27: the counts end on 2026-12-31, 3.3 years")
+
+
+def test_counts_grown_or_recent_are_not_queried(tmp_path: Path) -> None:
+    assert not said(saved(tmp_path, example(LARKSPUR)), "not grown")  # 0.3 years, 1.5 %
+    data = example(LARKSPUR)
+    data["demand"]["history"]["growth_percent_per_year"] = 0
+    assert not said(saved(tmp_path, data), "not grown")  # 2026-12-31 to 2027-05-03

@@ -33,6 +33,7 @@ __all__ = [
     "MAX_LISTED",
     "NEAR_ZERO_SHARE",
     "NEIGHBOURS",
+    "OLD_COUNT_YEARS",
     "SHORT_DELAY_LIMIT_S",
     "above_open_road",
     "delay_limit_in_hours",
@@ -43,6 +44,7 @@ __all__ = [
     "free_flow_below_limits",
     "many_heavy_vehicles",
     "near_zero_demand",
+    "old_counts_not_grown",
     "override_above_open_road",
     "shares_as_flows",
     "site_ranges",
@@ -74,6 +76,9 @@ FAR_UPSTREAM_MI = 10.0
 #: minutes: an hour's wait on average is no limit a lane closure is held to (common
 #: practice, no source).
 LONG_DELAY_LIMIT_S = 3600.0
+#: Counts ending more than this many years before the plan, grown at 0 % a year, are
+#: queried (common practice, no source).
+OLD_COUNT_YEARS = 2.0
 #: A design-demand percentile above 0 up to this is queried as a fraction typed for a
 #: percentile (0.95 for the 95th; common practice, no source).
 FRACTION_PERCENTILE = 1.0
@@ -295,6 +300,25 @@ def percentile_as_fraction(plan: Plan) -> list[str]:
     ]
 
 
+def old_counts_not_grown(plan: Plan) -> list[str]:
+    """A count history ending more than :data:`OLD_COUNT_YEARS` before the plan, with no
+    growth to the plan's dates: the design demand and the risk then rest on the counted
+    years' traffic (a growth cell left blank is 0 % a year)."""
+    h = plan.history
+    if h is None or h.rule.growth_percent_per_year:
+        return []
+    first = plan.demand.start.date()
+    years = (first - h.counts.last_day).days / 365.25
+    if years <= OLD_COUNT_YEARS:
+        return []
+    return [
+        f"{plan.where('demand.history.growth_percent_per_year')}: the counts end on "
+        f"{h.counts.last_day:%Y-%m-%d}, {years:.1f} years before the plan's first day "
+        f"({first:%Y-%m-%d}), and are not grown (0 % a year); type the traffic growth to the "
+        "plan's dates, or ignore this if traffic has not changed since"
+    ]
+
+
 def unused_by_method(plan: Plan) -> list[str]:
     """Adjustments typed for the HCM 2000 short-term method while another is chosen: they
     change nothing, which the user is told rather than left to assume otherwise."""
@@ -413,4 +437,5 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *near_zero_demand(plan),
         *shares_as_flows(plan),
         *percentile_as_fraction(plan),
+        *old_counts_not_grown(plan),
     ]
