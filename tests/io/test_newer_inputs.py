@@ -18,6 +18,7 @@ from typing import Any
 from workbook_helpers import edited, set_named, table_cell
 
 from wzq.engine.warnings import input_warnings
+from wzq.io import counts as C
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.reader import read_plan
@@ -183,3 +184,17 @@ def test_counts_grown_or_recent_are_not_queried(tmp_path: Path) -> None:
     data = example(LARKSPUR)
     data["demand"]["history"]["growth_percent_per_year"] = 0
     assert not said(saved(tmp_path, data), "not grown")  # 2026-12-31 to 2027-05-03
+
+
+def test_a_day_far_above_its_weekday_is_queried() -> None:
+    """A Tuesday of both directions (or of a busier station) pasted among this direction's
+    Tuesdays: four at 1,000 veh/h all day (24,000 vehicles), the fifth at 2,000 (48,000,
+    twice the median), and one at 1,400 (33,600, 140 %) which is not queried."""
+    rows = ["date," + ",".join(str(h) for h in range(24))]
+    day = dt.date(2026, 5, 5)
+    for week, f in enumerate((1.0, 1.0, 2.0, 1.0, 1.4, 1.0)):
+        rows.append(f"{day + dt.timedelta(weeks=week)}," + ",".join([str(int(1000 * f))] * 24))
+    read = C.read_csv_text("\n".join(rows), "w.csv")
+    (w,) = read.warnings
+    assert w.startswith("Tue 2026-05-19: 48,000 vehicles, 200% of the median Tuesday;")
+    assert "both directions" in w

@@ -51,7 +51,8 @@ restriction code, and the days the clocks change for daylight saving time
 (a Sunday in March with only the 02:00 hour missing, or a Sunday in October
 or November with the 01:00 or 02:00 hour given twice; US and European rules
 both change on such a Sunday -- from memory). Days whose total is far below
-the same weekday's median, or with daytime hours of zero, are listed as
+the same weekday's median (or far above it: both directions, another
+station), or with daytime hours of zero, are listed as
 warnings for the engineer to judge (``exclude_days`` leaves them out).
 """
 
@@ -76,6 +77,7 @@ __all__ = [
     "DIRECTIONS",
     "EDITIONS",
     "EXCEL_SUFFIXES",
+    "HIGH_DAY_FACTOR",
     "LOW_DAY_SHARE",
     "MAX_FILE_BYTES",
     "MAX_FLOW_VEH_H_LN",
@@ -111,6 +113,10 @@ MAX_LANES = 8
 #: listed as a warning (a lane out, a counter fault, or a holiday; common
 #: practice, no source).
 LOW_DAY_SHARE = 0.7
+#: A day whose total is above this multiple of the median of the same weekday is
+#: listed as a warning (both directions, another station, or an event; common
+#: practice, no source).
+HIGH_DAY_FACTOR = 1.5
 #: Consecutive zero-count hours between 06:00 and 22:00 that earn a warning.
 ZERO_RUN_HOURS = 3
 #: Largest count file read (bytes): ten years of 15-minute counts fit easily.
@@ -1024,6 +1030,14 @@ def _screen(history: CountHistory) -> list[str]:
                 f"{day:%a %Y-%m-%d}: {totals[d]:,.0f} vehicles, {totals[d] / median:.0%} of the "
                 f"median {WEEKDAY_NAMES[k]}; a holiday, a lane out or a counter fault? "
                 "Leave it out with exclude_days if it is not real traffic"
+            )
+        for d in np.flatnonzero(pick & (totals > HIGH_DAY_FACTOR * median)):
+            day = h.first_day + dt.timedelta(days=int(d))
+            out.append(
+                f"{day:%a %Y-%m-%d}: {totals[d]:,.0f} vehicles, {totals[d] / median:.0%} of the "
+                f"median {WEEKDAY_NAMES[k]}; counts of both directions, of another station, or "
+                "an event? Leave it out with exclude_days if it is not this direction's usual "
+                "traffic"
             )
     hourly = h.flows_veh_h.reshape(h.n_days, 24, -1).mean(axis=2)
     zero = (hourly[:, 6:22] == 0) & usable[:, None]
