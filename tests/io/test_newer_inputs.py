@@ -198,3 +198,22 @@ def test_a_day_far_above_its_weekday_is_queried() -> None:
     (w,) = read.warnings
     assert w.startswith("Tue 2026-05-19: 48,000 vehicles, 200% of the median Tuesday;")
     assert "both directions" in w
+
+
+# ---------------------------------------------------------------------------------------------
+# The approach in a JSON plan: a ramp's share given as a fraction
+# ---------------------------------------------------------------------------------------------
+
+
+def test_a_ramp_share_given_as_a_fraction_in_a_json_plan_is_queried(tmp_path: Path) -> None:
+    """0.14 for the Exit 12 off-ramp's 14 % was read as 0.14 % without a word, where the
+    workbook queries it: 0.14 % of 2,300 veh/h is 3 veh/h leaving instead of 322."""
+    data = example(BRACKENHOLM)
+    data["approach"]["landmarks"][3]["share_percent"] = 0.14
+    (w,) = said(saved(tmp_path, data), "did you mean")
+    assert w == (
+        "approach.landmarks[3].share_percent: Ramp flow is 0.14 %: did you mean 14 %? "
+        "Percentages are given as numbers of percent (14 for 14 %); ignore this if 0.14 % "
+        "is right"
+    )
+    assert not said(BRACKENHOLM.with_suffix(".json"), "did you mean")
