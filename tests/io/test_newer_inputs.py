@@ -217,3 +217,38 @@ def test_a_ramp_share_given_as_a_fraction_in_a_json_plan_is_queried(tmp_path: Pa
         "is right"
     )
     assert not said(BRACKENHOLM.with_suffix(".json"), "did you mean")
+
+
+# ---------------------------------------------------------------------------------------------
+# A ramp whose kind is not what its name says
+# ---------------------------------------------------------------------------------------------
+
+
+def test_a_ramp_of_the_other_kind_than_its_name_is_queried(tmp_path: Path) -> None:
+    """'Exit 12 off-ramp' chosen as an entrance ramp (the next word in the list) added its
+    14 % to the traffic arriving at the closure instead of taking it away; the Sorrel Lane
+    on-ramp typed as 'other' carried none of its traffic."""
+    data = example(BRACKENHOLM)
+    data["approach"]["landmarks"][3]["kind"] = "entrance-ramp"
+    (w,) = said(saved(tmp_path, data), "named an")
+    assert w == (
+        "approach.landmarks[3].kind: 'Exit 12 off-ramp' is named an off-ramp, but its kind "
+        "is entrance ramp, so its flow is added to the mainline instead of taken from it; "
+        "check its kind"
+    )
+
+    def edit(wb: Any) -> None:
+        table_cell(wb, L.LANDMARK_TABLE, 0, L.LANDMARK_COLUMNS[2]).value = "other"
+        for h in range(24):  # its hourly flows go with it
+            wb["Approach"].cell(8 + h, 9).value = None
+        wb["Approach"]["I7"] = "Ramp 1"
+
+    (w,) = said(book(tmp_path, BRACKENHOLM, edit), "named an")
+    assert w.startswith("Approach!C8: 'Sorrel Lane on-ramp' is named an on-ramp, but its kind")
+    assert w.endswith("so it carries no traffic; check its kind")
+
+
+def test_ramps_of_the_kind_their_names_say_are_not_queried() -> None:
+    """The example's names: 'Exit 12 on-ramp' is an entrance whatever its exit number."""
+    assert not said(BRACKENHOLM.with_suffix(".json"), "named an")
+    assert not said(BRACKENHOLM.with_suffix(".xlsx"), "named an")

@@ -12,6 +12,7 @@ Pure functions, no I/O.
 from __future__ import annotations
 
 import datetime as dt
+import re
 
 import numpy as np
 
@@ -278,12 +279,47 @@ def far_upstream(plan: Plan) -> list[str]:
             f"{plan.where(key)}: {what} is {u.m_to_long_length(x, system):,.1f} {long_} upstream "
             f"of the taper, farther than {u.m_to_long_length(far, system):,.1f} {long_}, "
             "where a lane closure's queue is seldom judged; check the value and its unit"
-            + (" (metres typed where km are asked?)" if system == "metric" else "")
+            + (" (metres typed where km are asked?)" if system == "metric" else " (feet?)")
             for key, what, x in typed
             if x is not None and x > far
         ],
         "landmarks far upstream",
     )
+
+
+#: Words of a landmark's name that say which way its traffic goes (common practice, no
+#: source): an exit ramp's, and an entrance ramp's.
+_NAMED_EXIT = re.compile(r"\b(off[- ]?(ramp|slip)|exit (ramp|slip))\b", re.IGNORECASE)
+_NAMED_ENTRANCE = re.compile(
+    r"\b(on[- ]?(ramp|slip)|(entrance|entry) (ramp|slip))\b", re.IGNORECASE
+)
+
+
+def ramp_kind_against_name(plan: Plan) -> list[str]:
+    """A landmark whose name says it is an exit (an off-ramp) or an entrance (an on-ramp)
+    but whose kind says otherwise: an exit typed as an entrance adds the traffic it should
+    take away, and a ramp of another kind carries no traffic at all."""
+    out = []
+    for i, lm in enumerate(plan.approach.landmarks):
+        exit_, entrance = _NAMED_EXIT.search(lm.name), _NAMED_ENTRANCE.search(lm.name)
+        if bool(exit_) == bool(entrance):
+            continue
+        named = "exit-ramp" if exit_ else "entrance-ramp"
+        if lm.kind == named:
+            continue
+        said = (exit_ or entrance).group(0)  # type: ignore[union-attr]
+        if lm.kind == "entrance-ramp":
+            does = "its flow is added to the mainline instead of taken from it"
+        elif lm.kind == "exit-ramp":
+            does = "its flow is taken from the mainline instead of added to it"
+        else:
+            does = "it carries no traffic"
+        out.append(
+            f"{plan.where(f'approach.landmarks[{i}].kind')}: '{lm.name}' is named an "
+            f"{said.casefold()}, but its kind is {lm.kind.replace('-', ' ')}, so {does}; "
+            "check its kind"
+        )
+    return out
 
 
 def percentile_as_fraction(plan: Plan) -> list[str]:
@@ -426,6 +462,7 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     return [
         *site_ranges(plan),
         *far_upstream(plan),
+        *ramp_kind_against_name(plan),
         *above_open_road(plan, open_capacity_veh_h),
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),

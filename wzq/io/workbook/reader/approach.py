@@ -404,10 +404,11 @@ class ApproachReader:
 
     def approach_locations(self) -> dict[str, str]:
         """``approach.landmarks[i]`` -> the landmark's row (its name cell), and
-        ``approach.landmarks[i].distance`` -> its distance's cell."""
+        ``approach.landmarks[i].distance`` (``.kind``) -> its distance's (kind's) cell."""
         cells = getattr(self, "_landmark_cells", [])
         out = {f"approach.landmarks[{i}]": own[""] for i, own in enumerate(cells)}
-        out.update(
-            {f"approach.landmarks[{i}].distance": own["distance"] for i, own in enumerate(cells)}
-        )
+        for part in ("distance", "kind"):
+            out.update(
+                {f"approach.landmarks[{i}].{part}": own[part] for i, own in enumerate(cells)}
+            )
         return out
