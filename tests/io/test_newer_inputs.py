@@ -252,3 +252,27 @@ def test_ramps_of_the_kind_their_names_say_are_not_queried() -> None:
     """The example's names: 'Exit 12 on-ramp' is an entrance whatever its exit number."""
     assert not said(BRACKENHOLM.with_suffix(".json"), "named an")
     assert not said(BRACKENHOLM.with_suffix(".xlsx"), "named an")
+
+
+# ---------------------------------------------------------------------------------------------
+# Days to leave out that are not counted days
+# ---------------------------------------------------------------------------------------------
+
+
+def test_a_day_to_leave_out_outside_the_counts_is_queried(tmp_path: Path) -> None:
+    """The Larkspur Vale counts run through 2026; 2025-06-17 typed for 2026-06-17 (a
+    Wednesday at 69 % of the median) left nothing out, and the low day stayed in."""
+    (w,) = said(
+        book(tmp_path, LARKSPUR, lambda wb: set_named(wb, "history_exclude_days", "2025-06-17")),
+        "left out",
+    )
+    assert w == (
+        "Demand!K18: 2025-06-17 to be left out, but the counts run from 2026-01-01 to "
+        "2026-12-31, so nothing is left out for it; check the year"
+    )
+    data = example(LARKSPUR)
+    data["demand"]["history"]["exclude_days"] = ["2026-06-17", "2027-06-17", "2025-01-01"]
+    (w,) = said(saved(tmp_path, data), "left out")
+    assert w.startswith("demand.history.exclude_days: 2027-06-17, 2025-01-01 to be left out")
+    assert w.endswith("so nothing is left out for them; check the year")
+    assert not said(LARKSPUR.with_suffix(".xlsx"), "left out")

@@ -37,6 +37,7 @@ __all__ = [
     "OLD_COUNT_YEARS",
     "SHORT_DELAY_LIMIT_S",
     "above_open_road",
+    "days_left_out_not_counted",
     "delay_limit_in_hours",
     "delay_limit_in_seconds",
     "demand_key",
@@ -322,6 +323,25 @@ def ramp_kind_against_name(plan: Plan) -> list[str]:
     return out
 
 
+def days_left_out_not_counted(plan: Plan) -> list[str]:
+    """Days to leave out that are not days of the counts: they leave nothing out, so more
+    likely a wrong year or a typo, and the day meant is still used."""
+    h = plan.history
+    if h is None:
+        return []
+    first, last = h.counts.first_day, h.counts.last_day
+    outside = [d for d, _ in h.counts.excluded if not first <= d <= last]
+    if not outside:
+        return []
+    listed = ", ".join(f"{d:%Y-%m-%d}" for d in outside[:MAX_LISTED])
+    more = f" and {len(outside) - MAX_LISTED} more" if len(outside) > MAX_LISTED else ""
+    return [
+        f"{plan.where('demand.history.exclude_days')}: {listed}{more} to be left out, but the "
+        f"counts run from {first:%Y-%m-%d} to {last:%Y-%m-%d}, so nothing is left out for "
+        f"{'it' if len(outside) == 1 else 'them'}; check the year"
+    ]
+
+
 def percentile_as_fraction(plan: Plan) -> list[str]:
     """A design-demand percentile above 0 up to :data:`FRACTION_PERCENTILE`: percentile 0.95
     of the matching days is about the quietest of them in each hour, so more likely 0.95
@@ -475,4 +495,5 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *shares_as_flows(plan),
         *percentile_as_fraction(plan),
         *old_counts_not_grown(plan),
+        *days_left_out_not_counted(plan),
     ]
