@@ -15,8 +15,10 @@ import shutil
 from pathlib import Path
 from typing import Any
 
+import pytest
 from workbook_helpers import edited, set_named, table_cell
 
+from wzq.cli import main
 from wzq.engine.warnings import input_warnings
 from wzq.io import counts as C
 from wzq.io.jsonplan import load_plan
@@ -276,3 +278,21 @@ def test_a_day_to_leave_out_outside_the_counts_is_queried(tmp_path: Path) -> Non
     assert w.startswith("demand.history.exclude_days: 2027-06-17, 2025-01-01 to be left out")
     assert w.endswith("so nothing is left out for them; check the year")
     assert not said(LARKSPUR.with_suffix(".xlsx"), "left out")
+
+
+# ---------------------------------------------------------------------------------------------
+# The closure-window search's risk given as a fraction on the command line
+# ---------------------------------------------------------------------------------------------
+
+
+def test_a_risk_given_as_a_fraction_to_wzq_windows_is_queried(
+    capsys: pytest.CaptureFixture[str],
+) -> None:
+    """`--risk 0.1` for one chance in ten allowed a closure only where at most 0.1 % of the
+    scenarios break a limit, without a word; the same value on the Limits sheet or in a
+    JSON plan is queried."""
+    assert main(["windows", str(KESTREL.with_suffix(".json")), "--risk", "0.1"]) == 0
+    out = capsys.readouterr().out
+    assert "warning: --risk 0.1 is a chance of 0.1 %: did you mean --risk 10 (10 %)?" in out
+    assert main(["windows", str(KESTREL.with_suffix(".json")), "--risk", "10"]) == 0
+    assert "did you mean" not in capsys.readouterr().out

@@ -244,6 +244,12 @@ def cmd_windows(args: argparse.Namespace) -> int:
         )
     if problems:
         raise PlanError(problems)
+    if args.risk is not None and 0 < args.risk <= 1:  # as a percent cell's value is queried
+        print(
+            f"warning: --risk {args.risk:g} is a chance of {args.risk:g} %: did you mean "
+            f"--risk {args.risk * 100:g} ({args.risk * 100:g} %)? The chance is given in "
+            f"percent; ignore this if {args.risk:g} % is right"
+        )
     plan, book = load_any_and_book(Path(args.path))
     if lanes is not None:
         bad = [k for k in lanes if not 1 <= k < plan.site.lanes]
