@@ -296,3 +296,23 @@ def test_a_risk_given_as_a_fraction_to_wzq_windows_is_queried(
     assert "warning: --risk 0.1 is a chance of 0.1 %: did you mean --risk 10 (10 %)?" in out
     assert main(["windows", str(KESTREL.with_suffix(".json")), "--risk", "10"]) == 0
     assert "did you mean" not in capsys.readouterr().out
+
+
+def test_long_form_counts_stamped_at_the_end_of_each_hour_are_queried() -> None:
+    """An export stamping each hour at its end, midnight as 00:00 of the next day (no
+    24:00 to give it away): three weeks from Mon 2026-05-04 01:00 to Mon 2026-05-25 00:00
+    (504 hours) were read an hour late, the two part days listed as gaps only."""
+    t0 = dt.datetime(2026, 5, 4, 1)
+    stamps = [t0 + dt.timedelta(hours=i) for i in range(504)]
+    text = "datetime,count\n" + "\n".join(f"{t:%Y-%m-%d %H:%M},900" for t in stamps)
+    (w,) = C.read_csv_text(text, "end.csv").warnings
+    assert w.startswith(
+        "Mon 2026-05-04: the counts run from 01:00 to 00:00 on Mon 2026-05-25, as time stamps "
+        "at the end of each interval do; read as starts, every count is one interval late"
+    )
+    ends = C.read_csv_text(text, "end.csv", stamp="end")
+    assert not ends.warnings and ends.history.n_days == 21  # 2026-05-04 to 2026-05-24
+    starts = "datetime,count\n" + "\n".join(
+        f"{t - dt.timedelta(hours=1):%Y-%m-%d %H:%M},900" for t in stamps
+    )
+    assert not C.read_csv_text(starts, "start.csv").warnings

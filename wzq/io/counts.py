@@ -891,6 +891,14 @@ def _table_history(
             excluded.append((day, "the clocks go back (an hour counted twice)"))
     if problems:
         raise PlanError(problems)
+    t0, t1 = min(c.when for c in cells), max(c.when for c in cells)
+    if t0.time() == dt.time(step // 3600, step % 3600 // 60) and t1.time() == dt.time():
+        warnings.append(
+            f"{t0:%a %Y-%m-%d}: the counts run from {t0:%H:%M} to 00:00 on "
+            f"{t1:%a %Y-%m-%d}, as time stamps at the end of each interval do; read as starts, "
+            "every count is one interval late. If each stamp is the end of its interval, say "
+            "so (wzq counts --stamp end; in a plan, 'A time stamp is the' end of its interval)"
+        )
     history = CountHistory(first, step, flows, tuple(excluded), source)
     return _finish(history, source, kind=kind, records=n_rows, warnings=warnings)
 
