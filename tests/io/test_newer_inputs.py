@@ -316,3 +316,23 @@ def test_long_form_counts_stamped_at_the_end_of_each_hour_are_queried() -> None:
         f"{t - dt.timedelta(hours=1):%Y-%m-%d %H:%M},900" for t in stamps
     )
     assert not C.read_csv_text(starts, "start.csv").warnings
+
+
+def test_a_ramp_share_above_half_the_mainline_is_queried(tmp_path: Path) -> None:
+    """60 typed in the share column for the off-ramp's 60 veh/h (not 60 %): 60 % of the
+    2,300 veh/h arriving there, 1,380 veh/h, left the mainline, without a word."""
+    data = example(BRACKENHOLM)
+    data["approach"]["landmarks"][3]["share_percent"] = 60
+    (w,) = said(saved(tmp_path, data), "usually carries")
+    assert w.startswith(
+        "approach.landmarks[3].share_percent: 'Exit 12 off-ramp' takes 60 % of the mainline "
+        "flow arriving at it"
+    )
+
+    def edit(wb: Any) -> None:
+        table_cell(wb, L.LANDMARK_TABLE, 2, L.LANDMARK_COLUMNS[3]).value = 55
+
+    (w,) = said(book(tmp_path, BRACKENHOLM, edit), "usually carries")
+    assert w.startswith("Approach!D10: 'Exit 12 on-ramp' adds 55 % of the mainline flow")
+    data["approach"]["landmarks"][3]["share_percent"] = 50
+    assert not said(saved(tmp_path, data), "usually carries")

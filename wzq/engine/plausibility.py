@@ -28,6 +28,7 @@ __all__ = [
     "FRACTION_PERCENTILE",
     "HCM2000_ONLY",
     "JAM_SPACING_MIN_M",
+    "LARGE_RAMP_SHARE",
     "LONG_DELAY_LIMIT_S",
     "LONG_WORK_ZONE_MI",
     "MANY_HEAVY_SHARE",
@@ -74,6 +75,9 @@ SHORT_DELAY_LIMIT_S = 60.0
 #: A landmark or a queue-length limit farther upstream of the taper than this is queried
 #: as a unit slip (metres typed where km are asked; 16 km; common practice, no source).
 FAR_UPSTREAM_MI = 10.0
+#: A ramp's share of the mainline flow above this is queried (a flow in veh/h typed where
+#: the share is asked?; common practice, no source).
+LARGE_RAMP_SHARE = 0.5
 #: A limit on the average delay above this (s/veh) is queried as seconds typed for
 #: minutes: an hour's wait on average is no limit a lane closure is held to (common
 #: practice, no source).
@@ -342,6 +346,22 @@ def days_left_out_not_counted(plan: Plan) -> list[str]:
     ]
 
 
+def large_ramp_share(plan: Plan) -> list[str]:
+    """A ramp whose share of the mainline flow is above :data:`LARGE_RAMP_SHARE`: a ramp
+    seldom carries half the mainline, so more likely a flow in veh/h (or the ramp's flow
+    in both directions) typed where its share in % is asked."""
+    return [
+        f"{plan.locations.get(f'{key}.share', f'{key}.share_percent')}: '{lm.name}' "
+        f"{'takes' if lm.kind == 'exit-ramp' else 'adds'} {lm.ramp_share * 100:g} % of the "
+        "mainline flow arriving at it, more than a ramp usually carries; the share is in % of "
+        "the mainline flow: a flow in veh/h? Give hourly flows in veh/h in the ramp flow table "
+        "instead, or ignore this if the share is right"
+        for i, lm in enumerate(plan.approach.landmarks)
+        for key in [f"approach.landmarks[{i}]"]
+        if lm.ramp_share is not None and lm.ramp_share > LARGE_RAMP_SHARE
+    ]
+
+
 def percentile_as_fraction(plan: Plan) -> list[str]:
     """A design-demand percentile above 0 up to :data:`FRACTION_PERCENTILE`: percentile 0.95
     of the matching days is about the quietest of them in each hour, so more likely 0.95
@@ -483,6 +503,7 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *site_ranges(plan),
         *far_upstream(plan),
         *ramp_kind_against_name(plan),
+        *large_ramp_share(plan),
         *above_open_road(plan, open_capacity_veh_h),
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),

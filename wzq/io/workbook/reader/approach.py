@@ -404,10 +404,10 @@ class ApproachReader:
 
     def approach_locations(self) -> dict[str, str]:
         """``approach.landmarks[i]`` -> the landmark's row (its name cell), and
-        ``approach.landmarks[i].distance`` (``.kind``) -> its distance's (kind's) cell."""
+        ``approach.landmarks[i].distance`` (``.kind``, ``.share``) -> the cell of that value."""
         cells = getattr(self, "_landmark_cells", [])
         out = {f"approach.landmarks[{i}]": own[""] for i, own in enumerate(cells)}
-        for part in ("distance", "kind"):
+        for part in ("distance", "kind", "share"):
             out.update(
                 {f"approach.landmarks[{i}].{part}": own[part] for i, own in enumerate(cells)}
             )
