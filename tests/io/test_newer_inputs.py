@@ -336,3 +336,22 @@ def test_a_ramp_share_above_half_the_mainline_is_queried(tmp_path: Path) -> None
     assert w.startswith("Approach!D10: 'Exit 12 on-ramp' adds 55 % of the mainline flow")
     data["approach"]["landmarks"][3]["share_percent"] = 50
     assert not said(saved(tmp_path, data), "usually carries")
+
+
+def test_unusual_counted_days_reach_a_json_plans_warnings(tmp_path: Path) -> None:
+    """The workbook names counted days far below their weekday; a JSON plan on the same
+    count file said nothing. Without its holidays listed the Larkspur Vale history has four
+    such days, New Year's Day first: 34,808 vehicles, 59 % of the median Thursday."""
+    data = example(LARKSPUR)
+    data["demand"]["history"]["holidays"] = ["2027-05-31"]
+    (w,) = said(saved(tmp_path, data), "worth a look")
+    assert w.startswith(
+        "demand.history.file: the counts in larkspur_vale_eb_2026.vol hold 4 findings worth "
+        "a look (`wzq counts` lists them all): Thu 2026-01-01: 34,808 vehicles, 59% of the "
+        "median Thursday;"
+    )
+    assert w.endswith(" | and 1 more")
+    data["demand"]["history"]["exclude_days"] = ["2026-01-01", "2026-05-25", "2026-11-26"]
+    (w,) = said(saved(tmp_path, data), "worth a look")
+    assert "hold 1 finding worth a look" in w and "Fri 2026-12-25: 35,415 vehicles" in w
+    assert not said(LARKSPUR.with_suffix(".json"), "worth a look")  # its holidays listed

@@ -260,7 +260,8 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
     history = risk = None
     if "history" in d and not r.problems:  # demand from a count history (wzq.io.jsonhistory)
         try:
-            designed, history = history_demand(d, start, source, base)
+            designed, history, found = history_demand(d, start, source, base)
+            r.notes += found
             d = {"veh_h": designed.flows_veh_h.tolist()}
             interval = designed.interval_s / 60
         except PlanError as e:
