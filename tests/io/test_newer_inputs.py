@@ -340,18 +340,38 @@ def test_a_ramp_share_above_half_the_mainline_is_queried(tmp_path: Path) -> None
 
 def test_unusual_counted_days_reach_a_json_plans_warnings(tmp_path: Path) -> None:
     """The workbook names counted days far below their weekday; a JSON plan on the same
-    count file said nothing. Without its holidays listed the Larkspur Vale history has four
-    such days, New Year's Day first: 34,808 vehicles, 59 % of the median Thursday."""
+    count file said nothing. Without its holidays listed the Larkspur Vale history has five
+    such days, New Year's Day first: 34,808 vehicles, 59 % of the median Thursday (and
+    Labor Day, whose traffic falls in other hours than on a Monday)."""
     data = example(LARKSPUR)
     data["demand"]["history"]["holidays"] = ["2027-05-31"]
     (w,) = said(saved(tmp_path, data), "worth a look")
     assert w.startswith(
-        "demand.history.file: the counts in larkspur_vale_eb_2026.vol hold 4 findings worth "
+        "demand.history.file: the counts in larkspur_vale_eb_2026.vol hold 5 findings worth "
         "a look (`wzq counts` lists them all): Thu 2026-01-01: 34,808 vehicles, 59% of the "
         "median Thursday;"
     )
-    assert w.endswith(" | and 1 more")
+    assert w.endswith(" | and 2 more")
     data["demand"]["history"]["exclude_days"] = ["2026-01-01", "2026-05-25", "2026-11-26"]
     (w,) = said(saved(tmp_path, data), "worth a look")
-    assert "hold 1 finding worth a look" in w and "Fri 2026-12-25: 35,415 vehicles" in w
+    assert "hold 2 findings worth a look" in w and "Fri 2026-12-25: 35,415 vehicles" in w
     assert not said(LARKSPUR.with_suffix(".json"), "worth a look")  # its holidays listed
+
+
+def test_a_day_whose_traffic_falls_in_other_hours_is_queried() -> None:
+    """Five Mondays of 24,000 vehicles: three flat at 1,000 veh/h, one at 500 veh/h to noon
+    and 1,500 after (the other direction's day, or another day's), one at 900 and 1,100.
+    Against the usual 1/24 of the day each hour, the second moves half of
+    12 x (1/24 - 1/48) + 12 x (1/16 - 1/24) = 25 % of its vehicles; the third 5 %, not
+    queried. No total is unusual, so nothing was said."""
+    rows = ["date," + ",".join(str(h) for h in range(24))]
+    day = dt.date(2026, 5, 4)
+    for week, (am, pm) in enumerate(((1000, 1000), (500, 1500), (1000, 1000), (900, 1100))):
+        rows.append(
+            f"{day + dt.timedelta(weeks=week)}," + ",".join(map(str, [am] * 12 + [pm] * 12))
+        )
+    rows.append(f"{day + dt.timedelta(weeks=4)}," + ",".join(["1000"] * 24))
+    (w,) = C.read_csv_text("\n".join(rows), "w.csv").warnings
+    assert w.startswith(
+        "Mon 2026-05-11: 25% of its vehicles counted in other hours than on the median Monday;"
+    )

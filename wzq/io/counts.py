@@ -52,7 +52,8 @@ restriction code, and the days the clocks change for daylight saving time
 or November with the 01:00 or 02:00 hour given twice; US and European rules
 both change on such a Sunday -- from memory). Days whose total is far below
 the same weekday's median (or far above it: both directions, another
-station), or with daytime hours of zero, are listed as
+station), or with their traffic in other hours than on that weekday (another
+day's or direction's counts), or with daytime hours of zero, are listed as
 warnings for the engineer to judge (``exclude_days`` leaves them out).
 """
 
@@ -82,6 +83,7 @@ __all__ = [
     "MAX_FILE_BYTES",
     "MAX_FLOW_VEH_H_LN",
     "MAX_LANES",
+    "ODD_HOURS_SHARE",
     "RECORD_LENGTH",
     "RESTRICTIONS",
     "TMG_2001",
@@ -117,6 +119,10 @@ LOW_DAY_SHARE = 0.7
 #: listed as a warning (both directions, another station, or an event; common
 #: practice, no source).
 HIGH_DAY_FACTOR = 1.5
+#: A day with more than this share of its vehicles in other hours than on the median day
+#: of its weekday is listed as a warning (another day's or direction's counts, a
+#: holiday; common practice, no source).
+ODD_HOURS_SHARE = 0.15
 #: Consecutive zero-count hours between 06:00 and 22:00 that earn a warning.
 ZERO_RUN_HOURS = 3
 #: Largest count file read (bytes): ten years of 15-minute counts fit easily.
@@ -1047,6 +1053,7 @@ def _screen(history: CountHistory) -> list[str]:
                 "an event? Leave it out with exclude_days if it is not this direction's usual "
                 "traffic"
             )
+    out += _odd_hours(h, usable, wd, {w[:14] for w in out})
     hourly = h.flows_veh_h.reshape(h.n_days, 24, -1).mean(axis=2)
     zero = (hourly[:, 6:22] == 0) & usable[:, None]
     for d in np.flatnonzero(zero.any(axis=1)):
@@ -1059,6 +1066,35 @@ def _screen(history: CountHistory) -> list[str]:
             out.append(
                 f"{day:%a %Y-%m-%d}: {best} daytime hours in a row with no vehicle counted; "
                 "a counter fault or a road closure? Leave it out with exclude_days if so"
+            )
+    return out
+
+
+def _odd_hours(h: CountHistory, usable: np.ndarray, wd: np.ndarray, said: set[str]) -> list[str]:
+    """Days whose traffic falls in other hours than on the same weekday: more than
+    :data:`ODD_HOURS_SHARE` of the day's vehicles would have to move to other hours to
+    give the median weekday's hourly shares (half the sum of the differences of the
+    shares). Days already said (``said``: their ``Mon 2026-05-04`` start) are left out."""
+    out: list[str] = []
+    hourly = h.flows_veh_h.reshape(h.n_days, 24, -1).mean(axis=2)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        shares = hourly / hourly.sum(axis=1, keepdims=True)
+    for k in range(7):
+        pick = usable & (wd == k) & np.isfinite(shares).all(axis=1)
+        if pick.sum() < 3:
+            continue
+        usual = np.median(shares[pick], axis=0)
+        usual = usual / usual.sum()
+        moved = 0.5 * np.abs(shares - usual).sum(axis=1)
+        for d in np.flatnonzero(pick & (moved > ODD_HOURS_SHARE)):
+            day = h.first_day + dt.timedelta(days=int(d))
+            if f"{day:%a %Y-%m-%d}" in said:
+                continue
+            out.append(
+                f"{day:%a %Y-%m-%d}: {moved[d]:.0%} of its vehicles counted in other hours than "
+                f"on the median {WEEKDAY_NAMES[k]}; a holiday, counts of another day (a week "
+                "pasted a day out?) or of the other direction? Leave it out with exclude_days "
+                "if it is not this day's traffic"
             )
     return out
 
