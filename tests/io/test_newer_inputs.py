@@ -375,3 +375,21 @@ def test_a_day_whose_traffic_falls_in_other_hours_is_queried() -> None:
     assert w.startswith(
         "Mon 2026-05-11: 25% of its vehicles counted in other hours than on the median Monday;"
     )
+
+
+def test_a_value_of_time_per_minute_is_queried(tmp_path: Path) -> None:
+    """0.32 USD per person-minute typed where a value per hour is asked priced every delay
+    at a sixtieth: 0.32 x 60 = 19.2 USD per person-hour."""
+    data = example(KESTREL)
+    data["costs"]["car_value_per_person_h"] = 0.32
+    (w,) = said(saved(tmp_path, data), "value of time")
+    assert w == (
+        "costs.car_value_per_person_h: a value of time of 0.32 USD per person-hour is less "
+        "than one USD an hour; the values are per hour: a value per minute (0.32 x 60 = 19.2 "
+        "per hour)?"
+    )
+    (w,) = said(
+        book(tmp_path, KESTREL, lambda wb: set_named(wb, "cost_truck_value", 0.6)), "value of time"
+    )
+    assert w.startswith("Limits!B14: a value of time of 0.6 USD per vehicle-hour")
+    assert not said(KESTREL.with_suffix(".json"), "value of time")

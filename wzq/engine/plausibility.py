@@ -52,6 +52,7 @@ __all__ = [
     "shares_as_flows",
     "site_ranges",
     "unused_by_method",
+    "value_of_time_per_minute",
     "warnings",
 ]
 
@@ -362,6 +363,25 @@ def large_ramp_share(plan: Plan) -> list[str]:
     ]
 
 
+def value_of_time_per_minute(plan: Plan) -> list[str]:
+    """A value of time above 0 and below one unit of currency an hour: too little in any
+    currency, so more likely a value per minute typed where one per hour is asked (common
+    practice, no source)."""
+    c = plan.costs
+    if c is None:
+        return []
+    return [
+        f"{plan.where(key)}: a value of time of {v:g} {c.currency} per {per}-hour is less than "
+        f"one {c.currency} an hour; the values are per hour: a value per minute ({v:g} x 60 = "
+        f"{v * 60:g} per hour)?"
+        for key, per, v in (
+            ("costs.car_value_per_person_h", "person", c.car_value_per_person_h),
+            ("costs.truck_value_per_veh_h", "vehicle", c.truck_value_per_veh_h),
+        )
+        if 0 < v < 1
+    ]
+
+
 def percentile_as_fraction(plan: Plan) -> list[str]:
     """A design-demand percentile above 0 up to :data:`FRACTION_PERCENTILE`: percentile 0.95
     of the matching days is about the quietest of them in each hour, so more likely 0.95
@@ -508,6 +528,7 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),
         *delay_limit_in_seconds(plan),
+        *value_of_time_per_minute(plan),
         *unused_by_method(plan),
         *free_flow_below_limits(plan),
         *many_heavy_vehicles(plan),
