@@ -21,6 +21,7 @@ from workbook_helpers import edited, set_named, table_cell
 from wzq.cli import main
 from wzq.engine.warnings import input_warnings
 from wzq.io import counts as C
+from wzq.io.batch.runner import run_batch
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.reader import read_plan
@@ -393,3 +394,22 @@ def test_a_value_of_time_per_minute_is_queried(tmp_path: Path) -> None:
     )
     assert w.startswith("Limits!B14: a value of time of 0.6 USD per vehicle-hour")
     assert not said(KESTREL.with_suffix(".json"), "value of time")
+
+
+# ---------------------------------------------------------------------------------------------
+# A bulk run over a folder holding a copy of a plan
+# ---------------------------------------------------------------------------------------------
+
+
+def test_a_copy_of_a_plan_in_a_bulk_run_is_said(tmp_path: Path) -> None:
+    """'kestrel - Copy.json' beside 'kestrel.json' (a copy made in the file manager) was a
+    second row of the summary, counting the same plan twice, without a word."""
+    shutil.copy(KESTREL.with_suffix(".json"), tmp_path / "kestrel.json")
+    shutil.copy(KESTREL.with_suffix(".json"), tmp_path / "kestrel - Copy.json")
+    shutil.copy(FENWICK.with_suffix(".json"), tmp_path / "fenwick.json")
+    result = run_batch(tmp_path, workers=1)
+    assert len(result.rows) == 3
+    assert result.notes == [
+        "kestrel - Copy.json, kestrel.json are the same file, byte for byte, and each is a row "
+        "of the summary; delete a copy that is not a plan of its own"
+    ]
