@@ -413,3 +413,20 @@ def test_a_copy_of_a_plan_in_a_bulk_run_is_said(tmp_path: Path) -> None:
         "kestrel - Copy.json, kestrel.json are the same file, byte for byte, and each is a row "
         "of the summary; delete a copy that is not a plan of its own"
     ]
+
+
+def test_two_ramps_of_one_kind_at_one_point_are_queried(tmp_path: Path) -> None:
+    """The Exit 12 on-ramp's row copied to add a ramp, renamed but left at 1.0 mi: both
+    entrance ramps' 6 % joined the traffic there, without a word. The example's exit and
+    entrance ramps at different distances (and a diamond's at one) are not queried."""
+    data = example(BRACKENHOLM)
+    copy = dict(data["approach"]["landmarks"][2], name="Exit 12 loop on-ramp")
+    data["approach"]["landmarks"].append(copy)
+    (w,) = said(saved(tmp_path, data), "both their flows count")
+    assert w.startswith(
+        "approach.landmarks[5].distance: 'Exit 12 loop on-ramp' and 'Exit 12 on-ramp' are both "
+        "entrance ramps 1.00 mi upstream of the taper"
+    )
+    data["approach"]["landmarks"][5].update(kind="exit-ramp", name="Exit 12 loop off-ramp")
+    assert not said(saved(tmp_path, data), "both their flows count")
+    assert not said(BRACKENHOLM.with_suffix(".xlsx"), "both their flows count")

@@ -382,6 +382,30 @@ def value_of_time_per_minute(plan: Plan) -> list[str]:
     ]
 
 
+def ramps_at_one_point(plan: Plan) -> list[str]:
+    """Two ramps of one kind at the same distance: their flows add up, so more likely a row
+    copied to start a new ramp whose distance was left as it was (an exit ramp and an
+    entrance ramp at one point are a diamond interchange, and not queried)."""
+    out = []
+    seen: dict[tuple[str, float], tuple[int, str]] = {}
+    for i, lm in enumerate(plan.approach.landmarks):
+        if not lm.is_ramp:
+            continue
+        key = (lm.kind, round(lm.distance))  # to the metre
+        if key not in seen:
+            seen[key] = (i, lm.name)
+            continue
+        system = plan.site.unit_system
+        at = f"{u.m_to_long_length(lm.distance, system):,.2f} {u.unit_label('long', system)}"
+        out.append(
+            f"{plan.where(f'approach.landmarks[{i}].distance')}: '{lm.name}' and "
+            f"'{seen[key][1]}' are both {lm.kind.replace('-', ' ')}s {at} upstream of the "
+            "taper, and both their flows count; a row copied without changing its distance? "
+            "Ignore this if both ramps are there"
+        )
+    return out
+
+
 def percentile_as_fraction(plan: Plan) -> list[str]:
     """A design-demand percentile above 0 up to :data:`FRACTION_PERCENTILE`: percentile 0.95
     of the matching days is about the quietest of them in each hour, so more likely 0.95
@@ -524,6 +548,7 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *far_upstream(plan),
         *ramp_kind_against_name(plan),
         *large_ramp_share(plan),
+        *ramps_at_one_point(plan),
         *above_open_road(plan, open_capacity_veh_h),
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),
