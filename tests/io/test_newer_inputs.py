@@ -430,3 +430,15 @@ def test_two_ramps_of_one_kind_at_one_point_are_queried(tmp_path: Path) -> None:
     data["approach"]["landmarks"][5].update(kind="exit-ramp", name="Exit 12 loop off-ramp")
     assert not said(saved(tmp_path, data), "both their flows count")
     assert not said(BRACKENHOLM.with_suffix(".xlsx"), "both their flows count")
+
+
+def test_a_landmark_in_feet_in_a_json_plan_asks_for_miles(tmp_path: Path) -> None:
+    """A JSON plan takes any distance above 0 (a workbook cell refuses more than 100 mi):
+    3,700 ft typed for the Gantry Brook bridge (0.7 mi) was 3,700 mi, without a word."""
+    data = example(BRACKENHOLM)
+    data["approach"]["landmarks"][1]["distance"] = 3700
+    (w,) = said(saved(tmp_path, data), "upstream")
+    assert w.startswith(
+        "approach.landmarks[1].distance: the landmark 'Gantry Brook bridge' is 3,700.0 mi"
+    )
+    assert w.endswith("check the value and its unit (feet typed where miles are asked?)")

@@ -261,6 +261,13 @@ HCM2000_ONLY = (
 )
 
 
+def _unit_slip(shown: float, system: str) -> str:
+    """The unit slip a far distance suggests: metres for km, or (beyond 100 mi) feet."""
+    if system == "metric":
+        return " (metres typed where km are asked?)"
+    return " (feet typed where miles are asked?)" if shown > 100 else ""
+
+
 def far_upstream(plan: Plan) -> list[str]:
     """Landmarks and a queue-length limit farther upstream than :data:`FAR_UPSTREAM_MI`: a
     lane closure's queue is judged within a few miles of the taper, so such a distance is
@@ -285,7 +292,7 @@ def far_upstream(plan: Plan) -> list[str]:
             f"{plan.where(key)}: {what} is {u.m_to_long_length(x, system):,.1f} {long_} upstream "
             f"of the taper, farther than {u.m_to_long_length(far, system):,.1f} {long_}, "
             "where a lane closure's queue is seldom judged; check the value and its unit"
-            + (" (metres typed where km are asked?)" if system == "metric" else " (feet?)")
+            + _unit_slip(u.m_to_long_length(x, system), system)
             for key, what, x in typed
             if x is not None and x > far
         ],
