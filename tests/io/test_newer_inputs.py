@@ -19,6 +19,7 @@ import pytest
 from workbook_helpers import edited, set_named, table_cell
 
 from wzq.cli import main
+from wzq.engine.risk import assess
 from wzq.engine.warnings import input_warnings
 from wzq.io import counts as C
 from wzq.io.batch.runner import run_batch
@@ -442,3 +443,20 @@ def test_a_landmark_in_feet_in_a_json_plan_asks_for_miles(tmp_path: Path) -> Non
         "approach.landmarks[1].distance: the landmark 'Gantry Brook bridge' is 3,700.0 mi"
     )
     assert w.endswith("check the value and its unit (feet typed where miles are asked?)")
+
+
+def test_a_risk_on_one_counted_week_says_so(tmp_path: Path) -> None:
+    """A window of half a week around the same date leaves one counted week for the risk,
+    drawn 1,000 times (1 x 1,000 scenarios): its narrow intervals were about the capacity
+    draws, not the weeks, without a word."""
+    data = example(LARKSPUR)
+    data["demand"]["history"]["window_weeks"] = 0.5
+    result = assess(load_plan(saved(tmp_path, data)))
+    (note,) = [n for n in result.notes if "historical period" in n]
+    assert note.startswith(
+        "Only 1 historical period of the counts matches the plan: its 1,000 scenarios vary the "
+        "capacity on that week alone"
+    )
+    assert note in result.method()
+    data["demand"]["history"]["window_weeks"] = 10
+    assert not [n for n in assess(load_plan(saved(tmp_path, data))).notes if "historical" in n]
