@@ -460,3 +460,16 @@ def test_a_risk_on_one_counted_week_says_so(tmp_path: Path) -> None:
     assert note in result.method()
     data["demand"]["history"]["window_weeks"] = 10
     assert not [n for n in assess(load_plan(saved(tmp_path, data))).notes if "historical" in n]
+
+
+def test_a_day_outside_the_plan_given_to_wzq_windows_is_refused(
+    capsys: pytest.CaptureFixture[str],
+) -> None:
+    """`--days 2027-06-15` on a plan of 72 hours from Mon 2027-05-03 00:00 (to 2027-05-05
+    24:00) printed, for each configuration, "No closure of this configuration keeps every
+    hour within the limits": not so, the day is simply not in the plan."""
+    assert main(["windows", str(KESTREL.with_suffix(".json")), "--days", "2027-06-15"]) == 2
+    err = capsys.readouterr().err
+    assert (
+        "--days: 2027-06-15 is not a day of the plan (2027-05-03 to 2027-05-05); give days" in err
+    )

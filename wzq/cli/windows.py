@@ -259,6 +259,16 @@ def cmd_windows(args: argparse.Namespace) -> int:
                 f"lanes; use 1 to {plan.site.lanes - 1}",
                 where="--lanes-closed",
             )
+    if days is not None:  # a day outside the plan would print "no closure keeps the limits"
+        first, last = plan.demand.start.date(), (plan.demand.end - dt.timedelta(seconds=1)).date()
+        outside = sorted(d for d in days if not first <= d <= last)
+        if outside:
+            raise PlanError(
+                f"{', '.join(d.isoformat() for d in outside)} "
+                f"{'is not a day' if len(outside) == 1 else 'are not days'} of the plan "
+                f"({first} to {last}); give days of the plan",
+                where="--days",
+            )
     if args.typical:
         result = plan_windows(plan, lanes, barrier=args.barrier, typical=True)
     else:
