@@ -343,8 +343,9 @@ def test_demand_hidden_by_an_empty_number_format_is_read_and_said(
     kestrel_book: Path, tmp_path: Path
 ) -> None:
     """Three hourly counts given the number format ';;;' (to tidy a print, or copied with
-    a template's formats): the cells look blank but hold numbers, and the plan uses them.
-    The warning names the first cell and says how many (common practice, no source)."""
+    a template's formats) and one typed in white: the cells look blank but hold numbers,
+    and the plan uses them. The warning names the cells and each reason once (common
+    practice, no source)."""
     typed = {}
 
     def edit(wb: Any) -> None:
@@ -352,13 +353,25 @@ def test_demand_hidden_by_an_empty_number_format_is_read_and_said(
             cell = table_cell(wb, L.DEMAND_TABLE, i, "Demand (veh/h)")
             cell.number_format = ";;;"
             typed[i] = cell.value
-        typed["first"] = table_cell(wb, L.DEMAND_TABLE, 3, "Demand (veh/h)").coordinate
+        cell = table_cell(wb, L.DEMAND_TABLE, 7, "Demand (veh/h)")
+        cell.font = Font(color="FFFFFF")  # and one more in white on the input fill
+        typed[7] = cell.value
+        typed["cells"] = [
+            f"{L.DEMAND}!{table_cell(wb, L.DEMAND_TABLE, i, 'Demand (veh/h)').coordinate}"
+            for i in (3, 4, 5, 7)
+        ]
 
     plan = read_plan(edited(kestrel_book, tmp_path, edit))
-    assert [plan.demand.flows_veh_h[i] for i in (3, 4, 5)] == [typed[i] for i in (3, 4, 5)]
+    rows = (3, 4, 5, 7)
+    assert [plan.demand.flows_veh_h[i] for i in rows] == [typed[i] for i in rows]
     (w,) = [w for w in plan.input_warnings if "cannot be seen" in w]
-    assert w.startswith(f"{L.DEMAND}!{typed['first']}, ")
-    assert "3 values of DemandTable" in w and "its number format ';;;' shows nothing" in w
+    c3, _, _, c7 = typed["cells"]
+    assert w == (
+        f"{', '.join(typed['cells'])}: 4 values of DemandTable cannot be seen on the sheet "
+        f"({c3}: its number format ';;;' shows nothing; {c7}: its text colour #FFFFFF on a "
+        "fill of #FBEFD5 cannot be read) but are read as part of the plan; give the cells a "
+        "visible format and colour to check them, or clear them to leave them out"
+    )
 
 
 def test_a_named_input_in_white_text_is_read_and_said(kestrel_book: Path, tmp_path: Path) -> None:

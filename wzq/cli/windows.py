@@ -16,7 +16,7 @@ import pandas as pd
 
 import wzq
 from wzq import units as u
-from wzq.cli import EXIT_OK, explain
+from wzq.cli import EXIT_OK, explain, print_input_warnings
 from wzq.engine import costs as rc
 from wzq.engine.plan import NIGHT_END_HOUR, NIGHT_START_HOUR, Plan, PlanError, Problem
 from wzq.engine.risk_windows import closure_windows
@@ -244,6 +244,12 @@ def cmd_windows(args: argparse.Namespace) -> int:
         )
     if problems:
         raise PlanError(problems)
+    if args.risk is not None and 0 < args.risk <= 1:  # as a percent cell's value is queried
+        print(
+            f"warning: --risk {args.risk:g} is a chance of {args.risk:g} %: did you mean "
+            f"--risk {args.risk * 100:g} ({args.risk * 100:g} %)? The chance is given in "
+            f"percent; ignore this if {args.risk:g} % is right"
+        )
     plan, book = load_any_and_book(Path(args.path))
     if lanes is not None:
         bad = [k for k in lanes if not 1 <= k < plan.site.lanes]
@@ -252,6 +258,16 @@ def cmd_windows(args: argparse.Namespace) -> int:
                 f"{bad[0]} lanes closed is not possible on this road of {plan.site.lanes} "
                 f"lanes; use 1 to {plan.site.lanes - 1}",
                 where="--lanes-closed",
+            )
+    if days is not None:  # a day outside the plan would print "no closure keeps the limits"
+        first, last = plan.demand.start.date(), (plan.demand.end - dt.timedelta(seconds=1)).date()
+        outside = sorted(d for d in days if not first <= d <= last)
+        if outside:
+            raise PlanError(
+                f"{', '.join(d.isoformat() for d in outside)} "
+                f"{'is not a day' if len(outside) == 1 else 'are not days'} of the plan "
+                f"({first} to {last}); give days of the plan",
+                where="--days",
             )
     if args.typical:
         result = plan_windows(plan, lanes, barrier=args.barrier, typical=True)
@@ -274,6 +290,7 @@ def cmd_windows(args: argparse.Namespace) -> int:
             days=days,
             top=args.top,
         )
+    print_input_warnings(plan)
     return EXIT_OK
 
 

@@ -12,6 +12,7 @@ Pure functions, no I/O.
 from __future__ import annotations
 
 import datetime as dt
+import re
 
 import numpy as np
 
@@ -23,25 +24,35 @@ __all__ = [
     "BUSY_VEH_H_LN",
     "DAY_END_HOUR",
     "DAY_START_HOUR",
+    "FAR_UPSTREAM_MI",
+    "FRACTION_PERCENTILE",
     "HCM2000_ONLY",
     "JAM_SPACING_MIN_M",
+    "LARGE_RAMP_SHARE",
+    "LONG_DELAY_LIMIT_S",
     "LONG_WORK_ZONE_MI",
     "MANY_HEAVY_SHARE",
     "MAX_LISTED",
     "NEAR_ZERO_SHARE",
     "NEIGHBOURS",
+    "OLD_COUNT_YEARS",
     "SHORT_DELAY_LIMIT_S",
     "above_open_road",
+    "days_left_out_not_counted",
     "delay_limit_in_hours",
+    "delay_limit_in_seconds",
     "demand_key",
     "dense_jam",
+    "far_upstream",
     "free_flow_below_limits",
     "many_heavy_vehicles",
     "near_zero_demand",
+    "old_counts_not_grown",
     "override_above_open_road",
     "shares_as_flows",
     "site_ranges",
     "unused_by_method",
+    "value_of_time_per_minute",
     "warnings",
 ]
 
@@ -62,6 +73,22 @@ LONG_WORK_ZONE_MI = 10.0
 #: A limit on the average delay below this (s/veh) is queried as hours typed for
 #: minutes (common practice, no source).
 SHORT_DELAY_LIMIT_S = 60.0
+#: A landmark or a queue-length limit farther upstream of the taper than this is queried
+#: as a unit slip (metres typed where km are asked; 16 km; common practice, no source).
+FAR_UPSTREAM_MI = 10.0
+#: A ramp's share of the mainline flow above this is queried (a flow in veh/h typed where
+#: the share is asked?; common practice, no source).
+LARGE_RAMP_SHARE = 0.5
+#: A limit on the average delay above this (s/veh) is queried as seconds typed for
+#: minutes: an hour's wait on average is no limit a lane closure is held to (common
+#: practice, no source).
+LONG_DELAY_LIMIT_S = 3600.0
+#: Counts ending more than this many years before the plan, grown at 0 % a year, are
+#: queried (common practice, no source).
+OLD_COUNT_YEARS = 2.0
+#: A design-demand percentile above 0 up to this is queried as a fraction typed for a
+#: percentile (0.95 for the 95th; common practice, no source).
+FRACTION_PERCENTILE = 1.0
 #: Lane length per stopped vehicle (m) below which a jam density is queried: about a
 #: car's length and a stopped gap (common practice, no source).
 JAM_SPACING_MIN_M = 6.0
@@ -212,11 +239,211 @@ def delay_limit_in_hours(plan: Plan) -> list[str]:
     ]
 
 
+def delay_limit_in_seconds(plan: Plan) -> list[str]:
+    """A limit on the average delay above :data:`LONG_DELAY_LIMIT_S`: one no hour of a lane
+    closure breaks, so more likely seconds typed where minutes are asked."""
+    limit = plan.thresholds.max_average_delay
+    if limit is None or limit <= LONG_DELAY_LIMIT_S:
+        return []
+    minutes = limit / u.MINUTE
+    return [
+        f"{plan.where('thresholds.max_average_delay_min')}: the limit on the average delay is "
+        f"{minutes:g} min/veh ({limit / u.HOUR:g} h), more than any lane closure is held to; "
+        f"the limit is in minutes per vehicle: did you mean {minutes / 60:g} min "
+        f"({minutes:g} s)?"
+    ]
+
+
 #: Site inputs only the HCM 2000 short-term method uses (JSON key, label).
 HCM2000_ONLY = (
     ("site.work_intensity_pc_h_ln", "work intensity adjustment"),
     ("site.ramp_adjustment_pc_h_ln", "entrance-ramp adjustment"),
 )
+
+
+def _unit_slip(shown: float, system: str) -> str:
+    """The unit slip a far distance suggests: metres for km, or (beyond 100 mi) feet."""
+    if system == "metric":
+        return " (metres typed where km are asked?)"
+    return " (feet typed where miles are asked?)" if shown > 100 else ""
+
+
+def far_upstream(plan: Plan) -> list[str]:
+    """Landmarks and a queue-length limit farther upstream than :data:`FAR_UPSTREAM_MI`: a
+    lane closure's queue is judged within a few miles of the taper, so such a distance is
+    more likely metres typed where kilometres are asked, or a slip of the keys; a limit or
+    a landmark the queue must not pass that far away is never broken."""
+    system = plan.site.unit_system
+    long_ = u.unit_label("long", system)
+    far = FAR_UPSTREAM_MI * u.MILE
+    typed = [
+        (f"approach.landmarks[{i}].distance", f"the landmark '{lm.name}'", lm.distance)
+        for i, lm in enumerate(plan.approach.landmarks)
+    ]
+    typed.append(
+        (
+            "thresholds.max_queue_length",
+            "the longest allowed queue",
+            plan.thresholds.max_queue_length,
+        )
+    )
+    return _listed(
+        [
+            f"{plan.where(key)}: {what} is {u.m_to_long_length(x, system):,.1f} {long_} upstream "
+            f"of the taper, farther than {u.m_to_long_length(far, system):,.1f} {long_}, "
+            "where a lane closure's queue is seldom judged; check the value and its unit"
+            + _unit_slip(u.m_to_long_length(x, system), system)
+            for key, what, x in typed
+            if x is not None and x > far
+        ],
+        "landmarks far upstream",
+    )
+
+
+#: Words of a landmark's name that say which way its traffic goes (common practice, no
+#: source): an exit ramp's, and an entrance ramp's.
+_NAMED_EXIT = re.compile(r"\b(off[- ]?(ramp|slip)|exit (ramp|slip))\b", re.IGNORECASE)
+_NAMED_ENTRANCE = re.compile(
+    r"\b(on[- ]?(ramp|slip)|(entrance|entry) (ramp|slip))\b", re.IGNORECASE
+)
+
+
+def ramp_kind_against_name(plan: Plan) -> list[str]:
+    """A landmark whose name says it is an exit (an off-ramp) or an entrance (an on-ramp)
+    but whose kind says otherwise: an exit typed as an entrance adds the traffic it should
+    take away, and a ramp of another kind carries no traffic at all."""
+    out = []
+    for i, lm in enumerate(plan.approach.landmarks):
+        exit_, entrance = _NAMED_EXIT.search(lm.name), _NAMED_ENTRANCE.search(lm.name)
+        if bool(exit_) == bool(entrance):
+            continue
+        named = "exit-ramp" if exit_ else "entrance-ramp"
+        if lm.kind == named:
+            continue
+        said = (exit_ or entrance).group(0)  # type: ignore[union-attr]
+        if lm.kind == "entrance-ramp":
+            does = "its flow is added to the mainline instead of taken from it"
+        elif lm.kind == "exit-ramp":
+            does = "its flow is taken from the mainline instead of added to it"
+        else:
+            does = "it carries no traffic"
+        out.append(
+            f"{plan.where(f'approach.landmarks[{i}].kind')}: '{lm.name}' is named an "
+            f"{said.casefold()}, but its kind is {lm.kind.replace('-', ' ')}, so {does}; "
+            "check its kind"
+        )
+    return out
+
+
+def days_left_out_not_counted(plan: Plan) -> list[str]:
+    """Days to leave out that are not days of the counts: they leave nothing out, so more
+    likely a wrong year or a typo, and the day meant is still used."""
+    h = plan.history
+    if h is None:
+        return []
+    first, last = h.counts.first_day, h.counts.last_day
+    outside = [d for d, _ in h.counts.excluded if not first <= d <= last]
+    if not outside:
+        return []
+    listed = ", ".join(f"{d:%Y-%m-%d}" for d in outside[:MAX_LISTED])
+    more = f" and {len(outside) - MAX_LISTED} more" if len(outside) > MAX_LISTED else ""
+    return [
+        f"{plan.where('demand.history.exclude_days')}: {listed}{more} to be left out, but the "
+        f"counts run from {first:%Y-%m-%d} to {last:%Y-%m-%d}, so nothing is left out for "
+        f"{'it' if len(outside) == 1 else 'them'}; check the year"
+    ]
+
+
+def large_ramp_share(plan: Plan) -> list[str]:
+    """A ramp whose share of the mainline flow is above :data:`LARGE_RAMP_SHARE`: a ramp
+    seldom carries half the mainline, so more likely a flow in veh/h (or the ramp's flow
+    in both directions) typed where its share in % is asked."""
+    return [
+        f"{plan.locations.get(f'{key}.share', f'{key}.share_percent')}: '{lm.name}' "
+        f"{'takes' if lm.kind == 'exit-ramp' else 'adds'} {lm.ramp_share * 100:g} % of the "
+        "mainline flow arriving at it, more than a ramp usually carries; the share is in % of "
+        "the mainline flow: a flow in veh/h? Give hourly flows in veh/h in the ramp flow table "
+        "instead, or ignore this if the share is right"
+        for i, lm in enumerate(plan.approach.landmarks)
+        for key in [f"approach.landmarks[{i}]"]
+        if lm.ramp_share is not None and lm.ramp_share > LARGE_RAMP_SHARE
+    ]
+
+
+def value_of_time_per_minute(plan: Plan) -> list[str]:
+    """A value of time above 0 and below one unit of currency an hour: too little in any
+    currency, so more likely a value per minute typed where one per hour is asked (common
+    practice, no source)."""
+    c = plan.costs
+    if c is None:
+        return []
+    return [
+        f"{plan.where(key)}: a value of time of {v:g} {c.currency} per {per}-hour is less than "
+        f"one {c.currency} an hour; the values are per hour: a value per minute ({v:g} x 60 = "
+        f"{v * 60:g} per hour)?"
+        for key, per, v in (
+            ("costs.car_value_per_person_h", "person", c.car_value_per_person_h),
+            ("costs.truck_value_per_veh_h", "vehicle", c.truck_value_per_veh_h),
+        )
+        if 0 < v < 1
+    ]
+
+
+def ramps_at_one_point(plan: Plan) -> list[str]:
+    """Two ramps of one kind at the same distance: their flows add up, so more likely a row
+    copied to start a new ramp whose distance was left as it was (an exit ramp and an
+    entrance ramp at one point are a diamond interchange, and not queried)."""
+    out = []
+    seen: dict[tuple[str, float], tuple[int, str]] = {}
+    for i, lm in enumerate(plan.approach.landmarks):
+        if not lm.is_ramp:
+            continue
+        key = (lm.kind, round(lm.distance))  # to the metre
+        if key not in seen:
+            seen[key] = (i, lm.name)
+            continue
+        system = plan.site.unit_system
+        at = f"{u.m_to_long_length(lm.distance, system):,.2f} {u.unit_label('long', system)}"
+        out.append(
+            f"{plan.where(f'approach.landmarks[{i}].distance')}: '{lm.name}' and "
+            f"'{seen[key][1]}' are both {lm.kind.replace('-', ' ')}s {at} upstream of the "
+            "taper, and both their flows count; a row copied without changing its distance? "
+            "Ignore this if both ramps are there"
+        )
+    return out
+
+
+def percentile_as_fraction(plan: Plan) -> list[str]:
+    """A design-demand percentile above 0 up to :data:`FRACTION_PERCENTILE`: percentile 0.95
+    of the matching days is about the quietest of them in each hour, so more likely 0.95
+    typed for the 95th percentile (the percentile is 0-100)."""
+    p = None if plan.history is None else plan.history.rule.percentile
+    if p is None or not 0 < p <= FRACTION_PERCENTILE:
+        return []
+    return [
+        f"{plan.where('demand.history.percentile')}: the design demand is percentile {p:g} of "
+        f"the matching days in each hour, about the lowest of them; the percentile is typed "
+        f"from 0 to 100: did you mean {p * 100:g}? Ignore this if percentile {p:g} is right"
+    ]
+
+
+def old_counts_not_grown(plan: Plan) -> list[str]:
+    """A count history ending more than :data:`OLD_COUNT_YEARS` before the plan, with no
+    growth to the plan's dates: the design demand and the risk then rest on the counted
+    years' traffic (a growth cell left blank is 0 % a year)."""
+    h = plan.history
+    if h is None or h.rule.growth_percent_per_year:
+        return []
+    first = plan.demand.start.date()
+    years = (first - h.counts.last_day).days / 365.25
+    if years <= OLD_COUNT_YEARS:
+        return []
+    return [
+        f"{plan.where('demand.history.growth_percent_per_year')}: the counts end on "
+        f"{h.counts.last_day:%Y-%m-%d}, {years:.1f} years before the plan's first day "
+        f"({first:%Y-%m-%d}), and are not grown (0 % a year); type the traffic growth to the "
+        "plan's dates, or ignore this if traffic has not changed since"
+    ]
 
 
 def unused_by_method(plan: Plan) -> list[str]:
@@ -325,13 +552,22 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     road's pre-breakdown capacity with all lanes open (veh/h)."""
     return [
         *site_ranges(plan),
+        *far_upstream(plan),
+        *ramp_kind_against_name(plan),
+        *large_ramp_share(plan),
+        *ramps_at_one_point(plan),
         *above_open_road(plan, open_capacity_veh_h),
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),
+        *delay_limit_in_seconds(plan),
+        *value_of_time_per_minute(plan),
         *unused_by_method(plan),
         *free_flow_below_limits(plan),
         *many_heavy_vehicles(plan),
         *dense_jam(plan),
         *near_zero_demand(plan),
         *shares_as_flows(plan),
+        *percentile_as_fraction(plan),
+        *old_counts_not_grown(plan),
+        *days_left_out_not_counted(plan),
     ]

@@ -86,6 +86,9 @@ MAX_CAPACITY_CV = 0.3
 MIN_CAPACITY_FACTOR = 0.05
 #: Most Monte Carlo samples in one assessment.
 MAX_DRAWS = 100_000
+#: Fewer historical periods than this, each drawn many times, earn a note: the intervals
+#: then speak for the capacity draws, not for the weeks (common practice, no source).
+FEW_PERIODS = 5
 #: Percentiles of the longest queue and the delay reported per hour.
 PERCENTILES: tuple[int, ...] = (50, 85, 95)
 #: Scenarios joined into one run for Newell's method (bounds the size of the
@@ -751,6 +754,16 @@ def assess(
             f"Only {len(scenarios)} scenarios: each probability moves in steps of "
             f"1/{len(scenarios)}; read the intervals."
         )
+    periods = {lab.split(", draw ")[0] for lab in scenarios.labels if lab.startswith("from ")}
+    if 0 < len(periods) < FEW_PERIODS < len(scenarios):
+        one = len(periods) == 1
+        notes.append(
+            f"Only {len(periods)} historical period{'' if one else 's'} of the counts "
+            f"match{'es' if one else ''} the plan: its {len(scenarios):,} scenarios vary the "
+            f"capacity on {'that week' if one else 'those weeks'} alone, and the intervals "
+            "count them as independent; widen the window around the same date (or leave it "
+            "blank) for the variation from week to week."
+        )
     runs = run_scenarios(plan, scenarios)
     held = length_unknown(runs.held_veh)
     if held.any():
@@ -767,6 +780,7 @@ def assess(
 
 
 __all__ = [
+    "FEW_PERIODS",
     "LIMIT_WORDS",
     "PROBABILITY_COLUMNS",
     "RiskResult",

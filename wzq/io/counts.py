@@ -51,7 +51,9 @@ restriction code, and the days the clocks change for daylight saving time
 (a Sunday in March with only the 02:00 hour missing, or a Sunday in October
 or November with the 01:00 or 02:00 hour given twice; US and European rules
 both change on such a Sunday -- from memory). Days whose total is far below
-the same weekday's median, or with daytime hours of zero, are listed as
+the same weekday's median (or far above it: both directions, another
+station), or with their traffic in other hours than on that weekday (another
+day's or direction's counts), or with daytime hours of zero, are listed as
 warnings for the engineer to judge (``exclude_days`` leaves them out).
 """
 
@@ -63,7 +65,7 @@ import io
 import re
 from collections import defaultdict
 from collections.abc import Callable, Iterable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -76,10 +78,12 @@ __all__ = [
     "DIRECTIONS",
     "EDITIONS",
     "EXCEL_SUFFIXES",
+    "HIGH_DAY_FACTOR",
     "LOW_DAY_SHARE",
     "MAX_FILE_BYTES",
     "MAX_FLOW_VEH_H_LN",
     "MAX_LANES",
+    "ODD_HOURS_SHARE",
     "RECORD_LENGTH",
     "RESTRICTIONS",
     "TMG_2001",
@@ -111,6 +115,14 @@ MAX_LANES = 8
 #: listed as a warning (a lane out, a counter fault, or a holiday; common
 #: practice, no source).
 LOW_DAY_SHARE = 0.7
+#: A day whose total is above this multiple of the median of the same weekday is
+#: listed as a warning (both directions, another station, or an event; common
+#: practice, no source).
+HIGH_DAY_FACTOR = 1.5
+#: A day with more than this share of its vehicles in other hours than on the median day
+#: of its weekday is listed as a warning (another day's or direction's counts, a
+#: holiday; common practice, no source).
+ODD_HOURS_SHARE = 0.15
 #: Consecutive zero-count hours between 06:00 and 22:00 that earn a warning.
 ZERO_RUN_HOURS = 3
 #: Largest count file read (bytes): ten years of 15-minute counts fit easily.
@@ -885,6 +897,14 @@ def _table_history(
             excluded.append((day, "the clocks go back (an hour counted twice)"))
     if problems:
         raise PlanError(problems)
+    t0, t1 = min(c.when for c in cells), max(c.when for c in cells)
+    if t0.time() == dt.time(step // 3600, step % 3600 // 60) and t1.time() == dt.time():
+        warnings.append(
+            f"{t0:%a %Y-%m-%d}: the counts run from {t0:%H:%M} to 00:00 on "
+            f"{t1:%a %Y-%m-%d}, as time stamps at the end of each interval do; read as starts, "
+            "every count is one interval late. If each stamp is the end of its interval, say "
+            "so (wzq counts --stamp end; in a plan, 'A time stamp is the' end of its interval)"
+        )
     history = CountHistory(first, step, flows, tuple(excluded), source)
     return _finish(history, source, kind=kind, records=n_rows, warnings=warnings)
 
@@ -935,6 +955,9 @@ class CountRead:
     direction: str | None = None
     lanes: tuple[int, ...] = ()
     warnings: tuple[str, ...] = ()
+    #: Of ``warnings``, the counted days that look unusual (each starts with its day,
+    #: ``Mon 2026-05-25: ...``); the rest are findings about the file as read.
+    unusual: tuple[str, ...] = ()
 
     def gaps(self) -> list[tuple[dt.date, int]]:
         """Days with missing intervals (and how many), excluded days apart."""
@@ -1025,6 +1048,15 @@ def _screen(history: CountHistory) -> list[str]:
                 f"median {WEEKDAY_NAMES[k]}; a holiday, a lane out or a counter fault? "
                 "Leave it out with exclude_days if it is not real traffic"
             )
+        for d in np.flatnonzero(pick & (totals > HIGH_DAY_FACTOR * median)):
+            day = h.first_day + dt.timedelta(days=int(d))
+            out.append(
+                f"{day:%a %Y-%m-%d}: {totals[d]:,.0f} vehicles, {totals[d] / median:.0%} of the "
+                f"median {WEEKDAY_NAMES[k]}; counts of both directions, of another station, or "
+                "an event? Leave it out with exclude_days if it is not this direction's usual "
+                "traffic"
+            )
+    out += _odd_hours(h, usable, wd, {w[:14] for w in out})
     hourly = h.flows_veh_h.reshape(h.n_days, 24, -1).mean(axis=2)
     zero = (hourly[:, 6:22] == 0) & usable[:, None]
     for d in np.flatnonzero(zero.any(axis=1)):
@@ -1037,6 +1069,35 @@ def _screen(history: CountHistory) -> list[str]:
             out.append(
                 f"{day:%a %Y-%m-%d}: {best} daytime hours in a row with no vehicle counted; "
                 "a counter fault or a road closure? Leave it out with exclude_days if so"
+            )
+    return out
+
+
+def _odd_hours(h: CountHistory, usable: np.ndarray, wd: np.ndarray, said: set[str]) -> list[str]:
+    """Days whose traffic falls in other hours than on the same weekday: more than
+    :data:`ODD_HOURS_SHARE` of the day's vehicles would have to move to other hours to
+    give the median weekday's hourly shares (half the sum of the differences of the
+    shares). Days already said (``said``: their ``Mon 2026-05-04`` start) are left out."""
+    out: list[str] = []
+    hourly = h.flows_veh_h.reshape(h.n_days, 24, -1).mean(axis=2)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        shares = hourly / hourly.sum(axis=1, keepdims=True)
+    for k in range(7):
+        pick = usable & (wd == k) & np.isfinite(shares).all(axis=1)
+        if pick.sum() < 3:
+            continue
+        usual = np.median(shares[pick], axis=0)
+        usual = usual / usual.sum()
+        moved = 0.5 * np.abs(shares - usual).sum(axis=1)
+        for d in np.flatnonzero(pick & (moved > ODD_HOURS_SHARE)):
+            day = h.first_day + dt.timedelta(days=int(d))
+            if f"{day:%a %Y-%m-%d}" in said:
+                continue
+            out.append(
+                f"{day:%a %Y-%m-%d}: {moved[d]:.0%} of its vehicles counted in other hours than "
+                f"on the median {WEEKDAY_NAMES[k]}; a holiday, counts of another day (a week "
+                "pasted a day out?) or of the other direction? Leave it out with exclude_days "
+                "if it is not this day's traffic"
             )
     return out
 
@@ -1061,9 +1122,8 @@ def _finish(history: CountHistory, source: str, *, warnings: list[str], **kw: An
         history = CountHistory(
             h.first_day, h.interval_s, h.flows_veh_h, h.excluded + tuple(extra), h.source
         )
-    return CountRead(
-        history, warnings=tuple(warnings + sorted(_screen(history), key=_by_date)), **kw
-    )
+    unusual = tuple(sorted(_screen(history), key=_by_date))
+    return CountRead(history, warnings=(*warnings, *unusual), unusual=unusual, **kw)
 
 
 def _by_date(warning: str) -> str:
@@ -1078,9 +1138,7 @@ def exclude(
     h = read.history
     extra = tuple((d, why) for d in days if d not in {x for x, _ in h.excluded})
     history = CountHistory(h.first_day, h.interval_s, h.flows_veh_h, h.excluded + extra, h.source)
-    return CountRead(
-        history, read.kind, read.records, read.station, read.direction, read.lanes, read.warnings
-    )
+    return replace(read, history=history)
 
 
 # ---------------------------------------------------------------------------------------------

@@ -98,10 +98,16 @@ def _text(d: dict[str, Any], key: str, where: str, problems: list[Problem]) -> s
     return v
 
 
+#: Findings of the count reading shown one by one, at most.
+_SHOWN = 3
+
+
 def history_demand(
     d: dict[str, Any], start: dt.datetime, source: str, base: Path | None
-) -> tuple[Demand, DemandHistory]:
-    """The design demand and the history of a ``demand`` block that has ``history``.
+) -> tuple[Demand, DemandHistory, list[str]]:
+    """The design demand and the history of a ``demand`` block that has ``history``, and
+    what reading the counts found worth a look (days that look unusual, listed holidays
+    aside), as warnings naming ``demand.history.file``.
 
     Raises:
         PlanError: every problem of the block, and of the count file, located.
@@ -187,7 +193,18 @@ def history_demand(
     n = round(hours * 3600 / counts.interval_s)
     designed = design_demand(counts, start, n, rule)
     history = DemandHistory(counts, rule, file, tuple(reading.items()))
-    return designed.demand, history
+    aside = {day.isoformat() for day in rule.holidays} | {
+        day.isoformat() for day, _ in counts.excluded
+    }
+    found = [w for w in read.warnings if w[4:14] not in aside]  # "Thu 2026-01-01: ..."
+    more = f" | and {len(found) - _SHOWN} more" if len(found) > _SHOWN else ""
+    notes = [
+        f"demand.history.file: the counts in {file} hold {len(found)} finding"
+        f"{'s' if len(found) != 1 else ''} worth a look (`wzq counts` lists them all): "
+        + " | ".join(found[:_SHOWN])
+        + more
+    ]
+    return designed.demand, history, notes if found else []
 
 
 def history_to_dict(history: DemandHistory, start: dt.datetime, hours: float) -> dict[str, Any]:

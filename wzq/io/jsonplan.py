@@ -172,6 +172,16 @@ class _Reader:
         return when
 
 
+def _fraction_note(r: _Reader, key: str, f: F.Field, x: float | None) -> None:
+    """Query a percentage given as a fraction (0.08 for 8 %) at its key."""
+    if x is not None and f.looks_like_fraction(x):
+        r.notes.append(
+            f"{key}: {f.label} is {x:g} %: did you mean {x * 100:g} %? "
+            f"Percentages are given as numbers of percent ({x * 100:g} for "
+            f"{x * 100:g} %); ignore this if {x:g} % is right"
+        )
+
+
 def _read_section(r: _Reader, d: dict[str, Any], section: str, system: str) -> dict[str, Any]:
     """The plan values of one JSON section, by the schema (:mod:`wzq.io.fields`): each
     key read as its kind, with its default and least value, converted to the plan's
@@ -186,12 +196,7 @@ def _read_section(r: _Reader, d: dict[str, Any], section: str, system: str) -> d
             value = r.text(d, key, section, f.json_default)
         else:
             x = r.number(d, key, section, f.json_default, lo=f.json_lo, whole=f.kind == "int")
-            if x is not None and f.looks_like_fraction(x):
-                r.notes.append(
-                    f"{section}.{key}: {f.label} is {x:g} %: did you mean {x * 100:g} %? "
-                    f"Percentages are given as numbers of percent ({x * 100:g} for "
-                    f"{x * 100:g} %); ignore this if {x:g} % is right"
-                )
+            _fraction_note(r, f"{section}.{key}", f, x)
             value = (int(x) if np.isfinite(x) else 0) if f.kind == "int" else x
             value = F.to_plan(f, value, system)
         out[f.attribute.split(".", 1)[1]] = value
@@ -255,7 +260,8 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
     history = risk = None
     if "history" in d and not r.problems:  # demand from a count history (wzq.io.jsonhistory)
         try:
-            designed, history = history_demand(d, start, source, base)
+            designed, history, found = history_demand(d, start, source, base)
+            r.notes += found
             d = {"veh_h": designed.flows_veh_h.tolist()}
             interval = designed.interval_s / 60
         except PlanError as e:
@@ -360,6 +366,10 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
         raise PlanError([Problem(f"{source}: {p.where}", p.message) for p in e.problems]) from None
 
 
+#: A ramp's share of the mainline flow, queried like the other percentages.
+_RAMP_SHARE = F.Field("share_percent", "Ramp flow", "number", "%")
+
+
 def _approach_from_dict(r: _Reader, a: Any, system: u.UnitSystem) -> Approach:
     """The ``approach`` object: its landmarks, ramps with their flows."""
     if a is None:
@@ -393,6 +403,7 @@ def _approach_from_dict(r: _Reader, a: Any, system: u.UnitSystem) -> Approach:
                     values.append(float(v))
                 hourly = tuple(values)
         share = r.number(lm, "share_percent", path, None, lo=0)
+        _fraction_note(r, f"{path}.share_percent", _RAMP_SHARE, share)
         out.append(
             Landmark(
                 name=r.text(lm, "name", path),

@@ -34,7 +34,12 @@ at a section of it, whose hours print the longest queue as "unknown"): that colu
 new in every plan's per-hour table, 0 in every hour of every recorded plan, and no
 other entry changes; and again when the Fenwick Downs example's site name lost a real
 town's name ("Harlow Gap" became the invented "Wrenfold Gap"): only the entries of that
-example that print its site name change, by those words; nothing else:
+example that print its site name change, by those words; and again when the count
+reading came to list a day whose traffic falls in other hours than on the same weekday
+(another day's or direction's counts pasted in): ``wzq counts`` on the Larkspur Vale
+count file now lists Labor Day, Mon 2026-09-07 (17 % of its vehicles in other hours than
+on the median Monday), which its plans list as a holiday; only that command's output
+changes; nothing else:
 
     python3 tests/data/golden/make_golden.py
 

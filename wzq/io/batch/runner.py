@@ -583,6 +583,21 @@ def _reusable(entry: StateEntry | None, sha: str, task: Task) -> bool:
     return True
 
 
+def _copies(outcomes: Sequence[Outcome]) -> list[str]:
+    """Plan files that are the same file byte for byte (a copy made in the file manager):
+    each is a row of the summary, so the same plan would be counted twice."""
+    same: dict[str, list[str]] = {}
+    for o in outcomes:
+        if o.sha256:
+            same.setdefault(o.sha256, []).append(o.file)
+    return [
+        f"{', '.join(files)} are the same file, byte for byte, and each is a row of the "
+        "summary; delete a copy that is not a plan of its own"
+        for files in same.values()
+        if len(files) > 1
+    ]
+
+
 def run_batch(
     folder: str | os.PathLike[str],
     *,
@@ -691,6 +706,7 @@ def run_batch(
         runner = f"{n} local worker process{'es' if n != 1 else ''} on {platform.node()}"
 
     outcomes.sort(key=lambda o: o.file)
+    notes += _copies(outcomes)
     result = BatchResult(folder, outcomes, target, target.with_suffix(".csv"), 0.0, notes)
     seconds = time.perf_counter() - t0
     info = RunInfo(

@@ -21,7 +21,6 @@ import numpy as np
 import pandas as pd
 from openpyxl.chart import AreaChart, LineChart, Reference
 from openpyxl.chart.axis import ChartLines
-from openpyxl.styles import Alignment
 from openpyxl.utils import get_column_letter
 from openpyxl.utils.cell import range_boundaries
 from openpyxl.worksheet.pagebreak import Break
@@ -39,7 +38,7 @@ from wzq.present.risk import (
     risk_summary_lines,
     risk_values,
 )
-from wzq.present.tables import LENGTH_UNKNOWN, MAX_PANELS, Column, rounded
+from wzq.present.tables import MAX_PANELS, Column, rounded
 
 __all__ = [
     "BAND_COLOURS",
@@ -59,7 +58,6 @@ __all__ = [
     "risk_note",
 ]
 
-RIGHT = Alignment(horizontal="right")
 #: First column of the fan chart's data block on the Charts sheet (after the others).
 FAN_COL = C.CUM_COL + 5
 #: Characters of text on one printed line of the Summary sheet: a value (columns B-G),
@@ -120,8 +118,7 @@ def _add_columns(
         for k, i in enumerate(rows):
             cell = w.put_text(ws, table.first_row + k, c, values[j][i])
             looks[2 * j + (k % 2)](cell)
-            if values[j][i] == LENGTH_UNKNOWN:  # among the numbers of its column
-                cell.alignment = w.RIGHT
+            w.align_unknown(cell)
         table.columns[col.source] = c
         ws.column_dimensions[get_column_letter(c)].width = w.header_width(col.header, width, 4)
     return first_col + len(columns) - 1
@@ -146,7 +143,7 @@ def add_risk_to_results(out: w.SheetWriter, risk: RiskResult, table: w.TableRef)
     last_col = _add_columns(out, table, cols, risk_values(risk, cols), np.arange(n))
     # above the new columns (rows 1-3 hold the title, the site and the units), ending at
     # the last of them so that it prints: right-aligned text runs to the left
-    out.put(2, last_col, risk_note(risk), font=w.SMALL, alignment=RIGHT)
+    out.put(2, last_col, risk_note(risk), font=w.SMALL, alignment=w.RIGHT)
     if n:
         ws.auto_filter.ref = f"A{table.header_row}:{get_column_letter(last_col)}{table.last_row}"
     c0, r0, _, r1 = _print_area(ws)

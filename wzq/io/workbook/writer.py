@@ -87,6 +87,7 @@ __all__ = [
     "SheetWriter",
     "Styler",
     "TableRef",
+    "align_unknown",
     "align_unknown_lengths",
     "cell_text",
     "check_output_sheets",
@@ -498,8 +499,14 @@ def align_unknown_lengths(ws: Worksheet, rows: tuple[int, int], columns: list[Co
     ``columns`` start in column C."""
     j = 3 + [c.source for c in columns].index("queue_length_max_m")
     for (cell,) in ws.iter_rows(min_row=rows[0], max_row=rows[1], min_col=j, max_col=j):
-        if cell.value == LENGTH_UNKNOWN:
-            cell.alignment = RIGHT
+        align_unknown(cell)
+
+
+def align_unknown(cell: Cell) -> None:
+    """Right-align a length printed as "unknown" (:data:`LENGTH_UNKNOWN`), so that it
+    lines up with the numbers of its column; any other cell is left as it is."""
+    if cell.value == LENGTH_UNKNOWN:
+        cell.alignment = RIGHT
 
 
 def number_width(values: Iterable[float | int | str | None], decimals: int) -> float:

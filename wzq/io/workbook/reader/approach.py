@@ -403,6 +403,12 @@ class ApproachReader:
         return own.get(part) or own[""]
 
     def approach_locations(self) -> dict[str, str]:
-        """``approach.landmarks[i]`` -> the landmark's row (its name cell)."""
+        """``approach.landmarks[i]`` -> the landmark's row (its name cell), and
+        ``approach.landmarks[i].distance`` (``.kind``, ``.share``) -> the cell of that value."""
         cells = getattr(self, "_landmark_cells", [])
-        return {f"approach.landmarks[{i}]": own[""] for i, own in enumerate(cells)}
+        out = {f"approach.landmarks[{i}]": own[""] for i, own in enumerate(cells)}
+        for part in ("distance", "kind", "share"):
+            out.update(
+                {f"approach.landmarks[{i}].{part}": own[part] for i, own in enumerate(cells)}
+            )
+        return out

@@ -184,7 +184,7 @@ class TableReader:
             self.note(
                 ", ".join(ref for ref, _ in blind[:5]) + more,
                 f"{'a value' if len(blind) == 1 else f'{len(blind)} values'} of {t.name} "
-                f"cannot be seen on the sheet ({blind[0][0]}: {blind[0][1]}) but "
+                f"cannot be seen on the sheet ({_first_of_each(blind)}) but "
                 f"{'is' if len(blind) == 1 else 'are'} read as part of the plan; give the "
                 "cells a visible format and colour to check them, or clear them to leave "
                 "them out",
@@ -309,3 +309,11 @@ class TableReader:
 def _column_ref(sheet: str, col: int) -> str:
     """``Demand!C``: :func:`cell_ref` without the row number."""
     return cell_ref(sheet, 1, col)[:-1]
+
+
+def _first_of_each(found: list[tuple[str, str]]) -> str:
+    """``"A1: why; B4: other why"``: each reason once, at the first cell it applies to."""
+    first: dict[str, str] = {}
+    for ref, why in found:
+        first.setdefault(why, ref)
+    return "; ".join(f"{ref}: {why}" for why, ref in first.items())
