@@ -32,6 +32,7 @@ from workbook_helpers import (
 )
 
 from wzq.engine.plan import Plan, PlanError
+from wzq.io import fields as F
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout as L
 from wzq.io.workbook.reader import read_plan_from_book
@@ -1320,6 +1321,23 @@ def test_an_unused_aadt_name_pointing_off_the_input_sheets_says_nothing(
     plan = read(kestrel, edit)
     assert isinstance(plan, Plan), plan
     assert not [w for w in plan.input_warnings if "not used" in w]
+
+
+def test_a_workbook_made_before_the_optional_inputs_reads_their_template_values(
+    kestrel: bytes,
+) -> None:
+    """Every optional input's defined name deleted, as in a workbook made before those
+    inputs existed: each is read as the template's own value (the closure windows on, no
+    space-time picture), and nothing is refused."""
+
+    def edit(wb: Any) -> None:
+        for name in F.OPTIONAL_NAMES:
+            del wb.defined_names[name]
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert plan.options.closure_windows is True
+    assert plan.options.space_time is False
 
 
 # -- input sheets hidden or copied -----------------------------------------------------------
