@@ -236,6 +236,19 @@ def test_a_choice_is_read_whatever_its_case_and_spaces(
     assert plan.site.terrain == expected
 
 
+@pytest.mark.parametrize(
+    ("value", "expected"),
+    [("mostly familiar", "familiar"), ("familiar", "familiar"), (" Unfamiliar ", "unfamiliar")],
+)
+def test_a_choice_typed_as_its_word_or_as_the_plan_files_value(
+    kestrel: bytes, value: str, expected: str
+) -> None:
+    # Drivers: the dropdown's words ('mostly familiar') or the JSON plan's values ('familiar')
+    plan = read(kestrel, named("site_driver_population", value))
+    assert isinstance(plan, Plan), plan
+    assert plan.site.driver_population == expected
+
+
 def test_a_choice_not_in_the_list_names_the_choices(kestrel: bytes) -> None:
     message = problem(kestrel, named("site_terrain", " hilly "), "Site!B14")
     assert message == (
