@@ -1270,3 +1270,14 @@ def test_to_typed_as_from_is_a_whole_day_and_said_in_full(kestrel: bytes) -> Non
         "Tue 2027-05-04 21:00 (a To at or before From ends the next day); if the closure is "
         "shorter, correct To"
     ]
+
+
+def test_a_named_date_that_cannot_be_read_is_named_at_its_cell(kestrel: bytes) -> None:
+    # the AADT's first day (Demand!F12), a named input read as a date
+    def edit(wb: Any) -> None:
+        aadt(2026, 2)(wb)
+        set_named(wb, "aadt_first_day", "3 May")
+
+    assert read(kestrel, edit) == {
+        "Demand!F12": "First day: '3 May' is not a date; type a date, e.g. 2027-05-03"
+    }
