@@ -1281,3 +1281,14 @@ def test_a_named_date_that_cannot_be_read_is_named_at_its_cell(kestrel: bytes) -
     assert read(kestrel, edit) == {
         "Demand!F12": "First day: '3 May' is not a date; type a date, e.g. 2027-05-03"
     }
+
+
+def test_a_percentage_typed_as_text_with_a_decimal_comma_is_refused(kestrel: bytes) -> None:
+    # '1,5 %' (1.5 % with a decimal comma) was read as 15 % without a word; a comma is
+    # taken only as a thousands separator ('12.5 %' typed as text is 12.5 %)
+    assert problem(kestrel, named("site_heavy_vehicle_percent", "1,5 %"), "Site!B13") == (
+        "Heavy vehicles: '1,5 %' is text, not a number; type only the number, without its unit"
+    )
+    plan = read(kestrel, named("site_heavy_vehicle_percent", "12.5 %"))
+    assert isinstance(plan, Plan), plan
+    assert plan.site.heavy_vehicle_share == pytest.approx(0.125)

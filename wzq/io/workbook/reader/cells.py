@@ -7,6 +7,7 @@ from __future__ import annotations
 import contextlib
 import datetime as dt
 import math
+import re
 from typing import Any
 
 from openpyxl.cell.cell import ERROR_CODES, MergedCell
@@ -310,8 +311,11 @@ class CellReader:
             return self.date(v, field.label, where)
         percent = field.unit.startswith("%")
         if percent and isinstance(v, str) and v.strip().endswith("%"):
-            with contextlib.suppress(ValueError):  # '8 %' typed as text: 8
-                v, percent_cell = float(v.strip()[:-1].replace(",", "")), False
+            digits = v.strip()[:-1].strip()
+            # a comma only as a thousands separator: '1,5 %' (a decimal comma) is not 15 %
+            if "," not in digits or re.fullmatch(r"\d{1,3}(,\d{3})+(\.\d*)?", digits):
+                with contextlib.suppress(ValueError):  # '8 %' typed as text: 8
+                    v, percent_cell = float(digits.replace(",", "")), False
         x = self.number(v, field.label, where)
         if x is _MISSING:
             return x
