@@ -9,6 +9,7 @@ cumulative charts draw one panel each.
 from __future__ import annotations
 
 import datetime as dt
+import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
@@ -42,8 +43,10 @@ __all__ = [
     "landmark_display",
     "landmark_hour_flags",
     "length_cells",
+    "limit_text",
     "limit_values",
     "limits_text",
+    "over_limit_cells",
     "passed_text",
     "queue_episodes",
     "ramp_flow_text",
@@ -135,15 +138,47 @@ def rounded_all(values: np.ndarray, decimals: int) -> list[float | int | None]:
 LENGTH_UNKNOWN = "unknown"
 
 
+#: The limit check of each displayed column that has one (:func:`limit_values`).
+LIMITED_COLUMNS = {
+    "queue_length_max_m": "queue_ok",
+    "average_delay_min": "delay_ok",
+    "demand_capacity": "demand_capacity_ok",
+}
+
+
 def length_cells(result: Result, column: Column, shown: list) -> list:
     """``shown`` (one display value per hour of ``column``) with the longest queue of
     an hour holding traffic back, beyond the approach or at a section of it, as
     :data:`LENGTH_UNKNOWN`: the length computed leaves those vehicles out
-    (:func:`wzq.engine.hourly.length_unknown`). Other columns are as given."""
+    (:func:`wzq.engine.hourly.length_unknown`); and a value over its limit rounded up
+    where rounding would show it at or below the limit (:func:`over_limit_cells`).
+    Other values are as given."""
+    shown = over_limit_cells(result, column, shown)
     if column.source != "queue_length_max_m":
         return shown
     unknown = length_unknown(np.asarray(result.hours["queue_held_veh"]))
     return [LENGTH_UNKNOWN if u else v for u, v in zip(unknown, shown, strict=True)]
+
+
+def over_limit_cells(result: Result, column: Column, shown: list) -> list:
+    """``shown`` with each number of an hour that fails ``column``'s limit rounded up
+    (to the column's decimals) where ordinary rounding shows it at or below the limit
+    as printed (:func:`limit_values`): 1.001 over a demand/capacity limit of 1.00
+    shows 1.01, not 1.00 beside "over limit". Hours that pass are as given."""
+    check = LIMITED_COLUMNS.get(column.source)
+    if check is None or check not in result.hours:
+        return shown
+    limit = _limit_numbers(result.plan).get(check)
+    ok = np.asarray(result.hours[check], dtype=bool)
+    raw = np.asarray(result.hours[column.source], dtype=float) * column.scale
+    q = 10**column.decimals
+    out = list(shown)
+    for i in np.flatnonzero(~ok):
+        v = out[i]
+        if isinstance(v, int | float) and limit is not None and v <= limit:
+            up = math.ceil(raw[i] * q) / q
+            out[i] = max(v, int(up) if column.decimals == 0 else up)
+    return out
 
 
 def hourly_display(result: Result) -> pd.DataFrame:
@@ -227,19 +262,39 @@ def limit_values(plan: Plan) -> dict[str, str]:
     """The one formatting of the agency limits: each limit that is set, by its check
     column (``queue_ok``, ``delay_ok``, ``demand_capacity_ok``), as shown in the plan's
     units: ``2.00 mi``, ``15.0 min/veh``, ``0.95``. Every output words it around these."""
-    th = plan.thresholds
     long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
-    out = {}
-    if th.max_queue_length is not None:
-        out["queue_ok"] = f"{th.max_queue_length / long_m:,.2f} {long_name}"
-    if th.max_average_delay is not None:
-        out["delay_ok"] = f"{th.max_average_delay / u.MINUTE:,.1f} min/veh"
-    if th.max_demand_capacity is not None:
-        out["demand_capacity_ok"] = f"{th.max_demand_capacity:,.2f}"
+    decimals = {"queue_ok": 2, "delay_ok": 1, "demand_capacity_ok": 2}
+    suffix = {"queue_ok": f" {long_name}", "delay_ok": " min/veh", "demand_capacity_ok": ""}
+    out = {k: f"{limit_text(v, decimals[k])}{suffix[k]}" for k, v in _limit_numbers(plan).items()}
+    th = plan.thresholds
     lm = None if th.queue_must_not_pass is None else plan.approach.landmark(th.queue_must_not_pass)
     if lm is not None:
         out["landmark_ok"] = f"{lm.name} ({lm.distance / long_m:,.2f} {long_name} upstream)"
     return out
+
+
+def _limit_numbers(plan: Plan) -> dict[str, float]:
+    """Each limit that is set, by its check column, in the display units of the
+    per-hour table (long length unit, min/veh, ratio)."""
+    th = plan.thresholds
+    _, long_m = u.LONG_LENGTH[plan.site.unit_system]
+    out = {}
+    if th.max_queue_length is not None:
+        out["queue_ok"] = th.max_queue_length / long_m
+    if th.max_average_delay is not None:
+        out["delay_ok"] = th.max_average_delay / u.MINUTE
+    if th.max_demand_capacity is not None:
+        out["demand_capacity_ok"] = th.max_demand_capacity
+    return out
+
+
+def limit_text(value: float, decimals: int) -> str:
+    """A limit with at least ``decimals`` decimals and as many more (up to 6) as it
+    holds, so a limit is never printed rounded: 0.125 km, not 0.12 km."""
+    for d in range(decimals, 7):
+        if abs(round(value, d) - value) <= 1e-9 * max(1.0, abs(value)):
+            return f"{value:,.{d}f}"
+    return f"{value:,.6f}"
 
 
 def limits_text(plan: Plan) -> str:

@@ -1,0 +1,94 @@
+"""A value over a limit never prints at or below that limit.
+
+An hour 0.1 % over a demand/capacity limit of 1.00 used to print ``1.00`` beside
+``over limit`` on the Permit table, the Results sheet, the terminal and the report,
+and a limit typed with more decimals than the display (0.125 km) printed rounded
+(``0.13 km``): the reader saw a passing number on a failing hour. The plan is the
+hand site (two lanes of 2,000 veh/h, tests/hand.py) with one lane closed at a
+capacity of 2,000 veh/h typed for the closure; every figure below is worked by hand.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+
+import numpy as np
+import openpyxl
+import pytest
+from hand import hand_site
+
+import wzq
+from wzq.engine.plan import Closure, Demand, Plan, Thresholds
+from wzq.io.report import hourly_rows
+from wzq.io.workbook.run import write_filled_workbook
+from wzq.present.tables import hourly_display, limit_values
+
+START = dt.datetime(2027, 5, 3)  # a Monday (invented dates)
+DC = "Demand / capacity"
+DELAY = "Average delay (min/veh)"
+
+
+@pytest.fixture(scope="module")
+def result() -> wzq.Result:
+    # 10:00-11:00 one of two lanes closed at 2,000 veh/h; demand 2,002 veh/h there:
+    # demand/capacity 2,002 / 2,000 = 1.001 (by hand), over the limit of 1.00; the
+    # 2 vehicles left at 11:00 wait on average 1 veh-h / 2,002 veh = 0.030 min, over
+    # the limit of 0.02 min (1.2 s)
+    flows = np.array([1000.0] * 10 + [2002.0] + [1000.0] * 3)
+    closure = Closure(
+        START + dt.timedelta(hours=10),
+        START + dt.timedelta(hours=11),
+        lanes_closed=1,
+        capacity_override_veh_h_ln=2000.0,
+    )
+    th = Thresholds(max_average_delay=1.2, max_demand_capacity=1.0)
+    return wzq.analyse(
+        Plan(hand_site(unit_system="metric"), Demand(START, 3600, flows), (closure,), th)
+    )
+
+
+def test_the_engine_fails_the_hour_by_hand(result) -> None:
+    h = result.hourly.iloc[10]
+    assert h["demand_capacity"] == pytest.approx(1.001)
+    assert h["average_delay_min"] == pytest.approx(60.0 / 2002.0, rel=1e-3)
+    assert not h["demand_capacity_ok"] and not h["delay_ok"]
+
+
+def test_the_display_table_shows_it_above_the_limit(result) -> None:
+    row = hourly_display(result).iloc[10]
+    # rounded half away from zero they would read 1.00 and 0.0: at or below the limits
+    assert row[DC] == 1.01 and row[DELAY] == 0.1
+    # a passing hour keeps the ordinary rounding: 1,000 / 4,000 = 0.25, no delay
+    assert hourly_display(result).iloc[9][[DC, DELAY]].tolist() == [0.25, 0.0]
+    headers, cells, _ = hourly_rows(result)
+    assert cells[10][headers.index(DC)] == "1.01"
+
+
+def test_the_sheets_show_it_above_the_limit(result, tmp_path) -> None:
+    path = tmp_path / "over.xlsx"
+    write_filled_workbook(result.plan, path)
+    book = openpyxl.load_workbook(path)
+    for name in ("Results", "Permit table"):
+        ws = book[name]
+        head = next(c for row in ws.iter_rows() for c in row if c.value == DC)
+        row = next(
+            r for r in range(head.row + 1, ws.max_row + 1) if "10:00" in str(ws.cell(r, 1).value)
+        )
+        assert ws.cell(row, head.column).value == 1.01, name
+
+
+def test_a_limit_is_shown_with_the_decimals_typed() -> None:
+    site = hand_site(unit_system="metric")
+    demand = Demand(START, 3600, np.array([1000.0]))
+    th = Thresholds(max_queue_length=125.0, max_average_delay=12.25 * 60, max_demand_capacity=0.955)
+    shown = limit_values(Plan(site, demand, (), th))
+    assert shown["queue_ok"] == "0.125 km"
+    assert shown["delay_ok"] == "12.25 min/veh"
+    assert shown["demand_capacity_ok"] == "0.955"
+    plain = Thresholds(max_queue_length=2000.0, max_average_delay=900.0, max_demand_capacity=1.0)
+    shown = limit_values(Plan(site, demand, (), plain))
+    assert (shown["queue_ok"], shown["delay_ok"], shown["demand_capacity_ok"]) == (
+        "2.00 km",
+        "15.0 min/veh",
+        "1.00",
+    )
