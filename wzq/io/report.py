@@ -86,6 +86,7 @@ from wzq.present.tables import (
     limit_values,
     ramp_flow_text,
     summary_lines,
+    unknown_length_text,
 )
 
 __all__ = [
@@ -1045,6 +1046,12 @@ def charts_section(result: Result, st: Styles, width: float, height: float) -> l
             else "; dash-dot lines: landmarks upstream of the taper, named"
         )
     cap2 = f"Figure 2. Queue length ({long_name}) over time: {how}{limit}{bars}.{shading}"
+    unknown = unknown_length_text(result)
+    if unknown:  # the line leaves out the vehicles held back: its length there is not known
+        cap2 += (
+            f" The queue's length is {unknown}: traffic the road cannot carry is held back "
+            "beyond the approach and left out of the line there (see the warnings)."
+        )
     cap3 = (
         "Figure 3. Cumulative arrivals and departures around each queue (deterministic "
         "queueing). The vertical gap between the curves is the number of vehicles queued; the "

@@ -54,6 +54,7 @@ __all__ = [
     "rounded_all",
     "shown_episodes",
     "summary_lines",
+    "unknown_length_text",
 ]
 
 #: Most queues (busy periods) drawn one chart each (the largest are kept).
@@ -202,14 +203,9 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
     long_name, long_m = u.LONG_LENGTH[system]
     when = lambda t: "-" if t is None else hour_label(t)[:-5] + f"{t:%H:%M}"  # noqa: E731
     longest = f"{s.max_queue_length_m / long_m:,.2f} {long_name}, at {when(s.max_queue_length_at)}"
-    unknown = np.flatnonzero(length_unknown(np.asarray(result.hours["queue_held_veh"])))
-    if len(unknown):  # the hours holding traffic back: their length leaves it out
-        first = result.hours["hour_start"][unknown[0]]
-        n = len(unknown)
-        longest += (
-            f"; unknown in {n} hour{'s' if n != 1 else ''} from {when(first)} (traffic "
-            "held back, see the warnings)"
-        )
+    unknown = unknown_length_text(result)
+    if unknown:  # the hours holding traffic back: their length leaves it out
+        longest += f"; {unknown} (traffic held back, see the warnings)"
     lines = [
         ("Longest queue", longest),
         (
@@ -236,6 +232,19 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
             basis += f"; {road_user_costs.DEFAULTS_NOTE}"
         lines.insert(3, ("Road-user delay cost", f"{s.total_cost:,.0f} {c.currency} ({basis})"))
     return lines
+
+
+def unknown_length_text(result: Result) -> str:
+    """``unknown in 2 hours from Mon 2027-05-03 04:00``: the hours whose queue length is
+    unknown (:func:`length_cells`), or ``""`` when there are none. Every output that
+    shows the length by hour (table, headline, charts) says it with these words."""
+    unknown = np.flatnonzero(length_unknown(np.asarray(result.hours["queue_held_veh"])))
+    if not len(unknown):
+        return ""
+    first = result.hours["hour_start"][unknown[0]]
+    n = len(unknown)
+    label = hour_label(first)[:-5] + f"{first:%H:%M}"
+    return f"unknown in {n} hour{'s' if n != 1 else ''} from {label}"
 
 
 def farthest_passed(result: Result) -> LandmarkResult | None:

@@ -63,6 +63,7 @@ from wzq.present.tables import (
     episode_window,
     rounded,
     shown_episodes,
+    unknown_length_text,
 )
 
 if TYPE_CHECKING:
@@ -280,6 +281,11 @@ def queue_chart(out: w.SheetWriter, result: Result, table: w.TableRef) -> BarCha
     chart.type = "col"
     chart.gapWidth = 30
     chart.title = "Longest queue by hour"
+    unknown = unknown_length_text(result)
+    if unknown:  # those cells read "unknown": no bar is drawn there, and the title says so
+        chart.title = small_title(
+            f"Longest queue by hour (no bar: length {unknown}, traffic held back; see the warnings)"
+        )
     chart.add_data(
         Reference(results, min_col=col, min_row=table.header_row, max_row=table.last_row),
         titles_from_data=True,
