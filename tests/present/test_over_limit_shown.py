@@ -92,3 +92,25 @@ def test_a_limit_is_shown_with_the_decimals_typed() -> None:
         "15.0 min/veh",
         "1.00",
     )
+
+
+def test_a_limit_line_is_drawn_where_the_limit_is(tmp_path) -> None:
+    # a 125 m queue limit: the workbook chart's limit line read 0.13 km (its cells were
+    # rounded to 2 decimals) and the report's legend said "Queue limit (0.12 km)"
+    from wzq.present.drawings import queue_length_drawing
+
+    flows = np.array([1000.0] * 10 + [2002.0] + [1000.0] * 3)
+    plan = Plan(hand_site(unit_system="metric"), Demand(START, 3600, flows), (), Thresholds(125.0))
+    path = tmp_path / "limit.xlsx"
+    write_filled_workbook(plan, path)
+    ws = openpyxl.load_workbook(path)["Charts"]
+    head = next(c for row in ws.iter_rows() for c in row if c.value == "Queue-length limit (km)")
+    cell = ws.cell(head.row + 1, head.column)
+    assert cell.value == 0.125 and cell.number_format == "#,##0.000"
+    drawing = queue_length_drawing(wzq.analyse(plan), 500.0, 300.0)
+    texts, todo = [], list(drawing.getContents())
+    while todo:  # every string of the drawing, groups opened
+        node = todo.pop()
+        todo += getattr(node, "contents", [])
+        texts += [node.text] if isinstance(getattr(node, "text", None), str) else []
+    assert any("Queue limit (0.125 km)" in t for t in texts), texts

@@ -43,6 +43,7 @@ __all__ = [
     "landmark_display",
     "landmark_hour_flags",
     "length_cells",
+    "limit_decimals",
     "limit_text",
     "limit_values",
     "limits_text",
@@ -297,13 +298,18 @@ def _limit_numbers(plan: Plan) -> dict[str, float]:
     return out
 
 
-def limit_text(value: float, decimals: int) -> str:
-    """A limit with at least ``decimals`` decimals and as many more (up to 6) as it
-    holds, so a limit is never printed rounded: 0.125 km, not 0.12 km."""
+def limit_decimals(value: float, decimals: int) -> int:
+    """The decimals a limit needs: at least ``decimals`` and as many more (up to 6) as
+    it holds, so a limit is never shown rounded (0.125 km, not 0.12 km)."""
     for d in range(decimals, 7):
         if abs(round(value, d) - value) <= 1e-9 * max(1.0, abs(value)):
-            return f"{value:,.{d}f}"
-    return f"{value:,.6f}"
+            return d
+    return 6
+
+
+def limit_text(value: float, decimals: int) -> str:
+    """A limit as text with :func:`limit_decimals` decimals."""
+    return f"{value:,.{limit_decimals(value, decimals)}f}"
 
 
 def limits_text(plan: Plan) -> str:

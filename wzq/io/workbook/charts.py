@@ -61,6 +61,7 @@ from wzq.present.tables import (
     charted_landmarks,
     episode_title,
     episode_window,
+    limit_decimals,
     rounded,
     shown_episodes,
     unknown_length_text,
@@ -106,6 +107,7 @@ __all__ = [
     "episode_points",
     "label_hour",
     "landmark_lines",
+    "limit_cell",
     "queue_chart",
     "small_title",
     "tick_hours",
@@ -268,12 +270,14 @@ def queue_chart(out: w.SheetWriter, result: Result, table: w.TableRef) -> BarCha
     fmt = "%H:%M" if n <= 24 else "%a %H:%M"
     # label every so many hours only (some programs ignore the axis's own label skip)
     skip = tick_hours(n)
+    if limit is not None:
+        limit_value, look = limit_cell(limit / long_m)
     for i, t in enumerate(h["hour_start"]):
         r = DATA_HEADER_ROW + 1 + i
         if i % skip == 0:
             out.put(r, LABEL_COL, t.strftime(fmt))
         if limit is not None:
-            out.put(r, LABEL_COL + 1, rounded(limit / long_m, 2), number_format=w.NUMBER_FORMATS[2])
+            out.put(r, LABEL_COL + 1, limit_value, number_format=look)
     first, last = DATA_HEADER_ROW + 1, DATA_HEADER_ROW + n
     results = ws.parent[table.sheet]
     col = table.columns["queue_length_max_m"]
@@ -318,6 +322,13 @@ def queue_chart(out: w.SheetWriter, result: Result, table: w.TableRef) -> BarCha
     chart.y_axis.majorGridlines = ChartLines()
     chart.y_axis.scaling.min = 0
     return chart
+
+
+def limit_cell(value: float) -> tuple[float, str]:
+    """A limit in the chart data as ``(value, number format)``: every decimal it holds
+    (:func:`wzq.present.tables.limit_decimals`), so its line is drawn where it is."""
+    d = limit_decimals(value, 2)
+    return rounded(value, d), "#,##0." + "0" * d
 
 
 def label_hour(result: Result) -> int:
