@@ -39,7 +39,12 @@ reading came to list a day whose traffic falls in other hours than on the same w
 (another day's or direction's counts pasted in): ``wzq counts`` on the Larkspur Vale
 count file now lists Labor Day, Mon 2026-09-07 (17 % of its vehicles in other hours than
 on the median Monday), which its plans list as a holiday; only that command's output
-changes; nothing else:
+changes; and again when the workbook's demand and capacity chart came to draw the
+intervals the engine used instead of hourly averages (a 15-minute peak above capacity,
+or a closure from part-way through an hour, was averaged away): that chart's title
+loses "by hour" on every Charts sheet, and on the Brackenholm example, whose closure
+starts at 20:30, its data block gains the half-hour rows (377 cells, not 369); nothing
+else:
 
     python3 tests/data/golden/make_golden.py
 

@@ -3,8 +3,9 @@ that read cells, not pictures).
 
 The charts, each with axis titles and units:
 
-1. demand, capacity and the queue discharge rate by hour, drawn as step lines
-   against the clock (they are constant within each hour of the table);
+1. demand, capacity and the queue discharge rate by interval of the run (the
+   demand grid split at each closure's start and end), drawn as step lines
+   against the clock (they are constant within each interval);
 2. longest queue by hour (columns read straight from the Results sheet), with
    the agency's queue-length limit as a line when one is set, and the landmarks
    of the approach as named lines at their distances (those the queue reached, the
@@ -209,12 +210,14 @@ def _header(out: w.SheetWriter, col: int, texts: list[str]) -> None:
 
 
 def demand_capacity_chart(out: w.SheetWriter, result: Result) -> ScatterChart:
-    """Demand, capacity and queue discharge rate per hour as step lines (values as shown
-    in the Results sheet)."""
+    """Demand, capacity and queue discharge rate per interval of the run (the demand
+    grid split at every closure's start and end) as step lines, as the engine used
+    them: an hourly average would hide a 15-minute peak above capacity, or a closure
+    from half past the hour."""
     ws = out.ws
-    h = result.hours
-    starts = list(h["hour_start"])
-    hour = dt.timedelta(hours=1)
+    iv = result.intervals
+    start = result.plan.demand.start
+    edges = [start + dt.timedelta(seconds=float(s)) for s in result.boundaries_s]
     _header(
         out,
         STEP_COL,
@@ -224,21 +227,21 @@ def demand_capacity_chart(out: w.SheetWriter, result: Result) -> ScatterChart:
     count = out.style.prepare(number_format=w.NUMBER_FORMATS[0])
     r = DATA_HEADER_ROW + 1
     flows = zip(
-        h["demand_veh_h"].tolist(),
-        h["capacity_veh_h"].tolist(),
-        h["discharge_veh_h"].tolist(),
+        iv["demand_veh_h"].tolist(),
+        iv["capacity_veh_h"].tolist(),
+        iv["discharge_veh_h"].tolist(),
         strict=True,
     )
-    for t, values in zip(starts, flows, strict=True):
+    for k, values in enumerate(flows):
         shown = [rounded(v, 0) for v in values]
-        for tt in (t, t + hour):
+        for tt in (edges[k], edges[k + 1]):
             when(ws.cell(r, STEP_COL, tt))
-            for k, v in enumerate(shown, start=1):
-                count(ws.cell(r, STEP_COL + k, v))
+            for j, v in enumerate(shown, start=1):
+                count(ws.cell(r, STEP_COL + j, v))
             r += 1
     first, last = DATA_HEADER_ROW + 1, r - 1
     chart = ScatterChart(scatterStyle="line")
-    chart.title = "Demand, capacity and queue discharge rate by hour"
+    chart.title = "Demand, capacity and queue discharge rate"
     x = Reference(ws, min_col=STEP_COL, min_row=first, max_row=last)
     for col, colour, width, dash in (
         (STEP_COL + 1, DEMAND_COLOUR, 1.75, None),
@@ -249,7 +252,7 @@ def demand_capacity_chart(out: w.SheetWriter, result: Result) -> ScatterChart:
         s = Series(y, x, title_from_data=True)
         _line(s, colour, width, dash)
         chart.series.append(s)
-    _time_axis(chart, starts[0], starts[-1] + hour)
+    _time_axis(chart, edges[0], edges[-1])
     chart.y_axis.title = "Flow (veh/h)"
     chart.y_axis.number_format = "#,##0"
     chart.y_axis.scaling.min = 0
