@@ -84,6 +84,7 @@ from wzq.present.tables import (
     hourly_display,
     landmark_display,
     limit_values,
+    part_hours_text,
     ramp_flow_text,
     summary_lines,
     unknown_length_text,
@@ -848,6 +849,9 @@ def hourly_section(result: Result, st: Styles, width: float) -> list[Flowable]:
         "Delay counts queueing delay and the extra travel time through the work zone. "
         "A heavy line marks midnight. " + key
     )
+    part = part_hours_text(result)
+    if part:
+        notes += " " + part
     return [Paragraph("Hour by hour", st.h1), Paragraph(notes, st.small), Spacer(1, 4), table]
 
 

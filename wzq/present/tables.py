@@ -48,6 +48,7 @@ __all__ = [
     "limit_values",
     "limits_text",
     "over_limit_cells",
+    "part_hours_text",
     "passed_text",
     "queue_episodes",
     "ramp_flow_text",
@@ -246,6 +247,31 @@ def unknown_length_text(result: Result) -> str:
     n = len(unknown)
     label = hour_label(first)[:-5] + f"{first:%H:%M}"
     return f"unknown in {n} hour{'s' if n != 1 else ''} from {label}"
+
+
+def part_hours_text(result: Result) -> str:
+    """``""``, or a note naming the hours a closure starts or ends within (the capacity
+    changes inside the hour): their capacity, queue discharge rate and demand / capacity
+    are averages over the hour, which no lane count carries."""
+    iv = result.intervals
+    t = np.asarray(result.boundaries_s, dtype=float)[:-1]
+    hour = (t // u.HOUR).astype(np.int64)
+    cap = iv["capacity_veh_h"].to_numpy(dtype=float)
+    hi = np.full(hour.max() + 1 if len(hour) else 0, -np.inf)
+    lo = np.full_like(hi, np.inf)
+    np.maximum.at(hi, hour, cap)
+    np.minimum.at(lo, hour, cap)
+    part = np.flatnonzero(hi - lo > 0.5)
+    if not len(part):
+        return ""
+    starts = result.hours["hour_start"]
+    shown = ", ".join(hour_label(starts[i]) for i in part[:6])
+    shown += f" and {len(part) - 6} more" if len(part) > 6 else ""
+    return (
+        f"A closure starts or ends within the hour from {shown}: the capacity, queue "
+        "discharge rate and demand / capacity shown there are averages over the hour "
+        "(the Charts draw each part of the hour)."
+    )
 
 
 def farthest_passed(result: Result) -> LandmarkResult | None:

@@ -43,8 +43,12 @@ changes; and again when the workbook's demand and capacity chart came to draw th
 intervals the engine used instead of hourly averages (a 15-minute peak above capacity,
 or a closure from part-way through an hour, was averaged away): that chart's title
 loses "by hour" on every Charts sheet, and on the Brackenholm example, whose closure
-starts at 20:30, its data block gains the half-hour rows (377 cells, not 369); nothing
-else:
+starts at 20:30, its data block gains the half-hour rows (377 cells, not 369); and
+again when an hour a closure starts or ends within came to be named on the Permit table
+and in the report's hour-by-hour notes (its capacity and demand / capacity are averages
+over the hour): on the Brackenholm example (the hour from 20:00) the Permit table gains
+that one wrapped note (a cell, a merged range, and its print area one row longer) and
+the report's hour-by-hour page that sentence; nothing else:
 
     python3 tests/data/golden/make_golden.py
 
