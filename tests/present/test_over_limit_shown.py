@@ -114,3 +114,27 @@ def test_a_limit_line_is_drawn_where_the_limit_is(tmp_path) -> None:
         todo += getattr(node, "contents", [])
         texts += [node.text] if isinstance(getattr(node, "text", None), str) else []
     assert any("Queue limit (0.125 km)" in t for t in texts), texts
+
+
+def test_the_headline_shows_it_above_the_limit() -> None:
+    # 1.5 vehicles left at 11:00 (2,001.5 veh/h for an hour at 2,000), stored in the
+    # one open lane at the jam density of 0.125 veh/m: 12 m (by hand), over a limit of
+    # 10 m and shown 0.01 km, the limit itself, by ordinary rounding; the average
+    # delay, 0.75 veh-h over 2,001.5 vehicles = 0.022 min, over 0.02 min, shown 0.0
+    from wzq.present.tables import summary_lines
+
+    flows = np.array([1000.0] * 10 + [2001.5] + [1000.0] * 3)
+    closure = Closure(
+        START + dt.timedelta(hours=10),
+        START + dt.timedelta(hours=11),
+        lanes_closed=1,
+        capacity_override_veh_h_ln=2000.0,
+    )
+    th = Thresholds(max_queue_length=10.0, max_average_delay=1.2)
+    result = wzq.analyse(
+        Plan(hand_site(unit_system="metric"), Demand(START, 3600, flows), (closure,), th)
+    )
+    assert result.summary.max_queue_length_m == pytest.approx(12.0)
+    lines = dict(summary_lines(result))
+    assert lines["Longest queue"].startswith("0.02 km, at ")
+    assert lines["Highest hourly average delay"] == "0.1 min/veh"

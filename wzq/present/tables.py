@@ -32,6 +32,7 @@ __all__ = [
     "MAX_PANELS",
     "Column",
     "Episode",
+    "above_limit",
     "charted_landmarks",
     "episode_title",
     "episode_window",
@@ -163,6 +164,15 @@ def length_cells(result: Result, column: Column, shown: list) -> list:
     return [LENGTH_UNKNOWN if u else v for u, v in zip(unknown, shown, strict=True)]
 
 
+def above_limit(value: float, decimals: int, limit: float | None) -> float:
+    """``value`` rounded (:func:`rounded`), or rounded up where it is over ``limit`` (same
+    units) and rounding would show it at or below the limit."""
+    shown = rounded(value, decimals)
+    if limit is None or not value > limit or shown > limit:
+        return shown
+    return math.ceil(value * 10**decimals) / 10**decimals
+
+
 def over_limit_cells(result: Result, column: Column, shown: list) -> list:
     """``shown`` with each number of an hour that fails ``column``'s limit rounded up
     (to the column's decimals) where ordinary rounding shows it at or below the limit
@@ -204,7 +214,9 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
     system = result.plan.site.unit_system
     long_name, long_m = u.LONG_LENGTH[system]
     when = lambda t: "-" if t is None else hour_label(t)[:-5] + f"{t:%H:%M}"  # noqa: E731
-    longest = f"{s.max_queue_length_m / long_m:,.2f} {long_name}, at {when(s.max_queue_length_at)}"
+    limits = _limit_numbers(result.plan)
+    length = above_limit(s.max_queue_length_m / long_m, 2, limits.get("queue_ok"))
+    longest = f"{length:,.2f} {long_name}, at {when(s.max_queue_length_at)}"
     unknown = unknown_length_text(result)
     if unknown:  # the hours holding traffic back: their length leaves it out
         longest += f"; {unknown} (traffic held back, see the warnings)"
@@ -220,7 +232,10 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
             f"(queue {s.queue_delay_veh_h:,.1f}, work zone {s.work_zone_delay_veh_h:,.1f}"
             + (f", exit ramps {s.exit_ramp_delay_veh_h:,.1f})" if s.exit_ramp_delay_veh_h else ")"),
         ),
-        ("Highest hourly average delay", f"{s.max_average_delay_min:,.1f} min/veh"),
+        (
+            "Highest hourly average delay",
+            f"{above_limit(s.max_average_delay_min, 1, limits.get('delay_ok')):,.1f} min/veh",
+        ),
         ("Vehicles that met a queue", f"{s.vehicles_affected:,.0f}"),
         ("Last queue clears", when(s.last_queue_clears)),
         ("Hours over a limit", str(len(s.hours_failing))),
