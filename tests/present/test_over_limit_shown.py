@@ -34,14 +34,18 @@ def result() -> wzq.Result:
     # demand/capacity 2,002 / 2,000 = 1.001 (by hand), over the limit of 1.00; the
     # 2 vehicles left at 11:00 wait on average 1 veh-h / 2,002 veh = 0.030 min, over
     # the limit of 0.02 min (1.2 s)
-    flows = np.array([1000.0] * 10 + [2002.0] + [1000.0] * 3)
+    return _closed_hour(2002.0, Thresholds(max_average_delay=1.2, max_demand_capacity=1.0))
+
+
+def _closed_hour(flow: float, th: Thresholds) -> wzq.Result:
+    """One of the two lanes closed at 2,000 veh/h from 10:00 to 11:00, ``flow`` then."""
+    flows = np.array([1000.0] * 10 + [flow] + [1000.0] * 3)
     closure = Closure(
         START + dt.timedelta(hours=10),
         START + dt.timedelta(hours=11),
         lanes_closed=1,
         capacity_override_veh_h_ln=2000.0,
     )
-    th = Thresholds(max_average_delay=1.2, max_demand_capacity=1.0)
     return wzq.analyse(
         Plan(hand_site(unit_system="metric"), Demand(START, 3600, flows), (closure,), th)
     )
@@ -123,17 +127,7 @@ def test_the_headline_shows_it_above_the_limit() -> None:
     # delay, 0.75 veh-h over 2,001.5 vehicles = 0.022 min, over 0.02 min, shown 0.0
     from wzq.present.tables import summary_lines
 
-    flows = np.array([1000.0] * 10 + [2001.5] + [1000.0] * 3)
-    closure = Closure(
-        START + dt.timedelta(hours=10),
-        START + dt.timedelta(hours=11),
-        lanes_closed=1,
-        capacity_override_veh_h_ln=2000.0,
-    )
-    th = Thresholds(max_queue_length=10.0, max_average_delay=1.2)
-    result = wzq.analyse(
-        Plan(hand_site(unit_system="metric"), Demand(START, 3600, flows), (closure,), th)
-    )
+    result = _closed_hour(2001.5, Thresholds(max_queue_length=10.0, max_average_delay=1.2))
     assert result.summary.max_queue_length_m == pytest.approx(12.0)
     lines = dict(summary_lines(result))
     assert lines["Longest queue"].startswith("0.02 km, at ")
