@@ -88,6 +88,8 @@ from wzq.present.tables import (
     ramp_flow_text,
     summary_lines,
     unknown_length_text,
+    window_counts,
+    windows_listed_text,
 )
 
 __all__ = [
@@ -1151,6 +1153,7 @@ def windows_section(
     )
     hours_table.setStyle(TableStyle(style))
     long = longest_windows(found, top=3)
+    cut = windows_listed_text(window_counts(found), 3)
     from wzq.engine.costs import plan_costs
 
     currency = text(plan_costs(result.plan).currency)
@@ -1188,6 +1191,7 @@ def windows_section(
         Spacer(1, 8),
         Paragraph("Longest allowable windows", st.h2),
         longest,
+        *([Paragraph(text(f"{cut[0].upper()}{cut[1:]}."), st.small)] if cut else []),
         *notes,
     ]
 

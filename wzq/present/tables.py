@@ -25,6 +25,8 @@ from wzq.engine.results import Result
 if TYPE_CHECKING:
     import pandas as pd
 
+    from wzq.engine.windows import WindowsResult
+
 __all__ = [
     "BEYOND_CHARTED",
     "LANDMARK_KIND_LABELS",
@@ -58,6 +60,8 @@ __all__ = [
     "shown_episodes",
     "summary_lines",
     "unknown_length_text",
+    "window_counts",
+    "windows_listed_text",
 ]
 
 #: Most queues (busy periods) drawn one chart each (the largest are kept).
@@ -287,6 +291,26 @@ def part_hours_text(result: Result) -> str:
         "discharge rate and demand / capacity shown there are averages over the hour "
         "(the Charts draw each part of the hour)."
     )
+
+
+def window_counts(result: WindowsResult) -> list[tuple[str, int]]:
+    """Each configuration (and day type, when there are several) of a window search
+    with its number of allowable windows, for :func:`windows_listed_text`."""
+    several = len({ws.day_type.name for ws in result.sets}) > 1
+    return [
+        (f"{ws.label} - {ws.day_type.name}" if several else ws.label, len(ws.longest()))
+        for ws in result.sets
+    ]
+
+
+def windows_listed_text(counts: list[tuple[str, int]], top: int) -> str:
+    """``""``, or what a table of the ``top`` longest windows of each configuration
+    leaves out: ``counts`` is each configuration's label and its number of windows."""
+    cut = [(label, n) for label, n in counts if n > top]
+    if not cut:
+        return ""
+    each = "; ".join(f"{n} for {label}" for label, n in cut)
+    return f"the {top} longest of {each} are listed; the hours of each day above show every window"
 
 
 def farthest_passed(result: Result) -> LandmarkResult | None:

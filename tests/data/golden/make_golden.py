@@ -48,7 +48,12 @@ again when an hour a closure starts or ends within came to be named on the Permi
 and in the report's hour-by-hour notes (its capacity and demand / capacity are averages
 over the hour): on the Brackenholm example (the hour from 20:00) the Permit table gains
 that one wrapped note (a cell, a merged range, and its print area one row longer) and
-the report's hour-by-hour page that sentence; nothing else:
+the report's hour-by-hour page that sentence; and again when the tables of the longest
+allowable windows came to say when they list only some (the 5 longest on the terminal,
+10 on the Closure windows sheet, 3 in the report, of each configuration's windows): the
+``windows`` command's output of every example, the windows page of the reports and the
+Closure windows sheets whose configurations have more windows than that gain the line
+or title words "the N longest of M ... are listed"; nothing else:
 
     python3 tests/data/golden/make_golden.py
 
