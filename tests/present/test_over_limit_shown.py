@@ -132,3 +132,25 @@ def test_the_headline_shows_it_above_the_limit() -> None:
     lines = dict(summary_lines(result))
     assert lines["Longest queue"].startswith("0.02 km, at ")
     assert lines["Highest hourly average delay"] == "0.1 min/veh"
+
+
+def test_a_landmark_passed_is_never_shown_passed_by_zero() -> None:
+    # the 12 m queue above (by hand) passes a landmark 10 m upstream by 2 m: 0.002 km,
+    # shown "0.00 km" beyond it, with its time beyond it, while the hour failed on it
+    import dataclasses
+
+    from wzq.engine.plan import Approach, Landmark
+    from wzq.present.tables import landmark_display
+
+    base = _closed_hour(2001.5, Thresholds())
+    plan = dataclasses.replace(
+        base.plan,
+        thresholds=Thresholds(queue_must_not_pass="gantry"),
+        approach=Approach((Landmark("gantry", 10.0, "structure"),)),
+    )
+    result = wzq.analyse(plan)
+    beyond = result.landmark_results[0]
+    assert beyond.max_beyond_m == pytest.approx(2.0)
+    row = landmark_display(result).iloc[0]
+    assert row["Farthest beyond (km)"] == 0.01
+    assert row["Time beyond it (h)"] > 0

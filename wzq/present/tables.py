@@ -329,7 +329,7 @@ def passed_text(result: Result) -> str:
     lm = r.landmark
     return (
         f"{lm.name} ({lm.distance / long_m:,.2f} {long_name} upstream), for "
-        f"{rounded(r.time_beyond_s / u.HOUR, 2):,.2f} h"
+        f"{above_limit(r.time_beyond_s / u.HOUR, 2, 0.0):,.2f} h"
     )
 
 
@@ -463,8 +463,11 @@ def landmark_display(result: Result) -> pd.DataFrame:
                 "never" if pd.isna(t) else hour_label(t)[:-5] + f"{t:%H:%M}"
                 for t in lm["first_reached"]
             ],
-            "Time beyond it (h)": [rounded(v, 2) for v in lm["time_beyond_h"]],
-            f"Farthest beyond ({long_name})": [rounded(v / long_m, 2) for v in lm["max_beyond_m"]],
+            # a landmark passed is never shown passed by 0 (:func:`above_limit`)
+            "Time beyond it (h)": [above_limit(v, 2, 0.0) for v in lm["time_beyond_h"]],
+            f"Farthest beyond ({long_name})": [
+                above_limit(v / long_m, 2, 0.0) for v in lm["max_beyond_m"]
+            ],
             "Hours beyond": lm["hours_beyond"].to_numpy(),
         }
     )
