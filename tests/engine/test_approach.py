@@ -789,6 +789,11 @@ def test_json_reads_and_writes_the_approach() -> None:
          "approach.landmarks[2]", "carries no traffic"),
         (lambda d: d["approach"]["landmarks"][2].update(name="Bell St off-ramp"),
          "approach.landmarks[2].name", "is used twice"),
+        # told apart regardless of case and spacing, as the workbook's landmark table is
+        (lambda d: d["approach"]["landmarks"][2].update(name="bell st  OFF-RAMP"),
+         "approach.landmarks[2].name",
+         "'bell st  OFF-RAMP' differs from the landmark 'Bell St off-ramp' only in case or "
+         "spacing; names must differ in their letters"),
         (lambda d: d["approach"]["landmarks"][2].update(distance=0),
          "approach.landmarks[2].distance", "above 0 upstream of the taper"),
         (lambda d: d["thresholds"].update(queue_must_not_pass="Heron Ck bridge"),

@@ -623,3 +623,26 @@ def test_wzq_run_prints_the_risk_beside_the_design_result(tmp_path: Path, capsys
     assert "Risk: some hour over a limit     in 60.0 % of the scenarios" in out
     assert "14.7 % to 94.7 %" in out
     assert "Risk: riskiest hour" in out and "13:00: over a limit in 60.0 %" in out
+
+
+def test_a_finding_about_the_count_file_as_a_whole_is_said_in_full_not_as_an_unusual_day(
+    tmp_path: Path,
+) -> None:
+    """A count file stamping each hour at its end (01:00 on the first day to 00:00 after
+    the last): what reading found was said as a counted day that 'looks unusual', with
+    the advice to list it in 'Days to leave out', which cannot mend stamps an hour late.
+    It is said in full, with its own advice (the stamp's end)."""
+    t0 = dt.datetime.combine(FIRST_COUNTED, dt.time(1))
+    flows = hand_flows().ravel()
+    rows = (f"{t0 + dt.timedelta(hours=i):%Y-%m-%d %H:%M},{x:g}" for i, x in enumerate(flows))
+    (tmp_path / "end.csv").write_text("datetime,count\n" + "\n".join(rows), encoding="utf-8")
+    plan = read_plan(history_book(tmp_path, history_source="end.csv"))
+    cell = named_cell(openpyxl.load_workbook(tmp_path / "plan.xlsx"), "history_source")
+    where = f"{cell.parent.title}!{cell.coordinate}"
+    said = [w for w in plan.input_warnings if "the counts run from" in w]
+    assert said == [
+        f"{where}: the counts on end.csv: Mon 2026-05-04: the counts run from 01:00 to 00:00 "
+        "on Mon 2026-06-08, as time stamps at the end of each interval do; read as starts, "
+        "every count is one interval late. If each stamp is the end of its interval, say so "
+        "(wzq counts --stamp end; in a plan, 'A time stamp is the' end of its interval)"
+    ]

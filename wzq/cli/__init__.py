@@ -20,10 +20,14 @@ import importlib
 import sys
 from collections.abc import Sequence
 from types import ModuleType
+from typing import TYPE_CHECKING
 
 import wzq
 from wzq.engine.problems import PlanError
 from wzq.present.printable import printable, safe_streams
+
+if TYPE_CHECKING:
+    from wzq.engine.plan import Plan
 
 __all__ = [
     "COMMANDS",
@@ -36,6 +40,7 @@ __all__ = [
     "exit_status",
     "explain",
     "main",
+    "print_input_warnings",
 ]
 
 #: Done.
@@ -121,6 +126,17 @@ def exit_status(error: BaseException) -> int:
     if isinstance(error, PlanError):
         return EXIT_INPUT if error.input_fault else EXIT_FAILURE
     return EXIT_FAILURE
+
+
+def print_input_warnings(plan: Plan) -> None:
+    """Print the plan's input warnings (:func:`wzq.engine.warnings.input_warnings`: an
+    input read in a way worth a second look, at its cell), one ``warning:`` line each.
+    Every command that analyses a plan says them, so no command uses such an input
+    without a word."""
+    from wzq.engine.warnings import input_warnings  # not at start-up of every command
+
+    for w in input_warnings(plan):
+        print(f"warning: {w}")
 
 
 def explain(

@@ -15,7 +15,7 @@ import numpy as np
 
 import wzq
 from wzq import units as u
-from wzq.cli import EXIT_OK, explain
+from wzq.cli import EXIT_OK, explain, print_input_warnings
 from wzq.engine.plan import Plan, PlanError, Problem, RiskOptions
 from wzq.engine.risk import PROBABILITY_COLUMNS, RiskResult, assess
 from wzq.io.plans import load_any
@@ -139,6 +139,7 @@ def cmd_risk(args: argparse.Namespace) -> int:
         )
     result = assess(plan, options=options)
     print_risk(result, plan, all_hours=args.all_hours)
+    print_input_warnings(plan)
     return EXIT_OK
 
 

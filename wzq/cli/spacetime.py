@@ -18,7 +18,7 @@ import numpy as np
 
 import wzq
 from wzq import units as u
-from wzq.cli import EXIT_OK, explain
+from wzq.cli import EXIT_OK, explain, print_input_warnings
 from wzq.engine.lwr.simulation import Simulation, focus_window, simulate
 from wzq.engine.plan import PlanError, Problem
 from wzq.io.plans import load_any
@@ -231,6 +231,7 @@ def cmd_spacetime(args: argparse.Namespace) -> int:
 
     write_atomically(out, space_time_png(sim))  # never half a picture
     print_comparison(sim, sys.stdout)
+    print_input_warnings(plan)
     print(f"\nwrote {out}", file=sys.stdout)
     print(f"\n{wzq.CAUTION}", file=sys.stdout)
     return EXIT_OK

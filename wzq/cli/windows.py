@@ -16,7 +16,7 @@ import pandas as pd
 
 import wzq
 from wzq import units as u
-from wzq.cli import EXIT_OK, explain
+from wzq.cli import EXIT_OK, explain, print_input_warnings
 from wzq.engine import costs as rc
 from wzq.engine.plan import NIGHT_END_HOUR, NIGHT_START_HOUR, Plan, PlanError, Problem
 from wzq.engine.risk_windows import closure_windows
@@ -294,6 +294,7 @@ def cmd_windows(args: argparse.Namespace) -> int:
             days=days,
             top=args.top,
         )
+    print_input_warnings(plan)
     return EXIT_OK
 
 

@@ -600,15 +600,29 @@ def _validate_approach(plan: Plan) -> list[Problem]:
     out: list[Problem] = []
     d = plan.demand
     n_hours = len(d.flows_veh_h) * d.interval_s // 3600 if d.interval_s > 0 else 0
-    seen: set[str] = set()
+    seen: dict[str, str] = {}  # a name told apart regardless of case and spacing -> as typed
     bad_ramp = False
     for i, lm in enumerate(plan.approach.landmarks):
         where = f"approach.landmarks[{i}]"
         if not isinstance(lm.name, str) or not lm.name.strip():
             out.append(Problem(f"{where}.name", "give the landmark a name"))
-        elif lm.name in seen:
-            out.append(Problem(f"{where}.name", f"'{lm.name}' is used twice; names must differ"))
-        seen.add(lm.name)
+        else:
+            # told apart regardless of case and spacing, as the workbook's landmark table
+            # and its 'Queue must not pass' are read
+            key = " ".join(lm.name.split()).casefold()
+            if key in seen and seen[key] == lm.name:
+                out.append(
+                    Problem(f"{where}.name", f"'{lm.name}' is used twice; names must differ")
+                )
+            elif key in seen:
+                out.append(
+                    Problem(
+                        f"{where}.name",
+                        f"'{lm.name}' differs from the landmark '{seen[key]}' only in case or "
+                        "spacing; names must differ in their letters",
+                    )
+                )
+            seen.setdefault(key, lm.name)
         if not np.isfinite(lm.distance) or lm.distance <= 0:
             out.append(
                 Problem(f"{where}.distance", "must be a distance above 0 upstream of the taper")

@@ -65,7 +65,7 @@ import io
 import re
 from collections import defaultdict
 from collections.abc import Callable, Iterable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -955,6 +955,9 @@ class CountRead:
     direction: str | None = None
     lanes: tuple[int, ...] = ()
     warnings: tuple[str, ...] = ()
+    #: Of ``warnings``, the counted days that look unusual (each starts with its day,
+    #: ``Mon 2026-05-25: ...``); the rest are findings about the file as read.
+    unusual: tuple[str, ...] = ()
 
     def gaps(self) -> list[tuple[dt.date, int]]:
         """Days with missing intervals (and how many), excluded days apart."""
@@ -1119,9 +1122,8 @@ def _finish(history: CountHistory, source: str, *, warnings: list[str], **kw: An
         history = CountHistory(
             h.first_day, h.interval_s, h.flows_veh_h, h.excluded + tuple(extra), h.source
         )
-    return CountRead(
-        history, warnings=tuple(warnings + sorted(_screen(history), key=_by_date)), **kw
-    )
+    unusual = tuple(sorted(_screen(history), key=_by_date))
+    return CountRead(history, warnings=(*warnings, *unusual), unusual=unusual, **kw)
 
 
 def _by_date(warning: str) -> str:
@@ -1136,9 +1138,7 @@ def exclude(
     h = read.history
     extra = tuple((d, why) for d in days if d not in {x for x, _ in h.excluded})
     history = CountHistory(h.first_day, h.interval_s, h.flows_veh_h, h.excluded + extra, h.source)
-    return CountRead(
-        history, read.kind, read.records, read.station, read.direction, read.lanes, read.warnings
-    )
+    return replace(read, history=history)
 
 
 # ---------------------------------------------------------------------------------------------

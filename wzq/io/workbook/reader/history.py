@@ -230,15 +230,21 @@ class HistoryReader:
 
     def unusual_days(self, read: Any, source: str, holidays: tuple[dt.date, ...]) -> None:
         """Counted days that look unusual (a lane out, a fault), said once for the history;
-        listed holidays are a day type of their own, so they are not queried."""
+        listed holidays are a day type of their own, so they are not queried. What reading
+        found about the counts as a whole (time stamps at the ends of the intervals, a line
+        repeated) is said in full, each on its own: the advice for an unusual day (leave it
+        out) is not theirs."""
+        place = f"sheet '{self._history_sheet.title}'" if self._history_sheet else source
+        for w in read.warnings:  # what reading found about the counts as a whole, in full
+            if w not in read.unusual:
+                self.note(self.where_of["history_source"], f"the counts on {place}: {w}")
         listed = {d.isoformat() for d in holidays}
-        # each warning starts with the day ("Thu 2026-01-01: ..."); its first clause says why
-        found = [w.split("; ")[0].split("?")[0] for w in read.warnings if w[4:14] not in listed]
+        # each starts with the day ("Thu 2026-01-01: ..."); its first clause says why
+        found = [w.split("; ")[0].split("?")[0] for w in read.unusual if w[4:14] not in listed]
         if not found:
             return
         shown = "; ".join(found[:_UNUSUAL_SHOWN])
         more = f"; and {len(found) - _UNUSUAL_SHOWN} more" if len(found) > _UNUSUAL_SHOWN else ""
-        place = f"sheet '{self._history_sheet.title}'" if self._history_sheet else source
         days = f"{len(found)} counted days" if len(found) != 1 else "1 counted day"
         self.note(
             self.where_of["history_source"],
