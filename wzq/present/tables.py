@@ -272,10 +272,9 @@ def part_hours_text(result: Result) -> str:
     """``""``, or a note naming the hours a closure starts or ends within (the capacity
     changes inside the hour): their capacity, queue discharge rate and demand / capacity
     are averages over the hour, which no lane count carries."""
-    iv = result.intervals
     t = np.asarray(result.boundaries_s, dtype=float)[:-1]
     hour = (t // u.HOUR).astype(np.int64)
-    cap = iv["capacity_veh_h"].to_numpy(dtype=float)
+    cap = np.asarray(result.run.prebreakdown_veh_h, dtype=float)  # per interval, no pandas
     hi = np.full(hour.max() + 1 if len(hour) else 0, -np.inf)
     lo = np.full_like(hi, np.inf)
     np.maximum.at(hi, hour, cap)

@@ -215,7 +215,7 @@ def demand_capacity_chart(out: w.SheetWriter, result: Result) -> ScatterChart:
     them: an hourly average would hide a 15-minute peak above capacity, or a closure
     from half past the hour."""
     ws = out.ws
-    iv = result.intervals
+    run = result.run  # numpy arrays per interval (no pandas: a run need not import it)
     start = result.plan.demand.start
     edges = [start + dt.timedelta(seconds=float(s)) for s in result.boundaries_s]
     _header(
@@ -227,9 +227,9 @@ def demand_capacity_chart(out: w.SheetWriter, result: Result) -> ScatterChart:
     count = out.style.prepare(number_format=w.NUMBER_FORMATS[0])
     r = DATA_HEADER_ROW + 1
     flows = zip(
-        iv["demand_veh_h"].tolist(),
-        iv["capacity_veh_h"].tolist(),
-        iv["discharge_veh_h"].tolist(),
+        np.asarray(run.demand_veh_h).tolist(),
+        np.asarray(run.prebreakdown_veh_h).tolist(),
+        np.asarray(run.discharge_veh_h).tolist(),
         strict=True,
     )
     for k, values in enumerate(flows):
