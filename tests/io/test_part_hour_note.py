@@ -1,4 +1,5 @@
-"""An hour a closure starts or ends within says that its figures are the hour's.
+"""An hour a closure starts or ends within says that its figures are the hour's, and its
+demand / capacity is against the closure's capacity.
 
 A closure from 01:30 printed, for the hour from 01:00, "1 lane open" beside the
 hour's average capacity (2,500 veh/h, more than one lane carries) and the hour's
@@ -10,6 +11,7 @@ closed from 01:30 to 03:00 at a typed 1,000 veh/h/ln.
 from __future__ import annotations
 
 import datetime as dt
+from dataclasses import replace
 
 import numpy as np
 import openpyxl
@@ -17,7 +19,7 @@ import pytest
 from hand import hand_site
 
 import wzq
-from wzq.engine.plan import Closure, Demand, Plan
+from wzq.engine.plan import Closure, Demand, Plan, Thresholds
 from wzq.io.report import hourly_section, make_styles
 from wzq.io.workbook.run import write_filled_workbook
 
@@ -43,6 +45,21 @@ def test_the_hour_is_averaged_by_hand(result) -> None:
     assert result.hourly["lanes_open"].tolist()[1] == 1
 
 
+def test_its_demand_capacity_is_against_the_closures_capacity(result) -> None:
+    """800 veh/h against the closure's 1,000 veh/h is 0.80 in the hour from 01:00 as in
+    the hour from 02:00; against the hour's average, 800 / 2,500 = 0.32, a limit of 0.75
+    passed it. Open hours: 800 / 4,000 = 0.20. Hand arithmetic."""
+    assert result.hourly["demand_capacity"].tolist() == pytest.approx([0.2, 0.8, 0.8, 0.2, 0.2])
+    limited = wzq.analyse(replace(result.plan, thresholds=Thresholds(max_demand_capacity=0.75)))
+    assert limited.hourly["status"].tolist() == [
+        "ok",
+        "over limit: demand/capacity",
+        "over limit: demand/capacity",
+        "ok",
+        "ok",
+    ]
+
+
 def test_the_permit_table_says_it(result, tmp_path) -> None:
     path = tmp_path / "part.xlsx"
     write_filled_workbook(result.plan, path)
@@ -50,6 +67,7 @@ def test_the_permit_table_says_it(result, tmp_path) -> None:
     notes = [v for row in ws.iter_rows(values_only=True) for v in row if isinstance(v, str)]
     said = [n for n in notes if "averages over the hour" in n]
     assert len(said) == 1 and SAID in said[0] and "02:00" not in said[0], notes
+    assert "demand / capacity is the hour's demand against the closure's capacity" in said[0]
 
 
 def test_the_report_says_it(result) -> None:

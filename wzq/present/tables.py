@@ -270,8 +270,9 @@ def unknown_length_text(result: Result) -> str:
 
 def part_hours_text(result: Result) -> str:
     """``""``, or a note naming the hours a closure starts or ends within (the capacity
-    changes inside the hour): their capacity, queue discharge rate and demand / capacity
-    are averages over the hour, which no lane count carries."""
+    changes inside the hour): their capacity and queue discharge rate are averages over
+    the hour, which no lane count carries; their demand / capacity is against the
+    closure's capacity (:func:`wzq.engine.hourly.hour_checks`)."""
     t = np.asarray(result.boundaries_s, dtype=float)[:-1]
     hour = (t // u.HOUR).astype(np.int64)
     cap = np.asarray(result.run.prebreakdown_veh_h, dtype=float)  # per interval, no pandas
@@ -286,9 +287,10 @@ def part_hours_text(result: Result) -> str:
     shown = ", ".join(hour_label(starts[i]) for i in part[:6])
     shown += f" and {len(part) - 6} more" if len(part) > 6 else ""
     return (
-        f"A closure starts or ends within the hour from {shown}: the capacity, queue "
-        "discharge rate and demand / capacity shown there are averages over the hour "
-        "(the Charts draw each part of the hour)."
+        f"A closure starts or ends within the hour from {shown}: the capacity and queue "
+        "discharge rate shown there are averages over the hour (the Charts draw each part "
+        "of the hour); its demand / capacity is the hour's demand against the closure's "
+        "capacity, as in a closure hour."
     )
 
 
