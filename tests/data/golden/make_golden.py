@@ -53,7 +53,13 @@ allowable windows came to say when they list only some (the 5 longest on the ter
 10 on the Closure windows sheet, 3 in the report, of each configuration's windows): the
 ``windows`` command's output of every example, the windows page of the reports and the
 Closure windows sheets whose configurations have more windows than that gain the line
-or title words "the N longest of M ... are listed"; nothing else:
+or title words "the N longest of M ... are listed"; and again when an hour a closure
+starts or ends within came to be judged on demand / capacity by its demand against the
+closure's capacity (the hour's average capacity, part open road, diluted it): on the
+Brackenholm example (closure from 20:30, no demand/capacity limit) the hour from 20:00
+reads 1.19 instead of 0.47 in the per-hour table, ``show``, the Results and Permit table
+sheets, and the part-hour note on the Permit table and in the report says so in its
+words; no status changes, nothing else:
 
     python3 tests/data/golden/make_golden.py
 
