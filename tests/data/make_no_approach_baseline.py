@@ -4,7 +4,10 @@ Run once on the code *before* the approach road (ramps, landmarks, set
 congested branch) was added -- commit 8b36fdc of the main branch (recorded first
 on e80a16c, again when the approach road was merged after the reader, output and
 risk changes; and its hourly longest wait replaced, nothing else, when the
-wait's reading of a queue that clears inside an interval was fixed) -- to record
+wait's reading of a queue that clears inside an interval was fixed; and one
+demand/capacity replaced, nothing else, when an hour a closure covers in part was
+judged by the closure's own capacity: fenwick_quarter_hours 07:00, 0.437 -> 0.646,
+its demand over the closure's capacity rather than the hour's average) -- to record
 what every result was then:
 
     python3 tests/data/make_no_approach_baseline.py

@@ -80,7 +80,8 @@ def reference_hours(
     closed_cap: float = CLOSED,
     open_cap: float = OPEN,
 ) -> dict[str, np.ndarray]:
-    """Per hour: arrivals, capacity (veh), delay (veh-s), closure flag.
+    """Per hour: arrivals, capacity (veh), delay (veh-s), closure flag, and the lowest
+    capacity under a closure (veh/h; ``inf`` in an hour without one).
 
     The D/D/1 queue of the textbooks (May, *Traffic Flow Fundamentals*, 1990,
     ch. 11, from memory): within an interval of constant rates the queue
@@ -93,6 +94,7 @@ def reference_hours(
     per = round(3600 / interval_s)
     n_hours = len(flows) // per
     out = {k: np.zeros(n_hours) for k in ("arrivals", "capacity", "delay")}
+    out["closure_capacity"] = np.full(n_hours, np.inf)  # veh/h, the lowest under a closure
     out["closed"] = np.zeros(n_hours, dtype=bool)
     for i, (flow, shut) in enumerate(zip(flows, closed, strict=True)):
         lam = flow / 3600.0
@@ -112,17 +114,21 @@ def reference_hours(
         out["capacity"][h] += mu * interval_s
         out["delay"][h] += area + (departures * extra_s if shut else 0.0)
         out["closed"][h] |= shut
+        if shut:
+            out["closure_capacity"][h] = min(out["closure_capacity"][h], closed_cap)
         q = q1
     return out
 
 
 def reference_ok(hours: dict[str, np.ndarray], limits: Thresholds) -> np.ndarray:
-    """Every hour within the delay limit, and within demand/capacity in closure hours."""
+    """Every hour within the delay limit, and within demand/capacity in closure hours: the
+    hour's demand against the closure's capacity, also in an hour the closure covers in
+    part (the hour's average capacity, part open road, would dilute it)."""
     ok = np.ones(len(hours["arrivals"]), dtype=bool)
     if limits.max_average_delay is not None:
         ok &= hours["delay"] / hours["arrivals"] <= limits.max_average_delay
     if limits.max_demand_capacity is not None:
-        dc = hours["arrivals"] / hours["capacity"]
+        dc = hours["arrivals"] / hours["closure_capacity"]  # veh in the hour / veh/h
         ok &= ~hours["closed"] | (dc <= limits.max_demand_capacity)
     return ok
 
@@ -304,16 +310,20 @@ def test_window_search_applies_demand_capacity_in_closure_hours_only() -> None:
 
 
 def test_window_search_applies_demand_capacity_to_hours_a_closure_ends_in() -> None:
-    # Quarter hours at 1,450 veh/h, below the closure's 1,500 (no queue ever), limit
-    # 0.6. An hour with k quarters closed has a capacity of 375 k + 1,000 (4 - k) veh:
-    # k = 2 gives 1,450 / 2,750 = 0.53 (passes), k = 3 gives 1,450 / 2,125 = 0.68
-    # (fails); open hours, 1,450 / 4,000 = 0.36, pass.
-    flows = [1450.0] * 12
+    # Quarter hours at 1,450 veh/h in hours 0 and 2, 800 in hour 1, all below the
+    # closure's 1,500 veh/h (no queue ever); limit 0.6. An hour a closure covers, in
+    # whole or in part, is its demand against the closure's capacity: 1,450 / 1,500 =
+    # 0.97 fails, 800 / 1,500 = 0.53 passes. Closing the last half of hour 0 fails: the
+    # hour's average capacity, 2 x 1,000 + 2 x 375 = 2,750 veh, would give 1,450 / 2,750
+    # = 0.53 and pass it. Open hours (1,450 / 4,000 = 0.36) pass.
+    flows = [1450.0] * 4 + [800.0] * 4 + [1450.0] * 4
     limit = Thresholds(max_demand_capacity=0.6)
     config = W.Configuration(1, capacity_override_veh_h_ln=CLOSED)
     site = hand_site(work_zone_length=0.0)
     expected = reference_allowed(flows, 900, limit, 0.0)
-    assert expected[2, 6] and not expected[1, 4] and not expected[5, 8]
+    assert not expected[2, 4] and not expected[3, 5] and not expected[7, 9]
+    assert expected[4, 8] and expected[5, 7] and expected[4, 5]
+    assert expected.sum() == 10  # the closures within hour 1: 4 + 3 + 2 + 1
     for exhaustive in (False, True):
         ws = W.find_windows(
             site, Demand(START, 900, np.array(flows)), limit, [config], exhaustive=exhaustive

@@ -258,7 +258,7 @@ def test_charts_are_in_the_reloaded_document(pressed, office):
     # the two hour-by-hour charts, then one cumulative chart per queue of the edited plan
     shown, _ = shown_episodes(pressed["expected"])
     assert [c["title"] for c in charts] == [
-        "Demand, capacity and queue discharge rate by hour",
+        "Demand, capacity and queue discharge rate",
         "Longest queue by hour",
         *(episode_title(pressed["expected"], ep) for ep in shown),
     ]

@@ -210,7 +210,7 @@ def test_live_charts_read_the_same_cells_as_the_file_charts(both, which):
     # the queue chart: bars from the Results sheet, the limit line from the Charts sheet
     assert {s[2].split("!")[0] for s in charts[1].series} == {layout.RESULTS, layout.CHARTS}
     assert [v.title for v in charts] == [
-        "Demand, capacity and queue discharge rate by hour",
+        "Demand, capacity and queue discharge rate",
         "Longest queue by hour",
         *QUEUE_CHARTS[which],
     ]

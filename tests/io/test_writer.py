@@ -378,7 +378,7 @@ def test_three_native_charts_with_axis_titles_and_units(fenwick):
     assert len(ws._charts) == 3
     joined = " ".join(x for x in xml.values() if "Closure windows" not in x)
     for title in (
-        "Demand, capacity and queue discharge rate by hour",
+        "Demand, capacity and queue discharge rate",
         "Longest queue by hour",
         "Queue Sat 2027-06-12 09:00 to 18:20",  # the queue's own chart
         "Flow (veh/h)",

@@ -30,7 +30,7 @@ from wzq.engine.windows import (
     plan_windows,
 )
 from wzq.io.plans import load_any_and_book
-from wzq.present.tables import limits_text
+from wzq.present.tables import limits_text, windows_listed_text
 from wzq.present.terminal import TermColumn, console_width, print_table
 
 __all__ = [
@@ -197,9 +197,13 @@ def print_windows(
             f"{SYMBOLS['part']} part of the hour   {SYMBOLS['no']} not allowed",
             file=out,
         )
-        longest = _keep(ws, ws.longest(), days)[:top]
+        every = _keep(ws, ws.longest(), days)
+        longest = every[:top]
         if longest:
             print_table(_window_columns(ws, longest, currency), out, what="table")
+            cut = windows_listed_text([(ws.label, len(every))], top)
+            if cut:
+                para(f"({cut})")
         else:
             print(
                 "  No closure of this configuration keeps every hour within the limits.", file=out

@@ -70,6 +70,7 @@ def hour_checks(
     closed: np.ndarray,
     landmark: tuple[str, float] | None = None,
     held_veh: np.ndarray | None = None,
+    closure_capacity: np.ndarray | None = None,
 ) -> tuple[np.ndarray, np.ndarray, list[tuple[str, str, np.ndarray]]]:
     """Average delay (min/veh), demand/capacity and each hour's checks against the limits.
 
@@ -83,6 +84,14 @@ def hour_checks(
     holding :data:`HELD_QUEUE_VEH` or more fails the length and landmark checks,
     since the queue's length is then unknown, not the length shown. The one
     rule for the per-hour table, the scenarios and the closure-window search.
+    ``closure_capacity`` (veh/h): the lowest capacity under a closure in each hour
+    (``inf`` in an hour without one). Where given, an hour's demand/capacity in closure
+    hours is its demand against that capacity, as though the closure were in force all
+    the hour: the demand/capacity of a closure hour. An hour a closure starts or ends
+    within is judged so too; the hour's average capacity, part open road, would dilute
+    it (a closure from 20:30 passed a limit of 0.95 at 0.47, its demand 1.19 times the
+    closure's capacity; the rule is common practice, no source). A whole hour under one
+    closure gives the same ratio either way.
     Returns ``(average_delay_min, demand_capacity, [(column, label, ok), ...])``.
     """
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -90,6 +99,12 @@ def hour_checks(
             arrivals > 0, delay_veh_h * 60.0 / np.where(arrivals > 0, arrivals, 1.0), 0.0
         )
         dc = np.where(capacity > 0, arrivals / np.where(capacity > 0, capacity, 1.0), np.nan)
+        if closure_capacity is not None:
+            # only where the hour's average is above the closure's capacity (part open
+            # road, or a second closure): a whole hour under one closure keeps its ratio
+            # to the last bit
+            part = (closure_capacity > 0) & (closure_capacity < capacity * (1 - 1e-9))
+            dc = np.where(part, arrivals / np.where(part, closure_capacity, 1.0), dc)
     checks: list[tuple[str, str, np.ndarray]] = []
     seen = True if held_veh is None else ~length_unknown(held_veh)
     if th.max_queue_length is not None:
@@ -147,7 +162,8 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
         lmax = r.back_of_queue.hourly_max_m  # exact, peaks inside intervals included
     else:
         lmax = top(np.maximum(r.length_start, r.length_end), first)
-    closed = top((r.closure >= 0).view(np.int8), first).astype(bool)
+    shut = r.closure >= 0
+    closed = top(shut.view(np.int8), first).astype(bool)
     held = top(r.held_veh, first)
     avg, dc, checks = hour_checks(
         r.plan.thresholds,
@@ -158,6 +174,7 @@ def hour_columns(r: Run) -> dict[str, np.ndarray]:
         closed,
         landmark_limit(r.plan),
         held,
+        closure_capacity=low(np.where(shut, r.prebreakdown_veh_h, np.inf), first),
     )
     exits = () if r.sections is None else r.sections.exits
     exit_delay = sum((e.delay_veh_s for e in exits), np.zeros(n_hours)) / HOUR

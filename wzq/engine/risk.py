@@ -497,7 +497,7 @@ def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
         def add(x: np.ndarray) -> np.ndarray:
             return x
 
-        top = add
+        top = low = add
         queue_end = rows.q[:, 1:]
     else:
         bounds = np.arange(n_hours + 1) * HOUR
@@ -509,6 +509,9 @@ def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
 
         def top(x: np.ndarray) -> np.ndarray:
             return np.maximum.reduceat(x, first, axis=-1)
+
+        def low(x: np.ndarray) -> np.ndarray:
+            return np.minimum.reduceat(x, first, axis=-1)
 
         queue_end = rows.q[:, last_b]
     model = ia.model
@@ -529,7 +532,14 @@ def run_scenarios(plan: Plan, scenarios: Scenarios) -> ScenarioRuns:
     closed_h = top(closed.view(np.int8)).astype(bool)
     held = top(held_beyond(lam_h, dur, site.lanes, model.diagram))  # no ramps here
     avg, dc, checks = hour_checks(
-        plan.thresholds, arrivals, capacity, lmax, delay, closed_h, held_veh=held
+        plan.thresholds,
+        arrivals,
+        capacity,
+        lmax,
+        delay,
+        closed_h,
+        held_veh=held,
+        closure_capacity=low(np.where(closed, pre, np.inf)),
     )
     return ScenarioRuns(
         plan,

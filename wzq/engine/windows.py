@@ -236,6 +236,7 @@ class _Eval:
     length: np.ndarray  # per interval, longest queue (m)
     queue_delay: np.ndarray  # per interval, veh-s
     wz_delay: np.ndarray  # per interval, veh-s
+    under: np.ndarray  # per interval, capacity under the closure (veh/h; inf when open)
 
     @property
     def total_delay_veh_h(self) -> float:
@@ -249,14 +250,24 @@ def _checks(
     lmax: np.ndarray,
     delay_veh_h: np.ndarray,
     closed: np.ndarray,
+    closure_capacity: np.ndarray,
     hours: np.ndarray | None = None,
 ) -> np.ndarray:
     """All of :func:`wzq.engine.hourly.hour_checks` passed, hour by hour (``hours``: the
-    hours the arrays hold, when not every hour)."""
+    hours the arrays hold, when not every hour; ``closure_capacity``: the lowest capacity
+    under the closure in each hour, veh/h, ``inf`` where none)."""
     ok = np.ones(len(arrivals), dtype=bool)
     held = g.held if hours is None else g.held[hours]
     checks = hour_checks(
-        g.thresholds, arrivals, capacity, lmax, delay_veh_h, closed, g.landmark, held
+        g.thresholds,
+        arrivals,
+        capacity,
+        lmax,
+        delay_veh_h,
+        closed,
+        g.landmark,
+        held,
+        closure_capacity=closure_capacity,
     )
     for _, _, passed in checks[2]:
         ok &= passed
@@ -293,8 +304,9 @@ def _evaluate(g: _Grid, s: int, e: int, screen: bool = False) -> _Eval:
     lmax = np.maximum.reduceat(length, first)
     delay = np.add.reduceat(run.delay, first) / HOUR + np.add.reduceat(wz, first) / HOUR
     closed_h = np.logical_or.reduceat(closed, first)
-    ok = _checks(g, arrivals, capacity, lmax, delay, closed_h)
-    return _Eval(run.queue, ok, run.arrivals, cap_i, length, run.delay, wz)
+    under = np.where(closed, pre, np.inf)  # the capacity under the closure, veh/h
+    ok = _checks(g, arrivals, capacity, lmax, delay, closed_h, np.minimum.reduceat(under, first))
+    return _Eval(run.queue, ok, run.arrivals, cap_i, length, run.delay, wz, under)
 
 
 def _ramp_run(
@@ -337,8 +349,9 @@ def _mixed_hours_ok(
         pick(r.queue_delay, b.queue_delay, 0.0).sum(axis=1) / HOUR
         + pick(r.wz_delay, b.wz_delay, 0.0).sum(axis=1) / HOUR
     )
+    under = pick(r.under, b.under, np.inf).min(axis=1)
     closed = np.ones(len(hours), dtype=bool)
-    return _checks(g, arrivals, capacity, lmax, delay, closed, hours)
+    return _checks(g, arrivals, capacity, lmax, delay, closed, under, hours)
 
 
 def _first_failure_end(g: _Grid, ok: np.ndarray) -> int:

@@ -84,8 +84,12 @@ from wzq.present.tables import (
     hourly_display,
     landmark_display,
     limit_values,
+    part_hours_text,
     ramp_flow_text,
     summary_lines,
+    unknown_length_text,
+    window_counts,
+    windows_listed_text,
 )
 
 __all__ = [
@@ -847,6 +851,9 @@ def hourly_section(result: Result, st: Styles, width: float) -> list[Flowable]:
         "Delay counts queueing delay and the extra travel time through the work zone. "
         "A heavy line marks midnight. " + key
     )
+    part = part_hours_text(result)
+    if part:
+        notes += " " + part
     return [Paragraph("Hour by hour", st.h1), Paragraph(notes, st.small), Spacer(1, 4), table]
 
 
@@ -1045,6 +1052,12 @@ def charts_section(result: Result, st: Styles, width: float, height: float) -> l
             else "; dash-dot lines: landmarks upstream of the taper, named"
         )
     cap2 = f"Figure 2. Queue length ({long_name}) over time: {how}{limit}{bars}.{shading}"
+    unknown = unknown_length_text(result)
+    if unknown:  # the line leaves out the vehicles held back: its length there is not known
+        cap2 += (
+            f" The queue's length is {unknown}: traffic the road cannot carry is held back "
+            "beyond the approach and left out of the line there (see the warnings)."
+        )
     cap3 = (
         "Figure 3. Cumulative arrivals and departures around each queue (deterministic "
         "queueing). The vertical gap between the curves is the number of vehicles queued; the "
@@ -1140,6 +1153,7 @@ def windows_section(
     )
     hours_table.setStyle(TableStyle(style))
     long = longest_windows(found, top=3)
+    cut = windows_listed_text(window_counts(found), 3)
     from wzq.engine.costs import plan_costs
 
     currency = text(plan_costs(result.plan).currency)
@@ -1177,6 +1191,7 @@ def windows_section(
         Spacer(1, 8),
         Paragraph("Longest allowable windows", st.h2),
         longest,
+        *([Paragraph(text(f"{cut[0].upper()}{cut[1:]}."), st.small)] if cut else []),
         *notes,
     ]
 

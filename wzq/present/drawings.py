@@ -43,6 +43,7 @@ from wzq.present.tables import (  # noqa: F401  (re-exported: the report's names
     charted_landmarks,
     episode_title,
     episode_window,
+    limit_values,
     queue_episodes,
     shown_episodes,
 )
@@ -479,7 +480,7 @@ def queue_length_drawing(
     limit_style = Style(INK, 0.9, (6, 3))
     if limit is not None:
         top = max(top, limit / long_m)
-        keys.append((limit_style, f"Queue limit ({limit / long_m:,.2f} {long_name})"))
+        keys.append((limit_style, f"Queue limit ({limit_values(result.plan)['queue_ok']})"))
     must_not = result.plan.thresholds.queue_must_not_pass
     marks = charted_landmarks(result)
     for lm in marks:

@@ -19,6 +19,7 @@ from wzq import units as u
 from wzq.engine.results import Result
 from wzq.engine.risk import RiskResult
 from wzq.present import figures as F
+from wzq.present.tables import limit_text
 
 __all__ = ["BAND_SHADES", "CONTEXT_HOURS", "fan_figure"]
 
@@ -105,7 +106,7 @@ def fan_figure(risk: RiskResult, design: Result, width_in: float, height_in: flo
                     color=F.INK,
                     lw=0.9,
                     ls=(0, (6, 3)),
-                    label=f"Queue limit ({lim:,.2f} {long_name})",
+                    label=f"Queue limit ({limit_text(lim, 2)} {long_name})",
                 )
             )
             top = max(top, lim)

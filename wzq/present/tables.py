@@ -9,6 +9,7 @@ cumulative charts draw one panel each.
 from __future__ import annotations
 
 import datetime as dt
+import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
@@ -24,6 +25,8 @@ from wzq.engine.results import Result
 if TYPE_CHECKING:
     import pandas as pd
 
+    from wzq.engine.windows import WindowsResult
+
 __all__ = [
     "BEYOND_CHARTED",
     "LANDMARK_KIND_LABELS",
@@ -31,6 +34,7 @@ __all__ = [
     "MAX_PANELS",
     "Column",
     "Episode",
+    "above_limit",
     "charted_landmarks",
     "episode_title",
     "episode_window",
@@ -42,8 +46,12 @@ __all__ = [
     "landmark_display",
     "landmark_hour_flags",
     "length_cells",
+    "limit_decimals",
+    "limit_text",
     "limit_values",
     "limits_text",
+    "over_limit_cells",
+    "part_hours_text",
     "passed_text",
     "queue_episodes",
     "ramp_flow_text",
@@ -51,6 +59,9 @@ __all__ = [
     "rounded_all",
     "shown_episodes",
     "summary_lines",
+    "unknown_length_text",
+    "window_counts",
+    "windows_listed_text",
 ]
 
 #: Most queues (busy periods) drawn one chart each (the largest are kept).
@@ -135,15 +146,56 @@ def rounded_all(values: np.ndarray, decimals: int) -> list[float | int | None]:
 LENGTH_UNKNOWN = "unknown"
 
 
+#: The limit check of each displayed column that has one (:func:`limit_values`).
+LIMITED_COLUMNS = {
+    "queue_length_max_m": "queue_ok",
+    "average_delay_min": "delay_ok",
+    "demand_capacity": "demand_capacity_ok",
+}
+
+
 def length_cells(result: Result, column: Column, shown: list) -> list:
     """``shown`` (one display value per hour of ``column``) with the longest queue of
     an hour holding traffic back, beyond the approach or at a section of it, as
     :data:`LENGTH_UNKNOWN`: the length computed leaves those vehicles out
-    (:func:`wzq.engine.hourly.length_unknown`). Other columns are as given."""
+    (:func:`wzq.engine.hourly.length_unknown`); and a value over its limit rounded up
+    where rounding would show it at or below the limit (:func:`over_limit_cells`).
+    Other values are as given."""
+    shown = over_limit_cells(result, column, shown)
     if column.source != "queue_length_max_m":
         return shown
     unknown = length_unknown(np.asarray(result.hours["queue_held_veh"]))
     return [LENGTH_UNKNOWN if u else v for u, v in zip(unknown, shown, strict=True)]
+
+
+def above_limit(value: float, decimals: int, limit: float | None) -> float:
+    """``value`` rounded (:func:`rounded`), or rounded up where it is over ``limit`` (same
+    units) and rounding would show it at or below the limit."""
+    shown = rounded(value, decimals)
+    if limit is None or not value > limit or shown > limit:
+        return shown
+    return math.ceil(value * 10**decimals) / 10**decimals
+
+
+def over_limit_cells(result: Result, column: Column, shown: list) -> list:
+    """``shown`` with each number of an hour that fails ``column``'s limit rounded up
+    (to the column's decimals) where ordinary rounding shows it at or below the limit
+    as printed (:func:`limit_values`): 1.001 over a demand/capacity limit of 1.00
+    shows 1.01, not 1.00 beside "over limit". Hours that pass are as given."""
+    check = LIMITED_COLUMNS.get(column.source)
+    if check is None or check not in result.hours:
+        return shown
+    limit = _limit_numbers(result.plan).get(check)
+    ok = np.asarray(result.hours[check], dtype=bool)
+    raw = np.asarray(result.hours[column.source], dtype=float) * column.scale
+    q = 10**column.decimals
+    out = list(shown)
+    for i in np.flatnonzero(~ok):
+        v = out[i]
+        if isinstance(v, int | float) and limit is not None and v <= limit:
+            up = math.ceil(raw[i] * q) / q
+            out[i] = max(v, int(up) if column.decimals == 0 else up)
+    return out
 
 
 def hourly_display(result: Result) -> pd.DataFrame:
@@ -166,15 +218,12 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
     system = result.plan.site.unit_system
     long_name, long_m = u.LONG_LENGTH[system]
     when = lambda t: "-" if t is None else hour_label(t)[:-5] + f"{t:%H:%M}"  # noqa: E731
-    longest = f"{s.max_queue_length_m / long_m:,.2f} {long_name}, at {when(s.max_queue_length_at)}"
-    unknown = np.flatnonzero(length_unknown(np.asarray(result.hours["queue_held_veh"])))
-    if len(unknown):  # the hours holding traffic back: their length leaves it out
-        first = result.hours["hour_start"][unknown[0]]
-        n = len(unknown)
-        longest += (
-            f"; unknown in {n} hour{'s' if n != 1 else ''} from {when(first)} (traffic "
-            "held back, see the warnings)"
-        )
+    limits = _limit_numbers(result.plan)
+    length = above_limit(s.max_queue_length_m / long_m, 2, limits.get("queue_ok"))
+    longest = f"{length:,.2f} {long_name}, at {when(s.max_queue_length_at)}"
+    unknown = unknown_length_text(result)
+    if unknown:  # the hours holding traffic back: their length leaves it out
+        longest += f"; {unknown} (traffic held back, see the warnings)"
     lines = [
         ("Longest queue", longest),
         (
@@ -187,7 +236,10 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
             f"(queue {s.queue_delay_veh_h:,.1f}, work zone {s.work_zone_delay_veh_h:,.1f}"
             + (f", exit ramps {s.exit_ramp_delay_veh_h:,.1f})" if s.exit_ramp_delay_veh_h else ")"),
         ),
-        ("Highest hourly average delay", f"{s.max_average_delay_min:,.1f} min/veh"),
+        (
+            "Highest hourly average delay",
+            f"{above_limit(s.max_average_delay_min, 1, limits.get('delay_ok')):,.1f} min/veh",
+        ),
         ("Vehicles that met a queue", f"{s.vehicles_affected:,.0f}"),
         ("Last queue clears", when(s.last_queue_clears)),
         ("Hours over a limit", str(len(s.hours_failing))),
@@ -201,6 +253,65 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
             basis += f"; {road_user_costs.DEFAULTS_NOTE}"
         lines.insert(3, ("Road-user delay cost", f"{s.total_cost:,.0f} {c.currency} ({basis})"))
     return lines
+
+
+def unknown_length_text(result: Result) -> str:
+    """``unknown in 2 hours from Mon 2027-05-03 04:00``: the hours whose queue length is
+    unknown (:func:`length_cells`), or ``""`` when there are none. Every output that
+    shows the length by hour (table, headline, charts) says it with these words."""
+    unknown = np.flatnonzero(length_unknown(np.asarray(result.hours["queue_held_veh"])))
+    if not len(unknown):
+        return ""
+    first = result.hours["hour_start"][unknown[0]]
+    n = len(unknown)
+    label = hour_label(first)[:-5] + f"{first:%H:%M}"
+    return f"unknown in {n} hour{'s' if n != 1 else ''} from {label}"
+
+
+def part_hours_text(result: Result) -> str:
+    """``""``, or a note naming the hours a closure starts or ends within (the capacity
+    changes inside the hour): their capacity and queue discharge rate are averages over
+    the hour, which no lane count carries; their demand / capacity is against the
+    closure's capacity (:func:`wzq.engine.hourly.hour_checks`)."""
+    t = np.asarray(result.boundaries_s, dtype=float)[:-1]
+    hour = (t // u.HOUR).astype(np.int64)
+    cap = np.asarray(result.run.prebreakdown_veh_h, dtype=float)  # per interval, no pandas
+    hi = np.full(hour.max() + 1 if len(hour) else 0, -np.inf)
+    lo = np.full_like(hi, np.inf)
+    np.maximum.at(hi, hour, cap)
+    np.minimum.at(lo, hour, cap)
+    part = np.flatnonzero(hi - lo > 0.5)
+    if not len(part):
+        return ""
+    starts = result.hours["hour_start"]
+    shown = ", ".join(hour_label(starts[i]) for i in part[:6])
+    shown += f" and {len(part) - 6} more" if len(part) > 6 else ""
+    return (
+        f"A closure starts or ends within the hour from {shown}: the capacity and queue "
+        "discharge rate shown there are averages over the hour (the Charts draw each part "
+        "of the hour); its demand / capacity is the hour's demand against the closure's "
+        "capacity, as in a closure hour."
+    )
+
+
+def window_counts(result: WindowsResult) -> list[tuple[str, int]]:
+    """Each configuration (and day type, when there are several) of a window search
+    with its number of allowable windows, for :func:`windows_listed_text`."""
+    several = len({ws.day_type.name for ws in result.sets}) > 1
+    return [
+        (f"{ws.label} - {ws.day_type.name}" if several else ws.label, len(ws.longest()))
+        for ws in result.sets
+    ]
+
+
+def windows_listed_text(counts: list[tuple[str, int]], top: int) -> str:
+    """``""``, or what a table of the ``top`` longest windows of each configuration
+    leaves out: ``counts`` is each configuration's label and its number of windows."""
+    cut = [(label, n) for label, n in counts if n > top]
+    if not cut:
+        return ""
+    each = "; ".join(f"{n} for {label}" for label, n in cut)
+    return f"the {top} longest of {each} are listed; the hours of each day above show every window"
 
 
 def farthest_passed(result: Result) -> LandmarkResult | None:
@@ -219,7 +330,7 @@ def passed_text(result: Result) -> str:
     lm = r.landmark
     return (
         f"{lm.name} ({lm.distance / long_m:,.2f} {long_name} upstream), for "
-        f"{rounded(r.time_beyond_s / u.HOUR, 2):,.2f} h"
+        f"{above_limit(r.time_beyond_s / u.HOUR, 2, 0.0):,.2f} h"
     )
 
 
@@ -227,19 +338,44 @@ def limit_values(plan: Plan) -> dict[str, str]:
     """The one formatting of the agency limits: each limit that is set, by its check
     column (``queue_ok``, ``delay_ok``, ``demand_capacity_ok``), as shown in the plan's
     units: ``2.00 mi``, ``15.0 min/veh``, ``0.95``. Every output words it around these."""
-    th = plan.thresholds
     long_name, long_m = u.LONG_LENGTH[plan.site.unit_system]
-    out = {}
-    if th.max_queue_length is not None:
-        out["queue_ok"] = f"{th.max_queue_length / long_m:,.2f} {long_name}"
-    if th.max_average_delay is not None:
-        out["delay_ok"] = f"{th.max_average_delay / u.MINUTE:,.1f} min/veh"
-    if th.max_demand_capacity is not None:
-        out["demand_capacity_ok"] = f"{th.max_demand_capacity:,.2f}"
+    decimals = {"queue_ok": 2, "delay_ok": 1, "demand_capacity_ok": 2}
+    suffix = {"queue_ok": f" {long_name}", "delay_ok": " min/veh", "demand_capacity_ok": ""}
+    out = {k: f"{limit_text(v, decimals[k])}{suffix[k]}" for k, v in _limit_numbers(plan).items()}
+    th = plan.thresholds
     lm = None if th.queue_must_not_pass is None else plan.approach.landmark(th.queue_must_not_pass)
     if lm is not None:
         out["landmark_ok"] = f"{lm.name} ({lm.distance / long_m:,.2f} {long_name} upstream)"
     return out
+
+
+def _limit_numbers(plan: Plan) -> dict[str, float]:
+    """Each limit that is set, by its check column, in the display units of the
+    per-hour table (long length unit, min/veh, ratio)."""
+    th = plan.thresholds
+    _, long_m = u.LONG_LENGTH[plan.site.unit_system]
+    out = {}
+    if th.max_queue_length is not None:
+        out["queue_ok"] = th.max_queue_length / long_m
+    if th.max_average_delay is not None:
+        out["delay_ok"] = th.max_average_delay / u.MINUTE
+    if th.max_demand_capacity is not None:
+        out["demand_capacity_ok"] = th.max_demand_capacity
+    return out
+
+
+def limit_decimals(value: float, decimals: int) -> int:
+    """The decimals a limit needs: at least ``decimals`` and as many more (up to 6) as
+    it holds, so a limit is never shown rounded (0.125 km, not 0.12 km)."""
+    for d in range(decimals, 7):
+        if abs(round(value, d) - value) <= 1e-9 * max(1.0, abs(value)):
+            return d
+    return 6
+
+
+def limit_text(value: float, decimals: int) -> str:
+    """A limit as text with :func:`limit_decimals` decimals."""
+    return f"{value:,.{limit_decimals(value, decimals)}f}"
 
 
 def limits_text(plan: Plan) -> str:
@@ -328,8 +464,11 @@ def landmark_display(result: Result) -> pd.DataFrame:
                 "never" if pd.isna(t) else hour_label(t)[:-5] + f"{t:%H:%M}"
                 for t in lm["first_reached"]
             ],
-            "Time beyond it (h)": [rounded(v, 2) for v in lm["time_beyond_h"]],
-            f"Farthest beyond ({long_name})": [rounded(v / long_m, 2) for v in lm["max_beyond_m"]],
+            # a landmark passed is never shown passed by 0 (:func:`above_limit`)
+            "Time beyond it (h)": [above_limit(v, 2, 0.0) for v in lm["time_beyond_h"]],
+            f"Farthest beyond ({long_name})": [
+                above_limit(v / long_m, 2, 0.0) for v in lm["max_beyond_m"]
+            ],
             "Hours beyond": lm["hours_beyond"].to_numpy(),
         }
     )

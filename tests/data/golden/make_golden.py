@@ -39,7 +39,27 @@ reading came to list a day whose traffic falls in other hours than on the same w
 (another day's or direction's counts pasted in): ``wzq counts`` on the Larkspur Vale
 count file now lists Labor Day, Mon 2026-09-07 (17 % of its vehicles in other hours than
 on the median Monday), which its plans list as a holiday; only that command's output
-changes; nothing else:
+changes; and again when the workbook's demand and capacity chart came to draw the
+intervals the engine used instead of hourly averages (a 15-minute peak above capacity,
+or a closure from part-way through an hour, was averaged away): that chart's title
+loses "by hour" on every Charts sheet, and on the Brackenholm example, whose closure
+starts at 20:30, its data block gains the half-hour rows (377 cells, not 369); and
+again when an hour a closure starts or ends within came to be named on the Permit table
+and in the report's hour-by-hour notes (its capacity and demand / capacity are averages
+over the hour): on the Brackenholm example (the hour from 20:00) the Permit table gains
+that one wrapped note (a cell, a merged range, and its print area one row longer) and
+the report's hour-by-hour page that sentence; and again when the tables of the longest
+allowable windows came to say when they list only some (the 5 longest on the terminal,
+10 on the Closure windows sheet, 3 in the report, of each configuration's windows): the
+``windows`` command's output of every example, the windows page of the reports and the
+Closure windows sheets whose configurations have more windows than that gain the line
+or title words "the N longest of M ... are listed"; and again when an hour a closure
+starts or ends within came to be judged on demand / capacity by its demand against the
+closure's capacity (the hour's average capacity, part open road, diluted it): on the
+Brackenholm example (closure from 20:30, no demand/capacity limit) the hour from 20:00
+reads 1.19 instead of 0.47 in the per-hour table, ``show``, the Results and Permit table
+sheets, and the part-hour note on the Permit table and in the report says so in its
+words; no status changes, nothing else:
 
     python3 tests/data/golden/make_golden.py
 

@@ -263,7 +263,8 @@ def find_plans(
     exclude: Iterable[Path] = (),
     skipped: list[str] | None = None,
 ) -> list[Path]:
-    """Plan files in ``folder`` (and below it when ``recursive``), sorted by relative path.
+    """Plan files in ``folder`` (and below it when ``recursive``), sorted by relative path;
+    without ``recursive``, the plan files in sub-folders are named in ``skipped``.
 
     Skipped: lock files of open workbooks (``~$*``), hidden and temporary files
     (``.*``, which includes wzq's own ``.wzq-*`` files while they are written),
@@ -295,6 +296,19 @@ def find_plans(
                 )
             continue
         out.append(p)
+    if not recursive and skipped is not None:
+        below = sorted(
+            p.relative_to(folder).as_posix()
+            for p in find_plans(folder, recursive=True, exclude=exclude)
+            if p.parent != folder
+        )
+        if below:
+            shown = ", ".join(below[:5]) + (f" and {len(below) - 5} more" if len(below) > 5 else "")
+            n = len(below)
+            skipped.append(
+                f"{n} plan file{'s' if n != 1 else ''} in sub-folders not read: {shown}; "
+                "--recursive reads them"
+            )
     return sorted(out, key=lambda p: p.relative_to(folder).as_posix())
 
 
@@ -719,6 +733,7 @@ def run_batch(
         not_analysed=len(result.not_analysed),
         seconds=seconds,
         reused_not_analysed=sum(o.reused and not o.analysed for o in outcomes),
+        notes=tuple(notes),
     )
     write_summary(target, result.rows, result.issues, [o.state() for o in outcomes], info)
     result.seconds = time.perf_counter() - t0

@@ -453,6 +453,8 @@ class RunInfo:
     seconds: float
     #: Of the plans not analysed, those unchanged since the last summary.
     reused_not_analysed: int = 0
+    #: What the run left out or noticed (also printed on the terminal).
+    notes: tuple[str, ...] = ()
 
 
 #: Points per line of wrapped text (11-point font), and the most lines a row shows.
@@ -566,6 +568,7 @@ def write_summary(
             "into it) and the wzq version, kept in the hidden sheet "
             f"{STATE_SHEET}; --resume skips a plan only when both are unchanged.",
         ),
+        *(("Note", note) for note in info.notes),
     ]
     for i, (label, value) in enumerate(lines, start=3):
         put(run, i, 1, label).font = Font(bold=True)

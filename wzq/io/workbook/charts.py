@@ -3,8 +3,9 @@ that read cells, not pictures).
 
 The charts, each with axis titles and units:
 
-1. demand, capacity and the queue discharge rate by hour, drawn as step lines
-   against the clock (they are constant within each hour of the table);
+1. demand, capacity and the queue discharge rate by interval of the run (the
+   demand grid split at each closure's start and end), drawn as step lines
+   against the clock (they are constant within each interval);
 2. longest queue by hour (columns read straight from the Results sheet), with
    the agency's queue-length limit as a line when one is set, and the landmarks
    of the approach as named lines at their distances (those the queue reached, the
@@ -61,8 +62,10 @@ from wzq.present.tables import (
     charted_landmarks,
     episode_title,
     episode_window,
+    limit_decimals,
     rounded,
     shown_episodes,
+    unknown_length_text,
 )
 
 if TYPE_CHECKING:
@@ -105,6 +108,7 @@ __all__ = [
     "episode_points",
     "label_hour",
     "landmark_lines",
+    "limit_cell",
     "queue_chart",
     "small_title",
     "tick_hours",
@@ -206,12 +210,14 @@ def _header(out: w.SheetWriter, col: int, texts: list[str]) -> None:
 
 
 def demand_capacity_chart(out: w.SheetWriter, result: Result) -> ScatterChart:
-    """Demand, capacity and queue discharge rate per hour as step lines (values as shown
-    in the Results sheet)."""
+    """Demand, capacity and queue discharge rate per interval of the run (the demand
+    grid split at every closure's start and end) as step lines, as the engine used
+    them: an hourly average would hide a 15-minute peak above capacity, or a closure
+    from half past the hour."""
     ws = out.ws
-    h = result.hours
-    starts = list(h["hour_start"])
-    hour = dt.timedelta(hours=1)
+    run = result.run  # numpy arrays per interval (no pandas: a run need not import it)
+    start = result.plan.demand.start
+    edges = [start + dt.timedelta(seconds=float(s)) for s in result.boundaries_s]
     _header(
         out,
         STEP_COL,
@@ -221,21 +227,21 @@ def demand_capacity_chart(out: w.SheetWriter, result: Result) -> ScatterChart:
     count = out.style.prepare(number_format=w.NUMBER_FORMATS[0])
     r = DATA_HEADER_ROW + 1
     flows = zip(
-        h["demand_veh_h"].tolist(),
-        h["capacity_veh_h"].tolist(),
-        h["discharge_veh_h"].tolist(),
+        np.asarray(run.demand_veh_h).tolist(),
+        np.asarray(run.prebreakdown_veh_h).tolist(),
+        np.asarray(run.discharge_veh_h).tolist(),
         strict=True,
     )
-    for t, values in zip(starts, flows, strict=True):
+    for k, values in enumerate(flows):
         shown = [rounded(v, 0) for v in values]
-        for tt in (t, t + hour):
+        for tt in (edges[k], edges[k + 1]):
             when(ws.cell(r, STEP_COL, tt))
-            for k, v in enumerate(shown, start=1):
-                count(ws.cell(r, STEP_COL + k, v))
+            for j, v in enumerate(shown, start=1):
+                count(ws.cell(r, STEP_COL + j, v))
             r += 1
     first, last = DATA_HEADER_ROW + 1, r - 1
     chart = ScatterChart(scatterStyle="line")
-    chart.title = "Demand, capacity and queue discharge rate by hour"
+    chart.title = "Demand, capacity and queue discharge rate"
     x = Reference(ws, min_col=STEP_COL, min_row=first, max_row=last)
     for col, colour, width, dash in (
         (STEP_COL + 1, DEMAND_COLOUR, 1.75, None),
@@ -246,7 +252,7 @@ def demand_capacity_chart(out: w.SheetWriter, result: Result) -> ScatterChart:
         s = Series(y, x, title_from_data=True)
         _line(s, colour, width, dash)
         chart.series.append(s)
-    _time_axis(chart, starts[0], starts[-1] + hour)
+    _time_axis(chart, edges[0], edges[-1])
     chart.y_axis.title = "Flow (veh/h)"
     chart.y_axis.number_format = "#,##0"
     chart.y_axis.scaling.min = 0
@@ -267,12 +273,14 @@ def queue_chart(out: w.SheetWriter, result: Result, table: w.TableRef) -> BarCha
     fmt = "%H:%M" if n <= 24 else "%a %H:%M"
     # label every so many hours only (some programs ignore the axis's own label skip)
     skip = tick_hours(n)
+    if limit is not None:
+        limit_value, look = limit_cell(limit / long_m)
     for i, t in enumerate(h["hour_start"]):
         r = DATA_HEADER_ROW + 1 + i
         if i % skip == 0:
             out.put(r, LABEL_COL, t.strftime(fmt))
         if limit is not None:
-            out.put(r, LABEL_COL + 1, rounded(limit / long_m, 2), number_format=w.NUMBER_FORMATS[2])
+            out.put(r, LABEL_COL + 1, limit_value, number_format=look)
     first, last = DATA_HEADER_ROW + 1, DATA_HEADER_ROW + n
     results = ws.parent[table.sheet]
     col = table.columns["queue_length_max_m"]
@@ -280,6 +288,11 @@ def queue_chart(out: w.SheetWriter, result: Result, table: w.TableRef) -> BarCha
     chart.type = "col"
     chart.gapWidth = 30
     chart.title = "Longest queue by hour"
+    unknown = unknown_length_text(result)
+    if unknown:  # those cells read "unknown": no bar is drawn there, and the title says so
+        chart.title = small_title(
+            f"Longest queue by hour (no bar: length {unknown}, traffic held back; see the warnings)"
+        )
     chart.add_data(
         Reference(results, min_col=col, min_row=table.header_row, max_row=table.last_row),
         titles_from_data=True,
@@ -312,6 +325,13 @@ def queue_chart(out: w.SheetWriter, result: Result, table: w.TableRef) -> BarCha
     chart.y_axis.majorGridlines = ChartLines()
     chart.y_axis.scaling.min = 0
     return chart
+
+
+def limit_cell(value: float) -> tuple[float, str]:
+    """A limit in the chart data as ``(value, number format)``: every decimal it holds
+    (:func:`wzq.present.tables.limit_decimals`), so its line is drawn where it is."""
+    d = limit_decimals(value, 2)
+    return rounded(value, d), "#,##0." + "0" * d
 
 
 def label_hour(result: Result) -> int:

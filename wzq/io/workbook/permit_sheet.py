@@ -37,7 +37,7 @@ from wzq.io.workbook.writer import (
     title_block,
     values,
 )
-from wzq.present.tables import Column, hour_label, hourly_columns
+from wzq.present.tables import Column, hour_label, hourly_columns, part_hours_text
 
 __all__ = ["permit_columns", "write_permit_sheet"]
 
@@ -154,6 +154,10 @@ def write_permit_sheet(out: SheetWriter, result: Result, stamp: str) -> TableRef
             "the Results sheet lists every hour.",
             font=SMALL,
         )
+        r += 1
+    part = part_hours_text(result)
+    if part:
+        out.paragraph(r, 1, part, widths, font=SMALL)
         r += 1
     failing = len(result.summary.hours_failing)
     out.put(r, 1, f"Hours over a limit: {failing} of {len(h['hour_start'])}.", font=BOLD)

@@ -277,6 +277,9 @@ def _fan_data(
     own = design.hourly["queue_length_max_m"].to_numpy() / long_m
     fmt = "%H:%M" if b - a <= 24 else "%a %H:%M"
     number = out.style.prepare(number_format=w.NUMBER_FORMATS[2])
+    if limit is not None:  # every decimal of the limit, so its line is drawn where it is
+        limit_value, look = C.limit_cell(limit / long_m)
+        limit_number = out.style.prepare(number_format=look)
     skip = C.tick_hours(b - a)
     for k, i in enumerate(range(a, b)):
         r = head + 1 + k
@@ -288,7 +291,7 @@ def _fan_data(
             if not math.isnan(v):  # a percentile not known: left blank, a gap in the chart
                 number(ws.cell(r, FAN_COL + j, v))
         if limit is not None:
-            number(ws.cell(r, FAN_COL + 5, rounded(limit / long_m, 2)))
+            limit_number(ws.cell(r, FAN_COL + 5, limit_value))
     last = head + (b - a)
     return title, head, last, last + 2
 

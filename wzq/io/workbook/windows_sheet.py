@@ -39,7 +39,7 @@ from wzq.engine.windows import (
 )
 from wzq.io.workbook import layout
 from wzq.io.workbook.writer import Styler, print_setup, put_text
-from wzq.present.tables import limits_text
+from wzq.present.tables import limits_text, window_counts, windows_listed_text
 
 __all__ = [
     "CAUTION_FILL",
@@ -333,7 +333,8 @@ def write_windows_sheet(
         ws,
         pages,
         row,
-        "Longest allowable windows",
+        "Longest allowable windows"
+        + (f" ({cut})" if (cut := windows_listed_text(window_counts(result), top)) else ""),
         longest_window_list(result, top=top),
         costs.currency,
         costs.dollar_year,
