@@ -334,6 +334,20 @@ def test_a_value_in_a_hidden_row_of_an_input_sheet_is_said(
     assert w.startswith("Site!B23: ")
 
 
+def test_a_label_ending_in_a_verb_is_quoted_where_a_hidden_value_is_said(
+    kestrel_book: Path, tmp_path: Path
+) -> None:
+    """The label 'A closure capacity typed on the Closures sheet is' ends in "is": said
+    unquoted it read "... sheet is is in a hidden row"."""
+
+    def edit(wb: Any) -> None:
+        cell = set_named(wb, "site_override_is", "both: no capacity drop")
+        wb[L.SITE].row_dimensions[cell.row].hidden = True
+
+    (w,) = [w for w in warnings_of(kestrel_book, tmp_path, edit) if "hidden" in w]
+    assert "'A closure capacity typed on the Closures sheet is' is in a hidden row" in w
+
+
 # ---------------------------------------------------------------------------------------------
 # Values the sheet does not show (a ";;;" number format, white text)
 # ---------------------------------------------------------------------------------------------

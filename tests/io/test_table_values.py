@@ -700,7 +700,7 @@ def test_a_named_input_in_a_hidden_column_is_said_and_an_empty_hidden_column_is_
     assert isinstance(plan, Plan), plan
     assert plan.site.base_capacity_pc_h_ln == 2000
     assert (
-        "Site!B23: Base capacity of the open road is in a hidden row or column and is read "
+        "Site!B23: 'Base capacity of the open road' is in a hidden row or column and is read "
         "as typed; unhide it to see it, or clear it to leave it blank"
     ) in plan.input_warnings
     # column F of the Site sheet holds no input: hiding it says nothing

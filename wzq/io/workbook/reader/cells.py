@@ -266,14 +266,14 @@ class CellReader:
         if not _blank(v) and v is not _MISSING and _hidden(ws, row, col):
             self.note(
                 where,
-                f"{field.label} is in a hidden row or column and is read as typed; unhide it "
+                f"'{field.label}' is in a hidden row or column and is read as typed; unhide it "
                 "to see it, or clear it to leave it blank",
             )
         why = None if _blank(v) or v is _MISSING else unseen(ws._cells.get((row, col)))
         if why:
             self.note(
                 where,
-                f"{field.label} cannot be seen on the sheet ({why}) but is read as typed "
+                f"'{field.label}' cannot be seen on the sheet ({why}) but is read as typed "
                 f"({_show(v)}); give the cell a visible format and colour to check it, or "
                 "clear it to leave it blank",
             )
