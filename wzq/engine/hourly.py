@@ -103,8 +103,10 @@ def hour_checks(
             # only where the hour's average is above the closure's capacity (part open
             # road, or a second closure): a whole hour under one closure keeps its ratio
             # to the last bit
-            part = (closure_capacity > 0) & (closure_capacity < capacity * (1 - 1e-9))
-            dc = np.where(part, arrivals / np.where(part, closure_capacity, 1.0), dc)
+            # (a closure's capacity is never 0: at least one lane stays open, and a typed
+            # capacity is 100 veh/h/ln or more; ``inf`` without a closure divides to 0)
+            part = closure_capacity < capacity * (1 - 1e-9)
+            dc = np.where(part, arrivals / closure_capacity, dc)
     checks: list[tuple[str, str, np.ndarray]] = []
     seen = True if held_veh is None else ~length_unknown(held_veh)
     if th.max_queue_length is not None:
