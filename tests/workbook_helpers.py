@@ -304,3 +304,23 @@ def problem(data: bytes, edit: Callable[[Any], Any], where: str) -> str:
     assert isinstance(out, dict), "the edit was read without a problem"
     assert where in out, out
     return out[where]
+
+
+def aadt_edit(year: int, growth: float | None) -> Callable[[Any], None]:
+    """An edit (for :func:`edited`) giving the demand as an AADT of 40,000 counted in
+    ``year``, grown ``growth`` % a year to Sat 2027-05-01, 55 % in this direction, 5 days."""
+
+    def edit(wb: Any) -> None:
+        values = {
+            "demand_mode": "from AADT",
+            "aadt_value": 40_000,
+            "aadt_count_year": year,
+            "aadt_growth_percent": growth,
+            "aadt_direction_percent": 55,
+            "aadt_first_day": dt.datetime(2027, 5, 1),
+            "aadt_days": 5,
+        }
+        for name, value in values.items():
+            set_named(wb, name, value)
+
+    return edit

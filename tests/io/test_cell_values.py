@@ -24,7 +24,15 @@ import pytest
 from openpyxl.styles import Font
 from openpyxl.styles.colors import Color
 from openpyxl.utils.datetime import CALENDAR_MAC_1904
-from workbook_helpers import fill_template, named_cell, problem, read, set_named, table_cell
+from workbook_helpers import (
+    aadt_edit,
+    fill_template,
+    named_cell,
+    problem,
+    read,
+    set_named,
+    table_cell,
+)
 
 from wzq.engine.plan import Plan
 from wzq.io.jsonplan import load_plan
@@ -1140,27 +1148,8 @@ def test_a_date_typed_with_another_weekday_names_both_days(
 # -- the AADT's count year and growth (Demand!F9 and F10 in the template) -------------------
 
 
-def aadt(year: int, growth: float | None) -> Callable[[Any], None]:
-    """AADT 40,000 counted in ``year``, grown ``growth`` % a year to Sat 2027-05-01."""
-
-    def edit(wb: Any) -> None:
-        values = {
-            "demand_mode": "from AADT",
-            "aadt_value": 40_000,
-            "aadt_count_year": year,
-            "aadt_growth_percent": growth,
-            "aadt_direction_percent": 55,
-            "aadt_first_day": dt.datetime(2027, 5, 1),
-            "aadt_days": 5,
-        }
-        for name, value in values.items():
-            set_named(wb, name, value)
-
-    return edit
-
-
 def year_and_growth_warnings(kestrel: bytes, year: int, growth: float | None) -> list[str]:
-    plan = read(kestrel, aadt(year, growth))
+    plan = read(kestrel, aadt_edit(year, growth))
     assert isinstance(plan, Plan), plan
     return [w for w in plan.input_warnings if w.startswith(("Demand!F9: ", "Demand!F10: "))]
 
@@ -1275,7 +1264,7 @@ def test_to_typed_as_from_is_a_whole_day_and_said_in_full(kestrel: bytes) -> Non
 def test_a_named_date_that_cannot_be_read_is_named_at_its_cell(kestrel: bytes) -> None:
     # the AADT's first day (Demand!F12), a named input read as a date
     def edit(wb: Any) -> None:
-        aadt(2026, 2)(wb)
+        aadt_edit(2026, 2)(wb)
         set_named(wb, "aadt_first_day", "3 May")
 
     assert read(kestrel, edit) == {

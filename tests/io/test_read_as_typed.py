@@ -17,7 +17,15 @@ from typing import Any
 import pytest
 from openpyxl.styles import Font, PatternFill
 from openpyxl.worksheet.table import Table
-from workbook_helpers import edited, fill_template, find_table, set_named, table_cell, write_table
+from workbook_helpers import (
+    aadt_edit,
+    edited,
+    fill_template,
+    find_table,
+    set_named,
+    table_cell,
+    write_table,
+)
 
 from wzq import PlanError
 from wzq.engine.warnings import input_warnings
@@ -217,21 +225,7 @@ def test_a_closure_ending_at_its_own_start_time_is_queried(
 
 def aadt_warnings(book: Path, tmp_path: Path, year: int, growth: float) -> list[str]:
     """AADT 40,000 counted in ``year``, grown ``growth`` % a year to 2027-05-01."""
-
-    def edit(wb: Any) -> None:
-        values = {
-            "demand_mode": "from AADT",
-            "aadt_value": 40_000,
-            "aadt_count_year": year,
-            "aadt_growth_percent": growth,
-            "aadt_direction_percent": 55,
-            "aadt_first_day": dt.datetime(2027, 5, 1),
-            "aadt_days": 5,
-        }
-        for name, value in values.items():
-            set_named(wb, name, value)
-
-    plan = read_plan(edited(book, tmp_path, edit))
+    plan = read_plan(edited(book, tmp_path, aadt_edit(year, growth)))
     return [w for w in plan.input_warnings if w.startswith("Demand!F9") or "growth" in w]
 
 
