@@ -1045,6 +1045,13 @@ def test_an_error_value_openpyxl_does_not_list_is_named_as_an_error(kestrel: byt
         # #777777 just misses it, 4.48:1 (values from memory of the WCAG examples)
         ("767676", "FFFFFF", 4.54),
         ("FFFFFF", "777777", 4.48),
+        # pure red and blue on white, 4.0:1 and 8.6:1 (from memory of the WCAG examples):
+        # the channels' weights 0.2126 and 0.0722; by hand 1.05 / 0.2626 and 1.05 / 0.1222
+        ("FF0000", "FFFFFF", 3.998),
+        ("0000FF", "FFFFFF", 8.592),
+        # a channel of 10 (10 / 255 = 0.0392, at most 0.04045) is linear, c / 12.92:
+        # 0.0030353, so 1.05 / 0.0530353 = 19.798 (by hand)
+        ("0A0A0A", "FFFFFF", 19.798),
     ],
 )
 def test_the_contrast_ratio_is_wcags(a: str, b: str, ratio: float) -> None:

@@ -392,10 +392,10 @@ def test_a_named_input_in_white_text_is_read_and_said(kestrel_book: Path, tmp_pa
     plan = read_plan(edited(kestrel_book, tmp_path, edit))
     assert plan.site.base_capacity_pc_h_ln == 2000
     (w,) = [w for w in plan.input_warnings if "cannot be seen" in w]
-    assert w.startswith("Site!B23: ")
-    assert (
-        "(its text colour #FFFFFF on a fill of #FBEFD5 cannot be read)" in w
-        and "read as typed (2000)" in w
+    assert w == (
+        "Site!B23: 'Base capacity of the open road' cannot be seen on the sheet (its text "
+        "colour #FFFFFF on a fill of #FBEFD5 cannot be read) but is read as typed (2000); "
+        "give the cell a visible format and colour to check it, or clear it to leave it blank"
     )
 
 
