@@ -188,12 +188,11 @@ def over_limit_cells(result: Result, column: Column, shown: list) -> list:
     limit = _limit_numbers(result.plan).get(check)
     ok = np.asarray(result.hours[check], dtype=bool)
     raw = np.asarray(result.hours[column.source], dtype=float) * column.scale
-    q = 10**column.decimals
     out = list(shown)
     for i in np.flatnonzero(~ok):
         v = out[i]
         if isinstance(v, int | float) and limit is not None and v <= limit:
-            up = math.ceil(raw[i] * q) / q
+            up = above_limit(float(raw[i]), column.decimals, limit)
             out[i] = max(v, int(up) if column.decimals == 0 else up)
     return out
 
