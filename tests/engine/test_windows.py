@@ -45,6 +45,7 @@ from wzq.engine.plan import (
     Site,
     Thresholds,
 )
+from wzq.engine.site import configuration
 from wzq.io.jsonplan import plan_to_dict
 from wzq.io.plans import demo_plan
 from wzq.io.workbook.windows_sheet import SHEET, write_windows_sheet
@@ -410,6 +411,41 @@ def test_quarter_hours_and_demand_capacity_in_closure_hours_only() -> None:
     assert not flags["part"].any()
     rows = W.day_rows(ws)
     assert "".join(W.SYMBOLS[s] for s in rows[0][1]) == "########........########"
+
+
+def test_a_part_hour_by_day_is_judged_on_the_day_capacity_not_the_night_one() -> None:
+    # One lane of two closed (soft barrier, HCM capacity model), 15-minute demand from
+    # 18:00: 1,620 veh/h in the day hour 18:00, 1,000 veh/h in the night hour 19:00
+    # (night from 19:00, common practice, no source). At night the queue discharge rate
+    # is 59 pc/h/ln lower (HCM 6th ed., Chapter 10, Eq. 10-14, f_DN) and the pre-breakdown
+    # capacity is that rate / (1 - 0.134) (Eq. 10-15, alpha_wz = 13.4 %). No queue forms
+    # (1,620 < the day capacity), so each hour a closure covers in part is judged on its
+    # own demand against the capacity under the closure in that hour: 1,620 / c_day = 0.88
+    # passes a 0.9 limit, though it would fail against the night capacity (0.92). Every
+    # closure is allowed, including those that end inside 18:00, which the search judges
+    # together with the ends inside 19:00 (night).
+    config = W.Configuration(1)
+    site = hand_site()
+    c_day = configuration(site, "triangular", (1, "soft", None), False)[0]
+    c_night = c_day - 59.0 / (1.0 - 0.134)
+    assert 1620.0 / c_day == pytest.approx(0.882, abs=5e-4)
+    assert 1620.0 / c_night == pytest.approx(0.916, abs=5e-4)
+    start = dt.datetime(2027, 5, 3, 18)
+    limits = Thresholds(max_demand_capacity=0.9)
+
+    def search(flows: list[float], exhaustive: bool = False) -> np.ndarray:
+        demand = Demand(start, 900, np.array(flows))
+        result = W.find_windows(
+            site, demand, limits, [config], options=SINGLE_STATE, exhaustive=exhaustive
+        )
+        return result.sets[0].allowed
+
+    allowed = search([1620.0] * 4 + [1000.0] * 4)
+    assert np.array_equal(allowed, expected_matrix(8, lambda s, e: True))
+    # the same demand in the night hour fails every closure that covers any of it
+    night = search([1000.0] * 4 + [1620.0] * 4)
+    assert np.array_equal(night, expected_matrix(8, lambda s, e: e <= 4))
+    assert np.array_equal(night, search([1000.0] * 4 + [1620.0] * 4, exhaustive=True))
 
 
 def test_open_road_over_the_limit_allows_no_window_and_says_why() -> None:
