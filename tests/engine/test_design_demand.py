@@ -86,6 +86,30 @@ def test_window_and_months_restrict_the_days() -> None:
         D.design_demand(h, dt.datetime(2027, 6, 1), 24, rule)  # June: no June Tuesday
 
 
+def test_the_rule_in_words_counts_weeks_and_holidays_in_the_singular_and_plural() -> None:
+    # "within 1 weeks" and "1 listed holidays" had been printed
+    assert D.DemandRule(window_weeks=1).describe() == (
+        "days of the same type (each weekday on its own), within 1 week of the same date, "
+        "grown 0 %/year to the work dates, mean per interval"
+    )
+    two = (dt.date(2026, 7, 4), dt.date(2026, 9, 7))
+    assert D.DemandRule(
+        day_types="mon-thu",
+        window_weeks=2.5,
+        same_months=True,
+        holidays=two[:1],
+        growth_percent_per_year=1.5,
+        percentile=85,
+    ).describe() == (
+        "days of the same type (Monday-Thursday together, Friday, Saturday, Sunday, 1 listed "
+        "holiday apart), within 2.5 weeks of the same date, in the same months, grown "
+        "1.5 %/year to the work dates, 85th percentile per interval"
+    )
+    assert "2 listed holidays apart), within 2 weeks" in (
+        D.DemandRule(holidays=two, window_weeks=2).describe()
+    )
+
+
 def test_growth_applied_from_each_day_to_the_plan_day() -> None:
     h = history(MON, [1000.0] * 7)  # one week
     plan_day = dt.datetime(2027, 5, 4)  # a Tuesday, 364 days after Tue 5 May 2026

@@ -171,10 +171,11 @@ class DemandRule:
             kinds += " together, Friday, Saturday, Sunday"
         parts = [f"days of the same type ({kinds}"]
         if self.holidays:
-            parts[0] += f", {len(self.holidays)} listed holidays apart"
+            n = len(self.holidays)
+            parts[0] += f", {n} listed holiday{'' if n == 1 else 's'} apart"
         parts[0] += ")"
         if self.window_weeks is not None:
-            parts.append(f"within {self.window_weeks:g} weeks of the same date")
+            parts.append(f"within {_weeks(self.window_weeks)} of the same date")
         if self.same_months:
             parts.append("in the same months")
         parts.append(f"grown {self.growth_percent_per_year:g} %/year to the work dates")
@@ -327,10 +328,15 @@ def plan_period(history: CountHistory, start: dt.datetime, n_intervals: int) -> 
     return Period(start.date(), offset, int(n_intervals), int(n_days), step)
 
 
+def _weeks(n: float) -> str:
+    """``1 week``, ``2 weeks``, ``1.5 weeks``."""
+    return f"{n:g} week{'' if n == 1 else 's'}"
+
+
 def _match_problem(what: str, rule: DemandRule, history: CountHistory) -> Problem:
     window = []
     if rule.window_weeks is not None:
-        window.append(f"within {rule.window_weeks:g} weeks of the same date")
+        window.append(f"within {_weeks(rule.window_weeks)} of the same date")
     if rule.same_months:
         window.append("in the same months")
     limits = (" " + " and ".join(window)) if window else ""

@@ -151,13 +151,16 @@ class Scenarios:
 
     ``flows_veh_h[j]``: the demand of scenario ``j`` on the plan's demand grid;
     ``capacity_factor[j, c]`` (optional): the factor on the capacity of the
-    plan's closure ``c`` in scenario ``j``; ``source`` says where they came from.
+    plan's closure ``c`` in scenario ``j``; ``source`` says where they came from;
+    ``periods``: how many historical periods of the counts they are drawn on (0: the
+    plan's own demand).
     """
 
     labels: tuple[str, ...]
     flows_veh_h: np.ndarray
     capacity_factor: np.ndarray | None = None
     source: str = ""
+    periods: int = 0
 
     def __post_init__(self) -> None:
         flows = np.atleast_2d(np.asarray(self.flows_veh_h, dtype=float))
@@ -223,9 +226,11 @@ def plan_scenarios(
         hs = historical_scenarios(history.counts, d.start, len(d.flows_veh_h), history.rule)
         flows, labels = hs.flows_veh_h, tuple(f"from {s}" for s in hs.labels)
         source = f"{len(labels)} historical periods of {history.file or history.counts.source}"
+        periods = len(labels)
     else:
         flows, labels = d.flows_veh_h[None, :], ("the plan's demand",)
         source = "the plan's demand"
+        periods = 0
     factors = None
     if options.capacity_cv is not None:
         per = max(1, math.ceil(options.draws / len(labels)))
@@ -237,7 +242,7 @@ def plan_scenarios(
             f", each with {per} draw{'s' if per != 1 else ''} of the work-zone capacity "
             f"(coefficient of variation {options.capacity_cv:g}, seed {options.seed})"
         )
-    return Scenarios(labels, flows, factors, source)
+    return Scenarios(labels, flows, factors, source, periods)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -764,11 +769,11 @@ def assess(
             f"Only {len(scenarios)} scenarios: each probability moves in steps of "
             f"1/{len(scenarios)}; read the intervals."
         )
-    periods = {lab.split(", draw ")[0] for lab in scenarios.labels if lab.startswith("from ")}
-    if 0 < len(periods) < FEW_PERIODS < len(scenarios):
-        one = len(periods) == 1
+    periods = scenarios.periods
+    if 0 < periods < FEW_PERIODS < len(scenarios):
+        one = periods == 1
         notes.append(
-            f"Only {len(periods)} historical period{'' if one else 's'} of the counts "
+            f"Only {periods} historical period{'' if one else 's'} of the counts "
             f"match{'es' if one else ''} the plan: its {len(scenarios):,} scenarios vary the "
             f"capacity on {'that week' if one else 'those weeks'} alone, and the intervals "
             "count them as independent; widen the window around the same date (or leave it "

@@ -216,7 +216,7 @@ def summary_lines(result: Result) -> list[tuple[str, str]]:
     s = result.summary
     system = result.plan.site.unit_system
     long_name, long_m = u.LONG_LENGTH[system]
-    when = lambda t: "-" if t is None else hour_label(t)[:-5] + f"{t:%H:%M}"  # noqa: E731
+    when = lambda t: "-" if t is None else hour_label(t)  # noqa: E731
     limits = _limit_numbers(result.plan)
     length = above_limit(s.max_queue_length_m / long_m, 2, limits.get("queue_ok"))
     longest = f"{length:,.2f} {long_name}, at {when(s.max_queue_length_at)}"
@@ -263,8 +263,7 @@ def unknown_length_text(result: Result) -> str:
         return ""
     first = result.hours["hour_start"][unknown[0]]
     n = len(unknown)
-    label = hour_label(first)[:-5] + f"{first:%H:%M}"
-    return f"unknown in {n} hour{'s' if n != 1 else ''} from {label}"
+    return f"unknown in {n} hour{'s' if n != 1 else ''} from {hour_label(first)}"
 
 
 def part_hours_text(result: Result) -> str:
@@ -460,8 +459,7 @@ def landmark_display(result: Result) -> pd.DataFrame:
             "Kind": [LANDMARK_KIND_LABELS.get(k, k) for k in lm["kind"]],
             f"Upstream ({long_name})": [rounded(v / long_m, 2) for v in lm["distance_m"]],
             "Queue first reaches it": [
-                "never" if pd.isna(t) else hour_label(t)[:-5] + f"{t:%H:%M}"
-                for t in lm["first_reached"]
+                "never" if pd.isna(t) else hour_label(t) for t in lm["first_reached"]
             ],
             # a landmark passed is never shown passed by 0 (:func:`above_limit`)
             "Time beyond it (h)": [above_limit(v, 2, 0.0) for v in lm["time_beyond_h"]],
