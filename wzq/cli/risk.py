@@ -19,7 +19,7 @@ from wzq.cli import EXIT_OK, explain, print_input_warnings
 from wzq.engine.plan import Plan, PlanError, Problem, RiskOptions
 from wzq.engine.risk import PROBABILITY_COLUMNS, RiskResult, assess
 from wzq.io.plans import load_any
-from wzq.present.risk import risk_summary_lines
+from wzq.present.risk import risk_summary_lines, share_digits
 from wzq.present.tables import LENGTH_UNKNOWN, limits_text
 
 __all__ = [
@@ -46,7 +46,7 @@ percentiles of the longest queue and of the average delay. Nothing is written.
 
 
 def _pct(p: float) -> str:
-    return f"{100 * p:5.1f} %"
+    return f"{share_digits(p):>5} %"
 
 
 def _hour(t) -> str:
@@ -75,7 +75,8 @@ def print_risk(
     print("", file=out)
     print(
         f"  Some hour breaks a limit in {_pct(s.p_any_hour).strip()} of scenarios "
-        f"({level:.0%} interval {100 * s.p_any_hour_low:.1f}-{100 * s.p_any_hour_high:.1f} %)",
+        f"({level:.0%} interval {share_digits(s.p_any_hour_low)}-"
+        f"{share_digits(s.p_any_hour_high)} %)",
         file=out,
     )
     if s.worst_hour is not None:
@@ -100,9 +101,9 @@ def print_risk(
     for i in np.flatnonzero(keep):
         row = h.iloc[i]
         line = f"  {_hour(row['hour_start']):<20} {'yes' if row['closure'] else '':<6}"
-        line += "".join(f"{100 * row[c]:7.1f}%" for c in names)
-        line += f"{100 * row['p_any']:9.1f}% ({100 * row['p_any_low']:4.1f}-"
-        line += f"{100 * row['p_any_high']:4.1f} %)"
+        line += "".join(f"{share_digits(row[c]):>7}%" for c in names)
+        line += f"{share_digits(row['p_any']):>9}% ({share_digits(row['p_any_low']):>4}-"
+        line += f"{share_digits(row['p_any_high']):>4} %)"
         line += "  " + " ".join(_length(row[f"queue_length_p{p}_m"] / long_m) for p in pcts)
         line += "   " + " ".join(f"{row[f'average_delay_p{p}_min']:6.1f}" for p in pcts)
         print(line, file=out)

@@ -50,9 +50,22 @@ CAVEATS: tuple[str, ...] = (
 )
 
 
+def share_digits(p: float) -> str:
+    """``12.5``: a share as a percentage with one decimal (rounded half away from zero,
+    :func:`wzq.present.tables.rounded`), and more where one decimal
+    would round a share that is neither 0 nor 1 to ``0.0`` or ``100.0`` (``0.01``,
+    ``99.98``): 1 scenario of 10,000 is not none of them, nor 9,998 all."""
+    x = 100 * p
+    one = rounded(x, 1)  # half away from zero, as the tables round
+    if not 0 < p < 1 or one not in (0.0, 100.0):
+        return f"{one:.1f}"
+    digits = -math.floor(math.log10(min(x, 100 - x)) + 1e-9)  # the gap's first digit
+    return f"{rounded(x, digits):.{digits}f}"
+
+
 def percent(p: float) -> str:
-    """``12.5 %`` (a share as a percentage, one decimal)."""
-    return f"{100 * p:.1f} %"
+    """``12.5 %`` (a share as a percentage, :func:`share_digits`)."""
+    return f"{share_digits(p)} %"
 
 
 def risk_columns(risk: RiskResult, system: u.UnitSystem) -> list[Column]:
@@ -90,13 +103,18 @@ def risk_columns(risk: RiskResult, system: u.UnitSystem) -> list[Column]:
 
 def risk_values(risk: RiskResult, columns: list[Column]) -> list[list[float | int | str | None]]:
     """Rounded display values, column by column (``None`` for a missing value; a
-    percentile of the longest queue that is not known, :data:`LENGTH_UNKNOWN`)."""
+    percentile of the longest queue that is not known, :data:`LENGTH_UNKNOWN`; a chance
+    with the digits of :func:`share_digits`, more than the column's where one decimal
+    would show a share that is neither none nor all as 0.0 or 100.0)."""
     h = risk.hourly
     out: list[list[float | int | str | None]] = []
     for col in columns:
-        vals = h[col.source].to_numpy(dtype=float) * col.scale
+        raw = h[col.source].to_numpy(dtype=float)
+        if col.source.startswith("p_"):
+            out.append([None if np.isnan(p) else float(share_digits(p)) for p in raw])
+            continue
         gap = LENGTH_UNKNOWN if col.source.startswith("queue_length_p") else None
-        out.append([gap if np.isnan(v) else rounded(v, col.decimals) for v in vals])
+        out.append([gap if np.isnan(v) else rounded(v, col.decimals) for v in raw * col.scale])
     return out
 
 
@@ -104,9 +122,8 @@ def any_interval_text(risk: RiskResult, i: int) -> str:
     """``12.5 % (4.1-27.0 %)``: the chance of breaking any limit in hour ``i``, with its
     interval."""
     row = risk.hourly.iloc[i]
-    return (
-        f"{100 * row['p_any']:.1f} % ({100 * row['p_any_low']:.1f}-{100 * row['p_any_high']:.1f} %)"
-    )
+    low, high = share_digits(row["p_any_low"]), share_digits(row["p_any_high"])
+    return f"{percent(row['p_any'])} ({low}-{high} %)"
 
 
 def risk_summary_lines(risk: RiskResult, system: u.UnitSystem) -> list[tuple[str, str]]:
@@ -175,4 +192,6 @@ def _shown(v: float | int | str | None, decimals: int | None) -> str:
     """A value of :func:`risk_values` as text: ``-`` for a missing one, a text as it is."""
     if v is None:
         return "-"
-    return v if isinstance(v, str) else f"{v:,.{decimals}f}"
+    if isinstance(v, str):
+        return v
+    return f"{v:,.{decimals}f}" if round(v, decimals) == v else f"{v:,g}"

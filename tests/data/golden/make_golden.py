@@ -59,7 +59,10 @@ closure's capacity (the hour's average capacity, part open road, diluted it): on
 Brackenholm example (closure from 20:30, no demand/capacity limit) the hour from 20:00
 reads 1.19 instead of 0.47 in the per-hour table, ``show``, the Results and Permit table
 sheets, and the part-hour note on the Permit table and in the report says so in its
-words; no status changes, nothing else:
+words; no status changes, nothing else; and again when a chance that is neither none
+nor all came to be printed with the digits that keep it from reading 0.0 % or
+100.0 %: ``wzq risk`` and the report's risk page on the Larkspur week give the 22:00
+interval from 0.02 % (they printed 0.0), nothing else:
 
     python3 tests/data/golden/make_golden.py
 

@@ -116,8 +116,11 @@ def _add_columns(
             border=w.HEADER_BORDER,
         )  # fmt: skip
         for k, i in enumerate(rows):
-            cell = w.put_text(ws, table.first_row + k, c, values[j][i])
+            v = values[j][i]
+            cell = w.put_text(ws, table.first_row + k, c, v)
             looks[2 * j + (k % 2)](cell)
+            if isinstance(v, float) and col.decimals is not None and round(v, col.decimals) != v:
+                cell.number_format = "General"  # a rare chance's digits (share_digits)
             w.align_unknown(cell)
         table.columns[col.source] = c
         ws.column_dimensions[get_column_letter(c)].width = w.header_width(col.header, width, 4)
