@@ -645,6 +645,42 @@ def test_the_blank_hint_gives_the_unit_of_the_files_system(kestrel: bytes) -> No
     assert problem(kestrel, metric, "Site!B9") == "Speed limit is blank; type a number (km/h)"
 
 
+def test_a_number_in_a_percent_cell_of_a_metric_file_is_said_in_its_metric_unit(
+    kestrel: bytes,
+) -> None:
+    # the work-zone length (km in a metric file) given a percent format: 0.5 shows as
+    # 50 % and is read as 0.5 km; the message named it in the metric unit, not in miles
+    def edit(wb: Any) -> None:
+        set_named(wb, "unit_system", "metric")
+        set_named(wb, "site_work_zone_length", 0.5).number_format = "0%"
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    (w,) = [w for w in plan.input_warnings if "percent format" in w]
+    assert w == (
+        "Site!B12: Work-zone length shows 50 % (the cell has a percent format) but is read "
+        "as 0.5 km; give the cell a number format and type the value"
+    )
+
+
+def test_a_percentage_typed_as_words_is_refused_as_text(kestrel: bytes) -> None:
+    # 'about 8 %' ends in '%' but is no number: refused at its cell like any text
+    assert problem(kestrel, named("site_heavy_vehicle_percent", "about 8 %"), "Site!B13") == (
+        "Heavy vehicles: 'about 8 %' is text, not a number; type only the number, without its unit"
+    )
+
+
+def test_a_percent_cell_is_read_as_the_percentage_it_shows_to_the_last_digit(
+    kestrel: bytes,
+) -> None:
+    # 0.07 and 0.123456789012 in percent cells show 7 % and 12.3456789012 %: the decimal
+    # point moved two places (0.07 * 100 is 7.000000000000001 in binary)
+    for stored, pct in ((0.07, 7.0), (0.123456789012, 12.3456789012)):
+        plan = read(kestrel, named("site_heavy_vehicle_percent", stored, "0.00%"))
+        assert isinstance(plan, Plan), plan
+        assert plan.site.heavy_vehicle_share == pct / 100
+
+
 def test_a_required_text_left_blank_asks_to_type_it(kestrel: bytes) -> None:
     def edit(wb: Any) -> None:
         set_named(wb, "demand_mode", "from a count history")
