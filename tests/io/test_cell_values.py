@@ -663,6 +663,23 @@ def test_a_number_in_a_percent_cell_of_a_metric_file_is_said_in_its_metric_unit(
     )
 
 
+def test_without_a_unit_system_only_the_inputs_without_a_unit_are_held_to_their_range(
+    kestrel: bytes,
+) -> None:
+    # the unit system refused: a speed limit of 900 cannot be judged (mi/h or km/h?) and
+    # waits for the system to be chosen; 150 % of heavy vehicles is wrong in any system
+    def edit(wb: Any) -> None:
+        set_named(wb, "unit_system", "furlongs")
+        set_named(wb, "site_heavy_vehicle_percent", 150)
+        set_named(wb, "site_speed_limit", 900)
+
+    assert read(kestrel, edit) == {
+        "Start!B14": "Unit system: 'furlongs' is not in the list; pick one of 'US customary', "
+        "'metric' from the dropdown",
+        "Site!B13": "Heavy vehicles must be 0 to 100 % (got 150); check the value",
+    }
+
+
 def test_a_percentage_typed_as_words_is_refused_as_text(kestrel: bytes) -> None:
     # 'about 8 %' ends in '%' but is no number: refused at its cell like any text
     assert problem(kestrel, named("site_heavy_vehicle_percent", "about 8 %"), "Site!B13") == (
