@@ -695,6 +695,16 @@ def test_without_a_unit_system_two_speeds_are_still_compared(kestrel: bytes) -> 
     )
 
 
+def test_a_value_out_of_range_is_said_once_not_again_by_the_checks_that_use_it(
+    kestrel: bytes,
+) -> None:
+    # 5 mi/h is refused at its cell; the work-zone limit (45 mi/h) is not then said to be
+    # above it: one mistake, one message
+    assert read(kestrel, named("site_speed_limit", 5)) == {
+        "Site!B9": "Speed limit must be 10 to 90 mi/h (got 5); check the value and its unit"
+    }
+
+
 def test_a_value_out_of_range_in_a_metric_file_is_said_in_its_metric_unit(
     kestrel: bytes,
 ) -> None:
