@@ -24,6 +24,7 @@ from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.table import Table
 from workbook_helpers import (
     fill_template,
+    find_table,
     problem,
     read,
     save_results_as_a_spreadsheet_program,
@@ -1451,3 +1452,21 @@ def test_copies_of_input_sheets_are_named_and_nothing_else(
     plan = read(kestrel, edit)
     assert isinstance(plan, Plan), plan
     assert [w for w in plan.input_warnings if "copy" in w] == said
+
+
+@pytest.mark.parametrize(
+    ("table", "sheet"), [(L.CLOSURE_TABLE, "Closures"), (L.DEMAND_TABLE, "Demand")]
+)
+def test_a_table_deleted_is_named_on_its_own_sheet_with_what_to_do(
+    kestrel: bytes, table: str, sheet: str
+) -> None:
+    def edit(wb: Any) -> None:
+        ws, _ = find_table(wb, table)
+        del ws.tables[table]
+
+    assert read(kestrel, edit) == {
+        f"{sheet} (table {table})": f"the table {table} is missing: it was deleted or "
+        "renamed, or the program that last saved the file did not keep it. Copy your rows "
+        "into the table of a fresh workbook from `wzq new` (a table renamed in Excel can "
+        "also get its name back under Table Design > Table Name)"
+    }
