@@ -1470,3 +1470,125 @@ def test_a_table_deleted_is_named_on_its_own_sheet_with_what_to_do(
         "into the table of a fresh workbook from `wzq new` (a table renamed in Excel can "
         "also get its name back under Table Design > Table Name)"
     }
+
+
+def closure_table_edit(change: Any) -> Any:
+    """An edit giving the closure table's definition to ``change(ws, table)``."""
+
+    def edit(wb: Any) -> None:
+        change(*find_table(wb, L.CLOSURE_TABLE))
+
+    return edit
+
+
+def test_the_table_parts_damaged_or_switched_off_are_named_in_full(kestrel: bytes) -> None:
+    # the closure table runs A5:H35, header on row 5 (what `wzq new` writes)
+    for ref in ("A5:H", "A:H"):  # not a range; whole columns
+
+        def open_range(ws: Any, t: Any, ref: str = ref) -> None:
+            t.ref = ref
+
+        assert read(kestrel, closure_table_edit(open_range)) == {
+            "Closures (table ClosureTable)": f"the table ClosureTable covers '{ref}', not a "
+            "block of cells; recreate it from a fresh workbook made by `wzq new`"
+        }
+
+    def no_header(ws: Any, t: Any) -> None:
+        t.headerRowCount = 0
+
+    assert read(kestrel, closure_table_edit(no_header)) == {
+        "Closures!A5": "the table ClosureTable has its header row switched off; switch it on "
+        "again (in Excel: Table Design > Header Row), or copy your rows into a fresh "
+        "workbook from `wzq new`"
+    }
+
+    def renamed(ws: Any, t: Any) -> None:
+        t.tableColumns[1].name = "Start"
+
+    assert read(kestrel, closure_table_edit(renamed)) == {
+        "Closures!A5": "the table ClosureTable has no column 'From'; restore its header (the "
+        "columns are 'Date', 'From', 'To', 'Lanes closed', 'Barrier', 'Night work', "
+        "'Capacity override (veh/h/ln)', 'Note')"
+    }
+
+
+def test_a_totals_row_is_not_read_as_a_closure_and_column_records_may_be_missing(
+    kestrel: bytes,
+) -> None:
+    # Excel's Total Row (Table Design > Total Row) adds a row to the table: 'Total' and a
+    # sum of the lanes; it is the user's own, not a closure (without the table's totals
+    # count it would be read as one: five problems on row 36)
+    def totals(ws: Any, t: Any) -> None:
+        t.ref, t.totalsRowCount = "A5:H36", 1
+        ws["A36"], ws["D36"] = "Total", 3
+
+    def no_records(ws: Any, t: Any) -> None:
+        t.tableColumns = []  # a program that keeps no column records: the header row is read
+
+    def no_count(ws: Any, t: Any) -> None:
+        t.headerRowCount = None  # not written: one header row (ECMA-376 Part 1, 18.5.1.2)
+
+    for edit in (totals, no_records, no_count):
+        plan = read(kestrel, closure_table_edit(edit))
+        assert isinstance(plan, Plan), plan
+        assert [(c.start, c.end, c.lanes_closed) for c in plan.closures] == [
+            (dt.datetime(2027, 5, 3, 21), dt.datetime(2027, 5, 4, 5), 1),
+            (dt.datetime(2027, 5, 4, 22), dt.datetime(2027, 5, 5, 5), 2),
+        ]
+        assert not plan.input_warnings
+
+
+def test_a_closure_in_the_tables_last_row_is_read(kestrel: bytes) -> None:
+    # row 35 is the table's last (A5:H35, no totals row): a closure typed there is read
+    def last_row(ws: Any, t: Any) -> None:
+        for col in range(1, 9):
+            ws.cell(35, col).value = ws.cell(6, col).value
+        ws["A35"], ws["B35"], ws["C35"] = dt.datetime(2027, 5, 5), "10:00", "14:00"
+
+    plan = read(kestrel, closure_table_edit(last_row))
+    assert isinstance(plan, Plan), plan
+    assert plan.closures[-1].start == dt.datetime(2027, 5, 5, 10)
+    assert len(plan.closures) == 3
+
+
+def test_without_column_records_only_the_header_cells_of_the_table_are_read(
+    kestrel: bytes,
+) -> None:
+    # the closure table moved one column right (B5:I35) by a program that keeps no
+    # column records: its header row is read, and only inside the table: 'From' typed
+    # in A5 beside it (the user's own) and 'Note' in J5 are not its columns
+    def moved(ws: Any, t: Any) -> None:
+        ws.move_range("A5:H35", cols=1)
+        t.ref, t.tableColumns = "B5:I35", []
+        ws["A5"], ws["J5"], ws["I5"] = "From", "Note", "Remarks"
+
+    assert read(kestrel, closure_table_edit(moved)) == {
+        "Closures!B5": "the table ClosureTable has no column 'Note'; restore its header (the "
+        "columns are 'Date', 'From', 'To', 'Lanes closed', 'Barrier', 'Night work', "
+        "'Capacity override (veh/h/ln)', 'Note')"
+    }
+
+    def moved_whole(ws: Any, t: Any) -> None:
+        ws.move_range("A5:H35", cols=1)
+        t.ref, t.tableColumns = "B5:I35", []
+        ws["A5"] = "From"
+
+    plan = read(kestrel, closure_table_edit(moved_whole))
+    assert isinstance(plan, Plan), plan
+    assert [c.start for c in plan.closures] == [
+        dt.datetime(2027, 5, 3, 21),
+        dt.datetime(2027, 5, 4, 22),
+    ]
+
+
+def test_a_table_is_found_on_an_input_sheet_placed_after_an_output_sheet() -> None:
+    # the designer dragged the Results sheet of a run workbook before its Closures sheet:
+    # output sheets are passed over in the search for the closure table, and the search
+    # goes on after them
+    def results_first(wb: Any) -> None:
+        wb.move_sheet(L.RESULTS, -(wb.sheetnames.index(L.RESULTS) - 1))
+        assert wb.sheetnames[:3] == ["Start", L.RESULTS, "Site"]
+
+    plan = read(KESTREL.with_suffix(".xlsx").read_bytes(), results_first)
+    assert isinstance(plan, Plan), plan
+    assert len(plan.closures) == 2

@@ -57,13 +57,14 @@ class TableReader:
             min_col, min_row, max_col, max_row = range_boundaries(str(t.ref))
         except (ValueError, TypeError):
             min_col = min_row = max_col = max_row = None
-        if min_col is None or min_row is None or max_col is None or max_row is None:
+        if None in (min_col, min_row, max_col, max_row):  # 'A:H', or not a range
             self.bad(
                 f"{ws.title} (table {name})",
                 f"the table {name} covers '{t.ref}', not a block of cells; recreate it from "
                 "a fresh workbook made by `wzq new`",
             )
             return None
+        # no count: one header row (ECMA-376 Part 1, 18.5.1.2, headerRowCount's default)
         header_rows = 1 if t.headerRowCount is None else int(t.headerRowCount)
         totals = int(t.totalsRowCount or 0)
         if header_rows < 1:
