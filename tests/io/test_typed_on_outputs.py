@@ -1,0 +1,94 @@
+"""What a designer types on wzq's output sheets after a run is never lost by the next run.
+
+wzq replaces its output sheets on every run; a note typed beside the Results table, a
+value overwritten on the Permit table, a comment or the print orientation changed
+there went without a word. The next run in place now leaves such a workbook byte for
+byte as it was and writes the results to a copy, naming what was typed.
+"""
+
+from __future__ import annotations
+
+import shutil
+from pathlib import Path
+
+import openpyxl
+import pytest
+from openpyxl.comments import Comment
+
+from wzq.engine.problems import PlanError
+from wzq.io.workbook import layout
+from wzq.io.workbook.run import run_to
+
+EXAMPLE = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.xlsx"
+STAMP = "2027-01-01T00:00:00Z"
+
+
+@pytest.fixture
+def ran(tmp_path: Path) -> Path:
+    """The Kestrel Ridge example after one run in place (the outputs as wzq wrote them)."""
+    path = tmp_path / "kestrel.xlsx"
+    shutil.copyfile(EXAMPLE, path)
+    assert not run_to(path, run_time=STAMP).copied
+    return path
+
+
+def _edit(path: Path, change) -> bytes:
+    book = openpyxl.load_workbook(path)
+    change(book)
+    book.save(path)
+    return path.read_bytes()
+
+
+def test_a_note_typed_beside_the_results_table_is_kept(ran: Path):
+    before = _edit(ran, lambda b: b[layout.RESULTS].cell(3, 19, "Checked with the county, JB"))
+    outcome = run_to(ran, run_time=STAMP)
+    assert outcome.copied and outcome.target.name == "kestrel (wzq results).xlsx"
+    assert ran.read_bytes() == before  # the note is still there
+    said = " ".join(outcome.notes)
+    assert "Results!S3 'Checked with the county, JB'" in said
+    assert "move it to a sheet of your own" in said
+    # the copy holds the results of the plan, as a run in place would have
+    copy = openpyxl.load_workbook(outcome.target)
+    assert copy[layout.RESULTS]["S3"].value is None
+
+
+def test_a_value_of_wzqs_changed_on_the_permit_table_is_named_by_its_column_and_rows(ran):
+    book = openpyxl.load_workbook(ran)
+    ws = book[layout.PERMIT_TABLE]
+    cell = next(c for row in ws.iter_rows(min_row=12) for c in row if c.value is not None)
+    before = _edit(ran, lambda b: b[layout.PERMIT_TABLE].cell(cell.row, cell.column, "n/a"))
+    outcome = run_to(ran, run_time=STAMP)
+    assert outcome.copied and ran.read_bytes() == before
+    block = (cell.row - 1) // 50 * 50 + 1
+    said = " ".join(outcome.notes)
+    assert "Permit table: a value wzq wrote was changed or cleared" in said
+    assert f"(column {cell.column_letter}; rows {block}-" in said
+
+
+def test_a_comment_and_a_print_orientation_are_named(ran: Path):
+    def change(book):
+        book[layout.SUMMARY]["A1"].comment = Comment("agreed with the county", "JB")
+        book[layout.PERMIT_TABLE].page_setup.orientation = "portrait"  # wzq prints landscape
+
+    before = _edit(ran, change)
+    outcome = run_to(ran, run_time=STAMP)
+    assert outcome.copied and ran.read_bytes() == before
+    said = " ".join(outcome.notes)
+    assert "Summary: a comment added or changed" in said
+    assert "Permit table: the print orientation changed" in said
+
+
+def test_refused_when_copies_are_not_wanted(ran: Path):
+    before = _edit(ran, lambda b: b[layout.RESULTS].cell(80, 1, "my total"))
+    with pytest.raises(PlanError) as e:
+        run_to(ran, run_time=STAMP, unkept="refuse")
+    assert "Results!A80 'my total'" in str(e.value)
+    assert ran.read_bytes() == before
+
+
+def test_runs_without_anything_typed_and_after_an_input_changes_stay_in_place(ran: Path):
+    assert not run_to(ran, run_time=STAMP).copied  # the same outputs again
+    _edit(ran, lambda b: b["Site"].cell(12, 2, 1.5))  # the work-zone length, an input
+    outcome = run_to(ran, run_time=STAMP)
+    assert not outcome.copied and outcome.target == ran
+    assert not run_to(ran, run_time="2027-01-02T00:00:00Z").copied  # another time stamp
