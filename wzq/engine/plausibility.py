@@ -37,6 +37,8 @@ __all__ = [
     "NEIGHBOURS",
     "OLD_COUNT_YEARS",
     "SHORT_DELAY_LIMIT_S",
+    "SORTED_DISTINCT",
+    "SORTED_SPAN_H",
     "above_open_road",
     "days_left_out_not_counted",
     "delay_limit_in_hours",
@@ -51,6 +53,7 @@ __all__ = [
     "override_above_open_road",
     "shares_as_flows",
     "site_ranges",
+    "sorted_demand",
     "unused_by_method",
     "value_of_time_per_minute",
     "warnings",
@@ -94,6 +97,11 @@ FRACTION_PERCENTILE = 1.0
 JAM_SPACING_MIN_M = 6.0
 #: A heavy-vehicle share above this is queried (common practice, no source).
 MANY_HEAVY_SHARE = 0.5
+#: Hours of demand in a row that only rise or only fall before they are queried as a
+#: sorted demand column: a day (common practice, no source).
+SORTED_SPAN_H = 24.0
+#: Different flows such a run must hold to be queried (common practice, no source).
+SORTED_DISTINCT = 6
 #: Warnings of one kind listed one by one before the rest are counted.
 MAX_LISTED = 5
 
@@ -547,6 +555,47 @@ def site_ranges(plan: Plan) -> list[str]:
     return out
 
 
+def _monotone_runs(q: np.ndarray, rising: bool) -> list[tuple[int, int]]:
+    """(first, last) interval of each maximal run over which ``q`` never falls
+    (``rising``) or never rises."""
+    step = np.diff(q) if rising else -np.diff(q)
+    breaks = np.flatnonzero(step < 0) + 1  # a run ends before each interval that turns back
+    starts = np.concatenate(([0], breaks))
+    ends = np.concatenate((breaks - 1, [len(q) - 1]))
+    return list(zip(starts.tolist(), ends.tolist(), strict=True))
+
+
+def sorted_demand(plan: Plan) -> list[str]:
+    """A day of demand that only rises or only falls: the demand column sorted on its own.
+
+    Traffic follows a daily cycle, low at night and high by day, so no
+    :data:`SORTED_SPAN_H` hours of real demand in a row only rise or only fall
+    (common practice, no source); counts that do are what a spreadsheet gives when
+    the demand column alone is sorted ("continue with the current selection"), its
+    dates and times left in order. Queried when such a run holds at least
+    :data:`SORTED_DISTINCT` different flows (a plan of a few constant steps is not
+    queried).
+    """
+    d = plan.demand
+    q = d.flows_veh_h
+    span = round(SORTED_SPAN_H * 3600 / d.interval_s)
+    for rising in (True, False):
+        for first, last in _monotone_runs(q, rising):
+            run = q[first : last + 1]
+            if last - first + 1 < span or len(np.unique(run)) < SORTED_DISTINCT:
+                continue
+            t0 = d.start + dt.timedelta(seconds=first * d.interval_s)
+            t1 = d.start + dt.timedelta(seconds=last * d.interval_s)
+            return [
+                f"{plan.where(demand_key(first))}: the demand only "
+                f"{'rises' if rising else 'falls'} from {_when(t0)} to {_when(t1)} "
+                f"({run[0]:,.0f} to {run[-1]:,.0f} veh/h), where traffic rises and falls "
+                "over each day: was the demand column sorted on its own, away from its dates "
+                "and times? Check the counts against their hours"
+            ]
+    return []
+
+
 def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     """Every plausibility warning for ``plan``; ``open_capacity_veh_h`` is the open
     road's pre-breakdown capacity with all lanes open (veh/h)."""
@@ -567,6 +616,7 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *dense_jam(plan),
         *near_zero_demand(plan),
         *shares_as_flows(plan),
+        *sorted_demand(plan),
         *percentile_as_fraction(plan),
         *old_counts_not_grown(plan),
         *days_left_out_not_counted(plan),

@@ -1,0 +1,82 @@
+"""Round six of the red team: a designer's spreadsheet habits that were read without a word.
+
+Each case is worked on a shipped example, changed as a designer in a hurry would in
+Excel or LibreOffice, and checked for the warning that names the cell.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import shutil
+from pathlib import Path
+
+import numpy as np
+import openpyxl
+
+import wzq
+from wzq.engine import plausibility
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook.reader import read_plan
+
+EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
+KESTREL = EXAMPLES / "kestrel_ridge_weeknight.xlsx"
+
+
+def _kestrel(tmp_path: Path, change) -> Path:
+    path = tmp_path / "kestrel.xlsx"
+    shutil.copyfile(KESTREL, path)
+    book = openpyxl.load_workbook(path)
+    change(book)
+    book.save(path)
+    return path
+
+
+def test_a_demand_column_sorted_on_its_own_is_queried(tmp_path):
+    """Kestrel Ridge: 72 hourly counts (Demand!C9:C80, 400 to 5,400 veh/h) sorted from
+    smallest to largest with their dates and times left in order."""
+
+    def sort_the_column_alone(book):
+        ws = book["Demand"]
+        flows = sorted(ws.cell(r, 3).value for r in range(9, 81))
+        for r, q in zip(range(9, 81), flows, strict=True):
+            ws.cell(r, 3).value = q
+
+    plan = read_plan(_kestrel(tmp_path, sort_the_column_alone))
+    said = [w for w in wzq.analyse(plan).warnings if "sorted" in w]
+    assert said == [
+        "Demand!C9: the demand only rises from Mon 2027-05-03 00:00 to Wed 2027-05-05 23:00 "
+        "(400 to 5,400 veh/h), where traffic rises and falls over each day: was the demand "
+        "column sorted on its own, away from its dates and times? Check the counts against "
+        "their hours"
+    ]
+
+
+def test_a_day_sorted_from_largest_to_smallest_is_queried_at_its_first_row(tmp_path):
+    """Only the second day (Demand!C33:C56, Tue 00:00-23:00) sorted, largest first."""
+
+    def sort_one_day(book):
+        ws = book["Demand"]
+        flows = sorted((ws.cell(r, 3).value for r in range(33, 57)), reverse=True)
+        for r, q in zip(range(33, 57), flows, strict=True):
+            ws.cell(r, 3).value = q
+
+    plan = read_plan(_kestrel(tmp_path, sort_one_day))
+    said = plausibility.sorted_demand(plan)
+    assert len(said) == 1
+    assert said[0].startswith("Demand!C33: the demand only falls from Tue 2027-05-04 00:00")
+    assert "(5,400 to 400 veh/h)" in said[0]
+
+
+def test_real_counts_and_plans_of_a_few_steps_are_not_queried():
+    for name in ("kestrel_ridge_weeknight", "ashgrove_bypass_week", "fenwick_downs_weekend"):
+        assert plausibility.sorted_demand(load_plan(EXAMPLES / f"{name}.json")) == [], name
+    plan = load_plan(EXAMPLES / "kestrel_ridge_weeknight.json")
+    n = len(plan.demand.flows_veh_h)
+    # five steps rising over three days: a made-up plan, not a sorted column
+    steps = np.repeat([1000.0, 1500.0, 2000.0, 2500.0, 3000.0], -(-n // 5))[:n]
+    stepped = dataclasses.replace(plan, demand=dataclasses.replace(plan.demand, flows_veh_h=steps))
+    assert plausibility.sorted_demand(stepped) == []
+    # the same five steps and one more flow: six different flows rising for 72 h
+    steps[-1] = 3100.0
+    rising = dataclasses.replace(plan, demand=dataclasses.replace(plan.demand, flows_veh_h=steps))
+    assert len(plausibility.sorted_demand(rising)) == 1
