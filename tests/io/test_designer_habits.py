@@ -12,6 +12,7 @@ from pathlib import Path
 
 import numpy as np
 import openpyxl
+from openpyxl.comments import Comment
 
 import wzq
 from wzq.engine import plausibility
@@ -80,3 +81,22 @@ def test_real_counts_and_plans_of_a_few_steps_are_not_queried():
     steps[-1] = 3100.0
     rising = dataclasses.replace(plan, demand=dataclasses.replace(plan.demand, flows_veh_h=steps))
     assert len(plausibility.sorted_demand(rising)) == 1
+
+
+def test_a_value_typed_in_the_comment_of_a_blank_input_is_said(tmp_path):
+    """The free-flow speed (Site!B11) left blank, its measured value typed in a comment:
+    the blank (speed limit + 5 mi/h) is used, so the comment is named; a comment on a
+    filled input (the work-zone length, Site!B12) is a note and not said."""
+
+    def comment(book):
+        book["Site"]["B11"].comment = Comment("measured 72 mph,\nspot speed survey", "JB")
+        book["Site"]["B12"].comment = Comment("from the drawings", "JB")
+
+    plan = read_plan(_kestrel(tmp_path, comment))
+    said = [w for w in plan.input_warnings if "comment" in w]
+    assert said == [
+        "Site!B11: Free-flow speed is left blank (read as a blank cell is there), but its "
+        "comment reads 'measured 72 mph, spot speed survey'; wzq never reads comments: type "
+        "the value in the cell if the comment holds it"
+    ]
+    assert plan.site.free_flow_speed is None  # read as the blank it is

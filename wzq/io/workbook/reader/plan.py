@@ -74,6 +74,7 @@ class PlanReader:
         self.check_sheet_names()
         self.copied_sheets()
         self.hidden_sheets()
+        self.commented_blanks()
         costs = self.costs()
         demand = self.demand(values.get("site_lanes"))
         risk = self.risk_options(self._history is not None)
@@ -121,6 +122,24 @@ class PlanReader:
                 f"sheet '{name}'",
                 f"this input sheet is {how}, and its inputs are read as typed; unhide it to "
                 "see them",
+            )
+
+    def commented_blanks(self) -> None:
+        """Warn about a blank input cell that carries a comment: what the cell stands for
+        (its default, or nothing) is used, and the comment, which wzq never reads, may
+        hold the value meant (typed as a note instead of in the cell)."""
+        for f in F.ALL_FIELDS:
+            at = self.peek(f.name) if f.name else None
+            cell = at[0]._cells.get(at[1:]) if at else None
+            if cell is None or cell.comment is None or not _blank(cell.value):
+                continue
+            said = " ".join(str(cell.comment.text).split())
+            said = said if len(said) <= 80 else said[:79] + "..."
+            self.note(
+                cell_ref(at[0].title, at[1], at[2]),
+                f"{f.label} is left blank (read as a blank cell is there), but its comment "
+                f"reads '{said}'; wzq never reads comments: type the value in the cell if "
+                "the comment holds it",
             )
 
     def copied_sheets(self) -> None:
