@@ -100,3 +100,40 @@ def test_a_value_typed_in_the_comment_of_a_blank_input_is_said(tmp_path):
         "the value in the cell if the comment holds it"
     ]
     assert plan.site.free_flow_speed is None  # read as the blank it is
+
+
+def test_counts_pasted_with_another_locales_thousands_separator_are_queried(tmp_path):
+    """Kestrel Ridge's counts of 1,000 veh/h and more pasted as '1.500' into a spreadsheet
+    that reads a decimal point: 1.5 veh/h. The first by day is 06:00 on Monday (Demand!C15,
+    3,600 veh/h read as 3.6); 45 hours of the 72 carry 1,000 veh/h or more, all by day
+    (06:00-21:00 each day, 15 a day), among night flows up to 700 veh/h."""
+
+    def paste(book):
+        ws = book["Demand"]
+        for r in range(9, 81):
+            if ws.cell(r, 3).value >= 1000:
+                ws.cell(r, 3).value = ws.cell(r, 3).value / 1000
+
+    plan = read_plan(_kestrel(tmp_path, paste))
+    assert plausibility.thousands_as_decimals(plan) == [
+        "Demand!C15: demand 3.6 veh/h at Mon 2027-05-03 06:00 (and 44 more daytime flows "
+        "like it), among flows up to 700 veh/h: a count of 3,600 typed or pasted with the "
+        "thousands separator of another locale ('3.600' read as 3.6)? Type the counts as "
+        "plain whole numbers"
+    ]
+    # every count in thousands (a busy road): the same, with no flow of hundreds around
+    q = np.full(72, 1.25)
+    q[:6] = 0.8  # 800 veh/h the first night, read as 0.8
+    quiet = dataclasses.replace(plan, demand=dataclasses.replace(plan.demand, flows_veh_h=q))
+    said = plausibility.thousands_as_decimals(quiet)
+    assert len(said) == 1 and said[0].startswith("Demand!C15: demand 1.25 veh/h at Mon")
+
+
+def test_whole_counts_and_flows_with_more_decimals_are_not_queried():
+    for name in ("kestrel_ridge_weeknight", "ashgrove_bypass_week", "fenwick_downs_weekend"):
+        assert plausibility.thousands_as_decimals(load_plan(EXAMPLES / f"{name}.json")) == []
+    plan = load_plan(EXAMPLES / "kestrel_ridge_weeknight.json")
+    q = plan.demand.flows_veh_h.copy()
+    q[7] = 5.2345  # a flow with four decimals (computed, not a count of thousands)
+    odd = dataclasses.replace(plan, demand=dataclasses.replace(plan.demand, flows_veh_h=q))
+    assert plausibility.thousands_as_decimals(odd) == []

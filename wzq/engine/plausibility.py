@@ -39,6 +39,7 @@ __all__ = [
     "SHORT_DELAY_LIMIT_S",
     "SORTED_DISTINCT",
     "SORTED_SPAN_H",
+    "THOUSANDS_BELOW",
     "above_open_road",
     "days_left_out_not_counted",
     "delay_limit_in_hours",
@@ -54,6 +55,7 @@ __all__ = [
     "shares_as_flows",
     "site_ranges",
     "sorted_demand",
+    "thousands_as_decimals",
     "unused_by_method",
     "value_of_time_per_minute",
     "warnings",
@@ -102,6 +104,9 @@ MANY_HEAVY_SHARE = 0.5
 SORTED_SPAN_H = 24.0
 #: Different flows such a run must hold to be queried (common practice, no source).
 SORTED_DISTINCT = 6
+#: Flows below this (veh/h) with up to three decimals, by day, are queried as counts of
+#: thousands typed with another locale's thousands separator (common practice, no source).
+THOUSANDS_BELOW = 10.0
 #: Warnings of one kind listed one by one before the rest are counted.
 MAX_LISTED = 5
 
@@ -555,6 +560,44 @@ def site_ranges(plan: Plan) -> list[str]:
     return out
 
 
+def thousands_as_decimals(plan: Plan) -> list[str]:
+    """Daytime flows such as 1.5 veh/h among flows of hundreds: counts of thousands
+    typed or pasted with the thousands separator of another locale ("1.500" for 1,500
+    read as 1.5 by a spreadsheet set to a decimal point).
+
+    Interval ``i`` is queried when its clock hour is daytime (:data:`DAY_START_HOUR` to
+    :data:`DAY_END_HOUR`), its flow is above 0 and below :data:`THOUSANDS_BELOW` veh/h
+    and not whole but whole once multiplied by 1,000, and the busiest interval of the
+    demand carries at least :data:`BUSY_VEH_H_LN` per lane, or none carries
+    :data:`THOUSANDS_BELOW` (every count of the demand in thousands; common practice,
+    no source).
+    The first is named, the others counted.
+    """
+    d = plan.demand
+    q = d.flows_veh_h
+    busy = BUSY_VEH_H_LN * plan.site.lanes
+    if not len(q) or THOUSANDS_BELOW <= float(q.max()) < busy:
+        return []
+    scaled = q * 1000.0
+    odd = (q > 0) & (q < THOUSANDS_BELOW) & (q != np.round(q))
+    odd &= np.abs(scaled - np.round(scaled)) < 1e-6
+    found = []
+    for i in np.flatnonzero(odd).tolist():
+        t = d.start + dt.timedelta(seconds=i * d.interval_s)
+        if DAY_START_HOUR <= t.hour < DAY_END_HOUR:
+            found.append((i, t))
+    if not found:
+        return []
+    i, t = found[0]
+    more = f" (and {len(found) - 1} more daytime flows like it)" if len(found) > 1 else ""
+    return [
+        f"{plan.where(demand_key(i))}: demand {q[i]:g} veh/h at {_when(t)}{more}, among "
+        f"flows up to {float(q.max()):,.0f} veh/h: a count of {q[i] * 1000:,.0f} typed or "
+        f"pasted with the thousands separator of another locale ('{q[i]:.3f}' read as "
+        f"{q[i]:g})? Type the counts as plain whole numbers"
+    ]
+
+
 def _monotone_runs(q: np.ndarray, rising: bool) -> list[tuple[int, int]]:
     """(first, last) interval of each maximal run over which ``q`` never falls
     (``rising``) or never rises."""
@@ -617,6 +660,7 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *near_zero_demand(plan),
         *shares_as_flows(plan),
         *sorted_demand(plan),
+        *thousands_as_decimals(plan),
         *percentile_as_fraction(plan),
         *old_counts_not_grown(plan),
         *days_left_out_not_counted(plan),
