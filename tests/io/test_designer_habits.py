@@ -13,6 +13,7 @@ from pathlib import Path
 import numpy as np
 import openpyxl
 from openpyxl.comments import Comment
+from openpyxl.workbook.defined_name import DefinedName
 
 import wzq
 from wzq.engine import plausibility
@@ -137,3 +138,25 @@ def test_whole_counts_and_flows_with_more_decimals_are_not_queried():
     q[7] = 5.2345  # a flow with four decimals (computed, not a count of thousands)
     odd = dataclasses.replace(plan, demand=dataclasses.replace(plan.demand, flows_veh_h=q))
     assert plausibility.thousands_as_decimals(odd) == []
+
+
+def test_a_copy_of_an_input_sheet_renamed_is_named_by_the_names_excel_copies_with_it(tmp_path):
+    """Excel copies a sheet with sheet-level copies of the workbook's names that point at
+    it (from memory of Excel's behaviour); the copy of Site renamed 'Site v2', 2 lanes
+    typed on it, is not read: the plan keeps Site's 3 lanes, and the copy is named."""
+
+    def copy_site(book):
+        ws = book.copy_worksheet(book["Site"])
+        ws.title = "Site v2"
+        ws["B8"] = 2
+        ws.defined_names["site_lanes"] = DefinedName("site_lanes", attr_text="'Site v2'!$B$8")
+        mine = book.create_sheet("My sums")
+        mine.defined_names["my_total"] = DefinedName("my_total", attr_text="'My sums'!$A$1")
+
+    plan = read_plan(_kestrel(tmp_path, copy_site))
+    assert plan.site.lanes == 3
+    said = [w for w in plan.input_warnings if "copy" in w]
+    assert said == [
+        "sheet 'Site v2': this sheet looks like a copy of the input sheet 'Site' and is not "
+        "read: the plan is read from 'Site' only; type your changes there, or delete the copy"
+    ]

@@ -42,6 +42,9 @@ _INPUT_TABLES = (
     L.RAMP_FLOW_TABLE,
 )
 
+#: The defined names of the inputs (a sheet-level copy of one marks a copied input sheet).
+_INPUT_NAMES = frozenset(f.name for f in F.ALL_FIELDS if f.name)
+
 __all__ = [
     "PlanReader",
 ]
@@ -144,8 +147,10 @@ class PlanReader:
 
     def copied_sheets(self) -> None:
         """Warn about a copy of an input sheet ("Demand (2)" as Excel names it, "Demand_2"
-        as LibreOffice does) or a sheet holding a copy of an input table ("DemandTable2"):
-        only the input sheet itself is read, so values typed on the copy are not used."""
+        as LibreOffice does), a sheet holding a copy of an input table ("DemandTable2"), or
+        one holding sheet-level copies of the input names (as Excel copies them, whatever
+        the copy is renamed to): only the input sheet itself is read, so values typed on
+        the copy are not used."""
         counts = self.peek("history_file_sheet")
         cell = counts[0]._cells.get(counts[1:]) if counts else None
         chosen = getattr(cell, "value", None)  # the sheet chosen to hold the count history
@@ -165,6 +170,11 @@ class PlanReader:
                 table = tables.get(m.group(1).casefold()) if m else None
                 found = self.find_table(table) if table and home is None else None
                 home = found[0].title if found else home
+            # Excel gives the copy of a sheet its own (sheet-level) copies of the
+            # workbook's names that point at the sheet copied
+            for name in ws.defined_names if home is None else ():
+                at = self.peek(name) if name in _INPUT_NAMES else None
+                home = at[0].title if at and at[0].title in L.INPUT_SHEETS else home
             if home is not None:
                 self.note(
                     f"sheet '{title}'",
