@@ -160,3 +160,20 @@ def test_a_copy_of_an_input_sheet_renamed_is_named_by_the_names_excel_copies_wit
         "sheet 'Site v2': this sheet looks like a copy of the input sheet 'Site' and is not "
         "read: the plan is read from 'Site' only; type your changes there, or delete the copy"
     ]
+
+
+def test_a_value_typed_in_the_comment_of_a_blank_table_cell_is_said(tmp_path):
+    """Night 2's capacity override (Closures!G7) left blank, the agency's figure typed in
+    a comment: the capacity model is used, and the comment named under its column."""
+
+    def comment(book):
+        book["Closures"]["G7"].comment = Comment("county: use 1,350 for 2 lanes closed", "JB")
+        book["Closures"]["H7"].comment = Comment("saw-cut first", "JB")  # on a filled note
+
+    plan = read_plan(_kestrel(tmp_path, comment))
+    assert plan.closures[1].capacity_override_veh_h_ln is None
+    assert [w for w in plan.input_warnings if "comment" in w] == [
+        "Closures!G7: Capacity override (veh/h/ln) is left blank (read as a blank cell is "
+        "there), but its comment reads 'county: use 1,350 for 2 lanes closed'; wzq never "
+        "reads comments: type the value in the cell if the comment holds it"
+    ]

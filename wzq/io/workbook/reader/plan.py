@@ -7,6 +7,8 @@ from __future__ import annotations
 import re
 from typing import Any
 
+from openpyxl.utils import range_boundaries
+
 from wzq.engine.plan import (
     Closure,
     Costs,
@@ -131,16 +133,30 @@ class PlanReader:
         """Warn about a blank input cell that carries a comment: what the cell stands for
         (its default, or nothing) is used, and the comment, which wzq never reads, may
         hold the value meant (typed as a note instead of in the cell)."""
+        cells = []
         for f in F.ALL_FIELDS:
             at = self.peek(f.name) if f.name else None
             cell = at[0]._cells.get(at[1:]) if at else None
+            cells.append((f.label, at[0] if at else None, cell))
+        for table in _INPUT_TABLES:  # the cells of the tables' rows, under their headers
+            found = self.find_table(table)
+            if found is None:
+                continue
+            ws, ref = found
+            left, top, right, bottom = range_boundaries(str(ref))
+            heads = [ws._cells.get((top, c)) for c in range(left, right + 1)]
+            for (r, c), cell in sorted(ws._cells.items()):
+                if top < r <= bottom and left <= c <= right:
+                    head = heads[c - left]
+                    cells.append((str(head.value) if head else "this cell", ws, cell))
+        for label, ws, cell in cells:
             if cell is None or cell.comment is None or not _blank(cell.value):
                 continue
             said = " ".join(str(cell.comment.text).split())
             said = said if len(said) <= 80 else said[:79] + "..."
             self.note(
-                cell_ref(at[0].title, at[1], at[2]),
-                f"{f.label} is left blank (read as a blank cell is there), but its comment "
+                cell_ref(ws.title, cell.row, cell.column),
+                f"{label} is left blank (read as a blank cell is there), but its comment "
                 f"reads '{said}'; wzq never reads comments: type the value in the cell if "
                 "the comment holds it",
             )
