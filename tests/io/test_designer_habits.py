@@ -177,3 +177,21 @@ def test_a_value_typed_in_the_comment_of_a_blank_table_cell_is_said(tmp_path):
         "there), but its comment reads 'county: use 1,350 for 2 lanes closed'; wzq never "
         "reads comments: type the value in the cell if the comment holds it"
     ]
+
+
+def test_one_demand_merged_over_two_hours_is_read_in_each_and_said(tmp_path):
+    """Demand!C15:C16 merged (Mon 06:00 and 07:00): the 3,600 veh/h shown across both
+    is read for each hour, as shown (7,200 vehicles in the two hours), and said, since
+    it may be the count of the two hours together."""
+    plan = read_plan(_kestrel(tmp_path, lambda b: b["Demand"].merge_cells("C15:C16")))
+    assert plan.demand.flows_veh_h[6:8].tolist() == [3600.0, 3600.0]
+    assert [w for w in plan.input_warnings if "merged" in w] == [
+        "Demand!C15:C16: one number (3,600) merged over 2 rows is read in each of them, as "
+        "shown; if it is meant for the rows together, unmerge the cells and type each row's "
+        "value"
+    ]
+
+
+def test_a_date_merged_down_its_rows_is_not_said(tmp_path):
+    plan = read_plan(_kestrel(tmp_path, lambda b: b["Demand"].merge_cells("A9:A32")))
+    assert [w for w in plan.input_warnings if "merged" in w] == []
