@@ -8,6 +8,7 @@ byte as it was and writes the results to a copy, naming what was typed.
 
 from __future__ import annotations
 
+import dataclasses
 import shutil
 from pathlib import Path
 
@@ -15,8 +16,11 @@ import openpyxl
 import pytest
 from openpyxl.comments import Comment
 
+import wzq
 from wzq.engine.problems import PlanError
 from wzq.io.workbook import layout
+from wzq.io.workbook.outputs import write_results
+from wzq.io.workbook.reader import read_plan
 from wzq.io.workbook.run import run_to
 
 EXAMPLE = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.xlsx"
@@ -92,3 +96,18 @@ def test_runs_without_anything_typed_and_after_an_input_changes_stay_in_place(ra
     outcome = run_to(ran, run_time=STAMP)
     assert not outcome.copied and outcome.target == ran
     assert not run_to(ran, run_time="2027-01-02T00:00:00Z").copied  # another time stamp
+
+
+def test_outputs_written_by_another_run_without_a_record_are_not_compared(ran: Path):
+    """The Recalculate button in Excel writes the output sheets (another run time, other
+    results) and keeps no record: the record of the last `wzq run` no longer describes
+    them, so the next run writes in place instead of calling every new value typed."""
+    book = openpyxl.load_workbook(ran)
+    plan = read_plan(ran)
+    busier = dataclasses.replace(
+        plan, demand=dataclasses.replace(plan.demand, flows_veh_h=plan.demand.flows_veh_h * 1.1)
+    )
+    write_results(book, wzq.analyse(busier), run_time="2027-02-01T00:00:00Z")
+    book.save(ran)
+    outcome = run_to(ran, run_time=STAMP)
+    assert not outcome.copied and outcome.target == ran

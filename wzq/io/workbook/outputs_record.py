@@ -10,9 +10,11 @@ a digest of each column's values and of each block of :data:`BLOCK` rows' values
 and the sheet's comments, charts, pictures, print area and orientation. Before the
 next run writes into the workbook, :func:`typed_since` compares the sheets with
 that record and names what differs (the cells outside the block one by one, a
-changed value by its column and rows); :func:`wzq.io.workbook.run.run_to` then
-leaves the workbook unchanged and writes the results to a copy, as it does for
-content openpyxl cannot keep.
+changed value by its column and rows), when the sheets are still those of the run
+that kept the record (the run time on the Run log: the Recalculate button in Excel
+writes the sheets without a record, and then nothing is compared);
+:func:`wzq.io.workbook.run.run_to` then leaves the workbook unchanged and writes the
+results to a copy, as it does for content openpyxl cannot keep.
 
 Values are compared as a spreadsheet program stores them (numbers, dates and times
 as numbers to 12 significant digits; text with its line ends as ``\\n``), so
@@ -26,21 +28,23 @@ from __future__ import annotations
 import base64
 import datetime as dt
 import hashlib
+import io
 import json
+import warnings
 import zlib
 from pathlib import Path
 from typing import Any
 
-from openpyxl.utils import get_column_letter
+from openpyxl.utils import coordinate_to_tuple, get_column_letter
 from openpyxl.utils.datetime import to_excel
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from wzq.io.workbook import layout
-from wzq.io.workbook.reader import book_from_bytes
+from wzq.io.workbook.reader.skip import SkippingReader
 from wzq.io.workbook.safety import inspect_bytes
 from wzq.io.workbook.windows_cache import kept_sheet
-from wzq.io.workbook.writer import put_text
+from wzq.io.workbook.writer import RUN_LOG, RUN_TIME_CELL, put_text
 
 __all__ = [
     "BLOCK",
@@ -82,9 +86,7 @@ def _digest(h: Any) -> str:
 
 
 def _extras(ws: Worksheet) -> dict[str, Any]:
-    comments = sorted(
-        f"{c.coordinate}:{c.comment.text}" for row in ws.iter_rows() for c in row if c.comment
-    )
+    comments = sorted(f"{c.coordinate}:{c.comment.text}" for c in ws._cells.values() if c.comment)
     return {
         "comments": hashlib.sha256("\n".join(comments).encode()).hexdigest()[:16],
         "charts": len(ws._charts),
@@ -95,11 +97,11 @@ def _extras(ws: Worksheet) -> dict[str, Any]:
 
 
 def _cells(ws: Worksheet, epoch: dt.datetime) -> list[tuple[int, int, str]]:
-    """(row, column, value as stored) of every non-empty cell."""
+    """(row, column, value as stored) of every non-empty cell, row by row (read from the
+    cells the sheet holds: iterating its rows would add empty cells to it)."""
     return [
-        (c.row, c.column, text)
-        for row in ws.iter_rows()
-        for c in row
+        (r, k, text)
+        for (r, k), c in sorted(ws._cells.items())
         if (text := _value_text(c.value, epoch)) is not None
     ]
 
@@ -127,6 +129,14 @@ def sheet_record(
     }
 
 
+def _run_time(book: Workbook) -> str | None:
+    """The run time on the Run log (the run that wrote the output sheets)."""
+    if RUN_LOG not in book.sheetnames:
+        return None
+    cell = book[RUN_LOG]._cells.get(coordinate_to_tuple(RUN_TIME_CELL))
+    return None if cell is None else _value_text(cell.value, book.epoch)
+
+
 def _output_sheets(book: Workbook) -> list[str]:
     return [name for name in layout.OUTPUT_SHEETS if name in book.sheetnames]
 
@@ -135,6 +145,7 @@ def write_record(book: Workbook, ws_cache: Worksheet) -> None:
     """Keep the record of ``book``'s output sheets, as written, on the cache sheet."""
     record = {
         "format": _FORMAT,
+        "run": _run_time(book),
         "sheets": {n: sheet_record(book[n], book.epoch) for n in _output_sheets(book)},
     }
     packed = zlib.compress(json.dumps(record, sort_keys=True).encode("utf-8"), 6)
@@ -214,8 +225,8 @@ def differences(name: str, before: dict[str, Any], now: Worksheet, epoch: dt.dat
 def typed_since(record: dict[str, Any] | None, book: Workbook) -> list[str]:
     """What was typed or changed on the output sheets of ``book`` (parsed in full) since
     wzq wrote them, as ``record`` holds them; empty when nothing was, or no record."""
-    if record is None:
-        return []
+    if record is None or record.get("run") != _run_time(book):
+        return []  # outputs another run wrote (the Recalculate button in Excel keeps none)
     found = []
     for name, before in record.get("sheets", {}).items():
         if name in layout.OUTPUT_SHEETS and name in book.sheetnames:
@@ -232,4 +243,16 @@ def typed_on_outputs(book: Workbook, data: bytes, path: Path) -> list[str]:
     if record is None:
         return []
     inspect_bytes(data, path.name, path.suffix)
-    return typed_since(record, book_from_bytes(data, path, keep_links=True))
+    reader = _OutputsOnly(io.BytesIO(data), False, False, False, True, False)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # openpyxl warns about extensions it drops on read
+        reader.read()
+    return typed_since(record, reader.wb)
+
+
+class _OutputsOnly(SkippingReader):
+    """openpyxl's reader with only wzq's output sheets parsed (empty stand-ins for the
+    others, so sheet indices, and the print areas they scope, stay as they are)."""
+
+    def skipped(self, listed: list[Any]) -> set[str]:
+        return {sheet.name for sheet, _ in listed if sheet.name not in layout.OUTPUT_SHEETS}
