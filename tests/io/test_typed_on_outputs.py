@@ -14,16 +14,21 @@ from pathlib import Path
 
 import openpyxl
 import pytest
+from fake_xlwings import open_book
 from openpyxl.comments import Comment
+from workbook_helpers import fill_template
 
 import wzq
 from wzq.engine.problems import PlanError
+from wzq.io.jsonplan import load_plan
+from wzq.io.live import backend as live
 from wzq.io.workbook import layout
 from wzq.io.workbook.outputs import write_results
 from wzq.io.workbook.reader import read_plan
 from wzq.io.workbook.run import run_to
 
 EXAMPLE = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.xlsx"
+KESTREL_JSON = EXAMPLE.with_suffix(".json")
 STAMP = "2027-01-01T00:00:00Z"
 
 
@@ -111,3 +116,41 @@ def test_outputs_written_by_another_run_without_a_record_are_not_compared(ran: P
     book.save(ran)
     outcome = run_to(ran, run_time=STAMP)
     assert not outcome.copied and outcome.target == ran
+
+
+# --- the Recalculate button in Excel (through the stand-in for xlwings) ------------------
+
+
+def test_a_note_beside_the_results_is_kept_by_the_recalculate_button(tmp_path: Path):
+    """Pressed once, a note typed beside the Results table (S3) and one below the Permit
+    table: the next press changes nothing and names both; once the notes are moved to a
+    sheet of the user's, the press runs."""
+    book = open_book(fill_template(load_plan(KESTREL_JSON), tmp_path / "k.xlsm", macro=True))
+    assert live.recalculate(book, run_time=STAMP).ok
+    book.sheets[layout.RESULTS].range("S3").value = "Checked with the county, JB"
+    book.sheets[layout.PERMIT_TABLE].range("B60").value = "signed off"
+    results = book._values(layout.RESULTS)
+    outcome = live.recalculate(book, run_time="2027-01-02T00:00:00Z")
+    assert not outcome.ok and len(outcome.problems) == 1
+    said = outcome.problems[0].message
+    assert "Results!S3 'Checked with the county, JB'" in said
+    assert "'Permit table'!B60 'signed off'" in said
+    assert book._values(layout.RESULTS) == results  # the note and the old results
+    book.sheets[layout.RESULTS].range("S3").value = None
+    book.sheets[layout.PERMIT_TABLE].range("B60").value = None
+    assert live.recalculate(book, run_time="2027-01-02T00:00:00Z").ok
+    assert live.recalculate(book, run_time="2027-01-03T00:00:00Z").ok  # nothing typed
+
+
+def test_bounds_kept_for_sheets_of_another_run_are_not_used(tmp_path: Path):
+    """The bounds a press keeps hold its run time; once the Run log shows another (the
+    sheets were written since by `wzq run`, or by a press of an older wzq), they do not
+    describe the sheets, and nothing is compared: every cell of Results lies outside the
+    block of 5 rows and 3 columns these bounds give."""
+    book = open_book(fill_template(load_plan(KESTREL_JSON), tmp_path / "k.xlsx"))
+    assert live.recalculate(book, run_time=STAMP).ok
+    book.names.add("wzq_output_bounds", '="2027-01-09T00:00:00Z|Results:5:3"')
+    assert live.recalculate(book, run_time="2027-01-02T00:00:00Z").ok
+    # the run time of the sheets as they are (the second press): compared, and refused
+    book.names.add("wzq_output_bounds", '="2027-01-02T00:00:00Z|Results:5:3"')
+    assert not live.recalculate(book, run_time="2027-01-03T00:00:00Z").ok

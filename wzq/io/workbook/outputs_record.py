@@ -41,6 +41,7 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from wzq.io.workbook import layout
+from wzq.io.workbook.cellref import cell_ref
 from wzq.io.workbook.reader.skip import SkippingReader
 from wzq.io.workbook.safety import inspect_bytes
 from wzq.io.workbook.windows_cache import kept_sheet
@@ -48,7 +49,11 @@ from wzq.io.workbook.writer import RUN_LOG, RUN_TIME_CELL, put_text
 
 __all__ = [
     "BLOCK",
+    "BOUNDS_NAME",
+    "beyond_bounds",
+    "bounds_text",
     "differences",
+    "read_bounds",
     "read_record",
     "sheet_record",
     "typed_on_outputs",
@@ -189,7 +194,7 @@ def differences(name: str, before: dict[str, Any], now: Worksheet, epoch: dt.dat
     inside = [(r, k, t) for r, k, t in cells if r <= before["rows"] and k <= before["cols"]]
     after = sheet_record(now, epoch, inside)
     outside = [
-        f"{name}!{get_column_letter(k)}{r} {_shown(t)}"
+        f"{cell_ref(name, r, k)} {_shown(t)}"
         for r, k, t in cells
         if r > before["rows"] or k > before["cols"]
     ]
@@ -256,3 +261,51 @@ class _OutputsOnly(SkippingReader):
 
     def skipped(self, listed: list[Any]) -> set[str]:
         return {sheet.name for sheet, _ in listed if sheet.name not in layout.OUTPUT_SHEETS}
+
+
+# --- the Recalculate button in Excel: the block of cells each output sheet was written in
+
+
+#: The defined name in which the Recalculate button in Excel keeps, for the next press,
+#: the run time and the block of cells of each output sheet it wrote.
+BOUNDS_NAME = "wzq_output_bounds"
+
+
+def bounds_text(book: Workbook) -> str:
+    """The run time of ``book``'s output sheets and the block (last row, last column) of
+    each one's non-empty cells, as ``run|Sheet:rows:cols|...`` (no double quotes)."""
+    parts = [(_run_time(book) or "s:")[2:].replace('"', "")]
+    for name in _output_sheets(book):
+        cells = _cells(book[name], book.epoch)
+        rows = max((r for r, _, _ in cells), default=0)
+        cols = max((k for _, k, _ in cells), default=0)
+        parts.append(f"{name}:{rows}:{cols}")
+    return "|".join(parts)
+
+
+def read_bounds(text: str | None) -> tuple[str, dict[str, tuple[int, int]]] | None:
+    """(run time, sheet -> (rows, cols)) from :func:`bounds_text` (``None``: not intact)."""
+    if not text:
+        return None
+    run, *blocks = text.strip().removeprefix("=").strip('"').split("|")
+    found = {}
+    for block in blocks:
+        name, _, size = block.partition(":")
+        rows, _, cols = size.partition(":")
+        if not (rows.isdigit() and cols.isdigit()):
+            return None
+        found[name] = (int(rows), int(cols))
+    return run, found
+
+
+def beyond_bounds(
+    bounds: dict[str, tuple[int, int]], cells: dict[str, list[tuple[int, int, Any]]]
+) -> list[str]:
+    """The cells of each sheet's ``cells`` ((row, column, value), non-empty) outside the
+    block its ``bounds`` give, named with what they hold (the first five, then a count)."""
+    found = []
+    for name, (rows, cols) in bounds.items():
+        for r, k, value in cells.get(name, []):
+            if r > rows or k > cols:
+                found.append(f"{cell_ref(name, r, k)} {_shown('s:' + str(value))}")
+    return found[:5] + ([f"and {len(found) - 5} more cells"] if len(found) > 5 else [])
