@@ -645,6 +645,59 @@ def test_the_blank_hint_gives_the_unit_of_the_files_system(kestrel: bytes) -> No
     assert problem(kestrel, metric, "Site!B9") == "Speed limit is blank; type a number (km/h)"
 
 
+def test_a_number_in_a_percent_cell_of_a_metric_file_is_said_in_its_metric_unit(
+    kestrel: bytes,
+) -> None:
+    # the work-zone length (km in a metric file) given a percent format: 0.5 shows as
+    # 50 % and is read as 0.5 km; the message named it in the metric unit, not in miles
+    def edit(wb: Any) -> None:
+        set_named(wb, "unit_system", "metric")
+        set_named(wb, "site_work_zone_length", 0.5).number_format = "0%"
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    (w,) = [w for w in plan.input_warnings if "percent format" in w]
+    assert w == (
+        "Site!B12: Work-zone length shows 50 % (the cell has a percent format) but is read "
+        "as 0.5 km; give the cell a number format and type the value"
+    )
+
+
+def test_without_a_unit_system_only_the_inputs_without_a_unit_are_held_to_their_range(
+    kestrel: bytes,
+) -> None:
+    # the unit system refused: a speed limit of 900 cannot be judged (mi/h or km/h?) and
+    # waits for the system to be chosen; 150 % of heavy vehicles is wrong in any system
+    def edit(wb: Any) -> None:
+        set_named(wb, "unit_system", "furlongs")
+        set_named(wb, "site_heavy_vehicle_percent", 150)
+        set_named(wb, "site_speed_limit", 900)
+
+    assert read(kestrel, edit) == {
+        "Start!B14": "Unit system: 'furlongs' is not in the list; pick one of 'US customary', "
+        "'metric' from the dropdown",
+        "Site!B13": "Heavy vehicles must be 0 to 100 % (got 150); check the value",
+    }
+
+
+def test_a_percentage_typed_as_words_is_refused_as_text(kestrel: bytes) -> None:
+    # 'about 8 %' ends in '%' but is no number: refused at its cell like any text
+    assert problem(kestrel, named("site_heavy_vehicle_percent", "about 8 %"), "Site!B13") == (
+        "Heavy vehicles: 'about 8 %' is text, not a number; type only the number, without its unit"
+    )
+
+
+def test_a_percent_cell_is_read_as_the_percentage_it_shows_to_the_last_digit(
+    kestrel: bytes,
+) -> None:
+    # 0.07 and 0.123456789012 in percent cells show 7 % and 12.3456789012 %: the decimal
+    # point moved two places (0.07 * 100 is 7.000000000000001 in binary)
+    for stored, pct in ((0.07, 7.0), (0.123456789012, 12.3456789012)):
+        plan = read(kestrel, named("site_heavy_vehicle_percent", stored, "0.00%"))
+        assert isinstance(plan, Plan), plan
+        assert plan.site.heavy_vehicle_share == pct / 100
+
+
 def test_a_required_text_left_blank_asks_to_type_it(kestrel: bytes) -> None:
     def edit(wb: Any) -> None:
         set_named(wb, "demand_mode", "from a count history")

@@ -159,8 +159,9 @@ class Field:
             return False
         return abs(x) < FRACTION_GROWTH if self.unit != "%" else 0 < x <= 1
 
-    def unit_text(self, system: str) -> str:
-        """The unit shown beside the value in the given unit system."""
+    def unit_text(self, system: str | None) -> str:
+        """The unit shown beside the value in the given unit system (US customary for
+        ``None``, before the plan's system is read)."""
         if self.unit in UNIT_KINDS:
             return UNIT_KINDS[self.unit][system == "metric"]
         return self.unit

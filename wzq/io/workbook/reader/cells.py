@@ -7,7 +7,7 @@ from __future__ import annotations
 import contextlib
 import datetime as dt
 import math
-import re
+from decimal import Decimal
 from typing import Any
 
 from openpyxl.cell.cell import ERROR_CODES, MergedCell
@@ -320,20 +320,21 @@ class CellReader:
             return self.date(v, field.label, where)
         percent = field.unit.startswith("%")
         if percent and isinstance(v, str) and v.strip().endswith("%"):
-            digits = v.strip()[:-1].strip()
-            # a comma only as a thousands separator: '1,5 %' (a decimal comma) is not 15 %
-            if "," not in digits or re.fullmatch(r"\d{1,3}(,\d{3})+(\.\d*)?", digits):
-                with contextlib.suppress(ValueError):  # '8 %' typed as text: 8
-                    v, percent_cell = float(digits.replace(",", "")), False
+            # '8 %' typed as text: 8. Not a comma: '1,5 %' (a decimal comma) is not 15 %,
+            # and no percentage input reaches 1,000 % (fields.py), so '1,5 %' stays text
+            with contextlib.suppress(ValueError):
+                v, percent_cell = float(v.strip()[:-1]), False
         x = self.number(v, field.label, where)
         if x is _MISSING:
             return x
         if percent and percent_cell:
-            x = round(x * 100.0, 10)
+            # the percentage the cell shows: the decimal point moved, not x * 100 (0.07
+            # shows as 7 %, and 0.07 * 100 is 7.000000000000001)
+            x = float(Decimal(repr(x)).scaleb(2))
         elif percent and hint:
             self.fraction_hint(x, field, where)
         elif percent_cell:  # not a percentage, in a cell that shows it as one
-            unit = field.unit_text(self.system or "us")
+            unit = field.unit_text(self.system)
             self.note(
                 where,
                 f"{field.label} shows {_fmt(x * 100)} % (the cell has a percent format) but is "
@@ -362,7 +363,7 @@ class CellReader:
             return "type a date, e.g. 2027-05-03"
         if field.kind == "text":
             return "type it"
-        unit = field.unit_text(self.system or "us")
+        unit = field.unit_text(self.system)
         return f"type a number ({unit})" if unit else "type a number"
 
     def text(self, v: Any) -> str:
