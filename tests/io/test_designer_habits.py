@@ -195,3 +195,28 @@ def test_one_demand_merged_over_two_hours_is_read_in_each_and_said(tmp_path):
 def test_a_date_merged_down_its_rows_is_not_said(tmp_path):
     plan = read_plan(_kestrel(tmp_path, lambda b: b["Demand"].merge_cells("A9:A32")))
     assert [w for w in plan.input_warnings if "merged" in w] == []
+
+
+def test_a_ramps_hourly_flows_sorted_on_their_own_are_queried_at_the_ramps_cell(tmp_path):
+    """Brackenholm: the Sorrel Lane on-ramp's 24 hourly flows (Approach!I8:I31, from
+    Thu 2027-06-10 12:00) sorted from largest to smallest with their hours in order."""
+    path = tmp_path / "brackenholm.xlsx"
+    shutil.copyfile(EXAMPLES / "brackenholm_interchange_evening.xlsx", path)
+    book = openpyxl.load_workbook(path)
+    ws = book["Approach"]
+    flows = sorted((ws.cell(r, 9).value for r in range(8, 32)), reverse=True)
+    for r, q in zip(range(8, 32), flows, strict=True):
+        ws.cell(r, 9).value = q
+    book.save(path)
+    plan = read_plan(path)
+    said = plausibility.sorted_demand(plan)
+    assert len(said) == 1
+    assert said[0].startswith(
+        "Approach!I8: the 'Sorrel Lane on-ramp' only falls from Thu 2027-06-10 12:00 to "
+        f"Fri 2027-06-11 11:00 ({flows[0]:,} to {flows[-1]:,} veh/h)"
+    )
+    assert "was the ramp's column sorted on its own" in said[0]
+    assert (
+        plausibility.sorted_demand(read_plan(EXAMPLES / "brackenholm_interchange_evening.xlsx"))
+        == []
+    )

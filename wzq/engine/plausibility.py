@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import datetime as dt
 import re
+from functools import partial
 
 import numpy as np
 
@@ -608,8 +609,21 @@ def _monotone_runs(q: np.ndarray, rising: bool) -> list[tuple[int, int]]:
     return list(zip(starts.tolist(), ends.tolist(), strict=True))
 
 
+def _sorted_run(q: np.ndarray, interval_s: int) -> tuple[int, int, bool] | None:
+    """(first, last, rising) of the first run of ``q`` over :data:`SORTED_SPAN_H` hours
+    or more that only rises or only falls through :data:`SORTED_DISTINCT` or more
+    different flows (``None``: none)."""
+    span = round(SORTED_SPAN_H * 3600 / interval_s)
+    for rising in (True, False):
+        for first, last in _monotone_runs(q, rising):
+            if last - first + 1 >= span and len(np.unique(q[first : last + 1])) >= SORTED_DISTINCT:
+                return first, last, rising
+    return None
+
+
 def sorted_demand(plan: Plan) -> list[str]:
-    """A day of demand that only rises or only falls: the demand column sorted on its own.
+    """A day of demand, or of a ramp's hourly flows, that only rises or only falls: the
+    column sorted on its own.
 
     Traffic follows a daily cycle, low at night and high by day, so no
     :data:`SORTED_SPAN_H` hours of real demand in a row only rise or only fall
@@ -620,23 +634,26 @@ def sorted_demand(plan: Plan) -> list[str]:
     queried).
     """
     d = plan.demand
-    q = d.flows_veh_h
-    span = round(SORTED_SPAN_H * 3600 / d.interval_s)
-    for rising in (True, False):
-        for first, last in _monotone_runs(q, rising):
-            run = q[first : last + 1]
-            if last - first + 1 < span or len(np.unique(run)) < SORTED_DISTINCT:
-                continue
-            t0 = d.start + dt.timedelta(seconds=first * d.interval_s)
-            t1 = d.start + dt.timedelta(seconds=last * d.interval_s)
-            return [
-                f"{plan.where(demand_key(first))}: the demand only "
-                f"{'rises' if rising else 'falls'} from {_when(t0)} to {_when(t1)} "
-                f"({run[0]:,.0f} to {run[-1]:,.0f} veh/h), where traffic rises and falls "
-                "over each day: was the demand column sorted on its own, away from its dates "
-                "and times? Check the counts against their hours"
-            ]
-    return []
+    columns = [("demand", "demand", d.flows_veh_h, d.interval_s, demand_key)]
+    for i, lm in enumerate(plan.approach.landmarks):
+        if lm.ramp_veh_h is not None:
+            key = partial("approach.landmarks[{}].veh_h[{}]".format, i)
+            columns.append((f"'{lm.name}'", "ramp's", np.asarray(lm.ramp_veh_h), 3600, key))
+    out = []
+    for what, column, q, interval_s, key in columns:
+        found = _sorted_run(q, interval_s)
+        if found is None:
+            continue
+        first, last, rising = found
+        t0 = d.start + dt.timedelta(seconds=first * interval_s)
+        t1 = d.start + dt.timedelta(seconds=last * interval_s)
+        out.append(
+            f"{plan.where(key(first))}: the {what} only {'rises' if rising else 'falls'} "
+            f"from {_when(t0)} to {_when(t1)} ({q[first]:,.0f} to {q[last]:,.0f} veh/h), "
+            f"where traffic rises and falls over each day: was the {column} column sorted "
+            "on its own, away from its dates and times? Check the counts against their hours"
+        )
+    return out
 
 
 def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
