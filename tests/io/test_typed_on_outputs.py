@@ -9,6 +9,7 @@ byte as it was and writes the results to a copy, naming what was typed.
 from __future__ import annotations
 
 import dataclasses
+import io
 import shutil
 from pathlib import Path
 
@@ -22,9 +23,10 @@ import wzq
 from wzq.engine.problems import PlanError
 from wzq.io.jsonplan import load_plan
 from wzq.io.live import backend as live
-from wzq.io.workbook import layout
+from wzq.io.workbook import layout, outputs_record
 from wzq.io.workbook.outputs import write_results
 from wzq.io.workbook.reader import read_plan
+from wzq.io.workbook.reader.skip import load_skipping_outputs
 from wzq.io.workbook.run import run_to
 
 EXAMPLE = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.xlsx"
@@ -83,7 +85,7 @@ def test_a_comment_and_a_print_orientation_are_named(ran: Path):
     outcome = run_to(ran, run_time=STAMP)
     assert outcome.copied and ran.read_bytes() == before
     said = " ".join(outcome.notes)
-    assert "Summary: a comment added or changed" in said
+    assert "Summary: a comment added or removed" in said
     assert "Permit table: the print orientation changed" in said
 
 
@@ -154,3 +156,30 @@ def test_bounds_kept_for_sheets_of_another_run_are_not_used(tmp_path: Path):
     # the run time of the sheets as they are (the second press): compared, and refused
     book.names.add("wzq_output_bounds", '="2027-01-02T00:00:00Z|Results:5:3"')
     assert not live.recalculate(book, run_time="2027-01-03T00:00:00Z").ok
+
+
+def test_the_sheets_read_from_the_packages_xml_are_those_openpyxl_reads(ran: Path):
+    """The quick reading of the output sheets (regular expressions over the XML) gives
+    every cell and extra exactly as openpyxl's parse does, on a sheet of every kind and
+    with what a designer adds: a note (shared string with an ampersand), a number, a
+    comment, a landscape Summary."""
+
+    def change(book):
+        book[layout.RESULTS]["S3"] = "checked & agreed <JB>"
+        book[layout.RESULTS]["T4"] = 1234.5
+        book[layout.SUMMARY]["A1"].comment = Comment("agreed", "JB")
+        book[layout.SUMMARY].page_setup.orientation = "landscape"
+
+    data = _edit(ran, change)
+    book = load_skipping_outputs(io.BytesIO(data), keep_links=True)
+    quick = outputs_record.package_sheets(data, book)
+    parsed = openpyxl.load_workbook(io.BytesIO(data))
+    assert quick is not None and set(quick) == set(layout.OUTPUT_SHEETS)
+    for name in layout.OUTPUT_SHEETS:
+        ws = parsed[name]
+        assert quick[name] == (outputs_record._cells(ws, parsed.epoch), outputs_record._extras(ws))
+    assert (3, 19, "s:checked & agreed <JB>") in quick[layout.RESULTS][0]
+    assert (4, 20, "n:1234.5") in quick[layout.RESULTS][0]
+    assert quick[layout.SUMMARY][1]["comments"] == 1
+    assert quick[layout.SUMMARY][1]["orientation"] == "landscape"
+    assert quick[layout.CHARTS][1]["charts"] == 3  # demand and capacity, queue, cumulative
