@@ -184,10 +184,12 @@ def write_record(book: Workbook, ws_cache: Worksheet) -> None:
 
 def read_record(ws_cache: Worksheet | None) -> dict[str, Any] | None:
     """The record kept on the cache sheet (``None``: none, or not intact)."""
-    if ws_cache is None or ws_cache.cell(1, COLUMN).value != _LABEL:
+    held = {} if ws_cache is None else ws_cache._cells  # (asking for a cell would add it)
+    label = held.get((1, COLUMN))
+    if label is None or label.value != _LABEL:
         return None
-    chunks = ws_cache.iter_rows(min_row=2, min_col=COLUMN, max_col=COLUMN, values_only=True)
-    text = "".join(str(v) for (v,) in chunks if v)
+    chunks = sorted((r, c.value) for (r, k), c in held.items() if k == COLUMN and r > 1)
+    text = "".join(str(v) for _, v in chunks if v)
     try:
         record = json.loads(zlib.decompress(base64.b64decode(text, validate=True)))
     except (ValueError, zlib.error):
@@ -259,9 +261,12 @@ def typed_since(record: dict[str, Any] | None, sheets: dict[str, Sheet]) -> list
     if record is None or record.get("run") != run_log.get(coordinate_to_tuple(RUN_TIME_CELL)):
         return []  # outputs another run wrote (the Recalculate button in Excel keeps none)
     found = []
-    for name, before in record.get("sheets", {}).items():
-        if name in layout.OUTPUT_SHEETS and name in sheets:
-            found += differences(name, before, sheets[name])
+    try:
+        for name, before in record.get("sheets", {}).items():
+            if name in layout.OUTPUT_SHEETS and name in sheets:
+                found += differences(name, before, sheets[name])
+    except (AttributeError, KeyError, TypeError, ValueError):
+        return []  # a record that is not wzq's as written: nothing to compare with
     return found
 
 
