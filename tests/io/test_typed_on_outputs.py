@@ -13,6 +13,7 @@ import io
 import shutil
 from pathlib import Path
 
+import numpy as np
 import openpyxl
 import pytest
 from fake_xlwings import open_book
@@ -23,7 +24,7 @@ import wzq
 from wzq.engine.problems import PlanError
 from wzq.io.jsonplan import load_plan
 from wzq.io.live import backend as live
-from wzq.io.workbook import layout, outputs_record
+from wzq.io.workbook import layout, outputs_record, windows_cache
 from wzq.io.workbook.outputs import write_results
 from wzq.io.workbook.reader import read_plan
 from wzq.io.workbook.reader.skip import load_skipping_outputs
@@ -183,3 +184,20 @@ def test_the_sheets_read_from_the_packages_xml_are_those_openpyxl_reads(ran: Pat
     assert quick[layout.SUMMARY][1]["comments"] == 1
     assert quick[layout.SUMMARY][1]["orientation"] == "landscape"
     assert quick[layout.CHARTS][1]["charts"] == 3  # demand and capacity, queue, cumulative
+
+
+def test_the_cache_sheet_libreoffice_saved_as_hidden_is_wzqs_and_kept_as_it_is():
+    """LibreOffice saves a very hidden sheet as hidden, with a page setup of its own:
+    the sheet is still wzq's cache (very hidden again), written in place, so nothing
+    LibreOffice added to it is lost (which would send every run to a copy)."""
+    book = openpyxl.Workbook()
+    tables = [np.ones((4, 5), dtype=bool)]
+    windows_cache.write_tables(book, "k" * 64, tables)
+    ws = book[windows_cache.CACHE_SHEET]
+    ws.sheet_state = "hidden"
+    ws.page_setup.orientation = "portrait"
+    windows_cache.write_tables(book, "j" * 64, tables)
+    assert book[windows_cache.CACHE_SHEET] is ws and ws.sheet_state == "veryHidden"
+    assert ws.page_setup.orientation == "portrait"
+    assert windows_cache.read_tables(book, "j" * 64, 4) is not None
+    assert windows_cache.read_tables(book, "k" * 64, 4) is None

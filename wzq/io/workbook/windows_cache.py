@@ -60,6 +60,8 @@ __all__ = [
 CACHE_SHEET = "wzq cache"
 #: Changed whenever what is stored changes meaning.
 FORMAT = 1
+#: Columns of the cache sheet the tables take (row 2: what they are, then the text).
+_COLUMNS = 4
 #: Characters of base64 per cell (a cell holds 32,767).
 CHUNK = 32_000
 _TITLE = "wzq keeps the closure-window search here, keyed by its inputs; it rebuilds it."
@@ -165,16 +167,17 @@ def cache_sheet(book: Workbook) -> Worksheet | None:
 
 def write_tables(book: Workbook, key: str, tables: Sequence[np.ndarray]) -> None:
     """Keep ``tables`` under ``key`` on the cache sheet (made, very hidden, just before
-    the output sheets when missing; replaced when present; nothing is kept when a sheet
-    of the user's carries its name)."""
+    the output sheets when missing; its first columns cleared and written again when
+    present, the sheet itself kept with what a spreadsheet program added to it, such as
+    LibreOffice's page setup; nothing is kept when a sheet of the user's carries its
+    name)."""
     packed = b"".join(np.packbits(t.ravel()).tobytes() for t in tables)
     text = base64.b64encode(zlib.compress(packed, 6)).decode("ascii")
-    if CACHE_SHEET in book.sheetnames:
-        if not _ours(book):
-            return  # a sheet of the user's with this name is never touched: no cache
-        book.remove(book[CACHE_SHEET])
     ws = cache_sheet(book)
-    assert ws is not None  # (just removed)
+    if ws is None:
+        return  # a sheet of the user's with this name is never touched: no cache
+    for at in [at for at in ws._cells if at[0] > 1 and at[1] <= _COLUMNS]:
+        del ws._cells[at]  # the tables kept before (the record beside them stays)
     for col, value in enumerate(
         ("windows", key, hashlib.sha256(packed).hexdigest(), len(tables)), start=1
     ):
