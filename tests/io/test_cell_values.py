@@ -35,8 +35,10 @@ from workbook_helpers import (
 )
 
 from wzq.engine.plan import Plan
+from wzq.io import fields as F
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook import layout as L
+from wzq.io.workbook.reader import BookReader
 from wzq.io.workbook.reader.values import contrast, unseen
 
 KESTREL = Path(__file__).resolve().parents[2] / "examples" / "kestrel_ridge_weeknight.json"
@@ -678,6 +680,41 @@ def test_without_a_unit_system_only_the_inputs_without_a_unit_are_held_to_their_
         "'metric' from the dropdown",
         "Site!B13": "Heavy vehicles must be 0 to 100 % (got 150); check the value",
     }
+
+
+def test_without_a_unit_system_two_speeds_are_still_compared(kestrel: bytes) -> None:
+    # both speeds are in the one unit the file will have, whichever it is: a work-zone
+    # limit above the speed limit is named now, not after the unit system is mended
+    def edit(wb: Any) -> None:
+        set_named(wb, "unit_system", "furlongs")
+        set_named(wb, "site_speed_limit", 30)
+        set_named(wb, "site_work_zone_speed_limit", 45)
+
+    assert read(kestrel, edit)["Site!B10"] == (
+        "the work-zone speed limit (45) is above the speed limit (30); check both"
+    )
+
+
+def test_a_value_out_of_range_is_said_once_not_again_by_the_checks_that_use_it(
+    kestrel: bytes,
+) -> None:
+    # 5 mi/h is refused at its cell; the work-zone limit (45 mi/h) is not then said to be
+    # above it: one mistake, one message
+    assert read(kestrel, named("site_speed_limit", 5)) == {
+        "Site!B9": "Speed limit must be 10 to 90 mi/h (got 5); check the value and its unit"
+    }
+
+
+def test_a_value_out_of_range_in_a_metric_file_is_said_in_its_metric_unit(
+    kestrel: bytes,
+) -> None:
+    def edit(wb: Any) -> None:
+        set_named(wb, "unit_system", "metric")
+        set_named(wb, "site_speed_limit", 900)
+
+    assert problem(kestrel, edit, "Site!B9") == (
+        "Speed limit must be 15 to 150 km/h (got 900); check the value and its unit"
+    )
 
 
 def test_a_percentage_typed_as_words_is_refused_as_text(kestrel: bytes) -> None:
@@ -1341,3 +1378,14 @@ def test_a_percentage_typed_as_text_with_a_decimal_comma_is_refused(kestrel: byt
     plan = read(kestrel, named("site_heavy_vehicle_percent", "12.5 %"))
     assert isinstance(plan, Plan), plan
     assert plan.site.heavy_vehicle_share == pytest.approx(0.125)
+
+
+def test_a_number_input_without_bounds_takes_any_finite_number() -> None:
+    # every number input of the template has bounds today; one declared without them
+    # must keep its value, not lose it without a problem
+    reader = BookReader(openpyxl.Workbook(), "book.xlsx", None)
+    reader.system = "metric"
+    field = F.Field("spare", "Spare", "number", "veh/h")
+    assert reader.convert(5e9, field, "Site!B99") == 5e9
+    assert reader.convert(-2.5, field, "Site!B99") == -2.5
+    assert not reader.problems

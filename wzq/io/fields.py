@@ -145,8 +145,8 @@ class Field:
     def required(self) -> bool:
         return self.blank is REQUIRED
 
-    def limits(self, system: str) -> tuple[float, float] | None:
-        """The allowed range in the given unit system."""
+    def limits(self, system: str | None) -> tuple[float, float] | None:
+        """The allowed range in the given unit system (US customary for ``None``)."""
         if system == "metric" and self.metric_bounds is not None:
             return self.metric_bounds
         return self.bounds

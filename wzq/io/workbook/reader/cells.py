@@ -399,12 +399,11 @@ class CellReader:
     def in_range(self, x: float, field: F.Field, where: str) -> bool:
         if field.unit in F.UNIT_KINDS and self.system is None:
             return True
-        system = self.system or "us"
-        limits = field.limits(system)
+        limits = field.limits(self.system)  # no unit, or the system is known
         if limits is None:
             return True
         lo, hi = limits
-        unit = field.unit_text(system)
+        unit = field.unit_text(self.system)
         unit_s = f" {unit}" if unit and unit not in ("year", "ratio") else ""
         too_low = x <= lo if field.open_lo else x < lo
         too_high = x >= hi if field.open_hi else x > hi
