@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import datetime as dt
 import re
+from functools import partial
 
 import numpy as np
 
@@ -37,6 +38,9 @@ __all__ = [
     "NEIGHBOURS",
     "OLD_COUNT_YEARS",
     "SHORT_DELAY_LIMIT_S",
+    "SORTED_DISTINCT",
+    "SORTED_SPAN_H",
+    "THOUSANDS_BELOW",
     "above_open_road",
     "days_left_out_not_counted",
     "delay_limit_in_hours",
@@ -51,6 +55,8 @@ __all__ = [
     "override_above_open_road",
     "shares_as_flows",
     "site_ranges",
+    "sorted_demand",
+    "thousands_as_decimals",
     "unused_by_method",
     "value_of_time_per_minute",
     "warnings",
@@ -94,6 +100,14 @@ FRACTION_PERCENTILE = 1.0
 JAM_SPACING_MIN_M = 6.0
 #: A heavy-vehicle share above this is queried (common practice, no source).
 MANY_HEAVY_SHARE = 0.5
+#: Hours of demand in a row that only rise or only fall before they are queried as a
+#: sorted demand column: a day (common practice, no source).
+SORTED_SPAN_H = 24.0
+#: Different flows such a run must hold to be queried (common practice, no source).
+SORTED_DISTINCT = 6
+#: Flows below this (veh/h) with up to three decimals, by day, are queried as counts of
+#: thousands typed with another locale's thousands separator (common practice, no source).
+THOUSANDS_BELOW = 10.0
 #: Warnings of one kind listed one by one before the rest are counted.
 MAX_LISTED = 5
 
@@ -547,6 +561,101 @@ def site_ranges(plan: Plan) -> list[str]:
     return out
 
 
+def thousands_as_decimals(plan: Plan) -> list[str]:
+    """Daytime flows such as 1.5 veh/h among flows of hundreds: counts of thousands
+    typed or pasted with the thousands separator of another locale ("1.500" for 1,500
+    read as 1.5 by a spreadsheet set to a decimal point).
+
+    Interval ``i`` is queried when its clock hour is daytime (:data:`DAY_START_HOUR` to
+    :data:`DAY_END_HOUR`), its flow is above 0 and below :data:`THOUSANDS_BELOW` veh/h
+    and not whole but whole once multiplied by 1,000, and the busiest interval of the
+    demand carries at least :data:`BUSY_VEH_H_LN` per lane, or none carries
+    :data:`THOUSANDS_BELOW` (every count of the demand in thousands; common practice,
+    no source).
+    The first is named, the others counted.
+    """
+    d = plan.demand
+    q = d.flows_veh_h
+    busy = BUSY_VEH_H_LN * plan.site.lanes
+    if not len(q) or THOUSANDS_BELOW <= float(q.max()) < busy:
+        return []
+    scaled = q * 1000.0
+    odd = (q > 0) & (q < THOUSANDS_BELOW) & (q != np.round(q))
+    odd &= np.abs(scaled - np.round(scaled)) < 1e-6
+    found = []
+    for i in np.flatnonzero(odd).tolist():
+        t = d.start + dt.timedelta(seconds=i * d.interval_s)
+        if DAY_START_HOUR <= t.hour < DAY_END_HOUR:
+            found.append((i, t))
+    if not found:
+        return []
+    i, t = found[0]
+    more = f" (and {len(found) - 1} more daytime flows like it)" if len(found) > 1 else ""
+    return [
+        f"{plan.where(demand_key(i))}: demand {q[i]:g} veh/h at {_when(t)}{more}, among "
+        f"flows up to {float(q.max()):,.0f} veh/h: a count of {q[i] * 1000:,.0f} typed or "
+        f"pasted with the thousands separator of another locale ('{q[i]:.3f}' read as "
+        f"{q[i]:g})? Type the counts as plain whole numbers"
+    ]
+
+
+def _monotone_runs(q: np.ndarray, rising: bool) -> list[tuple[int, int]]:
+    """(first, last) interval of each maximal run over which ``q`` never falls
+    (``rising``) or never rises."""
+    step = np.diff(q) if rising else -np.diff(q)
+    breaks = np.flatnonzero(step < 0) + 1  # a run ends before each interval that turns back
+    starts = np.concatenate(([0], breaks))
+    ends = np.concatenate((breaks - 1, [len(q) - 1]))
+    return list(zip(starts.tolist(), ends.tolist(), strict=True))
+
+
+def _sorted_run(q: np.ndarray, interval_s: int) -> tuple[int, int, bool] | None:
+    """(first, last, rising) of the first run of ``q`` over :data:`SORTED_SPAN_H` hours
+    or more that only rises or only falls through :data:`SORTED_DISTINCT` or more
+    different flows (``None``: none)."""
+    span = round(SORTED_SPAN_H * 3600 / interval_s)
+    for rising in (True, False):
+        for first, last in _monotone_runs(q, rising):
+            if last - first + 1 >= span and len(np.unique(q[first : last + 1])) >= SORTED_DISTINCT:
+                return first, last, rising
+    return None
+
+
+def sorted_demand(plan: Plan) -> list[str]:
+    """A day of demand, or of a ramp's hourly flows, that only rises or only falls: the
+    column sorted on its own.
+
+    Traffic follows a daily cycle, low at night and high by day, so no
+    :data:`SORTED_SPAN_H` hours of real demand in a row only rise or only fall
+    (common practice, no source); counts that do are what a spreadsheet gives when
+    the demand column alone is sorted ("continue with the current selection"), its
+    dates and times left in order. Queried when such a run holds at least
+    :data:`SORTED_DISTINCT` different flows (a plan of a few constant steps is not
+    queried).
+    """
+    d = plan.demand
+    columns = [("demand", "demand", d.flows_veh_h, d.interval_s, demand_key)]
+    for i, lm in enumerate(plan.approach.landmarks):
+        if lm.ramp_veh_h is not None:
+            key = partial("approach.landmarks[{}].veh_h[{}]".format, i)
+            columns.append((f"'{lm.name}'", "ramp's", np.asarray(lm.ramp_veh_h), 3600, key))
+    out = []
+    for what, column, q, interval_s, key in columns:
+        found = _sorted_run(q, interval_s)
+        if found is None:
+            continue
+        first, last, rising = found
+        t0 = d.start + dt.timedelta(seconds=first * interval_s)
+        t1 = d.start + dt.timedelta(seconds=last * interval_s)
+        out.append(
+            f"{plan.where(key(first))}: the {what} only {'rises' if rising else 'falls'} "
+            f"from {_when(t0)} to {_when(t1)} ({q[first]:,.0f} to {q[last]:,.0f} veh/h), "
+            f"where traffic rises and falls over each day: was the {column} column sorted "
+            "on its own, away from its dates and times? Check the counts against their hours"
+        )
+    return out
+
+
 def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     """Every plausibility warning for ``plan``; ``open_capacity_veh_h`` is the open
     road's pre-breakdown capacity with all lanes open (veh/h)."""
@@ -567,6 +676,8 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *dense_jam(plan),
         *near_zero_demand(plan),
         *shares_as_flows(plan),
+        *sorted_demand(plan),
+        *thousands_as_decimals(plan),
         *percentile_as_fraction(plan),
         *old_counts_not_grown(plan),
         *days_left_out_not_counted(plan),

@@ -55,9 +55,10 @@ from wzq.io.live.sheets import Skipped, excel_literal, write_sheet
 from wzq.io.workbook import layout
 from wzq.io.workbook.layout import MARKER_NAME, written_sheets
 from wzq.io.workbook.outputs import decide_outputs, write_outputs
+from wzq.io.workbook.outputs_record import BOUNDS_NAME, beyond_bounds, bounds_text, read_bounds
 from wzq.io.workbook.reader import read_plan_from_book
 from wzq.io.workbook.safety import LIMITS
-from wzq.io.workbook.writer import check_output_sheets, put_text
+from wzq.io.workbook.writer import RUN_TIME_CELL, check_output_sheets, put_text
 
 __all__ = [
     "ALERT_LINES",
@@ -336,6 +337,49 @@ def _remove_problems_sheet(book: Any) -> None:
 # --- writing ----------------------------------------------------------------------------
 
 
+def _beyond(sheet: Any, rows: int, cols: int) -> list[tuple[int, int, Any]]:
+    """(row, column, value) of the non-empty cells of ``sheet`` below row ``rows`` or
+    right of column ``cols`` (the two blocks beside what wzq wrote, read in two steps)."""
+    used = sheet.used_range
+    last_row, last_col = used.row + used.shape[0] - 1, used.column + used.shape[1] - 1
+    found = []
+    for r0, c0, r1, c1 in ((rows + 1, 1, last_row, last_col), (1, cols + 1, rows, last_col)):
+        if r1 < r0 or c1 < c0:
+            continue
+        values = sheet.range((r0, c0), (r1, c1)).options(ndim=2, err_to_str=True).value or []
+        for i, row in enumerate(values):
+            found += [(r0 + i, c0 + j, v) for j, v in enumerate(row) if v not in (None, "")]
+    return found
+
+
+def _typed_on_outputs(book: Any, mirror: Workbook) -> None:
+    """Refuse, before anything changes, when cells were typed on the output sheets beside
+    or below what the last press wrote (:data:`~wzq.io.workbook.outputs_record.BOUNDS_NAME`),
+    while they are still the sheets of that press (its run time on the Run log): the
+    press replaces those sheets. Nothing is said for sheets another run wrote."""
+    dn = mirror.defined_names.get(BOUNDS_NAME)
+    kept = read_bounds(dn.attr_text if dn is not None else None)
+    names = _sheet_names(book)
+    if kept is None or layout.RUN_LOG not in names:
+        return
+    run, bounds = kept
+    if str(book.sheets[layout.RUN_LOG].range(RUN_TIME_CELL).value) != run:
+        return
+    cells = {n: _beyond(book.sheets[n], *bounds[n]) for n in bounds if n in names}
+    found = beyond_bounds(bounds, cells)
+    if found:
+        raise PlanError(
+            [
+                Problem(
+                    book.name,
+                    f"what was typed on wzq's output sheets since the last Recalculate "
+                    f"({'; '.join(found)}) would be replaced by the new results: move it to "
+                    "a sheet of your own, then press Recalculate again (nothing was changed)",
+                )
+            ]
+        )
+
+
 def replace_output_sheets(book: Any, out: Workbook) -> Skipped:
     """Put the output sheets the writer made in ``out`` into the live workbook.
 
@@ -602,11 +646,13 @@ def recalculate(book: Any = None, *, run_time: str | None = None) -> Outcome:
         mirror = mirror_book(book)
         plan = read_plan_from_book(mirror, book.name, folder=book_folder(book))
         check_output_sheets(mirror)  # the writer's ownership rule, before anything changes
+        _typed_on_outputs(book, mirror)  # and nothing typed there since the last press
         outputs = decide_outputs(wzq.analyse(plan))  # the Site sheet's space-time option too
         out = Workbook()
         write_outputs(out, outputs, source=book.name, run_time=run_time)
         skipped = replace_output_sheets(book, out)
         _add_pictures(book, out, skipped)
+        book.names.add(BOUNDS_NAME, f'="{bounds_text(out)}"')  # for the next press
         _note_skipped(book, skipped)
         return Outcome(result=outputs.result, skipped=list(skipped))
     except PlanError as e:

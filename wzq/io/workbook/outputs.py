@@ -28,11 +28,12 @@ from wzq.engine.risk_windows import closure_windows
 from wzq.engine.windows import too_long, too_long_text
 from wzq.io.workbook import layout
 from wzq.io.workbook.charts import write_charts
+from wzq.io.workbook.outputs_record import write_record
 from wzq.io.workbook.permit_sheet import write_permit_sheet
 from wzq.io.workbook.results_sheet import write_results_sheet
 from wzq.io.workbook.run_log_sheet import write_run_log
 from wzq.io.workbook.summary_sheet import write_summary_sheet
-from wzq.io.workbook.windows_cache import cached_plan_windows
+from wzq.io.workbook.windows_cache import cache_sheet, cached_plan_windows
 from wzq.io.workbook.windows_sheet import write_windows_sheet
 from wzq.io.workbook.writer import (
     CELL_PADDING,
@@ -141,7 +142,8 @@ def write_outputs(
     Touches nothing else: no input cell, style, name or sheet of the user's.
     ``run_time`` (UTC, ISO 8601) defaults to now; ``notes`` go to the Run log.
     With ``cache`` the closure-window search is taken from, or kept in, the
-    workbook's cache sheet (:mod:`wzq.io.workbook.windows_cache`).
+    workbook's cache sheet (:mod:`wzq.io.workbook.windows_cache`), and so is the
+    record of the output sheets as written (:mod:`wzq.io.workbook.outputs_record`).
     Returns where the Results and Permit tables sit.
     """
     result = outputs.result
@@ -178,6 +180,8 @@ def write_outputs(
 
         place_space_time(book, outputs.picture)
     select(book, sheets[SUMMARY])
+    if cache and (kept := cache_sheet(book)) is not None:
+        write_record(book, kept)  # so the next run sees what is typed on these sheets
     return refs
 
 

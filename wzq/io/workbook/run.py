@@ -39,6 +39,7 @@ from wzq.io.workbook.formula_values import WithSavedResults
 from wzq.io.workbook.history_typing import from_count_file, type_history
 from wzq.io.workbook.kept import ContentLost, keeps_everything
 from wzq.io.workbook.outputs import decide_outputs, write_outputs
+from wzq.io.workbook.outputs_record import typed_on_outputs
 from wzq.io.workbook.reader import book_from_bytes, read_plan_from_book
 from wzq.io.workbook.safety import PackageReport, read_checked
 from wzq.io.workbook.save import (
@@ -211,6 +212,13 @@ def _kept_words(src: Path, parts: str) -> str:
     return f"{src.name} holds content wzq cannot keep when it saves the workbook ({parts})"
 
 
+def _typed_words(src: Path, parts: str) -> str:
+    return (
+        f"what was typed on wzq's output sheets of {src.name} since its last run ({parts}) "
+        "would be replaced by the new results (move it to a sheet of your own)"
+    )
+
+
 def _not_kept(src: Path, parts: str) -> PlanError:
     """Refusing to write back (``unkept="refuse"``): what would be lost and what to do."""
     return PlanError(
@@ -278,6 +286,9 @@ def run_to(
             )
         elif unkept == "refuse":
             raise _not_kept(src, parts)
+    typed = typed_on_outputs(book, data, src) if in_place else []
+    if typed and unkept == "refuse":
+        raise PlanError([Problem(str(src), _typed_words(src, _unkept_text(typed)))])
     check_writable(target, office_profile=office_profile)
     plan = read_plan_from_book(book, src.name, src, data=data)
     result = wzq.analyse(plan)
@@ -299,6 +310,8 @@ def run_to(
 
     if in_place and report.unkept:  # known before writing: the copy at once
         return to_copy(_kept_words(src, _unkept_text(report.unkept)))
+    if in_place and typed:
+        return to_copy(_typed_words(src, _unkept_text(typed)))
     write(book, notes)
     if not in_place:
         save_atomic(WithSavedResults(book, data), target, office_profile=office_profile)

@@ -15,7 +15,8 @@ always); any change of those inputs, of wzq's version or code, or of the cells
 themselves means a new search. A search at a risk (on a count history's scenarios) is
 never cached. The sheet is not an output sheet: it is not in the marker of the sheets
 wzq wrote, the plan reader ignores it as it ignores every sheet that is not an input,
-and it sits just before the output sheets.
+and it sits just before the output sheets. Its sixth column holds the record of the
+output sheets as the last run wrote them (:mod:`wzq.io.workbook.outputs_record`).
 """
 
 from __future__ import annotations
@@ -31,6 +32,7 @@ from pathlib import Path
 
 import numpy as np
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
 
 import wzq
 from wzq import engine, models
@@ -44,8 +46,10 @@ from wzq.io.workbook.writer import put_text
 
 __all__ = [
     "CACHE_SHEET",
+    "cache_sheet",
     "cached_plan_windows",
     "code_digest",
+    "kept_sheet",
     "read_tables",
     "stored_tables",
     "windows_key",
@@ -56,6 +60,8 @@ __all__ = [
 CACHE_SHEET = "wzq cache"
 #: Changed whenever what is stored changes meaning.
 FORMAT = 1
+#: Columns of the cache sheet the tables take (row 2: what they are, then the text).
+_COLUMNS = 4
 #: Characters of base64 per cell (a cell holds 32,767).
 CHUNK = 32_000
 _TITLE = "wzq keeps the closure-window search here, keyed by its inputs; it rebuilds it."
@@ -108,7 +114,13 @@ def _ours(book: Workbook) -> bool:
     if CACHE_SHEET not in book.sheetnames:
         return False
     ws = book[CACHE_SHEET]
-    return ws.sheet_state == "veryHidden" and ws["A1"].value == _TITLE
+    # LibreOffice saves a very hidden sheet as hidden
+    return ws.sheet_state in ("veryHidden", "hidden") and ws["A1"].value == _TITLE
+
+
+def kept_sheet(book: Workbook) -> Worksheet | None:
+    """wzq's cache sheet of ``book`` (``None``: none, or a sheet of the user's of that name)."""
+    return book[CACHE_SHEET] if _ours(book) else None
 
 
 def read_tables(book: Workbook, key: str, n: int) -> list[np.ndarray] | None:
@@ -138,24 +150,38 @@ def read_tables(book: Workbook, key: str, n: int) -> list[np.ndarray] | None:
     ]
 
 
-def write_tables(book: Workbook, key: str, tables: Sequence[np.ndarray]) -> None:
-    """Keep ``tables`` under ``key`` on the cache sheet (made, very hidden, just before
-    the output sheets when missing; replaced when present; nothing is kept when a sheet
-    of the user's carries its name)."""
-    packed = b"".join(np.packbits(t.ravel()).tobytes() for t in tables)
-    text = base64.b64encode(zlib.compress(packed, 6)).decode("ascii")
+def cache_sheet(book: Workbook) -> Worksheet | None:
+    """wzq's cache sheet of ``book``, made (very hidden, just before the output sheets)
+    when missing (very hidden again when LibreOffice saved it as hidden); ``None`` when
+    a sheet of the user's carries its name (never touched)."""
     if CACHE_SHEET in book.sheetnames:
-        if not _ours(book):
-            return  # a sheet of the user's with this name is never touched: no cache
-        book.remove(book[CACHE_SHEET])
+        if (ws := kept_sheet(book)) is not None:
+            ws.sheet_state = "veryHidden"
+        return ws
     outputs = [i for i, ws in enumerate(book.worksheets) if ws.title in layout.OUTPUT_SHEETS]
     ws = book.create_sheet(CACHE_SHEET, min(outputs, default=len(book.worksheets)))
     ws.sheet_state = "veryHidden"
+    put_text(ws, 1, 1, _TITLE)
+    return ws
+
+
+def write_tables(book: Workbook, key: str, tables: Sequence[np.ndarray]) -> None:
+    """Keep ``tables`` under ``key`` on the cache sheet (made, very hidden, just before
+    the output sheets when missing; its first columns cleared and written again when
+    present, the sheet itself kept with what a spreadsheet program added to it, such as
+    LibreOffice's page setup; nothing is kept when a sheet of the user's carries its
+    name)."""
+    packed = b"".join(np.packbits(t.ravel()).tobytes() for t in tables)
+    text = base64.b64encode(zlib.compress(packed, 6)).decode("ascii")
+    ws = cache_sheet(book)
+    if ws is None:
+        return  # a sheet of the user's with this name is never touched: no cache
+    for at in [at for at in ws._cells if at[0] > 1 and at[1] <= _COLUMNS]:
+        del ws._cells[at]  # the tables kept before (the record beside them stays)
     for col, value in enumerate(
         ("windows", key, hashlib.sha256(packed).hexdigest(), len(tables)), start=1
     ):
         put_text(ws, 2, col, value)
-    put_text(ws, 1, 1, _TITLE)
     for i in range(0, len(text), CHUNK):  # text always (a chunk may start with '=')
         put_text(ws, 3 + i // CHUNK, 1, text[i : i + CHUNK])
 

@@ -403,12 +403,15 @@ class ApproachReader:
         return own.get(part) or own[""]
 
     def approach_locations(self) -> dict[str, str]:
-        """``approach.landmarks[i]`` -> the landmark's row (its name cell), and
-        ``approach.landmarks[i].distance`` (``.kind``, ``.share``) -> the cell of that value."""
+        """``approach.landmarks[i]`` -> the landmark's row (its name cell),
+        ``approach.landmarks[i].distance`` (``.kind``, ``.share``) -> the cell of that value,
+        and ``approach.landmarks[i].veh_h[h]`` -> the cell of a ramp's flow in hour ``h``."""
         cells = getattr(self, "_landmark_cells", [])
         out = {f"approach.landmarks[{i}]": own[""] for i, own in enumerate(cells)}
         for part in ("distance", "kind", "share"):
             out.update(
                 {f"approach.landmarks[{i}].{part}": own[part] for i, own in enumerate(cells)}
             )
+        for i, own in enumerate(cells):  # a ramp's hourly flows: each hour's cell
+            out.update({f"approach.landmarks[{i}].{k}": c for k, c in own.items() if "[" in k})
         return out

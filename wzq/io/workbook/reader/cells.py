@@ -11,7 +11,7 @@ from decimal import Decimal
 from typing import Any
 
 from openpyxl.cell.cell import ERROR_CODES, MergedCell
-from openpyxl.utils import range_boundaries
+from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.utils.datetime import from_excel, to_excel
 from openpyxl.worksheet.formula import ArrayFormula, DataTableFormula
 from openpyxl.worksheet.worksheet import Worksheet
@@ -95,7 +95,16 @@ class CellReader:
         for mr in ws.merged_cells.ranges:
             if mr.min_row <= row <= mr.max_row and mr.min_col <= col <= mr.max_col:
                 if mr.min_col == mr.max_col and (mr.min_row, mr.min_col) != (row, col):
-                    return self.raw(ws, mr.min_row, mr.min_col)  # shown for every row
+                    shown = self.raw(ws, mr.min_row, mr.min_col)  # shown for every row
+                    if isinstance(shown, int | float) and not isinstance(shown, bool):
+                        self.note(
+                            f"{cell_ref(ws.title, mr.min_row, mr.min_col)}:"
+                            f"{get_column_letter(mr.max_col)}{mr.max_row}",
+                            f"one number ({_fmt(shown)}) merged over {mr.size['rows']} rows "
+                            "is read in each of them, as shown; if it is meant for the rows "
+                            "together, unmerge the cells and type each row's value",
+                        )
+                    return shown
                 return self.bad(
                     cell_ref(ws.title, row, col),
                     f"is part of the merged cells {mr.coord}, which span several columns; "

@@ -7,6 +7,8 @@ from __future__ import annotations
 import re
 from typing import Any
 
+from openpyxl.utils import range_boundaries
+
 from wzq.engine.plan import (
     Closure,
     Costs,
@@ -42,6 +44,9 @@ _INPUT_TABLES = (
     L.RAMP_FLOW_TABLE,
 )
 
+#: The defined names of the inputs (a sheet-level copy of one marks a copied input sheet).
+_INPUT_NAMES = frozenset(f.name for f in F.ALL_FIELDS if f.name)
+
 __all__ = [
     "PlanReader",
 ]
@@ -74,6 +79,7 @@ class PlanReader:
         self.check_sheet_names()
         self.copied_sheets()
         self.hidden_sheets()
+        self.commented_blanks()
         costs = self.costs()
         demand = self.demand(values.get("site_lanes"))
         risk = self.risk_options(self._history is not None)
@@ -123,10 +129,44 @@ class PlanReader:
                 "see them",
             )
 
+    def commented_blanks(self) -> None:
+        """Warn about a blank input cell that carries a comment: what the cell stands for
+        (its default, or nothing) is used, and the comment, which wzq never reads, may
+        hold the value meant (typed as a note instead of in the cell)."""
+        cells = []
+        for f in F.ALL_FIELDS:
+            at = self.peek(f.name) if f.name else None
+            cell = at[0]._cells.get(at[1:]) if at else None
+            cells.append((f.label, at[0] if at else None, cell))
+        for table in _INPUT_TABLES:  # the cells of the tables' rows, under their headers
+            found = self.find_table(table)
+            if found is None:
+                continue
+            ws, ref = found
+            left, top, right, bottom = range_boundaries(str(ref))
+            heads = [ws._cells.get((top, c)) for c in range(left, right + 1)]
+            for (r, c), cell in sorted(ws._cells.items()):
+                if top < r <= bottom and left <= c <= right:
+                    head = heads[c - left]
+                    cells.append((str(head.value) if head else "this cell", ws, cell))
+        for label, ws, cell in cells:
+            if cell is None or cell.comment is None or not _blank(cell.value):
+                continue
+            said = " ".join(str(cell.comment.text).split())
+            said = said if len(said) <= 80 else said[:79] + "..."
+            self.note(
+                cell_ref(ws.title, cell.row, cell.column),
+                f"{label} is left blank (read as a blank cell is there), but its comment "
+                f"reads '{said}'; wzq never reads comments: type the value in the cell if "
+                "the comment holds it",
+            )
+
     def copied_sheets(self) -> None:
         """Warn about a copy of an input sheet ("Demand (2)" as Excel names it, "Demand_2"
-        as LibreOffice does) or a sheet holding a copy of an input table ("DemandTable2"):
-        only the input sheet itself is read, so values typed on the copy are not used."""
+        as LibreOffice does), a sheet holding a copy of an input table ("DemandTable2"), or
+        one holding sheet-level copies of the input names (as Excel copies them, whatever
+        the copy is renamed to): only the input sheet itself is read, so values typed on
+        the copy are not used."""
         counts = self.peek("history_file_sheet")
         cell = counts[0]._cells.get(counts[1:]) if counts else None
         chosen = getattr(cell, "value", None)  # the sheet chosen to hold the count history
@@ -146,6 +186,11 @@ class PlanReader:
                 table = tables.get(m.group(1).casefold()) if m else None
                 found = self.find_table(table) if table and home is None else None
                 home = found[0].title if found else home
+            # Excel gives the copy of a sheet its own (sheet-level) copies of the
+            # workbook's names that point at the sheet copied
+            for name in ws.defined_names if home is None else ():
+                at = self.peek(name) if name in _INPUT_NAMES else None
+                home = at[0].title if at and at[0].title in L.INPUT_SHEETS else home
             if home is not None:
                 self.note(
                     f"sheet '{title}'",

@@ -31,16 +31,20 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from wzq.io.workbook.safety import output_sheet_parts
 
-__all__ = ["load_skipping_outputs"]
+__all__ = ["SkippingReader", "load_skipping_outputs"]
 
 
-class _SkippingReader(ExcelReader):
+class SkippingReader(ExcelReader):
     """openpyxl's reader with wzq's output sheets left unparsed (empty stand-ins)."""
 
-    def read_worksheets(self) -> None:
+    def skipped(self, listed: list[Any]) -> set[str]:
+        """The names of the sheets of ``listed`` ((sheet, relationship) pairs) left unparsed."""
         unread = output_sheet_parts(self.archive)  # the parts the pre-parse checks left out
+        return {sheet.name for sheet, rel in listed if rel.target in unread}
+
+    def read_worksheets(self) -> None:
         listed = list(self.parser.find_sheets())
-        skip = {sheet.name for sheet, rel in listed if rel.target in unread}
+        skip = self.skipped(listed)
         if not skip:
             return super().read_worksheets()
         kept = [(sheet, rel) for sheet, rel in listed if sheet.name not in skip]
@@ -74,6 +78,6 @@ def load_skipping_outputs(
     rich_text: bool = False,
 ) -> Workbook:
     """:func:`openpyxl.load_workbook` (same arguments) with wzq's output sheets unparsed."""
-    reader = _SkippingReader(filename, read_only, keep_vba, data_only, keep_links, rich_text)
+    reader = SkippingReader(filename, read_only, keep_vba, data_only, keep_links, rich_text)
     reader.read()
     return reader.wb

@@ -1,0 +1,222 @@
+"""Round six of the red team: a designer's spreadsheet habits that were read without a word.
+
+Each case is worked on a shipped example, changed as a designer in a hurry would in
+Excel or LibreOffice, and checked for the warning that names the cell.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import shutil
+from pathlib import Path
+
+import numpy as np
+import openpyxl
+from openpyxl.comments import Comment
+from openpyxl.workbook.defined_name import DefinedName
+
+import wzq
+from wzq.engine import plausibility
+from wzq.io.jsonplan import load_plan
+from wzq.io.workbook.reader import read_plan
+
+EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
+KESTREL = EXAMPLES / "kestrel_ridge_weeknight.xlsx"
+
+
+def _kestrel(tmp_path: Path, change) -> Path:
+    path = tmp_path / "kestrel.xlsx"
+    shutil.copyfile(KESTREL, path)
+    book = openpyxl.load_workbook(path)
+    change(book)
+    book.save(path)
+    return path
+
+
+def test_a_demand_column_sorted_on_its_own_is_queried(tmp_path):
+    """Kestrel Ridge: 72 hourly counts (Demand!C9:C80, 400 to 5,400 veh/h) sorted from
+    smallest to largest with their dates and times left in order."""
+
+    def sort_the_column_alone(book):
+        ws = book["Demand"]
+        flows = sorted(ws.cell(r, 3).value for r in range(9, 81))
+        for r, q in zip(range(9, 81), flows, strict=True):
+            ws.cell(r, 3).value = q
+
+    plan = read_plan(_kestrel(tmp_path, sort_the_column_alone))
+    said = [w for w in wzq.analyse(plan).warnings if "sorted" in w]
+    assert said == [
+        "Demand!C9: the demand only rises from Mon 2027-05-03 00:00 to Wed 2027-05-05 23:00 "
+        "(400 to 5,400 veh/h), where traffic rises and falls over each day: was the demand "
+        "column sorted on its own, away from its dates and times? Check the counts against "
+        "their hours"
+    ]
+
+
+def test_a_day_sorted_from_largest_to_smallest_is_queried_at_its_first_row(tmp_path):
+    """Only the second day (Demand!C33:C56, Tue 00:00-23:00) sorted, largest first."""
+
+    def sort_one_day(book):
+        ws = book["Demand"]
+        flows = sorted((ws.cell(r, 3).value for r in range(33, 57)), reverse=True)
+        for r, q in zip(range(33, 57), flows, strict=True):
+            ws.cell(r, 3).value = q
+
+    plan = read_plan(_kestrel(tmp_path, sort_one_day))
+    said = plausibility.sorted_demand(plan)
+    assert len(said) == 1
+    assert said[0].startswith("Demand!C33: the demand only falls from Tue 2027-05-04 00:00")
+    assert "(5,400 to 400 veh/h)" in said[0]
+
+
+def test_real_counts_and_plans_of_a_few_steps_are_not_queried():
+    for name in ("kestrel_ridge_weeknight", "ashgrove_bypass_week", "fenwick_downs_weekend"):
+        assert plausibility.sorted_demand(load_plan(EXAMPLES / f"{name}.json")) == [], name
+    plan = load_plan(EXAMPLES / "kestrel_ridge_weeknight.json")
+    n = len(plan.demand.flows_veh_h)
+    # five steps rising over three days: a made-up plan, not a sorted column
+    steps = np.repeat([1000.0, 1500.0, 2000.0, 2500.0, 3000.0], -(-n // 5))[:n]
+    stepped = dataclasses.replace(plan, demand=dataclasses.replace(plan.demand, flows_veh_h=steps))
+    assert plausibility.sorted_demand(stepped) == []
+    # the same five steps and one more flow: six different flows rising for 72 h
+    steps[-1] = 3100.0
+    rising = dataclasses.replace(plan, demand=dataclasses.replace(plan.demand, flows_veh_h=steps))
+    assert len(plausibility.sorted_demand(rising)) == 1
+
+
+def test_a_value_typed_in_the_comment_of_a_blank_input_is_said(tmp_path):
+    """The free-flow speed (Site!B11) left blank, its measured value typed in a comment:
+    the blank (speed limit + 5 mi/h) is used, so the comment is named; a comment on a
+    filled input (the work-zone length, Site!B12) is a note and not said."""
+
+    def comment(book):
+        book["Site"]["B11"].comment = Comment("measured 72 mph,\nspot speed survey", "JB")
+        book["Site"]["B12"].comment = Comment("from the drawings", "JB")
+
+    plan = read_plan(_kestrel(tmp_path, comment))
+    said = [w for w in plan.input_warnings if "comment" in w]
+    assert said == [
+        "Site!B11: Free-flow speed is left blank (read as a blank cell is there), but its "
+        "comment reads 'measured 72 mph, spot speed survey'; wzq never reads comments: type "
+        "the value in the cell if the comment holds it"
+    ]
+    assert plan.site.free_flow_speed is None  # read as the blank it is
+
+
+def test_counts_pasted_with_another_locales_thousands_separator_are_queried(tmp_path):
+    """Kestrel Ridge's counts of 1,000 veh/h and more pasted as '1.500' into a spreadsheet
+    that reads a decimal point: 1.5 veh/h. The first by day is 06:00 on Monday (Demand!C15,
+    3,600 veh/h read as 3.6); 45 hours of the 72 carry 1,000 veh/h or more, all by day
+    (06:00-21:00 each day, 15 a day), among night flows up to 700 veh/h."""
+
+    def paste(book):
+        ws = book["Demand"]
+        for r in range(9, 81):
+            if ws.cell(r, 3).value >= 1000:
+                ws.cell(r, 3).value = ws.cell(r, 3).value / 1000
+
+    plan = read_plan(_kestrel(tmp_path, paste))
+    assert plausibility.thousands_as_decimals(plan) == [
+        "Demand!C15: demand 3.6 veh/h at Mon 2027-05-03 06:00 (and 44 more daytime flows "
+        "like it), among flows up to 700 veh/h: a count of 3,600 typed or pasted with the "
+        "thousands separator of another locale ('3.600' read as 3.6)? Type the counts as "
+        "plain whole numbers"
+    ]
+    # every count in thousands (a busy road): the same, with no flow of hundreds around
+    q = np.full(72, 1.25)
+    q[:6] = 0.8  # 800 veh/h the first night, read as 0.8
+    quiet = dataclasses.replace(plan, demand=dataclasses.replace(plan.demand, flows_veh_h=q))
+    said = plausibility.thousands_as_decimals(quiet)
+    assert len(said) == 1 and said[0].startswith("Demand!C15: demand 1.25 veh/h at Mon")
+
+
+def test_whole_counts_and_flows_with_more_decimals_are_not_queried():
+    for name in ("kestrel_ridge_weeknight", "ashgrove_bypass_week", "fenwick_downs_weekend"):
+        assert plausibility.thousands_as_decimals(load_plan(EXAMPLES / f"{name}.json")) == []
+    plan = load_plan(EXAMPLES / "kestrel_ridge_weeknight.json")
+    q = plan.demand.flows_veh_h.copy()
+    q[7] = 5.2345  # a flow with four decimals (computed, not a count of thousands)
+    odd = dataclasses.replace(plan, demand=dataclasses.replace(plan.demand, flows_veh_h=q))
+    assert plausibility.thousands_as_decimals(odd) == []
+
+
+def test_a_copy_of_an_input_sheet_renamed_is_named_by_the_names_excel_copies_with_it(tmp_path):
+    """Excel copies a sheet with sheet-level copies of the workbook's names that point at
+    it (from memory of Excel's behaviour); the copy of Site renamed 'Site v2', 2 lanes
+    typed on it, is not read: the plan keeps Site's 3 lanes, and the copy is named."""
+
+    def copy_site(book):
+        ws = book.copy_worksheet(book["Site"])
+        ws.title = "Site v2"
+        ws["B8"] = 2
+        ws.defined_names["site_lanes"] = DefinedName("site_lanes", attr_text="'Site v2'!$B$8")
+        mine = book.create_sheet("My sums")
+        mine.defined_names["my_total"] = DefinedName("my_total", attr_text="'My sums'!$A$1")
+
+    plan = read_plan(_kestrel(tmp_path, copy_site))
+    assert plan.site.lanes == 3
+    said = [w for w in plan.input_warnings if "copy" in w]
+    assert said == [
+        "sheet 'Site v2': this sheet looks like a copy of the input sheet 'Site' and is not "
+        "read: the plan is read from 'Site' only; type your changes there, or delete the copy"
+    ]
+
+
+def test_a_value_typed_in_the_comment_of_a_blank_table_cell_is_said(tmp_path):
+    """Night 2's capacity override (Closures!G7) left blank, the agency's figure typed in
+    a comment: the capacity model is used, and the comment named under its column."""
+
+    def comment(book):
+        book["Closures"]["G7"].comment = Comment("county: use 1,350 for 2 lanes closed", "JB")
+        book["Closures"]["H7"].comment = Comment("saw-cut first", "JB")  # on a filled note
+
+    plan = read_plan(_kestrel(tmp_path, comment))
+    assert plan.closures[1].capacity_override_veh_h_ln is None
+    assert [w for w in plan.input_warnings if "comment" in w] == [
+        "Closures!G7: Capacity override (veh/h/ln) is left blank (read as a blank cell is "
+        "there), but its comment reads 'county: use 1,350 for 2 lanes closed'; wzq never "
+        "reads comments: type the value in the cell if the comment holds it"
+    ]
+
+
+def test_one_demand_merged_over_two_hours_is_read_in_each_and_said(tmp_path):
+    """Demand!C15:C16 merged (Mon 06:00 and 07:00): the 3,600 veh/h shown across both
+    is read for each hour, as shown (7,200 vehicles in the two hours), and said, since
+    it may be the count of the two hours together."""
+    plan = read_plan(_kestrel(tmp_path, lambda b: b["Demand"].merge_cells("C15:C16")))
+    assert plan.demand.flows_veh_h[6:8].tolist() == [3600.0, 3600.0]
+    assert [w for w in plan.input_warnings if "merged" in w] == [
+        "Demand!C15:C16: one number (3,600) merged over 2 rows is read in each of them, as "
+        "shown; if it is meant for the rows together, unmerge the cells and type each row's "
+        "value"
+    ]
+
+
+def test_a_date_merged_down_its_rows_is_not_said(tmp_path):
+    plan = read_plan(_kestrel(tmp_path, lambda b: b["Demand"].merge_cells("A9:A32")))
+    assert [w for w in plan.input_warnings if "merged" in w] == []
+
+
+def test_a_ramps_hourly_flows_sorted_on_their_own_are_queried_at_the_ramps_cell(tmp_path):
+    """Brackenholm: the Sorrel Lane on-ramp's 24 hourly flows (Approach!I8:I31, from
+    Thu 2027-06-10 12:00) sorted from largest to smallest with their hours in order."""
+    path = tmp_path / "brackenholm.xlsx"
+    shutil.copyfile(EXAMPLES / "brackenholm_interchange_evening.xlsx", path)
+    book = openpyxl.load_workbook(path)
+    ws = book["Approach"]
+    flows = sorted((ws.cell(r, 9).value for r in range(8, 32)), reverse=True)
+    for r, q in zip(range(8, 32), flows, strict=True):
+        ws.cell(r, 9).value = q
+    book.save(path)
+    plan = read_plan(path)
+    said = plausibility.sorted_demand(plan)
+    assert len(said) == 1
+    assert said[0].startswith(
+        "Approach!I8: the 'Sorrel Lane on-ramp' only falls from Thu 2027-06-10 12:00 to "
+        f"Fri 2027-06-11 11:00 ({flows[0]:,} to {flows[-1]:,} veh/h)"
+    )
+    assert "was the ramp's column sorted on its own" in said[0]
+    assert (
+        plausibility.sorted_demand(read_plan(EXAMPLES / "brackenholm_interchange_evening.xlsx"))
+        == []
+    )
