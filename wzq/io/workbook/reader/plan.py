@@ -7,8 +7,6 @@ from __future__ import annotations
 import re
 from typing import Any
 
-from openpyxl.utils import range_boundaries
-
 from wzq.engine.plan import (
     Closure,
     Costs,
@@ -23,6 +21,7 @@ from wzq.engine.plan import (
 )
 from wzq.io import fields as F
 from wzq.io.workbook import layout as L
+from wzq.io.workbook.reader.tables import block
 from wzq.io.workbook.reader.values import (
     _JSON_KEYS,
     _MISSING,
@@ -140,10 +139,11 @@ class PlanReader:
             cells.append((f.label, at[0] if at else None, cell))
         for table in _INPUT_TABLES:  # the cells of the tables' rows, under their headers
             found = self.find_table(table)
-            if found is None:
+            bounds = block(found[1]) if found else None
+            if bounds is None:  # no table, or not a block (the table reader names it)
                 continue
-            ws, ref = found
-            left, top, right, bottom = range_boundaries(str(ref))
+            ws = found[0]
+            left, top, right, bottom = bounds
             heads = [ws._cells.get((top, c)) for c in range(left, right + 1)]
             for (r, c), cell in sorted(ws._cells.items()):
                 if top < r <= bottom and left <= c <= right:

@@ -30,6 +30,16 @@ __all__ = [
 ]
 
 
+def block(ref: Any) -> tuple[int, int, int, int] | None:
+    """The bounds (first column, first row, last column, last row) of a table's range, or
+    ``None`` when it is not a block of cells ('A:H': openpyxl gives its rows as None)."""
+    try:
+        bounds = range_boundaries(str(ref))
+    except (ValueError, TypeError):
+        return None
+    return None if None in bounds else bounds
+
+
 class TableReader:
     """Part of the workbook reader (:class:`wzq.io.workbook.reader.BookReader`)."""
 
@@ -53,17 +63,15 @@ class TableReader:
         return None
 
     def _table_parts(self, name: str, ws: Worksheet, t: Any) -> _Table | None:
-        try:
-            min_col, min_row, max_col, max_row = range_boundaries(str(t.ref))
-        except (ValueError, TypeError):
-            min_col = min_row = max_col = max_row = None
-        if None in (min_col, min_row, max_col, max_row):  # 'A:H', or not a range
+        bounds = block(t.ref)
+        if bounds is None:
             self.bad(
                 f"{ws.title} (table {name})",
                 f"the table {name} covers '{t.ref}', not a block of cells; recreate it from "
                 "a fresh workbook made by `wzq new`",
             )
             return None
+        min_col, min_row, max_col, max_row = bounds
         # no count: one header row (ECMA-376 Part 1, 18.5.1.2, headerRowCount's default)
         header_rows = 1 if t.headerRowCount is None else int(t.headerRowCount)
         totals = int(t.totalsRowCount or 0)
