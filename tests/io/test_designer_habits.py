@@ -220,3 +220,61 @@ def test_a_ramps_hourly_flows_sorted_on_their_own_are_queried_at_the_ramps_cell(
         plausibility.sorted_demand(read_plan(EXAMPLES / "brackenholm_interchange_evening.xlsx"))
         == []
     )
+
+
+def test_comments_on_blank_cells_are_found_to_the_edges_of_the_table_and_not_in_its_header(
+    tmp_path,
+):
+    """The closure table (A5:H35, header on row 5): comments on blank cells of its first
+    and last column and its last row are named; one on a cleared header cell is not (the
+    header is not an input), and a column whose header cell is cleared or gone is named
+    'this cell', not 'None'. A table left out of the plan (the AADT shares, deleted in an
+    hourly plan) does not end the search."""
+
+    def edit(wb):
+        ws = wb["Closures"]
+        ws["A35"].comment = Comment("Thu night too?", "JB")
+        ws["C35"].comment = Comment("mid", "JB")
+        ws["H35"].comment = Comment("ask the county", "JB")
+        ws["H5"].value = None  # the Note header cleared; its column record keeps the name
+        ws["H5"].comment = Comment("header note", "JB")
+        del ws._cells[(5, 7)]  # the override's header cell gone
+        ws["G6"].comment = Comment("1,350 per county", "JB")
+        shares = next(w for w in wb.worksheets if "HourlyShareTable" in w.tables)
+        del shares.tables["HourlyShareTable"]
+
+    plan = read_plan(_kestrel(tmp_path, edit))
+    tail = "; wzq never reads comments: type the value in the cell if the comment holds it"
+    assert [w for w in plan.input_warnings if "comment" in w] == [
+        "Closures!G6: this cell is left blank (read as a blank cell is there), but its "
+        "comment reads '1,350 per county'" + tail,
+        "Closures!A35: Date is left blank (read as a blank cell is there), but its comment "
+        "reads 'Thu night too?'" + tail,
+        "Closures!C35: To is left blank (read as a blank cell is there), but its comment "
+        "reads 'mid'" + tail,
+        "Closures!H35: this cell is left blank (read as a blank cell is there), but its "
+        "comment reads 'ask the county'" + tail,
+    ]
+
+
+def test_a_long_comment_is_cut_at_80_characters_and_a_name_not_defined_is_passed_over(tmp_path):
+    """Comments of 80 and 81 characters on blank inputs (the free-flow speed and the
+    lateral clearance): the first is said whole, the second cut to 79 and '...'; the
+    optional input 'site_wave_speed' left out of the workbook's names (as in a workbook
+    made before it) is passed over."""
+    eighty = "measured 72 mph on the spot speed survey of 12 May, north of the Alder Creek rmp"
+    assert len(eighty) == 80
+
+    def edit(wb):
+        wb["Site"]["B11"].comment = Comment(eighty, "JB")
+        wb["Site"]["B16"].value = None
+        wb["Site"]["B16"].comment = Comment(eighty + "!", "JB")
+        del wb.defined_names["site_wave_speed"]
+
+    plan = read_plan(_kestrel(tmp_path, edit))
+    said = [
+        w.split("comment reads ")[1].split("; wzq")[0]
+        for w in plan.input_warnings
+        if "comment" in w
+    ]
+    assert said == [f"'{eighty}'", f"'{eighty[:79]}...'"]

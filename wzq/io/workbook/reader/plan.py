@@ -134,9 +134,9 @@ class PlanReader:
         hold the value meant (typed as a note instead of in the cell)."""
         cells = []
         for f in F.ALL_FIELDS:
-            at = self.peek(f.name) if f.name else None
-            cell = at[0]._cells.get(at[1:]) if at else None
-            cells.append((f.label, at[0] if at else None, cell))
+            at = self.peek(f.name)  # None: a field without a name, or a name not defined
+            if at is not None:
+                cells.append((f.label, at[0], at[0]._cells.get(at[1:])))
         for table in _INPUT_TABLES:  # the cells of the tables' rows, under their headers
             found = self.find_table(table)
             bounds = block(found[1]) if found else None
@@ -144,11 +144,11 @@ class PlanReader:
                 continue
             ws = found[0]
             left, top, right, bottom = bounds
-            heads = [ws._cells.get((top, c)) for c in range(left, right + 1)]
             for (r, c), cell in sorted(ws._cells.items()):
                 if top < r <= bottom and left <= c <= right:
-                    head = heads[c - left]
-                    cells.append((str(head.value) if head else "this cell", ws, cell))
+                    head = ws._cells.get((top, c))  # the column's header cell
+                    unnamed = head is None or _blank(head.value)
+                    cells.append(("this cell" if unnamed else str(head.value), ws, cell))
         for label, ws, cell in cells:
             if cell is None or cell.comment is None or not _blank(cell.value):
                 continue
