@@ -130,11 +130,20 @@ def _sha(parts: list[str]) -> str:
     return hashlib.sha256("\0".join(parts).encode("utf-8", "surrogatepass")).hexdigest()[:16]
 
 
+def _block(cells: Cells) -> tuple[int, int]:
+    """The block of ``cells``: its last row and last column (0, 0 when empty)."""
+    return max((r for r, _, _ in cells), default=0), max((k for _, k, _ in cells), default=0)
+
+
+def _first_five(found: list[str]) -> list[str]:
+    """The first five cells named, then how many more."""
+    return found[:5] + ([f"and {len(found) - 5} more cells"] if len(found) > 5 else [])
+
+
 def _digests(cells: Cells) -> dict[str, Any]:
     """The block of ``cells`` (last row, last column) and the digests of each column and
     of each block of :data:`BLOCK` rows."""
-    rows = max((r for r, _, _ in cells), default=0)
-    cols = max((k for _, k, _ in cells), default=0)
+    rows, cols = _block(cells)
     by_col: list[list[str]] = [[] for _ in range(cols)]
     by_block: list[list[str]] = [[] for _ in range((rows + BLOCK - 1) // BLOCK)]
     for r, k, text in cells:
@@ -224,7 +233,7 @@ def differences(name: str, before: dict[str, Any], now: Sheet) -> list[str]:
         for r, k, t in cells
         if r > before["rows"] or k > before["cols"]
     ]
-    found = outside[:5] + ([f"and {len(outside) - 5} more cells"] if len(outside) > 5 else [])
+    found = _first_five(outside)
     cols = [
         get_column_letter(k + 1)
         for k, digest in enumerate(before["col"])
@@ -452,9 +461,7 @@ def bounds_text(book: Workbook) -> str:
     each one's non-empty cells, as ``run|Sheet:rows:cols|...`` (no double quotes)."""
     parts = [(_run_time(book) or "s:")[2:].replace('"', "")]
     for name in _output_sheets(book):
-        cells = _cells(book[name], book.epoch)
-        rows = max((r for r, _, _ in cells), default=0)
-        cols = max((k for _, k, _ in cells), default=0)
+        rows, cols = _block(_cells(book[name], book.epoch))
         parts.append(f"{name}:{rows}:{cols}")
     return "|".join(parts)
 
@@ -484,4 +491,4 @@ def beyond_bounds(
         for r, k, value in cells.get(name, []):
             if r > rows or k > cols:
                 found.append(f"{cell_ref(name, r, k)} {_shown('s:' + str(value))}")
-    return found[:5] + ([f"and {len(found) - 5} more cells"] if len(found) > 5 else [])
+    return _first_five(found)
