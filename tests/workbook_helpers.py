@@ -273,7 +273,10 @@ def save_results_as_a_spreadsheet_program(path: Path, results: dict[tuple[str, s
                     t, v = ' t="str"', escape(value)
                 else:
                     t, v = "", repr(float(value))
-                pattern = re.compile(rf'<c r="{coord}"([^>]*)>(<f>[^<]*</f>)<v\s*(?:/>|></v>)</c>')
+                # a plain formula, or one with attributes (an array formula: t="array" ref="...")
+                pattern = re.compile(
+                    rf'<c r="{coord}"([^>]*)>(<f(?:\s[^>]*)?>[^<]*</f>)<v\s*(?:/>|></v>)</c>'
+                )
                 text, n = pattern.subn(rf'<c r="{coord}"\1{t}>\2<v>{v}</v></c>', data.decode())
                 assert n == 1, f"{coord}: no formula cell to give a result"
                 data = text.encode()

@@ -50,6 +50,20 @@ def test_round_trip_gives_the_same_plan_and_result(tmp_path: Path) -> None:
         assert analyse(again).hourly.equals(analyse(plan).hourly)
 
 
+def test_a_plan_saved_with_a_byte_order_mark_is_the_same_plan(tmp_path: Path) -> None:
+    # Windows Notepad saves UTF-8 with a byte-order mark; RFC 8259, section 8.1, lets a
+    # parser ignore it (it was refused as "not valid JSON")
+    text = (EXAMPLES / "kestrel_ridge_weeknight.json").read_bytes()
+    (tmp_path / "bom.json").write_bytes(b"\xef\xbb\xbf" + text)
+    plan, again = (
+        load_plan(EXAMPLES / "kestrel_ridge_weeknight.json"),
+        load_plan(tmp_path / "bom.json"),
+    )
+    assert again.site == plan.site
+    assert again.closures == plan.closures
+    assert np.array_equal(again.demand.flows_veh_h, plan.demand.flows_veh_h)
+
+
 def test_packaged_demo_is_the_example() -> None:
     packaged = Path(__file__).resolve().parents[2] / "wzq" / "data"
     a = json.loads((packaged / "kestrel_ridge_weeknight.json").read_text())

@@ -755,8 +755,14 @@ def test_case_11_batch_lists_unreadable_spreadsheets_and_skips_results_copies(
     result = run_batch(folder, workers=1)
     assert [o.file for o in result.outcomes] == ["calc.ods", "old.xls", "plan.xlsx"]
     assert [o.file for o in result.not_analysed] == ["calc.ods", "old.xls"]
+    hints = {
+        "calc.ods": "in LibreOffice Calc or the program that made it, use Save As with the "
+        "type Excel 2007-365 (.xlsx), then run that copy",
+        "old.xls": "save it from your spreadsheet program as .xlsx (or .xlsm to keep macros) first",
+    }
+    assert len(result.issues) == 2
     for issue in result.issues:
-        assert "save the workbook as .xlsx or .xlsm" in issue.message
+        assert any(f in issue.where and hint in issue.message for f, hint in hints.items()), issue
     assert batch_status(result) == 2
     assert any("plan (wzq results).xlsx skipped: it is the results copy of plan.xlsx" in n
                for n in result.notes)  # fmt: skip

@@ -21,6 +21,7 @@ import openpyxl
 import pytest
 from openpyxl.utils.datetime import CALENDAR_MAC_1904
 from openpyxl.workbook.defined_name import DefinedName
+from openpyxl.worksheet.formula import ArrayFormula
 from openpyxl.worksheet.table import Table
 from workbook_helpers import (
     fill_template,
@@ -454,6 +455,28 @@ def test_a_formula_text_result_kept_as_a_shared_string(
     source = {"data": path.read_bytes()} if as_bytes else {"path": path}
     plan = read_plan_from_book(book, "s.xlsx", **source)
     assert plan.site.terrain == "rolling"
+
+
+@pytest.mark.parametrize("cell", ["Closures!D6", "Site!B9"])
+def test_an_array_formula_is_read_by_its_saved_result(
+    kestrel: bytes, tmp_path: Path, cell: str
+) -> None:
+    # an array formula (Ctrl+Shift+Enter, or a dynamic array saved for older programs) is
+    # stored as <f t="array" ref="D6"> (ECMA-376 Part 1, 18.3.1.40); its saved result is
+    # read as that of any formula. In a table it must not pass as a typed number: the
+    # first closure (typed 1 lane) becomes 2 lanes closed, the result shown.
+    sheet, coord = cell.split("!")
+    result = 2 if sheet == "Closures" else 70
+
+    def array(wb: Any) -> None:
+        wb[sheet][coord].value = ArrayFormula(coord, f"={result}*1")
+
+    plan = saved(kestrel, tmp_path, {}, {cell: result}, array)
+    assert isinstance(plan, Plan), plan
+    if sheet == "Closures":
+        assert [c.lanes_closed for c in plan.closures] == [2, 2]  # typed: 1 and 2
+    else:
+        assert plan.site.speed_limit == pytest.approx(70 * 0.44704, rel=1e-12)  # mi/h -> m/s
 
 
 def test_a_formula_result_in_a_damaged_part_is_no_result(kestrel: bytes, tmp_path: Path) -> None:

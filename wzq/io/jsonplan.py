@@ -417,10 +417,14 @@ def _approach_from_dict(r: _Reader, a: Any, system: u.UnitSystem) -> Approach:
 
 
 def load_plan(path: str | Path) -> Plan:
-    """Read a JSON plan file."""
+    """Read a JSON plan file.
+
+    A byte-order mark at the start (Windows Notepad writes one) is ignored, as RFC 8259,
+    section 8.1, allows a JSON parser to do: it carries nothing of the plan.
+    """
     path = Path(path)
     try:
-        data = json.loads(path.read_text(encoding="utf-8"), object_pairs_hook=_Object)
+        data = json.loads(path.read_text(encoding="utf-8-sig"), object_pairs_hook=_Object)
     except (OSError, UnicodeDecodeError) as e:
         raise PlanError([Problem(str(path), f"cannot read the file: {e}")]) from None
     except json.JSONDecodeError as e:

@@ -40,7 +40,7 @@ from wzq.io.workbook.history_typing import from_count_file, type_history
 from wzq.io.workbook.kept import ContentLost, keeps_everything
 from wzq.io.workbook.outputs import decide_outputs, write_outputs
 from wzq.io.workbook.outputs_record import typed_on_outputs
-from wzq.io.workbook.reader import book_from_bytes, read_plan_from_book
+from wzq.io.workbook.reader import book_from_bytes, read_plan_from_book, save_as_hint
 from wzq.io.workbook.safety import PackageReport, read_checked
 from wzq.io.workbook.save import (
     ChangedSinceRead,
@@ -76,11 +76,7 @@ def _check_suffixes(src: Path, target: Path) -> None:
     problems = []
     suffix = src.suffix.lower()
     if suffix not in SUFFIXES:
-        hint = (
-            "for a .json plan use: wzq show PATH"
-            if suffix == ".json"
-            else "save it from Excel as .xlsx (or .xlsm to keep macros) first"
-        )
+        hint = "for a .json plan use: wzq show PATH" if suffix == ".json" else save_as_hint(suffix)
         problems.append(
             Problem(str(src), f"wzq run reads .xlsx or .xlsm workbooks, not '{src.suffix}'; {hint}")
         )

@@ -58,6 +58,7 @@ __all__ = [
     "read_plan_and_book",
     "read_plan_from_book",
     "read_workbook_bytes",
+    "save_as_hint",
 ]
 
 
@@ -79,13 +80,26 @@ def read_plan_and_book(path: str | Path) -> tuple[Plan, Workbook]:
     return read_plan_from_book(wb, path.name, path, data=data), wb
 
 
+def save_as_hint(suffix: str) -> str:
+    """What to do with a spreadsheet of a type wzq does not read, in the terms of the
+    program that most likely made it (an OpenDocument file comes from LibreOffice or
+    another office suite, a .numbers file from Apple Numbers, the rest from Excel)."""
+    s = suffix.lower()
+    if s in (".ods", ".fods"):
+        how = "in LibreOffice Calc or the program that made it, use Save As with the type "
+        return how + "Excel 2007-365 (.xlsx), then run that copy"
+    if s == ".numbers":
+        return "in Numbers, export it to Excel (.xlsx), then run that copy"
+    return "save it from your spreadsheet program as .xlsx (or .xlsm to keep macros) first"
+
+
 def read_workbook_bytes(path: Path, *, skip_outputs: bool = False) -> bytes:
     """The file's bytes after the pre-parse checks (:func:`wzq.io.workbook.safety.read_checked`:
     empty, not a workbook, old ``.xls``, encrypted, zip bombs, cell limit, XML entities);
     ``skip_outputs`` leaves out wzq's output sheets, which must then not be parsed."""
     if path.suffix.lower() not in WORKBOOK_SUFFIXES and not path.is_dir():
         raise PlanError(
-            f"'{path.suffix}' files are not read; save the workbook as .xlsx or .xlsm",
+            f"'{path.suffix}' files are not read; {save_as_hint(path.suffix)}",
             where=path.name,
         )
     data, _ = read_checked(path, skip_outputs=skip_outputs)
