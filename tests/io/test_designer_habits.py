@@ -278,3 +278,36 @@ def test_a_long_comment_is_cut_at_80_characters_and_a_name_not_defined_is_passed
         if "comment" in w
     ]
     assert said == [f"'{eighty}'", f"'{eighty[:79]}...'"]
+
+
+def test_a_metric_plan_holding_speed_limits_in_mph_is_queried_at_both_cells(tmp_path):
+    """Fenwick Downs (metric: 110 and 80 km/h) with the limits of a US plan typed in, 65 and
+    55: posted limits in km/h step by 10, in mi/h by 5 (common practice, no source)."""
+    path = tmp_path / "fenwick.xlsx"
+    shutil.copyfile(EXAMPLES / "fenwick_downs_weekend.xlsx", path)
+    book = openpyxl.load_workbook(path)
+    book["Site"]["B9"], book["Site"]["B10"] = 65, 55
+    book.save(path)
+    said = [w for w in wzq.analyse(read_plan(path)).warnings if "mi/h" in w]
+    assert said == [
+        "Site!B9 (and Site!B10): a speed limit of 65 km/h and a work-zone speed limit of "
+        "55 km/h: posted limits in km/h are multiples of 10 almost everywhere, limits in mi/h "
+        "step by 5. Were US values kept when the unit system (Start!B14) was set to metric? "
+        "Every value is read in the unit system chosen"
+    ]
+
+
+def test_metric_limits_in_tens_and_us_limits_ending_in_5_are_not_queried():
+    fenwick = load_plan(EXAMPLES / "fenwick_downs_weekend.json")  # 110 and 80 km/h
+    assert plausibility.speed_limits_in_mph(fenwick) == []
+    kestrel = load_plan(EXAMPLES / "kestrel_ridge_weeknight.json")  # US: 65 and 55 mi/h
+    assert plausibility.speed_limits_in_mph(kestrel) == []
+    # one limit ending in 5 km/h is enough; 72.5 km/h (not whole) is not a posted limit
+    for kmh, said in ((75.0, 1), (72.5, 0), (70.0, 0)):
+        site = dataclasses.replace(fenwick.site, work_zone_speed_limit=kmh / 3.6)
+        found = plausibility.speed_limits_in_mph(dataclasses.replace(fenwick, site=site))
+        assert len(found) == said, kmh
+        if said:
+            assert found[0].startswith(
+                "site.work_zone_speed_limit: a work-zone speed limit of 75 km/h:"
+            )

@@ -34,6 +34,7 @@ __all__ = [
     "LONG_WORK_ZONE_MI",
     "MANY_HEAVY_SHARE",
     "MAX_LISTED",
+    "METRIC_LIMIT_STEP_KMH",
     "NEAR_ZERO_SHARE",
     "NEIGHBOURS",
     "OLD_COUNT_YEARS",
@@ -56,6 +57,7 @@ __all__ = [
     "shares_as_flows",
     "site_ranges",
     "sorted_demand",
+    "speed_limits_in_mph",
     "thousands_as_decimals",
     "unused_by_method",
     "value_of_time_per_minute",
@@ -108,6 +110,10 @@ SORTED_DISTINCT = 6
 #: Flows below this (veh/h) with up to three decimals, by day, are queried as counts of
 #: thousands typed with another locale's thousands separator (common practice, no source).
 THOUSANDS_BELOW = 10.0
+#: Posted speed limits in km/h are multiples of this almost everywhere, while limits in
+#: mi/h step by 5 (45, 55, 65 mi/h); a metric limit that is an odd multiple of 5 is
+#: queried as mi/h typed in a metric plan (common practice, no source; from memory).
+METRIC_LIMIT_STEP_KMH = 10
 #: Warnings of one kind listed one by one before the rest are counted.
 MAX_LISTED = 5
 
@@ -534,6 +540,36 @@ def free_flow_below_limits(plan: Plan) -> list[str]:
     ]
 
 
+def speed_limits_in_mph(plan: Plan) -> list[str]:
+    """Speed limits of a metric plan that look like limits in mi/h: whole numbers of km/h
+    ending in 5 (45, 55, 65, 75 km/h), where posted limits in km/h are multiples of
+    :data:`METRIC_LIMIT_STEP_KMH`. The sign of a plan switched to metric with its US values
+    left in: 65 mi/h read as 65 km/h gives the work zone too low a speed."""
+    s = plan.site
+    if s.unit_system != "metric":
+        return []
+    half = METRIC_LIMIT_STEP_KMH / 2
+    odd = []
+    for key, label in (
+        ("speed_limit", "speed limit"),
+        ("work_zone_speed_limit", "work-zone speed limit"),
+    ):
+        kmh = u.mps_to_speed(getattr(s, key), "metric")
+        if abs(kmh - round(kmh)) < 1e-6 and round(kmh) % METRIC_LIMIT_STEP_KMH == half:
+            odd.append((plan.where(f"site.{key}"), f"a {label} of {round(kmh)} km/h"))
+    if not odd:
+        return []
+    where = odd[0][0]
+    values = " and ".join(v for _, v in odd)
+    also = f" (and {odd[1][0]})" if len(odd) > 1 else ""
+    return [
+        f"{where}{also}: {values}: posted limits in km/h are multiples of "
+        f"{METRIC_LIMIT_STEP_KMH} almost everywhere, limits in mi/h step by 5. Were US values "
+        f"kept when the unit system ({plan.where('units')}) was set to metric? Every value is "
+        "read in the unit system chosen"
+    ]
+
+
 def site_ranges(plan: Plan) -> list[str]:
     """Site values outside the range of the published model that uses them."""
     s = plan.site
@@ -661,6 +697,7 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     road's pre-breakdown capacity with all lanes open (veh/h)."""
     return [
         *site_ranges(plan),
+        *speed_limits_in_mph(plan),
         *far_upstream(plan),
         *ramp_kind_against_name(plan),
         *large_ramp_share(plan),
