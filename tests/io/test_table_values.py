@@ -595,6 +595,60 @@ def test_rows_typed_below_the_table_are_named_together(kestrel: bytes) -> None:
     ) in plan.input_warnings
 
 
+@pytest.mark.parametrize("n", [5, 6, 7])
+def test_more_than_five_rows_below_the_table_are_named_five_then_counted(
+    kestrel: bytes, n: int
+) -> None:
+    # n one-hour closures on Monday 2027-05-03 (08:00, 10:00, ...), typed below the table:
+    # the first five rows are named, then "and N more" (none for five)
+    def edit(wb: Any) -> None:
+        for i in range(n):
+            third_closure(wb, BELOW + i)
+            ws = wb["Closures"]
+            ws[f"A{BELOW + i}"] = "2027-05-03"
+            ws[f"B{BELOW + i}"], ws[f"C{BELOW + i}"] = f"{8 + 2 * i}:00", f"{9 + 2 * i}:00"
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert len(plan.closures) == 2 + n
+    named = ", ".join(f"Closures!A{BELOW + i}" for i in range(5))
+    more = f" and {n - 5} more" if n > 5 else ""
+    assert (
+        f"{named}{more}: these rows lie below the table ClosureTable (which ends at row 35) "
+        "and were read as part of it; extend the table over them so that every program sees "
+        "them as rows of the table"
+    ) in plan.input_warnings
+
+
+@pytest.mark.parametrize("hide", ["format", "colour"])
+def test_a_blank_table_cell_that_would_not_show_a_value_is_not_queried(
+    kestrel: bytes, hide: str
+) -> None:
+    # the first closure's capacity override (Closures!G6) is blank: an empty number format
+    # or white text on it hides nothing, so nothing is said (its row's other cells are read)
+    def edit(wb: Any) -> None:
+        cell = wb["Closures"]["G6"]
+        assert cell.value is None
+        if hide == "format":
+            cell.number_format = ";;;"
+        else:
+            cell.font = openpyxl.styles.Font(color="FFFFFF")
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert not [w for w in plan.input_warnings if "cannot be seen" in w]
+
+    # the same style on a value typed there is said (the check is live)
+    def typed(wb: Any) -> None:
+        edit(wb)
+        wb["Closures"]["G6"] = 1500
+
+    plan = read(kestrel, typed)
+    assert isinstance(plan, Plan), plan
+    (said,) = [w for w in plan.input_warnings if "cannot be seen" in w]
+    assert said.startswith("Closures!G6: a value of ClosureTable cannot be seen on the sheet")
+
+
 def test_a_problem_in_a_row_below_the_table_says_why_the_row_was_read(kestrel: bytes) -> None:
     message = problem(kestrel, lambda wb: third_closure(wb, BELOW, lanes=2.5), f"Closures!D{BELOW}")
     assert message == (
