@@ -730,6 +730,46 @@ def test_a_hidden_row_is_read_with_a_warning(kestrel: bytes) -> None:
     ) in plan.input_warnings
 
 
+@pytest.mark.parametrize("n", [2, 5, 6, 7])
+def test_hidden_rows_are_named_five_then_counted(kestrel: bytes, n: int) -> None:
+    # the first n hours of the demand (Demand!A9 on) hidden: all read, the first five
+    # named, then "and N more" (none for five)
+    def edit(wb: Any) -> None:
+        for r in range(9, 9 + n):
+            wb["Demand"].row_dimensions[r].hidden = True
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert np.array_equal(plan.demand.flows_veh_h, load_plan(KESTREL).demand.flows_veh_h)
+    named = ", ".join(f"Demand!A{r}" for r in range(9, 9 + min(n, 5)))
+    more = f" and {n - 5} more" if n > 5 else ""
+    assert (
+        f"{named}{more}: hidden or filtered-out rows of {L.DEMAND_TABLE} read as part of the "
+        "plan (hiding a row does not take it out); delete or clear a row to leave it out"
+    ) in plan.input_warnings
+
+
+@pytest.mark.parametrize("n", [5, 6, 7])
+def test_values_that_cannot_be_seen_are_named_five_then_counted(kestrel: bytes, n: int) -> None:
+    # the first n hourly demands (Demand!C9 on) given the number format ';;;': all read,
+    # the first five named, then "and N more" (none for five), each reason once
+    def edit(wb: Any) -> None:
+        for r in range(9, 9 + n):
+            wb["Demand"][f"C{r}"].number_format = ";;;"
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert np.array_equal(plan.demand.flows_veh_h, load_plan(KESTREL).demand.flows_veh_h)
+    named = ", ".join(f"Demand!C{r}" for r in range(9, 14))
+    more = f" and {n - 5} more" if n > 5 else ""
+    assert (
+        f"{named}{more}: {n} values of {L.DEMAND_TABLE} cannot be seen on the sheet "
+        "(Demand!C9: its number format ';;;' shows nothing) but are read as part of the "
+        "plan; give the cells a visible format and colour to check them, or clear them to "
+        "leave them out"
+    ) in plan.input_warnings
+
+
 OVERRIDE = "Capacity override (veh/h/ln)"  # column G of the closure table
 
 
