@@ -646,7 +646,16 @@ def test_a_blank_table_cell_that_would_not_show_a_value_is_not_queried(
     plan = read(kestrel, typed)
     assert isinstance(plan, Plan), plan
     (said,) = [w for w in plan.input_warnings if "cannot be seen" in w]
-    assert said.startswith("Closures!G6: a value of ClosureTable cannot be seen on the sheet")
+    why = (
+        "its number format ';;;' shows nothing"
+        if hide == "format"
+        else "its text colour #FFFFFF on a fill of #FBEFD5 cannot be read"
+    )
+    assert said == (
+        f"Closures!G6: a value of ClosureTable cannot be seen on the sheet (Closures!G6: {why}) "
+        "but is read as part of the plan; give the cells a visible format and colour to check "
+        "them, or clear them to leave them out"
+    )
 
 
 def test_a_problem_in_a_row_below_the_table_says_why_the_row_was_read(kestrel: bytes) -> None:
