@@ -713,6 +713,31 @@ def test_values_beside_the_table_are_counted(kestrel: bytes) -> None:
     ) in plan.input_warnings
 
 
+@pytest.mark.parametrize(
+    ("rows", "named"),
+    [
+        ((5, 35), "Closures!I5, Closures!I35"),  # the header row and the table's last row
+        ((6, 7, 8), "Closures!I6, Closures!I7, Closures!I8"),  # three: all named
+        ((6, 7, 8, 9), "Closures!I6, Closures!I7, Closures!I8 and 1 more"),
+    ],
+)
+def test_values_beside_the_table_from_its_header_to_its_last_row_are_named(
+    kestrel: bytes, rows: tuple[int, ...], named: str
+) -> None:
+    # the closure table is Closures!A5:H35: column I beside it, from its header row (5) to
+    # its last row (35); three are named, then counted
+    def edit(wb: Any) -> None:
+        for r in rows:
+            wb["Closures"][f"I{r}"] = f"note {r}"
+
+    plan = read(kestrel, edit)
+    assert isinstance(plan, Plan), plan
+    assert (
+        f"{named}: values right beside the table ClosureTable (columns A to H) not read as "
+        "part of the plan; if it belongs to the plan, move it into the table's own columns"
+    ) in plan.input_warnings
+
+
 def test_a_value_beside_the_table_in_a_table_or_input_of_its_own_is_not_named(
     kestrel: bytes,
 ) -> None:
