@@ -603,6 +603,26 @@ def test_costs_blank_are_no_costs_and_given_are_read(kestrel: bytes) -> None:
     assert (c.truck_share, c.currency, c.dollar_year) == (0.125, "EUR", 2017)
 
 
+def test_a_cost_input_whose_name_is_gone_does_not_hide_the_others_problems(
+    kestrel: bytes,
+) -> None:
+    # costs given, the name of the truck share (before the currency and price year in the
+    # table of cost inputs) deleted, and a price year typed as words: both are said
+    def edit(wb: Any) -> None:
+        set_named(wb, "cost_dollar_year", "last year")
+        del wb.defined_names["cost_truck_percent"]
+
+    out = read(kestrel, edit)
+    assert isinstance(out, dict), out
+    assert set(out) == {"Limits (name cost_truck_percent)", "Limits!B17"}, out
+    assert out["Limits (name cost_truck_percent)"].startswith(
+        "the defined name cost_truck_percent (Trucks in the traffic) is missing"
+    ), out
+    assert out["Limits!B17"] == (
+        "Price year: 'last year' is text, not a number; type only the number, without its unit"
+    )
+
+
 @pytest.mark.parametrize(
     ("name", "where", "label"),
     [
