@@ -21,7 +21,7 @@ from typing import Any
 
 import openpyxl
 import pytest
-from openpyxl.styles import Font
+from openpyxl.styles import Font, PatternFill
 from openpyxl.styles.colors import Color
 from openpyxl.utils.datetime import CALENDAR_MAC_1904
 from workbook_helpers import (
@@ -1177,6 +1177,15 @@ def test_an_indexed_white_font_on_the_input_fill_is_unseen() -> None:
     assert unseen(cell) == "its text colour #FFFFFF on no fill cannot be read"
     cell.font = Font(color=Color(indexed=8))  # black
     assert unseen(cell) is None
+    # 64 and 65 are the system's foreground and background, past the 64 colours of the
+    # palette (0-63): they depend on the program, so are taken to be readable, on any fill
+    cell.fill = PatternFill("solid", fgColor="000000")
+    for system in (64, 65):
+        cell.font = Font(color=Color(indexed=system))
+        assert unseen(cell) is None
+    cell.fill = PatternFill("solid", fgColor="333333")
+    cell.font = Font(color=Color(indexed=63))  # the palette's last colour, #333333
+    assert unseen(cell) == "its text colour #333333 on a fill of #333333 cannot be read"
 
 
 # -- a time typed without its colon: the ends of the hours and minutes read from it ---------
