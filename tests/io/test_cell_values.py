@@ -1168,6 +1168,18 @@ def test_the_contrast_ratio_is_wcags(a: str, b: str, ratio: float) -> None:
     assert contrast(a, b) == pytest.approx(ratio, abs=0.005)
 
 
+def test_a_value_shown_in_a_white_normal_style_is_unseen() -> None:
+    """A cell without a style of its own takes the workbook's default format (cellXfs
+    entry 0, ECMA-376 Part 1, 18.8.10), here a white Normal font: its value is hidden."""
+    wb = openpyxl.Workbook()
+    cell = wb.active["A1"]
+    cell.value = 7
+    assert not cell.has_style
+    assert unseen(cell) is None  # the default Normal font: the theme's text colour
+    wb._fonts[0] = Font(color="FFFFFF")
+    assert unseen(cell) == "its text colour #FFFFFF on no fill cannot be read"
+
+
 def test_an_indexed_white_font_on_the_input_fill_is_unseen() -> None:
     """Excel's legacy palette: index 9 is white (openpyxl's COLOR_INDEX, from the OOXML
     standard, ECMA-376 Part 1, 18.8.27 indexedColors)."""

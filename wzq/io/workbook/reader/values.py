@@ -214,8 +214,10 @@ def unseen(cell: Any) -> str | None:
     """Why a cell's value is not shown on the sheet, or ``None`` when it is: a number
     format whose every section is empty (``;;;``) shows nothing, and text the colour of
     its fill (white on white) cannot be read. The value is still read as typed, so the
-    user must be told. A theme or automatic colour is taken to be readable."""
-    if cell is None or not getattr(cell, "has_style", False):
+    user must be told. A theme or automatic colour is taken to be readable. A cell with
+    no style of its own shows the workbook's default (its Normal style), which is
+    looked at too: a Normal font in white hides every value typed on white."""
+    if cell is None:
         return None
     fmt = cell.number_format or ""
     if ";" in fmt and not re.sub(r'""|;|\s', "", fmt):
