@@ -1168,6 +1168,29 @@ def test_the_contrast_ratio_is_wcags(a: str, b: str, ratio: float) -> None:
     assert contrast(a, b) == pytest.approx(ratio, abs=0.005)
 
 
+@pytest.mark.parametrize(
+    ("fmt", "hidden"),
+    [
+        (";;;", True),
+        ('"";"";""', True),  # each section an empty text: shows nothing
+        ("; ; ;", True),  # spaces only
+        (";;;@", False),  # text is shown
+        ('"n/a";;;', False),
+        ("General", False),
+    ],
+)
+def test_a_number_format_whose_every_section_is_empty_hides_the_value(
+    fmt: str, hidden: bool
+) -> None:
+    # a number format has up to four sections separated by ';' (ECMA-376 Part 1, 18.8.31);
+    # one whose sections hold nothing, or only empty text or spaces, shows nothing
+    cell = openpyxl.Workbook().active["A1"]
+    cell.value = 7
+    cell.number_format = fmt
+    said = unseen(cell)
+    assert said == (f"its number format '{fmt}' shows nothing" if hidden else None)
+
+
 def test_a_value_shown_in_a_white_normal_style_is_unseen() -> None:
     """A cell without a style of its own takes the workbook's default format (cellXfs
     entry 0, ECMA-376 Part 1, 18.8.10), here a white Normal font: its value is hidden."""

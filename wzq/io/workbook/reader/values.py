@@ -219,10 +219,10 @@ def unseen(cell: Any) -> str | None:
     looked at too: a Normal font in white hides every value typed on white."""
     if cell is None:
         return None
-    fmt = cell.number_format or ""
+    fmt = cell.number_format  # openpyxl gives every cell one ("General" by default)
     if ";" in fmt and not re.sub(r'""|;|\s', "", fmt):
         return f"its number format '{fmt}' shows nothing"
-    text = _rgb(cell.font.color if cell.font is not None else None)
+    text = _rgb(cell.font.color)  # openpyxl gives every cell a font (its default)
     if text is None:
         return None
     fill = cell.fill
