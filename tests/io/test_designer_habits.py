@@ -162,6 +162,25 @@ def test_a_copy_of_an_input_sheet_renamed_is_named_by_the_names_excel_copies_wit
     ]
 
 
+def test_a_copy_renamed_as_a_copy_of_another_input_sheet_is_named_by_its_names(tmp_path):
+    """A copy of Site renamed 'Demand (2)' (the title Excel gives a copy of Demand): the
+    sheet-level names Excel copied with it say it is Site's copy, so the designer is sent
+    to Site, where the lanes typed on the copy belong, not to Demand."""
+
+    def copy_site(book):
+        ws = book.copy_worksheet(book["Site"])
+        ws.title = "Demand (2)"
+        ws["B8"] = 2
+        ws.defined_names["site_lanes"] = DefinedName("site_lanes", attr_text="'Demand (2)'!$B$8")
+
+    plan = read_plan(_kestrel(tmp_path, copy_site))
+    assert plan.site.lanes == 3
+    assert [w for w in plan.input_warnings if "copy" in w] == [
+        "sheet 'Demand (2)': this sheet looks like a copy of the input sheet 'Site' and is not "
+        "read: the plan is read from 'Site' only; type your changes there, or delete the copy"
+    ]
+
+
 def test_a_value_typed_in_the_comment_of_a_blank_table_cell_is_said(tmp_path):
     """Night 2's capacity override (Closures!G7) left blank, the agency's figure typed in
     a comment: the capacity model is used, and the comment named under its column."""

@@ -165,8 +165,8 @@ class PlanReader:
         """Warn about a copy of an input sheet ("Demand (2)" as Excel names it, "Demand_2"
         as LibreOffice does), a sheet holding a copy of an input table ("DemandTable2"), or
         one holding sheet-level copies of the input names (as Excel copies them, whatever
-        the copy is renamed to): only the input sheet itself is read, so values typed on
-        the copy are not used."""
+        the copy is renamed to; they name the sheet copied before the copy's title does):
+        only the input sheet itself is read, so values typed on the copy are not used."""
         counts = self.peek("history_file_sheet")
         cell = counts[0]._cells.get(counts[1:]) if counts else None
         chosen = getattr(cell, "value", None)  # the sheet chosen to hold the count history
@@ -179,18 +179,20 @@ class PlanReader:
                 continue
             if title.strip().casefold() == counts_on:
                 continue  # a sheet chosen to hold the count history is read
+            # Excel gives the copy of a sheet its own (sheet-level) copies of the
+            # workbook's names that point at the sheet copied: they say which sheet was
+            # copied whatever the copy is renamed to, so they come before its title
+            home = None
+            for name in ws.defined_names:
+                at = self.peek(name) if name in _INPUT_NAMES else None
+                home = at[0].title if at and at[0].title in L.INPUT_SHEETS else home
             m = _COPY_TITLE.fullmatch(title.strip())
-            home = inputs.get(m.group(1).casefold()) if m else None
+            home = home or (inputs.get(m.group(1).casefold()) if m else None)
             for name in ws.tables:
                 m = _COPY_TABLE.fullmatch(name)
                 table = tables.get(m.group(1).casefold()) if m else None
                 found = self.find_table(table) if table and home is None else None
                 home = found[0].title if found else home
-            # Excel gives the copy of a sheet its own (sheet-level) copies of the
-            # workbook's names that point at the sheet copied
-            for name in ws.defined_names if home is None else ():
-                at = self.peek(name) if name in _INPUT_NAMES else None
-                home = at[0].title if at and at[0].title in L.INPUT_SHEETS else home
             if home is not None:
                 self.note(
                     f"sheet '{title}'",
