@@ -181,6 +181,35 @@ def test_a_copy_renamed_as_a_copy_of_another_input_sheet_is_named_by_its_names(t
     ]
 
 
+def test_a_renamed_copy_is_named_by_any_workbook_name_excel_copied_with_it(tmp_path):
+    """A copy of Approach renamed 'Approach v2' whose landmark table was converted to a
+    range (no table copy left to tell): the sheet-level copy of the template's
+    'approach_landmark_names' says where it came from; a copy of Demand renamed
+    'Counts 2026' is told by the designer's own name for a Demand cell. A sheet-level
+    name no workbook name matches tells nothing."""
+
+    def copies(book):
+        ws = book.copy_worksheet(book["Approach"])
+        ws.title = "Approach v2"
+        ws.defined_names["approach_landmark_names"] = DefinedName(
+            "approach_landmark_names", attr_text="'Approach v2'!$A$8:$A$19"
+        )
+        book.defined_names["my_peak"] = DefinedName("my_peak", attr_text="Demand!$C$20")
+        ws = book.copy_worksheet(book["Demand"])
+        ws.title = "Counts 2026"
+        ws.defined_names["my_peak"] = DefinedName("my_peak", attr_text="'Counts 2026'!$C$20")
+        mine = book.create_sheet("My sums")
+        mine.defined_names["my_total"] = DefinedName("my_total", attr_text="'My sums'!$A$1")
+
+    plan = read_plan(_kestrel(tmp_path, copies))
+    said = [w for w in plan.input_warnings if "copy" in w]
+    assert said == [
+        f"sheet '{title}': this sheet looks like a copy of the input sheet '{home}' and is not "
+        f"read: the plan is read from '{home}' only; type your changes there, or delete the copy"
+        for title, home in (("Approach v2", "Approach"), ("Counts 2026", "Demand"))
+    ]
+
+
 def test_a_value_typed_in_the_comment_of_a_blank_table_cell_is_said(tmp_path):
     """Night 2's capacity override (Closures!G7) left blank, the agency's figure typed in
     a comment: the capacity model is used, and the comment named under its column."""

@@ -44,7 +44,6 @@ _INPUT_TABLES = (
 )
 
 #: The defined names of the inputs (a sheet-level copy of one marks a copied input sheet).
-_INPUT_NAMES = frozenset(f.name for f in F.ALL_FIELDS if f.name)
 
 __all__ = [
     "PlanReader",
@@ -164,8 +163,9 @@ class PlanReader:
     def copied_sheets(self) -> None:
         """Warn about a copy of an input sheet ("Demand (2)" as Excel names it, "Demand_2"
         as LibreOffice does), a sheet holding a copy of an input table ("DemandTable2"), or
-        one holding sheet-level copies of the input names (as Excel copies them, whatever
-        the copy is renamed to; they name the sheet copied before the copy's title does):
+        one holding sheet-level copies of the workbook's names that point into an input
+        sheet (as Excel copies them, whatever the copy is renamed to; they name the sheet
+        copied before the copy's title does):
         only the input sheet itself is read, so values typed on the copy are not used."""
         counts = self.peek("history_file_sheet")
         cell = counts[0]._cells.get(counts[1:]) if counts else None
@@ -180,11 +180,12 @@ class PlanReader:
             if title.strip().casefold() == counts_on:
                 continue  # a sheet chosen to hold the count history is read
             # Excel gives the copy of a sheet its own (sheet-level) copies of the
-            # workbook's names that point at the sheet copied: they say which sheet was
-            # copied whatever the copy is renamed to, so they come before its title
+            # workbook's names that point at the sheet copied (the template's, the
+            # designer's own): they say which sheet was copied whatever the copy is
+            # renamed to, so they come before its title
             home = None
             for name in ws.defined_names:
-                at = self.peek(name) if name in _INPUT_NAMES else None
+                at = self.peek(name)
                 home = at[0].title if at and at[0].title in L.INPUT_SHEETS else home
             m = _COPY_TITLE.fullmatch(title.strip())
             home = home or (inputs.get(m.group(1).casefold()) if m else None)
