@@ -723,6 +723,56 @@ def test_a_workbook_without_our_names(tmp_path: Path, capsys: pytest.CaptureFixt
     assert "other.xlsx: this workbook has none of the wzq input names" in lines[0]
 
 
+def test_a_workbook_of_someone_elses_with_a_table_of_its_own(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    """A table that is not one of ours does not make a workbook a plan: refused whole,
+    with what to do."""
+    path = tmp_path / "crew roster.xlsx"
+    wb = Workbook()
+    ws = wb.active
+    ws["A1"], ws["B1"], ws["A2"], ws["B2"] = "Crew", "Shift", "North", "night"
+    ws.add_table(Table(displayName="Table1", ref="A1:B2"))
+    wb.save(path)
+    status, lines = check(path, capsys)
+    assert status == 2
+    assert lines[0] == (
+        "wzq: crew roster.xlsx: this workbook has none of the wzq input names or tables; "
+        "start from a workbook made by `wzq new` and copy your inputs into it"
+    )
+
+
+def test_a_plan_whose_input_names_are_gone_is_read_by_its_tables(kestrel_book: Path) -> None:
+    """Every defined name deleted (a workbook rebuilt by copying sheets): the tables are
+    ours, so the workbook is read and each missing input named, not refused whole."""
+    wb = load_workbook(kestrel_book)
+    for name in list(wb.defined_names):
+        del wb.defined_names[name]
+    with pytest.raises(PlanError) as e:
+        read_plan_from_book(wb, "kestrel.xlsx")
+    said = {p.where: p.message for p in e.value.problems}
+    assert said["Start (name unit_system)"] == (
+        "the defined name unit_system (Unit system) is missing; restore it in the Name "
+        "Manager pointing at its value cell, or copy your inputs into a fresh workbook from "
+        "`wzq new`"
+    )
+    assert not any("none of the wzq input names" in m for m in said.values())
+
+
+def test_a_plan_whose_tables_are_gone_is_read_by_its_names(kestrel_book: Path) -> None:
+    """Every table converted to a plain range (names kept): the workbook is still a plan,
+    and the missing demand table is named, not the whole workbook refused."""
+    wb = load_workbook(kestrel_book)
+    for ws in wb.worksheets:
+        for name in list(ws.tables):
+            del ws.tables[name]
+    with pytest.raises(PlanError) as e:
+        read_plan_from_book(wb, "kestrel.xlsx")
+    said = [f"{p.where}: {p.message}" for p in e.value.problems]
+    assert not any("none of the wzq input names" in m for m in said)
+    assert any("DemandTable" in m for m in said), said
+
+
 def test_plan_level_problems_map_back_to_cells(
     kestrel_book: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
