@@ -144,6 +144,17 @@ def test_design_demand_is_the_mean_of_the_five_counted_wednesdays(tmp_path: Path
     assert not any("DemandTable" in w for w in plan.input_warnings)
 
 
+def test_a_count_history_alone_carries_the_risk_typed_on_the_limits_sheet(
+    tmp_path: Path,
+) -> None:
+    """No capacity spread given: the count history's weeks are the scenarios, so the
+    plan keeps the Limits sheet's risk options (the window risk typed as 40 %)."""
+    plan = read_plan(history_book(tmp_path, risk_window_percent=40))
+    assert plan.risk is not None
+    assert plan.risk.capacity_cv is None
+    assert plan.risk.window_risk == pytest.approx(0.4)
+
+
 def test_percentile_window_and_growth_cells_are_used(tmp_path: Path) -> None:
     # 85th percentile, numpy's default linear rule (Hyndman & Fan 1996, definition 7):
     # sorted 1400, 1450, 1600, 1700, 1800; rank 0.85 x 4 = 3.4 -> 1700 + 0.4 x 100 = 1740
