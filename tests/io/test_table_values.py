@@ -708,8 +708,8 @@ def test_values_beside_the_table_are_counted(kestrel: bytes) -> None:
     assert isinstance(plan, Plan), plan
     assert (
         "Closures!I6, Closures!I7, Closures!I8 and 2 more: values right beside the table "
-        "ClosureTable (columns A to H) not read as part of the plan; if it belongs to the "
-        "plan, move it into the table's own columns"
+        "ClosureTable (columns A to H) not read as part of the plan; if they belong to the "
+        "plan, move them into the table's own columns"
     ) in plan.input_warnings
 
 
@@ -734,7 +734,7 @@ def test_values_beside_the_table_from_its_header_to_its_last_row_are_named(
     assert isinstance(plan, Plan), plan
     assert (
         f"{named}: values right beside the table ClosureTable (columns A to H) not read as "
-        "part of the plan; if it belongs to the plan, move it into the table's own columns"
+        "part of the plan; if they belong to the plan, move them into the table's own columns"
     ) in plan.input_warnings
 
 

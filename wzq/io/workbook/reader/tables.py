@@ -301,12 +301,17 @@ class TableReader:
         ]
         if found:
             more = f" and {len(found) - 3} more" if len(found) > 3 else ""
+            one = len(found) == 1
+            move = (
+                "if it belongs to the plan, move it"
+                if one
+                else "if they belong to the plan, move them"
+            )
             self.note(
                 ", ".join(found[:3]) + more,
-                f"{'a value' if len(found) == 1 else 'values'} right beside the table {t.name} "
-                f"(columns {get_column_letter(t.min_col)} to {get_column_letter(t.max_col)}) "
-                "not read as part of the plan; if it belongs to the plan, move it into the "
-                "table's own columns",
+                f"{'a value' if one else 'values'} right beside the table {t.name} (columns "
+                f"{get_column_letter(t.min_col)} to {get_column_letter(t.max_col)}) not read as "
+                f"part of the plan; {move} into the table's own columns",
             )
 
     def where(self, t: _Table, row: int, header: str) -> str:
