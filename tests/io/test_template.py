@@ -126,6 +126,23 @@ def test_start_sheet_has_caution_instructions_and_units(built: dict[bool, Path])
     assert wb[sheet][coord.replace("$", "")].value == "US customary"  # chosen first
 
 
+def test_printed_input_sheets_say_what_they_are(built: dict[bool, Path]) -> None:
+    """The Count history sheet holds its table alone, so printed empty it was a page of
+    column heads: its page header says what the sheet is and when it is read, and its
+    head row repeats on every page. Every input sheet's footer gives its name and page."""
+    wb = load_workbook(built[False])
+    counts = wb[L.COUNTS]
+    assert counts.oddHeader.left.text == (
+        "&BCount history&B: the counts of one direction, a date then 24 hourly counts a "
+        "row; read only when the Demand sheet's 'Demand is given as' takes the demand from "
+        "a count history"
+    )
+    assert counts.print_title_rows == "$1:$1"
+    for name in L.INPUT_SHEETS:
+        footer = wb[name].oddFooter
+        assert (footer.left.text, footer.right.text) == ("&A", "Page &P of &N"), name
+
+
 def test_hourly_share_table_is_filled_and_sums_to_100(built: dict[bool, Path]) -> None:
     wb = load_workbook(built[False])
     ws = wb[L.DEMAND]

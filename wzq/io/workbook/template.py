@@ -493,6 +493,13 @@ def _history_block(wb: xlsxwriter.Workbook, ws: Worksheet, f: dict) -> None:
     _sections(wb, ws, F.HISTORY_SECTIONS, row + 1, f, col=col)
 
 
+#: The printed Count history sheet's page header (its cells hold the table alone).
+_COUNTS_PRINTED = (
+    "the counts of one direction, a date then 24 hourly counts a row; read only when the "
+    "Demand sheet's 'Demand is given as' takes the demand from a count history"
+)
+
+
 def _counts_sheet(ws: Worksheet, f: dict) -> None:
     """A sheet to paste a count history into: a header row, then one day a row (wide form).
 
@@ -505,6 +512,10 @@ def _counts_sheet(ws: Worksheet, f: dict) -> None:
     ws.set_column(0, 0, 16, f["in_date"])
     ws.set_column(1, 24, 7, f["in_flow"])
     ws.freeze_panes(1, 1)
+    # printed, the sheet says what it is in the page header (its cells hold the table
+    # alone), and its header row is repeated on every page of a long history
+    ws.set_header(f"&L&B{L.COUNTS}&B: {_COUNTS_PRINTED}")
+    ws.repeat_rows(0)
 
 
 def _override_label() -> str:
@@ -683,6 +694,7 @@ def build_template(path: Path, *, macro: bool) -> None:
     for ws in sheets.values():
         ws.set_landscape()
         ws.fit_to_pages(1, 0)
+        ws.set_footer("&L&A&RPage &P of &N")  # the sheet's name; the page of the printout
     sheets[L.START].activate()
     wb.close()
 
