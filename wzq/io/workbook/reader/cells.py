@@ -44,6 +44,7 @@ from wzq.io.workbook.reader.values import (
     hidden_column,
     hidden_row,
     other_weekday,
+    typed_unit,
     unseen,
 )
 from wzq.io.workbook.saved_values import SharedStrings, typed
@@ -286,7 +287,47 @@ class CellReader:
                 f"({_show(v)}); give the cell a visible format and colour to check it, or "
                 "clear it to leave it blank",
             )
+        if not _blank(v) and v is not _MISSING:
+            shown = ws._cells.get((row, col + 1))  # the unit cell, right of the value
+            text = shown.value if shown is not None and shown.data_type == "s" else None
+            clash = self.other_unit(text, field.unit, f"beside {field.label} ({where})")
+            if clash:
+                return self.bad(cell_ref(ws.title, row, col + 1), clash)
         return self.convert(v, field, where, percent_cell=self.percent_cell(ws, row, col))
+
+    def other_unit(self, text: Any, unit: str, what: str, them: str = "the value") -> str | None:
+        """What to say when the text of a unit cell (typed over the template's, which
+        follows the unit system) names another unit than the one ``unit`` is read in
+        (``'km/h'`` beside a speed of a US customary plan: the sheet shows 80 km/h, and
+        80 mi/h would be read), else ``None``. Lengths are compared for a unit that
+        follows the unit system, times for a fixed one (``'s/veh'`` for min/veh); text
+        naming no unit, or the unit read, is left alone."""
+        if not isinstance(text, str) or self.system is None:
+            return None
+        follows = unit in F.UNIT_KINDS
+        read_in = F.UNIT_KINDS[unit][self.system == "metric"] if follows else unit
+        want = typed_unit(read_in, lengths=follows)
+        got = typed_unit(text, lengths=follows)
+        if want is None or got is None or got == want:
+            return None
+        it = "it is" if them == "the value" else "they are"
+        other = "metric" if self.system == "us" else "us"
+        but = "but"  # then "the value is read in ..."
+        fix = f"type {'it' if them == 'the value' else 'them'} in {read_in}"
+        if follows:
+            start = self.where_of.get(F.UNIT_SYSTEM.name, L.START)
+            but = f"but the plan is in {L.word_for(L.UNIT_WORDS, self.system)} units ({start}), so"
+            there = F.UNIT_KINDS[unit][other == "metric"]
+            if typed_unit(there) == got:
+                fix = (
+                    f"if {it} in {there}, choose '{L.word_for(L.UNIT_WORDS, other)}' on "
+                    f"{start}, else {fix}"
+                )
+        return (
+            f"the unit {what} says {_show(text)}, {but} {them} "
+            f"{'is' if them == 'the value' else 'are'} read in {read_in}; {fix}; then put the "
+            f"unit back ({read_in})"
+        )
 
     # -- conversions ------------------------------------------------------------------------
 

@@ -32,6 +32,7 @@ __all__ = [
     "hidden_column",
     "hidden_row",
     "other_weekday",
+    "typed_unit",
     "unseen",
 ]
 
@@ -254,3 +255,29 @@ def other_weekday(text: str, day: dt.date) -> str | None:
         f"{day:%Y-%m-%d} is a {day:%A}, not a {typed:%A}; type the date you mean "
         "(the weekday may be left out)"
     )
+
+
+#: Words naming a unit of length, or of time, as typed in a unit cell: the canonical unit
+#: each names. A speed or density is told by its length (``km/h``, ``veh/mi/ln``); the
+#: run-together speeds name theirs (common practice, no source).
+_UNIT_WORDS: dict[str, str] = {
+    **dict.fromkeys(("mi", "mile", "miles", "mph"), "mi"),
+    **dict.fromkeys(("km", "kms", "kilometre", "kilometres", "kilometer", "kilometers"), "km"),
+    **dict.fromkeys(("kph", "kmh", "kmph"), "km"),
+    **dict.fromkeys(("ft", "foot", "feet"), "ft"),
+    **dict.fromkeys(("m", "metre", "metres", "meter", "meters"), "m"),
+    **dict.fromkeys(("s", "sec", "secs", "second", "seconds"), "s"),
+    **dict.fromkeys(("min", "mins", "minute", "minutes"), "min"),
+    **dict.fromkeys(("h", "hr", "hrs", "hour", "hours"), "h"),
+}
+_LENGTHS = frozenset(("mi", "km", "ft", "m"))
+
+
+def typed_unit(text: str, lengths: bool = True) -> str | None:
+    """The one unit of length (``lengths``) or else of time that a unit cell's text names
+    (``'kph'`` -> ``'km'``, ``'veh/mi/ln'`` -> ``'mi'``, ``'s/veh'`` -> ``'s'``), or
+    ``None`` when it names none, or more than one (``'mi (km)'``)."""
+    words = re.findall(r"[a-z]+", text.casefold())
+    found = {_UNIT_WORDS[w] for w in words if w in _UNIT_WORDS}
+    found = found & _LENGTHS if lengths else found - _LENGTHS
+    return found.pop() if len(found) == 1 else None
