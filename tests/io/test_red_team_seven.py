@@ -8,12 +8,18 @@ names the cell.
 
 from __future__ import annotations
 
+import dataclasses
+import datetime as dt
 from pathlib import Path
 
+import numpy as np
 import pytest
-from workbook_helpers import edited
+from workbook_helpers import edited, fill_template
 
+import wzq
+from wzq.engine import plausibility
 from wzq.engine.plan import PlanError
+from wzq.io.jsonplan import load_plan
 from wzq.io.workbook.reader import read_plan
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
@@ -126,3 +132,50 @@ def test_a_delay_limit_whose_unit_was_overtyped_as_seconds_is_refused(tmp_path):
         "but the value is read in min/veh; type it in min/veh; then put the unit back "
         "(min/veh)"
     ]
+
+
+# -- counts per 15 minutes typed as the flow in veh/h -------------------------------------
+
+
+def _quarter_hours(per_quarter: bool):
+    """Kestrel Ridge's 72 hours of demand typed as 288 rows of 15 minutes: each hour's
+    flow (veh/h) in each of its quarters, or (``per_quarter``) the vehicles counted in
+    each quarter, a quarter of it, as a counter's export gives them."""
+    plan = load_plan(EXAMPLES / "kestrel_ridge_weeknight.json")
+    q = np.repeat(plan.demand.flows_veh_h, 4) / (4 if per_quarter else 1)
+    demand = dataclasses.replace(plan.demand, interval_s=900, flows_veh_h=q)
+    return dataclasses.replace(plan, demand=demand)
+
+
+def test_counts_per_15_minutes_typed_as_the_demand_are_queried_at_the_busiest_row(tmp_path):
+    """Kestrel Ridge: 1,350 vehicles counted in 15 minutes at Mon 17:00 (5,400 veh/h)
+    typed in "Demand (veh/h)": read as 1,350 veh/h, so the closure showed no queue.
+    The busiest row of three whole days carries at most a quarter of what the 3 open
+    lanes carry (2,222 veh/h/ln, 6,667 veh/h), as counts per 15 minutes would."""
+    path = fill_template(_quarter_hours(per_quarter=True), tmp_path / "quarters.xlsx")
+    plan = read_plan(path)
+    said = [w for w in wzq.analyse(plan).warnings if "15 minutes" in w]
+    assert said == [
+        "Demand!C77: the busiest 15-minute row of the demand, 1,350 veh/h at Mon 2027-05-03 "
+        "17:00, is at most a quarter of the open road's capacity (6,667 veh/h on 3 lanes) "
+        "over 3 days of 15-minute rows: are these the vehicles counted in each 15 minutes? "
+        "The demand is a flow in veh/h: type each count times 4 (1,350 is 5,400 veh/h)"
+    ]
+
+
+def test_flows_in_veh_h_on_15_minute_rows_are_not_queried():
+    plan = _quarter_hours(per_quarter=False)
+    open_capacity = 3 * 2222.2222222222  # the open road's, as the Site sheet gives it
+    assert plausibility.counts_per_interval(plan, open_capacity) == []
+    # a night's 15-minute counts (less than a day: the day's busiest hours are not
+    # there to compare) are not queried either
+    night = _quarter_hours(per_quarter=True)  # Mon 20:00 to Tue 06:00, the first closure
+    quarters = night.demand.flows_veh_h[80:120]
+    start = night.demand.start + dt.timedelta(hours=20)
+    demand = dataclasses.replace(night.demand, start=start, flows_veh_h=quarters)
+    night = dataclasses.replace(night, demand=demand, closures=night.closures[:1])
+    assert plausibility.counts_per_interval(night, open_capacity) == []
+    # nor hourly counts of a light road
+    for name in ("kestrel_ridge_weeknight", "ashgrove_bypass_week", "fenwick_downs_weekend"):
+        hourly = load_plan(EXAMPLES / f"{name}.json")
+        assert plausibility.counts_per_interval(hourly, 1000.0) == [], name

@@ -23,6 +23,7 @@ from wzq.models.capacity import LATERAL_DISTANCE_RANGE_FT
 
 __all__ = [
     "BUSY_VEH_H_LN",
+    "COUNTS_INTERVAL_S",
     "DAY_END_HOUR",
     "DAY_START_HOUR",
     "FAR_UPSTREAM_MI",
@@ -43,6 +44,7 @@ __all__ = [
     "SORTED_SPAN_H",
     "THOUSANDS_BELOW",
     "above_open_road",
+    "counts_per_interval",
     "days_left_out_not_counted",
     "delay_limit_in_hours",
     "delay_limit_in_seconds",
@@ -114,6 +116,12 @@ THOUSANDS_BELOW = 10.0
 #: mi/h step by 5 (45, 55, 65 mi/h); a metric limit that is an odd multiple of 5 is
 #: queried as mi/h typed in a metric plan (common practice, no source; from memory).
 METRIC_LIMIT_STEP_KMH = 10
+#: Demand rows this long or shorter (s) whose busiest, over a whole day or more, carries
+#: no more than the open road would in one row are queried as vehicles counted per row
+#: typed as veh/h: 15 minutes or less, as a day whose busiest 15 minutes load the open
+#: road to a quarter of its capacity is rare on a road that needs a closure plan, while
+#: 30-minute rows at half of it are not (common practice, no source).
+COUNTS_INTERVAL_S = 900
 #: Warnings of one kind listed one by one before the rest are counted.
 MAX_LISTED = 5
 
@@ -597,6 +605,39 @@ def site_ranges(plan: Plan) -> list[str]:
     return out
 
 
+def counts_per_interval(plan: Plan, open_capacity_veh_h: float) -> list[str]:
+    """Vehicles counted in each 15 minutes typed where the flow in veh/h is asked.
+
+    A counter's export gives vehicles per interval; typed as they are on 15-minute rows,
+    each flow is read a quarter of what it is, and a closure that queues shows none.
+    Queried when the rows are :data:`COUNTS_INTERVAL_S` or shorter, cover a whole day or
+    more (the day's busiest hours among them), and the busiest row carries no more than
+    the open road's capacity (all lanes open) would in one row: a quarter of it for
+    15-minute rows, as counts would, and as flows on such a road seldom do (common
+    practice, no source). The busiest row is named.
+    """
+    d = plan.demand
+    q = d.flows_veh_h
+    n = round(3600 / d.interval_s)
+    if d.interval_s > COUNTS_INTERVAL_S or len(q) * d.interval_s < 24 * 3600:
+        return []
+    i = int(np.argmax(q))
+    if not 0 < q[i] <= open_capacity_veh_h / n * (1 + 1e-9):
+        return []
+    t = d.start + dt.timedelta(seconds=i * d.interval_s)
+    minutes = d.interval_s // 60
+    days = len(q) * d.interval_s / 86400
+    share = {4: "a quarter", 2: "a half"}.get(n, f"1/{n}")
+    return [
+        f"{plan.where(demand_key(i))}: the busiest {minutes}-minute row of the demand, "
+        f"{q[i]:,.0f} veh/h at {_when(t)}, is at most {share} of the open road's capacity "
+        f"({open_capacity_veh_h:,.0f} veh/h on {plan.site.lanes} lanes) over {days:g} days "
+        f"of {minutes}-minute rows: are these the vehicles counted in each {minutes} "
+        f"minutes? The demand is a flow in veh/h: type each count times {n} ({q[i]:,.0f} "
+        f"is {q[i] * n:,.0f} veh/h)"
+    ]
+
+
 def thousands_as_decimals(plan: Plan) -> list[str]:
     """Daytime flows such as 1.5 veh/h among flows of hundreds: counts of thousands
     typed or pasted with the thousands separator of another locale ("1.500" for 1,500
@@ -703,6 +744,7 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *large_ramp_share(plan),
         *ramps_at_one_point(plan),
         *above_open_road(plan, open_capacity_veh_h),
+        *counts_per_interval(plan, open_capacity_veh_h),
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),
         *delay_limit_in_seconds(plan),
