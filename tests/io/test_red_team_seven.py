@@ -182,3 +182,61 @@ def test_flows_in_veh_h_on_15_minute_rows_are_not_queried():
     for name in ("kestrel_ridge_weeknight", "ashgrove_bypass_week", "fenwick_downs_weekend"):
         hourly = load_plan(EXAMPLES / f"{name}.json")
         assert plausibility.counts_per_interval(hourly, 1000.0) == [], name
+
+
+# -- rows of an input sheet sorted, the names left on their cells -------------------------
+
+
+def _sort_rows(ws, first: int, last: int) -> None:
+    """Sort rows ``first``-``last`` of columns A:D by their label, as Excel's Sort does:
+    the values travel with their labels, the defined names stay on their cells."""
+    rows = [[ws.cell(r, c).value for c in range(1, 5)] for r in range(first, last + 1)]
+    rows.sort(key=lambda row: str(row[0]))
+    for r, values in zip(range(first, last + 1), rows, strict=True):
+        for c, v in enumerate(values, 1):
+            ws.cell(r, c).value = v
+
+
+def test_the_limits_rows_sorted_by_their_labels_are_refused(tmp_path):
+    """Limits!A6:D9 sorted A to Z: the queue limit (1 mi) moved to row 8, where the name
+    of the demand/capacity limit points, and the blank demand/capacity limit to row 6:
+    read as no queue limit and a demand/capacity limit of 1, without a word."""
+    said = _refusals(_kestrel(tmp_path, lambda book: _sort_rows(book["Limits"], 6, 9)))
+    moved = (
+        "the rows were sorted or moved, and the names stayed on their cells; put the rows "
+        "back as the template has them (undo the sort), or copy your inputs into a fresh "
+        "workbook from `wzq new`"
+    )
+    assert said == [
+        "Limits!B6: the name limit_queue_length (Longest allowed queue) points at this cell, "
+        f"but its label (Limits!A6) is 'Highest allowed demand / capacity': {moved}",
+        "Limits!B8: the name limit_demand_capacity (Highest allowed demand / capacity) points "
+        f"at this cell, but its label (Limits!A8) is 'Longest allowed queue': {moved}",
+    ]
+
+
+def test_two_rows_swapped_are_refused_and_a_label_of_ones_own_is_read(tmp_path):
+    """The rows of the two capacity drops dragged past each other (13.4 % read as the open
+    road's drop, 7 % as the work zone's), and, in another workbook, a label retyped in the
+    designer's words: the first refused at both cells, the second read as before."""
+
+    def swap(book):
+        ws = book["Site"]
+        for c in range(1, 5):
+            ws.cell(24, c).value, ws.cell(25, c).value = ws.cell(25, c).value, ws.cell(24, c).value
+
+    said = _refusals(_kestrel(tmp_path, swap))
+    assert [s.split(": ", 1)[0] for s in said] == ["Site!B24", "Site!B25"]
+    assert said[0].startswith(
+        "Site!B24: the name site_capacity_drop_work_zone (Capacity drop at breakdown, work "
+        "zone) points at this cell, but its label (Site!A24) is 'Capacity drop at breakdown, "
+        "open road': "
+    )
+
+    def own_words(book):
+        book["Limits"]["A6"] = "Longest queue the county allows"
+        book["Site"]["A24"] = "capacity drop at breakdown,   WORK ZONE"
+
+    plan, base = read_plan(_kestrel(tmp_path, own_words)), read_plan(KESTREL)
+    assert (plan.site, plan.thresholds) == (base.site, base.thresholds)
+    assert plan.thresholds.max_queue_length == pytest.approx(1609.344)  # 1 mi, in m

@@ -53,6 +53,9 @@ __all__ = [
     "CellReader",
 ]
 
+#: The labels of the named inputs, as the template types them left of their value cells.
+_LABELS = frozenset(_norm(f.label) for f in F.ALL_FIELDS if f.name and f.label)
+
 
 class CellReader:
     """Part of the workbook reader (:class:`wzq.io.workbook.reader.BookReader`)."""
@@ -272,6 +275,8 @@ class CellReader:
             return _MISSING
         ws, row, col = loc
         where = cell_ref(ws.title, row, col)
+        if self.moved_label(ws, row, col, field, where):
+            return _MISSING
         v = self.raw(ws, row, col)
         if not _blank(v) and v is not _MISSING and _hidden(ws, row, col):
             self.note(
@@ -294,6 +299,27 @@ class CellReader:
             if clash:
                 return self.bad(cell_ref(ws.title, row, col + 1), clash)
         return self.convert(v, field, where, percent_cell=self.percent_cell(ws, row, col))
+
+    def moved_label(self, ws: Worksheet, row: int, col: int, field: F.Field, where: str) -> bool:
+        """The label left of a named value cell is another input's (a problem recorded):
+        the rows of the sheet were sorted or dragged past each other, the values moving
+        with their labels while each defined name stayed on its cell, so the name would
+        read its neighbour's value (the queue limit read as the demand/capacity limit).
+        A label of the user's own words is left alone."""
+        cell = ws._cells.get((row, col - 1)) if col > 1 else None
+        text = cell.value if cell is not None and cell.data_type == "s" else None
+        if not isinstance(text, str) or _norm(text) == _norm(field.label):
+            return False
+        if _norm(text) not in _LABELS:
+            return False
+        self.bad(
+            where,
+            f"the name {field.name} ({field.label}) points at this cell, but its label "
+            f"({cell_ref(ws.title, row, col - 1)}) is {_show(text)}: the rows were sorted or "
+            "moved, and the names stayed on their cells; put the rows back as the template "
+            "has them (undo the sort), or copy your inputs into a fresh workbook from `wzq new`",
+        )
+        return True
 
     def other_unit(self, text: Any, unit: str, what: str, them: str = "the value") -> str | None:
         """What to say when the text of a unit cell (typed over the template's, which
