@@ -14,6 +14,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from openpyxl.workbook.defined_name import DefinedName
 from workbook_helpers import edited, fill_template
 
 import wzq
@@ -240,3 +241,18 @@ def test_two_rows_swapped_are_refused_and_a_label_of_ones_own_is_read(tmp_path):
     plan, base = read_plan(_kestrel(tmp_path, own_words)), read_plan(KESTREL)
     assert (plan.site, plan.thresholds) == (base.site, base.thresholds)
     assert plan.thresholds.max_queue_length == pytest.approx(1609.344)  # 1 mi, in m
+
+
+def test_a_name_pointed_at_a_block_of_cells_is_refused(tmp_path):
+    """site_lanes re-pointed in the Name Manager at Site!$B$8:$B$9 (the lanes and the
+    speed limit): only its first cell was read, without a word."""
+
+    def block(book):
+        del book.defined_names["site_lanes"]
+        book.defined_names["site_lanes"] = DefinedName("site_lanes", attr_text="Site!$B$8:$B$9")
+
+    assert _refusals(_kestrel(tmp_path, block)) == [
+        "Site (name site_lanes): the defined name site_lanes (Lanes in normal operation) "
+        "points at Site!B8:B9, 2 cells, not at one; point it at the value cell again in the "
+        "Name Manager"
+    ]

@@ -253,14 +253,23 @@ class CellReader:
             )
             return None
         try:
-            min_col, min_row, _, _ = range_boundaries(coord)  # reads "$B$9" as it is
+            min_col, min_row, max_col, max_row = range_boundaries(coord)  # reads "$B$9"
         except (ValueError, TypeError):
-            min_col = min_row = None
+            min_col = min_row = max_col = max_row = None
         if min_col is None or min_row is None:  # a whole row or column, or no cell at all
             self.bad(
                 f"{home} (name {name})",
                 f"the defined name {name} ({field.label}) points at '{coord}', not at one "
                 "cell; point it at the value cell again in the Name Manager",
+            )
+            return None
+        if (max_col, max_row) != (min_col, min_row):  # a block: its first cell is no answer
+            block = f"{cell_ref(sheet, min_row, min_col)}:{coord.split(':')[-1].replace('$', '')}"
+            cells = ((max_col or min_col) - min_col + 1) * ((max_row or min_row) - min_row + 1)
+            self.bad(
+                f"{home} (name {name})",
+                f"the defined name {name} ({field.label}) points at {block}, {cells:,} cells, "
+                "not at one; point it at the value cell again in the Name Manager",
             )
             return None
         self.where_of[name] = cell_ref(sheet, min_row, min_col)
