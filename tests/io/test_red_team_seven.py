@@ -13,6 +13,7 @@ import datetime as dt
 from pathlib import Path
 
 import numpy as np
+import openpyxl
 import pytest
 from openpyxl.workbook.defined_name import DefinedName
 from workbook_helpers import edited, fill_template
@@ -20,6 +21,7 @@ from workbook_helpers import edited, fill_template
 import wzq
 from wzq.engine import plausibility
 from wzq.engine.plan import PlanError
+from wzq.io import counts as C
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook.reader import read_plan
 
@@ -256,3 +258,66 @@ def test_a_name_pointed_at_a_block_of_cells_is_refused(tmp_path):
         "points at Site!B8:B9, 2 cells, not at one; point it at the value cell again in the "
         "Name Manager"
     ]
+
+
+# -- counts written with another locale's separators --------------------------------------
+
+
+def _day_csv(values: list[str], sep: str = ";") -> str:
+    """One day of hourly counts, ``date-time{sep}count`` a line, as a counter exports it."""
+    rows = [f"time{sep}count"]
+    rows += [f"2026-05-05 {h:02d}:00{sep}{v}" for h, v in enumerate(values)]
+    return "\n".join(rows) + "\n"
+
+
+# an invented day at Larkspur Vale, eastbound: quiet nights, 1,234 to 1,876 by day
+_DAY = [120, 80, 60, 55, 90, 310, 860, 1402, 1876, 1550, 1234, 1190] + [1300] * 8
+_DAY += [990, 640, 410, 220]
+
+
+def test_counts_with_dots_for_thousands_are_refused_at_their_line():
+    """A count export of a European counter, ';'-separated, with '.' for thousands: the
+    text '1.402' was read as 1.402 vehicles, 1,876 as 1.876, without a word."""
+    text = _day_csv([f"{v:,}".replace(",", ".") for v in _DAY])
+    with pytest.raises(PlanError) as e:
+        C.read_csv_text(text, "larkspur.csv")
+    said = [f"{p.where}: {p.message}" for p in e.value.problems]
+    assert len(said) == 13  # the 13 hours of 1,000 vehicles or more
+    assert said[0] == (
+        "larkspur.csv line 9, column 2: '1.402' is 1.402 vehicles, or 1,402 written with "
+        "another locale's thousands separator? Type the count as a plain whole number (1402)"
+    )
+
+
+def test_counts_with_a_decimal_comma_are_refused_and_grouped_thousands_are_read():
+    """Averaged counts with a decimal comma ('412,5') were read as 4,125; counts grouped
+    by commas in a comma-separated file ('"1,402"') are 1,402, as before."""
+    values = [str(v) for v in _DAY]
+    values[7] = "412,5"
+    with pytest.raises(PlanError) as e:
+        C.read_csv_text(_day_csv(values), "avg.csv")
+    assert [f"{p.where}: {p.message}" for p in e.value.problems] == [
+        "avg.csv line 9, column 2: '412,5' is not a count we read: a decimal comma? Type the "
+        "count with a decimal point (412.5), or as a whole number"
+    ]
+    grouped = [f'"{v:,}"' for v in _DAY]
+    read = C.read_csv_text(_day_csv(grouped, sep=","), "grouped.csv")
+    assert read.history.flows_veh_h[0].tolist() == [float(v) for v in _DAY]
+
+
+def test_counts_pasted_as_numbers_with_dots_for_thousands_are_queried_at_the_first():
+    """The same export pasted into a sheet by a spreadsheet set to a decimal point: the
+    numbers 1.402, 1.876 ... among counts of hundreds. Read as typed, and queried at the
+    first such cell (Count history!I2, 07:00), with the count it would be."""
+    book = openpyxl.Workbook()
+    ws = book.active
+    ws.title = "Count history"
+    ws.append(["Date", *(f"{h:02d}:00" for h in range(24))])
+    ws.append([dt.datetime(2026, 5, 5), *(v / 1000 if v >= 1000 else v for v in _DAY)])
+    read = C.read_sheet(ws, "sheet 'Count history'")
+    assert read.history.flows_veh_h[0][7] == pytest.approx(1.402)
+    assert read.warnings == (
+        "Count history!I2: 1.402 vehicles at 2026-05-05 07:00 (and 12 more counts like it), "
+        "among counts up to 990: counts of 1,402 and so on, written with another locale's "
+        "thousands separator? Type the counts as plain whole numbers",
+    )

@@ -584,6 +584,17 @@ Row = tuple[int, Callable[[int], str], Sequence[Any]]
 
 _DATE_RE = re.compile(r"^(\d{4})[-/](\d{1,2})[-/](\d{1,2})(?:[ T](\d{1,2}):(\d{2})(?::(\d{2}))?)?$")
 _TIME_RE = re.compile(r"^(\d{1,2}):(\d{2})(?::(\d{2}))?$")
+#: A count grouped in thousands by commas (``1,402``): read without them.
+_COMMA_GROUPS = re.compile(r"^[+-]?\d{1,3}(?:,\d{3})+(?:\.\d+)?$")
+#: A count grouped in thousands by points (``1.402``, as written where the decimal sign is
+#: a comma): 1.402 vehicles or 1,402? Counts are whole numbers, so neither is read.
+_POINT_GROUPS = re.compile(r"^[+-]?\d{1,3}(?:\.\d{3})+$")
+#: Counts below this with three decimals among counts of :data:`THOUSANDS_AMONG` or more
+#: are queried as counts of thousands pasted with another locale's thousands separator
+#: (``1.402`` read as a number by a spreadsheet set to a decimal point; common practice,
+#: no source).
+THOUSANDS_BELOW = 10.0
+THOUSANDS_AMONG = 100.0
 _END_OF_DAY = re.compile(r"(?:^|[ T])24:00(?::00)?$")
 
 
@@ -649,9 +660,22 @@ def _as_count(v: Any) -> float | str | None:
     if isinstance(v, int | float):
         x = float(v)
     else:
-        text = str(v).strip().replace(",", "").replace("_", "")
+        text = str(v).strip().replace("_", "")
+        if _POINT_GROUPS.match(text):
+            whole = text.replace(".", "")
+            return (
+                f"{v!r} is {text} vehicles, or {int(whole):,} written with another locale's "
+                f"thousands separator? Type the count as a plain whole number ({int(whole)})"
+            )
+        if "," in text and not _COMMA_GROUPS.match(text):
+            with_point = text.replace(",", ".")
+            if re.fullmatch(r"[+-]?\d+\.\d+", with_point):
+                return (
+                    f"{v!r} is not a count we read: a decimal comma? Type the count with a "
+                    f"decimal point ({with_point}), or as a whole number"
+                )
         try:
-            x = float(text)
+            x = float(text.replace(",", ""))
         except ValueError:
             return f"{v!r} is not a number of vehicles; leave it blank when there is no count"
     if not np.isfinite(x):
@@ -897,6 +921,7 @@ def _table_history(
             excluded.append((day, "the clocks go back (an hour counted twice)"))
     if problems:
         raise PlanError(problems)
+    warnings.extend(_thousands_as_decimals(cells))
     t0, t1 = min(c.when for c in cells), max(c.when for c in cells)
     if t0.time() == dt.time(step // 3600, step % 3600 // 60) and t1.time() == dt.time():
         warnings.append(
@@ -907,6 +932,36 @@ def _table_history(
         )
     history = CountHistory(first, step, flows, tuple(excluded), source)
     return _finish(history, source, kind=kind, records=n_rows, warnings=warnings)
+
+
+def _thousands_as_decimals(cells: list[_Cell]) -> list[str]:
+    """Counts such as 1.402 among counts of hundreds: counts of thousands written with
+    the thousands separator of another locale and read by a spreadsheet set to a decimal
+    point (1,402 read as 1.402). Queried at the first, the others counted: a count below
+    :data:`THOUSANDS_BELOW` that is not whole but is once multiplied by 1,000, when others
+    reach :data:`THOUSANDS_AMONG` (common practice, no source)."""
+    counts = [c for c in cells if c.value is not None]
+    top = max((c.value for c in counts if c.value is not None), default=0.0)
+    if top < THOUSANDS_AMONG:
+        return []
+    odd = [
+        c
+        for c in counts
+        if c.value is not None
+        and 0 < c.value < THOUSANDS_BELOW
+        and c.value != round(c.value)
+        and abs(c.value * 1000 - round(c.value * 1000)) < 1e-6
+    ]
+    if not odd:
+        return []
+    c = odd[0]
+    assert c.value is not None
+    more = f" (and {len(odd) - 1:,} more counts like it)" if len(odd) > 1 else ""
+    return [
+        f"{c.where}: {c.value:g} vehicles at {c.when:%Y-%m-%d %H:%M}{more}, among counts up "
+        f"to {top:,.0f}: counts of {round(c.value * 1000):,} and so on, written with another "
+        "locale's thousands separator? Type the counts as plain whole numbers"
+    ]
 
 
 def _csv_rows(text: str, source: str) -> list[Row]:
