@@ -19,6 +19,7 @@ from openpyxl.workbook.defined_name import DefinedName
 from workbook_helpers import edited, fill_template
 
 import wzq
+from wzq.cli import main
 from wzq.engine import plausibility
 from wzq.engine.plan import PlanError
 from wzq.io import counts as C
@@ -320,4 +321,36 @@ def test_counts_pasted_as_numbers_with_dots_for_thousands_are_queried_at_the_fir
         "Count history!I2: 1.402 vehicles at 2026-05-05 07:00 (and 12 more counts like it), "
         "among counts up to 990: counts of 1,402 and so on, written with another locale's "
         "thousands separator? Type the counts as plain whole numbers",
+    )
+
+
+# -- hostile JSON plans ---------------------------------------------------------------------
+
+
+def test_a_json_plan_nested_too_deeply_is_refused_without_a_traceback(tmp_path, capsys):
+    """100,000 nested arrays: the JSON parser's recursion limit ended `wzq check` with a
+    RecursionError traceback."""
+    path = tmp_path / "deep.json"
+    path.write_text('{"format": ' + "[" * 100_000 + "]" * 100_000 + "}", encoding="utf-8")
+    assert main(["check", str(path)]) == 2
+    err = capsys.readouterr().err
+    assert "Traceback" not in err
+    assert err.splitlines()[0] == (
+        "wzq: deep.json: arrays or objects nested inside each other hundreds of times over, "
+        "more deeply than a plan ever is; this is not a wzq plan"
+    )
+
+
+def test_a_json_plan_larger_than_any_plan_is_refused_before_it_is_read(tmp_path, capsys):
+    """A 60 MB file named .json (a year of 15-minute demand is about 0.3 MB): it was read
+    into memory whole, as text and then as objects."""
+    path = tmp_path / "huge.json"
+    with path.open("w", encoding="utf-8") as f:
+        f.write('{"notes": "')
+        f.write("x" * (60 * 1024 * 1024))
+        f.write('"}')
+    assert main(["check", str(path)]) == 2
+    assert capsys.readouterr().err.splitlines()[0] == (
+        "wzq: huge.json: 62,914,573 bytes, more than a plan holds (at most 52,428,800: a "
+        "year of 15-minute demand is about 300,000); is this the plan file?"
     )
