@@ -354,3 +354,37 @@ def test_a_json_plan_larger_than_any_plan_is_refused_before_it_is_read(tmp_path,
         "wzq: huge.json: 62,914,573 bytes, more than a plan holds (at most 52,428,800: a "
         "year of 15-minute demand is about 300,000); is this the plan file?"
     )
+
+
+# -- flows per lane typed as the direction's flow ------------------------------------------
+
+
+def test_flows_per_lane_typed_as_the_demand_are_queried_at_the_busiest_hour(tmp_path):
+    """Kestrel Ridge's 3 lanes: the flows of one lane's detector (a third of each hour's,
+    1,800 veh/h/ln at Mon 17:00) typed in "Demand (veh/h)", the direction's flow: read as
+    1,800 veh/h for the 3 lanes, so the two-lane closure showed no queue."""
+
+    def per_lane(book):
+        ws = book["Demand"]
+        for r in range(9, 81):
+            ws.cell(r, 3).value = ws.cell(r, 3).value / 3
+
+    result = wzq.analyse(read_plan(_kestrel(tmp_path, per_lane)))
+    assert result.summary.max_queue_length_m == 0.0
+    query = (
+        "Demand!C26: the busiest hour of the demand, 1,800 veh/h at Mon 2027-05-03 17:00, is "
+        "no more than one lane of the open road carries (2,222 veh/h/ln; 6,667 veh/h on its 3 "
+        "lanes) over 3 days: are these flows per lane? The demand is the flow of the 3 lanes "
+        "of this direction together (1,800 per lane is 5,400 veh/h)"
+    )
+    assert [w for w in result.warnings if "per lane?" in w] == [query]
+
+
+def test_the_examples_flows_are_not_queried_as_per_lane():
+    for name in ("kestrel_ridge_weeknight", "ashgrove_bypass_week", "larkspur_vale_week"):
+        plan = load_plan(EXAMPLES / f"{name}.json")
+        assert plausibility.flows_per_lane(plan, 3 * 2222.0) == [], name
+    # two lanes: the busiest hour at half the capacity is an ordinary light road
+    fenwick = load_plan(EXAMPLES / "fenwick_downs_weekend.json")
+    assert fenwick.site.lanes == 2 and fenwick.demand.flows_veh_h.max() == 1430.0
+    assert plausibility.flows_per_lane(fenwick, 2 * 2222.0) == []

@@ -39,6 +39,7 @@ __all__ = [
     "NEAR_ZERO_SHARE",
     "NEIGHBOURS",
     "OLD_COUNT_YEARS",
+    "PER_LANE_FROM_LANES",
     "SHORT_DELAY_LIMIT_S",
     "SORTED_DISTINCT",
     "SORTED_SPAN_H",
@@ -51,6 +52,7 @@ __all__ = [
     "demand_key",
     "dense_jam",
     "far_upstream",
+    "flows_per_lane",
     "free_flow_below_limits",
     "many_heavy_vehicles",
     "near_zero_demand",
@@ -122,6 +124,11 @@ METRIC_LIMIT_STEP_KMH = 10
 #: road to a quarter of its capacity is rare on a road that needs a closure plan, while
 #: 30-minute rows at half of it are not (common practice, no source).
 COUNTS_INTERVAL_S = 900
+#: The fewest lanes for which a demand whose busiest, over a whole day or more, is no more
+#: than one lane's capacity is queried as flows per lane: on 3 lanes that is a third of
+#: the capacity, seldom a day's busiest on such a road; on 2, half, an ordinary light day
+#: (common practice, no source).
+PER_LANE_FROM_LANES = 3
 #: Warnings of one kind listed one by one before the rest are counted.
 MAX_LISTED = 5
 
@@ -638,6 +645,37 @@ def counts_per_interval(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     ]
 
 
+def flows_per_lane(plan: Plan, open_capacity_veh_h: float) -> list[str]:
+    """Flows of one lane (a lane's detector, or each hour's flow shared among the lanes)
+    typed where the direction's flow is asked: read as the flow of all the lanes, each is
+    a lane-count of times too small, and a closure that queues shows none.
+
+    Queried when the road has :data:`PER_LANE_FROM_LANES` lanes or more, the demand
+    covers a whole day or more (the day's busiest hours among them), and its busiest row
+    carries no more than one lane of the open road (common practice, no source); not
+    when :func:`counts_per_interval` already queries it. The busiest row is named.
+    """
+    d = plan.demand
+    q = d.flows_veh_h
+    lanes = plan.site.lanes
+    if lanes < PER_LANE_FROM_LANES or len(q) * d.interval_s < 24 * 3600:
+        return []
+    i = int(np.argmax(q))
+    per_lane = open_capacity_veh_h / lanes
+    if not 0 < q[i] <= per_lane * (1 + 1e-9) or counts_per_interval(plan, open_capacity_veh_h):
+        return []
+    t = d.start + dt.timedelta(seconds=i * d.interval_s)
+    row = "hour" if d.interval_s == 3600 else f"{d.interval_s // 60}-minute row"
+    days = len(q) * d.interval_s / 86400
+    return [
+        f"{plan.where(demand_key(i))}: the busiest {row} of the demand, {q[i]:,.0f} veh/h at "
+        f"{_when(t)}, is no more than one lane of the open road carries ({per_lane:,.0f} "
+        f"veh/h/ln; {open_capacity_veh_h:,.0f} veh/h on its {lanes} lanes) over {days:g} "
+        f"days: are these flows per lane? The demand is the flow of the {lanes} lanes of this "
+        f"direction together ({q[i]:,.0f} per lane is {q[i] * lanes:,.0f} veh/h)"
+    ]
+
+
 def thousands_as_decimals(plan: Plan) -> list[str]:
     """Daytime flows such as 1.5 veh/h among flows of hundreds: counts of thousands
     typed or pasted with the thousands separator of another locale ("1.500" for 1,500
@@ -745,6 +783,7 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *ramps_at_one_point(plan),
         *above_open_road(plan, open_capacity_veh_h),
         *counts_per_interval(plan, open_capacity_veh_h),
+        *flows_per_lane(plan, open_capacity_veh_h),
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),
         *delay_limit_in_seconds(plan),
