@@ -20,8 +20,10 @@ from workbook_helpers import edited, fill_template
 
 import wzq
 from wzq.cli import main
-from wzq.engine import plausibility
+from wzq.engine import plausibility, risk
+from wzq.engine import windows as W
 from wzq.engine.plan import PlanError
+from wzq.engine.risk_windows import closure_windows
 from wzq.io import counts as C
 from wzq.io.jsonplan import load_plan
 from wzq.io.workbook.reader import read_plan
@@ -388,3 +390,54 @@ def test_the_examples_flows_are_not_queried_as_per_lane():
     fenwick = load_plan(EXAMPLES / "fenwick_downs_weekend.json")
     assert fenwick.site.lanes == 2 and fenwick.demand.flows_veh_h.max() == 1430.0
     assert plausibility.flows_per_lane(fenwick, 2 * 2222.0) == []
+
+
+# -- many draws of the capacity -------------------------------------------------------------
+
+
+def _ashgrove_draws(tmp_path: Path, draws: int, window: float | None = None) -> Path:
+    """The Ashgrove week (168 hourly rows) with the work-zone capacity drawn (coefficient
+    of variation 0.08) ``draws`` times, the Limits sheet's largest number being 100,000."""
+
+    def draw(book):
+        ws = book["Limits"]
+        ws["B26"], ws["B27"], ws["B29"] = 0.08, draws, window
+
+    return edited(EXAMPLES / "ashgrove_bypass_week.xlsx", tmp_path, draw, "ashgrove.xlsx")
+
+
+def test_draws_that_would_not_fit_in_memory_are_refused_naming_their_cell(tmp_path):
+    """100,000 draws on the Ashgrove week: 16.8 million scenario-hours, each of a dozen
+    arrays; `wzq run` grew past 3 GB and ended in a numpy MemoryError traceback."""
+    plan = read_plan(_ashgrove_draws(tmp_path, 100_000))
+    with pytest.raises(PlanError) as e:
+        risk.assess(plan)
+    assert [f"{p.where}: {p.message}" for p in e.value.problems] == [
+        "Limits!B27: 100,000 draws of the capacity over the plan's 168 demand intervals are "
+        "16,800,000 scenario-intervals, more than the 10,000,000 the risk assessment holds "
+        "in memory (about 2 GB); give at most 59,523 draws in Limits!B27 (the default 1,000 "
+        "puts a chance of 10 % within about 2 % either way)"
+    ]
+    fits = risk.plan_scenarios(read_plan(_ashgrove_draws(tmp_path, 59_523)))
+    assert fits.flows_veh_h.shape == (59_523, 168)
+
+
+def test_a_window_search_at_a_risk_too_long_to_wait_for_falls_back_with_a_note(tmp_path):
+    """Kestrel Ridge (72 hourly rows), 100,000 draws, windows at a risk of 10 %: each
+    draw is searched; `wzq run` had not finished after 5 minutes (1,000 draws took 16 s,
+    10,000 took 143 s). Now the windows are those of the design demand, with a note
+    naming the draws' cell and the most draws searched."""
+
+    def draw(book):
+        ws = book["Limits"]
+        ws["B26"], ws["B27"], ws["B29"] = 0.08, 100_000, 10
+
+    plan = read_plan(_kestrel(tmp_path, draw))
+    found = closure_windows(plan)
+    assert found.notes[-1] == (
+        "Windows on the design demand alone, not at a risk: 100,000 scenarios of the plan's "
+        "72 demand intervals would each be searched (a scale of 518,400,000 scenarios times "
+        "intervals squared, more than the 300,000,000 searched in about 10 minutes); give "
+        "at most 57,870 draws in Limits!B27."
+    )
+    assert found.rule == W.plan_windows(plan).rule
