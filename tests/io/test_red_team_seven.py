@@ -441,3 +441,19 @@ def test_a_window_search_at_a_risk_too_long_to_wait_for_falls_back_with_a_note(t
         "at most 57,870 draws in Limits!B27."
     )
     assert found.rule == W.plan_windows(plan).rule
+
+
+def test_a_plan_needing_more_memory_than_the_computer_has_ends_in_one_line(monkeypatch, capsys):
+    """Whatever the limits above miss: numpy's MemoryError (as 100,000 draws of a week
+    gave) ended the command in a traceback; now one line and exit status 1."""
+
+    def out_of_memory(plan):
+        raise MemoryError("Unable to allocate 128. MiB for an array with shape (100000, 168)")
+
+    monkeypatch.setattr(wzq, "analyse", out_of_memory)
+    assert main(["show", str(EXAMPLES / "kestrel_ridge_weeknight.json")]) == 1
+    assert capsys.readouterr().err.splitlines() == [
+        "wzq: this plan needs more memory than this computer has (Unable to allocate 128. MiB "
+        "for an array with shape (100000, 168)); nothing was written. Shorten the plan, or "
+        "give fewer draws of the capacity on the Limits sheet"
+    ]
