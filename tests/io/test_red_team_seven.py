@@ -10,6 +10,8 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
+import json
+import shutil
 from pathlib import Path
 
 import numpy as np
@@ -456,4 +458,55 @@ def test_a_plan_needing_more_memory_than_the_computer_has_ends_in_one_line(monke
         "wzq: this plan needs more memory than this computer has (Unable to allocate 128. MiB "
         "for an array with shape (100000, 168)); nothing was written. Shorten the plan, or "
         "give fewer draws of the capacity on the Limits sheet"
+    ]
+
+
+# -- counts of fewer lanes than the road has ------------------------------------------------
+
+
+LARKSPUR = EXAMPLES / "larkspur_vale_week.xlsx"
+
+
+def _larkspur(tmp_path: Path, change) -> Path:
+    """The Larkspur Vale week: its design demand from the count file beside it."""
+    path = edited(LARKSPUR, tmp_path, change, "larkspur.xlsx")
+    shutil.copyfile(EXAMPLES / "larkspur_vale_eb_2026.vol", tmp_path / "larkspur_vale_eb_2026.vol")
+    return path
+
+
+def _warned(path: Path, word: str) -> list[str]:
+    """The input warnings of the plan at ``path`` (JSON or workbook) that hold ``word``."""
+    plan = load_plan(path) if path.suffix == ".json" else read_plan(path)
+    return [w for w in plan.input_warnings if word in w]
+
+
+def test_counts_of_fewer_lanes_than_the_road_has_are_queried(tmp_path):
+    """Larkspur Vale: 'Lanes counted' typed 2 (a counter on 2 of the 3 lanes) while the
+    Site sheet has 3 lanes: the counts were used as the traffic of all 3 lanes, without a
+    word. A count file counted lane by lane says its lanes too (lanes 1 to 3 here)."""
+
+    def two_lanes(book):
+        book["Demand"]["K16"] = 2
+
+    assert _warned(_larkspur(tmp_path, two_lanes), "Lanes counted") == [
+        "Demand!K16: Lanes counted is 2, but the road has 3 lanes in normal operation "
+        "(Site!B8): the counts are used as the traffic of all 3 lanes; if a lane was not "
+        "counted, the demand is too low (count it, or design the demand another way); if "
+        "the road has 2 lanes where it was counted, this is right"
+    ]
+    assert _warned(_larkspur(tmp_path, lambda book: None), "Lanes counted") == []
+
+
+def test_a_json_plan_with_counts_of_fewer_lanes_is_queried_at_its_key(tmp_path):
+    """The same in the JSON plan of Larkspur Vale: "lanes": 2 in demand.history."""
+    data = json.loads((EXAMPLES / "larkspur_vale_week.json").read_text(encoding="utf-8"))
+    data["demand"]["history"]["lanes"] = 2
+    path = tmp_path / "larkspur.json"
+    path.write_text(json.dumps(data), encoding="utf-8")
+    shutil.copyfile(EXAMPLES / "larkspur_vale_eb_2026.vol", tmp_path / "larkspur_vale_eb_2026.vol")
+    assert _warned(path, "in normal operation") == [
+        "demand.history.lanes: demand.history.lanes is 2, but the road has 3 lanes in normal "
+        "operation (site.lanes): the counts are used as the traffic of all 3 lanes; if a lane "
+        "was not counted, the demand is too low (count it, or design the demand another way); "
+        "if the road has 2 lanes where it was counted, this is right"
     ]

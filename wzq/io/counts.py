@@ -95,6 +95,7 @@ __all__ = [
     "Row",
     "VolumeRecord",
     "exclude",
+    "fewer_lanes",
     "parse_volume_record",
     "read_counts",
     "read_csv_text",
@@ -962,6 +963,31 @@ def _thousands_as_decimals(cells: list[_Cell]) -> list[str]:
         f"to {top:,.0f}: counts of {round(c.value * 1000):,} and so on, written with another "
         "locale's thousands separator? Type the counts as plain whole numbers"
     ]
+
+
+def fewer_lanes(
+    typed: int | None, read: CountRead, lanes: int, label: str, site_at: str
+) -> str | None:
+    """What to say when the counts are of fewer lanes than the road has in normal
+    operation (``typed``, the lanes counted as given under ``label``, else the lanes of a
+    count file counted one by one), else ``None``: they are used as the traffic of every
+    lane, which is right only where the road had that many lanes at the counter (common
+    practice, no source). ``site_at`` names where the road's lanes were given."""
+    counted = typed if typed is not None else (len(read.lanes) or None)
+    if counted is None or counted >= lanes:
+        return None
+    what = (
+        f"{label} is {counted}"
+        if typed is not None
+        else f"the count file holds {counted} lanes counted one by one "
+        f"({', '.join(map(str, read.lanes))})"
+    )
+    return (
+        f"{what}, but the road has {lanes} lanes in normal operation ({site_at}): the counts "
+        f"are used as the traffic of all {lanes} lanes; if a lane was not counted, the demand "
+        "is too low (count it, or design the demand another way); if the road has "
+        f"{counted} lanes where it was counted, this is right"
+    )
 
 
 def _csv_rows(text: str, source: str) -> list[Row]:

@@ -260,7 +260,9 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
     history = risk = None
     if "history" in d and not r.problems:  # demand from a count history (wzq.io.jsonhistory)
         try:
-            designed, history, found = history_demand(d, start, source, base)
+            lanes = site_kw.get("lanes")
+            lanes = lanes if isinstance(lanes, int) else None
+            designed, history, found = history_demand(d, start, source, base, lanes)
             r.notes += found
             d = {"veh_h": designed.flows_veh_h.tolist()}
             interval = designed.interval_s / 60

@@ -59,7 +59,7 @@ class DemandReader:
         if mode == L.AADT:
             return self.demand_from_aadt()
         if mode == L.HISTORY:
-            return self.demand_from_history()
+            return self.demand_from_history(lanes)
         return self.demand_from_counts(lanes)
 
     def unused_demand(self, mode: str) -> None:
