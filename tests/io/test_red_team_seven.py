@@ -510,3 +510,20 @@ def test_a_json_plan_with_counts_of_fewer_lanes_is_queried_at_its_key(tmp_path):
         "was not counted, the demand is too low (count it, or design the demand another way); "
         "if the road has 2 lanes where it was counted, this is right"
     ]
+
+
+# -- a number too large for a date ---------------------------------------------------------
+
+
+def test_a_date_typed_without_its_dashes_is_named_as_the_number_typed(tmp_path):
+    """Closures!A6 typed 20270503 (the date without its dashes) in its date cell: Excel
+    shows ########; wzq said the cell 'shows the error #VALUE!; fix the formula', of a
+    cell that holds no formula."""
+
+    def no_dashes(book):
+        book["Closures"]["A6"] = 20270503
+
+    assert _refusals(_kestrel(tmp_path, no_dashes)) == [
+        "Closures!A6: holds the number 20270503, too large for a date or time (a spreadsheet "
+        "shows ########); did you mean 2027-05-03? Type the date with its dashes"
+    ]

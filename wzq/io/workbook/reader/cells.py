@@ -11,6 +11,7 @@ from decimal import Decimal
 from typing import Any
 
 from openpyxl.cell.cell import ERROR_CODES, MergedCell
+from openpyxl.styles.numbers import is_date_format
 from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.utils.datetime import from_excel, to_excel
 from openpyxl.worksheet.formula import ArrayFormula, DataTableFormula
@@ -32,6 +33,7 @@ from wzq.io.workbook.reader.values import (
     FIRST_YEAR,
     LAST_YEAR,
     MAX_SERIAL,
+    OUT_OF_RANGE,
     _blank,
     _Clock,
     _fmt,
@@ -90,9 +92,27 @@ class CellReader:
             return None
         if cell.data_type == "f" or isinstance(v, ArrayFormula | DataTableFormula):
             return self.formula_result(ws, row, col)  # a saved error named there (cached)
+        if cell.data_type == "e" and v == "#VALUE!" and is_date_format(cell.number_format):
+            typed = OUT_OF_RANGE.get(self.wb, {}).get(cell.coordinate, set())
+            if len(typed) == 1:  # a number no date holds, made #VALUE! by openpyxl
+                return self.too_large(cell_ref(ws.title, row, col), typed.pop())
         if cell.data_type == "e" or (isinstance(v, str) and v.strip() in ERROR_CODES):
             return self.error_value(cell_ref(ws.title, row, col), v)  # "e": also #SPILL!
         return v
+
+    def too_large(self, where: str, number: str) -> Any:
+        """A number in a date or time cell too large for a date (20270503, a date typed
+        without its dashes): named as typed, with the date it spells if it spells one."""
+        meant = ""
+        with contextlib.suppress(ValueError):
+            day = dt.datetime.strptime(number, "%Y%m%d").date()
+            if FIRST_YEAR <= day.year <= LAST_YEAR:
+                meant = f"; did you mean {day:%Y-%m-%d}? Type the date with its dashes"
+        return self.bad(
+            where,
+            f"holds the number {number}, too large for a date or time (a spreadsheet shows "
+            f"########){meant or '; type a date, e.g. 2027-05-03, or a time like 21:00'}",
+        )
 
     def merged(self, ws: Worksheet, row: int, col: int) -> Any:
         """A cell hidden by merging: the value shown, when the merged cells are one column."""

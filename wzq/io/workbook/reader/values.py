@@ -9,6 +9,7 @@ import re
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
+from weakref import WeakKeyDictionary
 
 from openpyxl.styles.colors import COLOR_INDEX
 from openpyxl.workbook.defined_name import DefinedName
@@ -25,6 +26,7 @@ __all__ = [
     "LAST_YEAR",
     "MAX_DEMAND_VEH_H_LN",
     "MAX_SERIAL",
+    "OUT_OF_RANGE",
     "WORKBOOK_SUFFIXES",
     "cell_ref",
     "contrast",
@@ -32,6 +34,7 @@ __all__ = [
     "hidden_column",
     "hidden_row",
     "other_weekday",
+    "out_of_range",
     "typed_unit",
     "unseen",
 ]
@@ -52,6 +55,13 @@ FIRST_YEAR, LAST_YEAR = 1900, 2199
 DAYS_IN_1900 = 367
 
 _MISSING = object()  # a value that could not be read (its problem is already recorded)
+#: Workbook -> cell coordinate -> the numbers openpyxl found there in a date or time cell
+#: and could not make a date of (it gives the cell the error #VALUE!, where a spreadsheet
+#: shows ########); the sheet is not known, so a coordinate may gather several numbers.
+OUT_OF_RANGE: WeakKeyDictionary[Any, dict[str, set[str]]] = WeakKeyDictionary()
+_OUT_OF_RANGE_WARNING = re.compile(
+    r"^Cell (\$?[A-Z]{1,3}\$?\d+) is marked as a date but the serial value (\S+) is outside"
+)
 _ISO_DATE = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})$")
 _ISO_DATETIME = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})[ T](\d{1,2}):(\d{2})$")
 _CLOCK = re.compile(r"^(\d{1,2}):(\d{2})(?::(\d{2}))?$")
@@ -281,3 +291,15 @@ def typed_unit(text: str, lengths: bool = True) -> str | None:
     found = {_UNIT_WORDS[w] for w in words if w in _UNIT_WORDS}
     found = found & _LENGTHS if lengths else found - _LENGTHS
     return found.pop() if len(found) == 1 else None
+
+
+def out_of_range(book: Any, messages: list[str]) -> None:
+    """Keep, for ``book``, the numbers openpyxl's warnings (``messages``) say it could not
+    make a date of (:data:`OUT_OF_RANGE`)."""
+    found: dict[str, set[str]] = {}
+    for text in messages:
+        m = _OUT_OF_RANGE_WARNING.match(text)
+        if m:
+            found.setdefault(m.group(1).replace("$", ""), set()).add(m.group(2))
+    if found:
+        OUT_OF_RANGE[book] = found
