@@ -527,3 +527,55 @@ def test_a_date_typed_without_its_dashes_is_named_as_the_number_typed(tmp_path):
         "Closures!A6: holds the number 20270503, too large for a date or time (a spreadsheet "
         "shows ########); did you mean 2027-05-03? Type the date with its dashes"
     ]
+
+
+# -- counts over a change of the clocks -------------------------------------------------------
+
+
+def _moved_to(day: dt.date):
+    """Kestrel Ridge's demand and closures moved to start on ``day`` (a Saturday)."""
+    shift = day - dt.date(2027, 5, 3)
+
+    def move(book):
+        for ws, rows in ((book["Demand"], range(9, 81)), (book["Closures"], range(6, 8))):
+            for r in rows:
+                ws.cell(r, 1).value += shift
+
+    return move
+
+
+def test_the_hour_the_clocks_skip_is_named_as_such(tmp_path):
+    """Counts exported over the night summer time starts (Sun 2027-03-14): 23 rows that
+    day, no 02:00. Refused, as before, but saying why the hour is missing and what to
+    type (wzq runs on the clock)."""
+
+    def skip(book):
+        _moved_to(dt.date(2027, 3, 13))(book)
+        ws = book["Demand"]
+        for c in range(1, 4):  # Sun 02:00 is row 35: the export has no such row
+            ws.cell(35, c).value = None
+
+    assert _refusals(_kestrel(tmp_path, skip)) == [
+        "Demand!B36: no demand from Sun 2027-03-14 02:00 to Sun 2027-03-14 03:00 (between "
+        "rows 34 and 36): the hour the clocks skip when summer time starts? wzq runs on the "
+        "clock, so type a row for it (the mean of the hours either side)"
+    ]
+
+
+def test_the_hour_the_clocks_repeat_is_named_as_such(tmp_path):
+    """Counts over the night summer time ends (Sun 2027-11-07, US): 25 rows that day,
+    01:00 twice."""
+
+    def repeat(book):
+        _moved_to(dt.date(2027, 11, 6))(book)
+        ws = book["Demand"]
+        for r in range(81, 34, -1):  # a row inserted below Sun 01:00 (row 34)
+            for c in range(1, 4):
+                ws.cell(r, c).value = ws.cell(r - 1, c).value
+        ws.cell(35, 3).value = 420
+
+    assert _refusals(_kestrel(tmp_path, repeat)) == [
+        "Demand!B35: the start time Sun 2027-11-07 01:00 is also in row 34: the hour the "
+        "clocks repeat when summer time ends? wzq runs on the clock, so keep one row for it, "
+        "with the mean of the two hours' flows"
+    ]

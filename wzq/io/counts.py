@@ -94,6 +94,7 @@ __all__ = [
     "Field",
     "Row",
     "VolumeRecord",
+    "dst_kind",
     "exclude",
     "fewer_lanes",
     "parse_volume_record",
@@ -849,7 +850,7 @@ def _interval(cells: list[_Cell], interval_minutes: float | None, source: str) -
     return step
 
 
-def _dst_kind(day: dt.date) -> str | None:
+def dst_kind(day: dt.date) -> str | None:
     """``"forward"`` for a Sunday in March, ``"back"`` for a Sunday in October or November."""
     if day.weekday() != 6:
         return None
@@ -907,7 +908,7 @@ def _table_history(
     for key, dups in dup_cells.items():
         day = first + dt.timedelta(days=key[0])
         hour = key[1] * step / 3600
-        if _dst_kind(day) == "back" and int(hour) in (1, 2) and len(dups) == 1:
+        if dst_kind(day) == "back" and int(hour) in (1, 2) and len(dups) == 1:
             continue  # the repeated hour when the clocks go back: the day is left out below
         for c in dups:
             problems.append(
@@ -918,7 +919,7 @@ def _table_history(
                 )
             )
     for day, slots in repeated.items():
-        if _dst_kind(day) == "back" and {int(s * step / 3600) for s in slots} <= {1, 2}:
+        if dst_kind(day) == "back" and {int(s * step / 3600) for s in slots} <= {1, 2}:
             excluded.append((day, "the clocks go back (an hour counted twice)"))
     if problems:
         raise PlanError(problems)
@@ -1191,7 +1192,7 @@ def _spring_forward(history: CountHistory) -> list[tuple[dt.date, str]]:
     per_hour = 3600 // h.interval_s
     for d in np.flatnonzero(missing.sum(axis=1) == per_hour):
         day = h.first_day + dt.timedelta(days=int(d))
-        if _dst_kind(day) == "forward" and missing[d, 2 * per_hour : 3 * per_hour].all():
+        if dst_kind(day) == "forward" and missing[d, 2 * per_hour : 3 * per_hour].all():
             out.append((day, "the clocks go forward (no 02:00 hour)"))
     return out
 
