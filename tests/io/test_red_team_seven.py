@@ -579,3 +579,26 @@ def test_the_hour_the_clocks_repeat_is_named_as_such(tmp_path):
         "clocks repeat when summer time ends? wzq runs on the clock, so keep one row for it, "
         "with the mean of the two hours' flows"
     ]
+
+
+def test_a_light_demand_from_the_aadt_is_not_queried_as_flows_per_lane(tmp_path):
+    """An AADT of 60,000 on Kestrel's 3 lanes gives a busiest hour of 2,190 veh/h, a third
+    of the open road's capacity: a light road, and no flows typed per lane (the queries
+    on typed flows are not made of a demand from the AADT or a count history)."""
+
+    def from_aadt(book):
+        ws = book["Demand"]
+        ws["B4"], ws["F8"], ws["F9"], ws["F12"], ws["F13"] = (
+            "from AADT",
+            60_000,
+            2026,
+            dt.datetime(2027, 5, 3),
+            3,
+        )
+        for r in range(9, 81):
+            for c in (1, 2, 3):
+                ws.cell(r, c).value = None
+
+    result = wzq.analyse(read_plan(_kestrel(tmp_path, from_aadt)))
+    assert result.plan.demand.flows_veh_h.max() == pytest.approx(2190.0)
+    assert not [w for w in result.warnings if "per lane?" in w or "counted in each" in w]

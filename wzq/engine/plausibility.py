@@ -612,12 +612,23 @@ def site_ranges(plan: Plan) -> list[str]:
     return out
 
 
+def _typed_row_by_row(plan: Plan) -> bool:
+    """The demand's flows were each typed in a place of their own (a table row, a JSON
+    list), not made from an AADT (all at its one cell) or a count history: only such
+    flows can be counts or flows per lane typed for the direction's flow."""
+    if plan.history is not None:
+        return False
+    n = len(plan.demand.flows_veh_h)
+    return n < 2 or plan.where(demand_key(0)) != plan.where(demand_key(1))
+
+
 def counts_per_interval(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     """Vehicles counted in each 15 minutes typed where the flow in veh/h is asked.
 
     A counter's export gives vehicles per interval; typed as they are on 15-minute rows,
     each flow is read a quarter of what it is, and a closure that queues shows none.
-    Queried when the rows are :data:`COUNTS_INTERVAL_S` or shorter, cover a whole day or
+    Queried when the flows were typed row by row (not from an AADT or a count history),
+    the rows are :data:`COUNTS_INTERVAL_S` or shorter, cover a whole day or
     more (the day's busiest hours among them), and the busiest row carries no more than
     the open road's capacity (all lanes open) would in one row: a quarter of it for
     15-minute rows, as counts would, and as flows on such a road seldom do (common
@@ -627,6 +638,8 @@ def counts_per_interval(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     q = d.flows_veh_h
     n = round(3600 / d.interval_s)
     if d.interval_s > COUNTS_INTERVAL_S or len(q) * d.interval_s < 24 * 3600:
+        return []
+    if not _typed_row_by_row(plan):
         return []
     i = int(np.argmax(q))
     if not 0 < q[i] <= open_capacity_veh_h / n * (1 + 1e-9):
@@ -650,7 +663,8 @@ def flows_per_lane(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     typed where the direction's flow is asked: read as the flow of all the lanes, each is
     a lane-count of times too small, and a closure that queues shows none.
 
-    Queried when the road has :data:`PER_LANE_FROM_LANES` lanes or more, the demand
+    Queried when the flows were typed row by row (not from an AADT or a count history),
+    the road has :data:`PER_LANE_FROM_LANES` lanes or more, the demand
     covers a whole day or more (the day's busiest hours among them), and its busiest row
     carries no more than one lane of the open road (common practice, no source); not
     when :func:`counts_per_interval` already queries it. The busiest row is named.
@@ -659,6 +673,8 @@ def flows_per_lane(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     q = d.flows_veh_h
     lanes = plan.site.lanes
     if lanes < PER_LANE_FROM_LANES or len(q) * d.interval_s < 24 * 3600:
+        return []
+    if not _typed_row_by_row(plan):
         return []
     i = int(np.argmax(q))
     per_lane = open_capacity_veh_h / lanes
