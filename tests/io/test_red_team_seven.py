@@ -602,3 +602,21 @@ def test_a_light_demand_from_the_aadt_is_not_queried_as_flows_per_lane(tmp_path)
     result = wzq.analyse(read_plan(_kestrel(tmp_path, from_aadt)))
     assert result.plan.demand.flows_veh_h.max() == pytest.approx(2190.0)
     assert not [w for w in result.warnings if "per lane?" in w or "counted in each" in w]
+
+
+# -- invisible characters pasted from a document ------------------------------------------
+
+
+def test_words_pasted_with_an_invisible_character_are_read_as_seen(tmp_path):
+    """'cones or drums' pasted from a PDF specification with a zero-width space after it
+    (U+200B), and 'yes' with a zero-width joiner: refused as "'cones or drums' is not in
+    the list; pick one of 'cones or drums', ...", a word the designer could see was in
+    the list. An invisible character means nothing: the words are read as they show."""
+
+    def pasted(book):
+        ws = book["Closures"]
+        ws["E6"], ws["F7"] = "cones or drums\u200b", "\u200dyes"
+
+    plan = read_plan(_kestrel(tmp_path, pasted))
+    assert plan.closures[0].barrier == read_plan(KESTREL).closures[0].barrier
+    assert plan.closures[1].night is True

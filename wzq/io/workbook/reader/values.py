@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import datetime as dt
 import re
+import unicodedata
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
@@ -117,7 +118,12 @@ def _blank(v: Any) -> bool:
 
 @lru_cache(maxsize=1024)  # headers are looked up once per cell of a table
 def _norm(text: str) -> str:
-    return " ".join(str(text).split()).casefold()
+    """Text as a word of a list or a name is matched: case and spacing aside, and
+    without the invisible format characters (Unicode category Cf: a zero-width space
+    or joiner, a soft hyphen, a byte-order mark) that text pasted from a document
+    carries, which show nothing and mean nothing."""
+    shown = "".join(c for c in str(text) if unicodedata.category(c) != "Cf")
+    return " ".join(shown.split()).casefold()
 
 
 def _fmt(x: float) -> str:
