@@ -620,3 +620,14 @@ def test_words_pasted_with_an_invisible_character_are_read_as_seen(tmp_path):
     plan = read_plan(_kestrel(tmp_path, pasted))
     assert plan.closures[0].barrier == read_plan(KESTREL).closures[0].barrier
     assert plan.closures[1].night is True
+
+
+def test_a_count_file_saved_as_unicode_text_is_read(tmp_path):
+    """A count table saved by Excel as 'Unicode Text' (UTF-16 with its byte-order mark):
+    every line was refused as "'\\x002\\x000\\x002\\x006...' is not a date-time"."""
+    text = _day_csv([str(v) for v in _DAY], sep="\t")
+    (tmp_path / "utf8.txt").write_text(text, encoding="utf-8")
+    (tmp_path / "utf16.txt").write_text(text, encoding="utf-16")
+    utf16 = C.read_counts(tmp_path / "utf16.txt")
+    assert utf16.history.flows_veh_h[0].tolist() == [float(v) for v in _DAY]
+    assert utf16.history.first_day == C.read_counts(tmp_path / "utf8.txt").history.first_day

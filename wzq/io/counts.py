@@ -1290,7 +1290,10 @@ def read_counts(
     else:
         raw = path.read_bytes()
         try:
-            text = raw.decode("utf-8-sig")
+            if raw.startswith((b"\xff\xfe", b"\xfe\xff")):  # UTF-16, as Excel's Unicode Text
+                text = raw.decode("utf-16")
+            else:
+                text = raw.decode("utf-8-sig")
         except UnicodeDecodeError:
             text = raw.decode("latin-1")
         if edition is not None or _looks_like_tmg(text):
