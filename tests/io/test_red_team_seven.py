@@ -631,3 +631,18 @@ def test_a_count_file_saved_as_unicode_text_is_read(tmp_path):
     utf16 = C.read_counts(tmp_path / "utf16.txt")
     assert utf16.history.flows_veh_h[0].tolist() == [float(v) for v in _DAY]
     assert utf16.history.first_day == C.read_counts(tmp_path / "utf8.txt").history.first_day
+
+
+def test_counts_written_with_three_decimals_are_read_as_decimals():
+    """A count export that writes every value with three decimals ('120.000', '87.500',
+    '1402.000'): its points are decimal points, as its values of 1,000 or more show, so
+    '412.500' is 412.5 and nothing is refused; so is a file of small counts alone
+    ('120.000', read with points for thousands as 120,000 vehicles, more than any road
+    carries in an hour)."""
+    written = [f"{v:.3f}" for v in _DAY]
+    written[7] = "412.500"
+    read = C.read_csv_text(_day_csv(written), "decimals.csv")
+    assert read.history.flows_veh_h[0][:9].tolist() == [120, 80, 60, 55, 90, 310, 860, 412.5, 1876]
+    small = [f"{v:.3f}" for v in _DAY if v < 1000] + ["990.000"] * 11
+    read = C.read_csv_text(_day_csv(small), "small.csv")
+    assert read.history.flows_veh_h[0][:3].tolist() == [120.0, 80.0, 60.0]

@@ -653,8 +653,30 @@ def _as_time(v: Any) -> dt.timedelta | None:
     return dt.timedelta(hours=hh, minutes=mm, seconds=ss)
 
 
-def _as_count(v: Any) -> float | str | None:
-    """A count: a number, ``None`` when blank, or the reason it is not one."""
+def _points_group(texts: Iterable[str]) -> bool:
+    """Whether the points in counts written as text may group thousands (``1.402``, as
+    in a locale whose decimal sign is a comma), as none of them shows otherwise: a point
+    where no thousands are grouped (``412.5``, ``1402.000``), a count of 1,000 or more
+    written without a separator (``1402``), or a count that, its points taken for
+    thousands, is more than :data:`MAX_FLOW_VEH_H_LN` on :data:`MAX_LANES` lanes could
+    carry in an hour (``120.000``) make them decimal points."""
+    dotted = False
+    for t in texts:
+        t = t.strip().replace("_", "")
+        if "." in t:
+            if not _POINT_GROUPS.match(t) or float(t.replace(".", "")) > (
+                MAX_FLOW_VEH_H_LN * MAX_LANES
+            ):
+                return False
+            dotted = True
+        elif re.fullmatch(r"[+-]?\d{4,}", t):
+            return False
+    return dotted
+
+
+def _as_count(v: Any, points_group: bool = True) -> float | str | None:
+    """A count: a number, ``None`` when blank, or the reason it is not one.
+    ``points_group``: points in text may group thousands (:func:`_points_group`)."""
     if _blank(v):
         return None
     if isinstance(v, bool):
@@ -663,7 +685,7 @@ def _as_count(v: Any) -> float | str | None:
         x = float(v)
     else:
         text = str(v).strip().replace("_", "")
-        if _POINT_GROUPS.match(text):
+        if points_group and _POINT_GROUPS.match(text):
             whole = text.replace(".", "")
             return (
                 f"{v!r} is {text} vehicles, or {int(whole):,} written with another locale's "
@@ -738,6 +760,10 @@ def read_table(
     if not data:
         raise PlanError("no counts found; the first column must hold dates", where=source)
     form, width = _shape(data, source)
+    firsts = 1 if form == "wide" else width - 1  # the columns before the counts
+    points_group = _points_group(
+        v for _, _, vals in data for v in vals[firsts:] if isinstance(v, str)
+    )
     problems: list[Problem] = []
     cells: list[_Cell] = []
     step: int | None = None
@@ -760,7 +786,7 @@ def read_table(
                 continue
             for j in range(width):
                 v = vals[j + 1] if j + 1 < len(vals) else None
-                c = _as_count(v)
+                c = _as_count(v, points_group)
                 if isinstance(c, str):
                     problems.append(Problem(where(j + 1), c))
                     c = None
@@ -797,7 +823,7 @@ def read_table(
                     continue
                 value = vals[1] if len(vals) > 1 else None
                 vcol = 1
-            c = _as_count(value)
+            c = _as_count(value, points_group)
             if isinstance(c, str):
                 problems.append(Problem(where(vcol), c))
                 c = None
