@@ -209,6 +209,15 @@ def main(argv: Sequence[str] | None = None) -> int:
                 file=sys.stderr,
             )
         return status
+    except MemoryError as e:  # numpy's too (_ArrayMemoryError); saves are atomic
+        said = f" ({e})" if str(e) else ""
+        print(
+            f"wzq: this plan needs more memory than this computer has{said}; nothing was "
+            "written. Shorten the plan, or give fewer draws of the capacity on the Limits "
+            "sheet",
+            file=sys.stderr,
+        )
+        return exit_status(e)
     except BrokenPipeError:  # e.g. `wzq demo | head`: the reader left, nothing to report
         sys.stderr.close()
         return EXIT_OK

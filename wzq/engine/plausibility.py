@@ -23,6 +23,7 @@ from wzq.models.capacity import LATERAL_DISTANCE_RANGE_FT
 
 __all__ = [
     "BUSY_VEH_H_LN",
+    "COUNTS_INTERVAL_S",
     "DAY_END_HOUR",
     "DAY_START_HOUR",
     "FAR_UPSTREAM_MI",
@@ -38,17 +39,20 @@ __all__ = [
     "NEAR_ZERO_SHARE",
     "NEIGHBOURS",
     "OLD_COUNT_YEARS",
+    "PER_LANE_FROM_LANES",
     "SHORT_DELAY_LIMIT_S",
     "SORTED_DISTINCT",
     "SORTED_SPAN_H",
     "THOUSANDS_BELOW",
     "above_open_road",
+    "counts_per_interval",
     "days_left_out_not_counted",
     "delay_limit_in_hours",
     "delay_limit_in_seconds",
     "demand_key",
     "dense_jam",
     "far_upstream",
+    "flows_per_lane",
     "free_flow_below_limits",
     "many_heavy_vehicles",
     "near_zero_demand",
@@ -114,6 +118,17 @@ THOUSANDS_BELOW = 10.0
 #: mi/h step by 5 (45, 55, 65 mi/h); a metric limit that is an odd multiple of 5 is
 #: queried as mi/h typed in a metric plan (common practice, no source; from memory).
 METRIC_LIMIT_STEP_KMH = 10
+#: Demand rows this long or shorter (s) whose busiest, over a whole day or more, carries
+#: no more than the open road would in one row are queried as vehicles counted per row
+#: typed as veh/h: 15 minutes or less, as a day whose busiest 15 minutes load the open
+#: road to a quarter of its capacity is rare on a road that needs a closure plan, while
+#: 30-minute rows at half of it are not (common practice, no source).
+COUNTS_INTERVAL_S = 900
+#: The fewest lanes for which a demand whose busiest, over a whole day or more, is no more
+#: than one lane's capacity is queried as flows per lane: on 3 lanes that is a third of
+#: the capacity, seldom a day's busiest on such a road; on 2, half, an ordinary light day
+#: (common practice, no source).
+PER_LANE_FROM_LANES = 3
 #: Warnings of one kind listed one by one before the rest are counted.
 MAX_LISTED = 5
 
@@ -597,6 +612,86 @@ def site_ranges(plan: Plan) -> list[str]:
     return out
 
 
+def _typed_row_by_row(plan: Plan) -> bool:
+    """The demand's flows were each typed in a place of their own (a table row, a JSON
+    list), not made from an AADT (all at its one cell) or a count history: only such
+    flows can be counts or flows per lane typed for the direction's flow."""
+    if plan.history is not None:
+        return False
+    n = len(plan.demand.flows_veh_h)
+    return n < 2 or plan.where(demand_key(0)) != plan.where(demand_key(1))
+
+
+def counts_per_interval(plan: Plan, open_capacity_veh_h: float) -> list[str]:
+    """Vehicles counted in each 15 minutes typed where the flow in veh/h is asked.
+
+    A counter's export gives vehicles per interval; typed as they are on 15-minute rows,
+    each flow is read a quarter of what it is, and a closure that queues shows none.
+    Queried when the flows were typed row by row (not from an AADT or a count history),
+    the rows are :data:`COUNTS_INTERVAL_S` or shorter, cover a whole day or
+    more (the day's busiest hours among them), and the busiest row carries no more than
+    the open road's capacity (all lanes open) would in one row: a quarter of it for
+    15-minute rows, as counts would, and as flows on such a road seldom do (common
+    practice, no source). The busiest row is named.
+    """
+    d = plan.demand
+    q = d.flows_veh_h
+    n = round(3600 / d.interval_s)
+    if d.interval_s > COUNTS_INTERVAL_S or len(q) * d.interval_s < 24 * 3600:
+        return []
+    if not _typed_row_by_row(plan):
+        return []
+    i = int(np.argmax(q))
+    if not 0 < q[i] <= open_capacity_veh_h / n * (1 + 1e-9):
+        return []
+    t = d.start + dt.timedelta(seconds=i * d.interval_s)
+    minutes = d.interval_s // 60
+    days = len(q) * d.interval_s / 86400
+    share = {4: "a quarter", 2: "a half"}.get(n, f"1/{n}")
+    return [
+        f"{plan.where(demand_key(i))}: the busiest {minutes}-minute row of the demand, "
+        f"{q[i]:,.0f} veh/h at {_when(t)}, is at most {share} of the open road's capacity "
+        f"({open_capacity_veh_h:,.0f} veh/h on {plan.site.lanes} lanes) over {days:g} days "
+        f"of {minutes}-minute rows: are these the vehicles counted in each {minutes} "
+        f"minutes? The demand is a flow in veh/h: type each count times {n} ({q[i]:,.0f} "
+        f"is {q[i] * n:,.0f} veh/h)"
+    ]
+
+
+def flows_per_lane(plan: Plan, open_capacity_veh_h: float) -> list[str]:
+    """Flows of one lane (a lane's detector, or each hour's flow shared among the lanes)
+    typed where the direction's flow is asked: read as the flow of all the lanes, each is
+    a lane-count of times too small, and a closure that queues shows none.
+
+    Queried when the flows were typed row by row (not from an AADT or a count history),
+    the road has :data:`PER_LANE_FROM_LANES` lanes or more, the demand
+    covers a whole day or more (the day's busiest hours among them), and its busiest row
+    carries no more than one lane of the open road (common practice, no source); not
+    when :func:`counts_per_interval` already queries it. The busiest row is named.
+    """
+    d = plan.demand
+    q = d.flows_veh_h
+    lanes = plan.site.lanes
+    if lanes < PER_LANE_FROM_LANES or len(q) * d.interval_s < 24 * 3600:
+        return []
+    if not _typed_row_by_row(plan):
+        return []
+    i = int(np.argmax(q))
+    per_lane = open_capacity_veh_h / lanes
+    if not 0 < q[i] <= per_lane * (1 + 1e-9) or counts_per_interval(plan, open_capacity_veh_h):
+        return []
+    t = d.start + dt.timedelta(seconds=i * d.interval_s)
+    row = "hour" if d.interval_s == 3600 else f"{d.interval_s // 60}-minute row"
+    days = len(q) * d.interval_s / 86400
+    return [
+        f"{plan.where(demand_key(i))}: the busiest {row} of the demand, {q[i]:,.0f} veh/h at "
+        f"{_when(t)}, is no more than one lane of the open road carries ({per_lane:,.0f} "
+        f"veh/h/ln; {open_capacity_veh_h:,.0f} veh/h on its {lanes} lanes) over {days:g} "
+        f"days: are these flows per lane? The demand is the flow of the {lanes} lanes of this "
+        f"direction together ({q[i]:,.0f} per lane is {q[i] * lanes:,.0f} veh/h)"
+    ]
+
+
 def thousands_as_decimals(plan: Plan) -> list[str]:
     """Daytime flows such as 1.5 veh/h among flows of hundreds: counts of thousands
     typed or pasted with the thousands separator of another locale ("1.500" for 1,500
@@ -703,6 +798,8 @@ def warnings(plan: Plan, open_capacity_veh_h: float) -> list[str]:
         *large_ramp_share(plan),
         *ramps_at_one_point(plan),
         *above_open_road(plan, open_capacity_veh_h),
+        *counts_per_interval(plan, open_capacity_veh_h),
+        *flows_per_lane(plan, open_capacity_veh_h),
         *override_above_open_road(plan, open_capacity_veh_h),
         *delay_limit_in_hours(plan),
         *delay_limit_in_seconds(plan),

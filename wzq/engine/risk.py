@@ -86,6 +86,12 @@ MAX_CAPACITY_CV = 0.3
 MIN_CAPACITY_FACTOR = 0.05
 #: Most Monte Carlo samples in one assessment.
 MAX_DRAWS = 100_000
+#: Most scenarios times demand intervals in one assessment: every scenario is solved
+#: at once, in a dozen arrays of that size (about 190 bytes a scenario-interval in all,
+#: measured: 100,000 draws of the 72 hourly rows of the Kestrel Ridge example took
+#: 1.4 GB), so this keeps an assessment to about 2 GB; 1,000 draws (the default) of 92
+#: days of 15-minute rows fit.
+MAX_SCENARIO_INTERVALS = 10_000_000
 #: Fewer historical periods than this, each drawn many times, earn a note: the intervals
 #: then speak for the capacity draws, not for the weeks (common practice, no source).
 FEW_PERIODS = 5
@@ -232,6 +238,9 @@ def plan_scenarios(
         source = "the plan's demand"
         periods = 0
     factors = None
+    too_many = _too_many(plan, options, len(labels), len(d.flows_veh_h))
+    if too_many:
+        raise PlanError([too_many])
     if options.capacity_cv is not None:
         per = max(1, math.ceil(options.draws / len(labels)))
         flows = np.repeat(flows, per, axis=0)
@@ -243,6 +252,36 @@ def plan_scenarios(
             f"(coefficient of variation {options.capacity_cv:g}, seed {options.seed})"
         )
     return Scenarios(labels, flows, factors, source, periods)
+
+
+def _too_many(plan: Plan, options: RiskOptions, periods: int, n: int) -> Problem | None:
+    """The problem when the scenarios (each period's draws, or the periods) times the
+    ``n`` demand intervals pass :data:`MAX_SCENARIO_INTERVALS`, else ``None``."""
+    per = max(1, math.ceil(options.draws / periods)) if options.capacity_cv is not None else 1
+    size = per * periods * n
+    if size <= MAX_SCENARIO_INTERVALS:
+        return None
+    most = MAX_SCENARIO_INTERVALS // (n * periods) * periods
+    held = (
+        f"more than the {MAX_SCENARIO_INTERVALS:,} the risk assessment holds in memory (about 2 GB)"
+    )
+    if options.capacity_cv is None or most < periods:
+        where = plan.where("demand.history.window_weeks")
+        return Problem(
+            where,
+            f"{periods:,} historical periods of the counts over the plan's {n:,} demand "
+            f"intervals are {size:,} scenario-intervals, {held}; narrow the window around "
+            f"the same date ({where}), or shorten the plan",
+        )
+    where = plan.where("risk.draws")
+    return Problem(
+        where,
+        f"{options.draws:,} draws of the capacity over the plan's {n:,} demand intervals "
+        f"are {size:,} scenario-intervals, {held}; give at most {most:,} draws in {where} "
+        "(the default "
+        # 1.96 sqrt(0.1 x 0.9 / 1,000) = 0.019: the normal approximation of the binomial
+        "1,000 puts a chance of 10 % within about 2 % either way)",
+    )
 
 
 # ---------------------------------------------------------------------------------------------
@@ -797,6 +836,7 @@ def assess(
 __all__ = [
     "FEW_PERIODS",
     "LIMIT_WORDS",
+    "MAX_SCENARIO_INTERVALS",
     "PROBABILITY_COLUMNS",
     "RiskResult",
     "RiskSummary",

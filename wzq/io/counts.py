@@ -94,7 +94,9 @@ __all__ = [
     "Field",
     "Row",
     "VolumeRecord",
+    "dst_kind",
     "exclude",
+    "fewer_lanes",
     "parse_volume_record",
     "read_counts",
     "read_csv_text",
@@ -584,6 +586,17 @@ Row = tuple[int, Callable[[int], str], Sequence[Any]]
 
 _DATE_RE = re.compile(r"^(\d{4})[-/](\d{1,2})[-/](\d{1,2})(?:[ T](\d{1,2}):(\d{2})(?::(\d{2}))?)?$")
 _TIME_RE = re.compile(r"^(\d{1,2}):(\d{2})(?::(\d{2}))?$")
+#: A count grouped in thousands by commas (``1,402``): read without them.
+_COMMA_GROUPS = re.compile(r"^[+-]?\d{1,3}(?:,\d{3})+(?:\.\d+)?$")
+#: A count grouped in thousands by points (``1.402``, as written where the decimal sign is
+#: a comma): 1.402 vehicles or 1,402? Counts are whole numbers, so neither is read.
+_POINT_GROUPS = re.compile(r"^[+-]?\d{1,3}(?:\.\d{3})+$")
+#: Counts below this with three decimals among counts of :data:`THOUSANDS_AMONG` or more
+#: are queried as counts of thousands pasted with another locale's thousands separator
+#: (``1.402`` read as a number by a spreadsheet set to a decimal point; common practice,
+#: no source).
+THOUSANDS_BELOW = 10.0
+THOUSANDS_AMONG = 100.0
 _END_OF_DAY = re.compile(r"(?:^|[ T])24:00(?::00)?$")
 
 
@@ -640,8 +653,30 @@ def _as_time(v: Any) -> dt.timedelta | None:
     return dt.timedelta(hours=hh, minutes=mm, seconds=ss)
 
 
-def _as_count(v: Any) -> float | str | None:
-    """A count: a number, ``None`` when blank, or the reason it is not one."""
+def _points_group(texts: Iterable[str]) -> bool:
+    """Whether the points in counts written as text may group thousands (``1.402``, as
+    in a locale whose decimal sign is a comma), as none of them shows otherwise: a point
+    where no thousands are grouped (``412.5``, ``1402.000``), a count of 1,000 or more
+    written without a separator (``1402``), or a count that, its points taken for
+    thousands, is more than :data:`MAX_FLOW_VEH_H_LN` on :data:`MAX_LANES` lanes could
+    carry in an hour (``120.000``) make them decimal points."""
+    dotted = False
+    for t in texts:
+        t = t.strip().replace("_", "")
+        if "." in t:
+            if not _POINT_GROUPS.match(t) or float(t.replace(".", "")) > (
+                MAX_FLOW_VEH_H_LN * MAX_LANES
+            ):
+                return False
+            dotted = True
+        elif re.fullmatch(r"[+-]?\d{4,}", t):
+            return False
+    return dotted
+
+
+def _as_count(v: Any, points_group: bool = True) -> float | str | None:
+    """A count: a number, ``None`` when blank, or the reason it is not one.
+    ``points_group``: points in text may group thousands (:func:`_points_group`)."""
     if _blank(v):
         return None
     if isinstance(v, bool):
@@ -649,9 +684,22 @@ def _as_count(v: Any) -> float | str | None:
     if isinstance(v, int | float):
         x = float(v)
     else:
-        text = str(v).strip().replace(",", "").replace("_", "")
+        text = str(v).strip().replace("_", "")
+        if points_group and _POINT_GROUPS.match(text):
+            whole = text.replace(".", "")
+            return (
+                f"{v!r} is {text} vehicles, or {int(whole):,} written with another locale's "
+                f"thousands separator? Type the count as a plain whole number ({int(whole)})"
+            )
+        if "," in text and not _COMMA_GROUPS.match(text):
+            with_point = text.replace(",", ".")
+            if re.fullmatch(r"[+-]?\d+\.\d+", with_point):
+                return (
+                    f"{v!r} is not a count we read: a decimal comma? Type the count with a "
+                    f"decimal point ({with_point}), or as a whole number"
+                )
         try:
-            x = float(text)
+            x = float(text.replace(",", ""))
         except ValueError:
             return f"{v!r} is not a number of vehicles; leave it blank when there is no count"
     if not np.isfinite(x):
@@ -712,6 +760,10 @@ def read_table(
     if not data:
         raise PlanError("no counts found; the first column must hold dates", where=source)
     form, width = _shape(data, source)
+    firsts = 1 if form == "wide" else width - 1  # the columns before the counts
+    points_group = _points_group(
+        v for _, _, vals in data for v in vals[firsts:] if isinstance(v, str)
+    )
     problems: list[Problem] = []
     cells: list[_Cell] = []
     step: int | None = None
@@ -734,7 +786,7 @@ def read_table(
                 continue
             for j in range(width):
                 v = vals[j + 1] if j + 1 < len(vals) else None
-                c = _as_count(v)
+                c = _as_count(v, points_group)
                 if isinstance(c, str):
                     problems.append(Problem(where(j + 1), c))
                     c = None
@@ -771,7 +823,7 @@ def read_table(
                     continue
                 value = vals[1] if len(vals) > 1 else None
                 vcol = 1
-            c = _as_count(value)
+            c = _as_count(value, points_group)
             if isinstance(c, str):
                 problems.append(Problem(where(vcol), c))
                 c = None
@@ -824,7 +876,7 @@ def _interval(cells: list[_Cell], interval_minutes: float | None, source: str) -
     return step
 
 
-def _dst_kind(day: dt.date) -> str | None:
+def dst_kind(day: dt.date) -> str | None:
     """``"forward"`` for a Sunday in March, ``"back"`` for a Sunday in October or November."""
     if day.weekday() != 6:
         return None
@@ -882,7 +934,7 @@ def _table_history(
     for key, dups in dup_cells.items():
         day = first + dt.timedelta(days=key[0])
         hour = key[1] * step / 3600
-        if _dst_kind(day) == "back" and int(hour) in (1, 2) and len(dups) == 1:
+        if dst_kind(day) == "back" and int(hour) in (1, 2) and len(dups) == 1:
             continue  # the repeated hour when the clocks go back: the day is left out below
         for c in dups:
             problems.append(
@@ -893,10 +945,11 @@ def _table_history(
                 )
             )
     for day, slots in repeated.items():
-        if _dst_kind(day) == "back" and {int(s * step / 3600) for s in slots} <= {1, 2}:
+        if dst_kind(day) == "back" and {int(s * step / 3600) for s in slots} <= {1, 2}:
             excluded.append((day, "the clocks go back (an hour counted twice)"))
     if problems:
         raise PlanError(problems)
+    warnings.extend(_thousands_as_decimals(cells))
     t0, t1 = min(c.when for c in cells), max(c.when for c in cells)
     if t0.time() == dt.time(step // 3600, step % 3600 // 60) and t1.time() == dt.time():
         warnings.append(
@@ -907,6 +960,61 @@ def _table_history(
         )
     history = CountHistory(first, step, flows, tuple(excluded), source)
     return _finish(history, source, kind=kind, records=n_rows, warnings=warnings)
+
+
+def _thousands_as_decimals(cells: list[_Cell]) -> list[str]:
+    """Counts such as 1.402 among counts of hundreds: counts of thousands written with
+    the thousands separator of another locale and read by a spreadsheet set to a decimal
+    point (1,402 read as 1.402). Queried at the first, the others counted: a count below
+    :data:`THOUSANDS_BELOW` that is not whole but is once multiplied by 1,000, when others
+    reach :data:`THOUSANDS_AMONG` (common practice, no source)."""
+    counts = [c for c in cells if c.value is not None]
+    top = max((c.value for c in counts if c.value is not None), default=0.0)
+    if top < THOUSANDS_AMONG:
+        return []
+    odd = [
+        c
+        for c in counts
+        if c.value is not None
+        and 0 < c.value < THOUSANDS_BELOW
+        and c.value != round(c.value)
+        and abs(c.value * 1000 - round(c.value * 1000)) < 1e-6
+    ]
+    if not odd:
+        return []
+    c = odd[0]
+    assert c.value is not None
+    more = f" (and {len(odd) - 1:,} more counts like it)" if len(odd) > 1 else ""
+    return [
+        f"{c.where}: {c.value:g} vehicles at {c.when:%Y-%m-%d %H:%M}{more}, among counts up "
+        f"to {top:,.0f}: counts of {round(c.value * 1000):,} and so on, written with another "
+        "locale's thousands separator? Type the counts as plain whole numbers"
+    ]
+
+
+def fewer_lanes(
+    typed: int | None, read: CountRead, lanes: int, label: str, site_at: str
+) -> str | None:
+    """What to say when the counts are of fewer lanes than the road has in normal
+    operation (``typed``, the lanes counted as given under ``label``, else the lanes of a
+    count file counted one by one), else ``None``: they are used as the traffic of every
+    lane, which is right only where the road had that many lanes at the counter (common
+    practice, no source). ``site_at`` names where the road's lanes were given."""
+    counted = typed if typed is not None else (len(read.lanes) or None)
+    if counted is None or counted >= lanes:
+        return None
+    what = (
+        f"{label} is {counted}"
+        if typed is not None
+        else f"the count file holds {counted} lanes counted one by one "
+        f"({', '.join(map(str, read.lanes))})"
+    )
+    return (
+        f"{what}, but the road has {lanes} lanes in normal operation ({site_at}): the counts "
+        f"are used as the traffic of all {lanes} lanes; if a lane was not counted, the demand "
+        "is too low (count it, or design the demand another way); if the road has "
+        f"{counted} lanes where it was counted, this is right"
+    )
 
 
 def _csv_rows(text: str, source: str) -> list[Row]:
@@ -1110,7 +1218,7 @@ def _spring_forward(history: CountHistory) -> list[tuple[dt.date, str]]:
     per_hour = 3600 // h.interval_s
     for d in np.flatnonzero(missing.sum(axis=1) == per_hour):
         day = h.first_day + dt.timedelta(days=int(d))
-        if _dst_kind(day) == "forward" and missing[d, 2 * per_hour : 3 * per_hour].all():
+        if dst_kind(day) == "forward" and missing[d, 2 * per_hour : 3 * per_hour].all():
             out.append((day, "the clocks go forward (no 02:00 hour)"))
     return out
 
@@ -1208,7 +1316,10 @@ def read_counts(
     else:
         raw = path.read_bytes()
         try:
-            text = raw.decode("utf-8-sig")
+            if raw.startswith((b"\xff\xfe", b"\xfe\xff")):  # UTF-16, as Excel's Unicode Text
+                text = raw.decode("utf-16")
+            else:
+                text = raw.decode("utf-8-sig")
         except UnicodeDecodeError:
             text = raw.decode("latin-1")
         if edition is not None or _looks_like_tmg(text):

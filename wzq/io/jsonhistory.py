@@ -23,7 +23,7 @@ from typing import Any
 
 from wzq.engine.design_demand import DemandHistory, DemandRule, design_demand, rule_problems
 from wzq.engine.plan import Demand, PlanError, Problem, RiskOptions
-from wzq.io.counts import read_counts
+from wzq.io.counts import fewer_lanes, read_counts
 
 __all__ = [
     "READING_KEYS",
@@ -100,14 +100,21 @@ def _text(d: dict[str, Any], key: str, where: str, problems: list[Problem]) -> s
 
 #: Findings of the count reading shown one by one, at most.
 _SHOWN = 3
+#: Where a JSON plan gives the lanes counted.
+_LANES = "demand.history.lanes"
 
 
 def history_demand(
-    d: dict[str, Any], start: dt.datetime, source: str, base: Path | None
+    d: dict[str, Any],
+    start: dt.datetime,
+    source: str,
+    base: Path | None,
+    site_lanes: int | None = None,
 ) -> tuple[Demand, DemandHistory, list[str]]:
     """The design demand and the history of a ``demand`` block that has ``history``, and
     what reading the counts found worth a look (days that look unusual, listed holidays
-    aside), as warnings naming ``demand.history.file``.
+    aside), as warnings naming ``demand.history.file``; counts of fewer lanes than the
+    road's ``site_lanes`` (:func:`wzq.io.counts.fewer_lanes`) at ``demand.history.lanes``.
 
     Raises:
         PlanError: every problem of the block, and of the count file, located.
@@ -204,7 +211,14 @@ def history_demand(
         + " | ".join(found[:_SHOWN])
         + more
     ]
-    return designed.demand, history, notes if found else []
+    notes = notes if found else []
+    counted = None if lanes is None else int(lanes)
+    fewer = (
+        None if site_lanes is None else fewer_lanes(counted, read, site_lanes, _LANES, "site.lanes")
+    )
+    if fewer:
+        notes.append(f"{_LANES if lanes is not None else 'demand.history.file'}: {fewer}")
+    return designed.demand, history, notes
 
 
 def history_to_dict(history: DemandHistory, start: dt.datetime, hours: float) -> dict[str, Any]:

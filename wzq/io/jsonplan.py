@@ -260,7 +260,9 @@ def plan_from_dict(data: dict[str, Any], source: str = "plan", base: Path | None
     history = risk = None
     if "history" in d and not r.problems:  # demand from a count history (wzq.io.jsonhistory)
         try:
-            designed, history, found = history_demand(d, start, source, base)
+            lanes = site_kw.get("lanes")
+            lanes = lanes if isinstance(lanes, int) else None
+            designed, history, found = history_demand(d, start, source, base, lanes)
             r.notes += found
             d = {"veh_h": designed.flows_veh_h.tolist()}
             interval = designed.interval_s / 60
@@ -416,6 +418,11 @@ def _approach_from_dict(r: _Reader, a: Any, system: u.UnitSystem) -> Approach:
     return Approach(tuple(out))
 
 
+#: The largest JSON plan read (bytes), as the largest workbook
+#: (:data:`wzq.io.workbook.safety.LIMITS`): a year of 15-minute demand takes about 0.3 MB.
+MAX_PLAN_BYTES = 50 * 1024 * 1024
+
+
 def load_plan(path: str | Path) -> Plan:
     """Read a JSON plan file.
 
@@ -424,14 +431,35 @@ def load_plan(path: str | Path) -> Plan:
     """
     path = Path(path)
     try:
+        size = path.stat().st_size
+        if size > MAX_PLAN_BYTES:
+            raise PlanError(
+                [
+                    Problem(
+                        path.name,
+                        f"{size:,} bytes, more than a plan holds (at most {MAX_PLAN_BYTES:,}: "
+                        "a year of 15-minute demand is about 300,000); is this the plan file?",
+                    )
+                ]
+            )
         data = json.loads(path.read_text(encoding="utf-8-sig"), object_pairs_hook=_Object)
+        twice = _given_twice(data, "")
     except (OSError, UnicodeDecodeError) as e:
         raise PlanError([Problem(str(path), f"cannot read the file: {e}")]) from None
     except json.JSONDecodeError as e:
         raise PlanError(
             [Problem(f"{path.name}: line {e.lineno}", f"not valid JSON ({e.msg}); fix the syntax")]
         ) from None
-    twice = _given_twice(data, "")
+    except RecursionError:  # the parser's (or our walk's) limit: no plan nests so deep
+        raise PlanError(
+            [
+                Problem(
+                    path.name,
+                    "arrays or objects nested inside each other hundreds of times over, more "
+                    "deeply than a plan ever is; this is not a wzq plan",
+                )
+            ]
+        ) from None
     if twice:
         raise PlanError([Problem(f"{path.name}: {key}", message) for key, message in twice])
     return plan_from_dict(data, path.name, path.parent)

@@ -44,7 +44,7 @@ from wzq.io.workbook.reader.history import HistoryReader
 from wzq.io.workbook.reader.plan import PlanReader
 from wzq.io.workbook.reader.skip import load_skipping_outputs
 from wzq.io.workbook.reader.tables import TableReader
-from wzq.io.workbook.reader.values import WORKBOOK_SUFFIXES
+from wzq.io.workbook.reader.values import WORKBOOK_SUFFIXES, out_of_range
 from wzq.io.workbook.safety import read_checked
 from wzq.io.workbook.saved_values import SharedStrings
 
@@ -120,9 +120,11 @@ def book_from_bytes(
     where = path.name
     load = load_skipping_outputs if skip_outputs else load_workbook
     try:
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")  # openpyxl warns about extensions it drops on read
-            return load(io.BytesIO(data), **options)
+        with warnings.catch_warnings(record=True) as said:
+            warnings.simplefilter("always")  # openpyxl warns about extensions it drops on read
+            book = load(io.BytesIO(data), **options)
+        out_of_range(book, [str(w.message) for w in said])  # and about dates it cannot make
+        return book
     except DefusedXmlException:
         raise PlanError(
             "a part of this workbook declares XML entities, which workbooks never need; refused",

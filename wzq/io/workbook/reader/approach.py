@@ -130,6 +130,8 @@ class ApproachReader:
         if t is None:
             return _MISSING
         entries = self.landmark_rows(t)
+        if entries and self.distance_unit(t) is _MISSING:
+            return _MISSING
         if entries is None:
             return _MISSING
         if self.ramp_flows(t, entries, demand) is _MISSING:
@@ -207,6 +209,17 @@ class ApproachReader:
             cells["share"] = w(c_share)
             out.append(_Entry(r.row, name, distance, kind, share, cells))
         return out if ok else None
+
+    def distance_unit(self, t: _Table) -> Any:
+        """``_MISSING`` (a problem recorded) when the unit above the distance column (the
+        template's formula following the unit system) was typed over with another unit
+        (``km`` in a US customary plan: the distances would be read in mi)."""
+        row, col = t.header_row - 1, t.col(L.LANDMARK_COLUMNS[1])
+        cell = t.ws._cells.get((row, col)) if row >= 1 else None
+        text = cell.value if cell is not None and cell.data_type == "s" else None
+        what = f"above the landmark distances ({t.name})"
+        clash = self.other_unit(text, _DISTANCE.unit, what, them="the distances")
+        return self.bad(cell_ref(t.ws.title, row, col), clash) if clash else None
 
     def check_share(self, kind: Any, share: Any, where: str) -> Any:
         """A ramp share only on a ramp, and an exit ramp never takes all the traffic."""

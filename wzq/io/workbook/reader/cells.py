@@ -11,6 +11,7 @@ from decimal import Decimal
 from typing import Any
 
 from openpyxl.cell.cell import ERROR_CODES, MergedCell
+from openpyxl.styles.numbers import is_date_format
 from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.utils.datetime import from_excel, to_excel
 from openpyxl.worksheet.formula import ArrayFormula, DataTableFormula
@@ -32,6 +33,7 @@ from wzq.io.workbook.reader.values import (
     FIRST_YEAR,
     LAST_YEAR,
     MAX_SERIAL,
+    OUT_OF_RANGE,
     _blank,
     _Clock,
     _fmt,
@@ -44,6 +46,7 @@ from wzq.io.workbook.reader.values import (
     hidden_column,
     hidden_row,
     other_weekday,
+    typed_unit,
     unseen,
 )
 from wzq.io.workbook.saved_values import SharedStrings, typed
@@ -51,6 +54,9 @@ from wzq.io.workbook.saved_values import SharedStrings, typed
 __all__ = [
     "CellReader",
 ]
+
+#: The labels of the named inputs, as the template types them left of their value cells.
+_LABELS = frozenset(_norm(f.label) for f in F.ALL_FIELDS if f.name and f.label)
 
 
 class CellReader:
@@ -86,9 +92,27 @@ class CellReader:
             return None
         if cell.data_type == "f" or isinstance(v, ArrayFormula | DataTableFormula):
             return self.formula_result(ws, row, col)  # a saved error named there (cached)
+        if cell.data_type == "e" and v == "#VALUE!" and is_date_format(cell.number_format):
+            typed = OUT_OF_RANGE.get(self.wb, {}).get(cell.coordinate, set())
+            if len(typed) == 1:  # a number no date holds, made #VALUE! by openpyxl
+                return self.too_large(cell_ref(ws.title, row, col), typed.pop())
         if cell.data_type == "e" or (isinstance(v, str) and v.strip() in ERROR_CODES):
             return self.error_value(cell_ref(ws.title, row, col), v)  # "e": also #SPILL!
         return v
+
+    def too_large(self, where: str, number: str) -> Any:
+        """A number in a date or time cell too large for a date (20270503, a date typed
+        without its dashes): named as typed, with the date it spells if it spells one."""
+        meant = ""
+        with contextlib.suppress(ValueError):
+            day = dt.datetime.strptime(number, "%Y%m%d").date()
+            if FIRST_YEAR <= day.year <= LAST_YEAR:
+                meant = f"; did you mean {day:%Y-%m-%d}? Type the date with its dashes"
+        return self.bad(
+            where,
+            f"holds the number {number}, too large for a date or time (a spreadsheet shows "
+            f"########){meant or '; type a date, e.g. 2027-05-03, or a time like 21:00'}",
+        )
 
     def merged(self, ws: Worksheet, row: int, col: int) -> Any:
         """A cell hidden by merging: the value shown, when the merged cells are one column."""
@@ -249,14 +273,23 @@ class CellReader:
             )
             return None
         try:
-            min_col, min_row, _, _ = range_boundaries(coord)  # reads "$B$9" as it is
+            min_col, min_row, max_col, max_row = range_boundaries(coord)  # reads "$B$9"
         except (ValueError, TypeError):
-            min_col = min_row = None
+            min_col = min_row = max_col = max_row = None
         if min_col is None or min_row is None:  # a whole row or column, or no cell at all
             self.bad(
                 f"{home} (name {name})",
                 f"the defined name {name} ({field.label}) points at '{coord}', not at one "
                 "cell; point it at the value cell again in the Name Manager",
+            )
+            return None
+        if (max_col, max_row) != (min_col, min_row):  # a block: its first cell is no answer
+            block = f"{cell_ref(sheet, min_row, min_col)}:{coord.split(':')[-1].replace('$', '')}"
+            cells = ((max_col or min_col) - min_col + 1) * ((max_row or min_row) - min_row + 1)
+            self.bad(
+                f"{home} (name {name})",
+                f"the defined name {name} ({field.label}) points at {block}, {cells:,} cells, "
+                "not at one; point it at the value cell again in the Name Manager",
             )
             return None
         self.where_of[name] = cell_ref(sheet, min_row, min_col)
@@ -271,6 +304,8 @@ class CellReader:
             return _MISSING
         ws, row, col = loc
         where = cell_ref(ws.title, row, col)
+        if self.moved_label(ws, row, col, field, where):
+            return _MISSING
         v = self.raw(ws, row, col)
         if not _blank(v) and v is not _MISSING and _hidden(ws, row, col):
             self.note(
@@ -286,7 +321,68 @@ class CellReader:
                 f"({_show(v)}); give the cell a visible format and colour to check it, or "
                 "clear it to leave it blank",
             )
+        if not _blank(v) and v is not _MISSING:
+            shown = ws._cells.get((row, col + 1))  # the unit cell, right of the value
+            text = shown.value if shown is not None and shown.data_type == "s" else None
+            clash = self.other_unit(text, field.unit, f"beside {field.label} ({where})")
+            if clash:
+                return self.bad(cell_ref(ws.title, row, col + 1), clash)
         return self.convert(v, field, where, percent_cell=self.percent_cell(ws, row, col))
+
+    def moved_label(self, ws: Worksheet, row: int, col: int, field: F.Field, where: str) -> bool:
+        """The label left of a named value cell is another input's (a problem recorded):
+        the rows of the sheet were sorted or dragged past each other, the values moving
+        with their labels while each defined name stayed on its cell, so the name would
+        read its neighbour's value (the queue limit read as the demand/capacity limit).
+        A label of the user's own words is left alone."""
+        cell = ws._cells.get((row, col - 1)) if col > 1 else None
+        text = cell.value if cell is not None and cell.data_type == "s" else None
+        if not isinstance(text, str) or _norm(text) == _norm(field.label):
+            return False
+        if _norm(text) not in _LABELS:
+            return False
+        self.bad(
+            where,
+            f"the name {field.name} ({field.label}) points at this cell, but its label "
+            f"({cell_ref(ws.title, row, col - 1)}) is {_show(text)}: the rows were sorted or "
+            "moved, and the names stayed on their cells; put the rows back as the template "
+            "has them (undo the sort), or copy your inputs into a fresh workbook from `wzq new`",
+        )
+        return True
+
+    def other_unit(self, text: Any, unit: str, what: str, them: str = "the value") -> str | None:
+        """What to say when the text of a unit cell (typed over the template's, which
+        follows the unit system) names another unit than the one ``unit`` is read in
+        (``'km/h'`` beside a speed of a US customary plan: the sheet shows 80 km/h, and
+        80 mi/h would be read), else ``None``. Lengths are compared for a unit that
+        follows the unit system, times for a fixed one (``'s/veh'`` for min/veh); text
+        naming no unit, or the unit read, is left alone."""
+        if not isinstance(text, str) or self.system is None:
+            return None
+        follows = unit in F.UNIT_KINDS
+        read_in = F.UNIT_KINDS[unit][self.system == "metric"] if follows else unit
+        want = typed_unit(read_in, lengths=follows)
+        got = typed_unit(text, lengths=follows)
+        if want is None or got is None or got == want:
+            return None
+        it = "it is" if them == "the value" else "they are"
+        other = "metric" if self.system == "us" else "us"
+        but = "but"  # then "the value is read in ..."
+        fix = f"type {'it' if them == 'the value' else 'them'} in {read_in}"
+        if follows:
+            start = self.where_of.get(F.UNIT_SYSTEM.name, L.START)
+            but = f"but the plan is in {L.word_for(L.UNIT_WORDS, self.system)} units ({start}), so"
+            there = F.UNIT_KINDS[unit][other == "metric"]
+            if typed_unit(there) == got:
+                fix = (
+                    f"if {it} in {there}, choose '{L.word_for(L.UNIT_WORDS, other)}' on "
+                    f"{start}, else {fix}"
+                )
+        return (
+            f"the unit {what} says {_show(text)}, {but} {them} "
+            f"{'is' if them == 'the value' else 'are'} read in {read_in}; {fix}; then put the "
+            f"unit back ({read_in})"
+        )
 
     # -- conversions ------------------------------------------------------------------------
 

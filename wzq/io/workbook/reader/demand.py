@@ -14,6 +14,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 from wzq.engine.plan import (
     Demand,
 )
+from wzq.io import counts as C
 from wzq.io import fields as F
 from wzq.io.workbook import formula_values as FV
 from wzq.io.workbook import layout as L
@@ -59,7 +60,7 @@ class DemandReader:
         if mode == L.AADT:
             return self.demand_from_aadt()
         if mode == L.HISTORY:
-            return self.demand_from_history()
+            return self.demand_from_history(lanes)
         return self.demand_from_counts(lanes)
 
     def unused_demand(self, mode: str) -> None:
@@ -236,10 +237,15 @@ class DemandReader:
         unique = []
         for when, flow, row in entries:
             if when in seen:
+                fix = (
+                    ": the hour the clocks repeat when summer time ends? wzq runs on the "
+                    "clock, so keep one row for it, with the mean of the two hours' flows"
+                    if C.dst_kind(when.date()) == "back" and when.hour in (1, 2)
+                    else "; remove one of the two rows"
+                )
                 self.bad(
                     self.where(t, row, c_time),
-                    f"the start time {_when(when)} is also in row {seen[when]}; "
-                    "remove one of the two rows",
+                    f"the start time {_when(when)} is also in row {seen[when]}{fix}",
                 )
                 continue
             seen[when] = row
@@ -259,10 +265,21 @@ class DemandReader:
             if step == interval:
                 continue
             if step % interval == 0:
+                gap = a + dt.timedelta(seconds=interval)
+                skipped = (
+                    C.dst_kind(gap.date()) == "forward"
+                    and (gap.hour, gap.minute) == (2, 0)
+                    and b - gap == dt.timedelta(hours=1)
+                )
+                fix = (
+                    ": the hour the clocks skip when summer time starts? wzq runs on the "
+                    "clock, so type a row for it (the mean of the hours either side)"
+                    if skipped
+                    else "; add the missing rows"
+                )
                 self.bad(
                     self.where(t, rb, c_time),
-                    f"no demand from {_when(a + dt.timedelta(seconds=interval))} to "
-                    f"{_when(b)} (between rows {ra} and {rb}); add the missing rows",
+                    f"no demand from {_when(gap)} to {_when(b)} (between rows {ra} and {rb}){fix}",
                 )
             else:
                 self.bad(

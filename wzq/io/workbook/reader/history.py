@@ -66,8 +66,9 @@ class HistoryReader:
 
     # -- the count history ------------------------------------------------------------------
 
-    def demand_from_history(self) -> Demand | None:
-        """The design demand from the count history; the history kept for the risk."""
+    def demand_from_history(self, lanes: Any = None) -> Demand | None:
+        """The design demand from the count history; the history kept for the risk.
+        ``lanes``: the lanes in normal operation (Site sheet), when read."""
         v = {f.name: self.field(f) for f in F.HISTORY_FIELDS}
         holidays = self.date_list("history_holidays", v)
         exclude = self.date_list("history_exclude_days", v)
@@ -96,6 +97,7 @@ class HistoryReader:
                 self.bad(self.history_cell(p.where), p.message)
             return None
         self.unusual_days(read, v["history_source"], holidays)
+        self.fewer_lanes_counted(v["history_lanes"], read, lanes)
         source = self.where_of["history_source"]
         on_sheet = self._history_sheet is not None
         reading = () if on_sheet else self.history_reading(v)
@@ -104,6 +106,17 @@ class HistoryReader:
         )
         self._demand_rows = [source] * n
         return designed.demand
+
+    def fewer_lanes_counted(self, typed: int | None, read: Any, lanes: Any) -> None:
+        """Warn when the counts are of fewer lanes than the road has
+        (:func:`wzq.io.counts.fewer_lanes`), at 'Lanes counted' or else the count file."""
+        if not isinstance(lanes, int):
+            return
+        site = self.where_of.get("site_lanes", L.SITE)
+        said = C.fewer_lanes(typed, read, lanes, "Lanes counted", site)
+        if said:
+            name = "history_lanes" if typed is not None else "history_source"
+            self.note(self.where_of[name], said)
 
     def date_list(self, name: str, values: dict[str, Any]) -> Any:
         """The dates typed in a text cell, or ``_MISSING`` after a problem."""

@@ -6,9 +6,11 @@ from __future__ import annotations
 
 import datetime as dt
 import re
+import unicodedata
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
+from weakref import WeakKeyDictionary
 
 from openpyxl.styles.colors import COLOR_INDEX
 from openpyxl.workbook.defined_name import DefinedName
@@ -25,6 +27,7 @@ __all__ = [
     "LAST_YEAR",
     "MAX_DEMAND_VEH_H_LN",
     "MAX_SERIAL",
+    "OUT_OF_RANGE",
     "WORKBOOK_SUFFIXES",
     "cell_ref",
     "contrast",
@@ -32,6 +35,8 @@ __all__ = [
     "hidden_column",
     "hidden_row",
     "other_weekday",
+    "out_of_range",
+    "typed_unit",
     "unseen",
 ]
 
@@ -51,6 +56,13 @@ FIRST_YEAR, LAST_YEAR = 1900, 2199
 DAYS_IN_1900 = 367
 
 _MISSING = object()  # a value that could not be read (its problem is already recorded)
+#: Workbook -> cell coordinate -> the numbers openpyxl found there in a date or time cell
+#: and could not make a date of (it gives the cell the error #VALUE!, where a spreadsheet
+#: shows ########); the sheet is not known, so a coordinate may gather several numbers.
+OUT_OF_RANGE: WeakKeyDictionary[Any, dict[str, set[str]]] = WeakKeyDictionary()
+_OUT_OF_RANGE_WARNING = re.compile(
+    r"^Cell (\$?[A-Z]{1,3}\$?\d+) is marked as a date but the serial value (\S+) is outside"
+)
 _ISO_DATE = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})$")
 _ISO_DATETIME = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})[ T](\d{1,2}):(\d{2})$")
 _CLOCK = re.compile(r"^(\d{1,2}):(\d{2})(?::(\d{2}))?$")
@@ -106,7 +118,12 @@ def _blank(v: Any) -> bool:
 
 @lru_cache(maxsize=1024)  # headers are looked up once per cell of a table
 def _norm(text: str) -> str:
-    return " ".join(str(text).split()).casefold()
+    """Text as a word of a list or a name is matched: case and spacing aside, and
+    without the invisible format characters (Unicode category Cf: a zero-width space
+    or joiner, a soft hyphen, a byte-order mark) that text pasted from a document
+    carries, which show nothing and mean nothing."""
+    shown = "".join(c for c in str(text) if unicodedata.category(c) != "Cf")
+    return " ".join(shown.split()).casefold()
 
 
 def _fmt(x: float) -> str:
@@ -254,3 +271,41 @@ def other_weekday(text: str, day: dt.date) -> str | None:
         f"{day:%Y-%m-%d} is a {day:%A}, not a {typed:%A}; type the date you mean "
         "(the weekday may be left out)"
     )
+
+
+#: Words naming a unit of length, or of time, as typed in a unit cell: the canonical unit
+#: each names. A speed or density is told by its length (``km/h``, ``veh/mi/ln``); the
+#: run-together speeds name theirs (common practice, no source).
+_UNIT_WORDS: dict[str, str] = {
+    **dict.fromkeys(("mi", "mile", "miles", "mph"), "mi"),
+    **dict.fromkeys(("km", "kms", "kilometre", "kilometres", "kilometer", "kilometers"), "km"),
+    **dict.fromkeys(("kph", "kmh", "kmph"), "km"),
+    **dict.fromkeys(("ft", "foot", "feet"), "ft"),
+    **dict.fromkeys(("m", "metre", "metres", "meter", "meters"), "m"),
+    **dict.fromkeys(("s", "sec", "secs", "second", "seconds"), "s"),
+    **dict.fromkeys(("min", "mins", "minute", "minutes"), "min"),
+    **dict.fromkeys(("h", "hr", "hrs", "hour", "hours"), "h"),
+}
+_LENGTHS = frozenset(("mi", "km", "ft", "m"))
+
+
+def typed_unit(text: str, lengths: bool = True) -> str | None:
+    """The one unit of length (``lengths``) or else of time that a unit cell's text names
+    (``'kph'`` -> ``'km'``, ``'veh/mi/ln'`` -> ``'mi'``, ``'s/veh'`` -> ``'s'``), or
+    ``None`` when it names none, or more than one (``'mi (km)'``)."""
+    words = re.findall(r"[a-z]+", text.casefold())
+    found = {_UNIT_WORDS[w] for w in words if w in _UNIT_WORDS}
+    found = found & _LENGTHS if lengths else found - _LENGTHS
+    return found.pop() if len(found) == 1 else None
+
+
+def out_of_range(book: Any, messages: list[str]) -> None:
+    """Keep, for ``book``, the numbers openpyxl's warnings (``messages``) say it could not
+    make a date of (:data:`OUT_OF_RANGE`)."""
+    found: dict[str, set[str]] = {}
+    for text in messages:
+        m = _OUT_OF_RANGE_WARNING.match(text)
+        if m:
+            found.setdefault(m.group(1).replace("$", ""), set()).add(m.group(2))
+    if found:
+        OUT_OF_RANGE[book] = found
