@@ -529,6 +529,29 @@ def test_a_date_typed_without_its_dashes_is_named_as_the_number_typed(tmp_path):
     ]
 
 
+@pytest.mark.parametrize(
+    ("number", "then"),
+    [
+        # the first and last years a date cell takes (1900-2199) are spelled back
+        (19000101, "; did you mean 1900-01-01? Type the date with its dashes"),
+        (21991231, "; did you mean 2199-12-31? Type the date with its dashes"),
+        # a year outside them, or a number that spells no date, gets the general advice
+        (22000101, "; type a date, e.g. 2027-05-03, or a time like 21:00"),
+        (99999999, "; type a date, e.g. 2027-05-03, or a time like 21:00"),
+    ],
+)
+def test_a_number_too_large_for_a_date_is_spelled_back_only_as_a_date_of_the_years_read(
+    tmp_path, number, then
+):
+    def typed(book):
+        book["Closures"]["A6"] = number
+
+    assert _refusals(_kestrel(tmp_path, typed)) == [
+        f"Closures!A6: holds the number {number}, too large for a date or time (a spreadsheet "
+        f"shows ########){then}"
+    ]
+
+
 # -- counts over a change of the clocks -------------------------------------------------------
 
 
