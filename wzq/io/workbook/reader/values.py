@@ -59,9 +59,12 @@ _MISSING = object()  # a value that could not be read (its problem is already re
 #: Workbook -> cell coordinate -> the numbers openpyxl found there in a date or time cell
 #: and could not make a date of (it gives the cell the error #VALUE!, where a spreadsheet
 #: shows ########); the sheet is not known, so a coordinate may gather several numbers.
+#: The coordinate is the cell's ``r`` attribute as the file stores it, a plain reference
+#: with no ``$`` (ECMA-376 Part 1, the ``c`` element's ``r``, of type ST_CellRef; from
+#: memory of the standard).
 OUT_OF_RANGE: WeakKeyDictionary[Any, dict[str, set[str]]] = WeakKeyDictionary()
 _OUT_OF_RANGE_WARNING = re.compile(
-    r"^Cell (\$?[A-Z]{1,3}\$?\d+) is marked as a date but the serial value (\S+) is outside"
+    r"^Cell ([A-Z]{1,3}\d+) is marked as a date but the serial value (\S+) is outside"
 )
 _ISO_DATE = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})$")
 _ISO_DATETIME = re.compile(r"^(?:[A-Za-z]{3},?\s+)?(\d{4}-\d{1,2}-\d{1,2})[ T](\d{1,2}):(\d{2})$")
@@ -306,6 +309,6 @@ def out_of_range(book: Any, messages: list[str]) -> None:
     for text in messages:
         m = _OUT_OF_RANGE_WARNING.match(text)
         if m:
-            found.setdefault(m.group(1).replace("$", ""), set()).add(m.group(2))
+            found.setdefault(m.group(1), set()).add(m.group(2))
     if found:
         OUT_OF_RANGE[book] = found
