@@ -250,6 +250,26 @@ def test_two_rows_swapped_are_refused_and_a_label_of_ones_own_is_read(tmp_path):
     assert plan.thresholds.max_queue_length == pytest.approx(1609.344)  # 1 mi, in m
 
 
+def test_a_name_moved_to_a_cell_with_nothing_left_of_it_is_read(tmp_path):
+    """site_lanes re-pointed at a cell of the designer's own, Site!H40 holding 4, with no
+    label (no cell at all) left of it, and the unit system moved to Start!A30, in the
+    sheet's first column: both are read, with nothing to compare a label with."""
+
+    def moved(book):
+        book["Site"]["H40"] = 4
+        del book.defined_names["site_lanes"]
+        book.defined_names["site_lanes"] = DefinedName("site_lanes", attr_text="Site!$H$40")
+        book["Start"]["A30"] = "US customary"
+        del book.defined_names["unit_system"]
+        book.defined_names["unit_system"] = DefinedName("unit_system", attr_text="Start!$A$30")
+
+    path = _kestrel(tmp_path, moved)
+    assert openpyxl.load_workbook(path)["Site"]._cells.get((40, 7)) is None
+    plan = read_plan(path)
+    assert plan.site.lanes == 4  # Kestrel Ridge has 3
+    assert plan.site.unit_system == "us"
+
+
 def test_a_name_pointed_at_a_block_of_cells_is_refused(tmp_path):
     """site_lanes re-pointed in the Name Manager at Site!$B$8:$B$9 (the lanes and the
     speed limit): only its first cell was read, without a word."""
