@@ -250,6 +250,22 @@ def test_two_rows_swapped_are_refused_and_a_label_of_ones_own_is_read(tmp_path):
     assert plan.thresholds.max_queue_length == pytest.approx(1609.344)  # 1 mi, in m
 
 
+def test_a_moved_row_is_named_once_for_its_label_not_again_for_its_value(tmp_path):
+    """The capacity drops' rows swapped, one of them holding text ('about 7'): the cell is
+    refused for its moved label alone; its value, which belongs to another input, is not
+    judged as this input's as well."""
+
+    def swap(book):
+        ws = book["Site"]
+        for c in range(1, 5):
+            ws.cell(24, c).value, ws.cell(25, c).value = ws.cell(25, c).value, ws.cell(24, c).value
+        ws["B24"] = "about 7"
+
+    said = _refusals(_kestrel(tmp_path, swap))
+    assert [s.split(": ", 1)[0] for s in said] == ["Site!B24", "Site!B25"]
+    assert all("the rows were sorted or moved" in s for s in said)
+
+
 def test_a_name_moved_to_a_cell_with_nothing_left_of_it_is_read(tmp_path):
     """site_lanes re-pointed at a cell of the designer's own, Site!H40 holding 4, with no
     label (no cell at all) left of it, and the unit system moved to Start!A30, in the
