@@ -71,6 +71,21 @@ def test_a_speed_unit_overtyped_as_km_h_in_a_us_plan_is_refused(tmp_path):
     assert path.read_bytes() == typed and KESTREL.read_bytes() == before
 
 
+def test_a_speed_unit_overtyped_as_mph_in_a_metric_plan_is_refused(tmp_path):
+    """The other way round: 'mph' typed over the unit beside Fenwick Downs' speed limit
+    (a metric plan): refused, pointing at US customary on the Start sheet."""
+
+    def mph(book):
+        book["Site"]["C9"] = "mph"
+
+    path = edited(EXAMPLES / "fenwick_downs_weekend.xlsx", tmp_path, mph, "fenwick.xlsx")
+    assert _refusals(path) == [
+        "Site!C9: the unit beside Speed limit (Site!B9) says 'mph', but the plan is in metric "
+        "units (Start!B14), so the value is read in km/h; if it is in mi/h, choose 'US "
+        "customary' on Start!B14, else type it in km/h; then put the unit back (km/h)"
+    ]
+
+
 def test_a_length_in_metres_beside_a_km_input_of_a_metric_plan_is_refused(tmp_path):
     """A metric plan: the work-zone length typed as 800 with its unit cell overtyped 'm'
     (the plan reads km; 800 km is out of range too, but the unit says why: one problem,
