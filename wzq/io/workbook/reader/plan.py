@@ -43,8 +43,6 @@ _INPUT_TABLES = (
     L.RAMP_FLOW_TABLE,
 )
 
-#: The defined names of the inputs (a sheet-level copy of one marks a copied input sheet).
-
 __all__ = [
     "PlanReader",
 ]
@@ -165,8 +163,8 @@ class PlanReader:
         as LibreOffice does), a sheet holding a copy of an input table ("DemandTable2"), or
         one holding sheet-level copies of the workbook's names that point into an input
         sheet (as Excel copies them, whatever the copy is renamed to; they name the sheet
-        copied before the copy's title does):
-        only the input sheet itself is read, so values typed on the copy are not used."""
+        copied before the copy's title does): only the input sheet itself is read, so
+        values typed on the copy are not used."""
         counts = self.peek("history_file_sheet")
         cell = counts[0]._cells.get(counts[1:]) if counts else None
         chosen = getattr(cell, "value", None)  # the sheet chosen to hold the count history
