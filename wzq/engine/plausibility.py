@@ -612,14 +612,20 @@ def site_ranges(plan: Plan) -> list[str]:
     return out
 
 
-def _typed_row_by_row(plan: Plan) -> bool:
-    """The demand's flows were each typed in a place of their own (a table row, a JSON
-    list), not made from an AADT (all at its one cell) or a count history: only such
-    flows can be counts or flows per lane typed for the direction's flow."""
-    if plan.history is not None:
-        return False
-    n = len(plan.demand.flows_veh_h)
-    return n < 2 or plan.where(demand_key(0)) != plan.where(demand_key(1))
+def _busiest_typed_row(plan: Plan) -> int | None:
+    """The busiest row of a demand that covers a whole day or more (the day's busiest
+    hours among its rows) and whose flows were each typed in a place of their own (a
+    table row, a JSON list), not made from an AADT (all at its one cell) or a count
+    history: only such flows can be counts or flows per lane typed for the direction's
+    flow. ``None`` otherwise, or when no row carries traffic."""
+    d = plan.demand
+    q = d.flows_veh_h
+    if plan.history is not None or len(q) * d.interval_s < 24 * 3600:
+        return None
+    if len(q) >= 2 and plan.where(demand_key(0)) == plan.where(demand_key(1)):
+        return None
+    i = int(np.argmax(q))
+    return i if q[i] > 0 else None
 
 
 def counts_per_interval(plan: Plan, open_capacity_veh_h: float) -> list[str]:
@@ -637,12 +643,8 @@ def counts_per_interval(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     d = plan.demand
     q = d.flows_veh_h
     n = round(3600 / d.interval_s)
-    if d.interval_s > COUNTS_INTERVAL_S or len(q) * d.interval_s < 24 * 3600:
-        return []
-    if not _typed_row_by_row(plan):
-        return []
-    i = int(np.argmax(q))
-    if not 0 < q[i] <= open_capacity_veh_h / n * (1 + 1e-9):
+    i = _busiest_typed_row(plan) if d.interval_s <= COUNTS_INTERVAL_S else None
+    if i is None or q[i] > open_capacity_veh_h / n * (1 + 1e-9):
         return []
     t = d.start + dt.timedelta(seconds=i * d.interval_s)
     minutes = d.interval_s // 60
@@ -672,13 +674,9 @@ def flows_per_lane(plan: Plan, open_capacity_veh_h: float) -> list[str]:
     d = plan.demand
     q = d.flows_veh_h
     lanes = plan.site.lanes
-    if lanes < PER_LANE_FROM_LANES or len(q) * d.interval_s < 24 * 3600:
-        return []
-    if not _typed_row_by_row(plan):
-        return []
-    i = int(np.argmax(q))
+    i = _busiest_typed_row(plan) if lanes >= PER_LANE_FROM_LANES else None
     per_lane = open_capacity_veh_h / lanes
-    if not 0 < q[i] <= per_lane * (1 + 1e-9) or counts_per_interval(plan, open_capacity_veh_h):
+    if i is None or q[i] > per_lane * (1 + 1e-9) or counts_per_interval(plan, open_capacity_veh_h):
         return []
     t = d.start + dt.timedelta(seconds=i * d.interval_s)
     row = "hour" if d.interval_s == 3600 else f"{d.interval_s // 60}-minute row"
