@@ -31,6 +31,7 @@ from wzq.io.workbook.reader.values import (
     _Table,
     _when,
     cell_ref,
+    text_at,
 )
 
 __all__ = ["ApproachReader"]
@@ -215,8 +216,7 @@ class ApproachReader:
         template's formula following the unit system) was typed over with another unit
         (``km`` in a US customary plan: the distances would be read in mi)."""
         row, col = t.header_row - 1, t.col(L.LANDMARK_COLUMNS[1])
-        cell = t.ws._cells.get((row, col)) if row >= 1 else None
-        text = cell.value if cell is not None and cell.data_type == "s" else None
+        text = text_at(t.ws, row, col)
         what = f"above the landmark distances ({t.name})"
         clash = self.other_unit(text, _DISTANCE.unit, what, them="the distances")
         return self.bad(cell_ref(t.ws.title, row, col), clash) if clash else None

@@ -46,6 +46,7 @@ from wzq.io.workbook.reader.values import (
     hidden_column,
     hidden_row,
     other_weekday,
+    text_at,
     typed_unit,
     unseen,
 )
@@ -322,8 +323,7 @@ class CellReader:
                 "clear it to leave it blank",
             )
         if not _blank(v) and v is not _MISSING:
-            shown = ws._cells.get((row, col + 1))  # the unit cell, right of the value
-            text = shown.value if shown is not None and shown.data_type == "s" else None
+            text = text_at(ws, row, col + 1)  # the unit cell, right of the value
             clash = self.other_unit(text, field.unit, f"beside {field.label} ({where})")
             if clash:
                 return self.bad(cell_ref(ws.title, row, col + 1), clash)
@@ -335,8 +335,7 @@ class CellReader:
         with their labels while each defined name stayed on its cell, so the name would
         read its neighbour's value (the queue limit read as the demand/capacity limit).
         A label of the user's own words is left alone."""
-        cell = ws._cells.get((row, col - 1)) if col > 1 else None
-        text = cell.value if cell is not None and cell.data_type == "s" else None
+        text = text_at(ws, row, col - 1)
         if not isinstance(text, str) or _norm(text) == _norm(field.label):
             return False
         if _norm(text) not in _LABELS:

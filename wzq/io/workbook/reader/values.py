@@ -36,6 +36,7 @@ __all__ = [
     "hidden_row",
     "other_weekday",
     "out_of_range",
+    "text_at",
     "typed_unit",
     "unseen",
 ]
@@ -113,6 +114,14 @@ def destinations(dn: Any) -> tuple[tuple[str, str], ...]:
 @lru_cache(maxsize=1024)
 def _destinations(value: str) -> tuple[tuple[str, str], ...]:
     return tuple(DefinedName("name", attr_text=value).destinations)
+
+
+def text_at(ws: Any, row: int, col: int) -> str | None:
+    """The text typed in a cell (a label, a unit), or ``None`` when it holds no text: a
+    number, a formula, nothing, or no cell at all (openpyxl keeps none in row or column
+    0, so the cell left of column A or above row 1 is ``None`` too)."""
+    cell = ws._cells.get((row, col))
+    return cell.value if cell is not None and cell.data_type == "s" else None
 
 
 def _blank(v: Any) -> bool:
